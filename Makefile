@@ -1,0 +1,35 @@
+# talkthemes — make targets. `make demo` and `make test` work on a fresh machine.
+PYTHON ?= python3
+VENV   ?= .venv
+BIN    := $(VENV)/bin
+DEMO_WS ?= demo-work
+DEMO_SIZE ?= 3000
+PORT ?= 8501
+
+.PHONY: install demo test lint bench clean
+
+$(BIN)/python:
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+
+$(VENV)/.installed: pyproject.toml | $(BIN)/python
+	$(BIN)/python -m pip install --quiet -e '.[dev]'
+	touch $@
+
+install: $(VENV)/.installed
+
+demo: install
+	$(BIN)/talkthemes demo --size $(DEMO_SIZE) --workspace $(DEMO_WS) --port $(PORT)
+
+test: install
+	$(BIN)/python -m pytest -q
+
+lint: install
+	$(BIN)/ruff check src tests bench app
+	$(BIN)/ruff format --check src tests bench app
+
+bench: install
+	$(BIN)/python bench/ingest.py
+
+clean:
+	rm -rf $(VENV) $(DEMO_WS) .pytest_cache

@@ -1,0 +1,353 @@
+"""The ``talkthemes`` command line: thin wrappers that parse, call one function, print.
+
+Conventions (DESIGN.md "CLI conventions"): every command takes ``--workspace``; commands
+that report take ``--json`` and then print exactly one JSON document on stdout, with
+progress and warnings on stderr; exit codes 0 done, 2 usage or settings error, 3 done but
+some inputs rejected, 4 alert asked for occurred, 1 unexpected.
+"""
+
+from __future__ import annotations
+
+import json
+import logging
+import sys
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Annotated, Any
+
+import click
+import typer
+from rich.console import Console
+from rich.progress import (
+    BarColumn,
+    MofNCompleteColumn,
+    Progress,
+    TextColumn,
+    TimeElapsedColumn,
+    TimeRemainingColumn,
+)
+from rich.table import Table
+from typer.core import TyperGroup
+
+from talkthemes.errors import TalkthemesError
+from talkthemes.workspace import Workspace, resolve_workspace
+
+
+class _Group(TyperGroup):
+    """Turns talkthemes errors into one line on stderr and the documented exit code."""
+
+    def invoke(self, ctx: click.Context) -> Any:
+        try:
+            return super().invoke(ctx)
+        except (click.exceptions.Exit, click.ClickException, click.exceptions.Abort):
+            raise
+        except TalkthemesError as exc:
+            if _state["debug"]:
+                raise
+            err.print(f"talkthemes: {exc}", markup=False, highlight=False)
+            raise typer.Exit(exc.exit_code) from None
+        except KeyboardInterrupt:
+            err.print("talkthemes: interrupted; finished work is kept", markup=False)
+            raise typer.Exit(130) from None
+        except Exception as exc:
+            if _state["debug"]:
+                raise
+            err.print(
+                f"talkthemes: unexpected error: {type(exc).__name__}: {exc} "
+                "(run with --debug for the traceback)",
+                markup=False,
+                highlight=False,
+            )
+            raise typer.Exit(1) from None
+
+
+app = typer.Typer(
+    cls=_Group,
+    name="talkthemes",
+    help="Topic and theme discovery for transcript corpora.",
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+)
+
+out = Console()  # results
+err = Console(stderr=True)  # progress, warnings, messages
+
+_state: dict[str, bool] = {"debug": False}
+
+WorkspaceOpt = Annotated[
+    Path | None,
+    typer.Option(
+        "--workspace",
+        "-w",
+        help="Workspace folder (else $TALKTHEMES_WORKSPACE, else ./talkthemes-work).",
+        show_default=False,
+    ),
+]
+JsonOpt = Annotated[bool, typer.Option("--json", help="Print one JSON document on stdout.")]
+WaitOpt = Annotated[
+    bool, typer.Option("--wait", help="Wait for another command holding the workspace.")
+]
+
+
+@app.callback()
+def _main(
+    debug: Annotated[bool, typer.Option("--debug", help="Show tracebacks and debug logs.")] = False,
+) -> None:
+    _state["debug"] = debug
+    logging.basicConfig(
+        level=logging.DEBUG if debug else logging.WARNING,
+        format="%(levelname)s %(name)s: %(message)s",
+        stream=sys.stderr,
+    )
+
+
+def _emit_json(doc: Any) -> None:
+    sys.stdout.write(json.dumps(doc, indent=2, ensure_ascii=False, default=str) + "\n")
+    sys.stdout.flush()
+
+
+@contextmanager
+def _progress(label: str, *, enabled: bool = True) -> Iterator[Callable[[int, int, str], None]]:
+    """A rich progress bar on stderr; yields ``update(done, total, current)``."""
+    if not enabled:
+        yield lambda done, total, current: None
+        return
+    columns = (
+        TextColumn("[bold]{task.description}"),
+        BarColumn(),
+        MofNCompleteColumn(),
+        TimeElapsedColumn(),
+        TimeRemainingColumn(),
+        TextColumn("{task.fields[current]}", style="dim"),
+    )
+    with Progress(*columns, console=err, transient=False) as bar:
+        task = bar.add_task(label, total=None, current="")
+
+        def update(done: int, total: int, current: str) -> None:
+            name = current if len(current) <= 40 else "…" + current[-39:]
+            bar.update(task, completed=done, total=total, current=name)
+
+        yield update
+
+
+def _workspace(path: Path | None) -> Workspace:
+    return Workspace(resolve_workspace(path))
+
+
+# -- init ---------------------------------------------------------------------------
+@app.command()
+def init(
+    folder: Annotated[
+        Path | None, typer.Argument(help="Folder to create (default: --workspace).")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Create a workspace: a commented talkthemes.toml with every default and an empty store."""
+    ws = Workspace(folder) if folder else _workspace(workspace)
+    created = ws.init()
+    if as_json:
+        _emit_json({"workspace": str(ws.root), "created": created})
+        return
+    if created:
+        err.print(f"Workspace ready at [bold]{ws.root}[/] (settings: {ws.settings_path.name}).")
+    else:
+        err.print(f"Workspace {ws.root} already exists; nothing changed.")
+
+
+# -- ingest --------------------------------------------------------------------------
+@app.command()
+def ingest(
+    paths: Annotated[
+        list[Path], typer.Argument(help="Transcript files, tables and folders (recursive).")
+    ],
+    manifest: Annotated[
+        list[Path] | None,
+        typer.Option(
+            "--manifest", "-m", help="Metadata table keyed by transcript id or file name."
+        ),
+    ] = None,
+    rejects: Annotated[
+        Path | None,
+        typer.Option("--rejects", help="Write one CSV row per rejected input, with the reason."),
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    wait: WaitOpt = False,
+    as_json: JsonOpt = False,
+) -> None:
+    """Read transcripts (txt, vtt, csv, jsonl, parquet) and metadata manifests into the store."""
+    from talkthemes.ingest.run import ingest as run_ingest
+    from talkthemes.ingest.run import write_rejects_csv
+
+    ws = _workspace(workspace)
+    if not ws.exists():
+        ws.init()
+    with (
+        ws.lock("ingest", wait=wait, on_wait=lambda m: err.print(f"{m}; waiting…")),
+        _progress("ingest", enabled=not as_json) as update,
+    ):
+        report = run_ingest(ws, paths, manifests=manifest or [], progress=update)
+    if rejects is not None:
+        write_rejects_csv(rejects, report.rejects)
+    if as_json:
+        _emit_json(report.to_json())
+    else:
+        _print_ingest_report(report)
+        if rejects is not None:
+            err.print(f"Rejected inputs written to {rejects}.")
+    raise typer.Exit(report.exit_code)
+
+
+def _print_ingest_report(report: Any) -> None:
+    from talkthemes.ingest.run import OUTCOMES
+
+    table = Table(title=f"Ingest run {report.run_id}: {report.files} files", title_justify="left")
+    table.add_column("format")
+    for o in OUTCOMES:
+        table.add_column(o, justify="right")
+    for fmt, c in sorted(report.counts.items()):
+        table.add_row(fmt, *(f"{c[o]:,}" for o in OUTCOMES))
+    table.add_row("total", *(f"{report.total(o):,}" for o in OUTCOMES), style="bold")
+    out.print(table)
+    if report.manifest_rows:
+        out.print(f"Manifest rows applied: {report.manifest_rows:,}")
+    for w in report.warnings[:20]:
+        where = f"{w.source}" + (f", row {w.row}" if w.row is not None else "")
+        err.print(f"[yellow]warning[/]: {where}: {w.message}", markup=True, highlight=False)
+    if len(report.warnings) > 20:
+        err.print(f"… and {len(report.warnings) - 20} more warnings (see --json).")
+    for r in report.rejects[:20]:
+        where = f"{r.source}" + (f", row {r.row}" if r.row is not None else "")
+        err.print(f"[red]rejected[/]: {where}: {r.reason}", markup=True, highlight=False)
+    if len(report.rejects) > 20:
+        err.print(f"… and {len(report.rejects) - 20} more rejected (see --rejects FILE.csv).")
+
+
+# -- status --------------------------------------------------------------------------
+def status_data(ws: Workspace) -> dict[str, Any]:
+    """Everything ``status`` shows, as a JSON-ready dict."""
+    ws.require()
+    with ws.store() as store:
+        summary = store.summary()
+        stages = store.stages()
+    return {"workspace": str(ws.root), **summary, "stages": stages}
+
+
+@app.command()
+def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
+    """What the workspace holds: counts by role, format, month and metadata; stage of each step."""
+    ws = _workspace(workspace)
+    data = status_data(ws)
+    if as_json:
+        _emit_json(data)
+        return
+    out.print(f"[bold]Workspace[/] {data['workspace']}")
+    out.print(
+        f"{data['transcripts']:,} transcripts, {data['words']:,} words"
+        + (
+            f", dated {data['date_range'][0]} to {data['date_range'][1]}"
+            if data["date_range"]
+            else ", no dates"
+        )
+    )
+    t = Table(title="By format", title_justify="left")
+    t.add_column("format")
+    t.add_column("transcripts", justify="right")
+    for k, v in data["by_format"].items():
+        t.add_row(k, f"{v:,}")
+    out.print(t)
+    t = Table(title="By role", title_justify="left")
+    t.add_column("role")
+    t.add_column("turns", justify="right")
+    t.add_column("transcripts with it", justify="right")
+    for k, v in data["turns_by_role"].items():
+        t.add_row(k, f"{v:,}", f"{data['transcripts_with_role'].get(k, 0):,}")
+    out.print(t)
+    if data["by_month"]:
+        t = Table(title="By month", title_justify="left")
+        t.add_column("month")
+        t.add_column("transcripts", justify="right")
+        for k, v in data["by_month"].items():
+            t.add_row(k, f"{v:,}")
+        out.print(t)
+    if data["metadata_fields"]:
+        t = Table(title="Metadata fields", title_justify="left")
+        t.add_column("field")
+        t.add_column("transcripts", justify="right")
+        t.add_column("distinct", justify="right")
+        t.add_column("most common")
+        for k, v in data["metadata_fields"].items():
+            top = ", ".join(f"{val} ({n:,})" for val, n in v["top"].items())
+            t.add_row(k, f"{v['transcripts']:,}", f"{v['distinct']:,}", top)
+        out.print(t)
+    if data["manifest_rows_without_transcript"]:
+        out.print(
+            f"{data['manifest_rows_without_transcript']:,} manifest ids have no stored "
+            "transcript yet."
+        )
+    if data["interrupted_ingest_runs"]:
+        out.print(
+            f"[yellow]{data['interrupted_ingest_runs']} ingest run(s) did not finish[/]; "
+            "what they stored is complete per transcript — re-run ingest to finish."
+        )
+    st = data["stages"]
+    t = Table(title="Stages", title_justify="left")
+    t.add_column("stage")
+    t.add_column("state")
+    t.add_row(
+        "prepared",
+        f"{st['prepared']['hash'][:12]} at {st['prepared']['at']}"
+        if st["prepared"]
+        else "not yet — run 'talkthemes prepare'",
+    )
+    t.add_row(
+        "swept",
+        f"sweep {st['swept']['id']} ({st['swept']['status']}) at {st['swept']['at']}"
+        if st["swept"]
+        else "not yet — run 'talkthemes sweep'",
+    )
+    t.add_row(
+        "published",
+        f"version {st['published']['version']} at {st['published']['at']}"
+        if st["published"]
+        else "not yet — run 'talkthemes publish'",
+    )
+    out.print(t)
+
+
+# -- demo ----------------------------------------------------------------------------
+@app.command()
+def demo(
+    size: Annotated[int, typer.Option("--size", min=20, help="Number of invented calls.")] = 3000,
+    seed: Annotated[int, typer.Option("--seed", help="Random seed of the generator.")] = 7,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Generate the invented demo corpus and run the pipeline on it."""
+    from talkthemes.demo import write_demo
+    from talkthemes.ingest.run import ingest as run_ingest
+
+    ws = _workspace(workspace)
+    ws.init()
+    source = ws.root / "demo-source"
+    err.print(f"Writing {size:,} invented calls to {source} …")
+    files = write_demo(source, size=size, seed=seed)
+    with ws.lock("demo"), _progress("ingest", enabled=not as_json) as update:
+        report = run_ingest(ws, [files.exports], manifests=[files.manifest], progress=update)
+    if as_json:
+        _emit_json({"workspace": str(ws.root), "ingest": report.to_json()})
+    else:
+        _print_ingest_report(report)
+        err.print(f"Next: talkthemes status --workspace {ws.root}")
+    raise typer.Exit(report.exit_code)
+
+
+def main() -> None:
+    """Console entry point."""
+    app()
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,340 @@
+"""Settings for a workspace, read from ``talkthemes.toml``.
+
+Every default lives here and only here. ``init`` writes a commented file listing each
+setting with its default; a setting left out of the file keeps its default. Invalid
+settings fail at load with one message naming the key, the value and what is allowed.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from pathlib import Path
+from typing import Any, Literal
+
+from pydantic import BaseModel, ConfigDict, Field, ValidationError
+
+from talkthemes.errors import ConfigError
+
+__all__ = [
+    "IngestSettings",
+    "PrepareSettings",
+    "RefreshSettings",
+    "Settings",
+    "SweepSettings",
+    "ViewSettings",
+    "load_settings",
+    "render_settings",
+]
+
+SETTINGS_FILE = "talkthemes.toml"
+
+
+class _Section(BaseModel):
+    model_config = ConfigDict(extra="forbid", validate_assignment=True)
+
+
+class IngestSettings(_Section):
+    """[ingest] Reading transcript files and tables."""
+
+    max_file_mb: float = Field(
+        50.0, gt=0, description="Files larger than this (in MB) are rejected unread."
+    )
+    encoding_fallback: str = Field(
+        "cp1252",
+        description=(
+            "Text that is not valid UTF-8 (nor UTF-16 with a byte-order mark) is decoded with "
+            "this codec instead; bytes it cannot map become U+FFFD and the file gets a warning."
+        ),
+    )
+    agent_labels: list[str] = Field(
+        default_factory=lambda: [
+            "agent",
+            "advisor",
+            "adviser",
+            "rep",
+            "representative",
+            "operator",
+            "csr",
+            "associate",
+            "specialist",
+            "support",
+            "staff",
+            "interviewer",
+            "host",
+        ],
+        description=(
+            "Speaker labels read as the agent role. Matched case-insensitively against the "
+            "label's first word, ignoring trailing digits and punctuation ('Agent 2' → agent)."
+        ),
+    )
+    customer_labels: list[str] = Field(
+        default_factory=lambda: [
+            "customer",
+            "caller",
+            "client",
+            "member",
+            "user",
+            "guest",
+            "patient",
+            "respondent",
+            "participant",
+            "interviewee",
+        ],
+        description="Speaker labels read as the customer role (same matching as agent_labels).",
+    )
+    id_column: str = Field("", description="Transcript id column in tables; empty = detect.")
+    text_column: str = Field("", description="Text column in tables; empty = detect.")
+    speaker_column: str = Field(
+        "", description="Speaker column in per-turn tables; empty = detect."
+    )
+    start_column: str = Field(
+        "", description="Turn start time column in per-turn tables; empty = detect."
+    )
+    manifest_key_column: str = Field(
+        "",
+        description="Column of a manifest holding the transcript id or file name; empty = detect.",
+    )
+    date_column: str = Field(
+        "", description="Column holding the call date (tables and manifests); empty = detect."
+    )
+    follow_symlinks: bool = Field(
+        True, description="Follow symbolic links inside folders (loops are detected and skipped)."
+    )
+
+
+Roles = Literal["all", "customer", "agent"]
+
+
+class PrepareSettings(_Section):
+    """[prepare] The preprocessing chain."""
+
+    lang: str = Field("en", description="Language code of the transcripts (spaCy language).")
+    roles: Roles = Field(
+        "all",
+        description=(
+            "Turns kept: 'all', 'customer' (customer and unlabelled turns) or 'agent' "
+            "(agent and unlabelled turns)."
+        ),
+    )
+    scrub: bool = Field(
+        True,
+        description=(
+            "Remove e-mail addresses, URLs, phone and card numbers, long numbers and "
+            "redaction tags."
+        ),
+    )
+    boilerplate_min_share: float = Field(
+        0.05,
+        ge=0,
+        le=1,
+        description=(
+            "A normalised sentence found in at least this share of transcripts is script "
+            "boilerplate and is dropped. 0 switches the step off."
+        ),
+    )
+    boilerplate_min_words: int = Field(
+        3, ge=1, description="Sentences shorter than this many words are never boilerplate."
+    )
+    pipeline: str = Field(
+        "",
+        description=(
+            "Empty: fast path with spaCy's lookup lemma table and stop words. Otherwise the "
+            "name of an "
+            "installed spaCy pipeline to run instead (enables the part-of-speech filter)."
+        ),
+    )
+    pos_keep: list[str] = Field(
+        default_factory=lambda: ["NOUN", "PROPN", "VERB", "ADJ"],
+        description="Parts of speech kept when a spaCy pipeline is configured.",
+    )
+    min_token_length: int = Field(3, ge=1, description="Shorter tokens are dropped.")
+    fillers: bool = Field(
+        True, description="Drop the shipped list of conversational fillers and back-channels."
+    )
+    extra_stop_words: list[str] = Field(
+        default_factory=list, description="Your own stop words, added to spaCy's and the fillers."
+    )
+    phrases: bool = Field(True, description="Join collocations (gensim Phrases, NPMI scoring).")
+    phrase_threshold: float = Field(
+        0.5, gt=-1, le=1, description="NPMI a word pair must exceed to be joined."
+    )
+    phrase_min_count: int = Field(
+        10, ge=1, description="A pair must occur this often to be joined."
+    )
+    vocab_min_docs: int = Field(5, ge=1, description="Drop terms found in fewer transcripts.")
+    vocab_max_doc_share: float = Field(
+        0.5, gt=0, le=1, description="Drop terms found in a larger share of transcripts."
+    )
+    vocab_max_size: int = Field(20000, ge=10, description="Keep at most this many terms.")
+    min_tokens: int = Field(
+        20, ge=1, description="Transcripts with fewer kept tokens are excluded from training."
+    )
+    batch_size: int = Field(1000, ge=1, description="Transcripts read from the store per batch.")
+    n_process: int = Field(0, ge=0, description="Worker processes for the chain; 0 = one per core.")
+
+
+class SweepSettings(_Section):
+    """[sweep] The grid of topic models and their metrics."""
+
+    k: str = Field(
+        "4:30:2", description="Topic counts: 'start:stop:step' (inclusive) or '5,10,15'."
+    )
+    families: list[Literal["lda", "nmf"]] = Field(
+        default_factory=lambda: ["lda", "nmf"], description="Model families to sweep."
+    )
+    seeds: int = Field(3, ge=1, description="Random seeds per (family, K) cell.")
+    topn: int = Field(10, ge=2, description="Top terms per topic used by coherence.")
+    heldout_share: float = Field(
+        0.1, ge=0, lt=1, description="Share of transcripts held out for LDA perplexity."
+    )
+    lda_passes: int = Field(5, ge=1, description="LDA passes over the corpus.")
+    lda_iterations: int = Field(100, ge=1, description="LDA per-document E-step iterations.")
+    lda_chunksize: int = Field(2000, ge=1, description="LDA documents per online update.")
+    lda_alpha: str = Field("auto", description="LDA alpha: 'symmetric', 'asymmetric' or 'auto'.")
+    lda_eta: str = Field("auto", description="LDA eta: 'symmetric' or 'auto'.")
+    nmf_loss: Literal["frobenius", "kullback-leibler"] = Field(
+        "frobenius", description="NMF loss: 'frobenius' (cd solver) or 'kullback-leibler' (mu)."
+    )
+    nmf_max_iter: int = Field(400, ge=1, description="NMF iteration limit.")
+    stability_min: float = Field(
+        0.6,
+        ge=0,
+        le=1,
+        description="K whose seed-to-seed stability is below this is not recommended.",
+    )
+    scheduler: str = Field("", description="Dask scheduler address; empty = a local cluster.")
+    workers: int = Field(0, ge=0, description="Local cluster workers; 0 = one per core.")
+
+
+class RefreshSettings(_Section):
+    """[refresh] Scheduled retraining as transcripts arrive."""
+
+    inbox: str = Field("", description="Folder ingested by 'refresh' when no path is given.")
+    vocabulary: Literal["rebuild", "frozen"] = Field(
+        "rebuild", description="'rebuild' the vocabulary on all data, or keep it 'frozen'."
+    )
+    resweep_coherence_drop: float = Field(
+        0.1,
+        ge=0,
+        description=(
+            "Re-sweep K when the published model's C_NPMI on new data falls by more than this."
+        ),
+    )
+    keep_versions: int = Field(
+        5, ge=1, description="Versions kept on disk (the current one always)."
+    )
+    match_percentile: float = Field(
+        5.0,
+        gt=0,
+        lt=100,
+        description="Percentile of seed-to-seed matched distances used as the same-theme cut-off.",
+    )
+
+
+class ViewSettings(_Section):
+    """[view] The viewer and report."""
+
+    host: str = Field("127.0.0.1", description="Address the viewer binds to.")
+    port: int = Field(8501, ge=1, le=65535, description="Port the viewer listens on.")
+    relevance_lambda: float = Field(
+        0.6, ge=0, le=1, description="Default λ for term relevance (Sievert & Shirley 2014)."
+    )
+
+
+class Settings(_Section):
+    """All settings of a workspace."""
+
+    ingest: IngestSettings = Field(default_factory=IngestSettings)
+    prepare: PrepareSettings = Field(default_factory=PrepareSettings)
+    sweep: SweepSettings = Field(default_factory=SweepSettings)
+    refresh: RefreshSettings = Field(default_factory=RefreshSettings)
+    view: ViewSettings = Field(default_factory=ViewSettings)
+
+
+def _format_validation(err: ValidationError, source: str) -> str:
+    first = err.errors()[0]
+    loc = [str(p) for p in first["loc"]]
+    key = f"[{loc[0]}] {'.'.join(loc[1:])}" if len(loc) > 1 else loc[0] if loc else "?"
+    value = first.get("input")
+    if first["type"] == "extra_forbidden":
+        return f"{source}: unknown setting {key}"
+    return f"{source}: {key} = {value!r}: {first['msg']}"
+
+
+def load_settings(path: Path | None) -> Settings:
+    """Read settings from a TOML file, filling every missing key with its default.
+
+    Parameters
+    ----------
+    path : Path or None
+        The ``talkthemes.toml`` file. ``None`` or a missing file gives the defaults.
+
+    Returns
+    -------
+    Settings
+
+    Raises
+    ------
+    ConfigError
+        When the file is not valid TOML or a value is not allowed.
+    """
+    if path is None or not path.exists():
+        return Settings()
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        raise ConfigError(f"{path}: not valid TOML: {exc}") from None
+    return settings_from_dict(data, source=str(path))
+
+
+def settings_from_dict(data: dict[str, Any], source: str = "settings") -> Settings:
+    """Validate a nested dict (as read from TOML) into :class:`Settings`."""
+    try:
+        return Settings.model_validate(data)
+    except ValidationError as exc:
+        raise ConfigError(_format_validation(exc, source)) from None
+
+
+def _toml_value(value: Any) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, int | float):
+        return repr(value)
+    if isinstance(value, str):
+        return '"' + value.replace("\\", "\\\\").replace('"', '\\"') + '"'
+    if isinstance(value, list):
+        return "[" + ", ".join(_toml_value(v) for v in value) + "]"
+    raise TypeError(f"cannot write {type(value).__name__} to TOML")
+
+
+def render_settings(settings: Settings | None = None) -> str:
+    """Render settings as a commented TOML document (every key, with its description).
+
+    Parameters
+    ----------
+    settings : Settings, optional
+        Values to write; the defaults when omitted.
+
+    Returns
+    -------
+    str
+        TOML text that :func:`load_settings` reads back to the same settings.
+    """
+    settings = settings or Settings()
+    lines = [
+        "# talkthemes workspace settings.",
+        "# Every setting is listed with its default; delete a line to go back to the default.",
+        "",
+    ]
+    for section_name, section_field in Settings.model_fields.items():
+        section = getattr(settings, section_name)
+        doc = (type(section).__doc__ or "").strip().splitlines()[0]
+        lines.append(f"# {doc}")
+        lines.append(f"[{section_name}]")
+        for name, field in type(section).model_fields.items():
+            if field.description:
+                lines.append(f"# {field.description}")
+            lines.append(f"{name} = {_toml_value(getattr(section, name))}")
+        lines.append("")
+        del section_field
+    return "\n".join(lines)

@@ -1,0 +1,1 @@
+"""Reading transcript files and tables into :class:`~talkthemes.ingest.model.Transcript`."""

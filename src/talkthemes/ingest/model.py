@@ -1,0 +1,103 @@
+"""What every reader produces: transcripts made of turns, rejects and warnings."""
+
+from __future__ import annotations
+
+import hashlib
+import re
+import unicodedata
+from dataclasses import dataclass, field
+
+__all__ = ["ROLES", "Reject", "Transcript", "Turn", "Warning_", "normalised_hash"]
+
+ROLES = ("agent", "customer", "unknown")
+
+
+@dataclass(frozen=True, slots=True)
+class Turn:
+    """One speaker turn.
+
+    Attributes
+    ----------
+    speaker : str
+        The label as written in the input ("Agent", "Maria", ""); empty when unlabelled.
+    role : str
+        One of ``agent``, ``customer``, ``unknown``.
+    text : str
+        What was said, as written (whitespace collapsed).
+    start, end : float or None
+        Seconds from the start of the call, when the input gives them.
+    """
+
+    speaker: str
+    role: str
+    text: str
+    start: float | None = None
+    end: float | None = None
+
+
+@dataclass(slots=True)
+class Transcript:
+    """One conversation as read from an input.
+
+    Attributes
+    ----------
+    tid : str
+        The transcript id: the id column's value for tables, the file name without its
+        extension for files.
+    turns : list of Turn
+    source : str
+        The file it came from (with ``:row`` or ``:rows a-b`` for tables).
+    format : str
+        ``txt``, ``vtt``, ``csv``, ``jsonl`` or ``parquet``.
+    metadata : dict of str to str
+        Fields carried by the input itself (date, queue, ...); manifests add more.
+    """
+
+    tid: str
+    turns: list[Turn]
+    source: str
+    format: str
+    metadata: dict[str, str] = field(default_factory=dict)
+
+    def text(self) -> str:
+        """All turns' text joined by newlines."""
+        return "\n".join(t.text for t in self.turns)
+
+    def content_hash(self) -> str:
+        """Hash of the normalised text, used to find duplicates under other names."""
+        return normalised_hash(self.text())
+
+
+@dataclass(frozen=True, slots=True)
+class Reject:
+    """An input (file, or row of a table) that could not be used, and why."""
+
+    source: str
+    reason: str
+    format: str
+    row: int | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class Warning_:  # noqa: N801 (avoids shadowing the builtin Warning)
+    """Something a user should know about an input that was still used."""
+
+    source: str
+    message: str
+    row: int | None = None
+
+
+_WS = re.compile(r"\s+")
+_PUNCT = re.compile(r"[^\w\s]")
+
+
+def normalised_hash(text: str) -> str:
+    """SHA-256 of text after NFKC, case folding, punctuation removal and whitespace collapse.
+
+    Two exports of the same call that differ only in case, punctuation, line endings or
+    spacing hash equal.
+    """
+    norm = unicodedata.normalize("NFKC", text).casefold()
+    norm = _PUNCT.sub(" ", norm)
+    norm = _WS.sub(" ", norm).strip()
+    return hashlib.sha256(norm.encode("utf-8")).hexdigest()

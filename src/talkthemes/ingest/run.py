@@ -1,0 +1,226 @@
+"""Ingest a set of files and folders into a workspace's store.
+
+Readers turn inputs into transcripts, rejects and warnings; this module deduplicates and
+stores the transcripts in batches (one transaction per batch, so a killed run leaves
+whole transcripts only), applies manifests, and keeps the tally shown to the user.
+"""
+
+from __future__ import annotations
+
+import csv
+import logging
+from collections import Counter
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from talkthemes.ingest.detect import FORMATS, iter_files, read_file
+from talkthemes.ingest.manifest import read_manifest
+from talkthemes.ingest.model import Reject, Transcript, Warning_
+from talkthemes.store import Store
+from talkthemes.workspace import Workspace, atomic_write_text
+
+__all__ = ["IngestReport", "ingest", "write_rejects_csv"]
+
+log = logging.getLogger(__name__)
+
+OUTCOMES = ("added", "unchanged", "duplicate", "rejected")
+
+#: ``progress(done_files, total_files, current)`` is called after each file.
+ProgressFn = Callable[[int, int, str], None]
+
+
+@dataclass
+class IngestReport:
+    """The tally of one ingest run.
+
+    Attributes
+    ----------
+    counts : dict
+        ``format -> Counter`` of ``added``, ``unchanged`` (already stored, same id and
+        text), ``duplicate`` (same text stored under another id) and ``rejected``.
+    rejects : list of Reject
+        One entry per rejected input (file or table row), with the reason.
+    warnings : list of Warning_
+        Inputs that were used but deserve attention (decoding fallback, skipped cues...).
+    duplicates : list of (str, str, str)
+        ``(id, source, id of the stored original)``.
+    manifest_rows : int
+        Metadata rows applied from manifests.
+    """
+
+    run_id: int
+    counts: dict[str, Counter[str]] = field(default_factory=dict)
+    rejects: list[Reject] = field(default_factory=list)
+    warnings: list[Warning_] = field(default_factory=list)
+    duplicates: list[tuple[str, str, str]] = field(default_factory=list)
+    manifest_rows: int = 0
+    files: int = 0
+
+    def tally(self, fmt: str, outcome: str, n: int = 1) -> None:
+        self.counts.setdefault(fmt, Counter())[outcome] += n
+
+    def total(self, outcome: str) -> int:
+        return sum(c[outcome] for c in self.counts.values())
+
+    @property
+    def exit_code(self) -> int:
+        """0 when nothing was rejected, 3 when some inputs were (the rest is stored)."""
+        return 3 if self.rejects else 0
+
+    def to_json(self) -> dict:
+        return {
+            "run_id": self.run_id,
+            "files": self.files,
+            "totals": {o: self.total(o) for o in OUTCOMES},
+            "by_format": {
+                fmt: {o: int(c[o]) for o in OUTCOMES} for fmt, c in sorted(self.counts.items())
+            },
+            "manifest_rows": self.manifest_rows,
+            "rejects": [
+                {"source": r.source, "row": r.row, "format": r.format, "reason": r.reason}
+                for r in self.rejects
+            ],
+            "warnings": [
+                {"source": w.source, "row": w.row, "message": w.message} for w in self.warnings
+            ],
+            "duplicates": [
+                {"id": tid, "source": src, "duplicate_of": orig}
+                for tid, src, orig in self.duplicates
+            ],
+        }
+
+
+class _Batcher:
+    def __init__(self, store: Store, report: IngestReport, batch_size: int) -> None:
+        self.store = store
+        self.report = report
+        self.batch_size = batch_size
+        self.pending: list[Transcript] = []
+
+    def add(self, t: Transcript) -> None:
+        self.pending.append(t)
+        if len(self.pending) >= self.batch_size:
+            self.flush()
+
+    def flush(self) -> None:
+        if not self.pending:
+            return
+        out = self.store.add_transcripts(self.pending, self.report.run_id)
+        self.pending = []
+        r = self.report
+        for t in out.added:
+            r.tally(t.format, "added")
+        for t in out.unchanged:
+            r.tally(t.format, "unchanged")
+        for t, original in out.duplicates:
+            r.tally(t.format, "duplicate")
+            r.duplicates.append((t.tid, t.source, original))
+        for rej in out.rejects:
+            r.tally(rej.format, "rejected")
+            r.rejects.append(rej)
+
+
+def _manifest_key(key: str) -> str:
+    """Manifest keys may be file names: strip a transcript extension to get the id."""
+    name = key.strip().replace("\\", "/").rsplit("/", 1)[-1]
+    stem, dot, ext = name.rpartition(".")
+    if dot and ext.lower() in FORMATS:
+        return stem
+    return name
+
+
+def ingest(
+    workspace: Workspace,
+    paths: Sequence[Path],
+    *,
+    manifests: Sequence[Path] = (),
+    progress: ProgressFn | None = None,
+    batch_size: int = 500,
+) -> IngestReport:
+    """Read ``paths`` (files and folders, recursively) and store what they hold.
+
+    The caller holds the workspace lock. Good inputs are stored even when others are
+    rejected; nothing already stored is changed.
+
+    Parameters
+    ----------
+    workspace : Workspace
+    paths : sequence of Path
+        Transcript files, tables and folders.
+    manifests : sequence of Path
+        Metadata tables keyed by transcript id or file name.
+    progress : callable, optional
+        ``progress(done_files, total_files, current)``.
+    batch_size : int
+        Transcripts stored per transaction.
+
+    Returns
+    -------
+    IngestReport
+    """
+    settings = workspace.settings().ingest
+    store = workspace.store()
+    try:
+        run_id = store.start_ingest_run([str(p) for p in [*paths, *manifests]])
+        report = IngestReport(run_id=run_id)
+
+        for m in manifests:
+            man = read_manifest(Path(m), settings)
+            entries = {_manifest_key(k): v for k, v in man.entries.items()}
+            report.manifest_rows += len(entries)
+            report.rejects.extend(man.rejects)
+            report.warnings.extend(man.warnings)
+            for _ in man.rejects:
+                report.tally("manifest", "rejected")
+            store.set_metadata(entries)
+
+        files: list[Path] = []
+        for item in iter_files([Path(p) for p in paths], settings):
+            if isinstance(item, Path):
+                files.append(item)
+            elif isinstance(item, Reject):
+                report.rejects.append(item)
+                report.tally(item.format, "rejected")
+            else:
+                report.warnings.append(item)
+        report.files = len(files)
+
+        batcher = _Batcher(store, report, batch_size)
+        for i, path in enumerate(files, start=1):
+            for item in read_file(path, settings):
+                if isinstance(item, Transcript):
+                    batcher.add(item)
+                elif isinstance(item, Reject):
+                    report.rejects.append(item)
+                    report.tally(item.format, "rejected")
+                else:
+                    report.warnings.append(item)
+            if progress is not None:
+                progress(i, len(files), str(path))
+        batcher.flush()
+        if report.rejects:
+            store.add_rejects(run_id, report.rejects)
+        store.finish_ingest_run(
+            run_id,
+            added=report.total("added"),
+            unchanged=report.total("unchanged"),
+            duplicate=report.total("duplicate"),
+            rejected=len(report.rejects),
+        )
+        log.info("ingest run %d: %s", run_id, {o: report.total(o) for o in OUTCOMES})
+        return report
+    finally:
+        store.close()
+
+
+def write_rejects_csv(path: Path, rejects: Sequence[Reject]) -> None:
+    """Write one row per rejected input: source, row, format, reason (RFC 4180 CSV)."""
+    import io
+
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\r\n")
+    w.writerow(["source", "row", "format", "reason"])
+    for r in rejects:
+        w.writerow([r.source, "" if r.row is None else r.row, r.format, r.reason])
+    atomic_write_text(path, buf.getvalue())

@@ -1,0 +1,1 @@
+"""Metrics over topic models: coherence, stability, diversity, relevance, layout."""

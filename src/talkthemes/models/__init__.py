@@ -1,0 +1,1 @@
+"""Topic models: LDA (gensim) and NMF (scikit-learn), both returning FittedTopics."""

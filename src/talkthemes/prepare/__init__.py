@@ -1,0 +1,1 @@
+"""The preprocessing chain that turns stored transcripts into a prepared corpus."""

@@ -1,0 +1,581 @@
+"""The embedded store: every SQL statement of talkthemes lives in this module.
+
+SQLite in WAL mode (readers never block the single writer), with a schema version and
+forward-only migrations. Callers see plain Python values and dataclasses, never SQL, so a
+server database could replace SQLite later without touching them.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as dt
+import hashlib
+import json
+import sqlite3
+from collections.abc import Iterable, Iterator, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from talkthemes.errors import StoreError
+from talkthemes.ingest.model import Reject, Transcript
+
+__all__ = ["SCHEMA_VERSION", "Store", "StoredTurn", "now_iso"]
+
+# Each entry migrates the schema from version i to i + 1. Never edit a released entry:
+# append a new one.
+_MIGRATIONS: list[str] = [
+    # 1: transcripts, turns, metadata, ingest runs, rejects, preps
+    """
+    CREATE TABLE ingest_runs (
+        id INTEGER PRIMARY KEY,
+        started_at TEXT NOT NULL,
+        finished_at TEXT,
+        paths TEXT NOT NULL,
+        added INTEGER NOT NULL DEFAULT 0,
+        unchanged INTEGER NOT NULL DEFAULT 0,
+        duplicate INTEGER NOT NULL DEFAULT 0,
+        rejected INTEGER NOT NULL DEFAULT 0,
+        status TEXT NOT NULL DEFAULT 'running'
+    );
+    CREATE TABLE transcripts (
+        id INTEGER PRIMARY KEY,
+        tid TEXT NOT NULL UNIQUE,
+        source TEXT NOT NULL,
+        format TEXT NOT NULL,
+        content_hash TEXT NOT NULL UNIQUE,
+        n_turns INTEGER NOT NULL,
+        n_words INTEGER NOT NULL,
+        n_chars INTEGER NOT NULL,
+        run_id INTEGER REFERENCES ingest_runs(id),
+        added_at TEXT NOT NULL
+    );
+    CREATE TABLE turns (
+        transcript INTEGER NOT NULL REFERENCES transcripts(id) ON DELETE CASCADE,
+        seq INTEGER NOT NULL,
+        speaker TEXT NOT NULL,
+        role TEXT NOT NULL,
+        start REAL,
+        "end" REAL,
+        text TEXT NOT NULL,
+        PRIMARY KEY (transcript, seq)
+    ) WITHOUT ROWID;
+    CREATE TABLE metadata (
+        tid TEXT NOT NULL,
+        key TEXT NOT NULL,
+        value TEXT NOT NULL,
+        origin TEXT NOT NULL,
+        PRIMARY KEY (tid, key)
+    ) WITHOUT ROWID;
+    CREATE INDEX metadata_key ON metadata(key, value);
+    CREATE TABLE rejects (
+        run_id INTEGER NOT NULL REFERENCES ingest_runs(id),
+        source TEXT NOT NULL,
+        row INTEGER,
+        format TEXT NOT NULL,
+        reason TEXT NOT NULL
+    );
+    CREATE TABLE preps (
+        hash TEXT PRIMARY KEY,
+        created_at TEXT NOT NULL,
+        info TEXT NOT NULL,
+        current INTEGER NOT NULL DEFAULT 0
+    );
+    CREATE TABLE sweeps (
+        id INTEGER PRIMARY KEY,
+        prep_hash TEXT NOT NULL,
+        created_at TEXT NOT NULL,
+        finished_at TEXT,
+        status TEXT NOT NULL DEFAULT 'running',
+        info TEXT NOT NULL DEFAULT '{}'
+    );
+    CREATE TABLE versions (
+        n INTEGER PRIMARY KEY,
+        created_at TEXT NOT NULL,
+        current INTEGER NOT NULL DEFAULT 0,
+        info TEXT NOT NULL DEFAULT '{}'
+    );
+    """,
+]
+
+SCHEMA_VERSION = len(_MIGRATIONS)
+_PARAM_CHUNK = 500  # stays below SQLite's bound-parameter limit with room to spare
+
+
+def now_iso() -> str:
+    """The current local time as an ISO 8601 string with offset, to the second."""
+    return dt.datetime.now().astimezone().isoformat(timespec="seconds")
+
+
+@dataclass(frozen=True, slots=True)
+class StoredTurn:
+    """A turn as stored: position, speaker label, role, times and text."""
+
+    seq: int
+    speaker: str
+    role: str
+    start: float | None
+    end: float | None
+    text: str
+
+
+@dataclass(slots=True)
+class AddOutcome:
+    """What happened to each transcript offered to :meth:`Store.add_transcripts`."""
+
+    added: list[Transcript]
+    unchanged: list[Transcript]
+    duplicates: list[tuple[Transcript, str]]  # (transcript, id of the stored original)
+    rejects: list[Reject]
+
+
+class Store:
+    """The SQLite store of a workspace. Open with :meth:`Store.open`."""
+
+    def __init__(self, conn: sqlite3.Connection, path: Path) -> None:
+        self._conn = conn
+        self.path = path
+
+    # -- opening ---------------------------------------------------------------
+    @classmethod
+    def open(cls, path: str | Path, *, readonly: bool = False) -> Store:
+        """Open (creating and migrating unless ``readonly``) the store at ``path``.
+
+        Raises
+        ------
+        StoreError
+            When the file is not a database, or was written by a newer talkthemes.
+        """
+        path = Path(path)
+        try:
+            if readonly:
+                conn = sqlite3.connect(
+                    f"file:{path}?mode=ro", uri=True, timeout=30, check_same_thread=False
+                )
+            else:
+                conn = sqlite3.connect(path, timeout=30, check_same_thread=False)
+            conn.isolation_level = None  # explicit transactions only
+            conn.execute("PRAGMA foreign_keys = ON")
+            if not readonly:
+                conn.execute("PRAGMA journal_mode = WAL")
+                conn.execute("PRAGMA synchronous = NORMAL")
+            store = cls(conn, path)
+            if not readonly:
+                store._migrate()
+            else:
+                store._check_version()
+            return store
+        except sqlite3.DatabaseError as exc:
+            raise StoreError(f"{path}: cannot open the store: {exc}") from None
+
+    def close(self) -> None:
+        """Close the connection."""
+        self._conn.close()
+
+    def __enter__(self) -> Store:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def schema_version(self) -> int:
+        """The schema version recorded in the store (0 for a new file)."""
+        has_meta = self._conn.execute(
+            "SELECT 1 FROM sqlite_master WHERE type='table' AND name='meta'"
+        ).fetchone()
+        if not has_meta:
+            return 0
+        row = self._conn.execute("SELECT value FROM meta WHERE key='schema_version'").fetchone()
+        return int(row[0]) if row else 0
+
+    def _check_version(self) -> int:
+        version = self.schema_version()
+        if version > SCHEMA_VERSION:
+            raise StoreError(
+                f"{self.path}: store schema version {version} is newer than this talkthemes "
+                f"understands ({SCHEMA_VERSION}); upgrade talkthemes"
+            )
+        return version
+
+    def _migrate(self) -> None:
+        version = self._check_version()
+        if version == SCHEMA_VERSION:
+            return
+        with self.transaction():
+            self._conn.execute(
+                "CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL)"
+            )
+            version = self._check_version()  # another process may have migrated meanwhile
+            for target in range(version, SCHEMA_VERSION):
+                for statement in _split_sql(_MIGRATIONS[target]):
+                    self._conn.execute(statement)
+            self._conn.execute(
+                "INSERT INTO meta(key, value) VALUES('schema_version', ?) "
+                "ON CONFLICT(key) DO UPDATE SET value = excluded.value",
+                (str(SCHEMA_VERSION),),
+            )
+
+    @contextlib.contextmanager
+    def transaction(self) -> Iterator[sqlite3.Connection]:
+        """A write transaction: committed when the block ends, rolled back if it raises."""
+        self._conn.execute("BEGIN IMMEDIATE")
+        try:
+            yield self._conn
+        except BaseException:
+            self._conn.execute("ROLLBACK")
+            raise
+        else:
+            self._conn.execute("COMMIT")
+
+    # -- ingest runs -------------------------------------------------------------
+    def start_ingest_run(self, paths: Sequence[str]) -> int:
+        """Record the start of an ingest run and return its id."""
+        with self.transaction() as c:
+            cur = c.execute(
+                "INSERT INTO ingest_runs(started_at, paths) VALUES (?, ?)",
+                (now_iso(), json.dumps(list(paths))),
+            )
+            return int(cur.lastrowid)
+
+    def finish_ingest_run(
+        self, run_id: int, *, added: int, unchanged: int, duplicate: int, rejected: int
+    ) -> None:
+        """Record the totals of a finished ingest run."""
+        with self.transaction() as c:
+            c.execute(
+                "UPDATE ingest_runs SET finished_at=?, added=?, unchanged=?, duplicate=?, "
+                "rejected=?, status='done' WHERE id=?",
+                (now_iso(), added, unchanged, duplicate, rejected, run_id),
+            )
+
+    def add_rejects(self, run_id: int, rejects: Iterable[Reject]) -> None:
+        """Store rejected inputs of a run (kept for ``status`` and audits)."""
+        rows = [(run_id, r.source, r.row, r.format, r.reason) for r in rejects]
+        if not rows:
+            return
+        with self.transaction() as c:
+            c.executemany(
+                "INSERT INTO rejects(run_id, source, row, format, reason) VALUES (?,?,?,?,?)", rows
+            )
+
+    # -- transcripts -------------------------------------------------------------
+    def add_transcripts(self, batch: Sequence[Transcript], run_id: int | None) -> AddOutcome:
+        """Store a batch of transcripts in one transaction.
+
+        A transcript whose normalised text is already stored under another id is a
+        duplicate and is not stored; one already stored under the same id with the same
+        text is unchanged; an id already stored with different text is rejected (stored
+        data is never overwritten).
+
+        Parameters
+        ----------
+        batch : sequence of Transcript
+        run_id : int or None
+            The ingest run adding them.
+
+        Returns
+        -------
+        AddOutcome
+        """
+        outcome = AddOutcome([], [], [], [])
+        if not batch:
+            return outcome
+        hashes = [t.content_hash() for t in batch]
+        by_hash: dict[str, tuple[str, str]] = {}
+        by_tid: dict[str, tuple[str, str]] = {}
+        for chunk in _chunks(sorted(set(hashes)), _PARAM_CHUNK):
+            q = ",".join("?" * len(chunk))
+            for tid, h, src in self._conn.execute(
+                f"SELECT tid, content_hash, source FROM transcripts WHERE content_hash IN ({q})",
+                chunk,
+            ):
+                by_hash[h] = (tid, src)
+        tids = sorted({t.tid for t in batch})
+        for chunk in _chunks(tids, _PARAM_CHUNK):
+            q = ",".join("?" * len(chunk))
+            for tid, h, src in self._conn.execute(
+                f"SELECT tid, content_hash, source FROM transcripts WHERE tid IN ({q})", chunk
+            ):
+                by_tid[tid] = (h, src)
+
+        to_add: list[tuple[Transcript, str]] = []
+        for t, h in zip(batch, hashes, strict=True):
+            if t.tid in by_tid:
+                stored_hash, stored_src = by_tid[t.tid]
+                if stored_hash == h:
+                    outcome.unchanged.append(t)
+                else:
+                    outcome.rejects.append(
+                        Reject(
+                            t.source,
+                            f"transcript id {t.tid!r} is already stored (from {stored_src}) "
+                            "with different text; stored data is never overwritten",
+                            t.format,
+                        )
+                    )
+                continue
+            if h in by_hash:
+                outcome.duplicates.append((t, by_hash[h][0]))
+                continue
+            by_hash[h] = (t.tid, t.source)
+            by_tid[t.tid] = (h, t.source)
+            to_add.append((t, h))
+
+        if to_add:
+            added_at = now_iso()
+            with self.transaction() as c:
+                for t, h in to_add:
+                    text_words = sum(len(turn.text.split()) for turn in t.turns)
+                    text_chars = sum(len(turn.text) for turn in t.turns)
+                    cur = c.execute(
+                        "INSERT INTO transcripts(tid, source, format, content_hash, n_turns, "
+                        "n_words, n_chars, run_id, added_at) VALUES (?,?,?,?,?,?,?,?,?)",
+                        (
+                            t.tid,
+                            t.source,
+                            t.format,
+                            h,
+                            len(t.turns),
+                            text_words,
+                            text_chars,
+                            run_id,
+                            added_at,
+                        ),
+                    )
+                    rowid = cur.lastrowid
+                    c.executemany(
+                        'INSERT INTO turns(transcript, seq, speaker, role, start, "end", text) '
+                        "VALUES (?,?,?,?,?,?,?)",
+                        [
+                            (rowid, i, u.speaker, u.role, u.start, u.end, u.text)
+                            for i, u in enumerate(t.turns)
+                        ],
+                    )
+                    if t.metadata:
+                        c.executemany(
+                            "INSERT INTO metadata(tid, key, value, origin) VALUES (?,?,?,'inline') "
+                            "ON CONFLICT(tid, key) DO UPDATE SET value=excluded.value "
+                            "WHERE metadata.origin = 'inline'",
+                            [(t.tid, k, v) for k, v in t.metadata.items()],
+                        )
+                    outcome.added.append(t)
+        return outcome
+
+    def set_metadata(self, entries: dict[str, dict[str, str]], *, origin: str = "manifest") -> int:
+        """Store metadata fields keyed by transcript id (a manifest's rows).
+
+        Manifest values replace earlier values of the same field; rows may name
+        transcripts that are not stored yet (they apply once those arrive).
+
+        Returns
+        -------
+        int
+            The number of (transcript, field) values written.
+        """
+        rows = [(tid, k, v, origin) for tid, fields in entries.items() for k, v in fields.items()]
+        if not rows:
+            return 0
+        with self.transaction() as c:
+            c.executemany(
+                "INSERT INTO metadata(tid, key, value, origin) VALUES (?,?,?,?) "
+                "ON CONFLICT(tid, key) DO UPDATE SET value=excluded.value, origin=excluded.origin",
+                rows,
+            )
+        return len(rows)
+
+    def count_transcripts(self) -> int:
+        """Number of stored transcripts."""
+        return int(self._conn.execute("SELECT COUNT(*) FROM transcripts").fetchone()[0])
+
+    def transcript_ids(self) -> list[str]:
+        """Every stored transcript id, in storage order."""
+        return [r[0] for r in self._conn.execute("SELECT tid FROM transcripts ORDER BY id")]
+
+    def corpus_fingerprint(self) -> str:
+        """A hash over the set of stored transcripts (ids and content hashes)."""
+        h = hashlib.sha256()
+        for tid, ch in self._conn.execute("SELECT tid, content_hash FROM transcripts ORDER BY tid"):
+            h.update(tid.encode("utf-8"))
+            h.update(b"\0")
+            h.update(ch.encode("ascii"))
+            h.update(b"\n")
+        return h.hexdigest()
+
+    def iter_turn_batches(
+        self, batch_size: int
+    ) -> Iterator[list[tuple[str, list[tuple[str, str]]]]]:
+        """Stream transcripts in storage order as batches of ``(tid, [(role, text), ...])``.
+
+        Only one batch is held in memory at a time.
+        """
+        last = 0
+        while True:
+            ids = self._conn.execute(
+                "SELECT id, tid FROM transcripts WHERE id > ? ORDER BY id LIMIT ?",
+                (last, batch_size),
+            ).fetchall()
+            if not ids:
+                return
+            first, last = ids[0][0], ids[-1][0]
+            turns: dict[int, list[tuple[str, str]]] = {i: [] for i, _ in ids}
+            for tr, role, text in self._conn.execute(
+                "SELECT transcript, role, text FROM turns WHERE transcript BETWEEN ? AND ? "
+                "ORDER BY transcript, seq",
+                (first, last),
+            ):
+                turns[tr].append((role, text))
+            yield [(tid, turns[i]) for i, tid in ids]
+
+    def get_turns(self, tid: str) -> list[StoredTurn]:
+        """The turns of one transcript, in order (empty when the id is unknown)."""
+        return [
+            StoredTurn(*row)
+            for row in self._conn.execute(
+                'SELECT u.seq, u.speaker, u.role, u.start, u."end", u.text FROM turns u '
+                "JOIN transcripts t ON t.id = u.transcript WHERE t.tid = ? ORDER BY u.seq",
+                (tid,),
+            )
+        ]
+
+    def metadata_for(self, tids: Sequence[str] | None = None) -> dict[str, dict[str, str]]:
+        """Metadata of stored transcripts (all of them, or those in ``tids``)."""
+        out: dict[str, dict[str, str]] = {}
+        sql = "SELECT m.tid, m.key, m.value FROM metadata m JOIN transcripts t ON t.tid = m.tid"
+        if tids is None:
+            rows: Iterable[tuple[str, str, str]] = self._conn.execute(sql)
+        else:
+            rows = (
+                row
+                for chunk in _chunks(list(tids), _PARAM_CHUNK)
+                for row in self._conn.execute(
+                    sql + f" WHERE m.tid IN ({','.join('?' * len(chunk))})", chunk
+                )
+            )
+        for tid, key, value in rows:
+            out.setdefault(tid, {})[key] = value
+        return out
+
+    # -- summaries -----------------------------------------------------------------
+    def summary(self) -> dict[str, Any]:
+        """Counts for ``status``: by format, role, month and metadata field; date range."""
+        c = self._conn
+        n, words = c.execute(
+            "SELECT COUNT(*), COALESCE(SUM(n_words),0) FROM transcripts"
+        ).fetchone()
+        by_format = dict(
+            c.execute("SELECT format, COUNT(*) FROM transcripts GROUP BY format ORDER BY format")
+        )
+        turns_by_role = dict(
+            c.execute("SELECT role, COUNT(*) FROM turns GROUP BY role ORDER BY role")
+        )
+        transcripts_by_role = dict(
+            c.execute(
+                "SELECT role, COUNT(DISTINCT transcript) FROM turns GROUP BY role ORDER BY role"
+            )
+        )
+        dated = (
+            "SELECT m.value FROM metadata m JOIN transcripts t ON t.tid = m.tid WHERE m.key='date'"
+        )
+        by_month = dict(
+            c.execute(
+                f"SELECT substr(value, 1, 7) AS month, COUNT(*) FROM ({dated}) "
+                "GROUP BY month ORDER BY month"
+            )
+        )
+        first, last = c.execute(f"SELECT MIN(value), MAX(value) FROM ({dated})").fetchone()
+        fields: dict[str, dict[str, Any]] = {}
+        for key, count, distinct in c.execute(
+            "SELECT m.key, COUNT(*), COUNT(DISTINCT m.value) FROM metadata m "
+            "JOIN transcripts t ON t.tid = m.tid GROUP BY m.key ORDER BY m.key"
+        ):
+            top = c.execute(
+                "SELECT m.value, COUNT(*) AS n FROM metadata m JOIN transcripts t ON t.tid = m.tid "
+                "WHERE m.key = ? GROUP BY m.value ORDER BY n DESC, m.value LIMIT 5",
+                (key,),
+            ).fetchall()
+            fields[key] = {
+                "transcripts": count,
+                "distinct": distinct,
+                "top": {v: k for v, k in top},
+            }
+        unmatched = c.execute(
+            "SELECT COUNT(DISTINCT tid) FROM metadata "
+            "WHERE tid NOT IN (SELECT tid FROM transcripts)"
+        ).fetchone()[0]
+        runs = c.execute("SELECT COUNT(*), SUM(status='running') FROM ingest_runs").fetchone()
+        rejects = c.execute("SELECT COUNT(*) FROM rejects").fetchone()[0]
+        return {
+            "transcripts": int(n),
+            "words": int(words),
+            "by_format": by_format,
+            "turns_by_role": turns_by_role,
+            "transcripts_with_role": transcripts_by_role,
+            "by_month": by_month,
+            "date_range": [first, last] if first else None,
+            "metadata_fields": fields,
+            "manifest_rows_without_transcript": int(unmatched),
+            "ingest_runs": int(runs[0] or 0),
+            "interrupted_ingest_runs": int(runs[1] or 0),
+            "rejected_inputs": int(rejects),
+        }
+
+    # -- preps -----------------------------------------------------------------------
+    def record_prep(self, prep_hash: str, info: dict[str, Any]) -> None:
+        """Record a prepared corpus and make it the current one (in one transaction)."""
+        with self.transaction() as c:
+            c.execute("UPDATE preps SET current = 0 WHERE current = 1")
+            c.execute(
+                "INSERT INTO preps(hash, created_at, info, current) VALUES (?,?,?,1) "
+                "ON CONFLICT(hash) DO UPDATE SET info=excluded.info, current=1",
+                (prep_hash, now_iso(), json.dumps(info)),
+            )
+
+    def current_prep(self) -> dict[str, Any] | None:
+        """The current prep's info (with ``hash`` and ``created_at``), or None."""
+        row = self._conn.execute(
+            "SELECT hash, created_at, info FROM preps WHERE current = 1"
+        ).fetchone()
+        if row is None:
+            return None
+        info = json.loads(row[2])
+        info.setdefault("hash", row[0])
+        info.setdefault("created_at", row[1])
+        return info
+
+    def stages(self) -> dict[str, Any]:
+        """Where each later stage stands: current prep, latest sweep, current version."""
+        prep = self.current_prep()
+        sweep = self._conn.execute(
+            "SELECT id, created_at, status FROM sweeps ORDER BY id DESC LIMIT 1"
+        ).fetchone()
+        version = self._conn.execute(
+            "SELECT n, created_at FROM versions WHERE current = 1"
+        ).fetchone()
+        return {
+            "prepared": None if prep is None else {"hash": prep["hash"], "at": prep["created_at"]},
+            "swept": None
+            if sweep is None
+            else {"id": sweep[0], "at": sweep[1], "status": sweep[2]},
+            "published": None if version is None else {"version": version[0], "at": version[1]},
+        }
+
+    def get_prep(self, prep_hash: str) -> dict[str, Any] | None:
+        """A recorded prep's info by hash, or None."""
+        row = self._conn.execute(
+            "SELECT hash, created_at, info FROM preps WHERE hash = ?", (prep_hash,)
+        ).fetchone()
+        if row is None:
+            return None
+        info = json.loads(row[2])
+        info.setdefault("hash", row[0])
+        info.setdefault("created_at", row[1])
+        return info
+
+
+def _chunks(items: Sequence[Any], size: int) -> Iterator[Sequence[Any]]:
+    for i in range(0, len(items), size):
+        yield items[i : i + size]
+
+
+def _split_sql(script: str) -> list[str]:
+    return [s.strip() for s in script.split(";") if s.strip()]

@@ -1,0 +1,165 @@
+"""The store: schema versions, deduplication, never overwriting, streaming, summaries."""
+
+from __future__ import annotations
+
+import sqlite3
+from pathlib import Path
+
+import pytest
+
+from talkthemes.errors import StoreError
+from talkthemes.ingest.model import Transcript, Turn
+from talkthemes.store import SCHEMA_VERSION, Store
+
+
+def _t(tid: str, *texts: str, fmt: str = "txt", **meta: str) -> Transcript:
+    turns = [
+        Turn(
+            speaker="Agent" if i % 2 == 0 else "Customer",
+            role="agent" if i % 2 == 0 else "customer",
+            text=x,
+        )
+        for i, x in enumerate(texts)
+    ]
+    return Transcript(tid=tid, turns=turns, source=f"/in/{tid}.{fmt}", format=fmt, metadata=meta)
+
+
+@pytest.fixture
+def store(tmp_path: Path) -> Store:
+    s = Store.open(tmp_path / "t.db")
+    yield s
+    s.close()
+
+
+def test_new_store_is_at_current_schema_in_wal_mode(store: Store) -> None:
+    assert store.schema_version() == SCHEMA_VERSION
+    mode = store._conn.execute("PRAGMA journal_mode").fetchone()[0]
+    assert mode == "wal"
+
+
+def test_newer_schema_is_refused(tmp_path: Path) -> None:
+    path = tmp_path / "t.db"
+    Store.open(path).close()
+    con = sqlite3.connect(path)
+    con.execute("UPDATE meta SET value = ? WHERE key = 'schema_version'", (SCHEMA_VERSION + 1,))
+    con.commit()
+    con.close()
+    with pytest.raises(StoreError, match="newer than this talkthemes"):
+        Store.open(path)
+
+
+def test_not_a_database_is_a_store_error(tmp_path: Path) -> None:
+    path = tmp_path / "t.db"
+    path.write_bytes(b"this is not sqlite" * 100)
+    with pytest.raises(StoreError, match="cannot open the store"):
+        Store.open(path)
+
+
+def test_add_dedupes_by_normalised_text(store: Store) -> None:
+    a = _t("a", "Hello there.", "My bill is high!")
+    b = _t("b", "hello there", "my   bill is HIGH")  # same call exported differently
+    out = store.add_transcripts([a, b], None)
+    assert [t.tid for t in out.added] == ["a"]
+    assert [(t.tid, orig) for t, orig in out.duplicates] == [("b", "a")]
+    again = store.add_transcripts([a], None)
+    assert [t.tid for t in again.unchanged] == ["a"]
+    assert store.count_transcripts() == 1
+
+
+def test_same_id_with_other_text_is_rejected_and_stored_text_kept(store: Store) -> None:
+    store.add_transcripts([_t("a", "original words here")], None)
+    out = store.add_transcripts([_t("a", "different words now"), _t("c", "fresh call")], None)
+    assert len(out.rejects) == 1
+    assert "already stored" in out.rejects[0].reason
+    assert [t.tid for t in out.added] == ["c"]
+    assert [u.text for u in store.get_turns("a")] == ["original words here"]
+
+
+def test_turns_roundtrip_in_order(store: Store) -> None:
+    t = Transcript(
+        tid="x",
+        turns=[
+            Turn("Agent", "agent", "hi", 0.0, 1.5),
+            Turn("Caller", "customer", "hello", 1.5, None),
+        ],
+        source="/in/x.vtt",
+        format="vtt",
+    )
+    store.add_transcripts([t], None)
+    got = store.get_turns("x")
+    assert [(u.seq, u.speaker, u.role, u.start, u.end, u.text) for u in got] == [
+        (0, "Agent", "agent", 0.0, 1.5, "hi"),
+        (1, "Caller", "customer", 1.5, None, "hello"),
+    ]
+    assert store.get_turns("missing") == []
+
+
+def test_manifest_metadata_wins_over_inline_and_may_precede_transcripts(store: Store) -> None:
+    store.set_metadata({"a": {"queue": "billing", "date": "2026-05-02"}})
+    store.add_transcripts([_t("a", "some words", queue="faults", site="north")], None)
+    assert store.metadata_for(["a"]) == {
+        "a": {"queue": "billing", "date": "2026-05-02", "site": "north"}
+    }
+    store.set_metadata({"a": {"queue": "moves"}})
+    assert store.metadata_for()["a"]["queue"] == "moves"
+
+
+def test_iter_turn_batches_streams_everything_in_order(store: Store) -> None:
+    calls = [_t(f"c{i:03d}", f"call number {i}", f"reply {i}") for i in range(23)]
+    store.add_transcripts(calls, None)
+    batches = list(store.iter_turn_batches(5))
+    assert [len(b) for b in batches] == [5, 5, 5, 5, 3]
+    flat = [item for b in batches for item in b]
+    assert [tid for tid, _ in flat] == [c.tid for c in calls]
+    assert flat[4][1] == [("agent", "call number 4"), ("customer", "reply 4")]
+
+
+def test_fingerprint_changes_only_with_the_transcript_set(store: Store) -> None:
+    f0 = store.corpus_fingerprint()
+    store.add_transcripts([_t("a", "one call")], None)
+    f1 = store.corpus_fingerprint()
+    store.set_metadata({"a": {"queue": "x"}})
+    assert store.corpus_fingerprint() == f1 != f0
+
+
+def test_summary_counts(store: Store) -> None:
+    store.add_transcripts(
+        [_t("a", "one two", "three"), _t("b", "four five six", fmt="vtt"), _t("c", "seven")], None
+    )
+    store.set_metadata(
+        {
+            "a": {"date": "2026-05-03", "queue": "billing"},
+            "b": {"date": "2026-06-10", "queue": "billing"},
+            "zz": {"date": "2026-07-01"},
+        }
+    )
+    s = store.summary()
+    assert s["transcripts"] == 3
+    assert s["words"] == 7
+    assert s["by_format"] == {"txt": 2, "vtt": 1}
+    assert s["turns_by_role"] == {"agent": 3, "customer": 1}
+    assert s["by_month"] == {"2026-05": 1, "2026-06": 1}
+    assert s["date_range"] == ["2026-05-03", "2026-06-10"]
+    assert s["metadata_fields"]["queue"] == {"transcripts": 2, "distinct": 1, "top": {"billing": 2}}
+    assert s["manifest_rows_without_transcript"] == 1
+
+
+def test_prep_record_switches_current(store: Store) -> None:
+    assert store.current_prep() is None
+    assert store.stages() == {"prepared": None, "swept": None, "published": None}
+    store.record_prep("h1", {"n_docs": 3})
+    store.record_prep("h2", {"n_docs": 4})
+    cur = store.current_prep()
+    assert cur is not None and cur["hash"] == "h2" and cur["n_docs"] == 4
+    assert store.get_prep("h1")["n_docs"] == 3
+    assert store.stages()["prepared"]["hash"] == "h2"
+
+
+def test_failed_batch_leaves_store_unchanged(store: Store) -> None:
+    store.add_transcripts([_t("a", "kept words")], None)
+    bad = _t("b", "new words")
+    bad.turns.append(Turn("Agent", None, "more"))  # type: ignore[arg-type]  # NOT NULL role
+    with pytest.raises(sqlite3.IntegrityError):
+        store.add_transcripts([_t("c", "other words"), bad], None)
+    assert store.transcript_ids() == ["a"]  # the whole batch rolled back
+    assert store._conn.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
