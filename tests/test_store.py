@@ -163,3 +163,73 @@ def test_failed_batch_leaves_store_unchanged(store: Store) -> None:
         store.add_transcripts([_t("c", "other words"), bad], None)
     assert store.transcript_ids() == ["a"]  # the whole batch rolled back
     assert store._conn.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
+
+
+def test_migration_from_version_1_keeps_data(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import talkthemes.store as store_mod
+
+    path = tmp_path / "old.db"
+    monkeypatch.setattr(store_mod, "_MIGRATIONS", store_mod._MIGRATIONS[:1])
+    monkeypatch.setattr(store_mod, "SCHEMA_VERSION", 1)
+    with Store.open(path) as old:
+        old.add_transcripts([_t("a", "kept through the migration")], None)
+        assert old.schema_version() == 1
+    monkeypatch.undo()
+    with Store.open(path) as new:
+        assert new.schema_version() == SCHEMA_VERSION
+        assert [u.text for u in new.get_turns("a")] == ["kept through the migration"]
+        assert new.next_version_number() == 1
+
+
+def test_sweep_cells_resume_records(store: Store) -> None:
+    assert store.get_sweep() is None
+    sid = store.start_sweep("p1", {"grid_key": "g1"})
+    store.add_cell(sid, "lda-k005-s0", "lda", 5, 0, {"c_npmi": 0.1})
+    store.add_cell(sid, "lda-k005-s0", "lda", 5, 0, {"c_npmi": 0.2})  # re-run replaces
+    assert store.find_sweep("p1", "g1")["status"] == "running"
+    assert store.find_sweep("p1", "other") is None
+    assert store.cells(sid) == [
+        {"cell": "lda-k005-s0", "family": "lda", "k": 5, "seed": 0, "c_npmi": 0.2}
+    ]
+    store.finish_sweep(sid, {"grid_key": "g1", "recommendation": {"lda": 5}})
+    got = store.get_sweep(sid)
+    assert got["status"] == "done" and got["recommendation"] == {"lda": 5}
+    assert store.stages()["swept"]["id"] == sid
+
+
+def test_versions_themes_and_labels(store: Store) -> None:
+    ids = store.reserve_theme_ids(3)
+    assert ids == [1, 2, 3]
+    assert store.reserve_theme_ids(1) == [4]  # never reused
+    store.add_version(
+        1, {"k": 3}, [{"theme_id": t, "position": i, "status": "new"} for i, t in enumerate(ids)]
+    )
+    store.set_label(2, label="Payment plans", note="arrears too")
+    store.set_label(2, hidden=True)
+    themes = store.themes(1)
+    assert [t["theme_id"] for t in themes] == [1, 2, 3]
+    assert themes[1] | {"info": {}} == {
+        "theme_id": 2,
+        "position": 1,
+        "status": "new",
+        "info": {},
+        "label": "Payment plans",
+        "note": "arrears too",
+        "hidden": True,
+    }
+    with pytest.raises(StoreError, match="no theme 99"):
+        store.set_label(99, label="x")
+    store.add_version(
+        2,
+        {"k": 3},
+        [{"theme_id": t, "position": i, "status": "carried"} for i, t in enumerate(ids)],
+    )
+    assert store.current_version()["n"] == 2
+    assert store.themes(2)[1]["label"] == "Payment plans"  # labels follow the theme id
+    store.set_current_version(1)
+    assert store.current_version()["n"] == 1
+    assert [v["current"] for v in store.versions()] == [True, False]
+    with pytest.raises(StoreError, match="no version 7"):
+        store.set_current_version(7)

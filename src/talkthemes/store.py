@@ -96,6 +96,36 @@ _MIGRATIONS: list[str] = [
         info TEXT NOT NULL DEFAULT '{}'
     );
     """,
+    # 2: sweep cells, themes of each version, labels (per theme id, across versions)
+    """
+    CREATE TABLE cells (
+        sweep_id INTEGER NOT NULL REFERENCES sweeps(id),
+        cell TEXT NOT NULL,
+        family TEXT NOT NULL,
+        k INTEGER NOT NULL,
+        seed INTEGER NOT NULL,
+        finished_at TEXT NOT NULL,
+        metrics TEXT NOT NULL,
+        PRIMARY KEY (sweep_id, cell)
+    ) WITHOUT ROWID;
+    CREATE TABLE themes (
+        version INTEGER NOT NULL REFERENCES versions(n),
+        theme_id INTEGER NOT NULL,
+        position INTEGER NOT NULL,
+        status TEXT NOT NULL,
+        info TEXT NOT NULL DEFAULT '{}',
+        PRIMARY KEY (version, theme_id)
+    ) WITHOUT ROWID;
+    CREATE TABLE labels (
+        theme_id INTEGER PRIMARY KEY,
+        label TEXT NOT NULL DEFAULT '',
+        note TEXT NOT NULL DEFAULT '',
+        hidden INTEGER NOT NULL DEFAULT 0,
+        updated_at TEXT NOT NULL
+    );
+    CREATE TABLE theme_ids (next INTEGER NOT NULL);
+    INSERT INTO theme_ids(next) VALUES (1);
+    """,
 ]
 
 SCHEMA_VERSION = len(_MIGRATIONS)
@@ -558,6 +588,212 @@ class Store:
             else {"id": sweep[0], "at": sweep[1], "status": sweep[2]},
             "published": None if version is None else {"version": version[0], "at": version[1]},
         }
+
+    # -- sweeps and cells ------------------------------------------------------------
+    def find_sweep(self, prep_hash: str, grid_key: str) -> dict[str, Any] | None:
+        """The latest sweep of this prep with this grid (``info['grid_key']``), or None."""
+        for sid, created, finished, status, info in self._conn.execute(
+            "SELECT id, created_at, finished_at, status, info FROM sweeps "
+            "WHERE prep_hash = ? ORDER BY id DESC",
+            (prep_hash,),
+        ):
+            data = json.loads(info)
+            if data.get("grid_key") == grid_key:
+                return {
+                    "id": sid,
+                    "created_at": created,
+                    "finished_at": finished,
+                    "status": status,
+                    "prep_hash": prep_hash,
+                    **data,
+                }
+        return None
+
+    def start_sweep(self, prep_hash: str, info: dict[str, Any]) -> int:
+        """Record a new sweep (status 'running') and return its id."""
+        with self.transaction() as c:
+            cur = c.execute(
+                "INSERT INTO sweeps(prep_hash, created_at, status, info) VALUES (?,?,'running',?)",
+                (prep_hash, now_iso(), json.dumps(info)),
+            )
+            return int(cur.lastrowid)
+
+    def finish_sweep(self, sweep_id: int, info: dict[str, Any]) -> None:
+        """Mark a sweep finished and store its summary (recommendation, grid...)."""
+        with self.transaction() as c:
+            c.execute(
+                "UPDATE sweeps SET status='done', finished_at=?, info=? WHERE id=?",
+                (now_iso(), json.dumps(info), sweep_id),
+            )
+
+    def get_sweep(self, sweep_id: int | None = None) -> dict[str, Any] | None:
+        """A sweep by id, or the latest one; None when there is none."""
+        if sweep_id is None:
+            row = self._conn.execute(
+                "SELECT id, prep_hash, created_at, finished_at, status, info FROM sweeps "
+                "ORDER BY id DESC LIMIT 1"
+            ).fetchone()
+        else:
+            row = self._conn.execute(
+                "SELECT id, prep_hash, created_at, finished_at, status, info FROM sweeps "
+                "WHERE id = ?",
+                (sweep_id,),
+            ).fetchone()
+        if row is None:
+            return None
+        sid, prep, created, finished, status, info = row
+        return {
+            "id": sid,
+            "prep_hash": prep,
+            "created_at": created,
+            "finished_at": finished,
+            "status": status,
+            **json.loads(info),
+        }
+
+    def add_cell(
+        self, sweep_id: int, cell: str, family: str, k: int, seed: int, metrics: dict[str, Any]
+    ) -> None:
+        """Record a finished cell (replacing an earlier record of the same cell)."""
+        with self.transaction() as c:
+            c.execute(
+                "INSERT INTO cells(sweep_id, cell, family, k, seed, finished_at, metrics) "
+                "VALUES (?,?,?,?,?,?,?) ON CONFLICT(sweep_id, cell) DO UPDATE SET "
+                "finished_at=excluded.finished_at, metrics=excluded.metrics",
+                (sweep_id, cell, family, k, seed, now_iso(), json.dumps(metrics)),
+            )
+
+    def cells(self, sweep_id: int) -> list[dict[str, Any]]:
+        """Every finished cell of a sweep: ``cell, family, k, seed`` and its metrics."""
+        return [
+            {"cell": cell, "family": fam, "k": k, "seed": seed, **json.loads(m)}
+            for cell, fam, k, seed, m in self._conn.execute(
+                "SELECT cell, family, k, seed, metrics FROM cells WHERE sweep_id = ? "
+                "ORDER BY family, k, seed",
+                (sweep_id,),
+            )
+        ]
+
+    # -- versions, themes, labels -----------------------------------------------------
+    def next_version_number(self) -> int:
+        """The number the next published version will get."""
+        return int(self._conn.execute("SELECT COALESCE(MAX(n), 0) + 1 FROM versions").fetchone()[0])
+
+    def reserve_theme_ids(self, n: int) -> list[int]:
+        """Hand out ``n`` new theme ids, never reused."""
+        with self.transaction() as c:
+            first = int(c.execute("SELECT next FROM theme_ids").fetchone()[0])
+            c.execute("UPDATE theme_ids SET next = ?", (first + n,))
+        return list(range(first, first + n))
+
+    def add_version(self, n: int, info: dict[str, Any], themes: Sequence[dict[str, Any]]) -> None:
+        """Record version ``n`` with its themes and make it current, in one transaction.
+
+        Each theme dict has ``theme_id``, ``position`` (row in the version's arrays),
+        ``status`` and optionally ``info``. The version's files must already be in place.
+        """
+        with self.transaction() as c:
+            c.execute("UPDATE versions SET current = 0 WHERE current = 1")
+            c.execute(
+                "INSERT INTO versions(n, created_at, current, info) VALUES (?,?,1,?)",
+                (n, now_iso(), json.dumps(info)),
+            )
+            c.executemany(
+                "INSERT INTO themes(version, theme_id, position, status, info) VALUES (?,?,?,?,?)",
+                [
+                    (n, t["theme_id"], t["position"], t["status"], json.dumps(t.get("info", {})))
+                    for t in themes
+                ],
+            )
+
+    def set_current_version(self, n: int) -> None:
+        """Make an existing version current again (roll back or forward)."""
+        with self.transaction() as c:
+            if c.execute("SELECT 1 FROM versions WHERE n = ?", (n,)).fetchone() is None:
+                raise StoreError(f"there is no version {n}")
+            c.execute("UPDATE versions SET current = 0 WHERE current = 1")
+            c.execute("UPDATE versions SET current = 1 WHERE n = ?", (n,))
+
+    def current_version(self) -> dict[str, Any] | None:
+        """The current version's record (``n``, ``created_at`` and its info), or None."""
+        row = self._conn.execute(
+            "SELECT n, created_at, info FROM versions WHERE current = 1"
+        ).fetchone()
+        if row is None:
+            return None
+        return {"n": row[0], "created_at": row[1], **json.loads(row[2])}
+
+    def versions(self) -> list[dict[str, Any]]:
+        """Every recorded version, oldest first."""
+        return [
+            {"n": n, "created_at": c, "current": bool(cur), **json.loads(info)}
+            for n, c, cur, info in self._conn.execute(
+                "SELECT n, created_at, current, info FROM versions ORDER BY n"
+            )
+        ]
+
+    def themes(self, version: int) -> list[dict[str, Any]]:
+        """Themes of a version, by position, with their label, note and hidden flag."""
+        return [
+            {
+                "theme_id": tid,
+                "position": pos,
+                "status": status,
+                "info": json.loads(info),
+                "label": label or "",
+                "note": note or "",
+                "hidden": bool(hidden),
+            }
+            for tid, pos, status, info, label, note, hidden in self._conn.execute(
+                "SELECT t.theme_id, t.position, t.status, t.info, l.label, l.note, l.hidden "
+                "FROM themes t LEFT JOIN labels l ON l.theme_id = t.theme_id "
+                "WHERE t.version = ? ORDER BY t.position",
+                (version,),
+            )
+        ]
+
+    def set_label(
+        self,
+        theme_id: int,
+        *,
+        label: str | None = None,
+        note: str | None = None,
+        hidden: bool | None = None,
+    ) -> dict[str, Any]:
+        """Set a theme's label, note or hidden flag (``None`` leaves a field as it is).
+
+        Raises
+        ------
+        StoreError
+            When no version has a theme with this id.
+        """
+        with self.transaction() as c:
+            if c.execute("SELECT 1 FROM themes WHERE theme_id = ?", (theme_id,)).fetchone() is None:
+                raise StoreError(f"there is no theme {theme_id}")
+            c.execute(
+                "INSERT INTO labels(theme_id, updated_at) VALUES (?, ?) "
+                "ON CONFLICT(theme_id) DO NOTHING",
+                (theme_id, now_iso()),
+            )
+            if label is not None:
+                c.execute(
+                    "UPDATE labels SET label=?, updated_at=? WHERE theme_id=?",
+                    (label, now_iso(), theme_id),
+                )
+            if note is not None:
+                c.execute(
+                    "UPDATE labels SET note=?, updated_at=? WHERE theme_id=?",
+                    (note, now_iso(), theme_id),
+                )
+            if hidden is not None:
+                c.execute(
+                    "UPDATE labels SET hidden=?, updated_at=? WHERE theme_id=?",
+                    (int(hidden), now_iso(), theme_id),
+                )
+            row = c.execute(
+                "SELECT label, note, hidden FROM labels WHERE theme_id = ?", (theme_id,)
+            ).fetchone()
+        return {"theme_id": theme_id, "label": row[0], "note": row[1], "hidden": bool(row[2])}
 
     def get_prep(self, prep_hash: str) -> dict[str, Any] | None:
         """A recorded prep's info by hash, or None."""
