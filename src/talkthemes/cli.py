@@ -30,7 +30,7 @@ from rich.progress import (
 from rich.table import Table
 from typer.core import TyperGroup
 
-from talkthemes.errors import TalkthemesError
+from talkthemes.errors import ConfigError, TalkthemesError
 from talkthemes.workspace import Workspace, resolve_workspace
 
 
@@ -40,7 +40,13 @@ class _Group(TyperGroup):
     def invoke(self, ctx: click.Context) -> Any:
         try:
             return super().invoke(ctx)
-        except (click.exceptions.Exit, click.ClickException, click.exceptions.Abort):
+        except (
+            typer.Exit,
+            typer.Abort,
+            click.exceptions.Exit,
+            click.ClickException,
+            click.exceptions.Abort,
+        ):
             raise
         except TalkthemesError as exc:
             if _state["debug"]:
@@ -72,7 +78,7 @@ app = typer.Typer(
 )
 
 out = Console()  # results
-err = Console(stderr=True)  # progress, warnings, messages
+err = Console(stderr=True, soft_wrap=True)  # progress, warnings, messages (never wrapped)
 
 _state: dict[str, bool] = {"debug": False}
 
@@ -315,6 +321,286 @@ def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
         else "not yet — run 'talkthemes publish'",
     )
     out.print(t)
+
+
+# -- sweep -------------------------------------------------------------------------
+def _fmt_metric(mean: float, spread: float) -> str:
+    if mean != mean:  # NaN
+        return "–"
+    digits = 0 if abs(mean) >= 100 else 3
+    if spread != spread or spread == 0:
+        return f"{mean:,.{digits}f}"
+    return f"{mean:,.{digits}f} ± {spread:,.{digits}f}"
+
+
+def _print_sweep(result: Any) -> None:
+    frame = result.cells
+    metrics = [
+        ("c_npmi", "C_NPMI"),
+        ("c_v", "C_V"),
+        ("u_mass", "U_Mass"),
+        ("stability", "stability"),
+        ("diversity", "diversity"),
+        ("perplexity", "perplexity"),
+        ("reconstruction_error", "recon. error"),
+        ("fit_seconds", "fit s"),
+    ]
+    metrics = [(c, n) for c, n in metrics if c in frame.columns]
+    title = f"Sweep {result.sweep_id}" + (" (already done; reused)" if result.cached else "")
+    table = Table(title=title, title_justify="left", caption="mean ± sd over seeds; ★ recommended")
+    table.add_column("family")
+    table.add_column("K", justify="right")
+    for _, name in metrics:
+        table.add_column(name, justify="right")
+    for (family, k), g in frame.groupby(["family", "k"], sort=True):
+        rec = result.recommendations.get(family)
+        star = rec is not None and rec.k == k
+        cells = []
+        for col, _ in metrics:
+            vals = g[col].astype(float)
+            cells.append(_fmt_metric(vals.mean(), vals.std(ddof=1) if len(vals) > 1 else 0.0))
+        table.add_row(
+            family, f"{k}{' ★' if star else ''}", *cells, style="bold green" if star else None
+        )
+    out.print(table)
+    for family, rec in result.recommendations.items():
+        out.print(
+            f"[bold]{family.upper()}: recommended K = {rec.k}[/]"
+            + (" [yellow](weak)[/]" if rec.weak else "")
+        )
+        out.print(f"  rule: {rec.rule}")
+        for r in rec.reasons:
+            out.print(f"  • {r}")
+        if rec.runners_up:
+            out.print(
+                "  runners-up: " + "; ".join(f"K={r['k']} ({r['why_not']})" for r in rec.runners_up)
+            )
+    for f in result.failed:
+        err.print(f"[red]cell failed[/]: {f['cell']}: {f['error']}")
+
+
+@app.command()
+def sweep(
+    k: Annotated[str | None, typer.Option("--k", help="Topic counts: 4:30:2 or 5,10,15.")] = None,
+    family: Annotated[str | None, typer.Option("--family", help="lda, nmf or lda,nmf.")] = None,
+    seeds: Annotated[int | None, typer.Option("--seeds", min=1, help="Seeds per cell.")] = None,
+    scheduler: Annotated[
+        str | None, typer.Option("--scheduler", help="Dask scheduler address (tcp://host:8786).")
+    ] = None,
+    workers: Annotated[
+        int | None, typer.Option("--workers", min=0, help="Local Dask workers (0 = per core).")
+    ] = None,
+    chart: Annotated[
+        Path | None,
+        typer.Option("--chart", help="Write the sweep chart as PATH.png and PATH.html."),
+    ] = None,
+    force: Annotated[bool, typer.Option("--force", help="Run again even if done.")] = False,
+    workspace: WorkspaceOpt = None,
+    wait: WaitOpt = False,
+    as_json: JsonOpt = False,
+) -> None:
+    """Fit LDA and NMF over a grid of topic counts and seeds; score them; recommend K."""
+    from talkthemes.sweep import run_sweep
+
+    ws = _workspace(workspace)
+    ws.require()
+    families = [f.strip() for f in family.split(",") if f.strip()] if family else None
+    with (
+        ws.lock("sweep", wait=wait, on_wait=lambda m: err.print(f"{m}; waiting…")),
+        _progress("sweep cells", enabled=not as_json) as update,
+    ):
+        result = run_sweep(
+            ws,
+            k=k,
+            families=families,
+            seeds=seeds,
+            scheduler=scheduler,
+            workers=workers,
+            force=force,
+            progress=update,
+        )
+    if chart is not None:
+        from talkthemes.charts import sweep_chart
+        from talkthemes.render import save_chart
+
+        files = save_chart(
+            sweep_chart(result.cells, {f: r.k for f, r in result.recommendations.items()}), chart
+        )
+        err.print("Sweep chart: " + ", ".join(map(str, files)))
+    if as_json:
+        _emit_json(result.to_json())
+    else:
+        _print_sweep(result)
+        err.print("Next: talkthemes publish --k K --family F (or --cell ID)")
+
+
+# -- publish, themes, label, export -------------------------------------------------
+@app.command()
+def publish(
+    k: Annotated[int | None, typer.Option("--k", help="Topic count to publish.")] = None,
+    family: Annotated[str | None, typer.Option("--family", help="lda or nmf.")] = None,
+    cell: Annotated[str | None, typer.Option("--cell", help="A cell id from the sweep.")] = None,
+    version: Annotated[
+        int | None, typer.Option("--version", help="Make an existing version current again.")
+    ] = None,
+    recommended: Annotated[
+        bool, typer.Option("--recommended", help="Publish the sweep's recommendation.")
+    ] = False,
+    workspace: WorkspaceOpt = None,
+    wait: WaitOpt = False,
+    as_json: JsonOpt = False,
+) -> None:
+    """Publish a sweep cell as the next version (final model on all eligible transcripts)."""
+    from talkthemes.versions import load_version
+    from talkthemes.versions import publish as run_publish
+
+    ws = _workspace(workspace)
+    ws.require()
+    with ws.lock("publish", wait=wait, on_wait=lambda m: err.print(f"{m}; waiting…")):
+        if version is not None:
+            with ws.store() as store:
+                store.set_current_version(version)
+            v = load_version(ws, version)
+            doc = {"version": v.n, "themes": v.summary(lam=ws.settings().view.relevance_lambda)}
+            if as_json:
+                _emit_json(doc)
+            else:
+                err.print(f"Version {v.n} is current again.")
+            return
+        if recommended:
+            with ws.store() as store:
+                sw = store.get_sweep()
+            recs = (sw or {}).get("recommendations") or {}
+            fam = family or ("lda" if "lda" in recs else next(iter(recs), None))
+            if fam is None or fam not in recs:
+                raise ConfigError("no finished sweep with a recommendation: run 'talkthemes sweep'")
+            family, k = fam, int(recs[fam]["k"])
+        steps: dict[str, Any] = {}
+        with _progress("publish", enabled=not as_json) as update:
+
+            def on_step(name: str, done: int, total: int) -> None:
+                steps["last"] = name
+                update(done, total, name)
+
+            result = run_publish(ws, k=k, family=family, cell=cell, progress=on_step)
+    if as_json:
+        _emit_json(result.to_json())
+        return
+    out.print(
+        f"Published version {result.version}: {result.family} K={result.k} "
+        f"(cell {result.cell}, fit in {result.fit_seconds:.1f} s)."
+    )
+    _print_themes(result.themes)
+    err.print('Next: talkthemes label THEME_ID "Label"  ·  talkthemes view')
+
+
+def _print_themes(themes: list[dict[str, Any]]) -> None:
+    table = Table(title_justify="left")
+    table.add_column("id", justify="right")
+    table.add_column("theme")
+    table.add_column("coverage", justify="right")
+    table.add_column("mean share", justify="right")
+    table.add_column("C_NPMI", justify="right")
+    table.add_column("top terms (by relevance)")
+    for t in themes:
+        coh = t["coherence"].get("c_npmi")
+        name = t["name"] + (" [dim](hidden)[/]" if t["hidden"] else "")
+        table.add_row(
+            str(t["theme_id"]),
+            name,
+            f"{t['coverage']:.1%}",
+            f"{t['mean_share']:.1%}",
+            "–" if coh is None else f"{coh:.3f}",
+            ", ".join(t["top_terms"]),
+        )
+    out.print(table)
+
+
+@app.command()
+def themes(
+    lam: Annotated[
+        float | None,
+        typer.Option(
+            "--lambda",
+            min=0.0,
+            max=1.0,
+            help="Relevance weight: 1 ranks by probability, 0 by lift (default 0.6).",
+        ),
+    ] = None,
+    terms: Annotated[int, typer.Option("--terms", min=1, help="Terms per theme.")] = 10,
+    version: Annotated[
+        int | None, typer.Option("--version", help="Version (default current).")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """The current version's themes: label, coverage, mean share, top terms, coherence."""
+    from talkthemes.versions import load_version
+
+    ws = _workspace(workspace)
+    ws.require()
+    v = load_version(ws, version)
+    lam = ws.settings().view.relevance_lambda if lam is None else lam
+    summary = v.summary(lam=lam, n_terms=terms)
+    if as_json:
+        _emit_json(
+            {"version": v.n, "family": v.info["family"], "k": v.k, "lambda": lam, "themes": summary}
+        )
+        return
+    out.print(
+        f"Version {v.n}: {v.info['family']} K={v.k}, {len(v.doc_ids):,} transcripts (λ = {lam:g})"
+    )
+    _print_themes(summary)
+
+
+@app.command()
+def label(
+    theme_id: Annotated[int, typer.Argument(help="Theme id (see 'talkthemes themes').")],
+    text: Annotated[str | None, typer.Argument(help="The label.")] = None,
+    note: Annotated[str | None, typer.Option("--note", help="A note kept with the label.")] = None,
+    hide: Annotated[
+        bool | None, typer.Option("--hide/--show", help="Hide the theme as noise, or show it.")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Set a theme's label, note, or hidden flag; kept across versions by theme id."""
+    ws = _workspace(workspace)
+    ws.require()
+    if text is None and note is None and hide is None:
+        raise ConfigError("give a label text, --note, --hide or --show")
+    with ws.store() as store:
+        row = store.set_label(theme_id, label=text, note=note, hidden=hide)
+    if as_json:
+        _emit_json(row)
+    else:
+        err.print(
+            f"Theme {theme_id}: label {row['label']!r}"
+            + (f", note {row['note']!r}" if row["note"] else "")
+            + (", hidden" if row["hidden"] else "")
+        )
+
+
+@app.command()
+def export(
+    out_path: Annotated[Path, typer.Option("--out", help="FILE.csv or FILE.parquet")],
+    version: Annotated[
+        int | None, typer.Option("--version", help="Version (default current).")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Write every transcript's lead theme, lead share and share per theme to CSV or Parquet."""
+    from talkthemes.versions import export_shares, load_version, write_table
+
+    ws = _workspace(workspace)
+    ws.require()
+    frame = export_shares(load_version(ws, version))
+    write_table(frame, out_path)
+    if as_json:
+        _emit_json({"out": str(out_path), "rows": len(frame), "columns": list(frame.columns)})
+    else:
+        err.print(f"Wrote {len(frame):,} transcripts to {out_path}.")
 
 
 # -- demo ----------------------------------------------------------------------------

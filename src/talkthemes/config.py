@@ -7,11 +7,12 @@ settings fail at load with one message naming the key, the value and what is all
 
 from __future__ import annotations
 
+import codecs
 import tomllib
 from pathlib import Path
 from typing import Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationError
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator
 
 from talkthemes.errors import ConfigError
 
@@ -100,6 +101,15 @@ class IngestSettings(_Section):
     follow_symlinks: bool = Field(
         True, description="Follow symbolic links inside folders (loops are detected and skipped)."
     )
+
+    @field_validator("encoding_fallback")
+    @classmethod
+    def _known_codec(cls, value: str) -> str:
+        try:
+            codecs.lookup(value)
+        except LookupError:
+            raise ValueError(f"unknown text encoding {value!r} (e.g. cp1252, latin-1)") from None
+        return value
 
 
 Roles = Literal["all", "customer", "agent"]
@@ -196,6 +206,13 @@ class SweepSettings(_Section):
         "frobenius", description="NMF loss: 'frobenius' (cd solver) or 'kullback-leibler' (mu)."
     )
     nmf_max_iter: int = Field(400, ge=1, description="NMF iteration limit.")
+    rank_by: Literal["c_npmi", "c_v", "c_uci", "u_mass"] = Field(
+        "c_npmi",
+        description=(
+            "Coherence measure the recommendation ranks K by (NPMI tracks human ratings best "
+            "in Lau et al. 2014)."
+        ),
+    )
     stability_min: float = Field(
         0.6,
         ge=0,

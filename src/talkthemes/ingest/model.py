@@ -12,7 +12,7 @@ __all__ = ["ROLES", "Reject", "Transcript", "Turn", "Warning_", "normalised_hash
 ROLES = ("agent", "customer", "unknown")
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(slots=True)
 class Turn:
     """One speaker turn.
 

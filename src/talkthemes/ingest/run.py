@@ -14,7 +14,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from talkthemes.ingest.detect import FORMATS, iter_files, read_file
+from talkthemes.ingest.detect import iter_files, read_file
 from talkthemes.ingest.manifest import read_manifest
 from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.store import Store
@@ -121,15 +121,6 @@ class _Batcher:
             r.rejects.append(rej)
 
 
-def _manifest_key(key: str) -> str:
-    """Manifest keys may be file names: strip a transcript extension to get the id."""
-    name = key.strip().replace("\\", "/").rsplit("/", 1)[-1]
-    stem, dot, ext = name.rpartition(".")
-    if dot and ext.lower() in FORMATS:
-        return stem
-    return name
-
-
 def ingest(
     workspace: Workspace,
     paths: Sequence[Path],
@@ -167,7 +158,7 @@ def ingest(
 
         for m in manifests:
             man = read_manifest(Path(m), settings)
-            entries = {_manifest_key(k): v for k, v in man.entries.items()}
+            entries = man.entries
             report.manifest_rows += len(entries)
             report.rejects.extend(man.rejects)
             report.warnings.extend(man.warnings)
