@@ -88,6 +88,22 @@ def test_status_without_workspace_is_usage_error(tmp_path: Path) -> None:
     assert "Traceback" not in out + err
 
 
+def test_manifest_inside_an_ingested_folder_is_not_read_as_transcripts(
+    tmp_path: Path, exports: Path
+) -> None:
+    code, out, _ = _run(
+        "ingest",
+        str(exports),
+        "--manifest",
+        str(exports / "manifest.csv"),
+        "--workspace",
+        str(tmp_path / "w"),
+        "--json",
+    )
+    assert code == 0, out
+    assert json.loads(out)["totals"]["added"] == 4
+
+
 def test_ingest_everything_and_report(tmp_path: Path, exports: Path) -> None:
     ws = tmp_path / "w"
     code, out, _ = _run(

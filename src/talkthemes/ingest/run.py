@@ -167,9 +167,11 @@ def ingest(
             store.set_metadata(entries)
 
         files: list[Path] = []
+        manifest_files = {Path(m).resolve() for m in manifests}
         for item in iter_files([Path(p) for p in paths], settings):
             if isinstance(item, Path):
-                files.append(item)
+                if item.resolve() not in manifest_files:  # a manifest is not a transcript table
+                    files.append(item)
             elif isinstance(item, Reject):
                 report.rejects.append(item)
                 report.tally(item.format, "rejected")
