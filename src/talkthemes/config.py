@@ -134,7 +134,7 @@ class PrepareSettings(_Section):
         ),
     )
     boilerplate_min_share: float = Field(
-        0.05,
+        0.15,
         ge=0,
         le=1,
         description=(
@@ -177,7 +177,9 @@ class PrepareSettings(_Section):
     )
     vocab_max_size: int = Field(20000, ge=10, description="Keep at most this many terms.")
     min_tokens: int = Field(
-        20, ge=1, description="Transcripts with fewer kept tokens are excluded from training."
+        20,
+        ge=1,
+        description="Transcripts with fewer tokens in the vocabulary are excluded from training.",
     )
     batch_size: int = Field(1000, ge=1, description="Transcripts read from the store per batch.")
     n_process: int = Field(0, ge=0, description="Worker processes for the chain; 0 = one per core.")

@@ -80,6 +80,9 @@ def atomic_dir(final: Path) -> Iterator[Path]:
     """
     final.parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(dir=final.parent, prefix=f".{final.name}.", suffix=".tmp"))
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(tmp, 0o777 & ~umask)  # mkdtemp makes 0700; a workspace folder is shared
     try:
         yield tmp
         if final.exists():

@@ -1,1 +1,30 @@
-"""The preprocessing chain that turns stored transcripts into a prepared corpus."""
+"""The preprocessing chain that turns stored transcripts into a prepared corpus.
+
+Steps, one module each: :mod:`.roles` → :mod:`.scrub` → :mod:`.boilerplate` →
+:mod:`.lemmas` → :mod:`.filter` → :mod:`.phrases` → :mod:`.vocabulary`. :mod:`.chain`
+composes the per-transcript steps and streams batches through them (on worker processes
+when ``n_process`` > 1); :mod:`.assemble` runs the corpus-wide steps; :mod:`.run` caches
+the result under ``prepared/<hash>/`` as a :class:`PreparedCorpus`; :mod:`.explain`
+reports what each step did.
+"""
+
+from __future__ import annotations
+
+from talkthemes.prepare.chain import STAGES, prepare_corpus
+from talkthemes.prepare.corpus import OOV, PreparedCorpus
+from talkthemes.prepare.explain import explain_json, explain_rows, render_explain
+from talkthemes.prepare.run import PrepareResult, compute_prep_hash, load_current, run_prepare
+
+__all__ = [
+    "OOV",
+    "STAGES",
+    "PrepareResult",
+    "PreparedCorpus",
+    "compute_prep_hash",
+    "explain_json",
+    "explain_rows",
+    "load_current",
+    "prepare_corpus",
+    "render_explain",
+    "run_prepare",
+]

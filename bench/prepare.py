@@ -1,0 +1,235 @@
+"""Benchmark of ``talkthemes prepare`` on the invented demo corpus (not a test).
+
+    python bench/prepare.py 20000
+    python bench/prepare.py 100000 --n-process 2
+
+Steps:
+
+1. Generate N demo calls (:func:`talkthemes.demo.iter_demo_calls`) and store them in a
+   temporary workspace (setup; timed but not part of prepare).
+2. In a fresh child process, run :func:`talkthemes.prepare.run_prepare` and time each
+   stage from its progress callback; peak memory is the child's (and its workers')
+   ``ru_maxrss``.
+3. In the same child, time each per-transcript step alone on a sample of the stored
+   transcripts (store read, roles, scrub, words + lemmas + filter; the word cache warm, as
+   it is after the first batches of a run), and the tokenisation of the same text by
+   ``spacy.blank(lang)`` alone.
+
+Throughput is given in transcripts/s and MB/s, where MB counts the UTF-8 bytes of the
+turns' text.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import resource
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+
+def _mb(texts: list[str]) -> float:
+    return sum(len(t.encode("utf-8")) for t in texts) / 1e6
+
+
+def setup(root: Path, n: int, seed: int, n_process: int) -> dict[str, float]:
+    """Create a workspace at ``root`` holding ``n`` demo calls."""
+    from talkthemes.config import PrepareSettings, Settings, render_settings
+    from talkthemes.demo import iter_demo_calls
+    from talkthemes.ingest.model import Transcript, Turn
+    from talkthemes.workspace import Workspace, atomic_write_text
+
+    ws = Workspace(root)
+    reuse = ws.exists()
+    ws.init()
+    settings = Settings(prepare=PrepareSettings(n_process=n_process))
+    atomic_write_text(ws.settings_path, render_settings(settings))
+    if reuse:  # a kept workspace: measure its text instead of generating it again
+        with ws.store() as store:
+            stored = store.count_transcripts()
+            nbytes = sum(
+                len(text.encode("utf-8"))
+                for batch in store.iter_turn_batches(2000)
+                for _, turns in batch
+                for _, text in turns
+            )
+        return {"seconds": 0.0, "mb": nbytes / 1e6, "stored": stored}
+    t0 = time.perf_counter()
+    nbytes = 0
+    batch: list[Transcript] = []
+    with ws.store() as store:
+        for call in iter_demo_calls(n, seed):
+            turns = [Turn(t.speaker, t.role, t.text) for t in call.turns]
+            nbytes += sum(len(t.text.encode("utf-8")) for t in turns)
+            batch.append(Transcript(call.call_id, turns, source=call.call_id, format="txt"))
+            if len(batch) == 2000:
+                store.add_transcripts(batch, None)
+                batch = []
+        if batch:
+            store.add_transcripts(batch, None)
+        stored = store.count_transcripts()
+    return {"seconds": time.perf_counter() - t0, "mb": nbytes / 1e6, "stored": stored}
+
+
+def measure(root: Path, sample: int, spacy_sample: int) -> dict:
+    """Run in the child process: prepare, then the per-step and spaCy timings."""
+    from talkthemes.prepare import run_prepare
+    from talkthemes.prepare.chain import build_processor
+    from talkthemes.prepare.roles import select_turns
+    from talkthemes.prepare.scrub import scrub
+    from talkthemes.workspace import Workspace
+
+    ws = Workspace(root)
+    marks: list[tuple[str, int, int, float]] = []
+    t0 = time.perf_counter()
+    result = run_prepare(
+        ws, force=True, progress=lambda s, d, t: marks.append((s, d, t, time.perf_counter()))
+    )
+    total = time.perf_counter() - t0
+    stages: dict[str, float] = {}
+    start = {}
+    for stage, _done, _total, at in marks:
+        start.setdefault(stage, at)
+        stages[stage] = at - start[stage]
+    peak_self = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    peak_children = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+
+    settings = ws.settings().prepare
+    processor = build_processor(settings)
+    steps: dict[str, float] = {}
+    with ws.store() as store:
+        t = time.perf_counter()
+        batches = []
+        got = 0
+        for b in store.iter_turn_batches(settings.batch_size):
+            batches.append(b)
+            got += len(b)
+            if got >= sample:
+                break
+        steps["store read"] = time.perf_counter() - t
+    calls = [c for b in batches for c in b][:sample]
+    raw = ["\n".join(text for _, text in turns) for _, turns in calls]
+    for batch in batches:  # warm the word cache, as it is after the first batches of a run
+        processor.process(batch)
+
+    t = time.perf_counter()
+    kept = ["\n".join(select_turns(turns, settings.roles)[0]) for _, turns in calls]
+    steps["roles"] = time.perf_counter() - t
+    t = time.perf_counter()
+    clean = [scrub(x)[0] for x in kept]
+    steps["scrub"] = time.perf_counter() - t
+    t = time.perf_counter()
+    for i in range(0, len(clean), settings.batch_size):
+        processor.encoder.encode(clean[i : i + settings.batch_size])
+    steps["sentences + words + lemmas + filter"] = time.perf_counter() - t
+    t = time.perf_counter()
+    for batch in batches:
+        processor.process(batch)
+    steps["all per-transcript steps (one process)"] = time.perf_counter() - t
+
+    import spacy
+
+    nlp = spacy.blank(settings.lang)
+    spacy_texts = raw[:spacy_sample]
+    t = time.perf_counter()
+    n_tokens = sum(len(doc) for doc in nlp.pipe(spacy_texts, batch_size=256))
+    spacy_seconds = time.perf_counter() - t
+    return {
+        "prep": result.prep_hash,
+        "summary": result.summary,
+        "total_seconds": total,
+        "stages": stages,
+        "peak_mb_main": peak_self,
+        "peak_mb_workers": peak_children,
+        "sample": len(calls),
+        "sample_mb": _mb(raw),
+        "steps": steps,
+        "spacy": {
+            "transcripts": len(spacy_texts),
+            "mb": _mb(spacy_texts),
+            "seconds": spacy_seconds,
+            "tokens": n_tokens,
+        },
+        "n_process": settings.n_process,
+        "cpus": os.cpu_count(),
+    }
+
+
+def _rate(n: float, mb: float, seconds: float) -> str:
+    if seconds <= 0:
+        return "—"
+    return f"{n / seconds:10,.0f} transcripts/s  {mb / seconds:7.2f} MB/s  ({seconds:7.2f} s)"
+
+
+def report(made: dict, got: dict) -> None:
+    mb, n = made["mb"], made["stored"]
+    print(f"demo corpus: {n:,} calls, {mb:.1f} MB of text, stored in {made['seconds']:.1f} s")
+    print(f"prepare: n_process = {got['n_process']} (0 = one per core), cpus = {got['cpus']}")
+    print(f"  total          {_rate(n, mb, got['total_seconds'])}")
+    for stage, seconds in got["stages"].items():
+        print(f"  {stage:<14} {_rate(n, mb, seconds)}")
+    print(
+        f"  peak memory: main process {got['peak_mb_main']:,.0f} MB, "
+        f"largest child process {got['peak_mb_workers']:,.0f} MB"
+    )
+    s = got["summary"]
+    print(
+        f"  result: {s['transcripts']:,} transcripts, {s['terms']:,} terms, "
+        f"{s['tokens']:,} tokens ({s['tokens_out_of_vocabulary']:,} out of vocabulary)"
+    )
+    k, kmb = got["sample"], got["sample_mb"]
+    print(f"per-transcript steps alone, one process, on {k:,} transcripts ({kmb:.1f} MB):")
+    for step, seconds in got["steps"].items():
+        print(f"  {step:<40} {_rate(k, kmb, seconds)}")
+    sp = got["spacy"]
+    spacy_mbs = sp["mb"] / sp["seconds"]
+    chain_mbs = mb / got["total_seconds"]
+    print(
+        f"spacy.blank tokenisation alone on {sp['transcripts']:,} of the same transcripts: "
+        f"{_rate(sp['transcripts'], sp['mb'], sp['seconds'])}"
+    )
+    print(f"whole chain vs spaCy tokenisation alone: {chain_mbs / spacy_mbs:.1f}x faster")
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("n", type=int, nargs="?", default=20_000, help="demo calls")
+    parser.add_argument("--seed", type=int, default=7)
+    parser.add_argument("--n-process", type=int, default=0, help="[prepare] n_process")
+    parser.add_argument("--sample", type=int, default=5_000, help="transcripts for step timings")
+    parser.add_argument("--spacy-sample", type=int, default=2_000, help="transcripts for spaCy")
+    parser.add_argument(
+        "--workspace", type=Path, help="keep the workspace here (reused when it exists)"
+    )
+    parser.add_argument("--child", type=Path, help=argparse.SUPPRESS)
+    args = parser.parse_args()
+    if args.child:
+        print(json.dumps(measure(args.child, args.sample, args.spacy_sample)))
+        return
+    with tempfile.TemporaryDirectory(prefix="tt-bench-") as tmp:
+        root = args.workspace or Path(tmp) / "ws"
+        made = setup(root, args.n, args.seed, args.n_process)
+        out = subprocess.run(
+            [
+                sys.executable,
+                __file__,
+                "--child",
+                str(root),
+                "--sample",
+                str(args.sample),
+                "--spacy-sample",
+                str(args.spacy_sample),
+            ],
+            check=True,
+            capture_output=True,
+            text=True,
+        )
+        report(made, json.loads(out.stdout.strip().splitlines()[-1]))
+
+
+if __name__ == "__main__":
+    main()

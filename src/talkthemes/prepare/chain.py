@@ -1,0 +1,438 @@
+"""The preprocessing chain: the steps composed, streamed over batches of transcripts.
+
+The chain runs in two phases.
+
+**Per transcript** (streamed, in worker processes when ``n_process`` > 1). Every step here
+is a function of one transcript's text: roles (:mod:`.roles`) → scrub (:mod:`.scrub`) →
+sentences (:mod:`.boilerplate`) → words, lemmas and the filter rule (:mod:`.lemmas`,
+:mod:`.filter`). A batch of transcripts becomes a :class:`BatchResult`: integer arrays only
+(kept term ids per sentence, a boilerplate key and step counts per sentence), so the main
+process never holds transcripts as objects beyond the batch being read.
+
+**Over the corpus** (numpy, in the main process). Each step takes the token table and
+returns a smaller one: boilerplate (drop sentences whose key is frequent; the keys were
+counted in the first phase, so no second read is needed) → phrases (:mod:`.phrases`) →
+vocabulary and minimum length (:mod:`.vocabulary`).
+
+:func:`prepare_corpus` runs both phases over any source of batches — the store, or the demo
+generator in ``bench/prepare.py`` — and returns the :class:`PreparedCorpus` with the data
+``prepare --explain`` shows.
+"""
+
+from __future__ import annotations
+
+import logging
+import multiprocessing
+import os
+import unicodedata
+from collections import deque
+from collections.abc import Callable, Iterable, Iterator, Sequence
+from concurrent.futures import Future, ProcessPoolExecutor
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+
+from talkthemes.config import PrepareSettings
+from talkthemes.prepare.assemble import Collected, ProgressFn, finish, report_progress
+from talkthemes.prepare.boilerplate import find_boilerplate, split_sentences
+from talkthemes.prepare.corpus import PreparedCorpus
+from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, load_fillers
+from talkthemes.prepare.lemmas import (
+    FastLemmatizer,
+    SpacyLemmatizer,
+    load_lemma_table,
+    spacy_stop_words,
+    words,
+)
+from talkthemes.prepare.roles import select_turns
+from talkthemes.prepare.scrub import scrub
+
+__all__ = [
+    "MIN_TERMS",
+    "MIN_TRANSCRIPTS",
+    "STAGES",
+    "Batch",
+    "BatchResult",
+    "ProgressFn",
+    "TranscriptProcessor",
+    "build_processor",
+    "prepare_corpus",
+    "resolve_processes",
+]
+
+logger = logging.getLogger(__name__)
+
+#: One batch from the store: ``(transcript id, [(role, text), ...])`` per transcript.
+Batch = Sequence[tuple[str, Sequence[tuple[str, str]]]]
+
+#: Stages reported to the progress callback, in order. ``read`` counts transcripts
+#: (total = the number stored); the others report (0, 1) when they start and (1, 1)
+#: when they end.
+STAGES: tuple[str, ...] = ("read", "boilerplate", "phrases", "vocabulary")
+
+#: Worker processes are used only when each gets at least this many batches.
+_MIN_BATCHES_PER_WORKER = 2
+
+#: Fewer terms than this left after the vocabulary step stops the chain.
+MIN_TERMS = 50
+#: Fewer usable transcripts than this stops the chain.
+MIN_TRANSCRIPTS = 20
+
+
+def resolve_processes(n_process: int) -> int:
+    """The number of worker processes for ``[prepare] n_process`` (0 = one per core)."""
+    if n_process > 0:
+        return n_process
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # pragma: no cover - not Linux
+        return max(1, os.cpu_count() or 1)
+
+
+def _nfc(text: str) -> str:
+    if text.isascii() or unicodedata.is_normalized("NFC", text):
+        return text
+    return unicodedata.normalize("NFC", text)
+
+
+@dataclass
+class BatchResult:
+    """The per-transcript phase's output for one batch (integer arrays, picklable).
+
+    ``S`` is the number of sentences with at least one word, ``K`` the kept tokens.
+    """
+
+    tids: list[str]
+    doc_sentences: NDArray[np.int32]  # (D,) sentences per transcript
+    doc_roles_removed: NDArray[np.int32]  # (D,) words in turns dropped by roles
+    doc_scrub_removed: NDArray[np.int32]  # (D,) words removed by scrub
+    turns: int
+    turns_dropped: int
+    sent_words: NDArray[np.int32]  # (S,)
+    sent_keys: NDArray[np.int64]  # (S,) boilerplate key, 0 = too short
+    sent_stats: NDArray[np.int32]  # (S, len(STAT_COLUMNS))
+    sent_kept: NDArray[np.int32]  # (S,) kept tokens
+    ids: NDArray[np.int32]  # (K,) kept tokens as indices into ``types``
+    types: list[str]
+    scrub_counts: dict[str, int] = field(default_factory=dict)
+    key_texts: dict[int, str] = field(default_factory=dict)
+
+
+class TranscriptProcessor:
+    """The per-transcript steps, composed.
+
+    Parameters
+    ----------
+    encoder : FastLemmatizer or SpacyLemmatizer
+        Words, lemmas and the filter rule.
+    roles : str
+        ``[prepare] roles``.
+    scrub : bool
+        ``[prepare] scrub``.
+    boilerplate_min_share : float
+        Used only to decide which sentence texts a batch reports with their keys.
+    """
+
+    def __init__(
+        self,
+        encoder: FastLemmatizer | SpacyLemmatizer,
+        *,
+        roles: str = "all",
+        scrub: bool = True,
+        boilerplate_min_share: float = 0.05,
+    ) -> None:
+        self.encoder = encoder
+        self.roles = roles
+        self.scrub = scrub
+        self.boilerplate_min_share = boilerplate_min_share
+        self._reported: set[int] = set()  # keys whose text this process already reported
+
+    @property
+    def lang(self) -> str:
+        return self.encoder.lang
+
+    def text(
+        self, turns: Sequence[tuple[str, str]], counts: dict[str, int] | None = None
+    ) -> tuple[str, int, int, int]:
+        """Roles and scrub for one transcript.
+
+        Returns
+        -------
+        text : str
+            The kept turns, scrubbed, one per line.
+        turns_dropped : int
+        roles_removed : int
+            Words in the dropped turns.
+        scrub_removed : int
+            Words removed by scrub.
+        """
+        lang = self.lang
+        kept, dropped = select_turns(turns, self.roles)
+        roles_removed = sum(len(words(t, lang)) for t in dropped)
+        text = _nfc("\n".join(kept))
+        scrub_removed = 0
+        if self.scrub:
+            text, scrub_removed = scrub(text, counts)
+        return text, len(dropped), roles_removed, scrub_removed
+
+    def process(self, batch: Batch) -> BatchResult:
+        """Run the per-transcript steps over one batch."""
+        tids: list[str] = []
+        roles_removed: list[int] = []
+        scrub_removed: list[int] = []
+        texts: list[str] = []
+        counts: dict[str, int] = {}
+        turns = dropped = 0
+        for tid, tturns in batch:
+            text, n_dropped, r_removed, s_removed = self.text(tturns, counts)
+            tids.append(tid)
+            texts.append(text)
+            roles_removed.append(r_removed)
+            scrub_removed.append(s_removed)
+            turns += len(tturns)
+            dropped += n_dropped
+        enc = self.encoder.encode(texts)
+        codes = enc.codes
+        lengths = np.asarray(enc.lengths, dtype=np.int64)
+        keys = np.asarray(enc.keys, dtype=np.int64)
+        doc_sentences = np.asarray(enc.n_sentences, dtype=np.int64)
+        sent_doc = np.repeat(np.arange(len(tids)), doc_sentences)
+        n_sentences = int(lengths.size)
+
+        tok_sent = np.repeat(np.arange(n_sentences), lengths)
+        kept = codes >= 0
+        column = np.where(kept, np.where(codes & 1, LEMMATISED, -1), -codes)
+        counted = column >= 0
+        width = len(STAT_COLUMNS)
+        stats = np.bincount(
+            tok_sent[counted] * width + column[counted], minlength=n_sentences * width
+        ).reshape(n_sentences, width)
+        stats[:, 0] = lengths
+        sent_kept = np.bincount(tok_sent[kept], minlength=n_sentences)
+        local = codes[kept] >> 1
+        uniq, inverse = np.unique(local, return_inverse=True)
+        types = [self.encoder.types[i] for i in uniq.tolist()]
+
+        return BatchResult(
+            tids=tids,
+            doc_sentences=doc_sentences.astype(np.int32),
+            doc_roles_removed=np.asarray(roles_removed, dtype=np.int32),
+            doc_scrub_removed=np.asarray(scrub_removed, dtype=np.int32),
+            turns=turns,
+            turns_dropped=dropped,
+            sent_words=lengths.astype(np.int32),
+            sent_keys=keys,
+            sent_stats=stats.astype(np.int32),
+            sent_kept=sent_kept.astype(np.int32),
+            ids=inverse.astype(np.int32).ravel(),
+            types=types,
+            scrub_counts=counts,
+            key_texts=self._repeated_texts(texts, sent_doc, keys),
+        )
+
+    def find_texts(self, keys: set[int], source: Callable[[], Iterable[Batch]]) -> dict[int, str]:
+        """Normalised texts of boilerplate keys, by reading the source again.
+
+        Needed only for keys that no batch reported (see :meth:`process`); stops as soon as
+        every key is found.
+        """
+        missing = set(keys)
+        found: dict[int, str] = {}
+        if not missing:
+            return found
+        logger.info("reading the transcripts again for %d boilerplate sentence(s)", len(missing))
+        for batch in source():
+            for _, turns in batch:
+                for sentence in split_sentences(self.text(turns)[0]):
+                    ws = words(sentence, self.lang)
+                    key = self.encoder.key(ws)
+                    if key in missing:
+                        found[key] = " ".join(ws).lower()
+                        missing.discard(key)
+                if not missing:
+                    return found
+        return found
+
+    def _repeated_texts(
+        self, texts: list[str], sent_doc: NDArray[np.int64], keys: NDArray[np.int64]
+    ) -> dict[int, str]:
+        """Normalised text of the keys frequent enough in this batch to be boilerplate.
+
+        A key whose share over the whole corpus reaches ``boilerplate_min_share`` reaches
+        it in at least one batch, so the main process rarely needs to read again.
+        """
+        if self.boilerplate_min_share <= 0 or keys.size == 0:
+            return {}
+        n_docs = int(np.count_nonzero(np.bincount(sent_doc, minlength=len(texts))))
+        need = max(2, int(np.ceil(self.boilerplate_min_share * n_docs - 1e-9)))
+        keys_df, df = find_boilerplate(sent_doc, keys, n_docs, 1e-12)
+        wanted = {
+            k
+            for k, d in zip(keys_df.tolist(), df.tolist(), strict=True)
+            if d >= need and k not in self._reported
+        }
+        doc_of: dict[int, int] = {}
+        for k, d in zip(keys.tolist(), sent_doc.tolist(), strict=True):
+            if k in wanted and k not in doc_of:
+                doc_of[k] = d
+        out: dict[int, str] = {}
+        for k, d in doc_of.items():
+            for sentence in split_sentences(texts[d]):
+                if self.encoder.key(words(sentence, self.lang)) == k:
+                    out[k] = normalised_sentence(sentence, self.lang)
+                    break
+        self._reported.update(out)
+        return out
+
+
+def normalised_sentence(sentence: str, lang: str) -> str:
+    """A sentence as the boilerplate step compares it: its words, lowercased, one space apart."""
+    return " ".join(words(sentence, lang)).lower()
+
+
+def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
+    """Load the language resources and compose the per-transcript steps for ``settings``.
+
+    Raises
+    ------
+    ConfigError
+        When the language has no lemma table, or the configured pipeline is not installed.
+    """
+    lang = settings.lang
+    token_filter = TokenFilter.build(
+        min_length=settings.min_token_length,
+        stop_words=spacy_stop_words(lang),
+        fillers=load_fillers(lang) if settings.fillers else (),
+        user_stop_words=settings.extra_stop_words,
+    )
+    encoder: FastLemmatizer | SpacyLemmatizer
+    if settings.pipeline:
+        encoder = SpacyLemmatizer.load(
+            settings.pipeline,
+            token_filter,
+            lang=lang,
+            pos_keep=settings.pos_keep,
+            batch_size=settings.batch_size,
+            n_process=resolve_processes(settings.n_process),
+            min_words=settings.boilerplate_min_words,
+        )
+    else:
+        encoder = FastLemmatizer(
+            load_lemma_table(lang), token_filter, lang, settings.boilerplate_min_words
+        )
+    return TranscriptProcessor(
+        encoder,
+        roles=settings.roles,
+        scrub=settings.scrub,
+        boilerplate_min_share=settings.boilerplate_min_share,
+    )
+
+
+# -- the per-transcript phase, serial or on a process pool ----------------------------------
+_WORKER: TranscriptProcessor | None = None
+
+
+def _init_worker(processor: TranscriptProcessor) -> None:
+    global _WORKER
+    _WORKER = processor
+
+
+def _work(batch: Batch) -> BatchResult:
+    assert _WORKER is not None
+    return _WORKER.process(batch)
+
+
+def _map_batches(
+    processor: TranscriptProcessor, batches: Iterable[Batch], n_process: int
+) -> Iterator[BatchResult]:
+    if n_process <= 1 or isinstance(processor.encoder, SpacyLemmatizer):
+        for batch in batches:
+            yield processor.process(batch)
+        return
+    # forkserver: workers start from a clean server process (no threads of the caller are
+    # copied), which imports this module once; the processor with its tables is sent to
+    # each worker once. Callers from a script need the usual ``if __name__ == "__main__"``.
+    methods = multiprocessing.get_all_start_methods()
+    if "forkserver" in methods:
+        ctx = multiprocessing.get_context("forkserver")
+        ctx.set_forkserver_preload([__name__])
+    else:  # pragma: no cover - not Linux
+        ctx = multiprocessing.get_context("spawn")
+    pool = ProcessPoolExecutor(
+        max_workers=n_process, mp_context=ctx, initializer=_init_worker, initargs=(processor,)
+    )
+    pending: deque[Future[BatchResult]] = deque()
+    try:
+        for batch in batches:
+            pending.append(pool.submit(_work, list(batch)))
+            if len(pending) >= 2 * n_process:
+                yield pending.popleft().result()
+        while pending:
+            yield pending.popleft().result()
+    finally:
+        pool.shutdown(wait=True, cancel_futures=True)
+
+
+def prepare_corpus(
+    source: Callable[[], Iterable[Batch]],
+    settings: PrepareSettings,
+    *,
+    total: int | None = None,
+    progress: ProgressFn | None = None,
+    processor: TranscriptProcessor | None = None,
+    min_terms: int = MIN_TERMS,
+    min_transcripts: int = MIN_TRANSCRIPTS,
+) -> tuple[PreparedCorpus, dict[str, Any]]:
+    """Run the whole chain over a source of transcript batches.
+
+    Parameters
+    ----------
+    source : callable returning an iterable of Batch
+        Called once for the pass over the corpus (batches of ``(tid, [(role, text), ...])``
+        in a stable order); called again only in the rare case that the text of a
+        boilerplate sentence was not reported by any batch.
+    settings : PrepareSettings
+    total : int, optional
+        Number of transcripts the source yields (for progress).
+    progress : callable, optional
+        ``progress(stage, done, total)``; see :data:`STAGES`.
+    processor : TranscriptProcessor, optional
+        The per-transcript steps; built from ``settings`` when omitted.
+    min_terms, min_transcripts : int
+        The chain stops with :class:`InputError` when fewer terms or usable transcripts
+        are left.
+
+    Returns
+    -------
+    corpus : PreparedCorpus
+        ``info`` holds the counts; the caller adds settings, hash and versions.
+    explain : dict
+        What each step removed or joined (see :mod:`talkthemes.prepare.explain`).
+
+    Raises
+    ------
+    InputError
+        When too few terms or transcripts are left, naming the setting to relax.
+    ConfigError
+        When the language or pipeline cannot be loaded.
+    """
+    processor = processor or build_processor(settings)
+    n_process = resolve_processes(settings.n_process)
+    total = total or 0
+    if total and total <= _MIN_BATCHES_PER_WORKER * n_process * settings.batch_size:
+        n_process = 1  # starting workers would cost more than it saves
+    report_progress(progress, "read", 0, total)
+    col = Collected()
+    for res in _map_batches(processor, source(), n_process):
+        col.add(res)
+        report_progress(progress, "read", len(col.tids), max(total, len(col.tids)))
+    return finish(
+        col,
+        settings,
+        texts_for=lambda keys: processor.find_texts(keys, source),
+        progress=progress,
+        min_terms=min_terms,
+        min_transcripts=min_transcripts,
+    )

@@ -1,0 +1,227 @@
+"""``prepare --explain``: what each step removed or joined, and why.
+
+The chain returns its report as a plain dict (written to ``prepared/<hash>/explain.json``).
+This module turns it into rows for a table (:func:`explain_rows`), the JSON document of
+``prepare --json`` (:func:`explain_json`) and a terminal rendering with rich
+(:func:`render_explain`).
+
+The report, by key:
+
+``transcripts``
+    ``read``, ``usable``, ``excluded``.
+``roles``
+    ``setting``, ``turns``, ``turns_dropped``, ``words_removed``, ``emptied``.
+``scrub``
+    ``removed`` (count per kind: email, url, phone, card, number, tag), ``words_removed``,
+    ``emptied``.
+``boilerplate``
+    ``sentences`` (each ``sentence``, ``transcripts``, ``share``), ``sentences_removed``,
+    ``words_removed``, ``emptied``.
+``lemmas``
+    ``path``, ``lang``, ``words``, ``tokens_lemmatised``, ``terms``.
+``filter``
+    ``removed`` (tokens per reason), ``tokens_removed``, ``tokens_kept``, ``emptied``.
+``phrases``
+    ``phrases`` (joined at least once), ``tokens_joined``, ``top`` (30 most frequent:
+    ``phrase``, ``count``, ``npmi``).
+``vocabulary``
+    ``before``, ``after``, ``removed`` (per cut), ``tokens_out_of_vocabulary``, ``emptied``.
+``min_tokens``
+    ``setting``, ``excluded``.
+``excluded``
+    Every excluded transcript: ``id`` and ``reason``.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:  # pragma: no cover
+    from rich.console import Console
+
+    from talkthemes.prepare.run import PrepareResult
+
+__all__ = ["explain_json", "explain_rows", "render_explain"]
+
+
+def _n(value: Any) -> str:
+    return f"{int(value):,}"
+
+
+def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
+    """One row per step: what it removed or joined.
+
+    Parameters
+    ----------
+    explain : dict
+        The chain's report.
+
+    Returns
+    -------
+    list of dict
+        Keys ``step``, ``removed`` (words or tokens removed, or joined for phrases),
+        ``emptied`` (transcripts left with nothing by this step) and ``details``.
+    """
+    rows: list[dict[str, str]] = []
+    r = explain["roles"]
+    rows.append(
+        {
+            "step": "roles",
+            "removed": f"{_n(r['words_removed'])} words",
+            "emptied": _n(r["emptied"]),
+            "details": f"roles = {r['setting']}: {_n(r['turns_dropped'])} of "
+            f"{_n(r['turns'])} turns dropped",
+        }
+    )
+    s = explain["scrub"]
+    kinds = ", ".join(f"{k} {_n(v)}" for k, v in s["removed"].items() if v)
+    rows.append(
+        {
+            "step": "scrub",
+            "removed": f"{_n(s['words_removed'])} words",
+            "emptied": _n(s["emptied"]),
+            "details": (kinds or "nothing found") if s["enabled"] else "off",
+        }
+    )
+    b = explain["boilerplate"]
+    rows.append(
+        {
+            "step": "boilerplate",
+            "removed": f"{_n(b['words_removed'])} words",
+            "emptied": _n(b["emptied"]),
+            "details": f"{len(b['sentences'])} sentences in ≥ {b['min_share']:.0%} of "
+            f"transcripts; {_n(b['sentences_removed'])} occurrences dropped"
+            if b["min_share"] > 0
+            else "off",
+        }
+    )
+    lem = explain["lemmas"]
+    rows.append(
+        {
+            "step": "lemmas",
+            "removed": "0",
+            "emptied": "0",
+            "details": f"{lem['path']} ({lem['lang']}): {_n(lem['tokens_lemmatised'])} kept "
+            f"tokens changed form; {_n(lem['terms'])} distinct terms",
+        }
+    )
+    f = explain["filter"]
+    reasons = ", ".join(f"{k} {_n(v)}" for k, v in f["removed"].items() if v)
+    rows.append(
+        {
+            "step": "filter",
+            "removed": f"{_n(f['tokens_removed'])} tokens",
+            "emptied": _n(f["emptied"]),
+            "details": f"{reasons}; {_n(f['tokens_kept'])} tokens kept",
+        }
+    )
+    p = explain["phrases"]
+    rows.append(
+        {
+            "step": "phrases",
+            "removed": f"{_n(p['tokens_joined'])} pairs joined",
+            "emptied": "0",
+            "details": f"{_n(p['phrases'])} phrases" if p["enabled"] else "off",
+        }
+    )
+    v = explain["vocabulary"]
+    cuts = ", ".join(f"{k.replace('_', ' ')} {_n(n)}" for k, n in v["removed"].items() if n)
+    rows.append(
+        {
+            "step": "vocabulary",
+            "removed": f"{_n(v['tokens_out_of_vocabulary'])} tokens out of vocabulary",
+            "emptied": _n(v["emptied"]),
+            "details": f"{_n(v['before'])} → {_n(v['after'])} terms"
+            + (f" (removed: {cuts})" if cuts else ""),
+        }
+    )
+    m = explain["min_tokens"]
+    rows.append(
+        {
+            "step": "min_tokens",
+            "removed": f"{_n(m['excluded'])} transcripts",
+            "emptied": "",
+            "details": f"fewer than {m['setting']} vocabulary tokens",
+        }
+    )
+    return rows
+
+
+def explain_json(result: PrepareResult) -> dict[str, Any]:
+    """The JSON document ``prepare --json`` prints.
+
+    Parameters
+    ----------
+    result : PrepareResult
+
+    Returns
+    -------
+    dict
+        ``prep`` (hash), ``cached``, ``path``, ``summary`` and ``explain``.
+    """
+    return {
+        "prep": result.prep_hash,
+        "cached": result.cached,
+        "path": str(result.path),
+        "summary": result.summary,
+        "explain": result.explain,
+    }
+
+
+def render_explain(console: Console, explain: dict[str, Any], *, max_excluded: int = 20) -> None:
+    """Print the report as tables.
+
+    Parameters
+    ----------
+    console : rich.console.Console
+    explain : dict
+        The chain's report.
+    max_excluded : int
+        Excluded transcripts listed by id (the rest are counted).
+    """
+    from rich.markup import escape
+    from rich.table import Table
+
+    t = explain["transcripts"]
+    steps = Table(
+        title=f"prepare: {_n(t['read'])} transcripts read, {_n(t['usable'])} used, "
+        f"{_n(t['excluded'])} excluded"
+    )
+    steps.add_column("step")
+    steps.add_column("removed", justify="right")
+    steps.add_column("transcripts emptied", justify="right")
+    steps.add_column("details")
+    for row in explain_rows(explain):
+        steps.add_row(row["step"], row["removed"], row["emptied"], escape(row["details"]))
+    console.print(steps)
+
+    sentences = explain["boilerplate"]["sentences"]
+    if sentences:
+        table = Table(title="boilerplate sentences dropped")
+        table.add_column("sentence (normalised)")
+        table.add_column("transcripts", justify="right")
+        table.add_column("share", justify="right")
+        for s in sentences:
+            table.add_row(escape(s["sentence"]), _n(s["transcripts"]), f"{s['share']:.1%}")
+        console.print(table)
+
+    top = explain["phrases"].get("top", [])
+    if top:
+        table = Table(title=f"{len(top)} most frequent phrases")
+        table.add_column("phrase")
+        table.add_column("count", justify="right")
+        table.add_column("NPMI", justify="right")
+        for p in top:
+            table.add_row(escape(p["phrase"]), _n(p["count"]), f"{p['npmi']:.3f}")
+        console.print(table)
+
+    excluded = explain.get("excluded", [])
+    if excluded:
+        table = Table(title=f"{_n(len(excluded))} transcripts excluded from training")
+        table.add_column("transcript")
+        table.add_column("reason")
+        for e in excluded[:max_excluded]:
+            table.add_row(escape(e["id"]), escape(e["reason"]))
+        if len(excluded) > max_excluded:
+            table.add_row(f"… and {_n(len(excluded) - max_excluded)} more", "")
+        console.print(table)

@@ -1,0 +1,205 @@
+"""Step 6, phrases: join collocations such as ``late_fee`` into one term.
+
+Scoring is gensim's ``Phrases`` with ``scoring="npmi"``: for a pair of adjacent terms
+*a b*, with *N* the number of tokens the model was trained on,
+
+    NPMI(a, b) = ln( P(a,b) / (P(a) P(b)) ) / -ln P(a,b),   P(x) = count(x) / N
+
+(Bouma 2009), which lies in [-1, 1]. A pair seen at least ``phrase_min_count`` times whose
+NPMI exceeds ``phrase_threshold`` becomes a phrase. The model is trained once on the whole
+corpus (after boilerplate and stop words are gone), frozen (gensim's ``FrozenPhrases``) and
+applied to every transcript. Pairs never span a sentence or turn boundary.
+
+How the work is split: unigram and bigram counts are taken with numpy over the integer token
+stream (the same counts gensim's ``Phrases.add_vocab`` collects, without its vocabulary
+pruning); only bigrams that can pass ``min_count`` are handed to a gensim ``Phrases`` model,
+whose ``freeze()`` scores them with gensim's own ``npmi_scorer``. Applying the frozen model
+follows gensim's ``analyze_sentence`` exactly (left to right; a joined pair is not reused),
+vectorised over the token stream. ``tests/prepare/test_phrases.py`` checks the result
+against gensim trained and applied the ordinary way.
+
+References
+----------
+Bouma, G. (2009). Normalized (pointwise) mutual information in collocation extraction.
+Proceedings of the Biennial GSCL Conference 2009, 31–40.
+Mikolov, T., Sutskever, I., Chen, K., Corrado, G., Dean, J. (2013). Distributed
+representations of words and phrases and their compositionality. NIPS 2013.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+
+__all__ = ["DELIMITER", "PhraseModel", "apply_phrases", "learn_phrases", "unit_bigrams"]
+
+DELIMITER = "_"
+
+
+@dataclass(frozen=True)
+class PhraseModel:
+    """A frozen phrase model over term ids.
+
+    Attributes
+    ----------
+    pairs : ndarray of int64, shape (P, 2)
+        Term ids of each phrase's first and second word.
+    scores : ndarray of float64, shape (P,)
+        NPMI of each phrase.
+    names : list of str
+        ``first_second``, as gensim writes them.
+    bigram_counts : ndarray of int64, shape (P,)
+        Occurrences of each pair in the training stream.
+    """
+
+    pairs: NDArray[np.int64]
+    scores: NDArray[np.float64]
+    names: list[str]
+    bigram_counts: NDArray[np.int64]
+
+    def __len__(self) -> int:
+        return len(self.names)
+
+
+def unit_bigrams(
+    tokens: NDArray[np.integer], lengths: NDArray[np.integer]
+) -> tuple[NDArray[np.int64], NDArray[np.int64], NDArray[np.bool_]]:
+    """Adjacent token pairs that lie inside one unit (sentence).
+
+    Returns
+    -------
+    first, second : ndarray of int64, shape (n - 1,)
+        ``tokens[i]`` and ``tokens[i + 1]``.
+    inside : ndarray of bool, shape (n - 1,)
+        True when both belong to the same unit.
+    """
+    n = int(tokens.size)
+    if n < 2:
+        z = np.zeros(0, dtype=np.int64)
+        return z, z, np.zeros(0, dtype=bool)
+    unit = np.repeat(np.arange(lengths.size), lengths)
+    inside = unit[1:] == unit[:-1]
+    t = tokens.astype(np.int64, copy=False)
+    return t[:-1], t[1:], inside
+
+
+def learn_phrases(
+    tokens: NDArray[np.integer],
+    lengths: NDArray[np.integer],
+    types: list[str],
+    *,
+    threshold: float,
+    min_count: int,
+) -> tuple[PhraseModel, Any]:
+    """Train gensim's NPMI phrase model on a token stream and freeze it.
+
+    Parameters
+    ----------
+    tokens : ndarray of int, shape (n,)
+        Term ids, units (sentences) one after another.
+    lengths : ndarray of int, shape (U,)
+        Tokens per unit; sums to n.
+    types : list of str
+        Term strings by id (alphabetic, so they never contain :data:`DELIMITER`).
+    threshold : float
+        NPMI a pair must exceed (gensim ``threshold``).
+    min_count : int
+        Occurrences a pair needs (gensim ``min_count``).
+
+    Returns
+    -------
+    model : PhraseModel
+    frozen : gensim.models.phrases.FrozenPhrases
+        The frozen gensim model (phrase strings → scores in ``phrasegrams``).
+    """
+    from gensim.models.phrases import Phrases
+
+    n_types = len(types)
+    first, second, inside = unit_bigrams(tokens, lengths)
+    keys = first[inside] * n_types + second[inside]
+    uniq, counts = np.unique(keys, return_counts=True)
+    keep = counts >= min_count
+    uniq, counts = uniq[keep], counts[keep]
+    unigram = np.bincount(np.asarray(tokens, dtype=np.int64), minlength=n_types)
+
+    model = Phrases(min_count=min_count, threshold=threshold, scoring="npmi", delimiter=DELIMITER)
+    vocab: dict[str, int] = {}
+    by_name: dict[str, tuple[int, int, int]] = {}
+    for key, count in zip(uniq.tolist(), counts.tolist(), strict=True):
+        a, b = divmod(key, n_types)
+        name = f"{types[a]}{DELIMITER}{types[b]}"
+        vocab[types[a]] = int(unigram[a])
+        vocab[types[b]] = int(unigram[b])
+        vocab[name] = count
+        by_name[name] = (a, b, count)
+    model.vocab = vocab
+    model.corpus_word_count = int(tokens.size)
+    frozen = model.freeze()
+
+    names = sorted(frozen.phrasegrams)
+    pairs = np.array([by_name[n][:2] for n in names], dtype=np.int64).reshape(-1, 2)
+    scores = np.array([frozen.phrasegrams[n] for n in names], dtype=np.float64)
+    bigram_counts = np.array([by_name[n][2] for n in names], dtype=np.int64)
+    return PhraseModel(pairs, scores, names, bigram_counts), frozen
+
+
+def apply_phrases(
+    tokens: NDArray[np.integer],
+    lengths: NDArray[np.integer],
+    model: PhraseModel,
+    n_types: int,
+) -> tuple[NDArray[np.int32], NDArray[np.int64], NDArray[np.int64]]:
+    """Join the model's phrases in a token stream, as gensim's ``FrozenPhrases`` does.
+
+    Left to right, a pair that is a phrase becomes one token with id ``n_types + p``
+    (``p`` = the phrase's index in ``model``); its second word cannot start another
+    phrase.
+
+    Parameters
+    ----------
+    tokens : ndarray of int, shape (n,)
+    lengths : ndarray of int, shape (U,)
+        Tokens per unit; pairs never span units.
+    model : PhraseModel
+    n_types : int
+        Number of term ids in use before phrases.
+
+    Returns
+    -------
+    tokens : ndarray of int32
+        The new stream.
+    lengths : ndarray of int64
+        The new tokens per unit.
+    joined : ndarray of int64, shape (P,)
+        Times each phrase was joined.
+    """
+    tokens = np.asarray(tokens)
+    lengths = np.asarray(lengths, dtype=np.int64)
+    joined = np.zeros(len(model), dtype=np.int64)
+    if len(model) == 0 or tokens.size < 2:
+        return tokens.astype(np.int32), lengths.copy(), joined
+    first, second, inside = unit_bigrams(tokens, lengths)
+    keys = first * n_types + second
+    model_keys = model.pairs[:, 0] * n_types + model.pairs[:, 1]
+    order = np.argsort(model_keys)
+    sorted_keys = model_keys[order]
+    at = np.minimum(np.searchsorted(sorted_keys, keys), sorted_keys.size - 1)
+    hit = inside & (sorted_keys[at] == keys)
+    # gensim's greedy pass: within a run of consecutive hits, take every other one.
+    pos = np.arange(hit.size)
+    run_start = hit.copy()
+    run_start[1:] &= ~hit[:-1]
+    last_start = np.maximum.accumulate(np.where(run_start, pos, -1))
+    take = hit & ((pos - last_start) % 2 == 0)
+    phrase = order[at[take]]
+    out = tokens.astype(np.int32, copy=True)
+    out[:-1][take] = (n_types + phrase).astype(np.int32)
+    drop = np.zeros(tokens.size, dtype=bool)
+    drop[1:][take] = True
+    unit = np.repeat(np.arange(lengths.size), lengths)
+    new_lengths = lengths - np.bincount(unit[:-1][take], minlength=lengths.size)
+    joined = np.bincount(phrase, minlength=len(model)).astype(np.int64)
+    return out[~drop], new_lengths, joined

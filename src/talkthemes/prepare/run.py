@@ -1,0 +1,216 @@
+"""``talkthemes prepare``: run the chain on a workspace's store, cached by a hash.
+
+The prep hash covers everything that can change the result: the ``[prepare]`` settings
+(except ``batch_size`` and ``n_process``, which only change how fast it runs), the set of
+stored transcripts (:meth:`Store.corpus_fingerprint`), the versions of spaCy,
+spacy-lookups-data and gensim, the shipped fillers list of the language, and
+:data:`CHAIN_VERSION`. When ``prepared/<hash>/`` already exists, the run returns it at once
+(``cached = True``) without reading a transcript.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+import json
+import logging
+from dataclasses import dataclass, field
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+from talkthemes.config import PrepareSettings
+from talkthemes.errors import NotReadyError, StoreError
+from talkthemes.prepare.assemble import ProgressFn, report_progress
+from talkthemes.prepare.chain import build_processor, prepare_corpus
+from talkthemes.prepare.corpus import FILES, PreparedCorpus, library_versions
+from talkthemes.workspace import Workspace, atomic_dir
+
+__all__ = [
+    "CHAIN_VERSION",
+    "EXPLAIN_FILE",
+    "PrepareResult",
+    "compute_prep_hash",
+    "load_current",
+    "run_prepare",
+]
+
+logger = logging.getLogger(__name__)
+
+#: Bumped whenever a change to the chain's code changes its output.
+CHAIN_VERSION = "1"
+EXPLAIN_FILE = "explain.json"
+#: Settings that change speed only, left out of the hash.
+_SPEED_ONLY = frozenset({"batch_size", "n_process"})
+
+
+@dataclass
+class PrepareResult:
+    """What :func:`run_prepare` did.
+
+    Attributes
+    ----------
+    prep_hash : str
+    path : Path
+        ``prepared/<hash>/``.
+    summary : dict
+        Counts (:meth:`PreparedCorpus.summary`).
+    cached : bool
+        True when an existing prep with the same hash was returned unchanged.
+    explain : dict
+        What each step removed or joined (see :mod:`talkthemes.prepare.explain`).
+    """
+
+    prep_hash: str
+    path: Path
+    summary: dict[str, Any]
+    cached: bool
+    explain: dict[str, Any] = field(default_factory=dict)
+
+
+def _fillers_digest(lang: str) -> str:
+    path = resources.files("talkthemes").joinpath("data", f"fillers_{lang}.txt")
+    data = path.read_bytes() if path.is_file() else b""
+    return hashlib.sha256(data).hexdigest()[:16]
+
+
+def hashed_settings(settings: PrepareSettings) -> dict[str, Any]:
+    """The ``[prepare]`` settings that the hash covers (all but the speed-only ones)."""
+    return {k: v for k, v in settings.model_dump().items() if k not in _SPEED_ONLY}
+
+
+def compute_prep_hash(
+    settings: PrepareSettings, corpus_fingerprint: str, versions: dict[str, str] | None = None
+) -> str:
+    """The prep hash (16 hex digits) of settings, transcript set and library versions.
+
+    Parameters
+    ----------
+    settings : PrepareSettings
+    corpus_fingerprint : str
+        :meth:`Store.corpus_fingerprint`.
+    versions : dict, optional
+        Library versions; :func:`library_versions` when omitted.
+
+    Returns
+    -------
+    str
+    """
+    doc = {
+        "settings": hashed_settings(settings),
+        "corpus": corpus_fingerprint,
+        "versions": versions if versions is not None else library_versions(),
+        "chain": CHAIN_VERSION,
+        "fillers": _fillers_digest(settings.lang) if settings.fillers else "",
+    }
+    blob = json.dumps(doc, sort_keys=True, ensure_ascii=True).encode("ascii")
+    return hashlib.sha256(blob).hexdigest()[:16]
+
+
+def _complete(folder: Path) -> bool:
+    return all((folder / name).is_file() for name in (*FILES, EXPLAIN_FILE))
+
+
+def _db_info(corpus_info: dict[str, Any], path: Path) -> dict[str, Any]:
+    keep = ("hash", "settings", "versions", "counts", "created_at", "chain_version")
+    info = {k: corpus_info[k] for k in keep if k in corpus_info}
+    info["path"] = str(path)
+    return info
+
+
+def run_prepare(
+    workspace: Workspace, *, force: bool = False, progress: ProgressFn | None = None
+) -> PrepareResult:
+    """Prepare the workspace's transcripts with its ``[prepare]`` settings.
+
+    The caller holds the workspace lock. Files are written to a temporary folder and moved
+    to ``prepared/<hash>/``; the store's record that makes it current comes last.
+
+    Parameters
+    ----------
+    workspace : Workspace
+    force : bool
+        Run the chain even when a prep with the same hash exists.
+    progress : callable, optional
+        ``progress(stage, done, total)``: stages ``read`` (transcripts), ``boilerplate``,
+        ``phrases``, ``vocabulary`` and ``write``.
+
+    Returns
+    -------
+    PrepareResult
+
+    Raises
+    ------
+    NotReadyError
+        When the store holds no transcripts.
+    InputError
+        When too few terms or transcripts are left (the message names the setting).
+    ConfigError
+        When the language or pipeline cannot be used.
+    """
+    settings = workspace.settings().prepare
+    with workspace.store() as store:
+        total = store.count_transcripts()
+        fingerprint = store.corpus_fingerprint()
+        versions = library_versions()
+        prep_hash = compute_prep_hash(settings, fingerprint, versions)
+        final = workspace.prepared_dir / prep_hash
+        if not force and _complete(final):
+            try:
+                info = json.loads((final / "prep.json").read_text(encoding="utf-8"))
+                explain = json.loads((final / EXPLAIN_FILE).read_text(encoding="utf-8"))
+            except (OSError, ValueError) as exc:
+                raise StoreError(f"{final}: cannot read the cached prep: {exc}") from None
+            current = store.current_prep()
+            if current is None or current.get("hash") != prep_hash:
+                store.record_prep(prep_hash, _db_info(info, final.relative_to(workspace.root)))
+            logger.info("prep %s is up to date", prep_hash)
+            return PrepareResult(prep_hash, final, info.get("counts", {}), True, explain)
+        if total == 0:
+            raise NotReadyError("the store holds no transcripts: run 'talkthemes ingest' first")
+
+        processor = build_processor(settings)
+        corpus, explain = prepare_corpus(
+            lambda: store.iter_turn_batches(settings.batch_size),
+            settings,
+            total=total,
+            progress=progress,
+            processor=processor,
+        )
+        corpus.info = {
+            "hash": prep_hash,
+            "created_at": dt.datetime.now().astimezone().isoformat(timespec="seconds"),
+            "settings": settings.model_dump(),
+            "versions": versions,
+            "chain_version": CHAIN_VERSION,
+            "corpus_fingerprint": fingerprint,
+            "counts_dtype": "int32",
+            **corpus.info,
+        }
+        report_progress(progress, "write", 0, 1)
+        with atomic_dir(final) as tmp:
+            corpus.save(tmp)
+            (tmp / EXPLAIN_FILE).write_text(
+                json.dumps(explain, ensure_ascii=False, indent=1) + "\n", encoding="utf-8"
+            )
+        store.record_prep(prep_hash, _db_info(corpus.info, final.relative_to(workspace.root)))
+        report_progress(progress, "write", 1, 1)
+        return PrepareResult(prep_hash, final, corpus.summary(), False, explain)
+
+
+def load_current(workspace: Workspace, *, mmap: bool = True) -> PreparedCorpus:
+    """Load the workspace's current prep.
+
+    Raises
+    ------
+    NotReadyError
+        When nothing has been prepared yet.
+    """
+    with workspace.store() as store:
+        current = store.current_prep()
+    if current is None:
+        raise NotReadyError("nothing prepared yet: run 'talkthemes prepare' first")
+    folder = Path(current.get("path") or workspace.prepared_dir / current["hash"])
+    if not folder.is_absolute():
+        folder = workspace.root / folder
+    return PreparedCorpus.load(folder, mmap=mmap)

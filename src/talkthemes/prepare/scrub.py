@@ -1,0 +1,200 @@
+"""Step 2, scrub: remove personal data and redaction marks before anything is counted.
+
+What is removed, by kind (the names ``prepare --explain`` counts under):
+
+``email``
+    ``name@host.tld``.
+``url``
+    ``http://…``, ``https://…``, ``www.…`` and bare domains ending in a common top-level
+    domain (``example.com/help``).
+``card``
+    Runs of 13–19 digits (spaces or hyphens allowed between groups) that pass the Luhn check
+    (ISO/IEC 7812-1), the checksum every payment card number carries.
+``phone``
+    Runs of 7–15 digits written the way phone numbers are: with a leading ``+``, brackets, or
+    separators between the groups (``(555) 010-4477``, ``+44 20 7946 0000``).
+``number``
+    Any other stand-alone run of at least :data:`LONG_NUMBER_DIGITS` digits (account, order
+    and reference numbers; card-length runs that fail the Luhn check land here too).
+``tag``
+    Redaction and annotation marks: ``[REDACTED]``, ``[inaudible]``, ``<name>``, ``{PII}``,
+    runs of ``*`` (``***``) and runs of ``X`` (``XXXX``).
+
+Each match is replaced by a space, so the words around it stay apart. Digits inside words
+(``AB12345``) are left for the filter step, which drops every token that is not alphabetic:
+numbers can never reach the vocabulary. Numbers said as words ("four one one one") are
+dropped by the filter too, since spaCy's stop words and the shipped fillers list hold the
+number words.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Callable, MutableMapping
+
+__all__ = ["LONG_NUMBER_DIGITS", "SCRUB_KINDS", "luhn_valid", "scrub"]
+
+#: Stand-alone digit runs at least this long are removed as ``number``.
+LONG_NUMBER_DIGITS = 5
+
+#: The kinds counted by the scrub step, in report order.
+SCRUB_KINDS: tuple[str, ...] = ("email", "url", "phone", "card", "number", "tag")
+
+_TLDS = "com|org|net|edu|gov|info|biz|io|co|us|uk|de|fr|es|it|nl|eu|ca|au|ie|be|ch|at"
+_URL_TAIL = r"""(?:[^\s<>"']*[^\s<>"'.,;:!?)\]])?"""
+
+# One pattern per kind, applied in this order (an e-mail address holds a domain, a URL may
+# hold digits). Patterns that would have to be tried at every position of a text (e-mail,
+# URL) are applied only to the white-space-delimited chunks around an anchor ("@", "://",
+# "www.", ".com", ...), found by fast scans, so the cost stays proportional to the text.
+_EMAIL = re.compile(r"[\w.+-]+@[\w-]+(?:\.[\w-]+)+")
+_URL = re.compile(
+    rf"(?i:\b(?:https?://|www\.){_URL_TAIL}|\b(?:[a-z0-9-]+\.)+(?:{_TLDS})\b(?:/{_URL_TAIL})?)"
+)
+_TLD_ANCHOR = re.compile(rf"\.(?:{_TLDS}|{_TLDS.upper()})\b")  # case-sensitive: fast scan
+_TAG = re.compile(r"\[[^\[\]\n]{1,40}\]|<[^<>\n]{1,40}>|\{[^{}\n]{1,40}\}|\*{2,}|[Xx]{2,}")
+_TAG_HINTS = ("[", "<", "{", "**", "XX", "xx", "Xx")
+# Starts with a character class so the scan is fast; that a run stands alone (no letter
+# or digit glued to either end) is checked in the replacement function.
+_DIGITS = re.compile(r"[+(\d][\d)]*(?:(?:[ -]|\.(?=\d{3}))\(?\d+\)?)*")
+_DIGIT_HINT = re.compile(r"\d")
+_NON_DIGIT = re.compile(r"\D")
+_WORD = re.compile(r"\w+")
+_SPACE = re.compile(r"\s")
+
+
+def _glued(m: re.Match[str]) -> bool:
+    """Whether a match has a letter or digit right before or after it."""
+    whole, start, end = m.string, m.start(), m.end()
+    return (start > 0 and whole[start - 1].isalnum()) or (end < len(whole) and whole[end].isalnum())
+
+
+def _url_anchors(text: str) -> list[int]:
+    """Positions of "://", "www." and ".com"-like endings, sorted."""
+    anchors = [m.start() for m in _TLD_ANCHOR.finditer(text)]
+    for literal in ("://", "www.", "WWW."):
+        i = text.find(literal)
+        while i != -1:
+            anchors.append(i)
+            i = text.find(literal, i + 1)
+    anchors.sort()
+    return anchors
+
+
+def _sub_chunks(
+    text: str, anchors: list[int], pattern: re.Pattern[str], repl: Callable[[re.Match[str]], str]
+) -> str:
+    """Apply ``pattern.sub`` only to the white-space-delimited chunks holding an anchor."""
+    out: list[str] = []
+    last = 0
+    for a in anchors:
+        if a < last:
+            continue
+        left = a
+        while left > 0 and not text[left - 1].isspace():
+            left -= 1
+        m = _SPACE.search(text, a)
+        right = m.start() if m else len(text)
+        out.append(text[last:left])
+        out.append(pattern.sub(repl, text[left:right]))
+        last = right
+    out.append(text[last:])
+    return "".join(out)
+
+
+def luhn_valid(digits: str) -> bool:
+    """Whether a digit string passes the Luhn check (ISO/IEC 7812-1, Annex B).
+
+    From the rightmost digit leftwards, every second digit is doubled (subtracting 9 when
+    the result exceeds 9); the number is valid when the sum of all digits is a multiple
+    of 10.
+
+    Parameters
+    ----------
+    digits : str
+        Digits only (``"4111111111111111"``); anything else makes the check fail.
+
+    Returns
+    -------
+    bool
+        True for a non-empty digit string whose Luhn sum is divisible by 10.
+
+    References
+    ----------
+    Luhn, H. P. (1960). Computer for verifying numbers. US Patent 2,950,048.
+    ISO/IEC 7812-1, Identification cards — Identification of issuers — Part 1: Numbering
+    system (the check digit of a card number).
+    """
+    if not digits or not digits.isascii() or not digits.isdigit():
+        return False
+    total = 0
+    for i, ch in enumerate(reversed(digits)):
+        d = ord(ch) - 48
+        if i % 2 == 1:
+            d *= 2
+            if d > 9:
+                d -= 9
+        total += d
+    return total % 10 == 0
+
+
+def _digit_kind(run: str) -> str | None:
+    digits = _NON_DIGIT.sub("", run)
+    n = len(digits)
+    if 13 <= n <= 19 and luhn_valid(digits):
+        return "card"
+    if 7 <= n <= 15 and (run[0] in "+(" or len(digits) != len(run)):
+        return "phone"
+    if n >= LONG_NUMBER_DIGITS:
+        return "number"
+    return None
+
+
+def scrub(text: str, counts: MutableMapping[str, int] | None = None) -> tuple[str, int]:
+    """Remove personal data and redaction marks from one text.
+
+    Parameters
+    ----------
+    text : str
+        A transcript's (or a turn's) text.
+    counts : mutable mapping of str to int, optional
+        Incremented by one per removal under its kind (see :data:`SCRUB_KINDS`).
+
+    Returns
+    -------
+    text : str
+        The text with every match replaced by a space.
+    words_removed : int
+        Words (runs of letters, digits and underscores) inside the removed matches.
+    """
+    removed = 0
+
+    def count(kind: str, span: str) -> str:
+        nonlocal removed
+        if counts is not None:
+            counts[kind] = counts.get(kind, 0) + 1
+        removed += len(_WORD.findall(span))
+        return " "
+
+    def digits(m: re.Match[str]) -> str:
+        run = m.group(0)
+        kind = None if _glued(m) else _digit_kind(run)
+        return run if kind is None else count(kind, run)
+
+    def tag(m: re.Match[str]) -> str:
+        run = m.group(0)
+        if run[0] in "Xx" and _glued(m):
+            return run
+        return count("tag", run)
+
+    if "@" in text:
+        anchors = [m.start() for m in re.finditer("@", text)]
+        text = _sub_chunks(text, anchors, _EMAIL, lambda m: count("email", m.group(0)))
+    anchors = _url_anchors(text)
+    if anchors:
+        text = _sub_chunks(text, anchors, _URL, lambda m: count("url", m.group(0)))
+    if any(h in text for h in _TAG_HINTS):
+        text = _TAG.sub(tag, text)
+    if _DIGIT_HINT.search(text):
+        text = _DIGITS.sub(digits, text)
+    return text, removed

@@ -1,0 +1,69 @@
+"""NPMI phrase scoring against Bouma (2009) and gensim's ``npmi_scorer``.
+
+Sources:
+- Bouma, G. (2009). Normalized (pointwise) mutual information in collocation extraction.
+  Proceedings of GSCL 2009, 31-40: npmi(x;y) = ln(p(x,y) / (p(x) p(y))) / -ln p(x,y),
+  with npmi = 1 for complete co-occurrence, 0 for independence, -1 in the limit of never
+  co-occurring.
+- gensim 4.4.0, ``gensim.models.phrases.npmi_scorer`` (reference library), probabilities
+  taken as counts divided by the corpus word count.
+"""
+
+from __future__ import annotations
+
+import math
+
+import gensim
+import numpy as np
+import pytest
+from gensim.models.phrases import npmi_scorer
+
+from talkthemes.prepare.phrases import learn_phrases
+
+
+def test_reference_library_version():
+    assert gensim.__version__.startswith("4.4")
+
+
+def test_worked_example_by_hand():
+    # 20 tokens; "late" 4 times, "fee" 5 times, "late fee" 3 times.
+    # p(late) = 4/20 = 0.2, p(fee) = 5/20 = 0.25, p(late, fee) = 3/20 = 0.15
+    # pmi  = ln(0.15 / (0.2 * 0.25)) = ln 3 = 1.0986123
+    # npmi = 1.0986123 / -ln 0.15 = 1.0986123 / 1.8971200 = 0.5790948
+    by_hand = 0.5790948
+    assert math.log(3) / -math.log(0.15) == pytest.approx(by_hand, abs=1e-7)
+    assert npmi_scorer(4, 5, 3, 0, 1, 20) == pytest.approx(by_hand, abs=1e-7)
+
+    # the same counts as a token stream through our phrase learner
+    types = ["late", "fee", "other", "word"]
+    sentences = [[0, 1], [0, 1], [0, 1], [0, 2], [1, 3], [1, 3]]
+    filler = [[2, 2, 2, 2], [3, 3, 3, 3]]  # 8 more tokens, no late/fee, no strong pair
+    units = sentences + filler
+    tokens = np.array([t for u in units for t in u], dtype=np.int32)
+    lengths = np.array([len(u) for u in units])
+    assert tokens.size == 20
+    assert (tokens == 0).sum() == 4 and (tokens == 1).sum() == 5
+    model, _ = learn_phrases(tokens, lengths, types, threshold=0.5, min_count=3)
+    assert model.names == ["late_fee"]
+    assert model.scores[0] == pytest.approx(by_hand, abs=1e-7)
+    assert model.bigram_counts.tolist() == [3]
+
+
+def test_bouma_bounds():
+    # complete co-occurrence: both words only ever appear together -> 1
+    assert npmi_scorer(7, 7, 7, 0, 1, 100) == pytest.approx(1.0)
+    # independence: p(x,y) = p(x) p(y) = 0.1 * 0.1 -> 0
+    assert npmi_scorer(10, 10, 1, 0, 1, 100) == pytest.approx(0.0, abs=1e-12)
+    # below min_count the scorer rules the pair out
+    assert npmi_scorer(10, 10, 1, 0, 2, 100) == float("-inf")
+
+
+def test_threshold_is_strict():
+    # score exactly at the threshold is not a phrase (gensim: score must exceed it)
+    types = ["a", "b"]
+    tokens = np.array([0, 1] * 5, dtype=np.int32)
+    lengths = np.array([2] * 5)
+    model, _ = learn_phrases(tokens, lengths, types, threshold=0.9, min_count=1)
+    assert model.names == ["a_b"] and model.scores[0] == pytest.approx(1.0)
+    model, _ = learn_phrases(tokens, lengths, types, threshold=1.0, min_count=1)
+    assert model.names == []
