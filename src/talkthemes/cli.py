@@ -107,6 +107,9 @@ def _main(
         format="%(levelname)s %(name)s: %(message)s",
         stream=sys.stderr,
     )
+    if not debug:  # libraries' progress chatter is not for users; our own warnings are
+        for noisy in ("gensim", "distributed", "tornado", "bokeh", "streamlit"):
+            logging.getLogger(noisy).setLevel(logging.ERROR)
 
 
 def _emit_json(doc: Any) -> None:
@@ -321,6 +324,46 @@ def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
         else "not yet — run 'talkthemes publish'",
     )
     out.print(t)
+
+
+# -- prepare -------------------------------------------------------------------------
+@app.command()
+def prepare(
+    explain: Annotated[
+        bool, typer.Option("--explain", help="Show what each step removed or joined, and why.")
+    ] = False,
+    force: Annotated[bool, typer.Option("--force", help="Run even if nothing changed.")] = False,
+    workspace: WorkspaceOpt = None,
+    wait: WaitOpt = False,
+    as_json: JsonOpt = False,
+) -> None:
+    """Run the preprocessing chain ([prepare] settings) into a cached prepared corpus."""
+    from talkthemes.prepare.explain import explain_json, render_explain
+    from talkthemes.prepare.run import run_prepare
+
+    ws = _workspace(workspace)
+    ws.require()
+    with (
+        ws.lock("prepare", wait=wait, on_wait=lambda m: err.print(f"{m}; waiting…")),
+        _progress("prepare", enabled=not as_json) as update,
+    ):
+        result = run_prepare(
+            ws, force=force, progress=lambda stage, done, total: update(done, total, stage)
+        )
+    if as_json:
+        doc = explain_json(result)
+        _emit_json(doc)
+        return
+    s = result.summary
+    if result.cached:
+        err.print(f"Nothing changed since prep {result.prep_hash[:12]}: using it as it is.")
+    out.print(
+        f"Prep {result.prep_hash[:12]}: {s.get('transcripts', 0):,} transcripts for training, "
+        f"{s.get('terms', 0):,} terms, {s.get('excluded', 0):,} excluded."
+    )
+    if explain:
+        render_explain(out, result.explain)
+    err.print("Next: talkthemes sweep")
 
 
 # -- sweep -------------------------------------------------------------------------

@@ -199,11 +199,26 @@ class SweepSettings(_Section):
     heldout_share: float = Field(
         0.1, ge=0, lt=1, description="Share of transcripts held out for LDA perplexity."
     )
-    lda_passes: int = Field(5, ge=1, description="LDA passes over the corpus.")
-    lda_iterations: int = Field(100, ge=1, description="LDA per-document E-step iterations.")
-    lda_chunksize: int = Field(2000, ge=1, description="LDA documents per online update.")
-    lda_alpha: str = Field("auto", description="LDA alpha: 'symmetric', 'asymmetric' or 'auto'.")
-    lda_eta: str = Field("auto", description="LDA eta: 'symmetric' or 'auto'.")
+    subsample: float = Field(
+        0.8,
+        gt=0,
+        le=1,
+        description=(
+            "Each seed fits on its own random share of the training transcripts, so stability "
+            "measures how themes hold up when the data changes (Greene et al. 2014); 1 = all."
+        ),
+    )
+    lda_passes: int = Field(2, ge=1, description="LDA passes over the corpus.")
+    lda_iterations: int = Field(50, ge=1, description="LDA per-document E-step iterations.")
+    lda_chunksize: int = Field(
+        0, ge=0, description="LDA documents per online update; 0 = about ten updates per pass."
+    )
+    lda_alpha: Literal["symmetric", "asymmetric", "auto"] = Field(
+        "auto", description="LDA alpha: 'symmetric', 'asymmetric' or 'auto' (learned)."
+    )
+    lda_eta: Literal["symmetric", "auto"] = Field(
+        "symmetric", description="LDA eta: 'symmetric' (1/K) or 'auto'."
+    )
     nmf_loss: Literal["frobenius", "kullback-leibler"] = Field(
         "frobenius", description="NMF loss: 'frobenius' (cd solver) or 'kullback-leibler' (mu)."
     )

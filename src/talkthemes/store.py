@@ -600,12 +600,12 @@ class Store:
             data = json.loads(info)
             if data.get("grid_key") == grid_key:
                 return {
+                    **data,
                     "id": sid,
                     "created_at": created,
                     "finished_at": finished,
                     "status": status,
                     "prep_hash": prep_hash,
-                    **data,
                 }
         return None
 
@@ -643,13 +643,23 @@ class Store:
             return None
         sid, prep, created, finished, status, info = row
         return {
+            **json.loads(info),
             "id": sid,
             "prep_hash": prep,
             "created_at": created,
             "finished_at": finished,
             "status": status,
-            **json.loads(info),
         }
+
+    def sweep_ids(self, prep_hash: str | None = None) -> list[int]:
+        """Ids of sweeps (of one prep, or all), newest first."""
+        if prep_hash is None:
+            rows = self._conn.execute("SELECT id FROM sweeps ORDER BY id DESC")
+        else:
+            rows = self._conn.execute(
+                "SELECT id FROM sweeps WHERE prep_hash = ? ORDER BY id DESC", (prep_hash,)
+            )
+        return [r[0] for r in rows]
 
     def add_cell(
         self, sweep_id: int, cell: str, family: str, k: int, seed: int, metrics: dict[str, Any]

@@ -1,1 +1,15 @@
 """Topic models: LDA (gensim) and NMF (scikit-learn), both returning FittedTopics."""
+
+from talkthemes.models.base import FittedTopics, top_terms
+from talkthemes.models.lda import LdaTopics, infer_doc_topics, restore_lda
+from talkthemes.models.nmf import NmfTopics, transform_counts
+
+__all__ = [
+    "FittedTopics",
+    "LdaTopics",
+    "NmfTopics",
+    "infer_doc_topics",
+    "restore_lda",
+    "top_terms",
+    "transform_counts",
+]
