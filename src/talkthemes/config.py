@@ -196,6 +196,12 @@ class SweepSettings(_Section):
     )
     seeds: int = Field(3, ge=1, description="Random seeds per (family, K) cell.")
     topn: int = Field(10, ge=2, description="Top terms per topic used by coherence.")
+    stability_topn: int = Field(
+        20, ge=2, description="Top terms compared between seeds by stability (Greene et al. 2014)."
+    )
+    diversity_topn: int = Field(
+        25, ge=2, description="Top terms counted by topic diversity (Dieng et al. 2020)."
+    )
     heldout_share: float = Field(
         0.1, ge=0, lt=1, description="Share of transcripts held out for LDA perplexity."
     )

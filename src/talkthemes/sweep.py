@@ -49,9 +49,6 @@ log = logging.getLogger(__name__)
 
 MEASURES = ("c_v", "c_npmi", "c_uci", "u_mass")
 _SWEEP_COLUMNS = ("id", "prep_hash", "created_at", "finished_at", "status")
-TOP_KEEP = 25  # top terms kept per topic: 10 for coherence, 20 for stability, 25 for diversity
-STABILITY_TOP = 20
-DIVERSITY_TOP = 25
 
 #: ``progress(done_cells, total_cells, current)``
 ProgressFn = Callable[[int, int, str], None]
@@ -227,7 +224,8 @@ def fit_cell(
             )
         else:
             metrics["reconstruction_error"] = float(model.reconstruction_err_)
-    tops = top_terms(result.topic_terms, min(TOP_KEEP, result.topic_terms.shape[1]))
+    keep = max(sweep_settings.topn, sweep_settings.stability_topn, sweep_settings.diversity_topn)
+    tops = top_terms(result.topic_terms, min(keep, result.topic_terms.shape[1]))
     metrics["top_terms"] = tops.tolist()
     metrics["peak_memory_mb"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     path = Path(sweep_folder) / "topics" / f"{spec.cell}.npy"
@@ -252,6 +250,8 @@ def score_cells(
     rows: np.ndarray,
     *,
     topn: int = 10,
+    stability_topn: int = 20,
+    diversity_topn: int = 25,
 ) -> pd.DataFrame:
     """Coherence (counted once for all cells), diversity and seed stability per cell.
 
@@ -265,6 +265,9 @@ def score_cells(
         The transcripts the models were trained on: the coherence reference corpus.
     topn : int
         Top terms per topic used by coherence.
+    stability_topn, diversity_topn : int
+        Top terms compared by stability (Greene et al. 2014 use 20) and counted by
+        diversity (Dieng et al. 2020 use 25).
 
     Returns
     -------
@@ -287,18 +290,18 @@ def score_cells(
             res = score(reference, top[:, :topn], m)
             row[m] = res.mean
             row[f"{m}_per_topic"] = [float(x) for x in res.per_topic]
-        row["diversity"] = float(topic_diversity(top[:, :DIVERSITY_TOP], DIVERSITY_TOP))
+        row["diversity"] = float(topic_diversity(top[:, :diversity_topn], diversity_topn))
         rows_out.append(row)
     frame = pd.DataFrame(rows_out)
     stab: dict[tuple[str, int], float] = {}
     for (family, k), g in frame.groupby(["family", "k"]):
-        sets = [tops[c][:, :STABILITY_TOP] for c in g["cell"]]
-        stab[(family, k)] = float(seed_stability(sets, STABILITY_TOP)) if len(sets) > 1 else np.nan
+        sets = [tops[c][:, :stability_topn] for c in g["cell"]]
+        stab[(family, k)] = float(seed_stability(sets, stability_topn)) if len(sets) > 1 else np.nan
     frame["stability"] = [stab[(f, k)] for f, k in zip(frame["family"], frame["k"], strict=True)]
     return frame.sort_values(["family", "k", "seed"]).reset_index(drop=True)
 
 
-def seed_agreement(cells: pd.DataFrame) -> pd.DataFrame:
+def seed_agreement(cells: pd.DataFrame, topn: int = 20) -> pd.DataFrame:
     """Add ``agreement``: each cell's mean agreement with the other seeds at its (family, K).
 
     Agreement is the Hungarian-matched average Jaccard of ranked top terms (Greene et
@@ -311,9 +314,9 @@ def seed_agreement(cells: pd.DataFrame) -> pd.DataFrame:
     values = np.full(len(out), np.nan)
     for _, g in out.groupby(["family", "k"]):
         idx = list(g.index)
-        tops = [np.asarray(out.at[i, "top_terms"])[:, :STABILITY_TOP] for i in idx]
+        tops = [np.asarray(out.at[i, "top_terms"])[:, :topn] for i in idx]
         for a, i in enumerate(idx):
-            others = [agreement(tops[a], tops[b], STABILITY_TOP) for b in range(len(idx)) if b != a]
+            others = [agreement(tops[a], tops[b], topn) for b in range(len(idx)) if b != a]
             values[out.index.get_loc(i)] = float(np.mean(others)) if others else np.nan
     out["agreement"] = values
     return out
@@ -480,7 +483,14 @@ def run_sweep(
     if not cells:
         raise NotReadyError("no cell of the sweep finished; see the errors above")
     frame = score_cells(
-        cells, corpus.tokens, corpus.offsets, corpus.counts, train, topn=settings.topn
+        cells,
+        corpus.tokens,
+        corpus.offsets,
+        corpus.counts,
+        train,
+        topn=settings.topn,
+        stability_topn=settings.stability_topn,
+        diversity_topn=settings.diversity_topn,
     )
     recs = recommend(frame, rank_by=settings.rank_by, stability_min=settings.stability_min)
     frame.to_parquet(folder / "cells.parquet.tmp", index=False)

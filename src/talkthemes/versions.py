@@ -296,7 +296,12 @@ def _find_cell(
             if cells.empty:
                 continue
             try:
-                chosen = pick_cell(seed_agreement(cells), k=k, family=family, cell=cell)
+                chosen = pick_cell(
+                    seed_agreement(cells, ws.settings().sweep.stability_topn),
+                    k=k,
+                    family=family,
+                    cell=cell,
+                )
             except InputError as exc:
                 last_error = exc
                 continue
