@@ -511,13 +511,7 @@ def publish(
                 err.print(f"Version {v.n} is current again.")
             return
         if recommended:
-            with ws.store() as store:
-                sw = store.get_sweep()
-            recs = (sw or {}).get("recommendations") or {}
-            fam = family or ("lda" if "lda" in recs else next(iter(recs), None))
-            if fam is None or fam not in recs:
-                raise ConfigError("no finished sweep with a recommendation: run 'talkthemes sweep'")
-            family, k = fam, int(recs[fam]["k"])
+            family, k = _recommended_cell(ws, family)
         steps: dict[str, Any] = {}
         with _progress("publish", enabled=not as_json) as update:
 
@@ -535,6 +529,29 @@ def publish(
     )
     _print_themes(result.themes)
     err.print('Next: talkthemes label THEME_ID "Label"  ·  talkthemes view')
+
+
+def _recommended_cell(ws: Workspace, family: str | None) -> tuple[str, int]:
+    """(family, K) of the latest finished sweep's recommendation (best family if none given)."""
+    import pandas as pd
+
+    from talkthemes.recommend import Recommendation, best_family
+
+    with ws.store() as store:
+        sweep = next(
+            (s for s in map(store.get_sweep, store.sweep_ids()) if s and s.get("recommendations")),
+            None,
+        )
+        cells = pd.DataFrame(store.cells(sweep["id"])) if sweep else pd.DataFrame()
+    if sweep is None:
+        raise ConfigError("no finished sweep with a recommendation: run 'talkthemes sweep'")
+    recs = {f: Recommendation(**r) for f, r in sweep["recommendations"].items()}
+    if family is None:
+        scored = ws.sweeps_dir / str(sweep["id"]) / "cells.parquet"
+        family = best_family(recs, pd.read_parquet(scored) if scored.exists() else cells)
+    if family not in recs:
+        raise ConfigError(f"the sweep has no recommendation for --family {family}")
+    return family, recs[family].k
 
 
 def _print_themes(themes: list[dict[str, Any]]) -> None:
@@ -646,31 +663,106 @@ def export(
         err.print(f"Wrote {len(frame):,} transcripts to {out_path}.")
 
 
+# -- view and report ------------------------------------------------------------------
+@app.command()
+def view(
+    host: Annotated[
+        str | None,
+        typer.Option("--host", help="Address to bind (default 127.0.0.1: this machine)."),
+    ] = None,
+    port: Annotated[int | None, typer.Option("--port", help="Port (default 8501).")] = None,
+    workspace: WorkspaceOpt = None,
+) -> None:
+    """Serve the viewer: Choose K, Theme map, Theme cards, Calls, Over time."""
+    ws = _workspace(workspace)
+    ws.require()
+    settings = ws.settings().view
+    _serve(ws, host or settings.host, port or settings.port)
+
+
+@app.command()
+def report(
+    out_path: Annotated[Path, typer.Option("--out", help="The HTML file to write.")] = Path(
+        "themes.html"
+    ),
+    png: Annotated[
+        Path | None, typer.Option("--png", help="Also write each chart as PNG into this folder.")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Write one self-contained HTML report (opens offline): sweep, map, theme cards, trends."""
+    from talkthemes.report import write_report
+
+    ws = _workspace(workspace)
+    ws.require()
+    with err.status("Writing the report…"):
+        path = write_report(ws, out_path, png_dir=png)
+    if as_json:
+        _emit_json({"out": str(path), "png_dir": None if png is None else str(png)})
+    else:
+        err.print(f"Report written to {path}" + (f"; charts as PNG in {png}" if png else ""))
+
+
 # -- demo ----------------------------------------------------------------------------
 @app.command()
 def demo(
     size: Annotated[int, typer.Option("--size", min=20, help="Number of invented calls.")] = 3000,
     seed: Annotated[int, typer.Option("--seed", help="Random seed of the generator.")] = 7,
+    k: Annotated[str, typer.Option("--k", help="Topic counts swept on the demo.")] = "6:16:2",
+    seeds: Annotated[int, typer.Option("--seeds", min=1, help="Seeds per cell.")] = 2,
+    serve: Annotated[
+        bool, typer.Option("--serve/--no-serve", help="Serve the viewer at the end.")
+    ] = True,
+    host: Annotated[str, typer.Option("--host", help="Viewer address.")] = "127.0.0.1",
+    port: Annotated[int, typer.Option("--port", help="Viewer port.")] = 8501,
     workspace: WorkspaceOpt = None,
     as_json: JsonOpt = False,
 ) -> None:
-    """Generate the invented demo corpus and run the pipeline on it."""
+    """Generate the invented demo corpus and run the whole pipeline on it, then view it."""
     from talkthemes.demo import write_demo
     from talkthemes.ingest.run import ingest as run_ingest
+    from talkthemes.prepare.run import run_prepare
+    from talkthemes.sweep import run_sweep
+    from talkthemes.versions import publish as run_publish
 
     ws = _workspace(workspace)
     ws.init()
     source = ws.root / "demo-source"
     err.print(f"Writing {size:,} invented calls to {source} …")
     files = write_demo(source, size=size, seed=seed)
-    with ws.lock("demo"), _progress("ingest", enabled=not as_json) as update:
-        report = run_ingest(ws, [files.exports], manifests=[files.manifest], progress=update)
+    doc: dict[str, Any] = {"workspace": str(ws.root)}
+    quiet = as_json
+    with ws.lock("demo"):
+        with _progress("ingest", enabled=not quiet) as update:
+            report = run_ingest(ws, [files.exports], manifests=[files.manifest], progress=update)
+        doc["ingest"] = report.to_json()["totals"]
+        with _progress("prepare", enabled=not quiet) as update:
+            prep = run_prepare(ws, progress=lambda s, d, t: update(d, t, s))
+        doc["prep"] = prep.summary
+        with _progress("sweep cells", enabled=not quiet) as update:
+            result = run_sweep(ws, k=k, seeds=seeds, progress=update)
+        if not quiet:
+            _print_sweep(result)
+        family, best_k = _recommended_cell(ws, None)
+        with _progress("publish", enabled=not quiet) as update:
+            published = run_publish(
+                ws, k=best_k, family=family, progress=lambda s, d, t: update(d, t, s)
+            )
+        doc["published"] = {"version": published.version, "family": family, "k": best_k}
     if as_json:
-        _emit_json({"workspace": str(ws.root), "ingest": report.to_json()})
+        _emit_json(doc)
     else:
-        _print_ingest_report(report)
-        err.print(f"Next: talkthemes status --workspace {ws.root}")
-    raise typer.Exit(report.exit_code)
+        out.print(f"Published version {published.version}: {family} K={best_k}.")
+        _print_themes(published.themes)
+    if serve and not as_json:
+        _serve(ws, host, port)
+
+
+def _serve(ws: Workspace, host: str, port: int) -> None:
+    from talkthemes.serve import serve as run_serve
+
+    raise typer.Exit(run_serve(ws.root, host=host, port=port))
 
 
 def main() -> None:

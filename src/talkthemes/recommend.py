@@ -33,7 +33,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-__all__ = ["RANKABLE", "Recommendation", "recommend", "summarise_by_k"]
+__all__ = ["RANKABLE", "Recommendation", "best_family", "recommend", "summarise_by_k"]
 
 #: Coherence measures a recommendation can rank by, with "higher is better" for all.
 RANKABLE = ("c_npmi", "c_v", "c_uci", "u_mass")
@@ -226,3 +226,22 @@ def recommend(
             runners_up=runners,
         )
     return out
+
+
+def best_family(recommendations: dict[str, Recommendation], cells: pd.DataFrame) -> str:
+    """The family whose recommended K to publish when the user names none.
+
+    A recommendation that is not weak (its themes come back with other seeds) beats a weak
+    one; between equals, the higher mean ranking coherence at the recommended K wins —
+    the measures are computed on the same reference corpus for both families, so they
+    compare directly.
+    """
+    if not recommendations:
+        raise ValueError("no recommendation to choose from")
+
+    def key(item: tuple[str, Recommendation]) -> tuple[bool, float]:
+        fam, rec = item
+        at = cells[(cells["family"] == fam) & (cells["k"] == rec.k)][rec.rank_by]
+        return (not rec.weak, float(at.mean()) if len(at) else float("-inf"))
+
+    return max(recommendations.items(), key=key)[0]
