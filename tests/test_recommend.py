@@ -81,3 +81,21 @@ def test_each_family_gets_its_own_recommendation() -> None:
 def test_unknown_measure_is_refused() -> None:
     with pytest.raises(ValueError, match="rank_by must be one of"):
         recommend(_cells({5: ([0.1], 0.9)}), rank_by="accuracy")
+
+
+def test_best_family_prefers_stable_then_more_coherent() -> None:
+    from talkthemes.recommend import best_family
+
+    cells = pd.concat(
+        [
+            _cells({5: ([0.30, 0.30], 0.3)}, "lda"),  # more coherent but unstable → weak
+            _cells({5: ([0.20, 0.20], 0.9)}, "nmf"),
+        ]
+    )
+    recs = recommend(cells, stability_min=0.6)
+    assert recs["lda"].weak and not recs["nmf"].weak
+    assert best_family(recs, cells) == "nmf"
+    cells2 = pd.concat(
+        [_cells({5: ([0.30, 0.30], 0.9)}, "lda"), _cells({5: ([0.20, 0.20], 0.9)}, "nmf")]
+    )
+    assert best_family(recommend(cells2), cells2) == "lda"

@@ -21,10 +21,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from talkthemes.sweep import run_sweep
-from talkthemes.workspace import Workspace
 from tests.external.bars import make_bars_corpus, pixel_names
 from tests.support.preps import install_prep
+
+from talkthemes.sweep import run_sweep
+from talkthemes.workspace import Workspace
 
 SETTINGS = """
 [sweep]

@@ -1,0 +1,39 @@
+"""`talkthemes demo` runs the whole pipeline on the invented corpus (small size here)."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from typer.testing import CliRunner
+
+from talkthemes.cli import app
+
+
+def test_demo_runs_ingest_prepare_sweep_publish(tmp_path: Path) -> None:
+    ws = tmp_path / "demo"
+    r = CliRunner().invoke(
+        app,
+        [
+            "demo",
+            "--size",
+            "400",
+            "--k",
+            "8,12",
+            "--seeds",
+            "2",
+            "--no-serve",
+            "-w",
+            str(ws),
+            "--json",
+        ],
+    )
+    assert r.exit_code == 0, r.stderr
+    doc = json.loads(r.stdout)
+    assert doc["ingest"]["added"] == 400 and doc["ingest"]["rejected"] == 0
+    assert doc["published"]["version"] == 1
+    assert doc["published"]["k"] in (8, 12)
+    assert not (ws / "demo-source" / "exports" / "truth.csv").exists()  # truth is never ingested
+    r = CliRunner().invoke(app, ["status", "--json", "-w", str(ws)])
+    stages = json.loads(r.stdout)["stages"]
+    assert stages["prepared"] and stages["swept"] and stages["published"]["version"] == 1
