@@ -126,6 +126,24 @@ _MIGRATIONS: list[str] = [
     CREATE TABLE theme_ids (next INTEGER NOT NULL);
     INSERT INTO theme_ids(next) VALUES (1);
     """,
+    # 3: the refresh log, and the themes each version retired
+    """
+    CREATE TABLE refreshes (
+        id INTEGER PRIMARY KEY,
+        started_at TEXT NOT NULL,
+        finished_at TEXT,
+        status TEXT NOT NULL DEFAULT 'running',
+        previous_version INTEGER,
+        version INTEGER,
+        info TEXT NOT NULL DEFAULT '{}'
+    );
+    CREATE TABLE retired_themes (
+        version INTEGER NOT NULL REFERENCES versions(n),
+        theme_id INTEGER NOT NULL,
+        info TEXT NOT NULL DEFAULT '{}',
+        PRIMARY KEY (version, theme_id)
+    ) WITHOUT ROWID;
+    """,
 ]
 
 SCHEMA_VERSION = len(_MIGRATIONS)
@@ -355,7 +373,8 @@ class Store:
             added_at = now_iso()
             with self.transaction() as c:
                 for t, h in to_add:
-                    text_words = sum(len(turn.text.split()) for turn in t.turns)
+                    # readers collapse whitespace, so words = spaces + 1 per non-empty turn
+                    text_words = sum(turn.text.count(" ") + 1 for turn in t.turns if turn.text)
                     text_chars = sum(len(turn.text) for turn in t.turns)
                     cur = c.execute(
                         "INSERT INTO transcripts(tid, source, format, content_hash, n_turns, "
@@ -804,6 +823,177 @@ class Store:
                 "SELECT label, note, hidden FROM labels WHERE theme_id = ?", (theme_id,)
             ).fetchone()
         return {"theme_id": theme_id, "label": row[0], "note": row[1], "hidden": bool(row[2])}
+
+    # -- publishing with retired themes, pruning, the refresh log ----------------------
+    def publish_version(
+        self,
+        n: int,
+        info: dict[str, Any],
+        themes: Sequence[dict[str, Any]],
+        *,
+        retired: Sequence[dict[str, Any]] = (),
+        refresh_id: int | None = None,
+        refresh_info: dict[str, Any] | None = None,
+    ) -> None:
+        """Record version ``n`` and make it current, all in one transaction.
+
+        Like :meth:`add_version`, and in the same transaction: the themes this version
+        retired (``theme_id`` and optionally ``info`` each), and, for a refresh, its log
+        row marked ``published`` with this version. The version's files must already be
+        in place.
+        """
+        with self.transaction() as c:
+            c.execute("UPDATE versions SET current = 0 WHERE current = 1")
+            c.execute(
+                "INSERT INTO versions(n, created_at, current, info) VALUES (?,?,1,?)",
+                (n, now_iso(), json.dumps(info)),
+            )
+            c.executemany(
+                "INSERT INTO themes(version, theme_id, position, status, info) VALUES (?,?,?,?,?)",
+                [
+                    (n, t["theme_id"], t["position"], t["status"], json.dumps(t.get("info", {})))
+                    for t in themes
+                ],
+            )
+            c.executemany(
+                "INSERT INTO retired_themes(version, theme_id, info) VALUES (?,?,?)",
+                [(n, r["theme_id"], json.dumps(r.get("info", {}))) for r in retired],
+            )
+            if refresh_id is not None:
+                c.execute(
+                    "UPDATE refreshes SET status='published', finished_at=?, version=?, info=? "
+                    "WHERE id=?",
+                    (now_iso(), n, json.dumps(refresh_info or {}), refresh_id),
+                )
+
+    def retired_themes(self, version: int) -> list[dict[str, Any]]:
+        """Themes that version ``version`` retired, with their label, note and hidden flag."""
+        return [
+            {
+                "theme_id": tid,
+                "info": json.loads(info),
+                "label": label or "",
+                "note": note or "",
+                "hidden": bool(hidden),
+            }
+            for tid, info, label, note, hidden in self._conn.execute(
+                "SELECT r.theme_id, r.info, l.label, l.note, l.hidden FROM retired_themes r "
+                "LEFT JOIN labels l ON l.theme_id = r.theme_id WHERE r.version = ? "
+                "ORDER BY r.theme_id",
+                (version,),
+            )
+        ]
+
+    def version_numbers(self) -> list[int]:
+        """Numbers of every recorded version, ascending."""
+        return [r[0] for r in self._conn.execute("SELECT n FROM versions ORDER BY n")]
+
+    def delete_versions(self, numbers: Sequence[int]) -> list[int]:
+        """Forget versions (their themes and retired themes too), in one transaction.
+
+        Labels stay: they belong to theme ids, which later versions may carry.
+
+        Returns
+        -------
+        list of int
+            The numbers actually deleted.
+
+        Raises
+        ------
+        StoreError
+            When one of them is the current version (it is never deleted).
+        """
+        numbers = sorted({int(x) for x in numbers})
+        if not numbers:
+            return []
+        with self.transaction() as c:
+            q = ",".join("?" * len(numbers))
+            current = c.execute(
+                f"SELECT n FROM versions WHERE current = 1 AND n IN ({q})", numbers
+            ).fetchone()
+            if current is not None:
+                raise StoreError(f"version {current[0]} is current and cannot be deleted")
+            found = [
+                r[0]
+                for r in c.execute(f"SELECT n FROM versions WHERE n IN ({q}) ORDER BY n", numbers)
+            ]
+            c.execute(f"DELETE FROM themes WHERE version IN ({q})", numbers)
+            c.execute(f"DELETE FROM retired_themes WHERE version IN ({q})", numbers)
+            c.execute(f"DELETE FROM versions WHERE n IN ({q})", numbers)
+        return found
+
+    def start_refresh(self, previous_version: int | None, info: dict[str, Any]) -> int:
+        """Log the start of a refresh (status ``running``) and return its id.
+
+        Any refresh still marked ``running`` is marked ``interrupted`` first: refreshes
+        hold the workspace lock, so one still running when the next starts was killed.
+        """
+        with self.transaction() as c:
+            c.execute("UPDATE refreshes SET status='interrupted' WHERE status='running'")
+            cur = c.execute(
+                "INSERT INTO refreshes(started_at, status, previous_version, info) "
+                "VALUES (?, 'running', ?, ?)",
+                (now_iso(), previous_version, json.dumps(info)),
+            )
+            return int(cur.lastrowid)
+
+    def finish_refresh(self, refresh_id: int, status: str, info: dict[str, Any]) -> None:
+        """Close a refresh's log row with a final ``status`` (not ``published``; see
+        :meth:`publish_version`) and its summary."""
+        with self.transaction() as c:
+            c.execute(
+                "UPDATE refreshes SET status=?, finished_at=?, info=? WHERE id=?",
+                (status, now_iso(), json.dumps(info), refresh_id),
+            )
+
+    def refreshes(self, limit: int | None = None) -> list[dict[str, Any]]:
+        """The refresh log, newest first (``id, started_at, finished_at, status,
+        previous_version, version`` and the summary)."""
+        sql = (
+            "SELECT id, started_at, finished_at, status, previous_version, version, info "
+            "FROM refreshes ORDER BY id DESC"
+        )
+        params: tuple[int, ...] = ()
+        if limit is not None:
+            sql += " LIMIT ?"
+            params = (int(limit),)
+        return [
+            {
+                **json.loads(info),
+                "id": rid,
+                "started_at": started,
+                "finished_at": finished,
+                "status": status,
+                "previous_version": prev,
+                "version": version,
+            }
+            for rid, started, finished, status, prev, version, info in self._conn.execute(
+                sql, params
+            )
+        ]
+
+    def turns_for(self, tids: Sequence[str]) -> list[tuple[str, list[tuple[str, str]]]]:
+        """``(tid, [(role, text), ...])`` for the given stored transcripts, in the order
+        given (ids not stored are left out)."""
+        found: dict[str, list[tuple[str, str]]] = {}
+        for chunk in _chunks(list(dict.fromkeys(tids)), _PARAM_CHUNK):
+            q = ",".join("?" * len(chunk))
+            for tid, role, text in self._conn.execute(
+                "SELECT t.tid, u.role, u.text FROM turns u JOIN transcripts t "
+                f"ON t.id = u.transcript WHERE t.tid IN ({q}) ORDER BY u.transcript, u.seq",
+                chunk,
+            ):
+                found.setdefault(tid, []).append((role, text))
+        return [(t, found[t]) for t in dict.fromkeys(tids) if t in found]
+
+    def integrity_problems(self) -> list[str]:
+        """SQLite's integrity and foreign-key checks; empty when the store is sound."""
+        problems = [str(r[0]) for r in self._conn.execute("PRAGMA integrity_check") if r[0] != "ok"]
+        problems += [
+            f"foreign key: {table} row {rowid} -> {parent}"
+            for table, rowid, parent, _ in self._conn.execute("PRAGMA foreign_key_check")
+        ]
+        return problems
 
     def get_prep(self, prep_hash: str) -> dict[str, Any] | None:
         """A recorded prep's info by hash, or None."""

@@ -58,14 +58,17 @@ class Transcript:
     source: str
     format: str
     metadata: dict[str, str] = field(default_factory=dict)
+    digest: str = field(default="", repr=False, compare=False)
 
     def text(self) -> str:
         """All turns' text joined by newlines."""
         return "\n".join(t.text for t in self.turns)
 
     def content_hash(self) -> str:
-        """Hash of the normalised text, used to find duplicates under other names."""
-        return normalised_hash(self.text())
+        """Hash of the normalised text, used to find duplicates under other names (cached)."""
+        if not self.digest:
+            self.digest = normalised_hash(self.text())
+        return self.digest
 
 
 @dataclass(frozen=True, slots=True)
@@ -87,8 +90,7 @@ class Warning_:  # noqa: N801 (avoids shadowing the builtin Warning)
     row: int | None = None
 
 
-_WS = re.compile(r"\s+")
-_PUNCT = re.compile(r"[^\w\s]")
+_WORD = re.compile(r"\w+")
 
 
 def normalised_hash(text: str) -> str:
@@ -97,7 +99,8 @@ def normalised_hash(text: str) -> str:
     Two exports of the same call that differ only in case, punctuation, line endings or
     spacing hash equal.
     """
-    norm = unicodedata.normalize("NFKC", text).casefold()
-    norm = _PUNCT.sub(" ", norm)
-    norm = _WS.sub(" ", norm).strip()
+    norm = text.casefold()
+    if not norm.isascii():
+        norm = unicodedata.normalize("NFKC", norm)
+    norm = " ".join(_WORD.findall(norm))
     return hashlib.sha256(norm.encode("utf-8")).hexdigest()

@@ -9,11 +9,16 @@ from __future__ import annotations
 
 import csv
 import logging
+import multiprocessing
+import os
+import sys
 from collections import Counter
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
+from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from talkthemes.config import IngestSettings
 from talkthemes.ingest.detect import iter_files, read_file
 from talkthemes.ingest.manifest import read_manifest
 from talkthemes.ingest.model import Reject, Transcript, Warning_
@@ -128,11 +133,14 @@ def ingest(
     manifests: Sequence[Path] = (),
     progress: ProgressFn | None = None,
     batch_size: int = 500,
+    workers: int | None = None,
 ) -> IngestReport:
     """Read ``paths`` (files and folders, recursively) and store what they hold.
 
     The caller holds the workspace lock. Good inputs are stored even when others are
-    rejected; nothing already stored is changed.
+    rejected; nothing already stored is changed. Large runs parse files in worker processes
+    (``forkserver``), so a script calling this needs the usual
+    ``if __name__ == "__main__":`` guard.
 
     Parameters
     ----------
@@ -145,6 +153,9 @@ def ingest(
         ``progress(done_files, total_files, current)``.
     batch_size : int
         Transcripts stored per transaction.
+    workers : int, optional
+        Processes reading and parsing files while this one stores them; default one per
+        core for runs of at least :data:`PARALLEL_MIN_FILES` files, else none.
 
     Returns
     -------
@@ -170,7 +181,8 @@ def ingest(
         manifest_files = {Path(m).resolve() for m in manifests}
         for item in iter_files([Path(p) for p in paths], settings):
             if isinstance(item, Path):
-                if item.resolve() not in manifest_files:  # a manifest is not a transcript table
+                # a manifest is not a transcript table
+                if not manifest_files or item.resolve() not in manifest_files:
                     files.append(item)
             elif isinstance(item, Reject):
                 report.rejects.append(item)
@@ -180,8 +192,9 @@ def ingest(
         report.files = len(files)
 
         batcher = _Batcher(store, report, batch_size)
-        for i, path in enumerate(files, start=1):
-            for item in read_file(path, settings):
+        done = 0
+        for chunk, items in _read_files(files, settings, workers):
+            for item in items:
                 if isinstance(item, Transcript):
                     batcher.add(item)
                 elif isinstance(item, Reject):
@@ -189,8 +202,9 @@ def ingest(
                     report.tally(item.format, "rejected")
                 else:
                     report.warnings.append(item)
+            done += len(chunk)
             if progress is not None:
-                progress(i, len(files), str(path))
+                progress(done, len(files), str(chunk[-1]))
         batcher.flush()
         if report.rejects:
             store.add_rejects(run_id, report.rejects)
@@ -205,6 +219,40 @@ def ingest(
         return report
     finally:
         store.close()
+
+
+PARALLEL_MIN_FILES = 400
+_CHUNK_FILES = 100
+
+
+def _read_chunk(
+    paths: list[Path], settings: IngestSettings
+) -> list[Transcript | Reject | Warning_]:
+    """Read and parse a chunk of files (in a worker process); hashes are computed here too."""
+    items = [item for path in paths for item in read_file(path, settings)]
+    for item in items:
+        if isinstance(item, Transcript):
+            item.content_hash()
+    return items
+
+
+def _read_files(
+    files: list[Path], settings: IngestSettings, workers: int | None
+) -> Iterator[tuple[list[Path], list[Transcript | Reject | Warning_]]]:
+    """Yield ``(chunk of paths, items read from them)`` in file order.
+
+    Parsing is CPU-bound pure Python, so large runs spread it over worker processes while
+    the calling process keeps the store (SQLite has one writer). Results come back in order.
+    """
+    chunks = [files[i : i + _CHUNK_FILES] for i in range(0, len(files), _CHUNK_FILES)]
+    n = (os.cpu_count() or 1) if workers is None else workers
+    if n <= 1 or len(files) < PARALLEL_MIN_FILES:
+        for chunk in chunks:
+            yield chunk, _read_chunk(chunk, settings)
+        return
+    ctx = multiprocessing.get_context("spawn" if sys.platform == "darwin" else "forkserver")
+    with ProcessPoolExecutor(max_workers=n, mp_context=ctx) as pool:
+        yield from zip(chunks, pool.map(_read_chunk, chunks, [settings] * len(chunks)), strict=True)
 
 
 def write_rejects_csv(path: Path, rejects: Sequence[Reject]) -> None:
