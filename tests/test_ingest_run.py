@@ -17,7 +17,7 @@ def _stored(ws: Workspace) -> list[tuple[str, str, int]]:
 
 
 def test_parallel_and_serial_ingest_store_the_same(tmp_path: Path) -> None:
-    files = write_demo(tmp_path / "src", size=PARALLEL_MIN_FILES + 150, seed=4)
+    files = write_demo(tmp_path / "src", size=PARALLEL_MIN_FILES + 250, seed=4)
     results = []
     for workers in (1, 2):
         ws = Workspace(tmp_path / f"ws{workers}")
@@ -25,6 +25,6 @@ def test_parallel_and_serial_ingest_store_the_same(tmp_path: Path) -> None:
         with ws.lock("test"):
             report = ingest(ws, [files.exports], manifests=[files.manifest], workers=workers)
         assert report.files >= PARALLEL_MIN_FILES
-        assert report.total("added") == PARALLEL_MIN_FILES + 150
+        assert report.total("added") == PARALLEL_MIN_FILES + 250
         results.append((_stored(ws), report.to_json()["totals"]))
     assert results[0] == results[1]
