@@ -671,13 +671,14 @@ def view(
         typer.Option("--host", help="Address to bind (default 127.0.0.1: this machine)."),
     ] = None,
     port: Annotated[int | None, typer.Option("--port", help="Port (default 8501).")] = None,
+    open_browser: Annotated[bool, typer.Option("--open", help="Open a browser tab.")] = False,
     workspace: WorkspaceOpt = None,
 ) -> None:
     """Serve the viewer: Choose K, Theme map, Theme cards, Calls, Over time."""
     ws = _workspace(workspace)
     ws.require()
     settings = ws.settings().view
-    _serve(ws, host or settings.host, port or settings.port)
+    _serve(ws, host or settings.host, port or settings.port, open_browser=open_browser)
 
 
 @app.command()
@@ -688,6 +689,13 @@ def report(
     png: Annotated[
         Path | None, typer.Option("--png", help="Also write each chart as PNG into this folder.")
     ] = None,
+    lam: Annotated[
+        float | None,
+        typer.Option("--lambda", min=0.0, max=1.0, help="Relevance weight for theme terms."),
+    ] = None,
+    excerpts: Annotated[
+        int, typer.Option("--excerpts", min=0, help="Example excerpts per theme.")
+    ] = 3,
     workspace: WorkspaceOpt = None,
     as_json: JsonOpt = False,
 ) -> None:
@@ -696,8 +704,15 @@ def report(
 
     ws = _workspace(workspace)
     ws.require()
-    with err.status("Writing the report…"):
-        path = write_report(ws, out_path, png_dir=png)
+    with _progress("report", enabled=not as_json) as update:
+        path = write_report(
+            ws,
+            out_path,
+            png_dir=png,
+            lam=lam,
+            excerpts=excerpts,
+            progress=lambda s, d, t: update(d, t, s),
+        )
     if as_json:
         _emit_json({"out": str(path), "png_dir": None if png is None else str(png)})
     else:
@@ -759,10 +774,10 @@ def demo(
         _serve(ws, host, port)
 
 
-def _serve(ws: Workspace, host: str, port: int) -> None:
+def _serve(ws: Workspace, host: str, port: int, *, open_browser: bool = False) -> None:
     from talkthemes.serve import serve as run_serve
 
-    raise typer.Exit(run_serve(ws.root, host=host, port=port))
+    raise typer.Exit(run_serve(ws.root, host=host, port=port, open_browser=open_browser))
 
 
 def main() -> None:

@@ -375,6 +375,8 @@ def _client(scheduler: str, workers: int) -> Iterator[Any]:
             threads_per_worker=1,
             processes=True,
             dashboard_address=None,
+            # no dashboard; the scheduler's small HTTP server takes any free port, not 8787
+            scheduler_kwargs={"dashboard": False, "dashboard_address": "127.0.0.1:0"},
             silence_logs=logging.ERROR,
             host="127.0.0.1",
         ) as cluster,

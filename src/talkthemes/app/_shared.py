@@ -1,0 +1,362 @@
+"""What every viewer page shares: the workspace, cached loaders and the selected theme.
+
+Loaded data is cached per workspace path, version number and the modification time of
+the version's ``version.json`` (a re-publish of the same number, or a new version,
+makes a new key): arrays and tables with ``st.cache_resource`` (one shared copy, never
+mutated), aggregated frames with ``st.cache_data``. Labels, notes and hidden flags are
+read fresh from the store on every run, so an edit shows everywhere at once.
+"""
+
+from __future__ import annotations
+
+import argparse
+import dataclasses
+import logging
+import sys
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+import streamlit as st
+
+from talkthemes import charts
+from talkthemes import viewdata as vd
+from talkthemes.errors import TalkthemesError
+from talkthemes.versions import Version, load_version
+from talkthemes.workspace import Workspace, resolve_workspace
+
+log = logging.getLogger(__name__)
+
+#: Session-state key of the theme selected anywhere in the viewer (a theme id).
+SELECTED_THEME = "tt_theme_id"
+
+
+# --------------------------------------------------------------------------- workspace
+
+
+def workspace_root() -> Path:
+    """The workspace folder: ``--workspace`` after ``--`` on the command line, else
+    ``$TALKTHEMES_WORKSPACE``, else ``./talkthemes-work``."""
+    parser = argparse.ArgumentParser(add_help=False, allow_abbrev=False)
+    parser.add_argument("--workspace", default=None)
+    args, _ = parser.parse_known_args(sys.argv[1:])
+    return resolve_workspace(args.workspace).expanduser().resolve()
+
+
+def workspace() -> Workspace:
+    """The viewer's workspace."""
+    return Workspace(workspace_root())
+
+
+def readiness() -> vd.Readiness:
+    """Readiness of the viewer's workspace (read on every run: it is cheap)."""
+    return vd.readiness(workspace())
+
+
+def empty_state(step: vd.NextStep) -> None:
+    """Say what is missing and the one command to run next."""
+    st.info(
+        f"{md_escape(step.message)} Run this next, then reload this page:",
+        icon=":material/info:",
+    )
+    st.code(step.command, language="bash")
+
+
+def gate(need: vd.Need) -> Workspace:
+    """Stop the page with an empty state unless the workspace has what ``need`` names."""
+    ws = workspace()
+    step = readiness().blocker(need)
+    if step is not None:
+        empty_state(step)
+        st.stop()
+    return ws
+
+
+def show_error(exc: TalkthemesError) -> None:
+    """A one-line error for something the user can fix."""
+    st.error(md_escape(str(exc)), icon=":material/error:")
+
+
+# --------------------------------------------------------------------------- cached loaders
+
+
+def _stamp(path: Path) -> int:
+    try:
+        return path.stat().st_mtime_ns
+    except FileNotFoundError:
+        return 0
+
+
+def version_key(ws: Workspace, n: int) -> tuple[str, int, int]:
+    """Cache key of a version: workspace path, number, ``version.json`` modification time."""
+    return str(ws.root), int(n), _stamp(ws.versions_dir / str(n) / "version.json")
+
+
+@st.cache_resource(show_spinner=False, max_entries=4)
+def _version(root: str, n: int, stamp: int) -> Version:
+    return load_version(Workspace(root), n)
+
+
+@st.cache_resource(show_spinner=False, max_entries=4)
+def _layout(root: str, n: int, stamp: int) -> vd.ThemeLayout:
+    return vd.theme_layout(_version(root, n, stamp).topic_terms)
+
+
+@st.cache_resource(show_spinner=False, max_entries=4)
+def _metadata(root: str, n: int, stamp: int) -> vd.MetaTable:
+    return vd.load_metadata(Workspace(root), _version(root, n, stamp).doc_ids)
+
+
+def current_version(ws: Workspace) -> Version:
+    """The current version, its arrays cached, its labels fresh from the store."""
+    with ws.store() as store:
+        record = store.current_version()
+        if record is None:  # published meanwhile? gate() runs first, so rare
+            raise TalkthemesError("no version published yet: run 'talkthemes publish'")
+        n = int(record["n"])
+        themes = store.themes(n)
+    key = version_key(ws, n)
+    with st.spinner(f"Loading version {n} …"):
+        version = _version(*key)
+    return dataclasses.replace(version, themes=themes)
+
+
+def layout(ws: Workspace, version: Version) -> vd.ThemeLayout:
+    """Map coordinates of the version's themes (cached)."""
+    with st.spinner("Placing the themes on the map …"):
+        return _layout(*version_key(ws, version.n))
+
+
+def metadata(ws: Workspace, version: Version) -> vd.MetaTable:
+    """The version's transcripts' metadata (read once, cached)."""
+    with st.spinner("Reading the transcripts' metadata …"):
+        return _metadata(*version_key(ws, version.n))
+
+
+@st.cache_data(show_spinner=False, max_entries=8)
+def _trend(root: str, n: int, stamp: int, freq: str) -> pd.DataFrame:
+    return vd.trend_frame(_version(root, n, stamp), _metadata(root, n, stamp), freq)  # type: ignore[arg-type]
+
+
+@st.cache_data(show_spinner=False, max_entries=16)
+def _segments(root: str, n: int, stamp: int, field: str) -> pd.DataFrame:
+    return vd.segment_frame(_version(root, n, stamp), _metadata(root, n, stamp), field)
+
+
+@st.cache_data(show_spinner=False, max_entries=16)
+def _movers(root: str, n: int, stamp: int, freq: str, before: str, after: str) -> pd.DataFrame:
+    return vd.movers_frame(
+        _version(root, n, stamp),
+        _metadata(root, n, stamp),
+        freq,  # type: ignore[arg-type]
+        pd.Timestamp(before),
+        pd.Timestamp(after),
+    )
+
+
+def trend(ws: Workspace, version: Version, freq: str) -> pd.DataFrame:
+    """Shares per period with bootstrap intervals (numbers cached, names fresh)."""
+    with st.spinner("Counting themes per period and resampling for the intervals …"):
+        return vd.with_names(_trend(*version_key(ws, version.n), freq), version)
+
+
+def segments(ws: Workspace, version: Version, field: str) -> pd.DataFrame:
+    """Shares per segment of a metadata field (numbers cached, names fresh)."""
+    with st.spinner(f"Comparing themes by {field} …"):
+        return vd.with_names(_segments(*version_key(ws, version.n), field), version)
+
+
+def movers(
+    ws: Workspace, version: Version, freq: str, before: pd.Timestamp, after: pd.Timestamp
+) -> pd.DataFrame:
+    """Ranked change of each theme's share between two periods (numbers cached)."""
+    with st.spinner("Comparing the two periods …"):
+        frame = _movers(*version_key(ws, version.n), freq, before.isoformat(), after.isoformat())
+        return vd.with_names(frame, version)
+
+
+@st.cache_resource(show_spinner=False, max_entries=2)
+def lemma_table(lang: str) -> dict[str, str]:
+    """The lookup lemma table the prepare step used (empty when none ships for ``lang``)."""
+    from talkthemes.prepare.lemmas import load_lemma_table
+
+    try:
+        return load_lemma_table(lang)
+    except TalkthemesError as exc:
+        log.info("no lemma table for %s: %s", lang, exc)
+        return {}
+
+
+def version_lang(version: Version) -> str:
+    """The language the version's transcripts were prepared in."""
+    return str((version.info.get("prepare_settings") or {}).get("lang") or "en")
+
+
+@st.cache_resource(show_spinner=False, max_entries=2)
+def _prep_vocabulary(root: str, prep_hash: str) -> list[str]:
+    return vd.load_prep_vocabulary(Workspace(root), prep_hash)
+
+
+def prep_vocabulary(ws: Workspace, prep_hash: str) -> list[str]:
+    """A prep's vocabulary (cached)."""
+    return _prep_vocabulary(str(ws.root), prep_hash)
+
+
+def clear_caches() -> None:
+    """Forget every cached load (the next run reads the workspace again)."""
+    st.cache_resource.clear()
+    st.cache_data.clear()
+
+
+# --------------------------------------------------------------------------- charts
+
+_BUILDERS: dict[str, Any] = {
+    "sweep": charts.sweep_chart,
+    "map": charts.theme_map_chart,
+    "terms": charts.term_chart,
+    "trend": charts.trend_chart,
+    "segments": charts.segment_chart,
+    "movers": charts.movers_chart,
+}
+
+
+@st.cache_data(show_spinner=False, max_entries=64)
+def chart_spec(kind: str, frame: pd.DataFrame, *args: Any, **kwargs: Any) -> dict[str, Any]:
+    """The Vega-Lite spec of a :mod:`talkthemes.charts` chart, cached by its input.
+
+    Building and validating an Altair chart takes a noticeable fraction of a second
+    (seconds for the many-panel sweep chart); the same frame gives the same spec.
+    """
+    return _BUILDERS[kind](frame, *args, **kwargs).to_dict()
+
+
+def show_chart(
+    kind: str,
+    frame: pd.DataFrame,
+    *args: Any,
+    key: str | None = None,
+    on_select: Any = "ignore",
+    selection_mode: str | None = None,
+    **kwargs: Any,
+) -> Any:
+    """Draw a chart with its own look (no Streamlit theme), at its own size."""
+    with st.spinner("Drawing the chart …"):
+        spec = chart_spec(kind, frame, *args, **kwargs)
+    return st.vega_lite_chart(
+        spec,
+        theme=None,
+        width="content",
+        key=key,
+        on_select=on_select,
+        selection_mode=selection_mode,
+    )
+
+
+# --------------------------------------------------------------------------- selected theme
+
+
+def default_theme(version: Version) -> int:
+    """The shown theme that leads the most transcripts (any theme if all are hidden)."""
+    cov = version.coverage()
+    shown = [i for i, t in enumerate(version.themes) if not t["hidden"]] or list(range(version.k))
+    best = max(shown, key=lambda i: (cov[i], -i))
+    return int(version.themes[best]["theme_id"])
+
+
+def selected_theme(version: Version) -> int:
+    """The theme selected in any section (kept valid for this version)."""
+    tid = st.session_state.get(SELECTED_THEME)
+    if tid not in version.theme_ids:
+        tid = default_theme(version)
+        st.session_state[SELECTED_THEME] = tid
+    return int(tid)
+
+
+def select_theme(theme_id: int) -> None:
+    """Make ``theme_id`` the selected theme for every section."""
+    st.session_state[SELECTED_THEME] = int(theme_id)
+
+
+def theme_picker(version: Version, *, key: str, label: str = "Theme") -> int:
+    """A select box of the version's themes, bound to the shared selection."""
+    names = dict(zip(version.theme_ids, vd.theme_names(version), strict=True))
+    hidden = {int(t["theme_id"]) for t in version.themes if t["hidden"]}
+    current = selected_theme(version)
+    st.session_state[key] = current
+
+    def changed() -> None:
+        select_theme(st.session_state[key])
+
+    st.selectbox(
+        label,
+        options=version.theme_ids,
+        key=key,
+        on_change=changed,
+        format_func=lambda t: f"{names[t]} (#{t})" + (" · hidden" if t in hidden else ""),
+    )
+    return selected_theme(version)
+
+
+# --------------------------------------------------------------------------- sidebar
+
+
+def sidebar(ready: vd.Readiness) -> None:
+    """Workspace path and the current version's facts."""
+    with st.sidebar:
+        st.caption("Workspace")
+        st.code(str(ready.root), language=None)
+        if ready.version is not None:
+            try:
+                version = current_version(Workspace(ready.root))
+            except TalkthemesError as exc:
+                show_error(exc)
+                return
+            info: dict[str, Any] = version.info
+            labelled = sum(1 for t in version.themes if t["label"])
+            hidden = sum(1 for t in version.themes if t["hidden"])
+            st.markdown(
+                f"**Version {version.n}** · {str(info.get('family', '')).upper()} "
+                f"K = {version.k}  \n{len(version.doc_ids):,} transcripts  \n"
+                f"{labelled} of {version.k} themes labelled"
+                + (f", {hidden} hidden" if hidden else "")
+            )
+        elif ready.has_workspace:
+            step = ready.next_step
+            if step is not None:
+                st.caption("Next")
+                st.code(step.command, language="bash")
+        if st.button("Reload data", help="Read the workspace again (after a publish or ingest)."):
+            clear_caches()
+            st.rerun()
+
+
+# --------------------------------------------------------------------------- text
+
+_MD_SPECIAL = set("\\`*_{}[]()#+-.!|<>~$")
+
+
+def md_escape(text: str) -> str:
+    """Text shown through ``st.markdown`` as it is (markdown punctuation escaped)."""
+    return "".join("\\" + c if c in _MD_SPECIAL else c for c in str(text))
+
+
+def percent(value: float, digits: int = 1) -> str:
+    """0.123 → "12.3%"."""
+    return f"{value:.{digits}%}"
+
+
+# --------------------------------------------------------------------------- relevance λ
+
+LAMBDA = "tt_lambda"
+
+
+def relevance_lambda(ws: Workspace) -> float:
+    """The λ the user last picked (default: ``[view] relevance_lambda``)."""
+    if LAMBDA not in st.session_state:
+        st.session_state[LAMBDA] = float(ws.settings().view.relevance_lambda)
+    return float(st.session_state[LAMBDA])
+
+
+def set_relevance_lambda(value: float) -> None:
+    """Keep the λ picked on the Theme cards for every section."""
+    st.session_state[LAMBDA] = float(value)

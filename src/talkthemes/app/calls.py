@@ -1,0 +1,180 @@
+"""Calls: the transcripts a theme dominates, filtered by share, date and any metadata
+field, exported to CSV, and read in full with the theme's words highlighted.
+
+Transcript text is untrusted. It reaches the page only through
+:func:`talkthemes.viewdata.transcript_html`, which escapes every piece of it, and
+``st.html``, which sanitises again and never runs scripts.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import pandas as pd
+import streamlit as st
+
+from talkthemes import viewdata as vd
+from talkthemes.app import _shared
+from talkthemes.errors import TalkthemesError
+
+MAX_LISTED = 1000  # rows shown in the table; the CSV export has them all
+HIGHLIGHT_TERMS = 20
+OPEN_KEY = "calls_open"
+TABLE_KEY = "calls_table"
+
+
+def _filters(meta: vd.MetaTable) -> vd.CallFilter:
+    flt = vd.CallFilter()
+    with st.expander("Filters", expanded=True, icon=":material/filter_list:"):
+        left, right = st.columns(2)
+        flt.min_share = (
+            left.slider(
+                "Least share of this theme in the transcript",
+                min_value=0,
+                max_value=100,
+                value=0,
+                step=5,
+                format="%d%%",
+                key="calls_min_share",
+                help="A transcript's share is how much of it the theme accounts for.",
+            )
+            / 100.0
+        )
+        flt.lead_only = right.toggle(
+            "Only transcripts this theme leads",
+            value=True,
+            key="calls_lead_only",
+            help="Off: every transcript where the theme reaches the least share above, "
+            "even when another theme leads it.",
+        )
+        if meta.date_field is not None:
+            info = meta.fields[meta.date_field]
+            picked = left.date_input(
+                f"Date range ({_shared.md_escape(meta.date_field)})",
+                value=(info.lo, info.hi),
+                min_value=info.lo,
+                max_value=info.hi,
+                key="calls_dates",
+            )
+            if isinstance(picked, dt.date):
+                picked = (picked,)
+            # The full range keeps transcripts without a date; a narrower one filters.
+            if picked and tuple(picked) != (info.lo, info.hi):
+                flt.date_from = picked[0]
+                flt.date_to = picked[1] if len(picked) > 1 else picked[0]
+        columns = st.columns(3)
+        others = [f for f in meta.fields.values() if f.name != meta.date_field]
+        for i, info in enumerate(others):
+            box = columns[i % 3]
+            key = f"calls_field_{info.name}"
+            label = _shared.md_escape(info.name)
+            if info.kind == "category":
+                chosen = box.multiselect(label, info.values, key=key, placeholder="all values")
+                if chosen:
+                    flt.categories[info.name] = list(chosen)
+            elif info.kind == "number":
+                lo, hi = float(info.lo), float(info.hi)
+                if lo < hi:
+                    flt.ranges[info.name] = box.slider(label, lo, hi, (lo, hi), key=key)
+            elif info.kind == "text":
+                text = box.text_input(f"{label} contains", key=key)
+                if text.strip():
+                    flt.contains[info.name] = text.strip()
+            elif info.kind == "date":
+                box.caption(f"{label}: a date field (the range above filters by the main one)")
+    return flt
+
+
+def _on_table_select(ids: list[str]) -> None:
+    state = st.session_state.get(TABLE_KEY) or {}
+    rows = (state.get("selection") or {}).get("rows") or []
+    if rows and rows[0] < len(ids):
+        st.session_state[OPEN_KEY] = ids[rows[0]]
+
+
+def render() -> None:
+    """The Calls section."""
+    ws = _shared.gate("version")
+    version = _shared.current_version(ws)
+    meta = _shared.metadata(ws, version)
+    st.title("Calls")
+    tid = _shared.theme_picker(version, key="calls_pick")
+    pos = version.position(tid)
+    flt = _filters(meta)
+    try:
+        frame = vd.calls_table(version, meta, pos, flt)
+    except TalkthemesError as exc:
+        _shared.show_error(exc)
+        return
+    coverage = float(version.coverage()[pos])
+    st.caption(
+        f"{len(frame):,} transcripts match, most dominated by the theme first. The theme "
+        f"leads {coverage:.1%} of all {len(version.doc_ids):,} transcripts."
+        + (f" The table lists the first {MAX_LISTED:,}." if len(frame) > MAX_LISTED else "")
+    )
+    shown = frame.head(MAX_LISTED)
+    ids = shown["transcript_id"].astype(str).tolist()
+    st.dataframe(
+        shown,
+        hide_index=True,
+        key=TABLE_KEY,
+        on_select=lambda: _on_table_select(ids),
+        selection_mode="single-row",
+        column_config={
+            "transcript_id": st.column_config.TextColumn("Transcript"),
+            "share": st.column_config.ProgressColumn(
+                "Share of this theme", format="percent", min_value=0.0, max_value=1.0
+            ),
+            "lead_theme": st.column_config.TextColumn("Lead theme"),
+            "lead_share": st.column_config.NumberColumn("Lead share", format="percent"),
+        },
+    )
+    st.download_button(
+        "Download the list (CSV)",
+        data=lambda: vd.calls_csv(frame),
+        file_name=f"theme-{tid}-calls.csv",
+        mime="text/csv",
+        on_click="ignore",
+        icon=":material/download:",
+        key="calls_download",
+    )
+    if not ids:
+        st.info("No transcript matches these filters.", icon=":material/search_off:")
+        return
+
+    st.subheader("Transcript")
+    if st.session_state.get(OPEN_KEY) not in ids:
+        st.session_state[OPEN_KEY] = ids[0]
+    shares = dict(zip(ids, shown["share"], strict=True))
+    tid_open = st.selectbox(
+        "Open a transcript",
+        ids,
+        key=OPEN_KEY,
+        format_func=lambda i: f"{i} · {shares[i]:.0%} this theme",
+    )
+    lam = _shared.relevance_lambda(ws)
+    terms = version.top_terms(pos, HIGHLIGHT_TERMS, lam)
+    highlighter = vd.TermHighlighter(
+        terms, lemmas=_shared.lemma_table(_shared.version_lang(version))
+    )
+    try:
+        turns = vd.load_transcript(ws, tid_open, highlighter)
+    except TalkthemesError as exc:
+        _shared.show_error(exc)
+        return
+    row = shown[shown["transcript_id"] == tid_open].iloc[0]
+    facts = [
+        _shared.md_escape(f"{k}: {row[k]}") for k in meta.frame.columns if pd.notna(row.get(k))
+    ]
+    st.caption(
+        " · ".join([f"{len(turns)} turns", f"share of this theme {row['share']:.0%}", *facts])
+    )
+    st.caption(
+        f"Marked words are the theme's {HIGHLIGHT_TERMS} most relevant terms at λ = {lam:g}, "
+        "found in the original wording (other forms of the same word count too)."
+    )
+    st.html(vd.transcript_html(turns))
+
+
+if __name__ == "__main__":
+    render()

@@ -1,0 +1,92 @@
+"""Theme map: themes placed by how alike their words are; selecting one drives the other
+sections."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from talkthemes import charts
+from talkthemes import viewdata as vd
+from talkthemes.app import _shared
+
+CHART_KEY = "map_chart"
+TABLE_KEY = "map_table"
+
+
+def _on_chart_select() -> None:
+    state = st.session_state.get(CHART_KEY) or {}
+    picked = (state.get("selection") or {}).get("theme") or []
+    if picked:
+        _shared.select_theme(int(picked[0]["theme_id"]))
+
+
+def render() -> None:
+    """The Theme map section."""
+    ws = _shared.gate("version")
+    version = _shared.current_version(ws)
+    layout = _shared.layout(ws, version)
+    lam = ws.settings().view.relevance_lambda
+    table = vd.theme_table(version, layout, lam=lam)
+    selected = _shared.selected_theme(version)
+
+    st.title("Theme map")
+    _shared.show_chart(
+        "map",
+        table[["theme_id", "x", "y", "coverage", "name", "hidden"]],
+        selected=selected,
+        key=CHART_KEY,
+        on_select=_on_chart_select,
+        selection_mode="theme",
+    )
+    st.caption(
+        charts.theme_map_caption(layout.explained)
+        + " Distances come from the Jensen–Shannon distance between the themes' word "
+        "distributions; the axes themselves have no unit. Faint dashed circles are themes "
+        "hidden as noise."
+    )
+
+    row = table[table["theme_id"] == _shared.selected_theme(version)].iloc[0]
+    st.subheader(f"Selected: {_shared.md_escape(row['name'])}")
+    a, b, c = st.columns(3)
+    a.metric("Leads", _shared.percent(row["coverage"]), help="Share of transcripts it leads.")
+    b.metric(
+        "Average share",
+        _shared.percent(row["mean_share"]),
+        help="Its average share across all transcripts.",
+    )
+    c.metric("Theme id", f"#{int(row['theme_id'])}")
+    st.caption(f"Top words: {_shared.md_escape(row['top_terms'])}")
+    st.page_link("theme_cards.py", label="Open its card", icon=":material/label:")
+    st.page_link("calls.py", label="Read the calls it leads", icon=":material/call:")
+
+    st.subheader("All themes")
+    st.caption("Sorted by the share of transcripts each theme leads. Select a row to select it.")
+    shown = table.sort_values(["coverage", "theme_id"], ascending=[False, True])
+    st.dataframe(
+        shown[["theme_id", "name", "coverage", "mean_share", "top_terms", "hidden"]],
+        hide_index=True,
+        key=TABLE_KEY,
+        on_select=lambda: _on_table_select(shown),
+        selection_mode="single-row",
+        column_config={
+            "theme_id": st.column_config.NumberColumn("Id", format="%d", width="small"),
+            "name": st.column_config.TextColumn("Theme"),
+            "coverage": st.column_config.ProgressColumn(
+                "Leads", format="percent", min_value=0.0, max_value=1.0
+            ),
+            "mean_share": st.column_config.NumberColumn("Average share", format="percent"),
+            "top_terms": st.column_config.TextColumn("Top words", width="large"),
+            "hidden": st.column_config.CheckboxColumn("Hidden"),
+        },
+    )
+
+
+def _on_table_select(shown: object) -> None:
+    state = st.session_state.get(TABLE_KEY) or {}
+    rows = (state.get("selection") or {}).get("rows") or []
+    if rows:
+        _shared.select_theme(int(shown.iloc[rows[0]]["theme_id"]))  # type: ignore[attr-defined]
+
+
+if __name__ == "__main__":
+    render()

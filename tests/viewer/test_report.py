@@ -1,0 +1,135 @@
+"""The self-contained HTML report: offline, complete, escaped, with PNGs on request."""
+
+from __future__ import annotations
+
+import html
+import json
+import re
+from collections.abc import Iterator
+from pathlib import Path
+
+import pytest
+
+from talkthemes.errors import NotReadyError
+from talkthemes.report import build_report, render_report, write_report
+from talkthemes.versions import load_version
+from talkthemes.workspace import Workspace
+
+
+def specs_of(page: str) -> dict:
+    m = re.search(r'<script id="tt-specs" type="application/json">(.*?)</script>', page, re.S)
+    assert m is not None
+    return json.loads(m.group(1))
+
+
+def records(spec: object) -> Iterator[dict]:
+    """Every data record in a spec (inline values anywhere, or top-level datasets)."""
+    if isinstance(spec, dict):
+        if "theme_id" in spec:
+            yield spec
+        for value in spec.values():
+            yield from records(value)
+    elif isinstance(spec, list):
+        for value in spec:
+            yield from records(value)
+
+
+def cards_of(page: str) -> dict[int, str]:
+    found = re.findall(r'<article class="card" id="theme-(\d+)">(.*?)</article>', page, re.S)
+    return {int(tid): body for tid, body in found}
+
+
+@pytest.fixture(scope="module")
+def page(report_file: Path) -> str:
+    return report_file.read_text(encoding="utf-8")
+
+
+def test_the_report_loads_nothing_from_anywhere(page: str) -> None:
+    assert page.startswith("<!DOCTYPE html>")
+    assert re.search(r"<script[^>]*\bsrc\s*=", page, re.I) is None
+    assert re.search(r"<link\b", page, re.I) is None
+    assert re.search(r"""\b(?:src|href)\s*=\s*["']?\s*(?:https?:)?//""", page, re.I) is None
+    assert re.search(r"url\(\s*['\"]?(?:https?:)?//", page, re.I) is None
+    assert "@import" not in page
+    csp = re.search(r'http-equiv="Content-Security-Policy" content="([^"]+)"', page)
+    assert csp is not None and "default-src 'none'" in csp.group(1)
+    assert "connect-src" not in csp.group(1)  # so fetches fall back to 'none'
+    assert page.count("window.vegaEmbed=") == 1  # the runtime is inlined once
+    assert "actions:false" in page  # no links out of the charts' menus
+
+
+def test_the_report_has_every_part(demo_ws, page: str) -> None:
+    version = load_version(demo_ws.ws)
+    specs = specs_of(page)
+    expected = {"sweep", "theme-map", "trend"} | {f"theme-{t}-terms" for t in version.theme_ids}
+    assert set(specs) == expected
+    assert all(
+        s["$schema"].startswith("https://vega.github.io/schema/vega-lite/") for s in specs.values()
+    )
+    for cid in specs:
+        assert f'<div class="chart" id="{cid}"' in page
+    with demo_ws.ws.store() as store:
+        rec = store.get_sweep()["recommendations"]["nmf"]
+    assert f"NMF: K = {rec['k']} recommended" in page
+    assert all(html.escape(r) in page for r in rec["reasons"])
+    assert "Bills &amp; &lt;payments&gt;" in page  # a label, escaped
+    assert "keep" in page and "Theme map" in page
+    cards = cards_of(page)
+    assert set(cards) == set(version.theme_ids)
+    for tid, body in cards.items():
+        pos = version.position(tid)
+        expected_quotes = min(3, int((version.lead() == pos).sum()))
+        assert body.count("<blockquote>") == expected_quotes
+        assert '<mark class="tt-hit">' in body or expected_quotes == 0
+        words = ", ".join(t.replace("_", " ") for t in version.top_terms(pos, 15, 0.6))
+        assert words in body
+    assert "Hidden as noise" not in page
+
+
+def test_the_trend_has_every_shown_theme(demo_ws, page: str) -> None:
+    version = load_version(demo_ws.ws)
+    ids = {r["theme_id"] for r in records(specs_of(page)["trend"])}
+    assert ids == set(version.theme_ids)
+
+
+def test_each_chart_is_also_a_png(report_file: Path, page: str) -> None:
+    folder = report_file.parent / "png"
+    pngs = sorted(p.stem for p in folder.glob("*.png"))
+    assert pngs == sorted(specs_of(page))
+    for path in folder.glob("*.png"):
+        data = path.read_bytes()
+        assert data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 2000
+
+
+def test_hidden_themes_are_folded_and_left_out_of_the_trend(ws_copy) -> None:
+    version = load_version(ws_copy)
+    hidden = version.theme_ids[-1]
+    with ws_copy.store() as store:
+        store.set_label(hidden, hidden=True)
+    page = render_report(build_report(ws_copy, excerpts=1))
+    folded = page.split("<details><summary>Hidden as noise (1)</summary>", 1)
+    assert len(folded) == 2
+    assert f'id="theme-{hidden}"' in folded[1] and f'id="theme-{hidden}"' not in folded[0]
+    assert hidden not in {r["theme_id"] for r in records(specs_of(page)["trend"])}
+    assert hidden in {r["theme_id"] for r in records(specs_of(page)["theme-map"])}
+    assert all(b.count("<blockquote>") <= 1 for b in cards_of(page).values())
+    assert "1 hidden as noise" in page
+
+
+def test_lambda_changes_the_word_ranking(ws_copy) -> None:
+    version = load_version(ws_copy)
+    report = build_report(ws_copy, lam=1.0, excerpts=0)
+    body = report.body
+    for pos, tid in enumerate(version.theme_ids):
+        words = ", ".join(t.replace("_", " ") for t in version.top_terms(pos, 15, 1.0))
+        assert words in cards_of(body)[tid]
+        assert "<blockquote>" not in cards_of(body)[tid]
+    assert "λ = 1" in body
+
+
+def test_no_report_before_a_version(tmp_path: Path) -> None:
+    ws = Workspace(tmp_path / "w")
+    ws.init()
+    with pytest.raises(NotReadyError, match="talkthemes ingest"):
+        write_report(ws, tmp_path / "r.html")
+    assert not (tmp_path / "r.html").exists()

@@ -1,0 +1,107 @@
+"""Hostile transcript text and labels show as text — in the Calls section and the report.
+
+The demo workspace holds ``A-xss-001``, whose every turn carries ``<script>alert(1)</script>``
+and ``<img src=x onerror=alert(1)>``, and whose ``site`` metadata carries the image tag.
+"""
+
+from __future__ import annotations
+
+import html
+from pathlib import Path
+
+import pytest
+from streamlit.testing.v1 import AppTest
+
+import talkthemes.app
+from talkthemes import viewdata as vd
+from talkthemes.app import _shared
+from talkthemes.app.calls import OPEN_KEY
+from talkthemes.report import build_report, render_report
+from talkthemes.versions import load_version
+
+APP = Path(talkthemes.app.__file__).resolve().parent / "main.py"
+SCRIPT = "<script>alert(1)</script>"
+IMG = "<img src=x onerror=alert(1)>"
+RAW = ("<script", "<img", "onerror=alert(1)>")
+
+
+def _assert_text_only(markup: str) -> None:
+    for raw in RAW:
+        assert raw not in markup.replace("&lt;script", "").replace("&lt;img", ""), raw
+    assert "<script" not in markup and "<img" not in markup
+
+
+def test_the_calls_section_shows_markup_as_text(demo_ws, monkeypatch) -> None:
+    version = load_version(demo_ws.ws)
+    lead = version.theme_ids[int(version.lead()[version.doc_ids.index(demo_ws.xss_id)])]
+    monkeypatch.setenv("TALKTHEMES_WORKSPACE", str(demo_ws.ws.root))
+    at = AppTest.from_file(str(APP), default_timeout=180)
+    at.run()
+    at.session_state[_shared.SELECTED_THEME] = lead
+    at.session_state[OPEN_KEY] = demo_ws.xss_id
+    at.switch_page("calls.py").run()
+    assert not at.exception, [e.value for e in at.exception]
+    assert at.selectbox(key=OPEN_KEY).value == demo_ws.xss_id
+    bodies = [h.value for h in at.get("html")]
+    assert len(bodies) == 1
+    body = bodies[0]
+    _assert_text_only(body)
+    with demo_ws.ws.store() as store:
+        stored = " ".join(t.text for t in store.get_turns(demo_ws.xss_id))
+    assert stored.count(SCRIPT) >= 5 and stored.count(IMG) >= 5
+    assert body.count(html.escape(SCRIPT)) == stored.count(SCRIPT)
+    assert body.count(html.escape(IMG)) == stored.count(IMG)
+    # the metadata shown above the transcript is escaped markdown, never markup
+    facts = " ".join(c.value for c in at.caption)
+    assert _shared.md_escape(f"site: Site {IMG}") in facts
+    # the list shows the value as data (a cell of a table, not HTML)
+    listed = at.dataframe[0].value.set_index("transcript_id")
+    assert listed.loc[demo_ws.xss_id, "site"] == f"Site {IMG}"
+    # and the site filter offers it as a plain option
+    assert f"Site {IMG}" in at.multiselect(key="calls_field_site").options
+
+
+def test_markdown_escape_neutralises_markup() -> None:
+    escaped = _shared.md_escape("[click](javascript:alert(1)) <b>x</b> *y*")
+    assert "\\[click\\]\\(javascript" in escaped and "\\<b\\>" in escaped and "\\*y\\*" in escaped
+
+
+def test_highlighted_html_is_built_from_escaped_pieces() -> None:
+    h = vd.TermHighlighter(["alert", "script", "power"])
+    text = f"power {SCRIPT} and {IMG}"
+    out = vd.segments_html(h.segments(text))
+    _assert_text_only(out)
+    assert html.unescape(out.replace('<mark class="tt-hit">', "").replace("</mark>", "")) == text
+    assert '<mark class="tt-hit">script</mark>' in out  # a term inside the tag, still text
+
+
+def test_the_report_shows_markup_as_text(ws_copy) -> None:
+    version = load_version(ws_copy)
+    pos = int(version.lead()[version.doc_ids.index("A-xss-001")])
+    tid = version.theme_ids[pos]
+    with ws_copy.store() as store:
+        store.set_label(tid, label=f"</script>{SCRIPT}", note=f"{IMG} & \"quoted\" 'note'")
+    n_led = int((version.lead() == pos).sum())
+    page = render_report(build_report(ws_copy, excerpts=n_led))
+    body = page.split("</head>", 1)[1]  # after the inlined chart runtime
+    card = body.split(f'id="theme-{tid}"', 1)[1].split("</article>", 1)[0]
+    assert html.escape(f"</script>{SCRIPT}") in card
+    assert html.escape(f"{IMG} & \"quoted\" 'note'") in card
+    assert card.count(html.escape(IMG)) >= 2  # the note and the hostile excerpt
+    assert "A-xss-001" in card
+    visible = body.split('<script id="tt-specs"', 1)[0]
+    _assert_text_only(visible)
+    specs = body.split('<script id="tt-specs" type="application/json">', 1)[1].split(
+        "</script>", 1
+    )[0]
+    assert "<" not in specs and ">" not in specs and "\\u003c/script\\u003e" in specs
+    assert page.count("<script") == 3  # the runtime, the specs, the loader — nothing else
+
+
+@pytest.mark.parametrize("text", [SCRIPT, IMG, "a</mark><script>x</script>"])
+def test_transcript_html_never_passes_markup(text: str) -> None:
+    turns = vd.turn_views(
+        [type("T", (), {"seq": 0, "speaker": text, "role": "agent", "start": 1.0, "text": text})],
+        vd.TermHighlighter(["mark", "script", "img"]),
+    )
+    _assert_text_only(vd.transcript_html(turns))
