@@ -145,6 +145,11 @@ def _workspace(path: Path | None) -> Workspace:
     return Workspace(resolve_workspace(path))
 
 
+def _lock(ws: Workspace, command: str, wait: bool) -> Any:
+    """The workspace's writer lock for ``command``; with ``wait``, say so and wait."""
+    return ws.lock(command, wait=wait, on_wait=lambda m: err.print(f"{m}; waiting…"))
+
+
 # -- init ---------------------------------------------------------------------------
 @app.command()
 def init(
@@ -194,7 +199,7 @@ def ingest(
     if not ws.exists():
         ws.init()
     with (
-        ws.lock("ingest", wait=wait, on_wait=lambda m: err.print(f"{m}; waiting…")),
+        _lock(ws, "ingest", wait),
         _progress("ingest", enabled=not as_json) as update,
     ):
         report = run_ingest(ws, paths, manifests=manifest or [], progress=update)
@@ -344,7 +349,7 @@ def prepare(
     ws = _workspace(workspace)
     ws.require()
     with (
-        ws.lock("prepare", wait=wait, on_wait=lambda m: err.print(f"{m}; waiting…")),
+        _lock(ws, "prepare", wait),
         _progress("prepare", enabled=not as_json) as update,
     ):
         result = run_prepare(
@@ -449,7 +454,7 @@ def sweep(
     ws.require()
     families = [f.strip() for f in family.split(",") if f.strip()] if family else None
     with (
-        ws.lock("sweep", wait=wait, on_wait=lambda m: err.print(f"{m}; waiting…")),
+        _lock(ws, "sweep", wait),
         _progress("sweep cells", enabled=not as_json) as update,
     ):
         result = run_sweep(
@@ -499,7 +504,7 @@ def publish(
 
     ws = _workspace(workspace)
     ws.require()
-    with ws.lock("publish", wait=wait, on_wait=lambda m: err.print(f"{m}; waiting…")):
+    with _lock(ws, "publish", wait):
         if version is not None:
             with ws.store() as store:
                 store.set_current_version(version)
