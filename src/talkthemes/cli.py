@@ -342,7 +342,7 @@ def prepare(
     wait: WaitOpt = False,
     as_json: JsonOpt = False,
 ) -> None:
-    """Run the preprocessing chain ([prepare] settings) into a cached prepared corpus."""
+    """Run the preprocessing chain (the prepare settings) into a cached prepared corpus."""
     from talkthemes.prepare.explain import explain_json, render_explain
     from talkthemes.prepare.run import run_prepare
 
@@ -507,6 +507,12 @@ def publish(
     with _lock(ws, "publish", wait):
         if version is not None:
             with ws.store() as store:
+                known = [v["n"] for v in store.versions()]
+                if version not in known:
+                    raise ConfigError(
+                        f"--version {version}: no such version (kept: "
+                        f"{', '.join(map(str, known)) or 'none'})"
+                    )
                 store.set_current_version(version)
             v = load_version(ws, version)
             doc = {"version": v.n, "themes": v.summary(lam=ws.settings().view.relevance_lambda)}
@@ -734,6 +740,13 @@ def demo(
     serve: Annotated[
         bool, typer.Option("--serve/--no-serve", help="Serve the viewer at the end.")
     ] = True,
+    refresh: Annotated[
+        bool,
+        typer.Option(
+            "--refresh/--no-refresh",
+            help="Hold back the last month, then refresh with it (shows a new theme).",
+        ),
+    ] = True,
     host: Annotated[str, typer.Option("--host", help="Viewer address.")] = "127.0.0.1",
     port: Annotated[int, typer.Option("--port", help="Viewer port.")] = 8501,
     workspace: WorkspaceOpt = None,
@@ -750,7 +763,7 @@ def demo(
     ws.init()
     source = ws.root / "demo-source"
     err.print(f"Writing {size:,} invented calls to {source} …")
-    files = write_demo(source, size=size, seed=seed)
+    files = write_demo(source, size=size, seed=seed, hold_back_last_month=refresh)
     doc: dict[str, Any] = {"workspace": str(ws.root)}
     quiet = as_json
     with ws.lock("demo"):
@@ -770,8 +783,28 @@ def demo(
                 ws, k=best_k, family=family, progress=lambda s, d, t: update(d, t, s)
             )
         doc["published"] = {"version": published.version, "family": family, "k": best_k}
+        if refresh and files.inbox is not None:
+            from talkthemes.refresh import refresh as run_refresh
+
+            if not quiet:
+                out.print(f"Published version {published.version}: {family} K={best_k}.")
+                _print_themes(published.themes)
+                err.print("Now the held-back last month arrives: refreshing …")
+            with _progress("refresh", enabled=not quiet) as update:
+                refreshed = run_refresh(ws, ingest_paths=[files.inbox], progress=update)
+            doc["refresh"] = refreshed.to_json()
     if as_json:
         _emit_json(doc)
+    elif "refresh" in doc:
+        r = doc["refresh"]
+        counts = r.get("counts", {})
+        out.print(
+            f"Refresh published version {r.get('version')}: "
+            f"{counts.get('carried', 0)} themes carried, {counts.get('new', 0)} new, "
+            f"{counts.get('retired', 0)} retired."
+        )
+        for t in r.get("new_themes", []):
+            out.print(f"  new theme {t['theme_id']}: {', '.join(t['top_terms'][:6])}")
     else:
         out.print(f"Published version {published.version}: {family} K={best_k}.")
         _print_themes(published.themes)
@@ -783,6 +816,15 @@ def _serve(ws: Workspace, host: str, port: int, *, open_browser: bool = False) -
     from talkthemes.serve import serve as run_serve
 
     raise typer.Exit(run_serve(ws.root, host=host, port=port, open_browser=open_browser))
+
+
+def _register_extras() -> None:
+    from talkthemes.cli_refresh import register
+
+    register(app)
+
+
+_register_extras()
 
 
 def main() -> None:

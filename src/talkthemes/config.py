@@ -266,8 +266,30 @@ class RefreshSettings(_Section):
     match_percentile: float = Field(
         5.0,
         gt=0,
-        lt=100,
-        description="Percentile of seed-to-seed matched distances used as the same-theme cut-off.",
+        lt=50,
+        description=(
+            "Same-theme cut-off: midway between the (100 - this) percentile of distances "
+            "between matched themes of fits with different seeds and the (this) percentile "
+            "of distances between unmatched themes."
+        ),
+    )
+    calibration_seeds: int = Field(
+        2,
+        ge=1,
+        le=20,
+        description=(
+            "Extra fits (other seeds, each on a random subsample) of the published model "
+            "used to calibrate the same-theme cut-off."
+        ),
+    )
+    tie_margin: float = Field(
+        0.05,
+        ge=0,
+        le=1,
+        description=(
+            "A theme within this distance of its best match to two or more themes of the "
+            "other version is flagged as a possible split or merge."
+        ),
     )
 
 

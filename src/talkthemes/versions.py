@@ -6,8 +6,14 @@ any point leaves the previous version current:
 
 ``topic_terms.npy`` (K×V float32), ``doc_topics.npy`` (D×K float32), ``doc_ids.json``,
 ``vocabulary.json``, ``model/`` (the model state as ``.npy`` arrays plus ``params.json``),
-``version.json`` (what was published, from which sweep cell, settings, library versions,
-theme ids by row, per-theme coherence).
+``prep.json`` (what the prep learned that new text needs: settings, boilerplate sentences,
+phrases, excluded transcripts; see :mod:`talkthemes.assign`), ``version.json`` (what was
+published, from which sweep cell or refresh, settings, library versions, theme ids by row,
+retired theme ids, per-theme coherence), and for a refresh ``drift.json``, ``drift.md``
+and ``drift.png`` (see :mod:`talkthemes.drift`).
+
+Only the newest ``[refresh] keep_versions`` versions are kept, and always the current one
+(:func:`prune_versions`).
 """
 
 from __future__ import annotations
@@ -15,7 +21,8 @@ from __future__ import annotations
 import io
 import json
 import logging
-import time
+import re
+import shutil
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -29,12 +36,19 @@ from talkthemes.errors import ConfigError, InputError, NotReadyError
 from talkthemes.workspace import Workspace, atomic_dir, atomic_write_bytes
 
 __all__ = [
+    "FittedVersion",
     "PublishResult",
+    "ThemePlan",
     "Version",
     "export_shares",
+    "fit_version",
     "load_version",
     "pick_cell",
+    "prune_versions",
     "publish",
+    "remove_leftovers",
+    "write_table",
+    "write_version",
 ]
 
 log = logging.getLogger(__name__)
@@ -317,6 +331,302 @@ def _find_cell(
     raise NotReadyError("no finished sweep cell yet: run 'talkthemes sweep' first")
 
 
+@dataclass
+class FittedVersion:
+    """A model fitted on a prep and scored: everything a version folder holds.
+
+    Built by :func:`fit_version`; written by :func:`write_version`.
+    """
+
+    family: str
+    k: int
+    seed: int
+    topic_terms: np.ndarray
+    doc_topics: np.ndarray
+    doc_ids: list[str]
+    vocabulary: list[str]
+    state_arrays: dict[str, np.ndarray]
+    state_params: dict[str, Any]
+    info: dict[str, Any]
+    prep_info: dict[str, Any]
+
+
+@dataclass
+class ThemePlan:
+    """Which theme each row of a new version is, and what it retires.
+
+    Attributes
+    ----------
+    theme_ids : list of int or None
+        Per row: the theme id it carries, or None for a new theme (an id is reserved).
+    statuses : list of str
+        Per row: ``carried`` or ``new``.
+    info : list of dict
+        Per row: stored with the theme (e.g. the distance it moved, near-ties).
+    retired : list of dict
+        Themes of the previous version that this one retires: ``theme_id`` and ``info``.
+    """
+
+    theme_ids: list[int | None]
+    statuses: list[str]
+    info: list[dict[str, Any]]
+    retired: list[dict[str, Any]] = field(default_factory=list)
+
+    @classmethod
+    def all_new(cls, k: int) -> ThemePlan:
+        """Every row a new theme (a first publish)."""
+        return cls([None] * k, ["new"] * k, [{} for _ in range(k)], [])
+
+
+#: ``extra_files(folder, n, theme_ids)``: writes more files into the version folder before
+#: it is moved into place.
+ExtraFiles = Callable[[Path, int, list[int]], None]
+#: ``checkpoint(stage)``: called at the named stages of writing a version.
+Checkpoint = Callable[[str], None]
+
+
+def prep_record(corpus: Any) -> dict[str, Any]:
+    """The part of a prep's ``prep.json`` a version keeps, to prepare new text alike."""
+    info = corpus.info
+    return {
+        "hash": info.get("hash", ""),
+        "settings": info.get("settings", {}),
+        "phrases": info.get("phrases", []),
+        "boilerplate": info.get("boilerplate", []),
+        "excluded": [[t, r] for t, r in corpus.excluded],
+        "corpus_fingerprint": info.get("corpus_fingerprint", ""),
+    }
+
+
+def fit_version(
+    ws: Workspace,
+    corpus: Any,
+    *,
+    family: str,
+    k: int,
+    seed: int,
+    prep_hash: str,
+    model: Any = None,
+) -> FittedVersion:
+    """Fit ``family`` at ``k`` with ``seed`` on every transcript of a prep and score it.
+
+    Parameters
+    ----------
+    ws : Workspace
+    corpus : PreparedCorpus
+    family, k, seed
+        The model to fit (``[sweep]`` settings give the rest).
+    prep_hash : str
+    model : fitted model, optional
+        An already fitted model of this configuration on ``corpus`` (it is not refitted).
+
+    Returns
+    -------
+    FittedVersion
+        With per-theme coherence (C_NPMI, C_V on the prep's token streams) and each
+        theme's share of all tokens.
+    """
+    from talkthemes.metrics.coherence import build_reference, score
+    from talkthemes.models.base import top_terms, topic_shares
+    from talkthemes.sweep import make_model
+
+    settings = ws.settings()
+    counts = corpus.counts.tocsr()
+    if model is None:
+        model = make_model(family, k, seed, settings.sweep).fit(counts)
+    result = model.result_
+    tops = top_terms(result.topic_terms, min(settings.sweep.topn, result.topic_terms.shape[1]))
+    reference = build_reference(
+        corpus.tokens, corpus.offsets, counts, np.unique(tops), windows=(110, 10)
+    )
+    coherence = {
+        m: [float(x) for x in score(reference, tops, m).per_topic] for m in ("c_npmi", "c_v")
+    }
+    lengths = np.asarray(counts.sum(axis=1)).ravel()
+    weights = topic_shares(result.doc_topics, lengths)
+    arrays, params = model.state()
+    info = {
+        "family": family,
+        "k": int(k),
+        "seed": int(seed),
+        "prep_hash": prep_hash,
+        "n_docs": corpus.n_docs,
+        "n_terms": corpus.n_terms,
+        "topic_weights": [float(x) for x in weights],
+        "coherence": coherence,
+        "topn": settings.sweep.topn,
+        "params": result.params,
+        "fit_seconds": float(result.fit_seconds),
+        "prepare_settings": corpus.info.get("settings") or settings.prepare.model_dump(),
+        "libraries": corpus.info.get("versions", {}),
+    }
+    return FittedVersion(
+        family=family,
+        k=int(k),
+        seed=int(seed),
+        topic_terms=np.asarray(result.topic_terms),
+        doc_topics=np.asarray(result.doc_topics),
+        doc_ids=list(corpus.doc_ids),
+        vocabulary=list(corpus.vocabulary),
+        state_arrays=arrays,
+        state_params=params,
+        info=info,
+        prep_info=prep_record(corpus),
+    )
+
+
+def write_version(
+    ws: Workspace,
+    fitted: FittedVersion,
+    *,
+    plan: ThemePlan | None = None,
+    extra_info: dict[str, Any] | None = None,
+    extra_files: ExtraFiles | None = None,
+    refresh_id: int | None = None,
+    refresh_info: Callable[[int, list[int]], dict[str, Any]] | None = None,
+    checkpoint: Checkpoint | None = None,
+) -> int:
+    """Write a version folder in full, make it current in one transaction, prune old ones.
+
+    The caller holds the workspace lock. The folder is built under a temporary name and
+    moved into place (:func:`~talkthemes.workspace.atomic_dir`); only then does one
+    transaction record the version, its themes, the themes it retires and (for a refresh)
+    the refresh log row. A crash before that commit leaves the previous version current.
+
+    Parameters
+    ----------
+    ws : Workspace
+    fitted : FittedVersion
+    plan : ThemePlan, optional
+        Theme ids and statuses per row; by default every row is a new theme.
+    extra_info : dict, optional
+        Added to ``version.json`` and the store's record.
+    extra_files : callable, optional
+        ``extra_files(folder, n, theme_ids)`` writes more files (e.g. the drift report).
+    refresh_id : int, optional
+        The refresh log row to mark published in the same transaction.
+    refresh_info : callable, optional
+        ``refresh_info(n, theme_ids)`` gives that row's summary.
+    checkpoint : callable, optional
+        Called with ``"version-files"`` once the files are written (not yet moved),
+        ``"version-folder"`` once the folder is in place (not yet current) and
+        ``"version-current"`` after the commit (before pruning).
+
+    Returns
+    -------
+    int
+        The version number.
+    """
+    plan = plan or ThemePlan.all_new(fitted.k)
+    if len(plan.theme_ids) != fitted.k or len(plan.statuses) != fitted.k:
+        raise InputError(f"theme plan has {len(plan.theme_ids)} rows for {fitted.k} themes")
+    with ws.store() as store:
+        n = store.next_version_number()
+        fresh = iter(store.reserve_theme_ids(sum(t is None for t in plan.theme_ids)))
+    theme_ids = [int(t) if t is not None else next(fresh) for t in plan.theme_ids]
+    folder = ws.versions_dir / str(n)
+    info = {"n": n, **fitted.info, **(extra_info or {}), "theme_ids": theme_ids}
+    info["retired_theme_ids"] = [int(r["theme_id"]) for r in plan.retired]
+    with atomic_dir(folder) as tmp:
+        np.save(tmp / "topic_terms.npy", fitted.topic_terms.astype(np.float32), allow_pickle=False)
+        np.save(tmp / "doc_topics.npy", fitted.doc_topics.astype(np.float32), allow_pickle=False)
+        (tmp / "doc_ids.json").write_text(json.dumps(fitted.doc_ids), encoding="utf-8")
+        (tmp / "vocabulary.json").write_text(
+            json.dumps(fitted.vocabulary, ensure_ascii=False), encoding="utf-8"
+        )
+        (tmp / "prep.json").write_text(
+            json.dumps(fitted.prep_info, ensure_ascii=False), encoding="utf-8"
+        )
+        (tmp / "model").mkdir()
+        for name, arr in fitted.state_arrays.items():
+            np.save(tmp / "model" / f"{name}.npy", np.asarray(arr), allow_pickle=False)
+        (tmp / "model" / "params.json").write_text(
+            json.dumps(fitted.state_params, default=float), "utf-8"
+        )
+        if extra_files is not None:
+            extra_files(tmp, n, theme_ids)
+        (tmp / "version.json").write_text(json.dumps(info, indent=1, default=float), "utf-8")
+        if checkpoint:
+            checkpoint("version-files")
+    if checkpoint:
+        checkpoint("version-folder")
+    themes = [
+        {"theme_id": tid, "position": i, "status": plan.statuses[i], "info": plan.info[i]}
+        for i, tid in enumerate(theme_ids)
+    ]
+    with ws.store() as store:
+        store.publish_version(
+            n,
+            info,
+            themes,
+            retired=plan.retired,
+            refresh_id=refresh_id,
+            refresh_info=refresh_info(n, theme_ids) if refresh_info else None,
+        )
+    if checkpoint:
+        checkpoint("version-current")
+    removed = prune_versions(ws, ws.settings().refresh.keep_versions)
+    if removed:
+        log.info("removed old versions %s", removed)
+    return n
+
+
+def prune_versions(ws: Workspace, keep: int) -> list[int]:
+    """Delete all but the newest ``keep`` versions, never the current one.
+
+    The store forgets them first (one transaction), then their folders are removed, with
+    any leftovers of interrupted runs (:func:`remove_leftovers`). The caller holds the
+    workspace lock.
+
+    Returns
+    -------
+    list of int
+        The versions deleted from the store.
+    """
+    keep = max(1, int(keep))
+    with ws.store() as store:
+        numbers = store.version_numbers()
+        current = store.current_version()
+        cur = None if current is None else int(current["n"])
+        old = [x for x in numbers[:-keep] if x != cur] if len(numbers) > keep else []
+        deleted = store.delete_versions(old)
+    remove_leftovers(ws)
+    return deleted
+
+
+_TEMPORARY = re.compile(r"\.\d+\.(.+\.tmp|old-\d+)")
+
+
+def remove_leftovers(ws: Workspace) -> list[str]:
+    """Remove version folders no version record points to.
+
+    These are a version folder written by a run killed before its commit, the temporary
+    folder of a run killed while writing (:func:`~talkthemes.workspace.atomic_dir`), and
+    the folders of versions the store has forgotten. None is visible to readers. The
+    caller holds the workspace lock.
+
+    Returns
+    -------
+    list of str
+        Names of the folders removed.
+    """
+    root = ws.versions_dir
+    if not root.is_dir():
+        return []
+    with ws.store() as store:
+        known = set(store.version_numbers())
+    removed = []
+    for entry in sorted(root.iterdir()):
+        name = entry.name
+        stale = (name.isdigit() and int(name) not in known) or bool(_TEMPORARY.fullmatch(name))
+        if stale and entry.is_dir():
+            shutil.rmtree(entry, ignore_errors=True)
+            removed.append(name)
+    if removed:
+        log.info("removed leftover version folders: %s", ", ".join(removed))
+    return removed
+
+
 def publish(
     ws: Workspace,
     *,
@@ -328,12 +638,11 @@ def publish(
 ) -> PublishResult:
     """Fit the chosen cell's model on every eligible transcript and publish it as a version.
 
-    The caller holds the workspace lock.
+    Every theme of a version published this way is new. The caller holds the workspace
+    lock.
     """
-    from talkthemes.metrics.coherence import build_reference, score
-    from talkthemes.models.base import top_terms, topic_shares
     from talkthemes.prepare.corpus import PreparedCorpus
-    from talkthemes.sweep import load_current_prep, make_model
+    from talkthemes.sweep import load_current_prep
 
     def step(name: str, i: int) -> None:
         if progress:
@@ -344,68 +653,13 @@ def publish(
     settings = ws.settings()
     step("loading the prep", 0)
     corpus = PreparedCorpus.load(prep_folder)
-    counts = corpus.counts.tocsr()
     fam, kk, seed = str(chosen["family"]), int(chosen["k"]), int(chosen["seed"])
     step(f"fitting {fam} K={kk} on {corpus.n_docs:,} transcripts", 1)
-    t0 = time.perf_counter()
-    model = make_model(fam, kk, seed, settings.sweep).fit(counts)
-    result = model.result_
-    fit_seconds = time.perf_counter() - t0
-    step("scoring the themes", 2)
-    tops = top_terms(result.topic_terms, settings.sweep.topn)
-    reference = build_reference(
-        corpus.tokens, corpus.offsets, counts, np.unique(tops), windows=(110, 10)
+    fitted = fit_version(ws, corpus, family=fam, k=kk, seed=seed, prep_hash=prep["hash"])
+    step("writing the version", 3)
+    n = write_version(
+        ws, fitted, extra_info={"cell": str(chosen["cell"]), "sweep_id": int(sweep["id"])}
     )
-    coherence = {
-        m: [float(x) for x in score(reference, tops, m).per_topic] for m in ("c_npmi", "c_v")
-    }
-    lengths = np.asarray(counts.sum(axis=1)).ravel()
-    weights = topic_shares(result.doc_topics, lengths)
-    arrays, params = model.state()
-
-    with ws.store() as store:
-        n = store.next_version_number()
-        theme_ids = store.reserve_theme_ids(kk)
-    step(f"writing version {n}", 3)
-    folder = ws.versions_dir / str(n)
-    info = {
-        "n": n,
-        "family": fam,
-        "k": kk,
-        "seed": seed,
-        "cell": str(chosen["cell"]),
-        "sweep_id": int(sweep["id"]),
-        "prep_hash": prep["hash"],
-        "n_docs": corpus.n_docs,
-        "n_terms": corpus.n_terms,
-        "theme_ids": theme_ids,
-        "topic_weights": [float(x) for x in weights],
-        "coherence": coherence,
-        "topn": settings.sweep.topn,
-        "params": result.params,
-        "fit_seconds": fit_seconds,
-        "prepare_settings": settings.prepare.model_dump(),
-        "libraries": corpus.info.get("libraries", {}),
-    }
-    with atomic_dir(folder) as tmp:
-        np.save(tmp / "topic_terms.npy", result.topic_terms.astype(np.float32), allow_pickle=False)
-        np.save(tmp / "doc_topics.npy", result.doc_topics.astype(np.float32), allow_pickle=False)
-        (tmp / "doc_ids.json").write_text(json.dumps(list(corpus.doc_ids)), encoding="utf-8")
-        (tmp / "vocabulary.json").write_text(
-            json.dumps(list(corpus.vocabulary), ensure_ascii=False), encoding="utf-8"
-        )
-        (tmp / "model").mkdir()
-        for name, arr in arrays.items():
-            np.save(tmp / "model" / f"{name}.npy", np.asarray(arr), allow_pickle=False)
-        (tmp / "model" / "params.json").write_text(json.dumps(params, default=float), "utf-8")
-        (tmp / "version.json").write_text(json.dumps(info, indent=1, default=float), "utf-8")
-    step("making it current", 4)
-    themes = [
-        {"theme_id": tid, "position": i, "status": "new", "info": {}}
-        for i, tid in enumerate(theme_ids)
-    ]
-    with ws.store() as store:
-        store.add_version(n, info, themes)
     step("done", 5)
     version = load_version(ws, n)
     return PublishResult(
@@ -415,7 +669,7 @@ def publish(
         seed=seed,
         cell=str(chosen["cell"]),
         sweep_id=int(sweep["id"]),
-        fit_seconds=fit_seconds,
+        fit_seconds=float(fitted.info["fit_seconds"]),
         themes=version.summary(lam=settings.view.relevance_lambda),
     )
 

@@ -352,7 +352,7 @@ class FastLemmatizer(_Encoder):
         sids = list(map(self._sid.get, pieces))
         if None in sids:
             sids = [
-                s if s is not None else self._new_surface(p)
+                s if s is not None else (self._sid[p] if p in self._sid else self._new_surface(p))
                 for s, p in zip(sids, pieces, strict=True)
             ]
         arr = np.fromiter(sids, dtype=np.int64, count=len(sids))

@@ -1,0 +1,225 @@
+"""Refresh history: the versions on a timeline and, for one version, what its refresh
+carried over, added and retired, how far the themes moved, and the new themes' calls."""
+
+from __future__ import annotations
+
+import shlex
+from typing import Any
+
+import pandas as pd
+import streamlit as st
+
+from talkthemes import viewhistory as vh
+from talkthemes.app import _shared
+from talkthemes.charts import drift_chart
+from talkthemes.drift import drift_frame
+from talkthemes.errors import TalkthemesError
+from talkthemes.viewdata import NextStep
+from talkthemes.workspace import Workspace
+
+PICK = "history_version"
+STATUS_TEXT = {
+    "carried": ("Carried", "kept their id, label and note"),
+    "new": ("New", "appeared in this version"),
+    "retired": ("Retired", "no longer found"),
+}
+
+
+@st.cache_data(show_spinner=False, max_entries=8)
+def _drift(root: str, n: int, stamp: int) -> dict[str, Any] | None:
+    return vh.load_drift(Workspace(root), n)
+
+
+@st.cache_data(show_spinner=False, max_entries=8)
+def _drift_spec(report: dict[str, Any]) -> dict[str, Any]:
+    return drift_chart(drift_frame(report)).to_dict()
+
+
+@st.cache_data(show_spinner=False, max_entries=4)
+def _timeline_spec(timeline: pd.DataFrame) -> dict[str, Any]:
+    return vh.timeline_chart(timeline).to_dict()
+
+
+def _version_top_terms(ws: Workspace, n: int) -> dict[int, list[str]]:
+    """Top terms of a version's themes from its arrays (for a version without a report)."""
+    try:
+        version = _shared._version(*_shared.version_key(ws, n))
+    except TalkthemesError as exc:
+        _shared.show_error(exc)
+        return {}
+    return {tid: version.top_terms(i, 3) for i, tid in enumerate(version.theme_ids)}
+
+
+def _theme_list(items: list[vh.ThemeChange], status: str) -> None:
+    title, meaning = STATUS_TEXT[status]
+    st.markdown(f"**{title}** ({len(items)}): {meaning}")
+    if not items:
+        st.caption("None.")
+        return
+    lines = []
+    for t in items:
+        line = f"- **{_shared.md_escape(t.name)}** \\#{t.theme_id}: {_shared.md_escape(t.detail)}"
+        if t.flags:
+            line += " · " + _shared.md_escape("; ".join(t.flags))
+        lines.append(line)
+    st.markdown("\n".join(lines))
+
+
+def _examples(report: dict[str, Any], labels: dict[int, str]) -> None:
+    st.subheader("The new themes' example calls")
+    frame = vh.new_theme_examples(report, labels)
+    if frame.empty:
+        st.caption("This refresh found no new theme.")
+        return
+    st.caption(
+        "The new transcripts with the largest share of each new theme; the excerpt is the "
+        "start of the customer's turns."
+    )
+    for (tid, name), group in frame.groupby(["theme_id", "theme"], sort=False):
+        st.markdown(f"**{_shared.md_escape(name)}** \\#{int(tid)}")
+        st.markdown(
+            "\n".join(
+                f"- `{_shared.md_escape(r.transcript_id)}` · {_shared.percent(r.share, 0)} · "
+                f"{_shared.md_escape(r.excerpt) or '(no excerpt)'}"
+                for r in group.itertuples()
+            )
+        )
+
+
+def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
+    n = int(record["n"])
+    with ws.store() as store:
+        themes = store.themes(n)
+        retired = store.retired_themes(n)
+    refresh = record.get("refresh") or {}
+    report = _drift(*_shared.version_key(ws, n))
+    st.subheader(f"Version {n}")
+    if not refresh:
+        st.markdown(
+            f"Published directly (not by a refresh): its {len(themes)} themes are the first "
+            "of their line, so none is carried over."
+        )
+    else:
+        a, b, c, d = st.columns(4)
+        counts = (report or {}).get("counts") or {}
+        a.metric("New transcripts", f"{int(refresh.get('new_transcripts', 0)):,}")
+        b.metric("Carried", counts.get("carried", sum(t["status"] == "carried" for t in themes)))
+        c.metric("New", counts.get("new", sum(t["status"] == "new" for t in themes)))
+        d.metric("Retired", counts.get("retired", len(retired)))
+        prev = refresh.get("previous_version")
+        reason = refresh.get("resweep_reason")
+        st.caption(
+            f"Refreshed from version {prev}."
+            + (f" K was chosen again: {_shared.md_escape(reason)}." if reason else "")
+        )
+    terms = vh.report_top_terms(report) or _version_top_terms(ws, n)
+    changes = vh.version_changes(themes, retired, terms)
+    cols = st.columns(3)
+    for col, status in zip(cols, ("new", "carried", "retired"), strict=True):
+        with col:
+            _theme_list(getattr(changes, status), status)
+    if refresh:
+        if changes.flagged:
+            st.warning(
+                "Possible splits or merges: "
+                + "; ".join(
+                    f"{_shared.md_escape(t.name)} (\\#{t.theme_id}) "
+                    + _shared.md_escape(", ".join(t.flags))
+                    for t in changes.flagged
+                ),
+                icon=":material/call_split:",
+            )
+        if report is None:
+            st.info(f"Version {n} has no drift report on disk (versions/{n}/drift.json).")
+            return
+        st.vega_lite_chart(_drift_spec(report), theme=None, width="content", key="history_drift")
+        st.caption(
+            "Left: how far each carried theme's words moved (Jensen–Shannon distance between "
+            "its word distributions before and after). Right: the share of transcripts each "
+            "theme leads before (ring) and after (dot) the refresh."
+        )
+        labels = {int(t["theme_id"]): t["label"] for t in themes}
+        _examples(report, labels)
+
+
+def _refresh_log(ws: Workspace) -> None:
+    with ws.store() as store:
+        log = store.refreshes(limit=50)
+    if not log:
+        return
+    st.subheader("Refresh runs")
+    frame = pd.DataFrame(
+        [
+            {
+                "id": r["id"],
+                "started_at": r["started_at"],
+                "status": r["status"],
+                "previous_version": r["previous_version"],
+                "version": r["version"],
+                "new_transcripts": r.get("new_transcripts"),
+            }
+            for r in log
+        ]
+    )
+    st.dataframe(
+        frame,
+        hide_index=True,
+        column_config={
+            "id": st.column_config.NumberColumn("Run", format="%d"),
+            "started_at": st.column_config.TextColumn("Started"),
+            "status": st.column_config.TextColumn("Outcome"),
+            "previous_version": st.column_config.NumberColumn("From version", format="%d"),
+            "version": st.column_config.NumberColumn("Made version", format="%d"),
+            "new_transcripts": st.column_config.NumberColumn("New transcripts", format="%d"),
+        },
+    )
+
+
+def render() -> None:
+    """The Refresh history section."""
+    ws = _shared.gate("version")
+    with ws.store() as store:
+        versions = store.versions()
+        runs = store.refreshes(limit=1)
+    st.title("Refresh history")
+    if len(versions) <= 1 and not runs:
+        _shared.empty_state(
+            NextStep(
+                "refresh",
+                "Only one version is published and no refresh has run yet: refreshes appear "
+                "here after talkthemes refresh adds new transcripts.",
+                f"talkthemes refresh --workspace {shlex.quote(str(ws.root))}",
+            )
+        )
+        return
+    timeline = vh.versions_timeline(versions)
+    st.vega_lite_chart(
+        _timeline_spec(timeline), theme=None, width="content", key="history_timeline"
+    )
+    st.caption(
+        "Each dot is a version of the themes, placed at the time it was made; green ones "
+        "came from a refresh, blue ones were published directly. Only the last kept "
+        "versions are listed."
+    )
+    numbers = timeline["n"].tolist()
+    current = [int(n) for n, cur in zip(timeline["n"], timeline["current"], strict=True) if cur]
+    if st.session_state.get(PICK) not in numbers:
+        st.session_state[PICK] = current[0] if current else numbers[-1]
+    by_n = {int(v["n"]): v for v in versions}
+    picked = st.selectbox(
+        "Version",
+        numbers,
+        key=PICK,
+        format_func=lambda n: f"Version {n}"
+        + (" · current" if n in current else "")
+        + (" · refresh" if by_n[n].get("refresh") else " · published"),
+    )
+    try:
+        _version_details(ws, by_n[int(picked)])
+    except TalkthemesError as exc:
+        _shared.show_error(exc)
+    _refresh_log(ws)
+
+
+if __name__ == "__main__":
+    render()

@@ -1,0 +1,343 @@
+"""Theme shares for new transcripts under a published version (``talkthemes assign``).
+
+:func:`assign` reads transcripts in any supported format without storing them (or stores
+them too), prepares them exactly as the version's training data was
+(:class:`~talkthemes.frozen.PrepApplier`) and infers their shares: for LDA with gensim's
+E-step on the model restored from its saved ``.npy`` state (deterministic for the version's
+seed and the input order), for NMF by solving for the weights with the topics held fixed,
+on TF-IDF with the saved idf. A transcript with no word in the vocabulary gets a row with
+no lead theme and the reason.
+"""
+
+from __future__ import annotations
+
+import json
+import logging
+import time
+from collections.abc import Callable, Iterable, Iterator, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+import scipy.sparse as sp
+
+from talkthemes.errors import InputError, NotReadyError
+from talkthemes.frozen import AppliedBatch, PrepApplier, load_prep_spec
+from talkthemes.ingest.model import Reject, Transcript, Warning_
+from talkthemes.workspace import Workspace
+
+__all__ = [
+    "MANIFEST_NAMES",
+    "AssignResult",
+    "ShareModel",
+    "assign",
+    "assign_frame",
+    "folder_manifests",
+    "read_transcripts",
+]
+
+log = logging.getLogger(__name__)
+
+#: ``progress(done_transcripts, total (0 = unknown), current)``
+ProgressFn = Callable[[int, int, str], None]
+
+
+# -- inference -----------------------------------------------------------------------------
+class ShareModel:
+    """A version's model restored from its saved state, for theme shares of new transcripts.
+
+    Parameters
+    ----------
+    family : {'lda', 'nmf'}
+    arrays : dict of str to ndarray
+        ``versions/<n>/model/*.npy``.
+    params : dict
+        ``versions/<n>/model/params.json``.
+    seed : int
+        Seed of LDA's E-step starting points (the version's seed).
+    """
+
+    #: Documents per LDA E-step call; fixed so results do not depend on the batch size.
+    CHUNKSIZE = 2000
+
+    def __init__(
+        self, family: str, arrays: dict[str, np.ndarray], params: dict[str, Any], seed: int
+    ) -> None:
+        self.family = family
+        self.arrays = arrays
+        self.params = params
+        self.seed = seed
+        self._lda: Any = None
+
+    @classmethod
+    def from_version(cls, version: Any) -> ShareModel:
+        """Load the state saved with a version (``.npy`` arrays and ``params.json``)."""
+        folder = version.folder / "model"
+        if not (folder / "params.json").is_file():
+            raise NotReadyError(f"version {version.n}: the model state is missing ({folder})")
+        params = json.loads((folder / "params.json").read_text(encoding="utf-8"))
+        arrays = {p.stem: np.load(p, allow_pickle=False) for p in sorted(folder.glob("*.npy"))}
+        return cls(str(version.info["family"]), arrays, params, int(version.info.get("seed", 0)))
+
+    def shares(self, counts: sp.csr_matrix) -> np.ndarray:
+        """Theme shares (D, K), rows summing to 1, of transcripts' term counts.
+
+        The rows are inferred in order, in chunks of :attr:`CHUNKSIZE`, from one random
+        state seeded with the version's seed: the same input gives the same shares.
+        """
+        if counts.shape[0] == 0:
+            k = self.params.get("num_topics", self.params.get("k", 0))
+            return np.zeros((0, int(k)), dtype=np.float64)
+        if self.family == "lda":
+            from talkthemes.models.lda import infer_doc_topics, restore_lda
+
+            if self._lda is None:
+                self._lda = restore_lda(self.arrays, self.params, seed=self.seed)
+            return infer_doc_topics(
+                self._lda, counts.astype(np.float64), seed=self.seed, chunksize=self.CHUNKSIZE
+            )
+        from talkthemes.models.nmf import transform_counts
+
+        return transform_counts(counts.astype(np.float64), (self.arrays, self.params))
+
+
+def assign_frame(
+    applied: AppliedBatch,
+    shares: np.ndarray,
+    theme_ids: Sequence[int],
+    labels: Sequence[str],
+) -> pd.DataFrame:
+    """The assignment table: the layout of ``export`` plus ``known_terms`` and ``reason``.
+
+    Columns: ``transcript_id``, ``lead_theme_id`` (empty when the transcript has no word
+    in the vocabulary), ``lead_theme_label``, ``lead_share``, one ``share_<theme id>`` per
+    theme, ``known_terms`` (tokens in the vocabulary) and ``reason`` (why there is no lead
+    theme; empty otherwise).
+    """
+    n, k = len(applied.doc_ids), len(theme_ids)
+    if shares.shape != (n, k):
+        raise InputError(f"assign: {shares.shape} shares for {n} transcripts and {k} themes")
+    has = applied.known > 0
+    values = np.where(has[:, None], np.round(np.asarray(shares, dtype=np.float64), 6), np.nan)
+    lead = np.argmax(shares, axis=1) if k else np.zeros(n, dtype=np.int64)
+    ids = np.asarray(theme_ids, dtype=np.int64)
+    frame = pd.DataFrame(
+        {
+            "transcript_id": applied.doc_ids,
+            "lead_theme_id": pd.array(
+                [int(ids[i]) if h else None for i, h in zip(lead, has, strict=True)],
+                dtype="Int64",
+            ),
+            "lead_theme_label": [labels[i] if h else "" for i, h in zip(lead, has, strict=True)],
+            "lead_share": values[np.arange(n), lead] if k else np.full(n, np.nan),
+        }
+    )
+    share_cols = pd.DataFrame(values, columns=[f"share_{t}" for t in ids])
+    tail = pd.DataFrame(
+        {
+            "known_terms": applied.known.astype(np.int64),
+            "reason": [r or "" for r in applied.reasons],
+        }
+    )
+    return pd.concat([frame, share_cols, tail], axis=1)
+
+
+# -- the command -------------------------------------------------------------------------
+@dataclass
+class AssignResult:
+    """What :func:`assign` did."""
+
+    out: Path
+    version: int
+    rows: int
+    assigned: int
+    unassigned: int
+    rejects: list[Reject]
+    warnings: list[Warning_]
+    seconds: float
+    stored: dict[str, Any] | None = None
+
+    @property
+    def exit_code(self) -> int:
+        """0, or 3 when some inputs were rejected (the rest was assigned)."""
+        return 3 if self.rejects else 0
+
+    @property
+    def per_second(self) -> float:
+        """Transcripts assigned per second."""
+        return self.rows / self.seconds if self.seconds > 0 else float("inf")
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "out": str(self.out),
+            "version": self.version,
+            "rows": self.rows,
+            "assigned": self.assigned,
+            "without_known_words": self.unassigned,
+            "seconds": round(self.seconds, 3),
+            "transcripts_per_second": round(self.per_second, 1),
+            "rejects": [
+                {"source": r.source, "row": r.row, "format": r.format, "reason": r.reason}
+                for r in self.rejects
+            ],
+            "warnings": [
+                {"source": w.source, "row": w.row, "message": w.message} for w in self.warnings
+            ],
+            "stored": self.stored,
+        }
+
+
+#: File names (lower case) read as a folder's manifest, not as transcripts.
+MANIFEST_NAMES = ("manifest.csv", "manifest.parquet", "manifest.jsonl")
+
+
+def folder_manifests(paths: Sequence[Path]) -> list[Path]:
+    """Manifests at the top of the given folders: files named ``manifest.csv``,
+    ``manifest.parquet`` or ``manifest.jsonl`` (any case)."""
+    found: list[Path] = []
+    for p in paths:
+        p = Path(p)
+        if p.is_dir():
+            found.extend(
+                sorted(c for c in p.iterdir() if c.is_file() and c.name.lower() in MANIFEST_NAMES)
+            )
+    return found
+
+
+def read_transcripts(
+    paths: Sequence[Path], settings: Any, *, skip: Sequence[Path] = ()
+) -> Iterator[Transcript | Reject | Warning_]:
+    """Every transcript, reject and warning in ``paths``, leaving out the files in ``skip``
+    (manifests)."""
+    from talkthemes.ingest.decode import check_fallback
+    from talkthemes.ingest.detect import iter_files, read_file
+
+    check_fallback(settings.encoding_fallback)
+    skipped = {Path(p).resolve() for p in skip}
+    for item in iter_files([Path(p) for p in paths], settings):
+        if isinstance(item, Path):
+            if item.resolve() not in skipped:
+                yield from read_file(item, settings)
+        else:
+            yield item
+
+
+def _batches(
+    items: Iterable[Transcript | Reject | Warning_],
+    size: int,
+    rejects: list[Reject],
+    warnings: list[Warning_],
+) -> Iterator[list[tuple[str, list[tuple[str, str]]]]]:
+    batch: list[tuple[str, list[tuple[str, str]]]] = []
+    for item in items:
+        if isinstance(item, Transcript):
+            batch.append((item.tid, [(u.role, u.text) for u in item.turns]))
+            if len(batch) >= size:
+                yield batch
+                batch = []
+        elif isinstance(item, Reject):
+            rejects.append(item)
+        else:
+            warnings.append(item)
+    if batch:
+        yield batch
+
+
+def assign(
+    ws: Workspace,
+    paths: Sequence[Path],
+    *,
+    out: Path,
+    store: bool = False,
+    manifests: Sequence[Path] = (),
+    version: int | None = None,
+    batch_size: int = 250,
+    progress: ProgressFn | None = None,
+) -> AssignResult:
+    """Theme shares of the transcripts in ``paths`` under a version (default: current).
+
+    Parameters
+    ----------
+    ws : Workspace
+    paths : sequence of Path
+        Transcript files, tables and folders (any supported format).
+    out : Path
+        ``.csv`` or ``.parquet`` file to write (see :func:`assign_frame`).
+    store : bool
+        Also ingest the transcripts into the store (the caller then holds the lock).
+    manifests : sequence of Path
+        Metadata tables, applied when ``store`` is set. A ``manifest.csv``,
+        ``manifest.parquet`` or ``manifest.jsonl`` at the top of a folder in ``paths`` is
+        a manifest too (never read as transcripts).
+    version : int, optional
+        Version to assign with.
+    batch_size : int
+        Transcripts prepared and inferred at a time (one process: on two cores, worker
+        processes cost more to start than they save; see ``bench/assign.py``).
+    progress : callable, optional
+        ``progress(done, 0, current)``.
+
+    Returns
+    -------
+    AssignResult
+
+    Raises
+    ------
+    InputError
+        When no transcript was found in ``paths`` and nothing was rejected, or ``out`` is
+        not a ``.csv`` or ``.parquet`` name.
+    """
+    from talkthemes.versions import load_version, write_table
+
+    if out.suffix.lower() not in (".csv", ".parquet"):
+        raise InputError(f"--out {out}: expected a .csv or .parquet file name")
+    t0 = time.perf_counter()
+    v = load_version(ws, version)
+    applier = PrepApplier(load_prep_spec(ws, v))
+    model = ShareModel.from_version(v)
+    labels = [t["label"] for t in v.themes]
+    settings = ws.settings().ingest
+    in_folders = folder_manifests(paths)
+    stored = None
+    if store:
+        from talkthemes.ingest.run import ingest
+
+        stored = ingest(ws, list(paths), manifests=[*manifests, *in_folders]).to_json()
+    rejects: list[Reject] = []
+    warnings: list[Warning_] = []
+    frames = []
+    done = 0
+    items = read_transcripts(paths, settings, skip=[*manifests, *in_folders])
+    for batch in _batches(items, batch_size, rejects, warnings):
+        applied = applier.apply(batch)
+        frames.append(assign_frame(applied, model.shares(applied.counts), v.theme_ids, labels))
+        done += len(applied.doc_ids)
+        if progress:
+            progress(done, 0, applied.doc_ids[-1] if applied.doc_ids else "")
+    if not frames:
+        if not rejects:
+            raise InputError(
+                "no transcripts found in "
+                + ", ".join(str(p) for p in paths)
+                + " (read: .txt, .vtt, .csv, .jsonl, .parquet)"
+            )
+        empty = AppliedBatch.concat([], v.topic_terms.shape[1])
+        frames.append(assign_frame(empty, np.zeros((0, v.k)), v.theme_ids, labels))
+    frame = pd.concat(frames, ignore_index=True)
+    write_table(frame, out)
+    seconds = time.perf_counter() - t0
+    assigned = int(frame["lead_theme_id"].notna().sum())
+    log.info("assigned %d transcripts in %.2fs", len(frame), seconds)
+    return AssignResult(
+        out=out,
+        version=v.n,
+        rows=len(frame),
+        assigned=assigned,
+        unassigned=len(frame) - assigned,
+        rejects=rejects,
+        warnings=warnings,
+        seconds=seconds,
+        stored=stored,
+    )
