@@ -54,9 +54,12 @@ SECTIONS = [
         url_path="over-time",
         icon=":material/timeline:",
     ),
-    # Refresh history (the sixth section) goes here, added by the refresh work:
-    # st.Page(HERE / "refresh_history.py", title="Refresh history",
-    #         url_path="refresh-history", icon=":material/history:"),
+    st.Page(
+        HERE / "refresh_history.py",
+        title="Refresh history",
+        url_path="refresh-history",
+        icon=":material/history:",
+    ),
 ]
 
 page = st.navigation(SECTIONS)

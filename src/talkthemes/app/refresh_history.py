@@ -210,9 +210,11 @@ def render() -> None:
         "Version",
         numbers,
         key=PICK,
-        format_func=lambda n: f"Version {n}"
-        + (" · current" if n in current else "")
-        + (" · refresh" if by_n[n].get("refresh") else " · published"),
+        format_func=lambda n: (
+            f"Version {n}"
+            + (" · current" if n in current else "")
+            + (" · refresh" if by_n[n].get("refresh") else " · published")
+        ),
     )
     try:
         _version_details(ws, by_n[int(picked)])
