@@ -602,8 +602,8 @@ def term_chart(terms: pd.DataFrame, name: str, *, width: int = 420) -> alt.Layer
 
     References
     ----------
-    Sievert, C. & Shirley, K. (2014). LDAvis: A method for visualizing and interpreting
-    topics. ACL Workshop on Interactive Language Learning, Visualization, and Interfaces.
+    Sievert, C., Shirley, K. E. (2014). Proc. ACL 2014 Workshop on Interactive Language
+    Learning, Visualization, and Interfaces, pp. 63–70 (term relevance).
     """
     _require(terms, ("term", "relevance", "weight", "corpus_weight", "rank"), "term_chart", "terms")
     df = terms[["term", "relevance", "weight", "corpus_weight", "rank"]].copy()

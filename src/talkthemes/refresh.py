@@ -358,23 +358,23 @@ def refresh(
             raise NotReadyError(
                 "no version published yet: run 'talkthemes publish' first (refresh builds on it)"
             )
-    previous = load_version(ws)
-    spec = load_prep_spec(ws, previous)
+    current = load_version(ws)
+    spec = load_prep_spec(ws, current)
     paths = _ingest_paths(ws, ingest_paths)
     remove_leftovers(ws)  # of runs killed before their commit
     with ws.store() as store:
         refresh_id = store.start_refresh(
-            previous.n, {"paths": [str(p) for p in paths], "resweep_asked": resweep}
+            current.n, {"paths": [str(p) for p in paths], "resweep_asked": resweep}
         )
     result = RefreshResult(
         status="running",
-        previous_version=previous.n,
+        previous_version=current.n,
         alert_on_new=alert_on_new,
-        family=str(previous.info["family"]),
-        k=previous.k,
+        family=str(current.info["family"]),
+        k=current.k,
     )
     try:
-        _run(ws, result, previous, spec, paths, list(manifests), resweep, step, refresh_id)
+        _run(ws, result, current, spec, paths, list(manifests), resweep, step, refresh_id)
     except BaseException as exc:
         with ws.store() as store:
             store.finish_refresh(
@@ -388,7 +388,7 @@ def refresh(
 def _run(
     ws: Workspace,
     result: RefreshResult,
-    previous: Any,
+    current: Any,
     spec: Any,
     paths: list[Path],
     manifests: list[Path],
@@ -414,7 +414,7 @@ def _run(
         result.ingest = report.to_json()
     _checkpoint("ingested")
     # 2. anything new?
-    known = _known_ids(previous, spec)
+    known = _known_ids(current, spec)
     with ws.store() as store:
         new_ids = [t for t in store.transcript_ids() if t not in known]
     result.new_transcripts = len(new_ids)
@@ -430,7 +430,7 @@ def _run(
     # 3. prepare
     step(1, f"preparing ({rs.vocabulary} vocabulary), {len(new_ids):,} new transcripts")
     if rs.vocabulary == "frozen":
-        prep_hash, prep_folder = build_frozen_prep(ws, previous, spec)
+        prep_hash, prep_folder = build_frozen_prep(ws, current, spec)
     else:
         run_prepare(ws)
         prep, prep_folder = load_current_prep(ws)
@@ -439,12 +439,12 @@ def _run(
     counts = corpus.counts.tocsr()
     _checkpoint("prepared")
     # 4. coherence check
-    family, k, seed = result.family or "lda", previous.k, int(previous.info.get("seed", 0))
+    family, k, seed = result.family or "lda", current.k, int(current.info.get("seed", 0))
     if resweep:
         result.resweep, result.resweep_reason = True, "asked for (--resweep)"
     else:
         step(2, "checking the current themes' coherence on the new transcripts")
-        check = coherence_check(ws, previous, spec, new_ids, drop=rs.resweep_coherence_drop)
+        check = coherence_check(ws, current, spec, new_ids, drop=rs.resweep_coherence_drop)
         result.coherence = check
         if check["triggered"]:
             result.resweep = True
@@ -474,10 +474,10 @@ def _run(
     result.threshold = calibration.to_json()
     _checkpoint("fitted")
     # 6. align
-    step(5, "aligning themes to version " + str(previous.n))
+    step(5, "aligning themes to version " + str(current.n))
     alignment = align_themes(
-        previous.topic_terms,
-        previous.vocabulary,
+        current.topic_terms,
+        current.vocabulary,
         fitted.topic_terms,
         fitted.vocabulary,
         threshold=calibration.threshold,
@@ -486,12 +486,12 @@ def _run(
     with ws.store() as store:
         fresh = iter(store.reserve_theme_ids(int(alignment.new.size)))
     theme_ids = [
-        int(previous.theme_ids[i]) if i >= 0 else next(fresh)
+        int(current.theme_ids[i]) if i >= 0 else next(fresh)
         for i in alignment.matched_old.tolist()
     ]
     # 7. write
     step(6, "writing the version and its drift report")
-    report = _drift(ws, previous, fitted, alignment, calibration, theme_ids, new_ids, corpus)
+    report = _drift(ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus)
     plan = _theme_plan(report)
 
     def extra_files(folder: Path, n: int, ids: list[int]) -> None:
@@ -523,7 +523,7 @@ def _run(
         extra_info={
             "refresh": {
                 "refresh_id": refresh_id,
-                "previous_version": previous.n,
+                "previous_version": current.n,
                 "new_transcripts": len(new_ids),
                 "same_theme_cutoff": calibration.to_json(),
                 "resweep": result.resweep,
@@ -554,7 +554,7 @@ def _run(
 
 def _drift(
     ws: Workspace,
-    previous: Any,
+    current: Any,
     fitted: Any,
     alignment: Any,
     calibration: Any,
@@ -566,13 +566,13 @@ def _drift(
     from talkthemes.drift import ThemeSide, best_examples, drift_report
 
     with ws.store() as store:
-        labels = {t["theme_id"]: t["label"] for t in store.themes(previous.n)}
+        labels = {t["theme_id"]: t["label"] for t in store.themes(current.n)}
     old_side = ThemeSide(
-        previous.theme_ids,
-        [t["label"] for t in previous.themes],
-        np.asarray(previous.topic_terms),
-        previous.vocabulary,
-        previous.coverage(),
+        current.theme_ids,
+        [t["label"] for t in current.themes],
+        np.asarray(current.topic_terms),
+        current.vocabulary,
+        current.coverage(),
     )
     theta = fitted.doc_topics
     coverage = np.bincount(np.argmax(theta, axis=1), minlength=fitted.k) / max(1, len(theta))
@@ -604,7 +604,7 @@ def _drift(
         doc_ids=corpus.doc_ids,
         is_new=is_new,
         version=None,
-        previous_version=previous.n,
+        previous_version=current.n,
         calibration=calibration.to_json(),
         snippets=snippets,
         created_at=dt.datetime.now().astimezone().isoformat(timespec="seconds"),
