@@ -143,7 +143,7 @@ def test_keep_the_last_n_versions_and_never_the_current(
         with pytest.raises(StoreError, match="current"):
             store.delete_versions([3])
     res = CliRunner().invoke(cli.app, ["publish", "--version", "1", "-w", str(ws.root)])
-    assert res.exit_code != 0 and "no version 1" in res.stderr
+    assert res.exit_code == 2 and "--version 1: no such version (kept: 3, 4)" in res.stderr
     assert load_version(ws).n == 3
 
 
