@@ -29,7 +29,11 @@ lint: install
 	$(BIN)/ruff format --check src tests bench app
 
 bench: install
-	$(BIN)/python bench/ingest.py
+	$(BIN)/python bench/ingest.py --n 20000
+	$(BIN)/python bench/prepare.py 20000
+	$(BIN)/python bench/sweep.py --n 20000 --compare-workers
+	$(BIN)/python bench/assign.py
+	$(BIN)/python bench/viewer.py --size 20000
 
 clean:
 	rm -rf $(VENV) $(DEMO_WS) .pytest_cache
