@@ -41,3 +41,8 @@ def test_demo_runs_ingest_prepare_sweep_publish(tmp_path: Path) -> None:
     r = CliRunner().invoke(app, ["status", "--json", "-w", str(ws)])
     stages = json.loads(r.stdout)["stages"]
     assert stages["prepared"] and stages["swept"] and stages["published"]["version"] == 2
+
+    # a second run keeps what is there (labels, versions) instead of publishing again
+    r = CliRunner().invoke(app, ["demo", "--no-serve", "-w", str(ws), "--json"])
+    assert r.exit_code == 0, r.stderr
+    assert json.loads(r.stdout)["existing_version"] == 2

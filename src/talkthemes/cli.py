@@ -761,6 +761,18 @@ def demo(
 
     ws = _workspace(workspace)
     ws.init()
+    with ws.store() as store:
+        existing = store.current_version()
+    if existing is not None:  # a second run keeps the versions, labels and notes made so far
+        err.print(
+            f"{ws.root} already holds the demo (version {existing['n']} is current); "
+            "delete the folder to build it again."
+        )
+        if as_json:
+            _emit_json({"workspace": str(ws.root), "existing_version": existing["n"]})
+        elif serve:
+            _serve(ws, host, port)
+        return
     source = ws.root / "demo-source"
     err.print(f"Writing {size:,} invented calls to {source} …")
     files = write_demo(source, size=size, seed=seed, hold_back_last_month=refresh)
