@@ -45,8 +45,10 @@ def main() -> None:
             n_bytes += len(data)
             (sub / f"{call.call_id}.txt").write_bytes(data)
         gen_s = time.perf_counter() - t0
-        print(f"generated {args.n:,} files, {n_bytes / 1e6:.1f} MB "
-              f"({n_bytes / args.n / 1e3:.2f} KB/file) in {gen_s:.1f} s")
+        print(
+            f"generated {args.n:,} files, {n_bytes / 1e6:.1f} MB "
+            f"({n_bytes / args.n / 1e3:.2f} KB/file) in {gen_s:.1f} s"
+        )
 
         times = []
         for r in range(args.repeat):
@@ -61,8 +63,10 @@ def main() -> None:
         med = statistics.median(times)
         peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
         print(f"ingest runs (s): {', '.join(f'{t:.2f}' for t in times)}")
-        print(f"median: {med:.2f} s  →  {args.n / med:,.0f} transcripts/s, "
-              f"{n_bytes / 1e6 / med:.1f} MB/s")
+        print(
+            f"median: {med:.2f} s  →  {args.n / med:,.0f} transcripts/s, "
+            f"{n_bytes / 1e6 / med:.1f} MB/s"
+        )
         print(f"peak memory (max RSS of this process): {peak_mb:,.0f} MB")
         print(f"python {sys.version.split()[0]}")
     finally:

@@ -486,8 +486,7 @@ def _run(
     with ws.store() as store:
         fresh = iter(store.reserve_theme_ids(int(alignment.new.size)))
     theme_ids = [
-        int(current.theme_ids[i]) if i >= 0 else next(fresh)
-        for i in alignment.matched_old.tolist()
+        int(current.theme_ids[i]) if i >= 0 else next(fresh) for i in alignment.matched_old.tolist()
     ]
     # 7. write
     step(6, "writing the version and its drift report")
