@@ -570,3 +570,24 @@ def test_a_chart_compiles_and_renders_to_png() -> None:
     png = vl_convert.vegalite_to_png(trend_chart(_trend(), highlight=[0]).to_json())
     assert png[:8] == b"\x89PNG\r\n\x1a\n"
     assert len(png) > 10_000
+
+
+def test_theme_map_labels_never_print_over_each_other() -> None:
+    from talkthemes.charts import _place_labels
+
+    # five themes piled on one spot: the biggest keeps the spot below, others move or drop
+    x = np.zeros(5)
+    y = np.zeros(5)
+    names = [f"theme number {i}" for i in range(5)]
+    cov = np.array([0.4, 0.3, 0.15, 0.1, 0.05])
+    _, ly, align, show = _place_labels(x, y, np.full(5, 10.0), names, cov, per_px=0.01)
+    assert show[0] and ly[0] < 0 and align[0] == "center"
+    assert show.sum() == 4 and not show[4]  # below, above, right, left — then no room
+    spec = theme_map_chart(
+        pd.DataFrame({"theme_id": range(5), "x": x, "y": y, "coverage": cov, "name": names})
+    ).to_dict()
+    rows = spec["datasets"][spec["data"]["name"]]
+    shown = [(r["label_x"], r["label_y"], r["label_align"]) for r in rows if r["show_label"]]
+    assert len(shown) == len(set(shown))  # no two names at the same place
+    texts = [layer for layer in spec["layer"] if _mark(layer) == "text"]
+    assert {t["mark"]["align"] for t in texts} == {"center", "left", "right"}

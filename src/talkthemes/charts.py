@@ -484,7 +484,14 @@ def theme_map_chart(
     (x0, x1), (y0, y1), per_px = _equal_aspect(
         df["x"].to_numpy(float), df["y"].to_numpy(float), width, height, margin_px
     )
-    df["label_y"] = df["y"] - (radius + 3.0) * per_px
+    df["label_x"], df["label_y"], df["label_align"], df["show_label"] = _place_labels(
+        df["x"].to_numpy(float),
+        df["y"].to_numpy(float),
+        radius,
+        df["name"].tolist(),
+        df["coverage"].to_numpy(float),
+        per_px,
+    )
     df["status"] = np.where(df["hidden"], "hidden", "shown")
 
     theme = alt.selection_point(
@@ -536,16 +543,24 @@ def theme_map_chart(
     label_y = alt.Y(
         "label_y:Q", axis=None, scale=alt.Scale(domain=[y0, y1], nice=False, zero=False)
     )
-    labels = base.mark_text(baseline="top", fontSize=11, limit=170, color=_INK).encode(
-        x=x,
-        y=label_y,
-        text="name:N",
-        opacity=alt.when("datum.hidden").then(alt.value(0.4)).otherwise(alt.value(1.0)),
-        tooltip=tooltip,
+    label_x = alt.X(
+        "label_x:Q", axis=None, scale=alt.Scale(domain=[x0, x1], nice=False, zero=False)
     )
+    label_layers = [
+        base.transform_filter(f"datum.show_label && datum.label_align == '{al}'")
+        .mark_text(baseline="top", align=al, fontSize=11, limit=_LABEL_MAX_PX, color=_INK)
+        .encode(
+            x=label_x,
+            y=label_y,
+            text="name:N",
+            opacity=alt.when("datum.hidden").then(alt.value(0.4)).otherwise(alt.value(1.0)),
+            tooltip=tooltip,
+        )
+        for al in ("center", "left", "right")
+    ]
     return alt.layer(
         circles,
-        labels,
+        *label_layers,
         width=width,
         height=height,
         **_look(
@@ -554,6 +569,51 @@ def theme_map_chart(
             "Click a theme to select it.",
         ),
     )
+
+
+_LABEL_MAX_PX = 170.0
+_LABEL_CHAR_PX = 6.0  # average width of an 11 px sans-serif character
+_LABEL_HEIGHT_PX = 13.0
+
+
+def _place_labels(
+    x: np.ndarray,
+    y: np.ndarray,
+    radius_px: np.ndarray,
+    names: list[str],
+    coverage: np.ndarray,
+    per_px: float,
+) -> tuple[np.ndarray, np.ndarray, list[str], np.ndarray]:
+    """Greedy label placement so names do not print over each other.
+
+    Themes are taken from the largest coverage down; each label tries below its circle,
+    then above, right and left, and is left out (the tooltip and the table still name the
+    theme) when every spot overlaps a label already placed. Positions are in data units;
+    boxes are estimated in pixels from the name's length.
+    """
+    placed: list[tuple[float, float, float, float]] = []
+    n = len(names)
+    lx, ly = np.array(x, dtype=float), np.array(y, dtype=float)
+    align = ["center"] * n
+    show = np.zeros(n, dtype=bool)
+    for i in np.argsort(-coverage, kind="stable"):
+        w = min(_LABEL_MAX_PX, _LABEL_CHAR_PX * len(names[i]) + 4.0)
+        h = _LABEL_HEIGHT_PX
+        cx, cy, r = x[i] / per_px, -y[i] / per_px, radius_px[i] + 3.0  # pixel space, y down
+        spots = [
+            (cx, cy + r, "center", (cx - w / 2, cy + r, cx + w / 2, cy + r + h)),
+            (cx, cy - r - h, "center", (cx - w / 2, cy - r - h, cx + w / 2, cy - r)),
+            (cx + r, cy - h / 2, "left", (cx + r, cy - h / 2, cx + r + w, cy + h / 2)),
+            (cx - r, cy - h / 2, "right", (cx - r - w, cy - h / 2, cx - r, cy + h / 2)),
+        ]
+        for px, py, al, box in spots:
+            if all(
+                box[2] <= b[0] or box[0] >= b[2] or box[3] <= b[1] or box[1] >= b[3] for b in placed
+            ):
+                placed.append(box)
+                lx[i], ly[i], align[i], show[i] = px * per_px, -py * per_px, al, True
+                break
+    return lx, ly, align, show
 
 
 def _equal_aspect(
