@@ -69,6 +69,7 @@ class Browser:
             [CHROMIUM, *CHROME_FLAGS, f"--user-data-dir={profile}", "about:blank"],
             stdout=subprocess.DEVNULL,
             stderr=subprocess.DEVNULL,
+            start_new_session=True,  # its helper processes share a group we can stop whole
         )
         port_file = profile / "DevToolsActivePort"
         deadline = time.monotonic() + 30
@@ -132,11 +133,13 @@ class Browser:
     def close(self) -> None:
         if getattr(self, "_stack", None) is not None:
             self._stack.close()
-        self.proc.terminate()
+        with contextlib.suppress(ProcessLookupError):
+            os.killpg(self.proc.pid, signal.SIGTERM)  # the browser and its helper processes
         try:
             self.proc.wait(timeout=10)
         except subprocess.TimeoutExpired:
-            self.proc.kill()
+            with contextlib.suppress(ProcessLookupError):
+                os.killpg(self.proc.pid, signal.SIGKILL)
             self.proc.wait()
 
 
@@ -184,7 +187,8 @@ def viewer(demo_ws) -> Iterator[str]:
 
 @pytest.fixture(scope="module")
 def browser() -> Iterator[Browser]:
-    with tempfile.TemporaryDirectory(prefix="tt-chromium-") as profile:
+    # helper processes may still flush the profile for a moment after the group is stopped
+    with tempfile.TemporaryDirectory(prefix="tt-chromium-", ignore_cleanup_errors=True) as profile:
         b = Browser(Path(profile))
         try:
             yield b
