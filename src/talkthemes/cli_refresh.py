@@ -66,7 +66,7 @@ def register(app: typer.Typer) -> None:
         ws = base._workspace(workspace)
         ws.require()
         with (
-            ws.lock("refresh", wait=wait, on_wait=lambda m: base.err.print(f"{m}; waiting…")),
+            base._lock(ws, "refresh", wait),
             base._progress("refresh", enabled=not as_json) as update,
         ):
             result = refresh(
@@ -114,11 +114,7 @@ def register(app: typer.Typer) -> None:
             from talkthemes.errors import ConfigError
 
             raise ConfigError("--manifest applies only with --store")
-        lock: Any = (
-            ws.lock("assign", wait=wait, on_wait=lambda m: base.err.print(f"{m}; waiting…"))
-            if store
-            else nullcontext()
-        )
+        lock: Any = base._lock(ws, "assign", wait) if store else nullcontext()
         with lock, base._progress("assign", enabled=not as_json) as update:
             result = assign(
                 ws,

@@ -609,23 +609,29 @@ class Store:
         }
 
     # -- sweeps and cells ------------------------------------------------------------
+    _SWEEP_SELECT = "SELECT id, prep_hash, created_at, finished_at, status, info FROM sweeps "
+
+    @staticmethod
+    def _sweep_record(row: tuple[Any, ...]) -> dict[str, Any]:
+        """A sweeps row as one dict: its info, with the columns taking precedence."""
+        sid, prep, created, finished, status, info = row
+        return {
+            **json.loads(info),
+            "id": sid,
+            "prep_hash": prep,
+            "created_at": created,
+            "finished_at": finished,
+            "status": status,
+        }
+
     def find_sweep(self, prep_hash: str, grid_key: str) -> dict[str, Any] | None:
         """The latest sweep of this prep with this grid (``info['grid_key']``), or None."""
-        for sid, created, finished, status, info in self._conn.execute(
-            "SELECT id, created_at, finished_at, status, info FROM sweeps "
-            "WHERE prep_hash = ? ORDER BY id DESC",
-            (prep_hash,),
+        for row in self._conn.execute(
+            self._SWEEP_SELECT + "WHERE prep_hash = ? ORDER BY id DESC", (prep_hash,)
         ):
-            data = json.loads(info)
-            if data.get("grid_key") == grid_key:
-                return {
-                    **data,
-                    "id": sid,
-                    "created_at": created,
-                    "finished_at": finished,
-                    "status": status,
-                    "prep_hash": prep_hash,
-                }
+            record = self._sweep_record(row)
+            if record.get("grid_key") == grid_key:
+                return record
         return None
 
     def start_sweep(self, prep_hash: str, info: dict[str, Any]) -> int:
@@ -648,27 +654,10 @@ class Store:
     def get_sweep(self, sweep_id: int | None = None) -> dict[str, Any] | None:
         """A sweep by id, or the latest one; None when there is none."""
         if sweep_id is None:
-            row = self._conn.execute(
-                "SELECT id, prep_hash, created_at, finished_at, status, info FROM sweeps "
-                "ORDER BY id DESC LIMIT 1"
-            ).fetchone()
+            row = self._conn.execute(self._SWEEP_SELECT + "ORDER BY id DESC LIMIT 1").fetchone()
         else:
-            row = self._conn.execute(
-                "SELECT id, prep_hash, created_at, finished_at, status, info FROM sweeps "
-                "WHERE id = ?",
-                (sweep_id,),
-            ).fetchone()
-        if row is None:
-            return None
-        sid, prep, created, finished, status, info = row
-        return {
-            **json.loads(info),
-            "id": sid,
-            "prep_hash": prep,
-            "created_at": created,
-            "finished_at": finished,
-            "status": status,
-        }
+            row = self._conn.execute(self._SWEEP_SELECT + "WHERE id = ?", (sweep_id,)).fetchone()
+        return None if row is None else self._sweep_record(row)
 
     def sweep_ids(self, prep_hash: str | None = None) -> list[int]:
         """Ids of sweeps (of one prep, or all), newest first."""
