@@ -229,6 +229,15 @@ class SweepSettings(_Section):
         "frobenius", description="NMF loss: 'frobenius' (cd solver) or 'kullback-leibler' (mu)."
     )
     nmf_max_iter: int = Field(400, ge=1, description="NMF iteration limit.")
+    nmf_tol: float = Field(
+        1e-3,
+        gt=0,
+        lt=1,
+        description=(
+            "NMF stops when the error fell by less than this share of the starting error since "
+            "the previous check (every 10 iterations; scikit-learn's tol)."
+        ),
+    )
     rank_by: Literal["c_npmi", "c_v", "c_uci", "u_mass"] = Field(
         "c_npmi",
         description=(

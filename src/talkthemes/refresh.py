@@ -293,7 +293,9 @@ def _calibration_fits(
     for i in range(n):
         s = seed + 1 + i
         rows = subsample_rows(rows_all, settings.subsample, s)
-        out.append(make_model(family, k, s, settings).fit(counts[rows]).result_.topic_terms)
+        out.append(
+            make_model(family, k, s, settings).fit(counts[rows], shares=False).result_.topic_terms
+        )
     return out
 
 

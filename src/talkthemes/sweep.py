@@ -184,7 +184,13 @@ def make_model(family: str, k: int, seed: int, settings: SweepSettings) -> Any:
         )
     from talkthemes.models.nmf import NmfTopics
 
-    return NmfTopics(k=k, seed=seed, loss=settings.nmf_loss, max_iter=settings.nmf_max_iter)
+    return NmfTopics(
+        k=k,
+        seed=seed,
+        loss=settings.nmf_loss,
+        max_iter=settings.nmf_max_iter,
+        tol=settings.nmf_tol,
+    )
 
 
 def fit_cell(
@@ -213,7 +219,8 @@ def fit_cell(
     train = subsample_rows(train, sweep_settings.subsample, seed)
     counts = corpus.counts.tocsr()
     with threadpool_limits(1):  # parallelism is across cells, not inside one
-        model = make_model(family, k, seed, sweep_settings).fit(counts[train])
+        # the sweep scores topics only: no training shares (one E-step pass saved for LDA)
+        model = make_model(family, k, seed, sweep_settings).fit(counts[train], shares=False)
         result = model.result_
         metrics: dict[str, Any] = {"fit_seconds": float(result.fit_seconds)}
         if family == "lda":

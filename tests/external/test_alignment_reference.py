@@ -146,4 +146,6 @@ def test_assign_shares_from_saved_files_equal_gensim_inference(tmp_path: Path) -
     twin.__dict__.update(fitted.model_.__dict__)
     twin.random_state = np.random.RandomState(9)
     gamma, _ = twin.inference(list(Sparse2Corpus(new_docs, documents_columns=False)))
-    np.testing.assert_array_equal(got, gamma / gamma.sum(axis=1, keepdims=True))
+    # the compiled E-step equals gensim's up to floating-point summation order (which can
+    # move a document's stopping point by one iteration, a change below gamma_threshold)
+    np.testing.assert_allclose(got, gamma / gamma.sum(axis=1, keepdims=True), rtol=1e-6, atol=1e-9)

@@ -261,3 +261,12 @@ def test_broken_state_is_rejected(fitted) -> None:
         restore_lda(wrong_type, params)
     with pytest.raises(InputError, match="expected a gensim LdaModel"):
         infer_doc_topics("model", sp.csr_matrix(np.ones((1, 24))), seed=0)  # type: ignore[arg-type]
+
+
+def test_fit_without_shares_gives_the_same_topics_and_no_rows() -> None:
+    counts, _, _ = block_corpus(90, seed=4)
+    with_shares = small_lda().fit(counts).result_
+    without = small_lda().fit(counts, shares=False).result_
+    assert without.doc_topics.shape == (0, 3)
+    assert with_shares.doc_topics.shape == (90, 3)
+    np.testing.assert_array_equal(without.topic_terms, with_shares.topic_terms)

@@ -51,7 +51,8 @@ class FittedTopics:
         Row k is the topic–term distribution φ_k; every row sums to 1.
     doc_topics : numpy.ndarray of shape (D, K), float64
         Row d is the document–topic distribution θ_d of training document d; every row
-        sums to 1.
+        sums to 1. Zero rows (shape (0, K)) when the fit was asked not to infer them
+        (``fit(..., shares=False)``, as sweep cells do).
     params : dict
         JSON-serialisable parameters and fit diagnostics (family, K, seed, library version…).
     fit_seconds : float
@@ -65,7 +66,7 @@ class FittedTopics:
 
     def __post_init__(self) -> None:
         phi = _checked_distribution_rows(self.topic_terms, "topic_terms")
-        theta = _checked_distribution_rows(self.doc_topics, "doc_topics")
+        theta = _checked_distribution_rows(self.doc_topics, "doc_topics", allow_no_rows=True)
         if theta.shape[1] != phi.shape[0]:
             raise InputError(
                 f"FittedTopics: doc_topics has {theta.shape[1]} topic columns but topic_terms "
@@ -82,9 +83,11 @@ class FittedTopics:
         return int(self.topic_terms.shape[0])
 
 
-def _checked_distribution_rows(values: np.ndarray, name: str) -> np.ndarray:
+def _checked_distribution_rows(
+    values: np.ndarray, name: str, *, allow_no_rows: bool = False
+) -> np.ndarray:
     arr = np.array(values, dtype=np.float64, copy=True)
-    if arr.ndim != 2 or arr.shape[0] == 0 or arr.shape[1] == 0:
+    if arr.ndim != 2 or (arr.shape[0] == 0 and not allow_no_rows) or arr.shape[1] == 0:
         raise InputError(
             f"FittedTopics: {name} must be a non-empty 2-D array, got shape {arr.shape}"
         )

@@ -54,6 +54,7 @@ from talkthemes.models.base import (
     real_rule,
     vocabulary_rule,
 )
+from talkthemes.models.estep import CsrLdaModel, RowCorpus
 
 __all__ = [
     "LdaTopics",
@@ -189,13 +190,17 @@ class LdaTopics:
         """The constructor parameters (vocabulary excluded), as JSON values."""
         return {name: plain_value(getattr(self, name)) for name in _RULES if name != "vocabulary"}
 
-    def fit(self, counts: sp.csr_matrix) -> LdaTopics:
+    def fit(self, counts: sp.csr_matrix, *, shares: bool = True) -> LdaTopics:
         """Fit the model to a document × term count matrix.
 
         Parameters
         ----------
         counts : scipy.sparse.csr_matrix of shape (D, V)
             Term counts per document. Empty rows are allowed (their θ is the prior mean).
+        shares : bool
+            Infer the training documents' θ after training (one more E-step pass). Sweep
+            cells, which only score the topics, pass ``False``; ``result_.doc_topics`` then
+            has no rows.
 
         Returns
         -------
@@ -214,7 +219,7 @@ class LdaTopics:
         n_docs, n_terms = counts.shape
         id2word = check_vocabulary("LdaTopics", self.vocabulary, n_terms)
         start = time.perf_counter()
-        model = LdaModel(
+        model = CsrLdaModel(
             corpus=None,
             num_topics=self.k,
             id2word=id2word,
@@ -230,10 +235,12 @@ class LdaTopics:
             random_state=self.seed,
             dtype=_DTYPE,
         )
-        model.update(Sparse2Corpus(counts, documents_columns=False))
+        model.update(RowCorpus(counts))
         train_seconds = time.perf_counter() - start
-        doc_topics = infer_doc_topics(
-            model, counts, seed=self.seed, chunksize=self._chunksize(n_docs)
+        doc_topics = (
+            infer_doc_topics(model, counts, seed=self.seed, chunksize=self._chunksize(n_docs))
+            if shares
+            else np.zeros((0, self.k), dtype=np.float64)
         )
         fit_seconds = time.perf_counter() - start
         logger.info(
@@ -340,8 +347,13 @@ def _as_model(model_or_state: LdaModel | StateParts) -> LdaModel:
 
 def _infer_gamma(model: LdaModel, counts: sp.csr_matrix, seed: int, chunksize: int) -> np.ndarray:
     twin = _seeded_copy(model, seed)
-    blocks = [twin.inference(chunk)[0] for chunk in _rows_as_chunks(counts, chunksize)]
-    return np.vstack(blocks).astype(np.float64, copy=False)
+    if not isinstance(twin, CsrLdaModel) or twin.dtype != np.float64:
+        blocks = [twin.inference(chunk)[0] for chunk in _rows_as_chunks(counts, chunksize)]
+        return np.vstack(blocks).astype(np.float64, copy=False)
+    out = np.empty((counts.shape[0], twin.num_topics), dtype=np.float64)
+    for lo in range(0, counts.shape[0], chunksize):
+        out[lo : lo + chunksize] = twin.csr_inference(counts[lo : lo + chunksize])[0]
+    return out
 
 
 def infer_doc_topics(
@@ -614,7 +626,7 @@ def restore_lda(
             params["gensim_version"],
             gensim.__version__,
         )
-    model = LdaModel(
+    model = CsrLdaModel(
         corpus=None,
         num_topics=n_topics,
         id2word=check_vocabulary("LDA state", vocabulary, n_terms),

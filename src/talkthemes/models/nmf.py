@@ -168,12 +168,15 @@ class NmfTopics:
         """The constructor parameters (vocabulary excluded), as JSON values."""
         return {name: plain_value(getattr(self, name)) for name in _RULES if name != "vocabulary"}
 
-    def fit(self, counts: sp.csr_matrix) -> NmfTopics:
+    def fit(self, counts: sp.csr_matrix, *, shares: bool = True) -> NmfTopics:
         """Fit the factorisation to a document × term count matrix.
 
         Parameters
         ----------
         counts : scipy.sparse.csr_matrix of shape (D, V)
+        shares : bool
+            Accepted for the same signature as :meth:`LdaTopics.fit`; the shares come from
+            W at no extra cost, so they are always kept.
 
         Returns
         -------

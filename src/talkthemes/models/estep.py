@@ -1,0 +1,277 @@
+"""A compiled LDA E-step over CSR rows, the same fixed-point iteration as gensim's.
+
+gensim's ``LdaModel.inference`` runs the variational E-step of Hoffman, Blei & Bach (2010)
+one document at a time in Python, with a handful of small numpy calls per iteration; for
+transcripts of a few dozen distinct terms that interpreter overhead is most of the fit time.
+:func:`estep` runs the same iteration, in the same order, for every row of a CSR count
+matrix in one numba-compiled loop:
+
+    γ_d ← α + exp(E[log θ_d]) ⊙ (n_d / φnorm_d) · exp(E[log β])ᵀ
+    φnorm_dw = Σ_k exp(E[log θ_dk]) exp(E[log β_kw]) + ε
+
+stopping a document when the mean absolute change of γ_d falls below ``gamma_threshold`` or
+after ``iterations`` updates, and collecting the sufficient statistics
+``sstats[k, w] = Σ_d n_dw exp(E[log θ_dk]) / φnorm_dw`` (the caller multiplies by
+exp(E[log β]) as gensim does). Starting points γ⁰ are drawn by the caller, so the result
+equals gensim's for the same random state up to floating-point summation order; the test
+``tests/external/test_lda_estep.py`` checks that against gensim itself.
+
+E[log θ_dk] = ψ(γ_dk) − ψ(Σ_j γ_dj) needs the digamma function ψ, which numba cannot take
+from scipy; :func:`digamma` evaluates it with the recurrence ψ(x) = ψ(x + 1) − 1/x up to
+x ≥ 10 and the asymptotic series there (Abramowitz & Stegun 1964, 6.3.5 and 6.3.18), accurate
+to about 1e-12 relative for the positive arguments γ takes (tested against scipy).
+
+References
+----------
+Hoffman, M. D., Blei, D. M., Bach, F. (2010). Online Learning for Latent Dirichlet
+Allocation. Advances in Neural Information Processing Systems 23.
+Abramowitz, M., Stegun, I. A. (1964). Handbook of Mathematical Functions, §6.3.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterator, Sequence
+from typing import Any
+
+import numpy as np
+import scipy.sparse as sp
+from gensim.models import LdaModel
+from numba import njit
+
+__all__ = ["CsrLdaModel", "RowCorpus", "digamma", "estep"]
+
+# Reassociation lets LLVM vectorise the sums over topics; no flag assumes away NaN or inf.
+_FAST = {"reassoc", "contract", "arcp", "nsz"}
+
+
+@njit(cache=True, nogil=True, fastmath=_FAST)
+def digamma(x: float) -> float:  # pragma: no cover - compiled
+    """ψ(x) for x > 0 (recurrence to x ≥ 10, then the asymptotic series to x⁻¹²)."""
+    result = 0.0
+    while x < 10.0:
+        result -= 1.0 / x
+        x += 1.0
+    inv = 1.0 / x
+    inv2 = inv * inv
+    series = inv2 * (
+        1.0 / 12.0
+        - inv2
+        * (
+            1.0 / 120.0
+            - inv2
+            * (1.0 / 252.0 - inv2 * (1.0 / 240.0 - inv2 * (1.0 / 132.0 - inv2 * (691.0 / 32760.0))))
+        )
+    )
+    return result + math.log(x) - 0.5 * inv - series
+
+
+@njit(cache=True, nogil=True, fastmath=_FAST)
+def _exp_e_log_theta(gamma: np.ndarray, out: np.ndarray) -> None:  # pragma: no cover
+    total = 0.0
+    for k in range(gamma.shape[0]):
+        total += gamma[k]
+    psi_total = digamma(total)
+    for k in range(gamma.shape[0]):
+        out[k] = math.exp(digamma(gamma[k]) - psi_total)
+
+
+@njit(cache=True, nogil=True, fastmath=_FAST)
+def estep(
+    indptr: np.ndarray,
+    indices: np.ndarray,
+    data: np.ndarray,
+    exp_e_log_beta: np.ndarray,
+    alpha: np.ndarray,
+    gamma: np.ndarray,
+    iterations: int,
+    gamma_threshold: float,
+    sstats: np.ndarray,
+    collect: bool,
+) -> int:  # pragma: no cover - compiled; tested through the Python wrappers
+    """Run the E-step in place on ``gamma`` (D × K, holding the starting points).
+
+    Parameters
+    ----------
+    indptr, indices, data : ndarray
+        The CSR arrays of the D × V count matrix (data as float64).
+    exp_e_log_beta : ndarray of shape (K, V)
+        exp(E[log β]) of the current topics.
+    alpha : ndarray of shape (K,)
+        Document–topic prior.
+    gamma : ndarray of shape (D, K)
+        Starting points on entry, the variational parameters on return.
+    iterations : int
+        Most updates per document.
+    gamma_threshold : float
+        A document stops once the mean absolute change of γ_d is below this.
+    sstats : ndarray of shape (K, V)
+        Sufficient statistics are added here when ``collect`` (before the final
+        multiplication by exp(E[log β]), which the caller does).
+    collect : bool
+        Whether to collect sufficient statistics.
+
+    Returns
+    -------
+    int
+        Documents that converged within ``iterations``.
+    """
+    n_docs, k_topics = gamma.shape
+    eps = np.finfo(np.float64).eps
+    converged = 0
+    exp_theta = np.empty(k_topics)
+    last = np.empty(k_topics)
+    acc = np.empty(k_topics)
+    for d in range(n_docs):
+        lo = indptr[d]
+        hi = indptr[d + 1]
+        n = hi - lo
+        beta_d = np.empty((n, k_topics))
+        for j in range(n):
+            w = indices[lo + j]
+            for k in range(k_topics):
+                beta_d[j, k] = exp_e_log_beta[k, w]
+        gamma_d = gamma[d]
+        _exp_e_log_theta(gamma_d, exp_theta)
+        phinorm = np.empty(n)
+        for j in range(n):
+            s = 0.0
+            for k in range(k_topics):
+                s += exp_theta[k] * beta_d[j, k]
+            phinorm[j] = s + eps
+        for _ in range(iterations):
+            for k in range(k_topics):
+                last[k] = gamma_d[k]
+                acc[k] = 0.0
+            for j in range(n):
+                ratio = data[lo + j] / phinorm[j]
+                for k in range(k_topics):
+                    acc[k] += ratio * beta_d[j, k]
+            for k in range(k_topics):
+                gamma_d[k] = alpha[k] + exp_theta[k] * acc[k]
+            _exp_e_log_theta(gamma_d, exp_theta)
+            for j in range(n):
+                s = 0.0
+                for k in range(k_topics):
+                    s += exp_theta[k] * beta_d[j, k]
+                phinorm[j] = s + eps
+            change = 0.0
+            for k in range(k_topics):
+                change += abs(gamma_d[k] - last[k])
+            if change / k_topics < gamma_threshold:
+                converged += 1
+                break
+        if collect:
+            for j in range(n):
+                w = indices[lo + j]
+                ratio = data[lo + j] / phinorm[j]
+                for k in range(k_topics):
+                    sstats[k, w] += exp_theta[k] * ratio
+    return converged
+
+
+# ----------------------------------------------------------------------- gensim glue
+
+
+class _RowRef:
+    """One row of a :class:`RowCorpus`, as gensim's chunking hands it to ``inference``."""
+
+    __slots__ = ("matrix", "row")
+
+    def __init__(self, matrix: sp.csr_matrix, row: int) -> None:
+        self.matrix = matrix
+        self.row = row
+
+
+class RowCorpus:
+    """A CSR count matrix as a corpus for :meth:`CsrLdaModel.update`.
+
+    gensim's ``update`` only takes ``len`` of the corpus and groups its items into chunks
+    for ``inference``; the items here are row references, so :class:`CsrLdaModel` slices the
+    matrix instead of building and re-reading bag-of-words lists.
+    """
+
+    def __init__(self, matrix: sp.csr_matrix) -> None:
+        self.matrix = matrix
+
+    def __len__(self) -> int:
+        return int(self.matrix.shape[0])
+
+    def __iter__(self) -> Iterator[_RowRef]:
+        matrix = self.matrix
+        return (_RowRef(matrix, i) for i in range(matrix.shape[0]))
+
+
+def _chunk_matrix(chunk: Sequence[Any], n_terms: int) -> sp.csr_matrix:
+    """The CSR rows of a chunk of row references or of gensim bag-of-words documents."""
+    if len(chunk) and isinstance(chunk[0], _RowRef):
+        matrix = chunk[0].matrix
+        rows = np.fromiter((ref.row for ref in chunk), dtype=np.int64, count=len(chunk))
+        if all(ref.matrix is matrix for ref in chunk):
+            if len(rows) and rows[-1] - rows[0] == len(rows) - 1:
+                return matrix[int(rows[0]) : int(rows[-1]) + 1]
+            return matrix[rows]
+        raise ValueError("a chunk mixes rows of different matrices")
+    lengths = np.fromiter((len(doc) for doc in chunk), dtype=np.int64, count=len(chunk))
+    indptr = np.zeros(len(chunk) + 1, dtype=np.int64)
+    np.cumsum(lengths, out=indptr[1:])
+    flat = [pair for doc in chunk for pair in doc]
+    ids = np.fromiter((int(i) for i, _ in flat), dtype=np.int64, count=len(flat))
+    cts = np.fromiter((c for _, c in flat), dtype=np.float64, count=len(flat))
+    return sp.csr_matrix((cts, ids, indptr), shape=(len(chunk), n_terms))
+
+
+class CsrLdaModel(LdaModel):
+    """gensim's ``LdaModel`` with its E-step run by the compiled :func:`estep`.
+
+    Everything else — the online M-step, α and η updates, the bound, saving the state — is
+    gensim's own. ``inference`` accepts gensim bag-of-words chunks as before, and chunks of
+    :class:`RowCorpus` rows without going through Python lists. Models with a dtype other
+    than float64 use gensim's E-step unchanged.
+    """
+
+    def inference(
+        self, chunk: Sequence[Any], collect_sstats: bool = False
+    ) -> tuple[np.ndarray, np.ndarray | None]:
+        """gensim's ``LdaModel.inference``, same arguments and results, compiled."""
+        if self.dtype != np.float64:
+            if len(chunk) and isinstance(chunk[0], _RowRef):
+                rows = _chunk_matrix(chunk, self.num_terms)
+                chunk = [list(zip(r.indices.tolist(), r.data.tolist(), strict=True)) for r in rows]
+            return super().inference(chunk, collect_sstats=collect_sstats)
+        return self.csr_inference(_chunk_matrix(chunk, self.num_terms), collect_sstats)
+
+    def csr_inference(
+        self, counts: sp.csr_matrix, collect_sstats: bool = False
+    ) -> tuple[np.ndarray, np.ndarray | None]:
+        """The E-step for the rows of a CSR count matrix (float64 models).
+
+        Draws the starting points γ⁰ ~ Gamma(100, 1/100) from the model's random state
+        exactly as gensim does, then runs :func:`estep`.
+
+        Returns
+        -------
+        gamma : ndarray of shape (D, K)
+        sstats : ndarray of shape (K, V) or None
+            Sufficient statistics multiplied by exp(E[log β]), when ``collect_sstats``.
+        """
+        counts = sp.csr_matrix(counts)
+        gamma = self.random_state.gamma(100.0, 1.0 / 100.0, (counts.shape[0], self.num_topics))
+        gamma = gamma.astype(np.float64, copy=False)
+        sstats = np.zeros_like(self.expElogbeta, dtype=np.float64)
+        estep(
+            counts.indptr.astype(np.int64, copy=False),
+            counts.indices.astype(np.int64, copy=False),
+            counts.data.astype(np.float64, copy=False),
+            np.ascontiguousarray(self.expElogbeta, dtype=np.float64),
+            np.ascontiguousarray(self.alpha, dtype=np.float64),
+            gamma,
+            int(self.iterations),
+            float(self.gamma_threshold),
+            sstats,
+            bool(collect_sstats),
+        )
+        if not collect_sstats:
+            return gamma, None
+        sstats *= self.expElogbeta
+        return gamma, sstats
