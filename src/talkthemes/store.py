@@ -372,14 +372,18 @@ class Store:
         if to_add:
             added_at = now_iso()
             with self.transaction() as c:
-                for t, h in to_add:
+                # Inside BEGIN IMMEDIATE no other writer can run, so ids can be given here
+                # and every row of the batch goes in with one executemany per table.
+                (last,) = c.execute("SELECT COALESCE(MAX(id), 0) FROM transcripts").fetchone()
+                rows, turn_rows, meta_rows = [], [], []
+                for rowid, (t, h) in enumerate(to_add, start=int(last) + 1):
+                    texts = [turn.text for turn in t.turns]
                     # readers collapse whitespace, so words = spaces + 1 per non-empty turn
-                    text_words = sum(turn.text.count(" ") + 1 for turn in t.turns if turn.text)
-                    text_chars = sum(len(turn.text) for turn in t.turns)
-                    cur = c.execute(
-                        "INSERT INTO transcripts(tid, source, format, content_hash, n_turns, "
-                        "n_words, n_chars, run_id, added_at) VALUES (?,?,?,?,?,?,?,?,?)",
+                    text_words = sum(x.count(" ") + 1 for x in texts if x)
+                    text_chars = sum(map(len, texts))
+                    rows.append(
                         (
+                            rowid,
                             t.tid,
                             t.source,
                             t.format,
@@ -389,25 +393,31 @@ class Store:
                             text_chars,
                             run_id,
                             added_at,
-                        ),
-                    )
-                    rowid = cur.lastrowid
-                    c.executemany(
-                        'INSERT INTO turns(transcript, seq, speaker, role, start, "end", text) '
-                        "VALUES (?,?,?,?,?,?,?)",
-                        [
-                            (rowid, i, u.speaker, u.role, u.start, u.end, u.text)
-                            for i, u in enumerate(t.turns)
-                        ],
-                    )
-                    if t.metadata:
-                        c.executemany(
-                            "INSERT INTO metadata(tid, key, value, origin) VALUES (?,?,?,'inline') "
-                            "ON CONFLICT(tid, key) DO UPDATE SET value=excluded.value "
-                            "WHERE metadata.origin = 'inline'",
-                            [(t.tid, k, v) for k, v in t.metadata.items()],
                         )
+                    )
+                    turn_rows.extend(
+                        (rowid, i, u.speaker, u.role, u.start, u.end, u.text)
+                        for i, u in enumerate(t.turns)
+                    )
+                    meta_rows.extend((t.tid, k, v) for k, v in t.metadata.items())
                     outcome.added.append(t)
+                c.executemany(
+                    "INSERT INTO transcripts(id, tid, source, format, content_hash, n_turns, "
+                    "n_words, n_chars, run_id, added_at) VALUES (?,?,?,?,?,?,?,?,?,?)",
+                    rows,
+                )
+                c.executemany(
+                    'INSERT INTO turns(transcript, seq, speaker, role, start, "end", text) '
+                    "VALUES (?,?,?,?,?,?,?)",
+                    turn_rows,
+                )
+                if meta_rows:
+                    c.executemany(
+                        "INSERT INTO metadata(tid, key, value, origin) VALUES (?,?,?,'inline') "
+                        "ON CONFLICT(tid, key) DO UPDATE SET value=excluded.value "
+                        "WHERE metadata.origin = 'inline'",
+                        meta_rows,
+                    )
         return outcome
 
     def set_metadata(self, entries: dict[str, dict[str, str]], *, origin: str = "manifest") -> int:

@@ -70,6 +70,43 @@ class Transcript:
             self.digest = normalised_hash(self.text())
         return self.digest
 
+    def __reduce__(self) -> tuple:
+        # Ingest parses in worker processes and sends transcripts back to the storing one:
+        # turns travel as parallel lists of plain values, several times cheaper to pickle
+        # and unpickle than one object per turn.
+        turns = self.turns
+        return (
+            _rebuild_transcript,
+            (
+                self.tid,
+                self.source,
+                self.format,
+                self.metadata,
+                self.digest,
+                [u.speaker for u in turns],
+                [u.role for u in turns],
+                [u.text for u in turns],
+                [u.start for u in turns],
+                [u.end for u in turns],
+            ),
+        )
+
+
+def _rebuild_transcript(
+    tid: str,
+    source: str,
+    fmt: str,
+    metadata: dict[str, str],
+    digest: str,
+    speakers: list[str],
+    roles: list[str],
+    texts: list[str],
+    starts: list[float | None],
+    ends: list[float | None],
+) -> Transcript:
+    turns = list(map(Turn, speakers, roles, texts, starts, ends))
+    return Transcript(tid, turns, source, fmt, metadata, digest)
+
 
 @dataclass(frozen=True, slots=True)
 class Reject:
@@ -91,6 +128,10 @@ class Warning_:  # noqa: N801 (avoids shadowing the builtin Warning)
 
 
 _WORD = re.compile(r"\w+")
+# For ASCII text \w is [A-Za-z0-9_]: every other byte becomes a space.
+_ASCII_WORD_BYTES = bytes(
+    b if b < 128 and (chr(b).isalnum() or chr(b) == "_") else 32 for b in range(256)
+)
 
 
 def normalised_hash(text: str) -> str:
@@ -100,7 +141,10 @@ def normalised_hash(text: str) -> str:
     spacing hash equal.
     """
     norm = text.casefold()
-    if not norm.isascii():
-        norm = unicodedata.normalize("NFKC", norm)
+    if norm.isascii():
+        # the same runs of \w characters, one space apart, without the regex engine
+        words = norm.encode("ascii").translate(_ASCII_WORD_BYTES).split()
+        return hashlib.sha256(b" ".join(words)).hexdigest()
+    norm = unicodedata.normalize("NFKC", norm)
     norm = " ".join(_WORD.findall(norm))
     return hashlib.sha256(norm.encode("utf-8")).hexdigest()
