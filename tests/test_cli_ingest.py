@@ -225,7 +225,8 @@ def test_killed_ingest_leaves_a_consistent_store(tmp_path: Path) -> None:
     assert con.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
     bad = con.execute(
         "SELECT COUNT(*) FROM transcripts t WHERE n_turns != "
-        "(SELECT COUNT(*) FROM turns u WHERE u.transcript = t.id)"
+        "(SELECT COALESCE(SUM(json_array_length(u.turns)), 0) FROM turn_sets u "
+        "WHERE u.transcript = t.id)"
     ).fetchone()[0]
     assert bad == 0  # every stored transcript is whole
     assert con.execute("SELECT COUNT(*) FROM transcripts WHERE tid='keep'").fetchone()[0] == 1

@@ -158,7 +158,8 @@ def test_prep_record_switches_current(store: Store) -> None:
 def test_failed_batch_leaves_store_unchanged(store: Store) -> None:
     store.add_transcripts([_t("a", "kept words")], None)
     bad = _t("b", "new words")
-    bad.turns.append(Turn("Agent", None, "more"))  # type: ignore[arg-type]  # NOT NULL role
+    # metadata rows are written last in the batch's transaction: NOT NULL value fails there
+    bad.metadata = {"queue": None}  # type: ignore[dict-item]
     with pytest.raises(sqlite3.IntegrityError):
         store.add_transcripts([_t("c", "other words"), bad], None)
     assert store.transcript_ids() == ["a"]  # the whole batch rolled back
@@ -174,12 +175,44 @@ def test_migration_from_version_1_keeps_data(
     monkeypatch.setattr(store_mod, "_MIGRATIONS", store_mod._MIGRATIONS[:1])
     monkeypatch.setattr(store_mod, "SCHEMA_VERSION", 1)
     with Store.open(path) as old:
-        old.add_transcripts([_t("a", "kept through the migration")], None)
         assert old.schema_version() == 1
+        # version 1 kept one row per turn: write them as that version did (out of order)
+        old._conn.execute(
+            "INSERT INTO transcripts(id, tid, source, format, content_hash, n_turns, n_words, "
+            "n_chars, added_at) VALUES (7, 'a', 'a.txt', 'txt', 'h', 3, 6, 30, 'now')"
+        )
+        old._conn.executemany(
+            'INSERT INTO turns(transcript, seq, speaker, role, start, "end", text) '
+            "VALUES (7,?,?,?,?,?,?)",
+            [
+                (2, "Agent", "agent", None, None, "bye now"),
+                (0, "Agent", "agent", 1.5, 2.25, "kept through the migration"),
+                (1, "Ana", "customer", 3.0, None, "thanks"),
+            ],
+        )
     monkeypatch.undo()
     with Store.open(path) as new:
         assert new.schema_version() == SCHEMA_VERSION
-        assert [u.text for u in new.get_turns("a")] == ["kept through the migration"]
+        got = new.get_turns("a")
+        assert [(u.seq, u.speaker, u.role, u.start, u.end, u.text) for u in got] == [
+            (0, "Agent", "agent", 1.5, 2.25, "kept through the migration"),
+            (1, "Ana", "customer", 3.0, None, "thanks"),
+            (2, "Agent", "agent", None, None, "bye now"),
+        ]
+        assert new.turns_for(["a"]) == [
+            (
+                "a",
+                [
+                    ("agent", "kept through the migration"),
+                    ("customer", "thanks"),
+                    ("agent", "bye now"),
+                ],
+            )
+        ]
+        summary = new.summary()
+        assert summary["turns_by_role"] == {"agent": 2, "customer": 1}
+        assert summary["transcripts_with_role"] == {"agent": 1, "customer": 1}
+        assert new.integrity_problems() == []
         assert new.next_version_number() == 1
 
 

@@ -12,19 +12,19 @@ import datetime as dt
 import hashlib
 import json
 import sqlite3
-from collections.abc import Iterable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 from talkthemes.errors import StoreError
-from talkthemes.ingest.model import Reject, Transcript
+from talkthemes.ingest.model import ROLES, Reject, StoredForm, Transcript, Turn
 
 __all__ = ["SCHEMA_VERSION", "Store", "StoredTurn", "now_iso"]
 
 # Each entry migrates the schema from version i to i + 1. Never edit a released entry:
 # append a new one.
-_MIGRATIONS: list[str] = [
+_MIGRATIONS: list[str | Callable[[sqlite3.Connection], None]] = [
     # 1: transcripts, turns, metadata, ingest runs, rejects, preps
     """
     CREATE TABLE ingest_runs (
@@ -144,6 +144,8 @@ _MIGRATIONS: list[str] = [
         PRIMARY KEY (version, theme_id)
     ) WITHOUT ROWID;
     """,
+    # 4: turns packed one row per transcript (see _pack_turns)
+    lambda conn: _pack_turns(conn),
 ]
 
 SCHEMA_VERSION = len(_MIGRATIONS)
@@ -255,7 +257,11 @@ class Store:
             )
             version = self._check_version()  # another process may have migrated meanwhile
             for target in range(version, SCHEMA_VERSION):
-                for statement in _split_sql(_MIGRATIONS[target]):
+                step = _MIGRATIONS[target]
+                if callable(step):
+                    step(self._conn)
+                    continue
+                for statement in _split_sql(step):
                     self._conn.execute(statement)
             self._conn.execute(
                 "INSERT INTO meta(key, value) VALUES('schema_version', ?) "
@@ -377,10 +383,7 @@ class Store:
                 (last,) = c.execute("SELECT COALESCE(MAX(id), 0) FROM transcripts").fetchone()
                 rows, turn_rows, meta_rows = [], [], []
                 for rowid, (t, h) in enumerate(to_add, start=int(last) + 1):
-                    texts = [turn.text for turn in t.turns]
-                    # readers collapse whitespace, so words = spaces + 1 per non-empty turn
-                    text_words = sum(x.count(" ") + 1 for x in texts if x)
-                    text_chars = sum(map(len, texts))
+                    form = t.stored_form()
                     rows.append(
                         (
                             rowid,
@@ -389,16 +392,13 @@ class Store:
                             t.format,
                             h,
                             len(t.turns),
-                            text_words,
-                            text_chars,
+                            form.n_words,
+                            form.n_chars,
                             run_id,
                             added_at,
                         )
                     )
-                    turn_rows.extend(
-                        (rowid, i, u.speaker, u.role, u.start, u.end, u.text)
-                        for i, u in enumerate(t.turns)
-                    )
+                    turn_rows.append((rowid, *form.role_turns, form.turns_json))
                     meta_rows.extend((t.tid, k, v) for k, v in t.metadata.items())
                     outcome.added.append(t)
                 c.executemany(
@@ -407,8 +407,8 @@ class Store:
                     rows,
                 )
                 c.executemany(
-                    'INSERT INTO turns(transcript, seq, speaker, role, start, "end", text) '
-                    "VALUES (?,?,?,?,?,?,?)",
+                    "INSERT INTO turn_sets(transcript, agent_turns, customer_turns, "
+                    "unknown_turns, turns) VALUES (?,?,?,?,?)",
                     turn_rows,
                 )
                 if meta_rows:
@@ -477,24 +477,23 @@ class Store:
                 return
             first, last = ids[0][0], ids[-1][0]
             turns: dict[int, list[tuple[str, str]]] = {i: [] for i, _ in ids}
-            for tr, role, text in self._conn.execute(
-                "SELECT transcript, role, text FROM turns WHERE transcript BETWEEN ? AND ? "
-                "ORDER BY transcript, seq",
+            for tr, packed in self._conn.execute(
+                "SELECT transcript, turns FROM turn_sets WHERE transcript BETWEEN ? AND ?",
                 (first, last),
             ):
-                turns[tr].append((role, text))
+                turns[tr] = [(u[1], u[4]) for u in json.loads(packed)]
             yield [(tid, turns[i]) for i, tid in ids]
 
     def get_turns(self, tid: str) -> list[StoredTurn]:
         """The turns of one transcript, in order (empty when the id is unknown)."""
-        return [
-            StoredTurn(*row)
-            for row in self._conn.execute(
-                'SELECT u.seq, u.speaker, u.role, u.start, u."end", u.text FROM turns u '
-                "JOIN transcripts t ON t.id = u.transcript WHERE t.tid = ? ORDER BY u.seq",
-                (tid,),
-            )
-        ]
+        row = self._conn.execute(
+            "SELECT u.turns FROM turn_sets u JOIN transcripts t ON t.id = u.transcript "
+            "WHERE t.tid = ?",
+            (tid,),
+        ).fetchone()
+        if row is None:
+            return []
+        return [StoredTurn(i, *u) for i, u in enumerate(json.loads(row[0]))]
 
     def metadata_for(self, tids: Sequence[str] | None = None) -> dict[str, dict[str, str]]:
         """Metadata of stored transcripts (all of them, or those in ``tids``)."""
@@ -524,14 +523,14 @@ class Store:
         by_format = dict(
             c.execute("SELECT format, COUNT(*) FROM transcripts GROUP BY format ORDER BY format")
         )
-        turns_by_role = dict(
-            c.execute("SELECT role, COUNT(*) FROM turns GROUP BY role ORDER BY role")
-        )
-        transcripts_by_role = dict(
-            c.execute(
-                "SELECT role, COUNT(DISTINCT transcript) FROM turns GROUP BY role ORDER BY role"
-            )
-        )
+        sums = c.execute(
+            "SELECT COALESCE(SUM(agent_turns), 0), COALESCE(SUM(customer_turns), 0), "
+            "COALESCE(SUM(unknown_turns), 0), COALESCE(SUM(agent_turns > 0), 0), "
+            "COALESCE(SUM(customer_turns > 0), 0), COALESCE(SUM(unknown_turns > 0), 0) "
+            "FROM turn_sets"
+        ).fetchone()
+        turns_by_role = {r: int(n) for r, n in zip(ROLES, sums[:3], strict=True) if n}
+        transcripts_by_role = {r: int(n) for r, n in zip(ROLES, sums[3:], strict=True) if n}
         dated = (
             "SELECT m.value FROM metadata m JOIN transcripts t ON t.tid = m.tid WHERE m.key='date'"
         )
@@ -977,12 +976,12 @@ class Store:
         found: dict[str, list[tuple[str, str]]] = {}
         for chunk in _chunks(list(dict.fromkeys(tids)), _PARAM_CHUNK):
             q = ",".join("?" * len(chunk))
-            for tid, role, text in self._conn.execute(
-                "SELECT t.tid, u.role, u.text FROM turns u JOIN transcripts t "
-                f"ON t.id = u.transcript WHERE t.tid IN ({q}) ORDER BY u.transcript, u.seq",
+            for tid, packed in self._conn.execute(
+                "SELECT t.tid, u.turns FROM turn_sets u JOIN transcripts t "
+                f"ON t.id = u.transcript WHERE t.tid IN ({q})",
                 chunk,
             ):
-                found.setdefault(tid, []).append((role, text))
+                found[tid] = [(u[1], u[4]) for u in json.loads(packed)]
         return [(t, found[t]) for t in dict.fromkeys(tids) if t in found]
 
     def integrity_problems(self) -> list[str]:
@@ -1010,6 +1009,51 @@ class Store:
 def _chunks(items: Sequence[Any], size: int) -> Iterator[Sequence[Any]]:
     for i in range(0, len(items), size):
         yield items[i : i + size]
+
+
+def _pack_turns(conn: sqlite3.Connection) -> None:
+    """Migration 4: one ``turn_sets`` row per transcript instead of one ``turns`` row per turn.
+
+    Storing a transcript's turns as one JSON text (``[[speaker, role, start, end, text],
+    ...]``, the :class:`~talkthemes.ingest.model.StoredForm`) with its turn counts per role
+    makes ingest write one row per transcript rather than about thirty, the largest cost of
+    storing. Existing turns are copied over in transcript order, then the old table goes.
+    """
+    conn.execute(
+        """
+        CREATE TABLE turn_sets (
+            transcript INTEGER PRIMARY KEY REFERENCES transcripts(id) ON DELETE CASCADE,
+            agent_turns INTEGER NOT NULL,
+            customer_turns INTEGER NOT NULL,
+            unknown_turns INTEGER NOT NULL,
+            turns TEXT NOT NULL
+        )
+        """
+    )
+    rows = conn.execute(
+        'SELECT transcript, speaker, role, start, "end", text FROM turns ORDER BY transcript, seq'
+    )
+    batch: list[tuple[Any, ...]] = []
+    current: int | None = None
+    turns: list[Turn] = []
+
+    def flush() -> None:
+        if current is not None:
+            form = StoredForm.of(turns)
+            batch.append((current, *form.role_turns, form.turns_json))
+
+    for transcript, speaker, role, start, end, text in rows:
+        if transcript != current:
+            flush()
+            current, turns = transcript, []
+            if len(batch) >= 1000:
+                conn.executemany("INSERT INTO turn_sets VALUES (?,?,?,?,?)", batch)
+                batch = []
+        turns.append(Turn(speaker, role, text, start, end))
+    flush()
+    if batch:
+        conn.executemany("INSERT INTO turn_sets VALUES (?,?,?,?,?)", batch)
+    conn.execute("DROP TABLE turns")
 
 
 def _split_sql(script: str) -> list[str]:

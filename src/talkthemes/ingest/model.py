@@ -3,11 +3,12 @@
 from __future__ import annotations
 
 import hashlib
+import json
 import re
 import unicodedata
 from dataclasses import dataclass, field
 
-__all__ = ["ROLES", "Reject", "Transcript", "Turn", "Warning_", "normalised_hash"]
+__all__ = ["ROLES", "Reject", "StoredForm", "Transcript", "Turn", "Warning_", "normalised_hash"]
 
 ROLES = ("agent", "customer", "unknown")
 
@@ -59,6 +60,7 @@ class Transcript:
     format: str
     metadata: dict[str, str] = field(default_factory=dict)
     digest: str = field(default="", repr=False, compare=False)
+    stored: StoredForm | None = field(default=None, repr=False, compare=False)
 
     def text(self) -> str:
         """All turns' text joined by newlines."""
@@ -69,6 +71,12 @@ class Transcript:
         if not self.digest:
             self.digest = normalised_hash(self.text())
         return self.digest
+
+    def stored_form(self) -> StoredForm:
+        """The turns as the store keeps them, with their counts (cached)."""
+        if self.stored is None:
+            self.stored = StoredForm.of(self.turns)
+        return self.stored
 
     def __reduce__(self) -> tuple:
         # Ingest parses in worker processes and sends transcripts back to the storing one:
@@ -83,6 +91,7 @@ class Transcript:
                 self.format,
                 self.metadata,
                 self.digest,
+                self.stored,
                 [u.speaker for u in turns],
                 [u.role for u in turns],
                 [u.text for u in turns],
@@ -98,6 +107,7 @@ def _rebuild_transcript(
     fmt: str,
     metadata: dict[str, str],
     digest: str,
+    stored: StoredForm | None,
     speakers: list[str],
     roles: list[str],
     texts: list[str],
@@ -105,7 +115,44 @@ def _rebuild_transcript(
     ends: list[float | None],
 ) -> Transcript:
     turns = list(map(Turn, speakers, roles, texts, starts, ends))
-    return Transcript(tid, turns, source, fmt, metadata, digest)
+    return Transcript(tid, turns, source, fmt, metadata, digest, stored)
+
+
+@dataclass(frozen=True, slots=True)
+class StoredForm:
+    """A transcript's turns in the store's form: one JSON text, plus counts kept beside it.
+
+    Attributes
+    ----------
+    turns_json : str
+        ``[[speaker, role, start, end, text], ...]`` in turn order.
+    n_words, n_chars : int
+        Words (whitespace-separated) and characters of all turns' text.
+    role_turns : tuple of int
+        Turns per role, in the order of :data:`ROLES`.
+    """
+
+    turns_json: str
+    n_words: int
+    n_chars: int
+    role_turns: tuple[int, int, int]
+
+    @classmethod
+    def of(cls, turns: list[Turn]) -> StoredForm:
+        """Build the stored form of ``turns``."""
+        texts = [u.text for u in turns]
+        roles = [u.role for u in turns]
+        return cls(
+            json.dumps(
+                [[u.speaker, u.role, u.start, u.end, u.text] for u in turns],
+                ensure_ascii=False,
+                separators=(",", ":"),
+            ),
+            # readers collapse whitespace, so words = spaces + 1 per non-empty turn
+            sum(x.count(" ") + 1 for x in texts if x),
+            sum(map(len, texts)),
+            (roles.count("agent"), roles.count("customer"), roles.count("unknown")),
+        )
 
 
 @dataclass(frozen=True, slots=True)

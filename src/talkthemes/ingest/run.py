@@ -228,11 +228,13 @@ _CHUNK_FILES = 100
 def _read_chunk(
     paths: list[Path], settings: IngestSettings
 ) -> list[Transcript | Reject | Warning_]:
-    """Read and parse a chunk of files (in a worker process); hashes are computed here too."""
+    """Read and parse a chunk of files (in a worker process); hashes and the stored form of
+    the turns are computed here too, so the storing process only writes."""
     items = [item for path in paths for item in read_file(path, settings)]
     for item in items:
         if isinstance(item, Transcript):
             item.content_hash()
+            item.stored_form()
     return items
 
 
