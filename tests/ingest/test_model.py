@@ -46,3 +46,16 @@ def test_transcript_survives_pickling_with_its_hash() -> None:
     assert back == t
     assert back.digest == digest
     assert back.turns[0].end == 1.5 and back.turns[1].start is None
+
+
+def test_transcript_with_its_stored_form_survives_pickling() -> None:
+    t = Transcript(
+        "call-2",
+        [Turn("Agent", "agent", "héllo", 0.5, None), Turn("", "unknown", "x y z", None, 2.0)],
+        "/x/call-2.txt",
+        "txt",
+    )
+    form = t.stored_form()
+    assert form.n_words == 4 and form.role_turns == (1, 0, 1)
+    back = pickle.loads(pickle.dumps(t))
+    assert back == t and back.stored == form

@@ -83,6 +83,11 @@ class Transcript:
         # turns travel as parallel lists of plain values, several times cheaper to pickle
         # and unpickle than one object per turn.
         turns = self.turns
+        if self.stored is not None:  # the stored form already holds every turn
+            return (
+                _rebuild_from_stored,
+                (self.tid, self.source, self.format, self.metadata, self.digest, self.stored),
+            )
         return (
             _rebuild_transcript,
             (
@@ -115,6 +120,13 @@ def _rebuild_transcript(
     ends: list[float | None],
 ) -> Transcript:
     turns = list(map(Turn, speakers, roles, texts, starts, ends))
+    return Transcript(tid, turns, source, fmt, metadata, digest, stored)
+
+
+def _rebuild_from_stored(
+    tid: str, source: str, fmt: str, metadata: dict[str, str], digest: str, stored: StoredForm
+) -> Transcript:
+    turns = [Turn(u[0], u[1], u[4], u[2], u[3]) for u in json.loads(stored.turns_json)]
     return Transcript(tid, turns, source, fmt, metadata, digest, stored)
 
 

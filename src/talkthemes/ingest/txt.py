@@ -146,7 +146,17 @@ def parse_turns(text: str, mapper: RoleMapper) -> list[Turn]:
         lines.append((ts, label, key, body, whole))
 
     speakers = choose_speakers(counts, mapper) if counts else set()
-    role = mapper.role
+    role_of: dict[str, str] = {}  # a transcript has few labels: map each once
+
+    def role(label: str) -> str:
+        found = role_of.get(label)
+        if found is None:
+            found = role_of[label] = mapper.role(label)
+        return found
+
+    def collapse(parts: list[str]) -> str:
+        return " ".join((parts[0] if len(parts) == 1 else " ".join(parts)).split())
+
     turns: list[Turn] = []
     speaker = ""
     parts: list[str] = []
@@ -156,7 +166,7 @@ def parse_turns(text: str, mapper: RoleMapper) -> list[Turn]:
     for ts, label, key, body, whole in lines:
         if label is not None and key in speakers:
             if started:
-                joined = " ".join(" ".join(parts).split())
+                joined = collapse(parts)
                 if joined:
                     turns.append(Turn(speaker, role(speaker), joined, start))
             speaker, parts, started = label, [body], True
@@ -173,7 +183,7 @@ def parse_turns(text: str, mapper: RoleMapper) -> list[Turn]:
             pending = None
         parts.append(whole)
     if started:
-        joined = " ".join(" ".join(parts).split())
+        joined = collapse(parts)
         if joined:
             turns.append(Turn(speaker, role(speaker), joined, start))
     return turns
