@@ -3,7 +3,7 @@
 Usage::
 
     .venv/bin/python bench/sweep.py [--n 20000] [--k 5:50:5] [--seeds 3] [--gensim-cells 3]
-                                    [--compare-workers]
+                                    [--compare-workers] [--compare-k 10,20,30,40]
 
 Prints, for N invented demo calls: ingest, prepare, sweep (cells on Dask) and publish times;
 per-cell fit seconds by family; the time spent on coherence for the whole sweep (counted once);
@@ -45,6 +45,9 @@ def main() -> None:
     ap.add_argument("--families", default="lda,nmf")
     ap.add_argument("--gensim-cells", type=int, default=3)
     ap.add_argument("--compare-workers", action="store_true")
+    ap.add_argument(
+        "--compare-k", default="10,20,30,40", help="grid of the 1- vs 2-worker comparison"
+    )
     ap.add_argument("--keep", type=Path, default=None, help="keep the workspace here")
     args = ap.parse_args()
 
@@ -150,12 +153,20 @@ def main() -> None:
 
         if args.compare_workers:
             times = {}
+            grid = f"{args.families}, K={args.compare_k} × 2 seeds"
             for w in (1, 2):
                 t = time.perf_counter()
                 with ws.lock("bench"):
-                    run_sweep(ws, k="10,20", families=["lda"], seeds=2, workers=w, force=True)
+                    run_sweep(
+                        ws,
+                        k=args.compare_k,
+                        families=args.families.split(","),
+                        seeds=2,
+                        workers=w,
+                        force=True,
+                    )
                 times[w] = time.perf_counter() - t
-                print(f"  {w} worker(s): {times[w]:.1f} s (lda, K=10,20 × 2 seeds)")
+                print(f"  {w} worker(s): {times[w]:.1f} s ({grid}, cluster start-up included)")
             print(f"  speed-up of 2 workers over 1: {times[1] / times[2]:.2f}×")
         print(f"peak memory of this process: {_peak_mb():,.0f} MB")
     finally:

@@ -22,8 +22,20 @@ def test_rendered_file_lists_every_key_with_a_comment() -> None:
     for section_name, section_field in Settings.model_fields.items():
         assert f"[{section_name}]" in lines
         for key in section_field.annotation.model_fields:  # type: ignore[union-attr]
-            idx = next(i for i, ln in enumerate(lines) if ln.startswith(f"{key} = "))
+            idx = next(i for i, ln in enumerate(lines) if ln.startswith(f"# {key} = "))
             assert lines[idx - 1].startswith("#"), key
+
+
+def test_defaults_are_commented_out_so_later_defaults_reach_the_workspace() -> None:
+    assert tomllib.loads(render_settings()) == {name: {} for name in Settings.model_fields}
+    changed = settings_from_dict({"sweep": {"seeds": 5}, "prepare": {"roles": "customer"}})
+    text = render_settings(changed)
+    assert tomllib.loads(text) == {
+        **{name: {} for name in Settings.model_fields},
+        "sweep": {"seeds": 5},
+        "prepare": {"roles": "customer"},
+    }
+    assert settings_from_dict(tomllib.loads(text)) == changed
 
 
 def test_missing_file_gives_defaults(tmp_path: Path) -> None:

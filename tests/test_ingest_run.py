@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 from pathlib import Path
 
 from talkthemes.demo import write_demo
@@ -28,3 +29,27 @@ def test_parallel_and_serial_ingest_store_the_same(tmp_path: Path) -> None:
         assert report.total("added") == PARALLEL_MIN_FILES + 250
         results.append((_stored(ws), report.to_json()["totals"]))
     assert results[0] == results[1]
+
+
+def _sleep_after_watching(pid: int) -> None:
+    from talkthemes.ingest.run import watch_parent
+
+    watch_parent(pid, interval=0.1)
+    time.sleep(30)
+
+
+def test_parse_workers_exit_when_the_ingesting_process_is_gone() -> None:
+    """A worker whose parent ingest was killed must not wait forever."""
+    import multiprocessing
+    import subprocess
+
+    parent = subprocess.Popen(["sleep", "0.5"])
+    worker = multiprocessing.get_context("fork").Process(
+        target=_sleep_after_watching, args=(parent.pid,)
+    )
+    worker.start()
+    time.sleep(1.0)  # the parent has exited but is not reaped yet: a zombie is not alive
+    worker.join(timeout=5)
+    assert not worker.is_alive()
+    assert worker.exitcode == 1
+    parent.wait()

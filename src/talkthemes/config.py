@@ -381,6 +381,10 @@ def _toml_value(value: Any) -> str:
 def render_settings(settings: Settings | None = None) -> str:
     """Render settings as a commented TOML document (every key, with its description).
 
+    A key whose value is the default is written commented out (``# key = value``), so it
+    keeps following the default of the installed talkthemes when a later release changes
+    it; a value that differs from the default is written as a setting.
+
     Parameters
     ----------
     settings : Settings, optional
@@ -391,10 +395,12 @@ def render_settings(settings: Settings | None = None) -> str:
     str
         TOML text that :func:`load_settings` reads back to the same settings.
     """
-    settings = settings or Settings()
+    defaults = Settings()
+    settings = settings or defaults
     lines = [
         "# talkthemes workspace settings.",
-        "# Every setting is listed with its default; delete a line to go back to the default.",
+        "# Every setting is listed with its current default, commented out: remove the '# '",
+        "# in front of 'key = value' and change the value to set it for this workspace.",
         "",
     ]
     for section_name, section_field in Settings.model_fields.items():
@@ -405,7 +411,9 @@ def render_settings(settings: Settings | None = None) -> str:
         for name, field in type(section).model_fields.items():
             if field.description:
                 lines.append(f"# {field.description}")
-            lines.append(f"{name} = {_toml_value(getattr(section, name))}")
+            value = getattr(section, name)
+            pinned = value != getattr(getattr(defaults, section_name), name)
+            lines.append(f"{'' if pinned else '# '}{name} = {_toml_value(value)}")
         lines.append("")
         del section_field
     return "\n".join(lines)

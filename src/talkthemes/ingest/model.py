@@ -79,11 +79,12 @@ class Transcript:
         return self.stored
 
     def __reduce__(self) -> tuple:
-        # Ingest parses in worker processes and sends transcripts back to the storing one:
-        # turns travel as parallel lists of plain values, several times cheaper to pickle
-        # and unpickle than one object per turn.
+        # Ingest parses in worker processes and sends transcripts back to the storing one.
+        # Turns travel as the stored form's one JSON text when the worker made it (the
+        # storing process writes that text as is), else as parallel lists of plain values;
+        # both are several times cheaper to pickle and unpickle than one object per turn.
         turns = self.turns
-        if self.stored is not None:  # the stored form already holds every turn
+        if self.stored is not None:
             return (
                 _rebuild_from_stored,
                 (self.tid, self.source, self.format, self.metadata, self.digest, self.stored),

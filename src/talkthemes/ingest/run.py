@@ -12,6 +12,8 @@ import logging
 import multiprocessing
 import os
 import sys
+import threading
+import time
 from collections import Counter
 from collections.abc import Callable, Iterator, Sequence
 from concurrent.futures import ProcessPoolExecutor
@@ -238,6 +240,37 @@ def _read_chunk(
     return items
 
 
+def watch_parent(pid: int, interval: float = 1.0) -> None:
+    """Exit this (worker) process soon after process ``pid`` is gone.
+
+    A killed ingest cannot shut its pool down, and pool workers wait on a queue whose other
+    end they hold themselves, so without this they would wait forever.
+    """
+
+    def watch() -> None:
+        while True:
+            time.sleep(interval)
+            if not _alive(pid):
+                os._exit(1)
+
+    threading.Thread(target=watch, name="talkthemes-parent-watch", daemon=True).start()
+
+
+def _alive(pid: int) -> bool:
+    """Whether process ``pid`` runs (a zombie, dead but not yet reaped, does not count)."""
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:  # alive, owned by someone else
+        return True
+    try:
+        stat = Path(f"/proc/{pid}/stat").read_text()
+    except OSError:  # no /proc (macOS): signal 0 is all we can ask
+        return True
+    return stat[stat.rfind(")") + 2 :][:1] != "Z"
+
+
 def _read_files(
     files: list[Path], settings: IngestSettings, workers: int | None
 ) -> Iterator[tuple[list[Path], list[Transcript | Reject | Warning_]]]:
@@ -253,7 +286,9 @@ def _read_files(
             yield chunk, _read_chunk(chunk, settings)
         return
     ctx = multiprocessing.get_context("spawn" if sys.platform == "darwin" else "forkserver")
-    with ProcessPoolExecutor(max_workers=n, mp_context=ctx) as pool:
+    with ProcessPoolExecutor(
+        max_workers=n, mp_context=ctx, initializer=watch_parent, initargs=(os.getpid(),)
+    ) as pool:
         yield from zip(chunks, pool.map(_read_chunk, chunks, [settings] * len(chunks)), strict=True)
 
 
