@@ -356,3 +356,25 @@ def test_bad_arguments_are_refused(tmp_path: Path) -> None:
     with pytest.raises(InputError, match="mine"):
         write_demo(foreign, size=5)
     assert (foreign / "notes.txt").read_text(encoding="utf-8") == "keep me"
+
+
+def test_per_turn_csv_is_split_into_parts_that_ingest_whole(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """Large demos write several per-turn CSV parts (the default size limit would refuse one
+    huge file); every call lands in exactly one part and every part ingests."""
+    from talkthemes.ingest.run import ingest
+    from talkthemes.workspace import Workspace
+
+    monkeypatch.setattr(demo, "CSV_CALLS_PER_FILE", 20)
+    files = demo.write_demo(tmp_path / "out", size=300, seed=3)
+    parts = sorted(files.exports.glob("turns*.csv"), key=lambda p: (p.name != "turns.csv", p.name))
+    assert parts[0] == files.turns and len(parts) == -(-files.counts["csv"] // 20)
+    ids_per_part = [{row["call_id"] for row in _read_csv(p)} for p in parts]
+    assert all(len(ids) == 20 for ids in ids_per_part[:-1])
+    assert sum(map(len, ids_per_part)) == len(set().union(*ids_per_part)) == files.counts["csv"]
+    ws = Workspace(tmp_path / "ws")
+    ws.init()
+    with ws.lock("test"):
+        report = ingest(ws, [files.exports], manifests=[files.manifest])
+    assert report.total("added") == 300 and not report.rejects

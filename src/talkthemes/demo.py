@@ -196,7 +196,8 @@ class DemoFiles:
     manifest, truth : Path
         ``exports/manifest.csv`` and ``root/truth.csv`` (the answer key, never ingested).
     turns : Path or None
-        ``exports/turns.csv``, or ``None`` when no call was written as CSV rows.
+        ``exports/turns.csv``, or ``None`` when no call was written as CSV rows. Beyond
+        :data:`CSV_CALLS_PER_FILE` such calls, the rest go to ``turns-002.csv``, ….
     inbox : Path or None
         ``root/inbox`` with October's calls when they were held back, else ``None``.
     counts, inbox_counts : dict of str to int
@@ -817,24 +818,33 @@ def render_vtt(call: DemoCall) -> str:
 # -- writing -------------------------------------------------------------------------
 
 
+#: Calls per per-turn CSV file: about 17 MB, well under the default ingest size limit.
+CSV_CALLS_PER_FILE = 5000
+
+
 class _Sink:
-    """One output folder (``exports`` or ``inbox``): call files, ``turns.csv``, manifest."""
+    """One output folder (``exports`` or ``inbox``): call files, ``turns*.csv``, manifest."""
 
     def __init__(self, root: Path, stack: contextlib.ExitStack) -> None:
         self.root, self.stack = root, stack
         self.manifest: list[tuple[str, ...]] = []
         self.counts = dict.fromkeys(FORMATS, 0)
         self.turns: Any = None
+        self.turns_file: Any = None
         self.months: set[str] = set()
 
     def add(self, call: DemoCall) -> None:
         month = _month_key(call.date)
         if call.format == "csv":
-            if self.turns is None:
-                fh = self.stack.enter_context(
-                    (self.root / "turns.csv").open("w", encoding="utf-8", newline="")
+            if self.counts["csv"] % CSV_CALLS_PER_FILE == 0:  # a new part, under size limits
+                part = self.counts["csv"] // CSV_CALLS_PER_FILE + 1
+                name = "turns.csv" if part == 1 else f"turns-{part:03d}.csv"
+                if self.turns_file is not None:
+                    self.turns_file.close()
+                self.turns_file = self.stack.enter_context(
+                    (self.root / name).open("w", encoding="utf-8", newline="")
                 )
-                self.turns = csv.writer(fh, lineterminator="\n")
+                self.turns = csv.writer(self.turns_file, lineterminator="\n")
                 self.turns.writerow(_TURN_COLUMNS)
             self.turns.writerows((call.call_id, t.speaker, f"{t.start:.1f}", t.text)
                                  for t in call.turns)  # fmt: skip
@@ -886,6 +896,7 @@ def write_demo(
 
         out_dir/exports/calls/<yyyy-mm>/<call_id>.txt|.vtt   (about half / a quarter)
         out_dir/exports/turns.csv      one row per turn: call_id, speaker, start, text
+                                       (then turns-002.csv, ... every 5,000 such calls)
         out_dir/exports/manifest.csv   call_id, date, queue, site, duration_s, channel
         out_dir/inbox/...              October's calls, same layout, when held back
         out_dir/truth.csv              answer key for tests; never ingested or shown
