@@ -229,6 +229,13 @@ class SweepSettings(_Section):
         "frobenius", description="NMF loss: 'frobenius' (cd solver) or 'kullback-leibler' (mu)."
     )
     nmf_max_iter: int = Field(400, ge=1, description="NMF iteration limit.")
+    nmf_dtype: Literal["float32", "float64"] = Field(
+        "float32",
+        description=(
+            "Precision NMF fits in (the TF-IDF matrix and the factors): float32 is about "
+            "1.3-1.5x faster; results are stored as float64 either way."
+        ),
+    )
     nmf_tol: float = Field(
         1e-3,
         gt=0,

@@ -190,6 +190,7 @@ def make_model(family: str, k: int, seed: int, settings: SweepSettings) -> Any:
         loss=settings.nmf_loss,
         max_iter=settings.nmf_max_iter,
         tol=settings.nmf_tol,
+        dtype=settings.nmf_dtype,
     )
 
 

@@ -51,6 +51,7 @@ def test_digamma_matches_scipy() -> None:
     xs = np.concatenate([np.geomspace(1e-6, 1e6, 400), np.linspace(0.5, 12, 200)])
     ours = np.array([digamma(float(x)) for x in xs])
     np.testing.assert_allclose(ours, psi(xs), rtol=1e-12, atol=1e-12)
+    assert all(np.isnan(digamma(x)) for x in (0.0, -1.5, float("nan"), float("-inf")))
 
 
 @pytest.mark.parametrize(

@@ -13,7 +13,7 @@ from sklearn.decomposition import NMF
 from sklearn.feature_extraction.text import TfidfTransformer
 
 from talkthemes.errors import ConfigError, InputError, NotReadyError
-from talkthemes.models.base import check_counts
+from talkthemes.models.base import check_counts, top_terms
 from talkthemes.models.nmf import (
     NmfTopics,
     nmf_distributions,
@@ -104,6 +104,23 @@ def test_reconstruction_error_is_sklearns_on_the_same_weights(corpus, fitted) ->
     frobenius = np.linalg.norm(weights.toarray() - W @ reference.components_)
     assert fitted.reconstruction_err_ == pytest.approx(frobenius, rel=1e-9)
     np.testing.assert_allclose(fitted.components_, reference.components_, rtol=1e-12)
+
+
+def test_float32_fit_is_sklearns_float32_fit_and_keeps_the_topics(corpus, fitted) -> None:
+    """scikit-learn's NMF keeps float32 input in float32: ours passes float32 TF-IDF and
+    returns float64 distributions with the same top terms as the float64 fit."""
+    counts = check_counts(corpus[0])
+    weights = tfidf_weights(counts, smooth_idf(counts)).astype(np.float32)
+    reference = NMF(n_components=3, init="nndsvda", solver="cd", random_state=1, max_iter=400)
+    reference.fit_transform(weights)
+    assert reference.components_.dtype == np.float32
+    single = NmfTopics(k=3, seed=1, dtype="float32").fit(corpus[0])
+    assert single.result_.topic_terms.dtype == np.float64
+    np.testing.assert_allclose(single.components_, reference.components_, rtol=1e-6, atol=1e-7)
+    assert single.reconstruction_err_ == pytest.approx(fitted.reconstruction_err_, rel=1e-4)
+    np.testing.assert_array_equal(
+        top_terms(single.result_.topic_terms, 5), top_terms(fitted.result_.topic_terms, 5)
+    )
 
 
 def test_same_seed_same_result_and_other_seed_differs(corpus, fitted) -> None:

@@ -39,7 +39,7 @@ import scipy.sparse as sp
 from gensim.models import LdaModel
 from numba import njit
 
-__all__ = ["CsrLdaModel", "RowCorpus", "digamma", "estep"]
+__all__ = ["CsrLdaModel", "RowCorpus", "bound_words", "digamma", "estep"]
 
 # Reassociation lets LLVM vectorise the sums over topics; no flag assumes away NaN or inf.
 _FAST = {"reassoc", "contract", "arcp", "nsz"}
@@ -47,7 +47,10 @@ _FAST = {"reassoc", "contract", "arcp", "nsz"}
 
 @njit(cache=True, nogil=True, fastmath=_FAST)
 def digamma(x: float) -> float:  # pragma: no cover - compiled
-    """ψ(x) for x > 0 (recurrence to x ≥ 10, then the asymptotic series to x⁻¹²)."""
+    """ψ(x) for x > 0 (recurrence to x ≥ 10, then the asymptotic series to x⁻¹²); NaN
+    for x ≤ 0, NaN or infinite x (γ is always positive and finite)."""
+    if not (0.0 < x < math.inf):
+        return math.nan
     result = 0.0
     while x < 10.0:
         result -= 1.0 / x
@@ -168,6 +171,41 @@ def estep(
                 for k in range(k_topics):
                     sstats[k, w] += exp_theta[k] * ratio
     return converged
+
+
+@njit(cache=True, nogil=True, fastmath=_FAST)
+def bound_words(
+    indptr: np.ndarray,
+    indices: np.ndarray,
+    data: np.ndarray,
+    e_log_theta: np.ndarray,
+    e_log_beta_t: np.ndarray,
+) -> float:  # pragma: no cover - compiled; tested through variational_bound
+    """Σ_d Σ_w n_dw · ln Σ_k exp(E[log θ_dk] + E[log β_kw]): the word part of the LDA bound.
+
+    Parameters
+    ----------
+    indptr, indices, data : ndarray
+        CSR arrays of the D × V counts (data as float64).
+    e_log_theta : ndarray of shape (D, K)
+    e_log_beta_t : ndarray of shape (V, K)
+        E[log β] transposed, so each term's K values are contiguous.
+    """
+    n_docs, k_topics = e_log_theta.shape
+    total = 0.0
+    for d in range(n_docs):
+        for j in range(indptr[d], indptr[d + 1]):
+            w = indices[j]
+            top = -math.inf
+            for k in range(k_topics):
+                v = e_log_theta[d, k] + e_log_beta_t[w, k]
+                if v > top:
+                    top = v
+            s = 0.0
+            for k in range(k_topics):
+                s += math.exp(e_log_theta[d, k] + e_log_beta_t[w, k] - top)
+            total += data[j] * (top + math.log(s))
+    return total
 
 
 # ----------------------------------------------------------------------- gensim glue

@@ -36,7 +36,7 @@ import numpy as np
 import scipy.sparse as sp
 from gensim.matutils import Sparse2Corpus
 from gensim.models import LdaModel
-from scipy.special import gammaln, logsumexp, psi
+from scipy.special import gammaln, psi
 
 from talkthemes.config import SweepSettings
 from talkthemes.errors import InputError, NotReadyError
@@ -54,7 +54,7 @@ from talkthemes.models.base import (
     real_rule,
     vocabulary_rule,
 )
-from talkthemes.models.estep import CsrLdaModel, RowCorpus
+from talkthemes.models.estep import CsrLdaModel, RowCorpus, bound_words
 
 __all__ = [
     "LdaTopics",
@@ -88,7 +88,6 @@ _STATE_PARAMS = (
     "optimize_eta",
     "gensim_version",
 )
-_BOUND_BLOCK = 2000  # documents per block when evaluating the variational bound
 
 _RULES: dict[str, _Rule] = {
     "k": int_rule(1),
@@ -403,7 +402,8 @@ def heldout_perplexity(
     """Per-word perplexity exp(−bound / N) of held-out documents.
 
     The bound is gensim's variational lower bound (``LdaModel.bound``), evaluated here with
-    vectorised numpy on γ inferred by :func:`infer_doc_topics`'s E-step; it equals
+    numpy and a compiled loop (:func:`~talkthemes.models.estep.bound_words`) on γ inferred
+    by :func:`infer_doc_topics`'s E-step; it equals
     ``exp(-model.log_perplexity(chunk, total_docs))`` for the same γ. The logarithms are
     natural, so this is the conventional per-word perplexity (gensim's own log line prints
     2^(−bound) instead).
@@ -468,7 +468,7 @@ def variational_bound(
     eta: np.ndarray,
     subsample_ratio: float = 1.0,
 ) -> float:
-    """gensim's LDA variational lower bound E_q[ln p(w, θ, β)] − E_q[ln q(θ, β)], vectorised.
+    """gensim's LDA variational lower bound E_q[ln p(w, θ, β)] − E_q[ln q(θ, β)], in bulk.
 
     Same terms, in the same arrangement, as ``gensim.models.LdaModel.bound`` (4.4): the
     per-document part (word likelihood and the θ Dirichlet terms) times ``subsample_ratio``,
@@ -494,12 +494,13 @@ def variational_bound(
     counts = sp.csr_matrix(counts)
     e_log_beta = _dirichlet_expectation_rows(lambda_)
     e_log_theta = _dirichlet_expectation_rows(gamma)
-    words = 0.0
-    for lo in range(0, counts.shape[0], _BOUND_BLOCK):
-        block = counts[lo : lo + _BOUND_BLOCK]
-        rows = np.repeat(np.arange(block.shape[0]), np.diff(block.indptr))
-        pieces = e_log_theta[lo + rows] + e_log_beta[:, block.indices].T
-        words += float(block.data @ logsumexp(pieces, axis=1))
+    words = bound_words(
+        counts.indptr.astype(np.int64, copy=False),
+        counts.indices.astype(np.int64, copy=False),
+        counts.data.astype(np.float64, copy=False),
+        np.ascontiguousarray(e_log_theta, dtype=np.float64),
+        np.ascontiguousarray(e_log_beta.T, dtype=np.float64),
+    )
     docs = float(np.sum((alpha - gamma) * e_log_theta))
     docs += float(np.sum(gammaln(gamma)) - gamma.shape[0] * np.sum(gammaln(alpha)))
     docs += float(gamma.shape[0] * gammaln(np.sum(alpha)) - np.sum(gammaln(gamma.sum(axis=1))))
