@@ -84,13 +84,15 @@ def parse_clock(value: str) -> float | None:
     (3723.5, 125.0, 7.25, None)
     """
     value = value.strip()
+    try:  # plain seconds first: the common case in tables (float() never accepts a colon)
+        seconds = float(value)
+    except ValueError:
+        pass
+    else:
+        return seconds if math.isfinite(seconds) else None
     m = _CLOCK.fullmatch(value)
     if m is None:
-        try:
-            seconds = float(value)
-        except ValueError:
-            return None
-        return seconds if math.isfinite(seconds) else None
+        return None
     hours = int(m.group(1)) if m.group(1) else 0
     return hours * 3600 + int(m.group(2)) * 60 + float(m.group(3).replace(",", "."))
 

@@ -75,10 +75,13 @@ def parse_timestamp(value: str) -> float | None:
 
 
 def _plain(text: str) -> str:
-    text = _TAG.sub("", _RUBY_TEXT.sub("", text))
+    if "<" in text:  # tags (and ruby text) only exist with a "<"
+        text = _TAG.sub("", _RUBY_TEXT.sub("", text))
     if "&" in text:
         text = html.unescape(text)
-    return " ".join(text.translate(_DIRECTION).split())
+    if not text.isascii():  # the direction marks are all outside ASCII
+        text = text.translate(_DIRECTION)
+    return " ".join(text.split())
 
 
 def cue_text(payload: str) -> list[tuple[str | None, str]]:
