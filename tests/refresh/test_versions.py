@@ -225,7 +225,7 @@ def test_migration_to_the_refresh_log_keeps_versions(
         assert old.schema_version() == 2
     monkeypatch.undo()
     with Store.open(path) as new:
-        assert new.schema_version() == SCHEMA_VERSION == 3
+        assert new.schema_version() == SCHEMA_VERSION >= 3
         assert new.current_version()["n"] == 1 and new.refreshes() == []
         new.start_refresh(1, {})
         assert new.retired_themes(1) == []
