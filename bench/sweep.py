@@ -3,13 +3,13 @@
 Usage::
 
     .venv/bin/python bench/sweep.py [--n 20000] [--k 5:50:5] [--seeds 3] [--gensim-cells 3]
-                                    [--compare-workers] [--compare-k 10,20,30,40]
+                                    [--compare-workers] [--compare-k GRID] [--compare-seeds N]
 
 Prints, for N invented demo calls: ingest, prepare, sweep (cells on Dask) and publish times;
 per-cell fit seconds by family; the time spent on coherence for the whole sweep (counted once);
 the C_V of a few cells recomputed with gensim's ``CoherenceModel`` (one call per cell, as users
-do) and the per-cell time ratio; optionally the speed-up of 2 Dask workers over 1 on a smaller
-grid; peak memory. Not a test: it prints figures for docs/performance.md.
+do) and the per-cell time ratio; optionally the speed-up of 2 Dask workers over 1 (on the same
+grid unless told otherwise); peak memory. Not a test: it prints figures for docs/performance.md.
 """
 
 from __future__ import annotations
@@ -46,7 +46,10 @@ def main() -> None:
     ap.add_argument("--gensim-cells", type=int, default=3)
     ap.add_argument("--compare-workers", action="store_true")
     ap.add_argument(
-        "--compare-k", default="10,20,30,40", help="grid of the 1- vs 2-worker comparison"
+        "--compare-k", default="", help="grid of the 1- vs 2-worker comparison (default: --k)"
+    )
+    ap.add_argument(
+        "--compare-seeds", type=int, default=0, help="seeds of that comparison (default: --seeds)"
     )
     ap.add_argument("--keep", type=Path, default=None, help="keep the workspace here")
     args = ap.parse_args()
@@ -153,15 +156,17 @@ def main() -> None:
 
         if args.compare_workers:
             times = {}
-            grid = f"{args.families}, K={args.compare_k} × 2 seeds"
+            compare_k = args.compare_k or args.k
+            compare_seeds = args.compare_seeds or args.seeds
+            grid = f"{args.families}, K={compare_k} × {compare_seeds} seeds"
             for w in (1, 2):
                 t = time.perf_counter()
                 with ws.lock("bench"):
                     run_sweep(
                         ws,
-                        k=args.compare_k,
+                        k=compare_k,
                         families=args.families.split(","),
-                        seeds=2,
+                        seeds=compare_seeds,
                         workers=w,
                         force=True,
                     )
