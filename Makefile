@@ -31,6 +31,8 @@ lint: install
 bench: install
 	$(BIN)/python bench/ingest.py --n 20000
 	$(BIN)/python bench/prepare.py 20000
+	$(BIN)/python bench/lda_estep.py
+	$(BIN)/python bench/parallel_ceiling.py
 	$(BIN)/python bench/sweep.py --n 20000 --compare-workers
 	$(BIN)/python bench/assign.py
 	$(BIN)/python bench/viewer.py --size 20000
