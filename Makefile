@@ -25,8 +25,8 @@ test: install
 	$(BIN)/python -m pytest -q
 
 lint: install
-	$(BIN)/ruff check src tests bench app
-	$(BIN)/ruff format --check src tests bench app
+	$(BIN)/ruff check src tests bench
+	$(BIN)/ruff format --check src tests bench
 
 bench: install
 	$(BIN)/python bench/ingest.py --n 20000
