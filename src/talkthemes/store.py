@@ -719,19 +719,7 @@ class Store:
         Each theme dict has ``theme_id``, ``position`` (row in the version's arrays),
         ``status`` and optionally ``info``. The version's files must already be in place.
         """
-        with self.transaction() as c:
-            c.execute("UPDATE versions SET current = 0 WHERE current = 1")
-            c.execute(
-                "INSERT INTO versions(n, created_at, current, info) VALUES (?,?,1,?)",
-                (n, now_iso(), json.dumps(info)),
-            )
-            c.executemany(
-                "INSERT INTO themes(version, theme_id, position, status, info) VALUES (?,?,?,?,?)",
-                [
-                    (n, t["theme_id"], t["position"], t["status"], json.dumps(t.get("info", {})))
-                    for t in themes
-                ],
-            )
+        self.publish_version(n, info, themes)
 
     def set_current_version(self, n: int) -> None:
         """Make an existing version current again (roll back or forward)."""
@@ -853,10 +841,11 @@ class Store:
                     for t in themes
                 ],
             )
-            c.executemany(
-                "INSERT INTO retired_themes(version, theme_id, info) VALUES (?,?,?)",
-                [(n, r["theme_id"], json.dumps(r.get("info", {}))) for r in retired],
-            )
+            if retired:
+                c.executemany(
+                    "INSERT INTO retired_themes(version, theme_id, info) VALUES (?,?,?)",
+                    [(n, r["theme_id"], json.dumps(r.get("info", {}))) for r in retired],
+                )
             if refresh_id is not None:
                 c.execute(
                     "UPDATE refreshes SET status='published', finished_at=?, version=?, info=? "

@@ -80,48 +80,12 @@ class Transcript:
 
     def __reduce__(self) -> tuple:
         # Ingest parses in worker processes and sends transcripts back to the storing one.
-        # Turns travel as the stored form's one JSON text when the worker made it (the
-        # storing process writes that text as is), else as parallel lists of plain values;
-        # both are several times cheaper to pickle and unpickle than one object per turn.
-        turns = self.turns
-        if self.stored is not None:
-            return (
-                _rebuild_from_stored,
-                (self.tid, self.source, self.format, self.metadata, self.digest, self.stored),
-            )
+        # Turns travel as the stored form's one JSON text (which the storing process writes
+        # as is): several times cheaper to pickle than one object per turn.
         return (
-            _rebuild_transcript,
-            (
-                self.tid,
-                self.source,
-                self.format,
-                self.metadata,
-                self.digest,
-                self.stored,
-                [u.speaker for u in turns],
-                [u.role for u in turns],
-                [u.text for u in turns],
-                [u.start for u in turns],
-                [u.end for u in turns],
-            ),
+            _rebuild_from_stored,
+            (self.tid, self.source, self.format, self.metadata, self.digest, self.stored_form()),
         )
-
-
-def _rebuild_transcript(
-    tid: str,
-    source: str,
-    fmt: str,
-    metadata: dict[str, str],
-    digest: str,
-    stored: StoredForm | None,
-    speakers: list[str],
-    roles: list[str],
-    texts: list[str],
-    starts: list[float | None],
-    ends: list[float | None],
-) -> Transcript:
-    turns = list(map(Turn, speakers, roles, texts, starts, ends))
-    return Transcript(tid, turns, source, fmt, metadata, digest, stored)
 
 
 def _rebuild_from_stored(
