@@ -1,0 +1,72 @@
+"""Escaping in one place for every face: HTML, Markdown, spreadsheet cells and the terminal.
+
+Transcript text, labels, notes, metadata values and file names are untrusted. Whatever shows
+them (viewer, report, drift report, CLI, exports) passes them through one of these functions so
+that no HTML, Markdown, terminal markup or spreadsheet formula in them is ever interpreted.
+"""
+
+from __future__ import annotations
+
+import html
+import re
+from typing import Any
+
+import pandas as pd
+
+__all__ = ["FORMULA_START", "csv_cell", "csv_frame", "html_text", "md_inline", "terminal_text"]
+
+#: Characters that make a spreadsheet read a cell as a formula or a command (OWASP, "CSV
+#: Injection": ``=``, ``+``, ``-``, ``@``, tab and carriage return at the start of a cell).
+FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+# Every character with a meaning in CommonMark inline syntax, plus ``|`` (tables), ``~``
+# (strike-through), ``$`` (maths in some renderers) and ``:`` (emoji/icon shortcodes).
+_MD_SPECIAL = re.compile(r"([\\`*_{}\[\]()#+\-.!|<>~$:])")
+_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f]")
+
+
+def html_text(value: Any) -> str:
+    """``value`` as HTML text: ``& < > " '`` escaped, safe in element content and attributes."""
+    return html.escape(str(value), quote=True)
+
+
+def md_inline(value: Any) -> str:
+    """``value`` as one line of Markdown that renders as the literal text.
+
+    Whitespace runs (newlines included) become one space, so the text cannot start a heading,
+    list or table row, and every character with a Markdown meaning is backslash-escaped, so it
+    cannot become a link, image, emphasis, code span or HTML.
+    """
+    one_line = " ".join(str(value).split())
+    return _MD_SPECIAL.sub(r"\\\1", one_line)
+
+
+def terminal_text(value: Any) -> str:
+    """``value`` for a terminal: control characters (escape sequences) shown as ``?``.
+
+    Print it with markup and highlighting off (``console.print(..., markup=False)``) or pass it
+    through :func:`rich.markup.escape` when it is part of a marked-up line.
+    """
+    return _CONTROL.sub("?", str(value))
+
+
+def csv_cell(value: Any) -> Any:
+    """A value for a spreadsheet-bound CSV cell: a text starting a formula gets a ``'`` prefix.
+
+    Follows the OWASP guidance on CSV injection: a cell starting with ``=``, ``+``, ``-``,
+    ``@``, tab or carriage return is prefixed with a single quote so that spreadsheet programs
+    show it as text. Numbers and other non-text values are returned unchanged.
+    """
+    if isinstance(value, str) and value.startswith(FORMULA_START):
+        return "'" + value
+    return value
+
+
+def csv_frame(frame: pd.DataFrame) -> pd.DataFrame:
+    """A copy of ``frame`` with :func:`csv_cell` applied to every text cell (columns included)."""
+    out = frame.copy()
+    for col in out.columns:
+        if out[col].dtype == object or pd.api.types.is_string_dtype(out[col].dtype):
+            out[col] = out[col].map(csv_cell)
+    out.columns = [csv_cell(c) if isinstance(c, str) else c for c in out.columns]
+    return out
