@@ -98,6 +98,7 @@ def test_manifest_inside_an_ingested_folder_is_not_read_as_transcripts(
         str(exports / "manifest.csv"),
         "--workspace",
         str(tmp_path / "w"),
+        "--create",
         "--json",
     )
     assert code == 0, out
@@ -114,6 +115,7 @@ def test_ingest_everything_and_report(tmp_path: Path, exports: Path) -> None:
         str(exports / "manifest.csv"),
         "--workspace",
         str(ws),
+        "--create",
         "--json",
     )
     assert code == 0, out
@@ -148,7 +150,13 @@ def test_rejects_give_exit_3_keep_good_inputs_and_write_csv(tmp_path: Path, expo
     ws = tmp_path / "w"
     rejects = tmp_path / "rejects.csv"
     code, out, err = _run(
-        "ingest", str(exports / "calls"), "--workspace", str(ws), "--rejects", str(rejects)
+        "ingest",
+        str(exports / "calls"),
+        "--workspace",
+        str(ws),
+        "--create",
+        "--rejects",
+        str(rejects),
     )
     assert code == 3
     assert "rejected" in err and "empty.txt" in err and "binary.txt" in err
@@ -161,7 +169,7 @@ def test_rejects_give_exit_3_keep_good_inputs_and_write_csv(tmp_path: Path, expo
 
 def test_missing_path_is_rejected_not_a_crash(tmp_path: Path) -> None:
     code, out, _ = _run(
-        "ingest", str(tmp_path / "nope"), "--workspace", str(tmp_path / "w"), "--json"
+        "ingest", str(tmp_path / "nope"), "--workspace", str(tmp_path / "w"), "--create", "--json"
     )
     assert code == 3
     assert json.loads(out)["rejects"][0]["source"].endswith("nope")

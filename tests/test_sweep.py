@@ -155,7 +155,7 @@ def test_publish_themes_label_export(bars_ws: Workspace, tmp_path: Path) -> None
     assert doc["themes"][2]["name"] == "Vertical bar"
     assert set(doc["themes"][0]["coherence"]) == {"c_npmi", "c_v"}
     r = runner.invoke(app, ["label", "999", "x", "-w", str(bars_ws.root)])
-    assert r.exit_code == 1 and "no theme 999" in r.stderr
+    assert r.exit_code == 2 and "no theme 999" in r.stderr
 
     out = tmp_path / "shares.parquet"
     r = runner.invoke(app, ["export", "--out", str(out), "-w", str(bars_ws.root)])

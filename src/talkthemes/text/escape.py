@@ -9,9 +9,10 @@ from __future__ import annotations
 
 import html
 import re
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import pandas as pd
+if TYPE_CHECKING:  # pandas is imported where it is used: the CLI's start-up must not pay it
+    import pandas as pd
 
 __all__ = ["FORMULA_START", "csv_cell", "csv_frame", "html_text", "md_inline", "terminal_text"]
 
@@ -64,6 +65,8 @@ def csv_cell(value: Any) -> Any:
 
 def csv_frame(frame: pd.DataFrame) -> pd.DataFrame:
     """A copy of ``frame`` with :func:`csv_cell` applied to every text cell (columns included)."""
+    import pandas as pd  # deferred: heavy, and only CSV writers need it
+
     out = frame.copy()
     for col in out.columns:
         if out[col].dtype == object or pd.api.types.is_string_dtype(out[col].dtype):

@@ -1,0 +1,322 @@
+"""What every command shares, written once: the app, errors → exit codes, the consoles,
+the common options, the workspace, the writer lock, the progress bar, JSON, safe printing.
+
+Conventions (``docs/operations.md``, "Exit codes"): every command takes ``--workspace``;
+commands that report take ``--json`` and then print exactly one JSON document on stdout,
+with progress and warnings on stderr; exit codes 0 done, 2 usage or settings error, 3 done
+but some inputs rejected, 4 an alert asked for occurred, 1 unexpected.
+
+Every string that came from a user or an input (labels, notes, metadata, file names,
+transcript ids, terms, reasons) is printed as a rich :class:`~rich.text.Text` built by
+:func:`line` or :func:`cell`, never inside a markup string: no ``[red]`` or ``[link=…]`` in
+it is read as markup, and control characters are shown as ``?``
+(:func:`talkthemes.text.terminal_text`).
+"""
+
+from __future__ import annotations
+
+import json
+import logging
+import os
+import sys
+import tempfile
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Annotated, Any
+
+import typer
+from rich.console import Console
+from rich.progress import (
+    BarColumn,
+    MofNCompleteColumn,
+    TextColumn,
+    TimeElapsedColumn,
+    TimeRemainingColumn,
+)
+from rich.progress import Progress as RichProgress
+from rich.text import Text
+from typer.core import TyperGroup
+
+from talkthemes.errors import InputError, NotReadyError, TalkthemesError
+from talkthemes.progress import Progress, silent
+from talkthemes.text import terminal_text
+from talkthemes.workspace import Workspace, resolve_workspace
+
+__all__ = [
+    "JsonOpt",
+    "WaitOpt",
+    "WorkspaceOpt",
+    "app",
+    "cell",
+    "check_output",
+    "emit_json",
+    "err",
+    "line",
+    "lock",
+    "open_workspace",
+    "out",
+    "progress_bar",
+    "say",
+    "staged",
+    "writing",
+]
+
+# Consoles. Emoji shortcodes (``:warning:``) are off: they would rewrite user text too.
+out = Console(emoji=False, highlight=False)  # results
+err = Console(stderr=True, soft_wrap=True, emoji=False, highlight=False)  # progress, messages
+
+_state: dict[str, bool] = {"debug": False}
+
+
+class _Group(TyperGroup):
+    """Turns talkthemes errors into one line on stderr and the documented exit code.
+
+    Usage errors found while parsing options (bad value, missing option or argument,
+    unknown option) are the exceptions of the click that typer bundles, all derived from
+    :class:`typer.TyperException`: they pass through, and typer prints click's message and
+    exits 2.
+    """
+
+    def invoke(self, ctx: Any) -> Any:
+        try:
+            return super().invoke(ctx)
+        except (typer.Exit, typer.Abort, typer.TyperException):
+            raise
+        except TalkthemesError as exc:
+            if _state["debug"]:
+                raise
+            say(f"talkthemes: {exc}")
+            raise typer.Exit(exc.exit_code) from None
+        except KeyboardInterrupt:
+            say("talkthemes: interrupted; finished work is kept")
+            raise typer.Exit(130) from None
+        except Exception as exc:
+            if _state["debug"]:
+                raise
+            say(
+                f"talkthemes: unexpected error: {type(exc).__name__}: {exc} "
+                "(run with --debug for the traceback)"
+            )
+            raise typer.Exit(1) from None
+
+
+app = typer.Typer(
+    cls=_Group,
+    name="talkthemes",
+    help="Topic and theme discovery for transcript corpora.",
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+)
+
+
+@app.callback()
+def _main(
+    debug: Annotated[bool, typer.Option("--debug", help="Show tracebacks and debug logs.")] = False,
+) -> None:
+    _state["debug"] = debug
+    logging.basicConfig(
+        level=logging.DEBUG if debug else logging.WARNING,
+        format="%(levelname)s %(name)s: %(message)s",
+        stream=sys.stderr,
+    )
+    if not debug:  # libraries' progress chatter is not for users; our own warnings are
+        for noisy in ("gensim", "distributed", "tornado", "bokeh", "streamlit"):
+            logging.getLogger(noisy).setLevel(logging.ERROR)
+
+
+# -- options shared by the commands ---------------------------------------------------------
+WorkspaceOpt = Annotated[
+    Path | None,
+    typer.Option(
+        "--workspace",
+        "-w",
+        help="Workspace folder (else $TALKTHEMES_WORKSPACE, else ./talkthemes-work).",
+        show_default=False,
+    ),
+]
+JsonOpt = Annotated[bool, typer.Option("--json", help="Print one JSON document on stdout.")]
+WaitOpt = Annotated[
+    bool, typer.Option("--wait", help="Wait for another command holding the workspace.")
+]
+
+
+# -- printing -----------------------------------------------------------------------------
+Part = str | tuple[str, str] | Text
+
+
+def line(*parts: Part) -> Text:
+    """One line of output as rich text: no part is ever read as markup.
+
+    A ``str`` part is shown literally (control characters as ``?``); a ``(text, style)``
+    tuple is shown in a style of ours; a :class:`~rich.text.Text` is appended as it is.
+    """
+    result = Text()
+    for part in parts:
+        if isinstance(part, Text):
+            result.append_text(part)
+        elif isinstance(part, tuple):
+            result.append(terminal_text(part[0]), style=part[1])
+        else:
+            result.append(terminal_text(part))
+    return result
+
+
+def say(*parts: Part, console: Console | None = None) -> None:
+    """Print :func:`line` of ``parts`` (on stderr unless another console is given)."""
+    (console or err).print(line(*parts))
+
+
+def cell(value: Any, style: str = "") -> Text:
+    """A table cell showing ``value`` literally (tables read plain strings as markup)."""
+    return Text(terminal_text(value), style=style)
+
+
+def emit_json(doc: Any) -> None:
+    """Print ``doc`` as the command's one JSON document on stdout."""
+    sys.stdout.write(json.dumps(doc, indent=2, ensure_ascii=False, default=str) + "\n")
+    sys.stdout.flush()
+
+
+# -- progress -------------------------------------------------------------------------------
+@contextmanager
+def progress_bar(label: str, *, enabled: bool = True) -> Iterator[Progress]:
+    """A rich progress bar on stderr, yielded as a :class:`talkthemes.progress.Progress`.
+
+    ``progress(done, total, what)``: a total of 0 shows a bar without an end (``3/?``);
+    ``what`` (often a file name) is shown literally, shortened from the left to 40
+    characters.
+    """
+    if not enabled:
+        yield silent
+        return
+    columns = (
+        TextColumn("[bold]{task.description}"),
+        BarColumn(),
+        MofNCompleteColumn(),
+        TimeElapsedColumn(),
+        TimeRemainingColumn(),
+        TextColumn("{task.fields[what]}", style="dim", markup=False),
+    )
+    with RichProgress(*columns, console=err, transient=False) as bar:
+        task = bar.add_task(label, total=None, what="")
+
+        def update(done: int, total: int, what: str = "") -> None:
+            shown = terminal_text(what)
+            shown = shown if len(shown) <= 40 else "…" + shown[-39:]
+            bar.update(task, completed=done, total=total or None, what=shown)
+
+        yield update
+
+
+def staged(progress: Progress) -> Callable[..., None]:
+    """Adapt ``progress`` for a library call that reports ``(stage, done, total)``.
+
+    compat: until the merge. ``run_prepare``, ``versions.publish`` and ``write_report``
+    call their callback as ``progress(stage, done, total)`` today; their owners are moving
+    them to the one protocol ``progress(done, total, what)``. This adapter accepts either
+    order (a first argument that is text is the stage), so the CLI works before and after
+    that change; it can then be dropped.
+    """
+
+    def call(*args: Any) -> None:
+        if args and isinstance(args[0], str):
+            stage, done, total = args
+            progress(done, total, stage)
+        else:
+            progress(*args)
+
+    return call
+
+
+# -- the workspace ----------------------------------------------------------------------------
+def open_workspace(
+    path: Path | None, *, create: bool = False, create_flag: str | None = None
+) -> Workspace:
+    """The workspace named by ``--workspace`` (or the environment, or the default).
+
+    Only ``init`` creates a workspace, or a command given its ``--create`` flag: a mistyped
+    path is refused instead of becoming a new, empty workspace.
+
+    Parameters
+    ----------
+    path : Path, optional
+        The ``--workspace`` value.
+    create : bool
+        Create the workspace when it does not exist (the command's ``--create`` was given).
+    create_flag : str, optional
+        The command's flag that would create it, named in the message.
+
+    Raises
+    ------
+    NotReadyError
+        When there is no workspace at that path and ``create`` is false (exit 2).
+    """
+    ws = Workspace(resolve_workspace(path))
+    if ws.exists():
+        return ws
+    if create:
+        ws.init()
+        return ws
+    hint = f", or give {create_flag}" if create_flag else ""
+    raise NotReadyError(f"no workspace at {ws.root}: run 'talkthemes init {ws.root}' first{hint}")
+
+
+def lock(ws: Workspace, command: str, wait: bool) -> Any:
+    """The workspace's writer lock for ``command``; with ``wait``, say so and wait."""
+    return ws.lock(command, wait=wait, on_wait=lambda message: say(message, "; waiting…"))
+
+
+# -- output files -----------------------------------------------------------------------------
+def check_output(path: Path, option: str, *, folder: bool = False) -> Path:
+    """Refuse an output path that cannot be written, before any work is done.
+
+    The nearest existing folder on the way to ``path`` must accept a new file (tried by
+    creating and removing an empty temporary file there: the same thing the atomic writers
+    do); a file output must not be an existing folder, a folder output not an existing
+    file.
+
+    Raises
+    ------
+    InputError
+        Naming the option, the path and the operating system's reason (exit 2).
+    """
+    target = Path(path).expanduser()
+    if not folder and target.is_dir():
+        raise InputError(f"{option} {target}: is a folder; give a file name")
+    if folder and target.exists() and not target.is_dir():
+        raise InputError(f"{option} {target}: exists and is not a folder")
+    probe = target if folder else target.parent
+    while not probe.exists() and probe != probe.parent:
+        probe = probe.parent
+    if not probe.is_dir():
+        raise InputError(f"{option} {target}: {probe} is not a folder")
+    try:
+        fd, name = tempfile.mkstemp(dir=probe, prefix=".talkthemes-probe-")
+    except OSError as exc:
+        raise InputError(f"{option} {target}: cannot write there: {_reason(exc)}") from None
+    os.close(fd)
+    os.unlink(name)
+    return target
+
+
+@contextmanager
+def writing(path: Path, option: str) -> Iterator[None]:
+    """Turn an operating-system error about writing ``path`` into a usage error (exit 2).
+
+    Only errors about ``path``, a temporary file beside it or a folder on the way to it are
+    turned; any other error passes unchanged.
+    """
+    target = Path(path).expanduser().absolute()
+    try:
+        yield
+    except OSError as exc:
+        names = [Path(n).absolute() for n in (exc.filename, exc.filename2) if n]
+        if not any(n == target or n.parent == target.parent or n in target.parents for n in names):
+            raise
+        raise InputError(f"{option} {path}: cannot write it: {_reason(exc)}") from None
+
+
+def _reason(exc: OSError) -> str:
+    return exc.strerror or str(exc)

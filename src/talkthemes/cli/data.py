@@ -1,0 +1,141 @@
+"""``ingest`` and ``prepare``: read transcripts into the store, and prepare them for models.
+
+The library modules behind these commands are imported inside them on purpose: they pull
+in numpy, pandas, spaCy and multiprocessing, and ``talkthemes --help`` imports every
+command module.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Any
+
+import typer
+from rich.table import Table
+
+from talkthemes.cli._common import (
+    JsonOpt,
+    WaitOpt,
+    WorkspaceOpt,
+    cell,
+    check_output,
+    emit_json,
+    err,
+    lock,
+    open_workspace,
+    out,
+    progress_bar,
+    say,
+    staged,
+    writing,
+)
+
+__all__ = ["ingest", "prepare"]
+
+#: Warnings and rejects listed one per line after an ingest (the rest are counted).
+SHOWN = 20
+
+
+def ingest(
+    paths: Annotated[
+        list[Path], typer.Argument(help="Transcript files, tables and folders (recursive).")
+    ],
+    manifest: Annotated[
+        list[Path] | None,
+        typer.Option(
+            "--manifest", "-m", help="Metadata table keyed by transcript id or file name."
+        ),
+    ] = None,
+    rejects: Annotated[
+        Path | None,
+        typer.Option("--rejects", help="Write one CSV row per rejected input, with the reason."),
+    ] = None,
+    create: Annotated[
+        bool, typer.Option("--create", help="Create the workspace if it does not exist yet.")
+    ] = False,
+    workspace: WorkspaceOpt = None,
+    wait: WaitOpt = False,
+    as_json: JsonOpt = False,
+) -> None:
+    """Read transcripts (txt, vtt, csv, jsonl, parquet) and metadata manifests into the store."""
+    # deferred: the ingest run starts worker processes and opens the store (see module doc)
+    from talkthemes.ingest.run import ingest as run_ingest
+    from talkthemes.ingest.run import write_rejects_csv
+
+    if rejects is not None:
+        check_output(rejects, "--rejects")
+    ws = open_workspace(workspace, create=create, create_flag="--create")
+    with lock(ws, "ingest", wait), progress_bar("ingest", enabled=not as_json) as update:
+        report = run_ingest(ws, paths, manifests=manifest or [], progress=update)
+    if rejects is not None:
+        with writing(rejects, "--rejects"):
+            write_rejects_csv(rejects, report.rejects)
+    if as_json:
+        emit_json(report.to_json())
+    else:
+        print_ingest_report(report)
+        if rejects is not None:
+            say(f"Rejected inputs written to {rejects}.")
+    raise typer.Exit(report.exit_code)
+
+
+def print_ingest_report(report: Any) -> None:
+    """The tally per format, then the first warnings and rejects, one per line."""
+    # deferred: see the module docstring
+    from talkthemes.ingest.run import OUTCOMES
+
+    table = Table(title=f"Ingest run {report.run_id}: {report.files} files", title_justify="left")
+    table.add_column("format")
+    for o in OUTCOMES:
+        table.add_column(o, justify="right")
+    for fmt, c in sorted(report.counts.items()):
+        table.add_row(cell(fmt), *(f"{c[o]:,}" for o in OUTCOMES))
+    table.add_row("total", *(f"{report.total(o):,}" for o in OUTCOMES), style="bold")
+    out.print(table)
+    if report.manifest_rows:
+        say(f"Manifest rows applied: {report.manifest_rows:,}", console=out)
+    for w in report.warnings[:SHOWN]:
+        say(("warning", "yellow"), ": ", _where(w.source, w.row), ": ", w.message)
+    if len(report.warnings) > SHOWN:
+        say(f"… and {len(report.warnings) - SHOWN} more warnings (see --json).")
+    for r in report.rejects[:SHOWN]:
+        say(("rejected", "red"), ": ", _where(r.source, r.row), ": ", r.reason)
+    if len(report.rejects) > SHOWN:
+        say(f"… and {len(report.rejects) - SHOWN} more rejected (see --rejects FILE.csv).")
+
+
+def _where(source: str, row: int | None) -> str:
+    return f"{source}" + (f", row {row}" if row is not None else "")
+
+
+def prepare(
+    explain: Annotated[
+        bool, typer.Option("--explain", help="Show what each step removed or joined, and why.")
+    ] = False,
+    force: Annotated[bool, typer.Option("--force", help="Run even if nothing changed.")] = False,
+    workspace: WorkspaceOpt = None,
+    wait: WaitOpt = False,
+    as_json: JsonOpt = False,
+) -> None:
+    """Run the preprocessing chain (the prepare settings) into a cached prepared corpus."""
+    # deferred: the chain loads spaCy, numpy and scipy (see module doc)
+    from talkthemes.prepare.explain import explain_json, render_explain
+    from talkthemes.prepare.run import run_prepare
+
+    ws = open_workspace(workspace)
+    with lock(ws, "prepare", wait), progress_bar("prepare", enabled=not as_json) as update:
+        result = run_prepare(ws, force=force, progress=staged(update))
+    if as_json:
+        emit_json(explain_json(result))
+        return
+    s = result.summary
+    if result.cached:
+        say(f"Nothing changed since prep {result.prep_hash[:12]}: using it as it is.")
+    say(
+        f"Prep {result.prep_hash[:12]}: {s.get('transcripts', 0):,} transcripts for training, "
+        f"{s.get('terms', 0):,} terms, {s.get('excluded', 0):,} excluded.",
+        console=out,
+    )
+    if explain:
+        render_explain(out, result.explain)
+    err.print("Next: talkthemes sweep")

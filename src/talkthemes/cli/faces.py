@@ -1,0 +1,195 @@
+"""``view``, ``report`` and ``demo``: the viewer, the offline HTML report, the guided demo.
+
+The library modules behind these commands are imported inside them on purpose: they pull
+in Streamlit, Altair, pandas and the whole pipeline, and ``talkthemes --help`` imports
+every command module.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Any, NoReturn
+
+import typer
+
+from talkthemes.cli._common import (
+    JsonOpt,
+    WorkspaceOpt,
+    check_output,
+    emit_json,
+    open_workspace,
+    out,
+    progress_bar,
+    say,
+    staged,
+)
+from talkthemes.cli._shared import ThemesTable, print_sweep, recommended_cell
+from talkthemes.workspace import Workspace, resolve_workspace
+
+__all__ = ["demo", "report", "view"]
+
+
+def view(
+    host: Annotated[
+        str | None,
+        typer.Option("--host", help="Address to bind (default 127.0.0.1: this machine)."),
+    ] = None,
+    port: Annotated[int | None, typer.Option("--port", help="Port (default 8501).")] = None,
+    open_browser: Annotated[bool, typer.Option("--open", help="Open a browser tab.")] = False,
+    workspace: WorkspaceOpt = None,
+) -> None:
+    """Serve the viewer: Choose K, Theme map, Theme cards, Calls, Over time."""
+    ws = open_workspace(workspace)
+    settings = ws.settings().view
+    _serve(ws, host or settings.host, port or settings.port, open_browser=open_browser)
+
+
+def _serve(ws: Workspace, host: str, port: int, *, open_browser: bool = False) -> NoReturn:
+    # deferred: see the module docstring
+    from talkthemes.serve import serve as run_serve
+
+    raise typer.Exit(run_serve(ws.root, host=host, port=port, open_browser=open_browser))
+
+
+def report(
+    out_path: Annotated[Path, typer.Option("--out", help="The HTML file to write.")] = Path(
+        "themes.html"
+    ),
+    png: Annotated[
+        Path | None, typer.Option("--png", help="Also write each chart as PNG into this folder.")
+    ] = None,
+    lam: Annotated[
+        float | None,
+        typer.Option("--lambda", min=0.0, max=1.0, help="Relevance weight for theme terms."),
+    ] = None,
+    excerpts: Annotated[
+        int, typer.Option("--excerpts", min=0, help="Example excerpts per theme.")
+    ] = 3,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Write one self-contained HTML report (opens offline): sweep, map, theme cards, trends."""
+    # deferred: see the module docstring
+    from talkthemes.report import write_report
+
+    check_output(out_path, "--out")
+    if png is not None:
+        check_output(png, "--png", folder=True)
+    ws = open_workspace(workspace)
+    with progress_bar("report", enabled=not as_json) as update:
+        path = write_report(
+            ws, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=staged(update)
+        )
+    if as_json:
+        emit_json({"out": str(path), "png_dir": None if png is None else str(png)})
+    else:
+        say(f"Report written to {path}" + (f"; charts as PNG in {png}" if png else ""))
+
+
+def demo(
+    size: Annotated[int, typer.Option("--size", min=20, help="Number of invented calls.")] = 3000,
+    seed: Annotated[int, typer.Option("--seed", help="Random seed of the generator.")] = 7,
+    k: Annotated[str, typer.Option("--k", help="Topic counts swept on the demo.")] = "6:16:2",
+    seeds: Annotated[int, typer.Option("--seeds", min=1, help="Seeds per cell.")] = 2,
+    serve: Annotated[
+        bool, typer.Option("--serve/--no-serve", help="Serve the viewer at the end.")
+    ] = True,
+    refresh: Annotated[
+        bool,
+        typer.Option(
+            "--refresh/--no-refresh",
+            help="Hold back the last month, then refresh with it (shows a new theme).",
+        ),
+    ] = True,
+    host: Annotated[str, typer.Option("--host", help="Viewer address.")] = "127.0.0.1",
+    port: Annotated[int, typer.Option("--port", help="Viewer port.")] = 8501,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Generate the invented demo corpus and run the whole pipeline on it, then view it."""
+    ws = Workspace(resolve_workspace(workspace))
+    ws.init()  # the demo builds its own workspace
+    with ws.store() as store:
+        existing = store.current_version()
+    if existing is not None:  # a second run keeps the versions, labels and notes made so far
+        say(
+            f"{ws.root} already holds the demo (version {existing['n']} is current); "
+            "delete the folder to build it again."
+        )
+        if as_json:
+            emit_json({"workspace": str(ws.root), "existing_version": existing["n"]})
+        elif serve:
+            _serve(ws, host, port)
+        return
+    with ws.lock("demo"):
+        doc, themes = _run_demo(
+            ws, size=size, seed=seed, k=k, seeds=seeds, refresh=refresh, quiet=as_json
+        )
+    if as_json:
+        emit_json(doc)
+        return
+    if "refresh" in doc:
+        r = doc["refresh"]
+        counts = r.get("counts", {})
+        say(
+            f"Refresh published version {r.get('version')}: "
+            f"{counts.get('carried', 0)} themes carried, {counts.get('new', 0)} new, "
+            f"{counts.get('retired', 0)} retired.",
+            console=out,
+        )
+        for t in r.get("new_themes", []):
+            say(f"  new theme {t['theme_id']}: ", ", ".join(t["top_terms"][:6]), console=out)
+    else:
+        published = doc["published"]
+        say(
+            f"Published version {published['version']}: {published['family']} K={published['k']}.",
+            console=out,
+        )
+        out.print(ThemesTable(themes))
+    if serve:
+        _serve(ws, host, port)
+
+
+def _run_demo(
+    ws: Workspace, *, size: int, seed: int, k: str, seeds: int, refresh: bool, quiet: bool
+) -> tuple[dict[str, Any], list[dict[str, Any]]]:
+    """Write the invented corpus into the workspace and run every stage on it.
+
+    Returns the JSON document of the run and the published version's themes.
+    """
+    # deferred: the whole pipeline (see the module docstring)
+    from talkthemes.demo import write_demo
+    from talkthemes.ingest.run import ingest as run_ingest
+    from talkthemes.prepare.run import run_prepare
+    from talkthemes.sweep import run_sweep
+    from talkthemes.versions import publish as run_publish
+
+    source = ws.root / "demo-source"
+    say(f"Writing {size:,} invented calls to {source} …")
+    files = write_demo(source, size=size, seed=seed, hold_back_last_month=refresh)
+    doc: dict[str, Any] = {"workspace": str(ws.root)}
+    with progress_bar("ingest", enabled=not quiet) as update:
+        report = run_ingest(ws, [files.exports], manifests=[files.manifest], progress=update)
+    doc["ingest"] = report.to_json()["totals"]
+    with progress_bar("prepare", enabled=not quiet) as update:
+        prep = run_prepare(ws, progress=staged(update))
+    doc["prep"] = prep.summary
+    with progress_bar("sweep cells", enabled=not quiet) as update:
+        result = run_sweep(ws, k=k, seeds=seeds, progress=update)
+    if not quiet:
+        print_sweep(result)
+    family, best_k = recommended_cell(ws, None)
+    with progress_bar("publish", enabled=not quiet) as update:
+        published = run_publish(ws, k=best_k, family=family, progress=staged(update))
+    doc["published"] = {"version": published.version, "family": family, "k": best_k}
+    if refresh and files.inbox is not None:
+        from talkthemes.refresh import refresh as run_refresh
+
+        if not quiet:
+            say(f"Published version {published.version}: {family} K={best_k}.", console=out)
+            out.print(ThemesTable(published.themes))
+            say("Now the held-back last month arrives: refreshing …")
+        with progress_bar("refresh", enabled=not quiet) as update:
+            refreshed = run_refresh(ws, ingest_paths=[files.inbox], progress=update)
+        doc["refresh"] = refreshed.to_json()
+    return doc, published.themes

@@ -1,0 +1,190 @@
+"""``refresh`` and ``assign``: bring new transcripts to the published themes.
+
+Exit codes of ``refresh``: 0 published, or nothing new to do; 3 done, but some inputs were
+rejected; 4 ``--alert-on-new`` was given and a new theme appeared (4 wins over 3: the
+JSON document still lists the rejects); 2 usage or settings error, or the workspace is busy;
+1 anything unexpected. ``assign``: 0 done; 3 some inputs rejected; 2 usage (no transcript
+found, every path missing, an unwritable ``--out``); 1 unexpected.
+
+The library modules behind these commands are imported inside them on purpose: they pull
+in numpy, scipy, gensim and pandas, and ``talkthemes --help`` imports every command module.
+"""
+
+from __future__ import annotations
+
+from contextlib import nullcontext
+from pathlib import Path
+from typing import Annotated, Any
+
+import typer
+
+from talkthemes.cli._common import (
+    JsonOpt,
+    WaitOpt,
+    WorkspaceOpt,
+    check_output,
+    emit_json,
+    lock,
+    open_workspace,
+    out,
+    progress_bar,
+    say,
+)
+from talkthemes.errors import ConfigError, InputError
+
+__all__ = ["assign", "refresh"]
+
+#: Rejects listed one per line (the rest are counted).
+SHOWN = 20
+
+
+def refresh(
+    ingest: Annotated[
+        list[Path] | None,
+        typer.Option(
+            "--ingest",
+            "-i",
+            help="Files or folders to ingest first (default: \\[refresh] inbox). A "
+            "manifest.csv/.parquet/.jsonl at the top of a folder is read as its manifest.",
+        ),
+    ] = None,
+    manifest: Annotated[
+        list[Path] | None,
+        typer.Option("--manifest", "-m", help="Metadata table for the ingested transcripts."),
+    ] = None,
+    resweep: Annotated[
+        bool, typer.Option("--resweep", help="Choose K again with the \\[sweep] grid.")
+    ] = False,
+    alert_on_new: Annotated[
+        bool,
+        typer.Option("--alert-on-new", help="Exit with code 4 when a new theme appears."),
+    ] = False,
+    workspace: WorkspaceOpt = None,
+    wait: WaitOpt = False,
+    as_json: JsonOpt = False,
+) -> None:
+    """Ingest new transcripts, retrain, keep theme ids and labels, report drift, publish."""
+    # deferred: see the module docstring
+    from talkthemes.refresh import refresh as run_refresh
+
+    ws = open_workspace(workspace)
+    with lock(ws, "refresh", wait), progress_bar("refresh", enabled=not as_json) as update:
+        result = run_refresh(
+            ws,
+            ingest_paths=ingest or None,
+            manifests=manifest or [],
+            resweep=resweep,
+            alert_on_new=alert_on_new,
+            progress=update,
+        )
+    if as_json:
+        emit_json(result.to_json())
+    else:
+        print_refresh(result)
+    raise typer.Exit(result.exit_code)
+
+
+def print_refresh(result: Any) -> None:
+    """What a refresh ingested and published: counts, new and retired themes, drift report."""
+    if result.ingest is not None:
+        totals = result.ingest["totals"]
+        say(
+            "Ingested: "
+            + ", ".join(f"{totals[k]:,} {k}" for k in ("added", "unchanged", "duplicate"))
+            + f", {result.rejected:,} rejected."
+        )
+        for r in result.ingest["rejects"][:SHOWN]:
+            where = r["source"] + (f", row {r['row']}" if r["row"] is not None else "")
+            say(("rejected", "red"), ": ", where, ": ", r["reason"])
+    if result.status == "nothing_new":
+        say(
+            f"Nothing new to do: no new transcripts since version {result.previous_version}.",
+            console=out,
+        )
+        return
+    c = result.counts
+    say(
+        f"Published version {result.version} ({result.family} K={result.k}) from "
+        f"{result.new_transcripts:,} new transcripts: {c.get('carried', 0)} themes carried, "
+        f"{c.get('new', 0)} new, {c.get('retired', 0)} retired.",
+        console=out,
+    )
+    if result.resweep:
+        say(f"K was chosen again: {result.resweep_reason}.", console=out)
+    for t in result.new_themes:
+        say(f"  new theme {t['theme_id']}: ", ", ".join(t["top_terms"][:8]), console=out)
+    for t in result.retired_themes:
+        say(f"  retired theme {t['theme_id']}: ", t["name"], console=out)
+    if result.drift_files:
+        say(f"Drift report: {result.drift_files[1]}")
+
+
+def assign(
+    paths: Annotated[
+        list[Path], typer.Argument(help="Transcript files, tables and folders (recursive).")
+    ],
+    out_path: Annotated[Path, typer.Option("--out", help="FILE.csv or FILE.parquet")],
+    store: Annotated[
+        bool, typer.Option("--store", help="Also ingest the transcripts into the store.")
+    ] = False,
+    manifest: Annotated[
+        list[Path] | None,
+        typer.Option("--manifest", "-m", help="Metadata table (with --store)."),
+    ] = None,
+    version: Annotated[
+        int | None, typer.Option("--version", help="Version (default current).")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    wait: WaitOpt = False,
+    as_json: JsonOpt = False,
+) -> None:
+    """Theme shares of new transcripts under the current version, to CSV or Parquet."""
+    # deferred: see the module docstring
+    from talkthemes.assign import assign as run_assign
+
+    ws = open_workspace(workspace)
+    if manifest and not store:
+        raise ConfigError("--manifest applies only with --store")
+    if not any(p.exists() for p in paths):
+        raise InputError(
+            "no transcripts found in "
+            + ", ".join(str(p) for p in paths)
+            + (": no such file or folder" if len(paths) == 1 else ": none of them exists")
+        )
+    check_output(out_path, "--out")
+    held: Any = lock(ws, "assign", wait) if store else nullcontext()
+    with held, progress_bar("assign", enabled=not as_json) as update:
+        result = run_assign(
+            ws,
+            paths,
+            out=out_path,
+            store=store,
+            manifests=manifest or [],
+            version=version,
+            progress=update,
+        )
+    if as_json:
+        emit_json(result.to_json())
+    else:
+        print_assign(result)
+    raise typer.Exit(result.exit_code)
+
+
+def print_assign(result: Any) -> None:
+    """How many transcripts were assigned, how fast, and the first rejects."""
+    say(
+        f"Assigned {result.rows:,} transcripts with version {result.version} "
+        f"({result.per_second:,.0f} per second) to {result.out}.",
+        console=out,
+    )
+    if result.unassigned:
+        say(
+            f"{result.unassigned:,} had no word in the version's vocabulary: empty lead theme, "
+            "reason in the 'reason' column.",
+            console=out,
+        )
+    for r in result.rejects[:SHOWN]:
+        where = r.source + (f", row {r.row}" if r.row is not None else "")
+        say(("rejected", "red"), ": ", where, ": ", r.reason)
+    if len(result.rejects) > SHOWN:
+        say(f"… and {len(result.rejects) - SHOWN} more rejected (see --json).")

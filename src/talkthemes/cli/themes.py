@@ -1,0 +1,136 @@
+"""``themes``, ``label`` and ``export``: read a version's themes, name them, export shares.
+
+The version module is imported inside the commands on purpose: it pulls in numpy, pandas
+and Altair, and ``talkthemes --help`` imports every command module.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from talkthemes.cli._common import (
+    JsonOpt,
+    WorkspaceOpt,
+    check_output,
+    emit_json,
+    open_workspace,
+    out,
+    say,
+    writing,
+)
+from talkthemes.cli._shared import ThemesTable
+from talkthemes.errors import ConfigError, InputError, NotReadyError
+
+__all__ = ["export", "id_ranges", "label", "themes"]
+
+
+def themes(
+    lam: Annotated[
+        float | None,
+        typer.Option(
+            "--lambda",
+            min=0.0,
+            max=1.0,
+            help="Relevance weight: 1 ranks by probability, 0 by lift (default 0.6).",
+        ),
+    ] = None,
+    terms: Annotated[int, typer.Option("--terms", min=1, help="Terms per theme.")] = 10,
+    version: Annotated[
+        int | None, typer.Option("--version", help="Version (default current).")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """The current version's themes: label, coverage, mean share, top terms, coherence."""
+    # deferred: see the module docstring
+    from talkthemes.versions import load_version
+
+    ws = open_workspace(workspace)
+    v = load_version(ws, version)
+    lam = ws.settings().view.relevance_lambda if lam is None else lam
+    summary = v.summary(lam=lam, n_terms=terms)
+    if as_json:
+        emit_json(
+            {"version": v.n, "family": v.info["family"], "k": v.k, "lambda": lam, "themes": summary}
+        )
+        return
+    say(
+        f"Version {v.n}: {v.info['family']} K={v.k}, {len(v.doc_ids):,} transcripts (λ = {lam:g})",
+        console=out,
+    )
+    out.print(ThemesTable(summary))
+
+
+def label(
+    theme_id: Annotated[int, typer.Argument(help="Theme id (see 'talkthemes themes').")],
+    text: Annotated[str | None, typer.Argument(help="The label.")] = None,
+    note: Annotated[str | None, typer.Option("--note", help="A note kept with the label.")] = None,
+    hide: Annotated[
+        bool | None, typer.Option("--hide/--show", help="Hide the theme as noise, or show it.")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Set a theme's label, note, or hidden flag; kept across versions by theme id."""
+    ws = open_workspace(workspace)
+    if text is None and note is None and hide is None:
+        raise ConfigError("give a label text, --note, --hide or --show")
+    with ws.store() as store:
+        current = store.current_version()
+        if current is None:
+            raise NotReadyError("no version published yet: run 'talkthemes publish' first")
+        n = int(current["n"])
+        ids = [int(t["theme_id"]) for t in store.themes(n)]
+        if theme_id not in ids:
+            raise InputError(
+                f"there is no theme {theme_id} in version {n} (its theme ids: {id_ranges(ids)}; "
+                "see 'talkthemes themes')"
+            )
+        row = store.set_label(theme_id, label=text, note=note, hidden=hide)
+    if as_json:
+        emit_json(row)
+        return
+    parts = [f"Theme {theme_id}: label “", row["label"] or "", "”"]
+    if row["note"]:
+        parts += [", note “", row["note"], "”"]
+    if row["hidden"]:
+        parts.append(", hidden")
+    say(*parts)
+
+
+def id_ranges(ids: Sequence[int]) -> str:
+    """``[1, 2, 3, 7, 9, 10]`` → ``"1–3, 7, 9–10"``."""
+    runs: list[list[int]] = []
+    for i in sorted(set(ids)):
+        if runs and i == runs[-1][1] + 1:
+            runs[-1][1] = i
+        else:
+            runs.append([i, i])
+    return ", ".join(str(a) if a == b else f"{a}–{b}" for a, b in runs) or "none"
+
+
+def export(
+    out_path: Annotated[Path, typer.Option("--out", help="FILE.csv or FILE.parquet")],
+    version: Annotated[
+        int | None, typer.Option("--version", help="Version (default current).")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Write every transcript's lead theme, lead share and share per theme to CSV or Parquet."""
+    # deferred: see the module docstring
+    from talkthemes.versions import export_shares, load_version, write_table
+
+    check_output(out_path, "--out")
+    ws = open_workspace(workspace)
+    frame = export_shares(load_version(ws, version))
+    with writing(out_path, "--out"):
+        write_table(frame, out_path)
+    if as_json:
+        emit_json({"out": str(out_path), "rows": len(frame), "columns": list(frame.columns)})
+    else:
+        say(f"Wrote {len(frame):,} transcripts to {out_path}.")

@@ -1,0 +1,133 @@
+"""``init`` and ``status``: create a workspace, and show what it holds."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Any
+
+import typer
+from rich.table import Table
+from rich.text import Text
+
+from talkthemes.cli._common import (
+    JsonOpt,
+    WorkspaceOpt,
+    cell,
+    emit_json,
+    open_workspace,
+    out,
+    say,
+)
+from talkthemes.workspace import Workspace, resolve_workspace
+
+__all__ = ["init", "status", "status_data"]
+
+
+def init(
+    folder: Annotated[
+        Path | None, typer.Argument(help="Folder to create (default: --workspace).")
+    ] = None,
+    workspace: WorkspaceOpt = None,
+    as_json: JsonOpt = False,
+) -> None:
+    """Create a workspace: a commented talkthemes.toml with every default and an empty store."""
+    ws = Workspace(folder if folder else resolve_workspace(workspace))
+    created = ws.init()
+    if as_json:
+        emit_json({"workspace": str(ws.root), "created": created})
+    elif created:
+        say("Workspace ready at ", (str(ws.root), "bold"), f" (settings: {ws.settings_path.name}).")
+    else:
+        say(f"Workspace {ws.root} already exists; nothing changed.")
+
+
+def status_data(ws: Workspace) -> dict[str, Any]:
+    """Everything ``status`` shows, as a JSON-ready dict."""
+    ws.require()
+    with ws.store() as store:
+        summary = store.summary()
+        stages = store.stages()
+    return {"workspace": str(ws.root), **summary, "stages": stages}
+
+
+def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
+    """What the workspace holds: counts by role, format, month and metadata; stage of each step."""
+    data = status_data(open_workspace(workspace))
+    if as_json:
+        emit_json(data)
+        return
+    dates = data["date_range"]
+    say(("Workspace", "bold"), " ", data["workspace"], console=out)
+    say(
+        f"{data['transcripts']:,} transcripts, {data['words']:,} words",
+        f", dated {dates[0]} to {dates[1]}" if dates else ", no dates",
+        console=out,
+    )
+    _counts("By format", ("format", "transcripts"), data["by_format"])
+    t = _titled("By role", "role", "turns", "transcripts with it")
+    for k, v in data["turns_by_role"].items():
+        t.add_row(cell(k), f"{v:,}", f"{data['transcripts_with_role'].get(k, 0):,}")
+    out.print(t)
+    if data["by_month"]:
+        _counts("By month", ("month", "transcripts"), data["by_month"])
+    if data["metadata_fields"]:
+        t = _titled("Metadata fields", "field", "transcripts", "distinct", "most common")
+        t.columns[3].justify = "left"
+        for k, v in data["metadata_fields"].items():
+            top = Text(", ").join(cell(f"{val} ({n:,})") for val, n in v["top"].items())
+            t.add_row(cell(k), f"{v['transcripts']:,}", f"{v['distinct']:,}", top)
+        out.print(t)
+    if data["manifest_rows_without_transcript"]:
+        say(
+            f"{data['manifest_rows_without_transcript']:,} manifest ids have no stored "
+            "transcript yet.",
+            console=out,
+        )
+    if data["interrupted_ingest_runs"]:
+        say(
+            (f"{data['interrupted_ingest_runs']} ingest run(s) did not finish", "yellow"),
+            "; what they stored is complete per transcript — re-run ingest to finish.",
+            console=out,
+        )
+    out.print(_stages(data["stages"]))
+
+
+def _titled(title: str, *columns: str) -> Table:
+    table = Table(title=title, title_justify="left")
+    table.add_column(columns[0])
+    for name in columns[1:]:
+        table.add_column(name, justify="right")
+    return table
+
+
+def _counts(title: str, columns: tuple[str, str], counts: dict[str, int]) -> None:
+    table = _titled(title, *columns)
+    for key, n in counts.items():
+        table.add_row(cell(key), f"{n:,}")
+    out.print(table)
+
+
+def _stages(st: dict[str, Any]) -> Table:
+    table = Table(title="Stages", title_justify="left")
+    table.add_column("stage")
+    table.add_column("state")
+    prepared, swept, published = st["prepared"], st["swept"], st["published"]
+    table.add_row(
+        "prepared",
+        cell(f"{prepared['hash'][:12]} at {prepared['at']}")
+        if prepared
+        else "not yet — run 'talkthemes prepare'",
+    )
+    table.add_row(
+        "swept",
+        cell(f"sweep {swept['id']} ({swept['status']}) at {swept['at']}")
+        if swept
+        else "not yet — run 'talkthemes sweep'",
+    )
+    table.add_row(
+        "published",
+        cell(f"version {published['version']} at {published['at']}")
+        if published
+        else "not yet — run 'talkthemes publish'",
+    )
+    return table
