@@ -35,7 +35,8 @@ __all__ = [
 
 #: Columns between two cells (one space of padding and the separator).
 _GAP = 2
-#: The widest the theme name column grows before a name wraps inside it.
+#: The widest the theme name column grows (at 80 columns; a quarter of a wider console)
+#: before a name wraps inside it.
 _NAME_MAX = 24
 #: The narrowest the terms column gets (below it the table no longer fits 80 columns anyway).
 _TERMS_MIN = 12
@@ -88,7 +89,7 @@ class ThemesTable:
             )
         headers = ["id", "theme", "coverage", "mean\nshare", "C_NPMI", "top terms (by relevance)"]
         widths = [max([_width(h)] + [_width(r[i]) for r in rows]) for i, h in enumerate(headers)]
-        widths[1] = min(widths[1], _NAME_MAX)
+        widths[1] = min(widths[1], max(_NAME_MAX, options.max_width // 4))
         used = sum(widths[:5]) + _GAP * 5
         widths[5] = max(_TERMS_MIN, min(widths[5], options.max_width - used))
 
