@@ -35,8 +35,8 @@ __all__ = [
 
 #: Columns between two cells (one space of padding and the separator).
 _GAP = 2
-#: The widest the theme name column grows (at 80 columns; a quarter of a wider console)
-#: before a name wraps inside it.
+#: When name and terms do not both fit, the name column keeps this width (or half the room
+#: left by the number columns, when that is more) and wraps a longer name inside it.
 _NAME_MAX = 24
 #: The narrowest the terms column gets (below it the table no longer fits 80 columns anyway).
 _TERMS_MIN = 12
@@ -89,9 +89,10 @@ class ThemesTable:
             )
         headers = ["id", "theme", "coverage", "mean\nshare", "C_NPMI", "top terms (by relevance)"]
         widths = [max([_width(h)] + [_width(r[i]) for r in rows]) for i, h in enumerate(headers)]
-        widths[1] = min(widths[1], max(_NAME_MAX, options.max_width // 4))
-        used = sum(widths[:5]) + _GAP * 5
-        widths[5] = max(_TERMS_MIN, min(widths[5], options.max_width - used))
+        room = options.max_width - sum(widths[i] for i in (0, 2, 3, 4)) - _GAP * 5
+        if widths[1] + widths[5] > room:  # the name gets up to half the room, terms the rest
+            widths[1] = min(widths[1], max(_NAME_MAX, room // 2))
+            widths[5] = max(_TERMS_MIN, min(widths[5], room - widths[1]))
 
         table = _table()
         table.add_column("id", justify="right", no_wrap=True)
