@@ -20,7 +20,6 @@ from talkthemes.cli._common import (
     cell,
     check_output,
     emit_json,
-    err,
     lock,
     open_workspace,
     out,
@@ -138,4 +137,4 @@ def prepare(
     )
     if explain:
         render_explain(out, result.explain)
-    err.print("Next: talkthemes sweep")
+    say("Next: talkthemes sweep")
