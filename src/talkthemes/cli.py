@@ -31,6 +31,7 @@ from rich.table import Table
 from typer.core import TyperGroup
 
 from talkthemes.errors import ConfigError, TalkthemesError
+from talkthemes.text import terminal_text
 from talkthemes.workspace import Workspace, resolve_workspace
 
 
@@ -187,6 +188,13 @@ def ingest(
         Path | None,
         typer.Option("--rejects", help="Write one CSV row per rejected input, with the reason."),
     ] = None,
+    update_metadata: Annotated[
+        bool,
+        typer.Option(
+            "--update-metadata",
+            help="Let manifests overwrite stored metadata values (else such changes are rejected).",
+        ),
+    ] = False,
     workspace: WorkspaceOpt = None,
     wait: WaitOpt = False,
     as_json: JsonOpt = False,
@@ -202,7 +210,13 @@ def ingest(
         _lock(ws, "ingest", wait),
         _progress("ingest", enabled=not as_json) as update,
     ):
-        report = run_ingest(ws, paths, manifests=manifest or [], progress=update)
+        report = run_ingest(
+            ws,
+            paths,
+            manifests=manifest or [],
+            update_metadata=update_metadata,
+            progress=update,
+        )
     if rejects is not None:
         write_rejects_csv(rejects, report.rejects)
     if as_json:
@@ -301,6 +315,16 @@ def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
             f"{data['manifest_rows_without_transcript']:,} manifest ids have no stored "
             "transcript yet."
         )
+    reexports = data["likely_reexports"]
+    if reexports["count"]:
+        out.print(
+            f"{reexports['count']:,} likely re-export(s) of stored calls "
+            f"({reexports['skipped']:,} skipped, {reexports['kept']:,} kept), first:",
+            highlight=False,
+        )
+        for p in reexports["first"]:
+            pair = f"  {p['id']} = {p['same_text_as']}" + (" (kept)" if p["kept"] else "")
+            out.print(terminal_text(pair), markup=False, highlight=False, soft_wrap=True)
     if data["interrupted_ingest_runs"]:
         out.print(
             f"[yellow]{data['interrupted_ingest_runs']} ingest run(s) did not finish[/]; "

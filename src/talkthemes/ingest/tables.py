@@ -78,6 +78,7 @@ __all__ = [
     "load_table",
     "normalise_date",
     "read_table",
+    "row_name",
 ]
 
 TABLE_FORMATS = {".csv": "csv", ".jsonl": "jsonl", ".ndjson": "jsonl", ".parquet": "parquet"}
@@ -145,11 +146,22 @@ class RawTable:
 
     def where(self, number: int) -> str:
         """How a row is named in messages, e.g. ``row 3 (data rows after the header)``."""
-        if self.format == "csv":
-            return f"row {number} (counting data rows after the header)"
-        if self.format == "jsonl":
-            return f"line {number}"
-        return f"row {number}"
+        return row_name(self.format, number)
+
+
+def row_name(fmt: str, number: int) -> str:
+    """How row ``number`` of a ``fmt`` table is named in messages.
+
+    Examples
+    --------
+    >>> row_name("csv", 3), row_name("jsonl", 3), row_name("parquet", 3)
+    ('row 3 (counting data rows after the header)', 'line 3', 'row 3')
+    """
+    if fmt == "csv":
+        return f"row {number} (counting data rows after the header)"
+    if fmt == "jsonl":
+        return f"line {number}"
+    return f"row {number}"
 
 
 def _norm(name: str) -> str:
@@ -632,25 +644,45 @@ def read_table(path: Path, settings: IngestSettings) -> Iterator[Transcript | Re
         or _norm(table.columns[speaker_col]) in SPEAKER_NAMES_STRONG
     )
     if not per_turn and id_col is not None:
-        seen: set[str] = set()
-        for row in table.rows:
-            tid = row[id_col]
-            if tid is None:
-                continue
-            tid = tid.strip()
-            if tid in seen:
-                per_turn = True
-                yield Warning_(
-                    table.source,
-                    f"transcript id {tid!r} repeats; rows with the same id are read as the "
-                    "turns of one transcript",
-                )
-                break
-            seen.add(tid)
+        per_turn, repeated = _ids_repeat(table, id_col)
+        if per_turn:
+            yield Warning_(
+                table.source,
+                f"transcript id {repeated!r} repeats; rows with the same id are read as the "
+                "turns of one transcript",
+            )
     if per_turn:
         yield from _per_turn(table, settings, path.stem, text_col, id_col, speaker_col, date_col)
     else:
         yield from _per_transcript(table, settings, path.stem, text_col, id_col, date_col)
+
+
+#: Share of a table's ids that must repeat for a table without a clear speaker column to be
+#: read per turn; below it, a repeated id in a table of one row per call is an error.
+PER_TURN_REPEAT_SHARE = 0.5
+
+
+def _ids_repeat(table: RawTable, id_col: int) -> tuple[bool, str]:
+    """Whether repeated ids make this table per turn, and the first id that repeats.
+
+    In a table of turns most ids repeat; in a table of calls an id that repeats is two
+    calls under one id (see :data:`PER_TURN_REPEAT_SHARE`).
+    """
+    counts: dict[str, int] = {}
+    first_repeat = ""
+    for row in table.rows:
+        tid = row[id_col]
+        if tid is None:
+            continue
+        tid = tid.strip()
+        n = counts.get(tid, 0) + 1
+        counts[tid] = n
+        if n == 2 and not first_repeat:
+            first_repeat = tid
+    if not first_repeat:
+        return False, ""
+    repeating = sum(1 for n in counts.values() if n > 1)
+    return repeating >= PER_TURN_REPEAT_SHARE * len(counts), first_repeat
 
 
 def _per_transcript(
@@ -673,6 +705,7 @@ def _per_transcript(
             table.source,
             f"no transcript id column; ids are '{stem}-<row>'",
         )
+    first_row: dict[str, int] = {}
     for r, row in enumerate(table.rows):
         n = table.numbers[r]
         text = row[text_col]
@@ -686,6 +719,10 @@ def _per_transcript(
                 yield Warning_(
                     table.source, f"{table.where(n)}: no transcript id; using {tid!r}", row=n
                 )
+        if tid in first_row:
+            yield _repeated_id(table, tid, first_row[tid], r)
+            continue
+        first_row[tid] = r
         turns = parse_turns(text, mapper)
         if not turns:
             yield Reject(table.source, f"{table.where(n)}: no transcript text", table.format, row=n)
@@ -694,6 +731,27 @@ def _per_transcript(
         if r in dates:
             metadata["date"] = dates[r]
         yield Transcript(tid, turns, f"{table.source}:{table.unit} {n}", table.format, metadata)
+
+
+def _repeated_id(table: RawTable, tid: str, first: int, r: int) -> Reject | Warning_:
+    """A later row of a one-row-per-call table with an id already used: a copy of the
+    first row is skipped with a warning; another call under the same id is rejected."""
+    n, m = table.numbers[r], table.numbers[first]
+    if table.rows[r] == table.rows[first]:
+        return Warning_(
+            table.source,
+            f"{table.where(n)}: transcript id {tid!r} repeats {table.where(m)} exactly; "
+            "the copy is skipped",
+            row=n,
+        )
+    return Reject(
+        table.source,
+        f"{table.where(n)}: transcript id {tid!r} is already used by {table.where(m)} of this "
+        "table, which holds one call per row; two calls under one id are never merged "
+        "(give each call its own id)",
+        table.format,
+        row=n,
+    )
 
 
 def _per_turn(

@@ -4,7 +4,8 @@ SQLite in WAL mode (readers never block the single writer), with a schema versio
 forward-only migrations (:mod:`talkthemes.store.schema`). Callers see plain Python values
 and dataclasses, never SQL, so a server database could replace SQLite later without
 touching them. :class:`Store` is composed of one mixin per group of tables:
-:mod:`~talkthemes.store.transcripts` (ingest runs, rejects, transcripts, metadata),
+:mod:`~talkthemes.store.runs` (ingest runs, rejects, same-text pairs, the summary),
+:mod:`~talkthemes.store.transcripts` (transcripts, turns, metadata),
 :mod:`~talkthemes.store.sweeps` (preps, sweeps, cells), :mod:`~talkthemes.store.versions`
 (versions, themes, labels, retired themes) and :mod:`~talkthemes.store.refreshes`.
 """
@@ -17,16 +18,17 @@ from pathlib import Path
 from talkthemes.errors import StoreError
 from talkthemes.store._base import now_iso
 from talkthemes.store.refreshes import RefreshesMixin
+from talkthemes.store.runs import IngestRunsMixin, TextMatch
 from talkthemes.store.schema import _MIGRATIONS, SCHEMA_VERSION, check_version, connect, migrate
 from talkthemes.store.schema import read_schema_version as _read_schema_version
 from talkthemes.store.sweeps import SweepsMixin
 from talkthemes.store.transcripts import AddOutcome, StoredTurn, TranscriptsMixin
 from talkthemes.store.versions import VersionsMixin
 
-__all__ = ["SCHEMA_VERSION", "AddOutcome", "Store", "StoredTurn", "now_iso"]
+__all__ = ["SCHEMA_VERSION", "AddOutcome", "Store", "StoredTurn", "TextMatch", "now_iso"]
 
 
-class Store(TranscriptsMixin, SweepsMixin, VersionsMixin, RefreshesMixin):
+class Store(IngestRunsMixin, TranscriptsMixin, SweepsMixin, VersionsMixin, RefreshesMixin):
     """The SQLite store of a workspace. Open with :meth:`Store.open`."""
 
     # -- opening ---------------------------------------------------------------

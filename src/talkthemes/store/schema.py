@@ -143,6 +143,8 @@ _MIGRATIONS: list[Migration] = [
     """,
     # 4: turns packed one row per transcript (see _pack_turns)
     lambda conn: _pack_turns(conn),
+    # 5: identity first: a text hash no longer unique; same-text pairs (see _identity_first)
+    lambda conn: _identity_first(conn),
 ]
 
 SCHEMA_VERSION = len(_MIGRATIONS)
@@ -216,6 +218,10 @@ def migrate(conn: sqlite3.Connection, path: Path, migrations: Sequence[Migration
     version = check_version(conn, path, target_version)
     if version == target_version:
         return
+    # Foreign keys are off while tables are rebuilt (a dropped parent must not cascade into
+    # its children) and checked before the upgrade commits; the pragma only takes effect
+    # outside a transaction (SQLite, "ALTER TABLE": other kinds of schema changes).
+    conn.execute("PRAGMA foreign_keys = OFF")
     conn.execute("BEGIN IMMEDIATE")
     try:
         conn.execute("CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL)")
@@ -232,11 +238,19 @@ def migrate(conn: sqlite3.Connection, path: Path, migrations: Sequence[Migration
             "ON CONFLICT(key) DO UPDATE SET value = excluded.value",
             (str(target_version),),
         )
+        broken = conn.execute("PRAGMA foreign_key_check").fetchone()
+        if broken is not None:
+            raise StoreError(
+                f"{path}: upgrading the store to schema version {target_version} would break a "
+                f"reference ({broken[0]} row {broken[1]} -> {broken[2]}); nothing was changed"
+            )
     except BaseException:
         conn.execute("ROLLBACK")
         raise
     else:
         conn.execute("COMMIT")
+    finally:
+        conn.execute("PRAGMA foreign_keys = ON")
 
 
 def _pack_turns(conn: sqlite3.Connection) -> None:
@@ -286,3 +300,50 @@ def _pack_turns(conn: sqlite3.Connection) -> None:
 
 def _split_sql(script: str) -> list[str]:
     return [s.strip() for s in script.split(";") if s.strip()]
+
+
+def _identity_first(conn: sqlite3.Connection) -> None:
+    """Migration 5: two calls may have the same text; pairs with the same text are logged.
+
+    The id is a call's identity, so ``transcripts.content_hash`` loses its UNIQUE
+    constraint (an index keeps the look-up fast). SQLite cannot drop a constraint, so the
+    table is rebuilt — same columns, same row ids, so ``turn_sets`` keeps pointing at the
+    right rows. ``text_matches`` records each call whose text equals a stored call's: a
+    likely re-export skipped or kept, or a different call with the same text.
+    """
+    conn.execute(
+        """
+        CREATE TABLE transcripts_v5 (
+            id INTEGER PRIMARY KEY,
+            tid TEXT NOT NULL UNIQUE,
+            source TEXT NOT NULL,
+            format TEXT NOT NULL,
+            content_hash TEXT NOT NULL,
+            n_turns INTEGER NOT NULL,
+            n_words INTEGER NOT NULL,
+            n_chars INTEGER NOT NULL,
+            run_id INTEGER REFERENCES ingest_runs(id),
+            added_at TEXT NOT NULL
+        )
+        """
+    )
+    conn.execute(
+        "INSERT INTO transcripts_v5(id, tid, source, format, content_hash, n_turns, n_words, "
+        "n_chars, run_id, added_at) SELECT id, tid, source, format, content_hash, n_turns, "
+        "n_words, n_chars, run_id, added_at FROM transcripts"
+    )
+    conn.execute("DROP TABLE transcripts")
+    conn.execute("ALTER TABLE transcripts_v5 RENAME TO transcripts")
+    conn.execute("CREATE INDEX transcripts_content_hash ON transcripts(content_hash)")
+    conn.execute(
+        """
+        CREATE TABLE text_matches (
+            run_id INTEGER REFERENCES ingest_runs(id),
+            tid TEXT NOT NULL,
+            source TEXT NOT NULL,
+            original TEXT NOT NULL,
+            kind TEXT NOT NULL,
+            reason TEXT NOT NULL
+        )
+        """
+    )

@@ -1,17 +1,20 @@
-"""Ingest runs, rejects, transcripts with their turns, and metadata."""
+"""Transcripts with their turns, and metadata."""
 
 from __future__ import annotations
 
 import hashlib
 import json
 from collections.abc import Iterable, Iterator, Sequence
-from dataclasses import dataclass
-from typing import Any
+from dataclasses import dataclass, field
 
-from talkthemes.ingest.model import ROLES, Reject, Transcript
+from talkthemes.ingest.identity import SAME_TEXT, SKIPPED, ReexportRule
+from talkthemes.ingest.model import Reject, Transcript
 from talkthemes.store._base import PARAM_CHUNK, StoreBase, chunks, now_iso
+from talkthemes.store.runs import TextMatch
 
-__all__ = ["AddOutcome", "StoredTurn", "TranscriptsMixin"]
+DEFAULT_RULE = ReexportRule()
+
+__all__ = ["DEFAULT_RULE", "AddOutcome", "StoredTurn", "TranscriptsMixin"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -32,83 +35,79 @@ class AddOutcome:
 
     added: list[Transcript]
     unchanged: list[Transcript]
-    duplicates: list[tuple[Transcript, str]]  # (transcript, id of the stored original)
+    duplicates: list[tuple[Transcript, str]]  # likely re-exports skipped: (call, original id)
     rejects: list[Reject]
+    same_text: list[TextMatch]  # every call whose text equals a stored call's, however judged
+
+
+@dataclass(slots=True)
+class _SameText:
+    """Stored (and batch) ids per text hash, and the metadata to judge same-text pairs."""
+
+    originals: dict[str, list[str]] = field(default_factory=dict)
+    wanted: set[str] = field(default_factory=set)  # hashes met more than once
+    meta: dict[str, dict[str, str]] = field(default_factory=dict)
+
+    def judge(self, t: Transcript, h: str, rule: ReexportRule) -> TextMatch:
+        """The first stored call with ``t``'s text that ``t`` is a likely re-export of, else
+        the first one (then the two are different calls)."""
+        mine = self.meta.get(t.tid, t.metadata)
+        n_words = t.stored_form().n_words
+        first: TextMatch | None = None
+        for original in self.originals[h]:
+            kind, why = rule.judge(n_words, mine, self.meta.get(original, {}))
+            match = TextMatch(t.tid, t.source, original, kind, why)
+            if kind != SAME_TEXT:
+                return match
+            first = first or match
+        assert first is not None  # originals[h] is never empty
+        return first
 
 
 class TranscriptsMixin(StoreBase):
-    """Ingest runs, rejects, transcripts, turn sets and metadata."""
-
-    # -- ingest runs -------------------------------------------------------------
-    def start_ingest_run(self, paths: Sequence[str]) -> int:
-        """Record the start of an ingest run and return its id."""
-        with self.transaction() as c:
-            cur = c.execute(
-                "INSERT INTO ingest_runs(started_at, paths) VALUES (?, ?)",
-                (now_iso(), json.dumps(list(paths))),
-            )
-            return int(cur.lastrowid)
-
-    def finish_ingest_run(
-        self, run_id: int, *, added: int, unchanged: int, duplicate: int, rejected: int
-    ) -> None:
-        """Record the totals of a finished ingest run."""
-        with self.transaction() as c:
-            c.execute(
-                "UPDATE ingest_runs SET finished_at=?, added=?, unchanged=?, duplicate=?, "
-                "rejected=?, status='done' WHERE id=?",
-                (now_iso(), added, unchanged, duplicate, rejected, run_id),
-            )
-
-    def add_rejects(self, run_id: int, rejects: Iterable[Reject]) -> None:
-        """Store rejected inputs of a run (kept for ``status`` and audits)."""
-        rows = [(run_id, r.source, r.row, r.format, r.reason) for r in rejects]
-        if not rows:
-            return
-        with self.transaction() as c:
-            c.executemany(
-                "INSERT INTO rejects(run_id, source, row, format, reason) VALUES (?,?,?,?,?)", rows
-            )
+    """Transcripts, turn sets and metadata."""
 
     # -- transcripts -------------------------------------------------------------
-    def add_transcripts(self, batch: Sequence[Transcript], run_id: int | None) -> AddOutcome:
-        """Store a batch of transcripts in one transaction.
+    def add_transcripts(
+        self,
+        batch: Sequence[Transcript],
+        run_id: int | None,
+        *,
+        rule: ReexportRule = DEFAULT_RULE,
+    ) -> AddOutcome:
+        """Store a batch of transcripts in one transaction; the id is a call's identity.
 
-        A transcript whose normalised text is already stored under another id is a
-        duplicate and is not stored; one already stored under the same id with the same
-        text is unchanged; an id already stored with different text is rejected (stored
-        data is never overwritten).
+        A transcript whose id is already stored is unchanged when its text is the same, and
+        rejected when it differs (stored data is never overwritten). A transcript with a
+        new id whose normalised text equals a stored one's (or an earlier one's in the
+        batch) is judged by ``rule``: a likely re-export is skipped or kept as the rule
+        says; any other is a different call with the same text and is stored. Every such
+        pair is logged (:meth:`text_matches`) and returned.
 
         Parameters
         ----------
         batch : sequence of Transcript
         run_id : int or None
             The ingest run adding them.
+        rule : ReexportRule
+            When the same text is a likely re-export, and what to do with one.
 
         Returns
         -------
         AddOutcome
         """
-        outcome = AddOutcome([], [], [], [])
+        outcome = AddOutcome([], [], [], [], [])
         if not batch:
             return outcome
         hashes = [t.content_hash() for t in batch]
-        by_hash: dict[str, tuple[str, str]] = {}
         by_tid: dict[str, tuple[str, str]] = {}
-        for chunk in chunks(sorted(set(hashes)), PARAM_CHUNK):
-            q = ",".join("?" * len(chunk))
-            for tid, h, src in self._conn.execute(
-                f"SELECT tid, content_hash, source FROM transcripts WHERE content_hash IN ({q})",
-                chunk,
-            ):
-                by_hash[h] = (tid, src)
-        tids = sorted({t.tid for t in batch})
-        for chunk in chunks(tids, PARAM_CHUNK):
+        for chunk in chunks(sorted({t.tid for t in batch}), PARAM_CHUNK):
             q = ",".join("?" * len(chunk))
             for tid, h, src in self._conn.execute(
                 f"SELECT tid, content_hash, source FROM transcripts WHERE tid IN ({q})", chunk
             ):
                 by_tid[tid] = (h, src)
+        same = self._same_text_candidates(batch, hashes, by_tid)
 
         to_add: list[tuple[Transcript, str]] = []
         for t, h in zip(batch, hashes, strict=True):
@@ -126,57 +125,105 @@ class TranscriptsMixin(StoreBase):
                         )
                     )
                 continue
-            if h in by_hash:
-                outcome.duplicates.append((t, by_hash[h][0]))
-                continue
-            by_hash[h] = (t.tid, t.source)
+            if h in same.originals:
+                match = same.judge(t, h, rule)
+                outcome.same_text.append(match)
+                if match.kind == SKIPPED:
+                    outcome.duplicates.append((t, match.original))
+                    continue
+            if h in same.wanted:
+                same.originals.setdefault(h, []).append(t.tid)
             by_tid[t.tid] = (h, t.source)
             to_add.append((t, h))
-
-        if to_add:
-            added_at = now_iso()
-            with self.transaction() as c:
-                # Inside BEGIN IMMEDIATE no other writer can run, so ids can be given here
-                # and every row of the batch goes in with one executemany per table.
-                (last,) = c.execute("SELECT COALESCE(MAX(id), 0) FROM transcripts").fetchone()
-                rows, turn_rows, meta_rows = [], [], []
-                for rowid, (t, h) in enumerate(to_add, start=int(last) + 1):
-                    form = t.stored_form()
-                    rows.append(
-                        (
-                            rowid,
-                            t.tid,
-                            t.source,
-                            t.format,
-                            h,
-                            len(t.turns),
-                            form.n_words,
-                            form.n_chars,
-                            run_id,
-                            added_at,
-                        )
-                    )
-                    turn_rows.append((rowid, *form.role_turns, form.turns_json))
-                    meta_rows.extend((t.tid, k, v) for k, v in t.metadata.items())
-                    outcome.added.append(t)
-                c.executemany(
-                    "INSERT INTO transcripts(id, tid, source, format, content_hash, n_turns, "
-                    "n_words, n_chars, run_id, added_at) VALUES (?,?,?,?,?,?,?,?,?,?)",
-                    rows,
-                )
-                c.executemany(
-                    "INSERT INTO turn_sets(transcript, agent_turns, customer_turns, "
-                    "unknown_turns, turns) VALUES (?,?,?,?,?)",
-                    turn_rows,
-                )
-                if meta_rows:
-                    c.executemany(
-                        "INSERT INTO metadata(tid, key, value, origin) VALUES (?,?,?,'inline') "
-                        "ON CONFLICT(tid, key) DO UPDATE SET value=excluded.value "
-                        "WHERE metadata.origin = 'inline'",
-                        meta_rows,
-                    )
+        if to_add or outcome.same_text:
+            self._insert(to_add, run_id, outcome)
         return outcome
+
+    def _same_text_candidates(
+        self, batch: Sequence[Transcript], hashes: list[str], by_tid: dict[str, tuple[str, str]]
+    ) -> _SameText:
+        """The stored ids of each batch text that is stored already or repeats within the
+        batch, and the metadata needed to judge them (usually nothing: one query)."""
+        same = _SameText()
+        for chunk in chunks(sorted(set(hashes)), PARAM_CHUNK):
+            q = ",".join("?" * len(chunk))
+            for tid, h in self._conn.execute(
+                f"SELECT tid, content_hash FROM transcripts WHERE content_hash IN ({q}) "
+                "ORDER BY id",
+                chunk,
+            ):
+                same.originals.setdefault(h, []).append(tid)
+        new = [(t, h) for t, h in zip(batch, hashes, strict=True) if t.tid not in by_tid]
+        seen: set[str] = set()
+        for _, h in new:
+            if h in seen or h in same.originals:
+                same.wanted.add(h)
+            seen.add(h)
+        if not same.wanted:
+            return same
+        tids = {tid for h in same.wanted for tid in same.originals.get(h, ())}
+        tids |= {t.tid for t, h in new if h in same.wanted}
+        stored = self.metadata_values(sorted(tids))
+        for t, h in new:
+            if h in same.wanted and t.tid not in same.meta:
+                # manifest values already stored for a new id win over the call's own
+                same.meta[t.tid] = {**t.metadata, **stored.get(t.tid, {})}
+        for tid, fields in stored.items():
+            same.meta.setdefault(tid, fields)
+        return same
+
+    def _insert(
+        self, to_add: list[tuple[Transcript, str]], run_id: int | None, outcome: AddOutcome
+    ) -> None:
+        added_at = now_iso()
+        with self.transaction() as c:
+            # Inside BEGIN IMMEDIATE no other writer can run, so ids can be given here
+            # and every row of the batch goes in with one executemany per table.
+            (last,) = c.execute("SELECT COALESCE(MAX(id), 0) FROM transcripts").fetchone()
+            rows, turn_rows, meta_rows = [], [], []
+            for rowid, (t, h) in enumerate(to_add, start=int(last) + 1):
+                form = t.stored_form()
+                rows.append(
+                    (
+                        rowid,
+                        t.tid,
+                        t.source,
+                        t.format,
+                        h,
+                        len(t.turns),
+                        form.n_words,
+                        form.n_chars,
+                        run_id,
+                        added_at,
+                    )
+                )
+                turn_rows.append((rowid, *form.role_turns, form.turns_json))
+                meta_rows.extend((t.tid, k, v) for k, v in t.metadata.items())
+                outcome.added.append(t)
+            c.executemany(
+                "INSERT INTO transcripts(id, tid, source, format, content_hash, n_turns, "
+                "n_words, n_chars, run_id, added_at) VALUES (?,?,?,?,?,?,?,?,?,?)",
+                rows,
+            )
+            c.executemany(
+                "INSERT INTO turn_sets(transcript, agent_turns, customer_turns, "
+                "unknown_turns, turns) VALUES (?,?,?,?,?)",
+                turn_rows,
+            )
+            if meta_rows:
+                c.executemany(
+                    "INSERT INTO metadata(tid, key, value, origin) VALUES (?,?,?,'inline') "
+                    "ON CONFLICT(tid, key) DO UPDATE SET value=excluded.value "
+                    "WHERE metadata.origin = 'inline'",
+                    meta_rows,
+                )
+            if outcome.same_text:
+                c.executemany(
+                    "INSERT INTO text_matches(run_id, tid, source, original, kind, reason) "
+                    "VALUES (?,?,?,?,?,?)",
+                    [(run_id, m.tid, m.source, m.original, m.kind, m.reason)
+                     for m in outcome.same_text],
+                )  # fmt: skip
 
     def set_metadata(self, entries: dict[str, dict[str, str]], *, origin: str = "manifest") -> int:
         """Store metadata fields keyed by transcript id (a manifest's rows).
@@ -253,6 +300,31 @@ class TranscriptsMixin(StoreBase):
             return []
         return [StoredTurn(i, *u) for i, u in enumerate(json.loads(row[0]))]
 
+    def stored_ids(self, tids: Sequence[str]) -> set[str]:
+        """Those of ``tids`` that have a stored transcript."""
+        found: set[str] = set()
+        for chunk in chunks(list(dict.fromkeys(tids)), PARAM_CHUNK):
+            q = ",".join("?" * len(chunk))
+            found.update(
+                r[0]
+                for r in self._conn.execute(
+                    f"SELECT tid FROM transcripts WHERE tid IN ({q})", chunk
+                )
+            )
+        return found
+
+    def metadata_values(self, tids: Sequence[str]) -> dict[str, dict[str, str]]:
+        """Stored metadata of the given ids, whether or not a transcript is stored for them
+        (a manifest may name calls that arrive later)."""
+        out: dict[str, dict[str, str]] = {}
+        for chunk in chunks(list(dict.fromkeys(tids)), PARAM_CHUNK):
+            q = ",".join("?" * len(chunk))
+            for tid, key, value in self._conn.execute(
+                f"SELECT tid, key, value FROM metadata WHERE tid IN ({q})", chunk
+            ):
+                out.setdefault(tid, {})[key] = value
+        return out
+
     def metadata_for(self, tids: Sequence[str] | None = None) -> dict[str, dict[str, str]]:
         """Metadata of stored transcripts (all of them, or those in ``tids``)."""
         out: dict[str, dict[str, str]] = {}
@@ -270,70 +342,6 @@ class TranscriptsMixin(StoreBase):
         for tid, key, value in rows:
             out.setdefault(tid, {})[key] = value
         return out
-
-    # -- summaries -----------------------------------------------------------------
-    def summary(self) -> dict[str, Any]:
-        """Counts for ``status``: by format, role, month and metadata field; date range."""
-        c = self._conn
-        n, words = c.execute(
-            "SELECT COUNT(*), COALESCE(SUM(n_words),0) FROM transcripts"
-        ).fetchone()
-        by_format = dict(
-            c.execute("SELECT format, COUNT(*) FROM transcripts GROUP BY format ORDER BY format")
-        )
-        sums = c.execute(
-            "SELECT COALESCE(SUM(agent_turns), 0), COALESCE(SUM(customer_turns), 0), "
-            "COALESCE(SUM(unknown_turns), 0), COALESCE(SUM(agent_turns > 0), 0), "
-            "COALESCE(SUM(customer_turns > 0), 0), COALESCE(SUM(unknown_turns > 0), 0) "
-            "FROM turn_sets"
-        ).fetchone()
-        turns_by_role = {r: int(n) for r, n in zip(ROLES, sums[:3], strict=True) if n}
-        transcripts_by_role = {r: int(n) for r, n in zip(ROLES, sums[3:], strict=True) if n}
-        dated = (
-            "SELECT m.value FROM metadata m JOIN transcripts t ON t.tid = m.tid WHERE m.key='date'"
-        )
-        by_month = dict(
-            c.execute(
-                f"SELECT substr(value, 1, 7) AS month, COUNT(*) FROM ({dated}) "
-                "GROUP BY month ORDER BY month"
-            )
-        )
-        first, last = c.execute(f"SELECT MIN(value), MAX(value) FROM ({dated})").fetchone()
-        fields: dict[str, dict[str, Any]] = {}
-        for key, count, distinct in c.execute(
-            "SELECT m.key, COUNT(*), COUNT(DISTINCT m.value) FROM metadata m "
-            "JOIN transcripts t ON t.tid = m.tid GROUP BY m.key ORDER BY m.key"
-        ):
-            top = c.execute(
-                "SELECT m.value, COUNT(*) AS n FROM metadata m JOIN transcripts t ON t.tid = m.tid "
-                "WHERE m.key = ? GROUP BY m.value ORDER BY n DESC, m.value LIMIT 5",
-                (key,),
-            ).fetchall()
-            fields[key] = {
-                "transcripts": count,
-                "distinct": distinct,
-                "top": {v: k for v, k in top},
-            }
-        unmatched = c.execute(
-            "SELECT COUNT(DISTINCT tid) FROM metadata "
-            "WHERE tid NOT IN (SELECT tid FROM transcripts)"
-        ).fetchone()[0]
-        runs = c.execute("SELECT COUNT(*), SUM(status='running') FROM ingest_runs").fetchone()
-        rejects = c.execute("SELECT COUNT(*) FROM rejects").fetchone()[0]
-        return {
-            "transcripts": int(n),
-            "words": int(words),
-            "by_format": by_format,
-            "turns_by_role": turns_by_role,
-            "transcripts_with_role": transcripts_by_role,
-            "by_month": by_month,
-            "date_range": [first, last] if first else None,
-            "metadata_fields": fields,
-            "manifest_rows_without_transcript": int(unmatched),
-            "ingest_runs": int(runs[0] or 0),
-            "interrupted_ingest_runs": int(runs[1] or 0),
-            "rejected_inputs": int(rejects),
-        }
 
     def turns_for(self, tids: Sequence[str]) -> list[tuple[str, list[tuple[str, str]]]]:
         """``(tid, [(role, text), ...])`` for the given stored transcripts, in the order
