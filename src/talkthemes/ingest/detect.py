@@ -34,7 +34,7 @@ from talkthemes.config import IngestSettings
 from talkthemes.errors import ConfigError
 from talkthemes.ingest.decode import check_fallback
 from talkthemes.ingest.model import Reject, Transcript, Warning_
-from talkthemes.ingest.tables import read_table
+from talkthemes.ingest.tables.read import read_table
 from talkthemes.ingest.txt import read_txt
 from talkthemes.ingest.vtt import read_vtt
 

@@ -26,13 +26,9 @@ from pathlib import Path
 from talkthemes.config import IngestSettings
 from talkthemes.ingest.detect import FORMATS
 from talkthemes.ingest.model import Reject, Warning_
-from talkthemes.ingest.tables import (
-    DATE_NAMES,
-    date_column_values,
-    find_column,
-    load_table,
-    row_name,
-)
+from talkthemes.ingest.tables.columns import DATE_NAMES, find_column
+from talkthemes.ingest.tables.dates import date_column_values
+from talkthemes.ingest.tables.files import load_table, row_name
 
 __all__ = ["KEY_NAMES", "Manifest", "manifest_key", "read_manifest"]
 
