@@ -247,8 +247,8 @@ def split_manifests(files: Iterable[Path]) -> tuple[list[Path], list[Path]]:
 
     A file named ``manifest.csv``, ``manifest.parquet`` or ``manifest.jsonl`` (any case)
     among the inputs — given by name, or met at any depth while walking a folder — holds
-    metadata for the calls, not transcripts. Ingest applies it as a manifest; refresh and
-    assign use the same rule.
+    metadata for the calls, not transcripts. Ingest applies it as a manifest; this is the
+    one rule for refresh and assign too.
 
     Parameters
     ----------
