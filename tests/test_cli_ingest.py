@@ -163,8 +163,10 @@ def test_rejects_give_exit_3_keep_good_inputs_and_write_csv(tmp_path: Path, expo
     rows = list(csv.DictReader(rejects.open(encoding="utf-8")))
     assert {Path(r["source"]).name for r in rows} == {"empty.txt", "binary.txt"}
     assert all(r["reason"] for r in rows)
+    # the short copy has another id: a different call with the same text, stored and reported
+    assert "same text as 'c001'" in err and "copy of c001.txt" in err
     code, out, _ = _run("status", "--workspace", str(ws), "--json")
-    assert json.loads(out)["transcripts"] == 3  # good ones kept; the copy is a duplicate
+    assert json.loads(out)["transcripts"] == 4
 
 
 def test_missing_path_is_rejected_not_a_crash(tmp_path: Path) -> None:
@@ -239,8 +241,198 @@ def test_killed_ingest_leaves_a_consistent_store(tmp_path: Path) -> None:
     assert bad == 0  # every stored transcript is whole
     assert con.execute("SELECT COUNT(*) FROM transcripts WHERE tid='keep'").fetchone()[0] == 1
     con.close()
-    # the lock died with the process; a re-run finishes the job
+    # the killed run is shown as unfinished
+    code, out, _ = _run("status", "--workspace", str(ws), "--json")
+    assert json.loads(out)["interrupted_ingest_runs"] == 1
+    assert "1 ingest run(s) did not finish" in _run("status", "--workspace", str(ws))[1]
+    # the lock died with the process; a re-run finishes the job and clears the notice
     code, out, _ = _run("ingest", str(src), "--workspace", str(ws), "--json")
     assert code == 0
     totals = json.loads(out)["totals"]
     assert totals["added"] + totals["unchanged"] == 4000
+    code, out, _ = _run("status", "--workspace", str(ws), "--json")
+    assert json.loads(out)["interrupted_ingest_runs"] == 0
+    assert "did not finish" not in _run("status", "--workspace", str(ws))[1]
+
+
+# -- identity first (issue: distinct calls dropped as duplicates) -------------------------
+
+LONG_CALL = (
+    "Agent: Good afternoon, you're through to the water helpline, how can I help?\n"
+    "Customer: Hi, my meter reading looks far too high this quarter and I think the "
+    "engineer who visited last week read the wrong dial on the outside box.\n"
+)
+
+
+def _json(*args: str) -> tuple[int, dict]:
+    code, out, _ = _run(*args, "--json")
+    return code, json.loads(out)
+
+
+def test_seven_short_hang_ups_with_the_same_text_are_seven_calls(tmp_path: Path) -> None:
+    src = tmp_path / "batch"
+    for i in range(7):
+        _call(src, f"hang{i}.txt", "Customer: hello?\nCustomer: hello?\n")
+    ws = str(tmp_path / "w")
+    code, doc = _json("ingest", "--create", str(src), "--workspace", ws)
+    assert code == 0
+    assert doc["totals"] == {"added": 7, "unchanged": 0, "duplicate": 0, "rejected": 0}
+    pairs = [(m["id"], m["same_text_as"], m["kind"]) for m in doc["same_text"]]
+    assert pairs == [(f"hang{i}", "hang0", "same_text") for i in range(1, 7)]
+    assert any("same text as 'hang0'" in w["message"] for w in doc["warnings"])
+    _, st = _json("status", "--workspace", ws)
+    assert st["transcripts"] == 7 and st["likely_reexports"]["count"] == 0
+
+
+def test_long_same_text_under_another_id_is_a_likely_reexport(tmp_path: Path) -> None:
+    _call(tmp_path / "a", "c100.txt", LONG_CALL)
+    _call(tmp_path / "b", "export-2 c100.txt", LONG_CALL.upper())  # exported again, renamed
+    ws = str(tmp_path / "w")
+    assert _json("ingest", "--create", str(tmp_path / "a"), "--workspace", ws)[0] == 0
+    code, doc = _json("ingest", "--create", str(tmp_path / "b"), "--workspace", ws)
+    assert code == 0
+    assert doc["totals"]["added"] == 0 and doc["totals"]["duplicate"] == 1
+    assert doc["duplicates"] == [
+        {"id": "export-2 c100", "source": str(tmp_path / "b" / "export-2 c100.txt"),
+         "duplicate_of": "c100"}
+    ]  # fmt: skip
+    _, st = _json("status", "--workspace", ws)
+    assert st["transcripts"] == 1
+    assert st["likely_reexports"] == {
+        "count": 1,
+        "skipped": 1,
+        "kept": 0,
+        "first": [{"id": "export-2 c100", "same_text_as": "c100", "kept": False}],
+    }
+    code, out, _ = _run("status", "--workspace", ws)
+    assert code == 0
+    assert "1 likely re-export(s) of stored calls (1 skipped, 0 kept)" in out
+    assert "export-2 c100 = c100" in out
+
+
+def test_reexport_action_keep_stores_both_and_status_lists_them(tmp_path: Path) -> None:
+    ws = tmp_path / "w"
+    _run("init", str(ws))
+    (ws / "talkthemes.toml").write_text("[ingest]\nreexport_action = 'keep'\n")
+    _call(tmp_path / "in", "c100.txt", LONG_CALL)
+    _call(tmp_path / "in", "c100-copy.txt", LONG_CALL)
+    code, doc = _json("ingest", "--create", str(tmp_path / "in"), "--workspace", str(ws))
+    assert code == 0 and doc["totals"]["added"] == 2 and doc["totals"]["duplicate"] == 0
+    assert [m["kind"] for m in doc["same_text"]] == ["reexport_kept"]
+    _, st = _json("status", "--workspace", str(ws))
+    assert st["likely_reexports"]["kept"] == 1 and st["transcripts"] == 2
+
+
+def test_same_long_text_with_conflicting_dates_is_two_calls(tmp_path: Path) -> None:
+    src = tmp_path / "in"
+    _call(src, "c100.txt", LONG_CALL)
+    _call(src, "c200.txt", LONG_CALL)
+    with (src / "manifest.csv").open("w", newline="", encoding="utf-8") as fh:
+        csv.writer(fh).writerows(
+            [["call_id", "date"], ["c100", "2026-02-02"], ["c200", "2026-03-09"]]
+        )
+    ws = str(tmp_path / "w")
+    code, doc = _json("ingest", "--create", str(src), "--workspace", ws)
+    assert code == 0 and doc["totals"]["added"] == 2
+    (m,) = doc["same_text"]
+    assert (m["id"], m["same_text_as"], m["kind"]) == ("c200", "c100", "same_text")
+    assert "date '2026-03-09' vs '2026-02-02'" in m["reason"]
+    _, st = _json("status", "--workspace", ws)
+    assert st["same_text_pairs"] == 1 and st["likely_reexports"]["count"] == 0
+
+
+def test_two_calls_under_one_id_in_a_per_call_table_reject_the_later_row(tmp_path: Path) -> None:
+    table = tmp_path / "calls.csv"
+    rows = [["call_id", "transcript", "queue"]]
+    rows += [[f"k{i}", f"Agent: hello {i}\nCustomer: question number {i}", "q"] for i in range(6)]
+    rows.append(["k2", "Agent: hello\nCustomer: a different call under a used id", "q"])
+    with table.open("w", newline="", encoding="utf-8") as fh:
+        csv.writer(fh).writerows(rows)
+    code, doc = _json("ingest", "--create", str(table), "--workspace", str(tmp_path / "w"))
+    assert code == 3
+    assert doc["totals"]["added"] == 6 and doc["totals"]["rejected"] == 1
+    (rej,) = doc["rejects"]
+    assert rej["source"] == str(table) and rej["row"] == 7
+    assert "row 7" in rej["reason"] and "'k2'" in rej["reason"] and "row 3" in rej["reason"]
+
+
+def test_changed_text_under_a_stored_id_is_rejected_in_a_later_run(tmp_path: Path) -> None:
+    f = _call(tmp_path / "in", "c100.txt", LONG_CALL)
+    ws = str(tmp_path / "w")
+    assert _json("ingest", "--create", str(f), "--workspace", ws)[0] == 0
+    assert _json("ingest", "--create", str(f), "--workspace", ws)[1]["totals"]["unchanged"] == 1
+    f.write_text(LONG_CALL + "Agent: one more line\n", encoding="utf-8")
+    code, doc = _json("ingest", "--create", str(f), "--workspace", ws)
+    assert code == 3
+    (rej,) = doc["rejects"]
+    assert rej["source"] == str(f) and "'c100' is already stored" in rej["reason"]
+
+
+# -- manifests ---------------------------------------------------------------------------
+
+
+def _manifest(path: Path, rows: list[list[str]]) -> Path:
+    with path.open("w", newline="", encoding="utf-8") as fh:
+        csv.writer(fh).writerows(rows)
+    return path
+
+
+def test_folder_manifest_is_applied_not_read_as_transcripts(tmp_path: Path, exports: Path) -> None:
+    ws = str(tmp_path / "w")
+    code, doc = _json("ingest", "--create", str(exports), "--workspace", ws)
+    assert code == 0, doc["rejects"]
+    assert doc["totals"]["added"] == 4 and doc["manifest_rows"] == 3
+    assert doc["manifests"] == [
+        {"source": str(exports / "manifest.csv"), "rows": 3, "unknown_ids": 0,
+         "first_unknown_ids": []}
+    ]  # fmt: skip
+    _, st = _json("status", "--workspace", ws)
+    assert st["date_range"] == ["2026-05-04", "2026-06-20"]
+
+
+def test_manifest_ids_not_stored_are_reported(tmp_path: Path, exports: Path) -> None:
+    m = _manifest(
+        tmp_path / "extra.csv",
+        [["call_id", "queue"], ["c001", "billing"]] + [[f"zz{i}", "moves"] for i in range(7)],
+    )
+    ws = str(tmp_path / "w")
+    code, doc = _json("ingest", "--create", str(exports / "calls"), "--manifest", str(m), "--workspace", ws)
+    assert code == 0
+    (info,) = doc["manifests"]
+    assert info["unknown_ids"] == 7 and info["first_unknown_ids"] == [f"zz{i}" for i in range(7)]
+    (w,) = [w for w in doc["warnings"] if w["source"] == str(m)]
+    assert w["message"].startswith("7 manifest row(s) name ids with no stored transcript: 'zz0'")
+    assert "'zz0' (row 2 (counting data rows after the header))" in w["message"]
+    assert w["row"] == 2
+    code, _, err = _run("ingest", "--create", str(exports / "calls"), "--manifest", str(m), "--workspace", ws)
+    assert code == 0 and "7 manifest row(s) name ids with no stored transcript" in err
+
+
+def test_manifest_changes_need_update_metadata(tmp_path: Path, exports: Path) -> None:
+    ws = str(tmp_path / "w")
+    assert _json("ingest", "--create", str(exports), "--workspace", ws)[0] == 0
+    m = _manifest(
+        tmp_path / "fix.csv",
+        [["call_id", "queue", "site", "agent"], ["c001", "cards", "North", "Noor"]],
+    )
+    (tmp_path / "empty").mkdir()
+    code, doc = _json("ingest", "--create", "--manifest", str(m), str(tmp_path / "empty"), "--workspace", ws)
+    assert code == 3 and len(doc["rejects"]) == 1
+    changes = [
+        (c["id"], c["field"], c["old"], c["new"], c["applied"]) for c in doc["metadata_changes"]
+    ]
+    assert changes == [("c001", "queue", "billing", "cards", False)]
+    (rej,) = doc["rejects"]
+    assert rej["source"] == str(m) and rej["row"] == 1 and rej["format"] == "manifest"
+    assert "row 1" in rej["reason"] and "'c001'" in rej["reason"]
+    assert "'queue': 'billing' → 'cards'" in rej["reason"] and "--update-metadata" in rej["reason"]
+    _, st = _json("status", "--workspace", ws)
+    assert st["metadata_fields"]["queue"]["top"]["billing"] == 1  # not overwritten
+    assert st["metadata_fields"]["agent"]["top"] == {"Noor": 1}  # a new field is just added
+    code, doc = _json("ingest", "--create", str(exports / "calls"), "--manifest", str(m), "--update-metadata",
+                      "--workspace", ws)  # fmt: skip
+    assert code == 0
+    assert [(c["field"], c["applied"]) for c in doc["metadata_changes"]] == [("queue", True)]
+    assert any("'queue': 'billing' → 'cards'" in w["message"] for w in doc["warnings"])
+    _, st = _json("status", "--workspace", ws)
+    assert st["metadata_fields"]["queue"]["top"].get("billing") is None

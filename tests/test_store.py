@@ -55,15 +55,76 @@ def test_not_a_database_is_a_store_error(tmp_path: Path) -> None:
         Store.open(path)
 
 
-def test_add_dedupes_by_normalised_text(store: Store) -> None:
-    a = _t("a", "Hello there.", "My bill is high!")
-    b = _t("b", "hello there", "my   bill is HIGH")  # same call exported differently
+LONG = " ".join(f"word{i}" for i in range(30))  # long enough to identify a call
+
+
+def test_same_long_text_under_another_id_is_a_likely_reexport(store: Store) -> None:
+    a = _t("a", "Hello there. " + LONG, "My bill is high!")
+    b = _t("b", "hello there " + LONG.upper(), "my   bill is HIGH")  # exported differently
     out = store.add_transcripts([a, b], None)
     assert [t.tid for t in out.added] == ["a"]
     assert [(t.tid, orig) for t, orig in out.duplicates] == [("b", "a")]
+    assert [(m.tid, m.original, m.kind) for m in out.same_text] == [("b", "a", "reexport_skipped")]
     again = store.add_transcripts([a], None)
     assert [t.tid for t in again.unchanged] == ["a"]
     assert store.count_transcripts() == 1
+    s = store.summary()
+    assert s["likely_reexports"] == {
+        "count": 1,
+        "skipped": 1,
+        "kept": 0,
+        "first": [{"id": "b", "same_text_as": "a", "kept": False}],
+    }
+
+
+def test_short_same_text_under_other_ids_is_stored_for_each_call(store: Store) -> None:
+    calls = [_t(f"hang{i}", "Hello?", "Hello?") for i in range(7)]
+    out = store.add_transcripts(calls[:3], None)
+    out2 = store.add_transcripts(calls[3:], None)
+    assert store.transcript_ids() == [c.tid for c in calls]
+    assert not out.duplicates and not out2.duplicates
+    matches = out.same_text + out2.same_text
+    assert [(m.tid, m.original, m.kind) for m in matches] == [
+        (f"hang{i}", "hang0", "same_text") for i in range(1, 7)
+    ]
+    assert "short text (2 words < 25)" in matches[0].reason
+    s = store.summary()
+    assert s["same_text_pairs"] == 6 and s["likely_reexports"]["count"] == 0
+
+
+def test_reexport_rule_keep_and_metadata_conflicts(store: Store) -> None:
+    from talkthemes.ingest.identity import ReexportRule
+
+    store.add_transcripts([_t("a", LONG, date="2026-03-01", agent="Noor")], None)
+    # same text, another day: a different call
+    out = store.add_transcripts([_t("b", LONG, date="2026-03-02")], None)
+    assert [t.tid for t in out.added] == ["b"]
+    (m,) = out.same_text
+    assert (m.original, m.kind) == ("a", "same_text")
+    assert "date '2026-03-02' vs '2026-03-01'" in m.reason
+    # same text, same day as b (a date-time of that day): a re-export of b, not of a
+    out = store.add_transcripts([_t("c", LONG, date="2026-03-02T09:30:00")], None)
+    assert [(t.tid, orig) for t, orig in out.duplicates] == [("c", "b")]
+    # metadata stored from a manifest for a new id counts as that call's
+    store.set_metadata({"e": {"agent": "Sam"}})
+    out = store.add_transcripts([_t("e", LONG, date="2026-03-01")], None)
+    assert [t.tid for t in out.added] == ["e"]
+    assert "agent 'Sam' vs 'Noor'" in out.same_text[0].reason
+    # the keep setting stores a likely re-export, still logged
+    out = store.add_transcripts([_t("d", LONG)], None, rule=ReexportRule(action="keep"))
+    assert [t.tid for t in out.added] == ["d"]
+    assert [(x.original, x.kind) for x in out.same_text] == [("a", "reexport_kept")]
+    assert store.summary()["likely_reexports"]["count"] == 2
+
+
+def test_interrupted_ingest_runs_until_a_later_run_finishes(store: Store) -> None:
+    killed = store.start_ingest_run(["a"])  # never finished: the process was killed
+    assert store.summary()["interrupted_ingest_runs"] == 1
+    rerun = store.start_ingest_run(["a"])
+    status = dict(store._conn.execute("SELECT id, status FROM ingest_runs"))
+    assert status == {killed: "interrupted", rerun: "running"}
+    store.finish_ingest_run(rerun, added=1, unchanged=0, duplicate=0, rejected=0)
+    assert store.summary()["interrupted_ingest_runs"] == 0
 
 
 def test_same_id_with_other_text_is_rejected_and_stored_text_kept(store: Store) -> None:
@@ -266,3 +327,32 @@ def test_versions_themes_and_labels(store: Store) -> None:
     assert [v["current"] for v in store.versions()] == [True, False]
     with pytest.raises(StoreError, match="no version 7"):
         store.set_current_version(7)
+
+
+def test_migration_to_identity_first_keeps_rows_and_allows_same_text(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import talkthemes.store as store_mod
+
+    path = tmp_path / "old.db"
+    monkeypatch.setattr(store_mod, "_MIGRATIONS", store_mod._MIGRATIONS[:4])
+    monkeypatch.setattr(store_mod, "SCHEMA_VERSION", 4)
+    with Store.open(path) as old:
+        run = old.start_ingest_run(["x"])
+        old.add_transcripts([_t("a", "Hello?"), _t("b", "kept words")], run)
+        with pytest.raises(sqlite3.IntegrityError):  # version 4: one row per text
+            old._conn.execute(
+                "INSERT INTO transcripts(tid, source, format, content_hash, n_turns, n_words, "
+                "n_chars, added_at) SELECT 'z', source, format, content_hash, 1, 1, 1, 'now' "
+                "FROM transcripts WHERE tid = 'a'"
+            )
+    monkeypatch.undo()
+    with Store.open(path) as new:
+        assert new.schema_version() == SCHEMA_VERSION >= 5
+        assert new.get_turns("b")[0].text == "kept words"
+        assert new.integrity_problems() == []
+        new.add_transcripts([_t("c", "Hello?")], None)
+        assert new.transcript_ids() == ["a", "b", "c"]
+        # the turn sets still belong to their rows, and deleting cascades as before
+        assert new._conn.execute("PRAGMA foreign_keys").fetchone()[0] == 1
+        assert new.summary()["same_text_pairs"] == 1

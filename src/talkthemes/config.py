@@ -101,6 +101,28 @@ class IngestSettings(_Section):
     follow_symlinks: bool = Field(
         True, description="Follow symbolic links inside folders (loops are detected and skipped)."
     )
+    reexport_min_words: int = Field(
+        25,
+        ge=1,
+        description=(
+            "A call whose text equals a stored call's under another id is a likely re-export "
+            "only with at least this many words and no conflicting metadata "
+            "(reexport_fields); shorter texts (a caller who hangs up) are stored as "
+            "different calls and reported as 'same text as <id>'."
+        ),
+    )
+    reexport_action: Literal["skip", "keep"] = Field(
+        "skip",
+        description="What ingest does with a likely re-export: skip it (reported) or keep it.",
+    )
+    reexport_fields: list[str] = Field(
+        default_factory=lambda: ["date", "duration", "agent"],
+        description=(
+            "Metadata that tells two calls apart: a field whose name contains one of these "
+            "words (date, call_duration, agent_id...) with different values on the two "
+            "calls means they are different calls, not a re-export."
+        ),
+    )
 
     @field_validator("encoding_fallback")
     @classmethod

@@ -211,3 +211,20 @@ def test_empty_binary_and_whitespace_files_in_folder(tmp_path):
     assert set(reasons) == {"empty.txt", "space.vtt", "image.txt"}
     assert "looks binary" in reasons["image.txt"]
     assert [t.tid for t in only(items, Transcript)] == ["good"]
+
+
+def test_manifest_files_are_split_from_transcripts_by_name(tmp_path):
+    (tmp_path / "may").mkdir()
+    (tmp_path / "may" / "Manifest.CSV").write_text("call_id,queue\nc1,x\n", encoding="utf-8")
+    (tmp_path / "may" / "c1.txt").write_text("Agent: hi", encoding="utf-8")
+    (tmp_path / "manifest.jsonl").write_text('{"call_id": "c1"}\n', encoding="utf-8")
+    (tmp_path / "calls.csv").write_text("id,text\nc2,hello\n", encoding="utf-8")
+    walked = [p for p in iter_files([tmp_path], SETTINGS) if isinstance(p, Path)]
+    files, manifests = detect.split_manifests(walked)
+    assert [p.relative_to(tmp_path).as_posix() for p in files] == ["calls.csv", "may/c1.txt"]
+    assert [p.relative_to(tmp_path).as_posix() for p in manifests] == [
+        "manifest.jsonl",
+        "may/Manifest.CSV",
+    ]
+    assert detect.is_manifest_name("x/manifest.parquet")
+    assert not detect.is_manifest_name("manifest-2024.csv")

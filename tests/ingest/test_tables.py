@@ -557,3 +557,32 @@ def test_speaker_column_with_unique_ids_is_per_turn(tmp_path):
     )
     (a,) = only(read(f), Transcript)
     assert [(x.speaker, x.role, x.text) for x in a.turns] == [("Caller", "customer", "hi: there")]
+
+
+# --- ids: one row per call -----------------------------------------------------------------
+
+
+def test_a_repeated_id_in_a_per_call_table_rejects_the_later_row(tmp_path):
+    rows = [["call_id", "transcript", "agent"]]
+    rows += [[f"k{i}", f"Agent: hello {i}\nCaller: question {i}", "Noor"] for i in range(5)]
+    rows += [["k1", "Agent: hi\nCaller: another call entirely", "Sam"]]
+    rows += [["k3", "Agent: hello 3\nCaller: question 3", "Noor"]]  # an exact copy of row 4
+    items = read(write_csv(tmp_path / "calls.csv", rows))
+    assert [t.tid for t in only(items, Transcript)] == [f"k{i}" for i in range(5)]
+    (rej,) = only(items, Reject)
+    assert rej.row == 6 and rej.source.endswith("calls.csv")
+    assert rej.reason.startswith("row 6 (counting data rows after the header): transcript id 'k1'")
+    assert "row 2 (counting data rows after the header)" in rej.reason
+    assert "never merged" in rej.reason
+    (copy,) = only(items, Warning_)
+    assert copy.row == 7 and "repeats row 4" in copy.message and "skipped" in copy.message
+
+
+def test_ids_that_mostly_repeat_make_a_per_turn_table(tmp_path):
+    rows = [["id", "text"]]
+    rows += [[f"c{i}", f"turn {j} of call {i}"] for i in range(3) for j in range(3)]
+    rows += [["c9", "a call with a single row"]]
+    items = read(write_csv(tmp_path / "turns.csv", rows))
+    assert not only(items, Reject)
+    calls = only(items, Transcript)
+    assert [(t.tid, len(t.turns)) for t in calls] == [("c0", 3), ("c1", 3), ("c2", 3), ("c9", 1)]

@@ -233,3 +233,28 @@ def test_cue_text_pieces():
 def test_empty_and_binary_vtt_rejected(tmp_path, content):
     items = read(tmp_path, "", raw=content)
     assert len(only(items, Reject)) == 1 and not only(items, Transcript)
+
+
+def test_cue_ending_before_it_starts_keeps_its_words_and_cues_are_ordered(tmp_path):
+    items = read(
+        tmp_path,
+        "WEBVTT\n\n"
+        "1\n00:00:01.000 --> 00:00:03.000\n<v Agent>Good morning, how can I help?\n\n"
+        "2\n00:00:09.000 --> 00:00:07.500\n<v Customer>my parcel never arrived\n\n"
+        "3\n00:00:04.000 --> 00:00:06.000\n<v Customer>I ordered a kettle\n",
+    )
+    t = transcript(items)
+    assert [(x.speaker, x.text, x.start, x.end) for x in t.turns] == [
+        ("Agent", "Good morning, how can I help?", 1.0, 3.0),
+        ("Customer", "I ordered a kettle my parcel never arrived", 4.0, 9.0),
+    ]
+    backwards, late = only(items, Warning_)
+    assert backwards.row == 8 and backwards.source.endswith("call.vtt")
+    assert backwards.message.startswith("line 8: cue 2 ends (00:00:07.500) before it starts")
+    assert "(00:00:09.000)" in backwards.message and "words are kept" in backwards.message
+    assert late.row == 12 and "cue 3 starts (00:00:04.000) before a cue above it" in late.message
+
+
+def test_cues_in_order_get_no_ordering_warning(tmp_path):
+    items = read(tmp_path, BASIC)
+    assert not [w for w in only(items, Warning_) if "order" in w.message]

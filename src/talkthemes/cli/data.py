@@ -52,6 +52,13 @@ def ingest(
     create: Annotated[
         bool, typer.Option("--create", help="Create the workspace if it does not exist yet.")
     ] = False,
+    update_metadata: Annotated[
+        bool,
+        typer.Option(
+            "--update-metadata",
+            help="Let manifests overwrite stored metadata values (else such changes are rejected).",
+        ),
+    ] = False,
     workspace: WorkspaceOpt = None,
     wait: WaitOpt = False,
     as_json: JsonOpt = False,
@@ -65,7 +72,9 @@ def ingest(
         check_output(rejects, "--rejects")
     ws = open_workspace(workspace, create=create, create_flag="--create")
     with lock(ws, "ingest", wait), progress_bar("ingest", enabled=not as_json) as update:
-        report = run_ingest(ws, paths, manifests=manifest or [], progress=update)
+        report = run_ingest(
+            ws, paths, manifests=manifest or [], update_metadata=update_metadata, progress=update
+        )
     if rejects is not None:
         with writing(rejects, "--rejects"):
             write_rejects_csv(rejects, report.rejects)

@@ -83,6 +83,15 @@ def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
             "transcript yet.",
             console=out,
         )
+    reexports = data["likely_reexports"]
+    if reexports["count"]:
+        say(
+            f"{reexports['count']:,} likely re-export(s) of stored calls "
+            f"({reexports['skipped']:,} skipped, {reexports['kept']:,} kept), first:",
+            console=out,
+        )
+        for p in reexports["first"]:
+            say(f"  {p['id']} = {p['same_text_as']}", " (kept)" if p["kept"] else "", console=out)
     if data["interrupted_ingest_runs"]:
         say(
             (f"{data['interrupted_ingest_runs']} ingest run(s) did not finish", "yellow"),

@@ -18,6 +18,8 @@ Walking rules (:func:`iter_files`)
   file reached twice is yielded once. The walk never hangs on loops.
 * A folder that cannot be listed is rejected; the walk goes on.
 * File size is checked by the readers (so a reader called directly checks it too).
+* A file named ``manifest.csv``, ``manifest.parquet`` or ``manifest.jsonl`` is a manifest,
+  not a transcript table (:func:`split_manifests`).
 """
 
 from __future__ import annotations
@@ -25,18 +27,28 @@ from __future__ import annotations
 import logging
 import os
 import stat
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from pathlib import Path
 
 from talkthemes.config import IngestSettings
 from talkthemes.errors import ConfigError
 from talkthemes.ingest.decode import check_fallback
 from talkthemes.ingest.model import Reject, Transcript, Warning_
-from talkthemes.ingest.tables import read_table
+from talkthemes.ingest.tables.read import read_table
 from talkthemes.ingest.txt import read_txt
 from talkthemes.ingest.vtt import read_vtt
 
-__all__ = ["FORMATS", "READERS", "is_ignored", "iter_files", "read_file", "read_inputs"]
+__all__ = [
+    "FORMATS",
+    "MANIFEST_NAMES",
+    "READERS",
+    "is_ignored",
+    "is_manifest_name",
+    "iter_files",
+    "read_file",
+    "read_inputs",
+    "split_manifests",
+]
 
 logger = logging.getLogger(__name__)
 
@@ -62,6 +74,9 @@ READERS: dict[str, Reader] = {
 }
 
 _IGNORED_NAMES = frozenset({"thumbs.db", "desktop.ini", "__macosx"})
+
+#: File names (compared case-insensitively) that are a folder's manifest, never transcripts.
+MANIFEST_NAMES = ("manifest.csv", "manifest.parquet", "manifest.jsonl")
 
 
 def is_ignored(name: str) -> bool:
@@ -220,6 +235,37 @@ def iter_files(
             yield path
         else:
             yield Reject(str(path), "not a regular file or folder", "unknown")
+
+
+def is_manifest_name(path: Path | str) -> bool:
+    """Whether a file's name makes it a manifest (:data:`MANIFEST_NAMES`, any case)."""
+    return Path(path).name.casefold() in MANIFEST_NAMES
+
+
+def split_manifests(files: Iterable[Path]) -> tuple[list[Path], list[Path]]:
+    """Split input files into transcript files and manifests, by name.
+
+    A file named ``manifest.csv``, ``manifest.parquet`` or ``manifest.jsonl`` (any case)
+    among the inputs — given by name, or met at any depth while walking a folder — holds
+    metadata for the calls, not transcripts. Ingest applies it as a manifest; this is the
+    one rule for refresh and assign too.
+
+    Parameters
+    ----------
+    files : iterable of Path
+        Input files, e.g. the paths :func:`iter_files` yields.
+
+    Returns
+    -------
+    transcripts : list of Path
+    manifests : list of Path
+        Both in the order given.
+    """
+    transcripts: list[Path] = []
+    manifests: list[Path] = []
+    for f in files:
+        (manifests if is_manifest_name(f) else transcripts).append(f)
+    return transcripts, manifests
 
 
 def read_file(path: Path, settings: IngestSettings) -> Iterator[Transcript | Reject | Warning_]:

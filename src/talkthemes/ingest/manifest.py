@@ -26,7 +26,9 @@ from pathlib import Path
 from talkthemes.config import IngestSettings
 from talkthemes.ingest.detect import FORMATS
 from talkthemes.ingest.model import Reject, Warning_
-from talkthemes.ingest.tables import DATE_NAMES, date_column_values, find_column, load_table
+from talkthemes.ingest.tables.columns import DATE_NAMES, find_column
+from talkthemes.ingest.tables.dates import date_column_values
+from talkthemes.ingest.tables.files import load_table, row_name
 
 __all__ = ["KEY_NAMES", "Manifest", "manifest_key", "read_manifest"]
 
@@ -60,16 +62,29 @@ class Manifest:
     warnings : list of Warning_
     key_column : str
         The column the keys came from ("" when none was found).
+    source : str
+        The manifest file.
+    rows : dict of str to int
+        Transcript id → number of the row its values came from (as in messages).
+    format : str
+        ``csv``, ``jsonl`` or ``parquet`` (how row numbers are named).
     """
 
     entries: dict[str, dict[str, str]] = field(default_factory=dict)
     rejects: list[Reject] = field(default_factory=list)
     warnings: list[Warning_] = field(default_factory=list)
     key_column: str = ""
+    source: str = ""
+    rows: dict[str, int] = field(default_factory=dict)
+    format: str = "csv"
 
     def get(self, tid: str) -> dict[str, str] | None:
         """The metadata of one transcript, or None."""
         return self.entries.get(tid)
+
+    def where(self, tid: str) -> str:
+        """How the row of ``tid`` is named in messages (``row 3 (counting ...)``)."""
+        return row_name(self.format, self.rows[tid])
 
 
 def manifest_key(value: str) -> str:
@@ -101,7 +116,7 @@ def read_manifest(path: Path, settings: IngestSettings) -> Manifest:
     -------
     Manifest
     """
-    out = Manifest()
+    out = Manifest(source=str(path))
     table, notes = load_table(path, settings)
     for note in notes:
         (out.rejects if isinstance(note, Reject) else out.warnings).append(note)
@@ -121,6 +136,7 @@ def read_manifest(path: Path, settings: IngestSettings) -> Manifest:
         out.rejects.append(Reject(table.source, f"{what}; columns found: {found}", table.format))
         return out
     out.key_column = table.columns[key_col]
+    out.format = table.format
     date_col = find_column(table.columns, settings.date_column, DATE_NAMES)
     if date_col == key_col:
         date_col = None
@@ -154,6 +170,7 @@ def read_manifest(path: Path, settings: IngestSettings) -> Manifest:
                 )
             )
         first_row[key] = n
+        out.rows[key] = n
         meta = {c: row[k] for k, c in meta_cols if row[k] is not None}
         if r in dates:
             meta["date"] = dates[r]

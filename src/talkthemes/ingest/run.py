@@ -1,13 +1,15 @@
 """Ingest a set of files and folders into a workspace's store.
 
-Readers turn inputs into transcripts, rejects and warnings; this module deduplicates and
-stores the transcripts in batches (one transaction per batch, so a killed run leaves
-whole transcripts only), applies manifests, and keeps the tally shown to the user.
+Readers turn inputs into transcripts, rejects and warnings; this module applies manifests
+(:mod:`talkthemes.ingest.metadata`), stores the transcripts in batches (one transaction per
+batch, so a killed run leaves whole transcripts only) under the identity rule of
+:mod:`talkthemes.ingest.identity`, and keeps the tally shown to the user.
 """
 
 from __future__ import annotations
 
 import csv
+import io
 import logging
 import multiprocessing
 import os
@@ -15,26 +17,30 @@ import sys
 import threading
 import time
 from collections import Counter
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Iterator, Sequence
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.detect import iter_files, read_file
-from talkthemes.ingest.manifest import read_manifest
+from talkthemes.ingest.detect import iter_files, read_file, split_manifests
+from talkthemes.ingest.identity import KEPT, SKIPPED, ReexportRule
+from talkthemes.ingest.manifest import Manifest, read_manifest
+from talkthemes.ingest.metadata import MetadataChange, apply_manifest, unknown_ids
 from talkthemes.ingest.model import Reject, Transcript, Warning_
-from talkthemes.store import Store
+from talkthemes.progress import Progress
+from talkthemes.store import Store, TextMatch
 from talkthemes.workspace import Workspace, atomic_write_text
 
-__all__ = ["IngestReport", "ingest", "write_rejects_csv"]
+__all__ = ["IngestReport", "ingest", "reexport_rule", "write_rejects_csv"]
 
 log = logging.getLogger(__name__)
 
 OUTCOMES = ("added", "unchanged", "duplicate", "rejected")
 
-#: ``progress(done_files, total_files, current)`` is called after each file.
-ProgressFn = Callable[[int, int, str], None]
+#: Ids listed per manifest in the report's JSON.
+FIRST_IDS = 10
 
 
 @dataclass
@@ -45,15 +51,23 @@ class IngestReport:
     ----------
     counts : dict
         ``format -> Counter`` of ``added``, ``unchanged`` (already stored, same id and
-        text), ``duplicate`` (same text stored under another id) and ``rejected``.
+        text), ``duplicate`` (a likely re-export of a stored call, skipped) and
+        ``rejected``.
     rejects : list of Reject
-        One entry per rejected input (file or table row), with the reason.
+        One entry per rejected input (file, table row, or manifest row), with the reason.
     warnings : list of Warning_
-        Inputs that were used but deserve attention (decoding fallback, skipped cues...).
+        Inputs that were used but deserve attention (decoding fallback, skipped cues, same
+        text as another call, manifest ids not stored, metadata updated...).
     duplicates : list of (str, str, str)
-        ``(id, source, id of the stored original)``.
+        Likely re-exports skipped: ``(id, source, id of the stored original)``.
+    same_text : list of TextMatch
+        Every call whose text equals a stored call's, and how it was judged.
     manifest_rows : int
-        Metadata rows applied from manifests.
+        Rows read from manifests.
+    manifests : list of dict
+        Per manifest: ``source``, ``rows``, ``unknown_ids`` (ids with no stored call).
+    metadata_changes : list of MetadataChange
+        Stored metadata values a manifest changed (``applied``) or wanted to change.
     """
 
     run_id: int
@@ -61,7 +75,10 @@ class IngestReport:
     rejects: list[Reject] = field(default_factory=list)
     warnings: list[Warning_] = field(default_factory=list)
     duplicates: list[tuple[str, str, str]] = field(default_factory=list)
+    same_text: list[TextMatch] = field(default_factory=list)
     manifest_rows: int = 0
+    manifests: list[dict[str, Any]] = field(default_factory=list)
+    metadata_changes: list[MetadataChange] = field(default_factory=list)
     files: int = 0
 
     def tally(self, fmt: str, outcome: str, n: int = 1) -> None:
@@ -84,6 +101,27 @@ class IngestReport:
                 fmt: {o: int(c[o]) for o in OUTCOMES} for fmt, c in sorted(self.counts.items())
             },
             "manifest_rows": self.manifest_rows,
+            "manifests": [
+                {
+                    "source": m["source"],
+                    "rows": m["rows"],
+                    "unknown_ids": len(m["unknown_ids"]),
+                    "first_unknown_ids": m["unknown_ids"][:FIRST_IDS],
+                }
+                for m in self.manifests
+            ],
+            "metadata_changes": [
+                {
+                    "id": c.tid,
+                    "field": c.field,
+                    "old": c.old,
+                    "new": c.new,
+                    "source": c.source,
+                    "row": c.row,
+                    "applied": c.applied,
+                }
+                for c in self.metadata_changes
+            ],
             "rejects": [
                 {"source": r.source, "row": r.row, "format": r.format, "reason": r.reason}
                 for r in self.rejects
@@ -95,14 +133,49 @@ class IngestReport:
                 {"id": tid, "source": src, "duplicate_of": orig}
                 for tid, src, orig in self.duplicates
             ],
+            "same_text": [
+                {
+                    "id": m.tid,
+                    "source": m.source,
+                    "same_text_as": m.original,
+                    "kind": m.kind,
+                    "reason": m.reason,
+                }
+                for m in self.same_text
+            ],
         }
 
 
+def reexport_rule(settings: IngestSettings) -> ReexportRule:
+    """The likely re-export rule the ``[ingest]`` settings describe."""
+    return ReexportRule(
+        min_words=settings.reexport_min_words,
+        action=settings.reexport_action,
+        fields=tuple(settings.reexport_fields),
+    )
+
+
+def _same_text_warning(m: TextMatch) -> Warning_:
+    if m.kind == SKIPPED:
+        what = (
+            "likely re-export (long text, no conflicting metadata); not stored — setting "
+            "[ingest] reexport_action = 'keep' stores it"
+        )
+    elif m.kind == KEPT:
+        what = "likely re-export (long text, no conflicting metadata); kept as set"
+    else:
+        what = f"{m.reason}; stored as a different call"
+    return Warning_(m.source, f"id {m.tid!r}: same text as {m.original!r}: {what}")
+
+
 class _Batcher:
-    def __init__(self, store: Store, report: IngestReport, batch_size: int) -> None:
+    def __init__(
+        self, store: Store, report: IngestReport, batch_size: int, rule: ReexportRule
+    ) -> None:
         self.store = store
         self.report = report
         self.batch_size = batch_size
+        self.rule = rule
         self.pending: list[Transcript] = []
 
     def add(self, t: Transcript) -> None:
@@ -113,7 +186,7 @@ class _Batcher:
     def flush(self) -> None:
         if not self.pending:
             return
-        out = self.store.add_transcripts(self.pending, self.report.run_id)
+        out = self.store.add_transcripts(self.pending, self.report.run_id, rule=self.rule)
         self.pending = []
         r = self.report
         for t in out.added:
@@ -123,6 +196,9 @@ class _Batcher:
         for t, original in out.duplicates:
             r.tally(t.format, "duplicate")
             r.duplicates.append((t.tid, t.source, original))
+        for m in out.same_text:
+            r.same_text.append(m)
+            r.warnings.append(_same_text_warning(m))
         for rej in out.rejects:
             r.tally(rej.format, "rejected")
             r.rejects.append(rej)
@@ -133,15 +209,18 @@ def ingest(
     paths: Sequence[Path],
     *,
     manifests: Sequence[Path] = (),
-    progress: ProgressFn | None = None,
+    update_metadata: bool = False,
+    progress: Progress | None = None,
     batch_size: int = 500,
     workers: int | None = None,
 ) -> IngestReport:
     """Read ``paths`` (files and folders, recursively) and store what they hold.
 
     The caller holds the workspace lock. Good inputs are stored even when others are
-    rejected; nothing already stored is changed. Large runs parse files in worker processes
-    (``forkserver``), so a script calling this needs the usual
+    rejected; nothing already stored is changed unless asked (``update_metadata``). A file
+    named ``manifest.csv``, ``manifest.parquet`` or ``manifest.jsonl`` among the inputs is
+    a manifest (:func:`~talkthemes.ingest.detect.split_manifests`). Large runs parse files
+    in worker processes (``forkserver``), so a script calling this needs the usual
     ``if __name__ == "__main__":`` guard.
 
     Parameters
@@ -151,7 +230,10 @@ def ingest(
         Transcript files, tables and folders.
     manifests : sequence of Path
         Metadata tables keyed by transcript id or file name.
-    progress : callable, optional
+    update_metadata : bool
+        Let manifests overwrite stored metadata values that differ (without it, such a
+        change is rejected with its row, field, old and new value).
+    progress : Progress, optional
         ``progress(done_files, total_files, current)``.
     batch_size : int
         Transcripts stored per transaction.
@@ -169,31 +251,27 @@ def ingest(
         run_id = store.start_ingest_run([str(p) for p in [*paths, *manifests]])
         report = IngestReport(run_id=run_id)
 
-        for m in manifests:
-            man = read_manifest(Path(m), settings)
-            entries = man.entries
-            report.manifest_rows += len(entries)
-            report.rejects.extend(man.rejects)
-            report.warnings.extend(man.warnings)
-            for _ in man.rejects:
-                report.tally("manifest", "rejected")
-            store.set_metadata(entries)
-
-        files: list[Path] = []
-        manifest_files = {Path(m).resolve() for m in manifests}
+        walked: list[Path] = []
         for item in iter_files([Path(p) for p in paths], settings):
             if isinstance(item, Path):
-                # a manifest is not a transcript table
-                if not manifest_files or item.resolve() not in manifest_files:
-                    files.append(item)
+                walked.append(item)
             elif isinstance(item, Reject):
                 report.rejects.append(item)
                 report.tally(item.format, "rejected")
             else:
                 report.warnings.append(item)
+        files, found = split_manifests(walked)
+        given = {Path(m).resolve() for m in manifests}
+        if given:  # a manifest given by name is never read as transcripts either
+            files = [f for f in files if f.resolve() not in given]
+            found = [f for f in found if f.resolve() not in given]
+        read = [
+            _apply_manifest(store, report, Path(m), settings, update_metadata)
+            for m in [*manifests, *found]
+        ]
         report.files = len(files)
 
-        batcher = _Batcher(store, report, batch_size)
+        batcher = _Batcher(store, report, batch_size, reexport_rule(settings))
         done = 0
         for chunk, items in _read_files(files, settings, workers):
             for item in items:
@@ -208,6 +286,11 @@ def ingest(
             if progress is not None:
                 progress(done, len(files), str(chunk[-1]))
         batcher.flush()
+        for man, summary in read:
+            missing, warning = unknown_ids(store, man)
+            summary["unknown_ids"] = missing
+            if warning is not None:
+                report.warnings.append(warning)
         if report.rejects:
             store.add_rejects(run_id, report.rejects)
         store.finish_ingest_run(
@@ -221,6 +304,23 @@ def ingest(
         return report
     finally:
         store.close()
+
+
+def _apply_manifest(
+    store: Store, report: IngestReport, path: Path, settings: IngestSettings, update: bool
+) -> tuple[Manifest, dict[str, Any]]:
+    """Read one manifest and store its values, adding the outcome to ``report``."""
+    man = read_manifest(path, settings)
+    report.manifest_rows += len(man.entries)
+    applied = apply_manifest(store, man, update=update)
+    report.metadata_changes.extend(applied.changes)
+    for rej in [*man.rejects, *applied.rejects]:
+        report.rejects.append(rej)
+        report.tally("manifest", "rejected")
+    report.warnings.extend([*man.warnings, *applied.warnings])
+    summary: dict[str, Any] = {"source": str(path), "rows": len(man.entries), "unknown_ids": []}
+    report.manifests.append(summary)
+    return man, summary
 
 
 PARALLEL_MIN_FILES = 400
@@ -294,8 +394,6 @@ def _read_files(
 
 def write_rejects_csv(path: Path, rejects: Sequence[Reject]) -> None:
     """Write one row per rejected input: source, row, format, reason (RFC 4180 CSV)."""
-    import io
-
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\r\n")
     w.writerow(["source", "row", "format", "reason"])

@@ -22,9 +22,13 @@ What is read
   such as ``<00:00:01.000>``) is removed, keeping its text, except ruby annotations
   (``<rt>...</rt>``), which are dropped. Character references (``&amp;``, ``&lt;``,
   ``&gt;``, ``&nbsp;``, ``&lrm;``, ...) are decoded; direction marks are then removed.
+* A cue that ends before it starts keeps its words: it is warned about (line, cue number,
+  both times) and its end is read as its start. Cues are put in start-time order (the
+  spec requires it; a file that breaks it gets one warning naming the first cue out of
+  order); cues with the same start keep the file's order.
 * Consecutive cues of the same speaker (compared exactly, including the empty speaker of
   cues without one) are merged into one turn that starts at the first cue's start and
-  ends at the last cue's end. Cue order is the file's order.
+  ends at the last cue's end.
 * The transcript id is the file name without its extension.
 """
 
@@ -147,16 +151,21 @@ def parse_vtt(
     Returns
     -------
     cues : list of (start, end, voice, text)
-        One entry per voice piece of every readable cue, in file order; ``voice`` is None
-        when the piece has no voice span.
+        One entry per voice piece of every readable cue, in start-time order (file order
+        among equal starts); ``voice`` is None when the piece has no voice span. A cue
+        that ends before it starts gets its start as its end.
     warnings : list of Warning_
-        Missing header, malformed timing lines, stray text blocks (each with its line).
+        Missing header, malformed timing lines, stray text blocks, cues that end before
+        they start, cues out of start-time order (each with its line and cue number).
     has_header : bool
         Whether the file starts with a valid ``WEBVTT`` line.
     """
     lines = text.split("\n")
     warnings: list[Warning_] = []
     cues: list[tuple[float, float, str | None, str]] = []
+    late: list[tuple[int, int, str]] = []  # (cue number, line, start) of cues out of order
+    number = 0
+    latest = 0.0
     i = 0
     has_header = bool(lines) and _HEADER.fullmatch(lines[0]) is not None
     if has_header:
@@ -191,6 +200,7 @@ def parse_vtt(
             )
             i = end
             continue
+        number += 1  # cues counted in file order, unreadable ones too
         m = _TIMING.fullmatch(lines[timing])
         start = parse_timestamp(m.group(1)) if m else None
         stop = parse_timestamp(m.group(2)) if m else None
@@ -205,12 +215,36 @@ def parse_vtt(
             )
             i = _block_end(lines, timing + 1)
             continue
+        if stop < start:
+            warnings.append(
+                Warning_(
+                    source,
+                    f"line {timing + 1}: cue {number} ends ({m.group(2)}) before it starts "
+                    f"({m.group(1)}); its end is read as its start and its words are kept",
+                    row=timing + 1,
+                )
+            )
+            stop = start
+        if start < latest:
+            late.append((number, timing + 1, m.group(1)))
+        latest = max(latest, start)
         j = timing + 1
         while j < n and lines[j].strip() and "-->" not in lines[j]:
             j += 1
         for voice, piece in cue_text("\n".join(lines[timing + 1 : j])):
             cues.append((start, stop, voice, piece))
         i = j
+    if late:
+        first_number, first_line, first_start = late[0]
+        warnings.append(
+            Warning_(
+                source,
+                f"line {first_line}: cue {first_number} starts ({first_start}) before a cue "
+                f"above it ({len(late)} such cue(s)); cues are put in start-time order",
+                row=first_line,
+            )
+        )
+        cues.sort(key=lambda cue: cue[0])  # stable: file order among equal starts
     if not has_header:
         first = next((k for k, ln in enumerate(lines) if ln.strip()), 0)
         warnings.insert(
