@@ -396,7 +396,9 @@ def test_manifest_ids_not_stored_are_reported(tmp_path: Path, exports: Path) -> 
         [["call_id", "queue"], ["c001", "billing"]] + [[f"zz{i}", "moves"] for i in range(7)],
     )
     ws = str(tmp_path / "w")
-    code, doc = _json("ingest", "--create", str(exports / "calls"), "--manifest", str(m), "--workspace", ws)
+    code, doc = _json(
+        "ingest", "--create", str(exports / "calls"), "--manifest", str(m), "--workspace", ws
+    )
     assert code == 0
     (info,) = doc["manifests"]
     assert info["unknown_ids"] == 7 and info["first_unknown_ids"] == [f"zz{i}" for i in range(7)]
@@ -404,7 +406,9 @@ def test_manifest_ids_not_stored_are_reported(tmp_path: Path, exports: Path) -> 
     assert w["message"].startswith("7 manifest row(s) name ids with no stored transcript: 'zz0'")
     assert "'zz0' (row 2 (counting data rows after the header))" in w["message"]
     assert w["row"] == 2
-    code, _, err = _run("ingest", "--create", str(exports / "calls"), "--manifest", str(m), "--workspace", ws)
+    code, _, err = _run(
+        "ingest", "--create", str(exports / "calls"), "--manifest", str(m), "--workspace", ws
+    )
     assert code == 0 and "7 manifest row(s) name ids with no stored transcript" in err
 
 
@@ -416,7 +420,9 @@ def test_manifest_changes_need_update_metadata(tmp_path: Path, exports: Path) ->
         [["call_id", "queue", "site", "agent"], ["c001", "cards", "North", "Noor"]],
     )
     (tmp_path / "empty").mkdir()
-    code, doc = _json("ingest", "--create", "--manifest", str(m), str(tmp_path / "empty"), "--workspace", ws)
+    code, doc = _json(
+        "ingest", "--create", "--manifest", str(m), str(tmp_path / "empty"), "--workspace", ws
+    )
     assert code == 3 and len(doc["rejects"]) == 1
     changes = [
         (c["id"], c["field"], c["old"], c["new"], c["applied"]) for c in doc["metadata_changes"]
@@ -429,8 +435,9 @@ def test_manifest_changes_need_update_metadata(tmp_path: Path, exports: Path) ->
     _, st = _json("status", "--workspace", ws)
     assert st["metadata_fields"]["queue"]["top"]["billing"] == 1  # not overwritten
     assert st["metadata_fields"]["agent"]["top"] == {"Noor": 1}  # a new field is just added
-    code, doc = _json("ingest", "--create", str(exports / "calls"), "--manifest", str(m), "--update-metadata",
-                      "--workspace", ws)  # fmt: skip
+    code, doc = _json(
+        "ingest", str(exports / "calls"), "--manifest", str(m), "--update-metadata", "-w", ws
+    )
     assert code == 0
     assert [(c["field"], c["applied"]) for c in doc["metadata_changes"]] == [("queue", True)]
     assert any("'queue': 'billing' → 'cards'" in w["message"] for w in doc["warnings"])
