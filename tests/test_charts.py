@@ -463,7 +463,7 @@ def test_trend_chart_monthly_axis_and_bad_input() -> None:
 
 
 def test_charts_refuse_unaggregated_sizes(monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setattr(charts, "MAX_CHART_ROWS", 5)
+    monkeypatch.setattr(charts.style, "MAX_CHART_ROWS", 5)
     with pytest.raises(InputError, match="aggregate first"):
         trend_chart(_trend())
 
@@ -573,7 +573,7 @@ def test_a_chart_compiles_and_renders_to_png() -> None:
 
 
 def test_theme_map_labels_never_print_over_each_other() -> None:
-    from talkthemes.charts import _place_labels
+    from talkthemes.charts.theme_map import _place_labels
 
     # five themes piled on one spot: the biggest keeps the spot below, others move or drop
     x = np.zeros(5)

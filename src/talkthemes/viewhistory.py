@@ -15,10 +15,10 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-import altair as alt
 import pandas as pd
 
 from talkthemes import charts
+from talkthemes.charts.history import timeline_chart  # compat: re-exports until the merge
 from talkthemes.errors import InputError
 from talkthemes.workspace import Workspace
 
@@ -96,88 +96,6 @@ def versions_timeline(versions: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
     for col in ("k", "previous_version", "new_transcripts"):
         frame[col] = frame[col].astype("Int64")
     return frame.sort_values("n").reset_index(drop=True)
-
-
-def timeline_chart(timeline: pd.DataFrame, *, width: int = 560) -> alt.LayerChart:
-    """Version number against the time it was made; the current version ringed.
-
-    Parameters
-    ----------
-    timeline : DataFrame
-        From :func:`versions_timeline`.
-    width : int
-        Width in pixels.
-
-    Returns
-    -------
-    altair.LayerChart
-        A line through the versions in order, a dot per version coloured by how it was
-        made (refresh or direct publish), and a ring around the current one.
-    """
-    missing = [c for c in _TIMELINE_COLUMNS if c not in timeline.columns]
-    if missing:
-        raise InputError(f"timeline_chart: timeline lacks column(s) {', '.join(missing)}")
-    df = timeline.copy()
-    df["made_by"] = df["kind"].map({"refresh": "refresh", "publish": "publish"})
-    df["state"] = df["current"].map({True: "current", False: ""})
-    df["k"] = df["k"].astype("float64")
-    df["new_transcripts"] = df["new_transcripts"].astype("float64")
-    df["previous_version"] = df["previous_version"].astype("float64")
-    df["created_at"] = df["created_at"].dt.strftime("%Y-%m-%dT%H:%M:%S")
-    records = json.loads(df.to_json(orient="records", force_ascii=False))
-    data = alt.InlineData(values=records)
-    x = alt.X("created_at:T", title="Made at")
-    y = alt.Y(
-        "n:Q",
-        title="Version",
-        axis=alt.Axis(tickMinStep=1, format="d"),
-        scale=alt.Scale(zero=False, nice=False, padding=12),
-    )
-    tooltip = [
-        alt.Tooltip("n:Q", title="Version", format="d"),
-        alt.Tooltip("created_at:T", title="Made at", format="%Y-%m-%d %H:%M"),
-        alt.Tooltip("made_by:N", title="Made by"),
-        alt.Tooltip("family:N", title="Family"),
-        alt.Tooltip("k:Q", title="K", format="d"),
-        alt.Tooltip("new_transcripts:Q", title="New transcripts", format=",d"),
-        alt.Tooltip("state:N", title="State"),
-    ]
-    base = alt.Chart(data).encode(x=x, y=y)
-    line = base.mark_line(color="#c8c8c8", strokeWidth=1.5)
-    dots = base.mark_point(filled=True, size=90, opacity=1).encode(
-        color=alt.Color(
-            "made_by:N",
-            title="Made by",
-            scale=alt.Scale(
-                domain=["publish", "refresh"], range=[charts.BLUE, charts.BLUISH_GREEN]
-            ),
-            legend=alt.Legend(orient="top"),
-        ),
-        tooltip=tooltip,
-    )
-    ring = (
-        base.transform_filter("datum.current")
-        .mark_point(filled=False, size=320, strokeWidth=2, color=charts.BLACK)
-        .encode(tooltip=tooltip)
-    )
-    label = (
-        base.transform_filter("datum.current")
-        .mark_text(align="left", dx=14, fontSize=11, color="#2b2b2b")
-        .encode(text=alt.value("current"))
-    )
-    return alt.layer(
-        line,
-        dots,
-        ring,
-        label,
-        width=width,
-        height=max(120, 36 * len(df)),
-        title=alt.TitleParams(
-            "Versions over time",
-            subtitle="Each dot is a version; the ringed one is current.",
-            anchor="start",
-        ),
-    )
 
 
 @dataclass(frozen=True)
