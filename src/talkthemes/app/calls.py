@@ -2,7 +2,7 @@
 field, exported to CSV, and read in full with the theme's words highlighted.
 
 Transcript text is untrusted. It reaches the page only through
-:func:`talkthemes.viewdata.transcript_html`, which escapes every piece of it, and
+:func:`talkthemes.view.transcript.transcript_html`, which escapes every piece of it, and
 ``st.html``, which sanitises again and never runs scripts.
 """
 
@@ -13,9 +13,16 @@ import datetime as dt
 import pandas as pd
 import streamlit as st
 
-from talkthemes import viewdata as vd
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
+from talkthemes.view.calls import CallFilter, calls_csv, calls_table
+from talkthemes.view.metadata import MetaTable
+from talkthemes.view.transcript import (
+    TermHighlighter,
+    load_transcript,
+    transcript_html,
+    version_lemmas,
+)
 
 MAX_LISTED = 1000  # rows shown in the table; the CSV export has them all
 HIGHLIGHT_TERMS = 20
@@ -23,8 +30,8 @@ OPEN_KEY = "calls_open"
 TABLE_KEY = "calls_table"
 
 
-def _filters(meta: vd.MetaTable) -> vd.CallFilter:
-    flt = vd.CallFilter()
+def _filters(meta: MetaTable) -> CallFilter:
+    flt = CallFilter()
     with st.expander("Filters", expanded=True, icon=":material/filter_list:"):
         left, right = st.columns(2)
         flt.min_share = (
@@ -102,7 +109,7 @@ def render() -> None:
     pos = version.position(tid)
     flt = _filters(meta)
     try:
-        frame = vd.calls_table(version, meta, pos, flt)
+        frame = calls_table(version, meta, pos, flt)
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return
@@ -131,7 +138,7 @@ def render() -> None:
     )
     st.download_button(
         "Download the list (CSV)",
-        data=lambda: vd.calls_csv(frame),
+        data=lambda: calls_csv(frame),
         file_name=f"theme-{tid}-calls.csv",
         mime="text/csv",
         on_click="ignore",
@@ -154,11 +161,9 @@ def render() -> None:
     )
     lam = _shared.relevance_lambda(ws)
     terms = version.top_terms(pos, HIGHLIGHT_TERMS, lam)
-    highlighter = vd.TermHighlighter(
-        terms, lemmas=_shared.lemma_table(_shared.version_lang(version))
-    )
+    highlighter = TermHighlighter(terms, lemmas=version_lemmas(version))
     try:
-        turns = vd.load_transcript(ws, tid_open, highlighter)
+        turns = load_transcript(ws, tid_open, highlighter)
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return
@@ -173,7 +178,7 @@ def render() -> None:
         f"Marked words are the theme's {HIGHLIGHT_TERMS} most relevant terms at λ = {lam:g}, "
         "found in the original wording (other forms of the same word count too)."
     )
-    st.html(vd.transcript_html(turns))
+    st.html(transcript_html(turns))
 
 
 if __name__ == "__main__":

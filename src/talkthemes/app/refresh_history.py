@@ -9,12 +9,19 @@ from typing import Any
 import pandas as pd
 import streamlit as st
 
-from talkthemes import viewhistory as vh
 from talkthemes.app import _shared
-from talkthemes.charts import drift_chart
+from talkthemes.charts import drift_chart, timeline_chart
 from talkthemes.drift import drift_frame
 from talkthemes.errors import TalkthemesError
-from talkthemes.viewdata import NextStep
+from talkthemes.view.history import (
+    ThemeChange,
+    load_drift,
+    new_theme_examples,
+    report_top_terms,
+    version_changes,
+    versions_timeline,
+)
+from talkthemes.view.readiness import NextStep
 from talkthemes.workspace import Workspace
 
 PICK = "history_version"
@@ -27,7 +34,7 @@ STATUS_TEXT = {
 
 @st.cache_data(show_spinner=False, max_entries=8)
 def _drift(root: str, n: int, stamp: int) -> dict[str, Any] | None:
-    return vh.load_drift(Workspace(root), n)
+    return load_drift(Workspace(root), n)
 
 
 @st.cache_data(show_spinner=False, max_entries=8)
@@ -37,7 +44,7 @@ def _drift_spec(report: dict[str, Any]) -> dict[str, Any]:
 
 @st.cache_data(show_spinner=False, max_entries=4)
 def _timeline_spec(timeline: pd.DataFrame) -> dict[str, Any]:
-    return vh.timeline_chart(timeline).to_dict()
+    return timeline_chart(timeline).to_dict()
 
 
 def _version_top_terms(ws: Workspace, n: int) -> dict[int, list[str]]:
@@ -50,7 +57,7 @@ def _version_top_terms(ws: Workspace, n: int) -> dict[int, list[str]]:
     return {tid: version.top_terms(i, 3) for i, tid in enumerate(version.theme_ids)}
 
 
-def _theme_list(items: list[vh.ThemeChange], status: str) -> None:
+def _theme_list(items: list[ThemeChange], status: str) -> None:
     title, meaning = STATUS_TEXT[status]
     st.markdown(f"**{title}** ({len(items)}): {meaning}")
     if not items:
@@ -67,7 +74,7 @@ def _theme_list(items: list[vh.ThemeChange], status: str) -> None:
 
 def _examples(report: dict[str, Any], labels: dict[int, str]) -> None:
     st.subheader("The new themes' example calls")
-    frame = vh.new_theme_examples(report, labels)
+    frame = new_theme_examples(report, labels)
     if frame.empty:
         st.caption("This refresh found no new theme.")
         return
@@ -112,8 +119,8 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
             f"Refreshed from version {prev}."
             + (f" K was chosen again: {_shared.md_escape(reason)}." if reason else "")
         )
-    terms = vh.report_top_terms(report) or _version_top_terms(ws, n)
-    changes = vh.version_changes(themes, retired, terms)
+    terms = report_top_terms(report) or _version_top_terms(ws, n)
+    changes = version_changes(themes, retired, terms)
     cols = st.columns(3)
     for col, status in zip(cols, ("new", "carried", "retired"), strict=True):
         with col:
@@ -192,7 +199,7 @@ def render() -> None:
             )
         )
         return
-    timeline = vh.versions_timeline(versions)
+    timeline = versions_timeline(versions)
     st.vega_lite_chart(
         _timeline_spec(timeline), theme=None, width="content", key="history_timeline"
     )

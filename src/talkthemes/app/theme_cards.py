@@ -5,9 +5,9 @@ from __future__ import annotations
 
 import streamlit as st
 
-from talkthemes import viewdata as vd
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
+from talkthemes.view.themes import theme_names
 from talkthemes.workspace import Workspace
 
 LAMBDA_HELP = (
@@ -79,7 +79,7 @@ def render() -> None:
     tid = _shared.theme_picker(version, key="cards_pick")
     pos = version.position(tid)
     theme = version.themes[pos]
-    name = vd.theme_names(version)[pos]
+    name = theme_names(version)[pos]
 
     st.subheader(_shared.md_escape(name))
     cov = float(version.coverage()[pos])

@@ -6,8 +6,8 @@ from __future__ import annotations
 import streamlit as st
 
 from talkthemes import charts
-from talkthemes import viewdata as vd
 from talkthemes.app import _shared
+from talkthemes.view.themes import theme_table
 
 CHART_KEY = "map_chart"
 TABLE_KEY = "map_table"
@@ -26,7 +26,7 @@ def render() -> None:
     version = _shared.current_version(ws)
     layout = _shared.layout(ws, version)
     lam = ws.settings().view.relevance_lambda
-    table = vd.theme_table(version, layout, lam=lam)
+    table = theme_table(version, layout, lam=lam)
     selected = _shared.selected_theme(version)
 
     st.title("Theme map")
