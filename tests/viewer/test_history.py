@@ -12,8 +12,8 @@ from streamlit.testing.v1 import AppTest
 
 import talkthemes.app
 from talkthemes import viewhistory as vh
-from talkthemes.app import _shared
 from talkthemes.errors import InputError
+from talkthemes.text import md_inline
 from talkthemes.workspace import Workspace
 
 PAGE = Path(talkthemes.app.__file__).resolve().parent / "refresh_history.py"
@@ -212,9 +212,9 @@ def test_page_shows_the_timeline_the_changes_and_a_new_theme(refreshed, monkeypa
     report = _report(refreshed)
     new = next(t for t in report["themes"] if t["status"] == "new")
     name = " · ".join(w.replace("_", " ") for w in new["top_terms"][:3])
-    assert f"**{_shared.md_escape(name)}** \\#{new['theme_id']}" in text
-    assert _shared.md_escape(new["examples"][0]["transcript_id"]) in text
-    assert _shared.md_escape(LABEL) in text and LABEL not in text  # escaped, never raw
+    assert f"**{md_inline(name)}** \\#{new['theme_id']}" in text
+    assert md_inline(new["examples"][0]["transcript_id"]) in text
+    assert md_inline(LABEL) in text and LABEL not in text  # escaped, never raw
     assert "Version 2" in text and "Refreshed from version 1." in text
     at.selectbox(key="history_version").select(1)
     at.run()

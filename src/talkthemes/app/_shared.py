@@ -20,6 +20,7 @@ import streamlit as st
 
 from talkthemes import charts
 from talkthemes.errors import TalkthemesError
+from talkthemes.text import md_inline
 from talkthemes.versions import Version, load_version
 from talkthemes.view.choose_k import load_prep_vocabulary
 from talkthemes.view.metadata import MetaTable, load_metadata
@@ -59,7 +60,7 @@ def readiness() -> Readiness:
 def empty_state(step: NextStep) -> None:
     """Say what is missing and the one command to run next."""
     st.info(
-        f"{md_escape(step.message)} Run this next, then reload this page:",
+        f"{md_inline(step.message)} Run this next, then reload this page:",
         icon=":material/info:",
     )
     st.code(step.command, language="bash")
@@ -77,7 +78,7 @@ def gate(need: Need) -> Workspace:
 
 def show_error(exc: TalkthemesError) -> None:
     """A one-line error for something the user can fix."""
-    st.error(md_escape(str(exc)), icon=":material/error:")
+    st.error(md_inline(str(exc)), icon=":material/error:")
 
 
 # --------------------------------------------------------------------------- cached loaders
@@ -165,7 +166,7 @@ def trend(ws: Workspace, version: Version, freq: str) -> pd.DataFrame:
 
 def segments(ws: Workspace, version: Version, field: str) -> pd.DataFrame:
     """Shares per segment of a metadata field (numbers cached, names fresh)."""
-    with st.spinner(f"Comparing themes by {field} …"):
+    with st.spinner(f"Comparing themes by {md_inline(field)} …"):
         return with_names(_segments(*version_key(ws, version.n), field), version)
 
 
@@ -314,21 +315,6 @@ def sidebar(ready: Readiness) -> None:
         if st.button("Reload data", help="Read the workspace again (after a publish or ingest)."):
             clear_caches()
             st.rerun()
-
-
-# --------------------------------------------------------------------------- text
-
-_MD_SPECIAL = set("\\`*_{}[]()#+-.!|<>~$")
-
-
-def md_escape(text: str) -> str:
-    """Text shown through ``st.markdown`` as it is (markdown punctuation escaped)."""
-    return "".join("\\" + c if c in _MD_SPECIAL else c for c in str(text))
-
-
-def percent(value: float, digits: int = 1) -> str:
-    """0.123 → "12.3%"."""
-    return f"{value:.{digits}%}"
 
 
 # --------------------------------------------------------------------------- relevance λ

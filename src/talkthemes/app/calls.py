@@ -15,6 +15,7 @@ import streamlit as st
 
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
+from talkthemes.text import md_inline, percent
 from talkthemes.view.calls import CallFilter, calls_csv, calls_table
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.transcript import (
@@ -57,7 +58,7 @@ def _filters(meta: MetaTable) -> CallFilter:
         if meta.date_field is not None:
             info = meta.fields[meta.date_field]
             picked = left.date_input(
-                f"Date range ({_shared.md_escape(meta.date_field)})",
+                f"Date range ({md_inline(meta.date_field)})",
                 value=(info.lo, info.hi),
                 min_value=info.lo,
                 max_value=info.hi,
@@ -74,7 +75,7 @@ def _filters(meta: MetaTable) -> CallFilter:
         for i, info in enumerate(others):
             box = columns[i % 3]
             key = f"calls_field_{info.name}"
-            label = _shared.md_escape(info.name)
+            label = md_inline(info.name)
             if info.kind == "category":
                 chosen = box.multiselect(label, info.values, key=key, placeholder="all values")
                 if chosen:
@@ -116,7 +117,7 @@ def render() -> None:
     coverage = float(version.coverage()[pos])
     st.caption(
         f"{len(frame):,} transcripts match, most dominated by the theme first. The theme "
-        f"leads {coverage:.1%} of all {len(version.doc_ids):,} transcripts."
+        f"leads {percent(coverage)} of all {len(version.doc_ids):,} transcripts."
         + (f" The table lists the first {MAX_LISTED:,}." if len(frame) > MAX_LISTED else "")
     )
     shown = frame.head(MAX_LISTED)
@@ -157,7 +158,7 @@ def render() -> None:
         "Open a transcript",
         ids,
         key=OPEN_KEY,
-        format_func=lambda i: f"{i} · {shares[i]:.0%} this theme",
+        format_func=lambda i: f"{i} · {percent(shares[i], 0)} this theme",
     )
     lam = _shared.relevance_lambda(ws)
     terms = version.top_terms(pos, HIGHLIGHT_TERMS, lam)
@@ -168,11 +169,11 @@ def render() -> None:
         _shared.show_error(exc)
         return
     row = shown[shown["transcript_id"] == tid_open].iloc[0]
-    facts = [
-        _shared.md_escape(f"{k}: {row[k]}") for k in meta.frame.columns if pd.notna(row.get(k))
-    ]
+    facts = [md_inline(f"{k}: {row[k]}") for k in meta.frame.columns if pd.notna(row.get(k))]
     st.caption(
-        " · ".join([f"{len(turns)} turns", f"share of this theme {row['share']:.0%}", *facts])
+        " · ".join(
+            [f"{len(turns)} turns", f"share of this theme {percent(row['share'], 0)}", *facts]
+        )
     )
     st.caption(
         f"Marked words are the theme's {HIGHLIGHT_TERMS} most relevant terms at λ = {lam:g}, "

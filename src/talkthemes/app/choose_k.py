@@ -8,6 +8,7 @@ import streamlit as st
 
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError, WorkspaceBusyError
+from talkthemes.text import md_inline
 from talkthemes.versions import publish
 from talkthemes.view.choose_k import SweepView, cell_themes, load_sweep, scalar_columns
 from talkthemes.view.readiness import readiness
@@ -59,8 +60,8 @@ def _recommendations(sweep: SweepView) -> None:
                     "random seeds often enough.",
                     icon=":material/warning:",
                 )
-            st.caption(_shared.md_escape("Rule: " + rec["rule"]))
-            st.markdown("\n".join(f"- {_shared.md_escape(r)}" for r in rec.get("reasons", [])))
+            st.caption(md_inline("Rule: " + rec["rule"]))
+            st.markdown("\n".join(f"- {md_inline(r)}" for r in rec.get("reasons", [])))
             runners = pd.DataFrame(rec.get("runners_up") or [])
             if not runners.empty:
                 st.caption("Runners-up")
@@ -99,7 +100,7 @@ def _run_publish(ws: Workspace, family: str, k: int) -> None:
     except WorkspaceBusyError as exc:
         busy = str(exc).split(" (use --wait")[0]
         st.error(
-            _shared.md_escape(f"Not published: the {busy}. Try again when it has finished."),
+            md_inline(f"Not published: the {busy}. Try again when it has finished."),
             icon=":material/hourglass_top:",
         )
         return

@@ -9,6 +9,7 @@ import streamlit as st
 
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
+from talkthemes.text import md_inline
 from talkthemes.view.over_time import period_choices, segment_fields
 
 FREQ_NAMES = {"week": "Week", "month": "Month"}
@@ -59,7 +60,8 @@ def _segments(ws, version, meta, show_hidden: bool) -> None:
         return
     _shared.show_chart("segments", frame, field=field)
     st.caption(
-        f"Each dot is the share of a {field}'s transcripts that the theme leads, with a "
+        f"Each dot is the share of a {md_inline(field)}'s transcripts that the theme leads, "
+        "with a "
         "95% bootstrap interval; where intervals do not overlap, the segments really differ."
     )
 

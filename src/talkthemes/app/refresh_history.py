@@ -13,6 +13,7 @@ from talkthemes.app import _shared
 from talkthemes.charts import drift_chart, timeline_chart
 from talkthemes.drift import drift_frame
 from talkthemes.errors import TalkthemesError
+from talkthemes.text import md_inline, percent
 from talkthemes.view.history import (
     ThemeChange,
     load_drift,
@@ -65,9 +66,9 @@ def _theme_list(items: list[ThemeChange], status: str) -> None:
         return
     lines = []
     for t in items:
-        line = f"- **{_shared.md_escape(t.name)}** \\#{t.theme_id}: {_shared.md_escape(t.detail)}"
+        line = f"- **{md_inline(t.name)}** \\#{t.theme_id}: {md_inline(t.detail)}"
         if t.flags:
-            line += " · " + _shared.md_escape("; ".join(t.flags))
+            line += " · " + md_inline("; ".join(t.flags))
         lines.append(line)
     st.markdown("\n".join(lines))
 
@@ -83,11 +84,11 @@ def _examples(report: dict[str, Any], labels: dict[int, str]) -> None:
         "start of the customer's turns."
     )
     for (tid, name), group in frame.groupby(["theme_id", "theme"], sort=False):
-        st.markdown(f"**{_shared.md_escape(name)}** \\#{int(tid)}")
+        st.markdown(f"**{md_inline(name)}** \\#{int(tid)}")
         st.markdown(
             "\n".join(
-                f"- `{_shared.md_escape(r.transcript_id)}` · {_shared.percent(r.share, 0)} · "
-                f"{_shared.md_escape(r.excerpt) or '(no excerpt)'}"
+                f"- {md_inline(r.transcript_id)} · {percent(r.share, 0)} · "
+                f"{md_inline(r.excerpt) or '(no excerpt)'}"
                 for r in group.itertuples()
             )
         )
@@ -117,7 +118,7 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
         reason = refresh.get("resweep_reason")
         st.caption(
             f"Refreshed from version {prev}."
-            + (f" K was chosen again: {_shared.md_escape(reason)}." if reason else "")
+            + (f" K was chosen again: {md_inline(reason)}." if reason else "")
         )
     terms = report_top_terms(report) or _version_top_terms(ws, n)
     changes = version_changes(themes, retired, terms)
@@ -130,8 +131,7 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
             st.warning(
                 "Possible splits or merges: "
                 + "; ".join(
-                    f"{_shared.md_escape(t.name)} (\\#{t.theme_id}) "
-                    + _shared.md_escape(", ".join(t.flags))
+                    f"{md_inline(t.name)} (\\#{t.theme_id}) " + md_inline(", ".join(t.flags))
                     for t in changes.flagged
                 ),
                 icon=":material/call_split:",

@@ -188,7 +188,10 @@ def _card(
         for _, call in calls.head(n_excerpts).iterrows():
             turns = load_transcript(ws, str(call["transcript_id"]), highlighter)
             speaker, segments = excerpt(turns)
-            source = [f"transcript {call['transcript_id']}", f"{call['share']:.0%} this theme"]
+            source = [
+                f"transcript {call['transcript_id']}",
+                f"{percent(call['share'], 0)} this theme",
+            ]
             if meta.date_field and pd.notna(call.get(meta.date_field)):
                 source.append(str(call[meta.date_field]))
             parts.append(
