@@ -3,10 +3,12 @@ states name the next command, publishing takes the lock."""
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import pytest
 from streamlit.testing.v1 import AppTest
+from tests.support.layout import retained_share
 
 import talkthemes.app
 from talkthemes.app import _shared
@@ -14,6 +16,7 @@ from talkthemes.app.choose_k import PICK
 from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.text import md_inline
 from talkthemes.versions import load_version
+from talkthemes.view.theme_map import theme_layout
 from talkthemes.workspace import Workspace
 
 APP = Path(talkthemes.app.__file__).resolve().parent / "main.py"
@@ -73,7 +76,11 @@ def test_the_map_is_the_first_section_once_published(demo_ws, monkeypatch) -> No
     version = load_version(demo_ws.ws)
     assert selected == version.theme_ids[int(version.coverage().argmax())]
     assert f"Selected: {md_inline(demo_ws.labelled[selected])}" in texts(at)
-    assert "keep" in texts(at) and "%" in texts(at)  # the caption with the structure kept
+    # the map's caption states the share of the themes' differences its two axes keep
+    layout = theme_layout(version.topic_terms)
+    share = retained_share(version.topic_terms, layout.x, layout.y)
+    caption = next(c.value for c in at.caption if "keep" in c.value)
+    assert re.findall(r"\d+%", caption) == [f"{share:.0%}"]
 
 
 def test_choose_k_shows_the_picked_cell_and_the_recommendation(demo_ws, monkeypatch) -> None:
