@@ -722,7 +722,7 @@ def report(
             png_dir=png,
             lam=lam,
             excerpts=excerpts,
-            progress=lambda s, d, t: update(d, t, s),
+            progress=update,
         )
     if as_json:
         _emit_json({"out": str(path), "png_dir": None if png is None else str(png)})

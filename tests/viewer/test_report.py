@@ -157,3 +157,18 @@ def test_no_report_before_a_version(tmp_path: Path) -> None:
     with pytest.raises(NotReadyError, match="talkthemes ingest"):
         write_report(ws, tmp_path / "r.html")
     assert not (tmp_path / "r.html").exists()
+
+
+def test_progress_is_told_done_total_and_what(ws_copy, tmp_path: Path) -> None:
+    calls: list[tuple[int, int, str]] = []
+    write_report(
+        ws_copy,
+        tmp_path / "r.html",
+        png_dir=tmp_path / "png",
+        excerpts=0,
+        progress=lambda done, total, what="": calls.append((done, total, what)),
+    )
+    assert calls[0] == (0, 5, "loading the version") and (5, 5, "done") in calls
+    n_charts = len(list((tmp_path / "png").glob("*.png")))
+    assert calls[-1][:2] == (n_charts, n_charts)  # the PNGs, counted to the last
+    assert all(0 <= done <= total and what for done, total, what in calls)

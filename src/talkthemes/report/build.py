@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from pathlib import Path
 
 from talkthemes.charts.render import chart_png
 from talkthemes.errors import NotReadyError
+from talkthemes.progress import Progress
+from talkthemes.progress import report as tell
 from talkthemes.report import sections
 from talkthemes.report.page import Report, render_report
 from talkthemes.versions import load_version
@@ -18,16 +19,13 @@ from talkthemes.workspace import Workspace, atomic_write_bytes, atomic_write_tex
 
 __all__ = ["build_report", "write_report"]
 
-#: ``progress(step, done, total)``
-ProgressFn = Callable[[str, int, int], None]
-
 
 def build_report(
     ws: Workspace,
     *,
     lam: float | None = None,
     excerpts: int = 3,
-    progress: ProgressFn | None = None,
+    progress: Progress | None = None,
 ) -> Report:
     """Gather the report's content for the current version (nothing is written).
 
@@ -38,19 +36,18 @@ def build_report(
         Relevance weight for ranking words (default ``[view] relevance_lambda``).
     excerpts : int
         Excerpts per theme card.
-    progress : callable, optional
-        ``progress(step, done, total)``.
+    progress : Progress, optional
+        Called as ``progress(done, total, what)`` after each of the five parts.
 
     Raises
     ------
     NotReadyError
         When nothing is published yet (naming the command to run).
     """
-    step = progress or (lambda *_: None)
     blocker = readiness(ws).blocker("version")
     if blocker is not None:
         raise NotReadyError(f"{blocker.message} Run: {blocker.command}")
-    step("loading the version", 0, 5)
+    tell(progress, 0, 5, "loading the version")
     version = load_version(ws)
     lam = float(ws.settings().view.relevance_lambda if lam is None else lam)
     meta = load_metadata(ws, version.doc_ids)
@@ -58,23 +55,23 @@ def build_report(
     table = theme_table(version, layout, lam=lam)
     report = Report(title=f"Themes of {ws.root.name} — version {version.n}", body="")
 
-    step("the sweep", 1, 5)
+    tell(progress, 1, 5, "the sweep")
     body = [
         sections.header(report, version, meta, table),
         sections.sweep_section(ws, version.info.get("sweep_id"), report),
     ]
-    step("the theme map", 2, 5)
+    tell(progress, 2, 5, "the theme map")
     body.append(sections.map_section(table, layout, report))
-    step("the theme cards", 3, 5)
+    tell(progress, 3, 5, "the theme cards")
     body.append(
         sections.themes_section(
             ws, version, meta, table, lam=lam, n_excerpts=excerpts, report=report
         )
     )
-    step("the trend", 4, 5)
+    tell(progress, 4, 5, "the trend")
     body.append(sections.trend_section(version, meta, report))
     body.append(sections.footer(version))
-    step("done", 5, 5)
+    tell(progress, 5, 5, "done")
     report.body = "".join(body)
     return report
 
@@ -86,7 +83,7 @@ def write_report(
     png_dir: Path | None = None,
     lam: float | None = None,
     excerpts: int = 3,
-    progress: ProgressFn | None = None,
+    progress: Progress | None = None,
 ) -> Path:
     """Write the report of the current version to ``out`` (and each chart as PNG).
 
@@ -101,8 +98,9 @@ def write_report(
         Relevance weight for ranking words (default ``[view] relevance_lambda``).
     excerpts : int
         Excerpts per theme card.
-    progress : callable, optional
-        ``progress(step, done, total)``.
+    progress : Progress, optional
+        Called as ``progress(done, total, what)`` for the five parts of the report, then
+        for each PNG written.
 
     Returns
     -------
@@ -120,7 +118,7 @@ def write_report(
         png_dir = Path(png_dir)
         png_dir.mkdir(parents=True, exist_ok=True)
         for i, (cid, chart) in enumerate(report.charts.items()):
-            if progress:
-                progress(f"PNG {cid}", i, len(report.charts))
+            tell(progress, i, len(report.charts), f"PNG {cid}")
             atomic_write_bytes(png_dir / f"{cid}.png", chart_png(chart))
+        tell(progress, len(report.charts), len(report.charts), "PNGs written")
     return Path(out)
