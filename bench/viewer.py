@@ -9,7 +9,7 @@ is written, ingested, prepared, swept (NMF, K = ``--k``, one seed) and published
 
 Timing: first the loads the viewer caches once per version (version arrays, map layout,
 metadata, the lemma table); then, per section, the work the page does on every rerun —
-the data functions of :mod:`talkthemes.viewdata` and building each chart's Vega-Lite spec
+the data functions of :mod:`talkthemes.view` and building each chart's Vega-Lite spec
 (``chart.to_dict()``, which validates it) — as the median of ``--runs`` repetitions. The
 viewer additionally caches chart specs by their input, so a rerun with unchanged input
 skips the chart column; the table shows the uncached cost. Target: < 1.5 s per section
@@ -80,9 +80,7 @@ def main() -> int:
     parser.add_argument("--keep", action="store_true", help="keep a built temporary workspace")
     args = parser.parse_args()
 
-    from talkthemes import charts
-    from talkthemes import viewdata as vd
-    from talkthemes.prepare.lemmas import load_lemma_table
+    from talkthemes import charts, view
     from talkthemes.versions import load_version
     from talkthemes.workspace import Workspace
 
@@ -92,30 +90,30 @@ def main() -> int:
         tmp = Path(tempfile.mkdtemp(prefix="tt-bench-viewer-"))
         root = tmp / "ws"
     ws = Workspace(root)
-    if vd.readiness(ws).version is None:
+    if view.readiness(ws).version is None:
         build(root, args.size, args.k)
 
     cold: list[tuple[str, float]] = []
     t, version = timed(lambda: load_version(ws))
     cold.append(("load version", t))
-    t, layout = timed(lambda: vd.theme_layout(version.topic_terms))
+    t, layout = timed(lambda: view.theme_layout(version.topic_terms))
     cold.append(("map layout (JS distance + MDS)", t))
-    t, meta = timed(lambda: vd.load_metadata(ws, version.doc_ids))
+    t, meta = timed(lambda: view.load_metadata(ws, version.doc_ids))
     cold.append(("metadata of every transcript", t))
-    t, lemmas = timed(lambda: load_lemma_table("en"))
+    t, lemmas = timed(lambda: view.lemma_table("en"))
     cold.append(("lemma table", t))
     t, _ = timed(lambda: version.lead())
     cold.append(("lead themes", t))
-    t, sweep = timed(lambda: vd.load_sweep(ws))
+    t, sweep = timed(lambda: view.load_sweep(ws))
     cold.append(("sweep cells", t))
 
     pos = int(version.coverage().argmax())
     tid = version.theme_ids[pos]
     lam = ws.settings().view.relevance_lambda
     freq = "week"
-    fields = vd.segment_fields(meta)
+    fields = view.segment_fields(meta)
     field = "queue" if "queue" in fields else (fields[0] if fields else None)
-    periods = vd.period_choices(meta, freq) if meta.date_field else []
+    periods = view.period_choices(meta, freq) if meta.date_field else []
 
     def fresh_version() -> Any:
         import dataclasses
@@ -124,40 +122,40 @@ def main() -> int:
             return dataclasses.replace(version, themes=store.themes(version.n))
 
     def choose_k_data() -> Any:
-        s = vd.load_sweep(ws)
+        s = view.load_sweep(ws)
         fam = s.families[0]
         k = s.recommended.get(fam, s.ks(fam)[0])
-        return s, vd.cell_themes(ws, s, fam, k, vocabulary=vocab)
+        return s, view.cell_themes(ws, s, fam, k, vocabulary=vocab)
 
-    vocab = vd.load_prep_vocabulary(ws, sweep.prep_hash)
+    vocab = view.load_prep_vocabulary(ws, sweep.prep_hash)
 
     def map_data() -> Any:
-        return vd.theme_table(fresh_version(), layout, lam=lam)
+        return view.theme_table(fresh_version(), layout, lam=lam)
 
     def cards_data() -> Any:
         return fresh_version().term_table(pos, n=15, lam=lam)
 
     def calls_data() -> Any:
         v = fresh_version()
-        frame = vd.calls_table(v, meta, pos, vd.CallFilter())
+        frame = view.calls_table(v, meta, pos, view.CallFilter())
         if field is not None and meta.fields[field].kind == "category":
-            flt = vd.CallFilter(categories={field: [meta.fields[field].values[0]]})
-            vd.calls_table(v, meta, pos, flt)
-        vd.calls_csv(frame)
+            flt = view.CallFilter(categories={field: [meta.fields[field].values[0]]})
+            view.calls_table(v, meta, pos, flt)
+        view.calls_csv(frame)
         if len(frame):
-            h = vd.TermHighlighter(v.top_terms(pos, 20, lam), lemmas=lemmas)
-            vd.transcript_html(vd.load_transcript(ws, str(frame["transcript_id"].iloc[0]), h))
+            h = view.TermHighlighter(v.top_terms(pos, 20, lam), lemmas=lemmas)
+            view.transcript_html(view.load_transcript(ws, str(frame["transcript_id"].iloc[0]), h))
         return frame
 
     def time_data() -> Any:
         v = fresh_version()
         out = {}
         if meta.date_field:
-            out["trend"] = vd.trend_frame(v, meta, freq)
+            out["trend"] = view.trend_frame(v, meta, freq)
             if len(periods) >= 2:
-                out["movers"] = vd.movers_frame(v, meta, freq, periods[0], periods[-1])
+                out["movers"] = view.movers_frame(v, meta, freq, periods[0], periods[-1])
         if field is not None:
-            out["segments"] = vd.segment_frame(v, meta, field)
+            out["segments"] = view.segment_frame(v, meta, field)
         return out
 
     sections: list[tuple[str, Callable[[], Any], Callable[[Any], None]]] = [
@@ -165,7 +163,7 @@ def main() -> int:
             "Choose K",
             choose_k_data,
             lambda d: charts.sweep_chart(
-                vd.scalar_columns(d[0].cells), d[0].recommended or None
+                view.scalar_columns(d[0].cells), d[0].recommended or None
             ).to_dict(),
         ),
         (
@@ -178,7 +176,7 @@ def main() -> int:
         (
             "Theme cards",
             cards_data,
-            lambda d: charts.term_chart(d, vd.theme_names(version)[pos], width=560).to_dict(),
+            lambda d: charts.term_chart(d, view.theme_names(version)[pos], width=560).to_dict(),
         ),
         ("Calls", calls_data, lambda d: None),
         (

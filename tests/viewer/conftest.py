@@ -19,7 +19,9 @@ from talkthemes.workspace import Workspace
 XSS_ID = "A-xss-001"
 SCRIPT = "<script>alert(1)</script>"
 IMG = "<img src=x onerror=alert(1)>"
-LABELS = ("Outage and power cut calls", "Bills & <payments>")
+# Labels with characters that mean something in Markdown (": ( ) - . %") and in HTML
+# ("& < >"): every section must show them as typed.
+LABELS = ("Outages: power-cuts (12.5%)", "Bills & <payments>")
 XSS_TEXT = (
     f"Customer: The power went out again tonight {SCRIPT} and the outage map shows no outage "
     f"for my street, the power has been off for hours {IMG}\n"

@@ -3,16 +3,20 @@ states name the next command, publishing takes the lock."""
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import pytest
 from streamlit.testing.v1 import AppTest
+from tests.support.layout import retained_share
 
 import talkthemes.app
 from talkthemes.app import _shared
 from talkthemes.app.choose_k import PICK
 from talkthemes.ingest.model import Transcript, Turn
+from talkthemes.text import md_inline
 from talkthemes.versions import load_version
+from talkthemes.view.theme_map import theme_layout
 from talkthemes.workspace import Workspace
 
 APP = Path(talkthemes.app.__file__).resolve().parent / "main.py"
@@ -71,8 +75,12 @@ def test_the_map_is_the_first_section_once_published(demo_ws, monkeypatch) -> No
     selected = at.session_state[_shared.SELECTED_THEME]
     version = load_version(demo_ws.ws)
     assert selected == version.theme_ids[int(version.coverage().argmax())]
-    assert f"Selected: {_shared.md_escape(demo_ws.labelled[selected])}" in texts(at)
-    assert "keep" in texts(at) and "%" in texts(at)  # the caption with the structure kept
+    assert f"Selected: {md_inline(demo_ws.labelled[selected])}" in texts(at)
+    # the map's caption states the share of the themes' differences its two axes keep
+    layout = theme_layout(version.topic_terms)
+    share = retained_share(version.topic_terms, layout.x, layout.y)
+    caption = next(c.value for c in at.caption if "keep" in c.value)
+    assert re.findall(r"\d+%", caption) == [f"{share:.0%}"]
 
 
 def test_choose_k_shows_the_picked_cell_and_the_recommendation(demo_ws, monkeypatch) -> None:
@@ -81,7 +89,7 @@ def test_choose_k_shows_the_picked_cell_and_the_recommendation(demo_ws, monkeypa
         rec = store.get_sweep()["recommendations"]["nmf"]
     assert f"NMF: K = {rec['k']} recommended" in texts(at)
     for reason in rec["reasons"][:1]:
-        assert _shared.md_escape(reason) in texts(at)
+        assert md_inline(reason) in texts(at)
     at.session_state[PICK] = ("nmf", 8)
     run(at)
     assert "Themes of NMF K = 8" in texts(at)
@@ -101,7 +109,7 @@ def test_theme_selection_is_shared_between_sections(demo_ws, monkeypatch) -> Non
     run(at, "calls.py")
     assert at.selectbox(key="calls_pick").value == other
     run(at, "theme_map.py")
-    name = _shared.md_escape(load_version(demo_ws.ws).names()[version.position(other)])
+    name = md_inline(load_version(demo_ws.ws).names()[version.position(other)])
     assert f"Selected: {name}" in texts(at)
 
 
@@ -189,7 +197,7 @@ def test_publish_waits_for_nobody_when_the_workspace_is_busy(ws_copy, monkeypatc
     at = run(open_app(ws_copy.root, monkeypatch), "choose_k.py")
     with ws_copy.lock("sweep"):
         _confirm_publish(at)
-    assert any("workspace busy: sweep" in e.value for e in at.error)
+    assert any(md_inline("workspace busy: sweep") in e.value for e in at.error)
     with ws_copy.store() as store:
         assert [v["n"] for v in store.versions()] == [1]
 

@@ -236,6 +236,10 @@ def test_each_section_in_chromium(demo_ws, viewer, browser, shots, path, title, 
     else:  # the selected theme (the largest, labelled first) is named on the page
         if path != "choose-k":
             assert labels[0] in shown
+    if path in ("", "theme-cards"):  # a heading shows the label as typed (Markdown escaped)
+        headings = browser.eval("[...document.querySelectorAll('h3')].map(h => h.innerText)")
+        heading = f"Selected: {labels[0]}" if path == "" else labels[0]
+        assert any(h.strip() == heading for h in headings), headings
     assert not browser.dialogs
 
 

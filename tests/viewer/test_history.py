@@ -11,9 +11,16 @@ import pytest
 from streamlit.testing.v1 import AppTest
 
 import talkthemes.app
-from talkthemes import viewhistory as vh
-from talkthemes.app import _shared
+from talkthemes.charts import timeline_chart
 from talkthemes.errors import InputError
+from talkthemes.text import md_inline
+from talkthemes.view.history import (
+    load_drift,
+    new_theme_examples,
+    report_top_terms,
+    version_changes,
+    versions_timeline,
+)
 from talkthemes.workspace import Workspace
 
 PAGE = Path(talkthemes.app.__file__).resolve().parent / "refresh_history.py"
@@ -106,7 +113,7 @@ def _texts(at: AppTest) -> str:
 def test_timeline_marks_the_current_version_and_how_each_was_made(refreshed) -> None:
     with refreshed.store() as store:
         versions = store.versions()
-    frame = vh.versions_timeline(versions)
+    frame = versions_timeline(versions)
     assert frame["n"].tolist() == [1, 2]
     assert frame["current"].tolist() == [False, True]
     assert frame["kind"].tolist() == ["publish", "refresh"]
@@ -115,14 +122,9 @@ def test_timeline_marks_the_current_version_and_how_each_was_made(refreshed) -> 
     assert frame.loc[1, "new_transcripts"] == versions[1]["refresh"]["new_transcripts"] > 0
     assert pd.isna(frame.loc[0, "new_transcripts"])
     assert frame["created_at"].is_monotonic_increasing
-    spec = vh.timeline_chart(frame).to_dict()
+    spec = timeline_chart(frame).to_dict()
     values = next(iter(spec["datasets"].values()))
     assert [v["n"] for v in values] == [1, 2] and [v["current"] for v in values] == [False, True]
-
-
-def test_timeline_rejects_a_bad_date() -> None:
-    with pytest.raises(InputError, match="version 3: created_at 'soon'"):
-        vh.versions_timeline([{"n": 3, "created_at": "soon", "current": True}])
 
 
 def test_changes_split_carried_new_and_retired_as_the_store_and_report_say(refreshed) -> None:
@@ -131,7 +133,7 @@ def test_changes_split_carried_new_and_retired_as_the_store_and_report_say(refre
         themes = store.themes(2)
         retired = store.retired_themes(2)
         previous = {t["theme_id"] for t in store.themes(1)}
-    changes = vh.version_changes(themes, retired, vh.report_top_terms(report))
+    changes = version_changes(themes, retired, report_top_terms(report))
     by_status = {
         s: {t["theme_id"] for t in report["themes"] if t["status"] == s} for s in ("carried", "new")
     }
@@ -150,37 +152,10 @@ def test_changes_split_carried_new_and_retired_as_the_store_and_report_say(refre
         assert t.detail.startswith("closest previous theme #")
 
 
-def test_changes_flag_possible_splits_and_merges() -> None:
-    themes = [
-        {"theme_id": 1, "status": "carried", "label": "", "info": {"distance": 0.1}},
-        {
-            "theme_id": 7,
-            "status": "new",
-            "label": "Fresh",
-            "info": {
-                "nearest_previous": {"theme_id": 1, "name": "a", "distance": 0.4},
-                "possible_split_of": [1],
-            },
-        },
-        {"theme_id": 8, "status": "carried", "label": "", "info": {"possible_merge_of": [2, 3]}},
-    ]
-    retired = [{"theme_id": 2, "label": "", "info": {"top_terms": ["meter", "reading"]}}]
-    changes = vh.version_changes(themes, retired, {1: ["bill", "late_fee", "pay"], 8: ["x"]})
-    assert changes.ids("carried") == {1, 8} and changes.ids("new") == {7}
-    assert changes.ids("retired") == {2}
-    assert changes.carried[0].name == "bill · late fee · pay"
-    assert changes.retired[0].name == "meter · reading"
-    assert [t.theme_id for t in changes.flagged] == [8, 7]
-    assert changes.new[0].flags == ["possibly split from previous theme #1"]
-    assert changes.carried[1].flags == ["possibly a merge of previous themes #2, #3"]
-    with pytest.raises(InputError, match="theme 9: status 'odd'"):
-        vh.version_changes([{"theme_id": 9, "status": "odd"}], [], {})
-
-
 def test_examples_come_from_the_report_with_current_labels(refreshed) -> None:
     report = _report(refreshed)
     new = [t for t in report["themes"] if t["status"] == "new"]
-    frame = vh.new_theme_examples(report, {new[0]["theme_id"]: "Price change"})
+    frame = new_theme_examples(report, {new[0]["theme_id"]: "Price change"})
     expected = {(t["theme_id"], e["transcript_id"]) for t in new for e in t["examples"]}
     assert set(zip(frame["theme_id"], frame["transcript_id"], strict=True)) == expected
     assert set(frame.loc[frame["theme_id"] == new[0]["theme_id"], "theme"]) == {"Price change"}
@@ -190,13 +165,13 @@ def test_examples_come_from_the_report_with_current_labels(refreshed) -> None:
 
 
 def test_load_drift_names_the_file_when_broken(refreshed, tmp_path) -> None:
-    assert vh.load_drift(refreshed, 1) is None
-    assert vh.load_drift(refreshed, 2) == _report(refreshed)
+    assert load_drift(refreshed, 1) is None
+    assert load_drift(refreshed, 2) == _report(refreshed)
     ws = Workspace(tmp_path / "ws")
     (ws.versions_dir / "4").mkdir(parents=True)
     (ws.versions_dir / "4" / "drift.json").write_text("{not json", encoding="utf-8")
     with pytest.raises(InputError, match=r"drift\.json: cannot be read as JSON"):
-        vh.load_drift(ws, 4)
+        load_drift(ws, 4)
 
 
 # --------------------------------------------------------------------------- the page
@@ -212,9 +187,9 @@ def test_page_shows_the_timeline_the_changes_and_a_new_theme(refreshed, monkeypa
     report = _report(refreshed)
     new = next(t for t in report["themes"] if t["status"] == "new")
     name = " · ".join(w.replace("_", " ") for w in new["top_terms"][:3])
-    assert f"**{_shared.md_escape(name)}** \\#{new['theme_id']}" in text
-    assert _shared.md_escape(new["examples"][0]["transcript_id"]) in text
-    assert _shared.md_escape(LABEL) in text and LABEL not in text  # escaped, never raw
+    assert f"**{md_inline(name)}** \\#{new['theme_id']}" in text
+    assert md_inline(new["examples"][0]["transcript_id"]) in text
+    assert md_inline(LABEL) in text and LABEL not in text  # escaped, never raw
     assert "Version 2" in text and "Refreshed from version 1." in text
     at.selectbox(key="history_version").select(1)
     at.run()

@@ -9,10 +9,14 @@ from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
+import tests.charts.spec as vl
+from tests.support.layout import retained_share
 
+from talkthemes.charts import BLUE, SERIES_COLOURS, VERMILLION
 from talkthemes.errors import NotReadyError
 from talkthemes.report import build_report, render_report, write_report
 from talkthemes.versions import load_version
+from talkthemes.view.theme_map import theme_layout
 from talkthemes.workspace import Workspace
 
 
@@ -73,7 +77,6 @@ def test_the_report_has_every_part(demo_ws, page: str) -> None:
     assert f"NMF: K = {rec['k']} recommended" in page
     assert all(html.escape(r) in page for r in rec["reasons"])
     assert "Bills &amp; &lt;payments&gt;" in page  # a label, escaped
-    assert "keep" in page and "Theme map" in page
     cards = cards_of(page)
     assert set(cards) == set(version.theme_ids)
     for tid, body in cards.items():
@@ -92,13 +95,34 @@ def test_the_trend_has_every_shown_theme(demo_ws, page: str) -> None:
     assert ids == set(version.theme_ids)
 
 
-def test_each_chart_is_also_a_png(report_file: Path, page: str) -> None:
+def test_the_map_caption_states_the_share_the_map_keeps(demo_ws, page: str) -> None:
+    version = load_version(demo_ws.ws)
+    layout = theme_layout(version.topic_terms)
+    share = retained_share(version.topic_terms, layout.x, layout.y)
+    section = re.search(r'<section id="map">(.*?)</section>', page, re.S)
+    assert section is not None
+    caption = re.search(r'<p class="caption">(.*?)</p>', section.group(1), re.S).group(1)
+    assert re.findall(r"\d+%", caption) == [f"{share:.0%}"]
+
+
+# The colour each chart's PNG must show where its data is drawn (the demo is NMF only).
+PNG_COLOURS = {"sweep": VERMILLION, "trend": SERIES_COLOURS[0], "terms": BLUE}
+
+
+def test_each_chart_is_also_a_png_that_shows_it(report_file: Path, page: str) -> None:
     folder = report_file.parent / "png"
-    pngs = sorted(p.stem for p in folder.glob("*.png"))
-    assert pngs == sorted(specs_of(page))
-    for path in folder.glob("*.png"):
-        data = path.read_bytes()
-        assert data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 2000
+    specs = specs_of(page)
+    assert sorted(p.stem for p in folder.glob("*.png")) == sorted(specs)
+    for cid, spec in specs.items():
+        image = vl.decode((folder / f"{cid}.png").read_bytes())
+        scene = vl.scene(spec)
+        # drawn at twice the chart's size, the whole chart
+        assert image.shape[:2] == (2 * scene.height, 2 * scene.width), cid
+        assert vl.not_paper_share(image) > 0.02, cid  # not a blank canvas
+        kind = "terms" if cid.endswith("-terms") else cid
+        if kind in PNG_COLOURS:
+            drawn = vl.colour_share(image, vl.rgb(PNG_COLOURS[kind]), tol=30)
+            assert drawn * image.shape[0] * image.shape[1] > 200, cid  # its marks, in colour
 
 
 def test_hidden_themes_are_folded_and_left_out_of_the_trend(ws_copy) -> None:
@@ -133,3 +157,18 @@ def test_no_report_before_a_version(tmp_path: Path) -> None:
     with pytest.raises(NotReadyError, match="talkthemes ingest"):
         write_report(ws, tmp_path / "r.html")
     assert not (tmp_path / "r.html").exists()
+
+
+def test_progress_is_told_done_total_and_what(ws_copy, tmp_path: Path) -> None:
+    calls: list[tuple[int, int, str]] = []
+    write_report(
+        ws_copy,
+        tmp_path / "r.html",
+        png_dir=tmp_path / "png",
+        excerpts=0,
+        progress=lambda done, total, what="": calls.append((done, total, what)),
+    )
+    assert calls[0] == (0, 5, "loading the version") and (5, 5, "done") in calls
+    n_charts = len(list((tmp_path / "png").glob("*.png")))
+    assert calls[-1][:2] == (n_charts, n_charts)  # the PNGs, counted to the last
+    assert all(0 <= done <= total and what for done, total, what in calls)

@@ -13,11 +13,12 @@ import pytest
 from streamlit.testing.v1 import AppTest
 
 import talkthemes.app
-from talkthemes import viewdata as vd
 from talkthemes.app import _shared
 from talkthemes.app.calls import OPEN_KEY
 from talkthemes.report import build_report, render_report
+from talkthemes.text import md_inline
 from talkthemes.versions import load_version
+from talkthemes.view.transcript import TermHighlighter, segments_html, transcript_html, turn_views
 
 APP = Path(talkthemes.app.__file__).resolve().parent / "main.py"
 SCRIPT = "<script>alert(1)</script>"
@@ -53,7 +54,7 @@ def test_the_calls_section_shows_markup_as_text(demo_ws, monkeypatch) -> None:
     assert body.count(html.escape(IMG)) == stored.count(IMG)
     # the metadata shown above the transcript is escaped markdown, never markup
     facts = " ".join(c.value for c in at.caption)
-    assert _shared.md_escape(f"site: Site {IMG}") in facts
+    assert md_inline(f"site: Site {IMG}") in facts
     # the list shows the value as data (a cell of a table, not HTML)
     listed = at.dataframe[0].value.set_index("transcript_id")
     assert listed.loc[demo_ws.xss_id, "site"] == f"Site {IMG}"
@@ -61,15 +62,10 @@ def test_the_calls_section_shows_markup_as_text(demo_ws, monkeypatch) -> None:
     assert f"Site {IMG}" in at.multiselect(key="calls_field_site").options
 
 
-def test_markdown_escape_neutralises_markup() -> None:
-    escaped = _shared.md_escape("[click](javascript:alert(1)) <b>x</b> *y*")
-    assert "\\[click\\]\\(javascript" in escaped and "\\<b\\>" in escaped and "\\*y\\*" in escaped
-
-
 def test_highlighted_html_is_built_from_escaped_pieces() -> None:
-    h = vd.TermHighlighter(["alert", "script", "power"])
+    h = TermHighlighter(["alert", "script", "power"])
     text = f"power {SCRIPT} and {IMG}"
-    out = vd.segments_html(h.segments(text))
+    out = segments_html(h.segments(text))
     _assert_text_only(out)
     assert html.unescape(out.replace('<mark class="tt-hit">', "").replace("</mark>", "")) == text
     assert '<mark class="tt-hit">script</mark>' in out  # a term inside the tag, still text
@@ -100,8 +96,8 @@ def test_the_report_shows_markup_as_text(ws_copy) -> None:
 
 @pytest.mark.parametrize("text", [SCRIPT, IMG, "a</mark><script>x</script>"])
 def test_transcript_html_never_passes_markup(text: str) -> None:
-    turns = vd.turn_views(
+    turns = turn_views(
         [type("T", (), {"seq": 0, "speaker": text, "role": "agent", "start": 1.0, "text": text})],
-        vd.TermHighlighter(["mark", "script", "img"]),
+        TermHighlighter(["mark", "script", "img"]),
     )
-    _assert_text_only(vd.transcript_html(turns))
+    _assert_text_only(transcript_html(turns))

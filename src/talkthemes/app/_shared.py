@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
-import logging
 import sys
 from pathlib import Path
 from typing import Any
@@ -20,12 +19,17 @@ import pandas as pd
 import streamlit as st
 
 from talkthemes import charts
-from talkthemes import viewdata as vd
 from talkthemes.errors import TalkthemesError
+from talkthemes.text import md_inline
 from talkthemes.versions import Version, load_version
+from talkthemes.view.choose_k import load_prep_vocabulary
+from talkthemes.view.metadata import MetaTable, load_metadata
+from talkthemes.view.over_time import movers_frame, segment_frame, trend_frame
+from talkthemes.view.readiness import Need, NextStep, Readiness
+from talkthemes.view.readiness import readiness as workspace_readiness
+from talkthemes.view.theme_map import ThemeLayout, theme_layout
+from talkthemes.view.themes import theme_names, with_names
 from talkthemes.workspace import Workspace, resolve_workspace
-
-log = logging.getLogger(__name__)
 
 #: Session-state key of the theme selected anywhere in the viewer (a theme id).
 SELECTED_THEME = "tt_theme_id"
@@ -48,21 +52,21 @@ def workspace() -> Workspace:
     return Workspace(workspace_root())
 
 
-def readiness() -> vd.Readiness:
+def readiness() -> Readiness:
     """Readiness of the viewer's workspace (read on every run: it is cheap)."""
-    return vd.readiness(workspace())
+    return workspace_readiness(workspace())
 
 
-def empty_state(step: vd.NextStep) -> None:
+def empty_state(step: NextStep) -> None:
     """Say what is missing and the one command to run next."""
     st.info(
-        f"{md_escape(step.message)} Run this next, then reload this page:",
+        f"{md_inline(step.message)} Run this next, then reload this page:",
         icon=":material/info:",
     )
     st.code(step.command, language="bash")
 
 
-def gate(need: vd.Need) -> Workspace:
+def gate(need: Need) -> Workspace:
     """Stop the page with an empty state unless the workspace has what ``need`` names."""
     ws = workspace()
     step = readiness().blocker(need)
@@ -74,7 +78,7 @@ def gate(need: vd.Need) -> Workspace:
 
 def show_error(exc: TalkthemesError) -> None:
     """A one-line error for something the user can fix."""
-    st.error(md_escape(str(exc)), icon=":material/error:")
+    st.error(md_inline(str(exc)), icon=":material/error:")
 
 
 # --------------------------------------------------------------------------- cached loaders
@@ -98,13 +102,13 @@ def _version(root: str, n: int, stamp: int) -> Version:
 
 
 @st.cache_resource(show_spinner=False, max_entries=4)
-def _layout(root: str, n: int, stamp: int) -> vd.ThemeLayout:
-    return vd.theme_layout(_version(root, n, stamp).topic_terms)
+def _layout(root: str, n: int, stamp: int) -> ThemeLayout:
+    return theme_layout(_version(root, n, stamp).topic_terms)
 
 
 @st.cache_resource(show_spinner=False, max_entries=4)
-def _metadata(root: str, n: int, stamp: int) -> vd.MetaTable:
-    return vd.load_metadata(Workspace(root), _version(root, n, stamp).doc_ids)
+def _metadata(root: str, n: int, stamp: int) -> MetaTable:
+    return load_metadata(Workspace(root), _version(root, n, stamp).doc_ids)
 
 
 def current_version(ws: Workspace) -> Version:
@@ -121,13 +125,13 @@ def current_version(ws: Workspace) -> Version:
     return dataclasses.replace(version, themes=themes)
 
 
-def layout(ws: Workspace, version: Version) -> vd.ThemeLayout:
+def layout(ws: Workspace, version: Version) -> ThemeLayout:
     """Map coordinates of the version's themes (cached)."""
     with st.spinner("Placing the themes on the map …"):
         return _layout(*version_key(ws, version.n))
 
 
-def metadata(ws: Workspace, version: Version) -> vd.MetaTable:
+def metadata(ws: Workspace, version: Version) -> MetaTable:
     """The version's transcripts' metadata (read once, cached)."""
     with st.spinner("Reading the transcripts' metadata …"):
         return _metadata(*version_key(ws, version.n))
@@ -135,17 +139,17 @@ def metadata(ws: Workspace, version: Version) -> vd.MetaTable:
 
 @st.cache_data(show_spinner=False, max_entries=8)
 def _trend(root: str, n: int, stamp: int, freq: str) -> pd.DataFrame:
-    return vd.trend_frame(_version(root, n, stamp), _metadata(root, n, stamp), freq)  # type: ignore[arg-type]
+    return trend_frame(_version(root, n, stamp), _metadata(root, n, stamp), freq)  # type: ignore[arg-type]
 
 
 @st.cache_data(show_spinner=False, max_entries=16)
 def _segments(root: str, n: int, stamp: int, field: str) -> pd.DataFrame:
-    return vd.segment_frame(_version(root, n, stamp), _metadata(root, n, stamp), field)
+    return segment_frame(_version(root, n, stamp), _metadata(root, n, stamp), field)
 
 
 @st.cache_data(show_spinner=False, max_entries=16)
 def _movers(root: str, n: int, stamp: int, freq: str, before: str, after: str) -> pd.DataFrame:
-    return vd.movers_frame(
+    return movers_frame(
         _version(root, n, stamp),
         _metadata(root, n, stamp),
         freq,  # type: ignore[arg-type]
@@ -157,13 +161,13 @@ def _movers(root: str, n: int, stamp: int, freq: str, before: str, after: str) -
 def trend(ws: Workspace, version: Version, freq: str) -> pd.DataFrame:
     """Shares per period with bootstrap intervals (numbers cached, names fresh)."""
     with st.spinner("Counting themes per period and resampling for the intervals …"):
-        return vd.with_names(_trend(*version_key(ws, version.n), freq), version)
+        return with_names(_trend(*version_key(ws, version.n), freq), version)
 
 
 def segments(ws: Workspace, version: Version, field: str) -> pd.DataFrame:
     """Shares per segment of a metadata field (numbers cached, names fresh)."""
-    with st.spinner(f"Comparing themes by {field} …"):
-        return vd.with_names(_segments(*version_key(ws, version.n), field), version)
+    with st.spinner(f"Comparing themes by {md_inline(field)} …"):
+        return with_names(_segments(*version_key(ws, version.n), field), version)
 
 
 def movers(
@@ -172,29 +176,12 @@ def movers(
     """Ranked change of each theme's share between two periods (numbers cached)."""
     with st.spinner("Comparing the two periods …"):
         frame = _movers(*version_key(ws, version.n), freq, before.isoformat(), after.isoformat())
-        return vd.with_names(frame, version)
-
-
-@st.cache_resource(show_spinner=False, max_entries=2)
-def lemma_table(lang: str) -> dict[str, str]:
-    """The lookup lemma table the prepare step used (empty when none ships for ``lang``)."""
-    from talkthemes.prepare.lemmas import load_lemma_table
-
-    try:
-        return load_lemma_table(lang)
-    except TalkthemesError as exc:
-        log.info("no lemma table for %s: %s", lang, exc)
-        return {}
-
-
-def version_lang(version: Version) -> str:
-    """The language the version's transcripts were prepared in."""
-    return str((version.info.get("prepare_settings") or {}).get("lang") or "en")
+        return with_names(frame, version)
 
 
 @st.cache_resource(show_spinner=False, max_entries=2)
 def _prep_vocabulary(root: str, prep_hash: str) -> list[str]:
-    return vd.load_prep_vocabulary(Workspace(root), prep_hash)
+    return load_prep_vocabulary(Workspace(root), prep_hash)
 
 
 def prep_vocabulary(ws: Workspace, prep_hash: str) -> list[str]:
@@ -279,7 +266,7 @@ def select_theme(theme_id: int) -> None:
 
 def theme_picker(version: Version, *, key: str, label: str = "Theme") -> int:
     """A select box of the version's themes, bound to the shared selection."""
-    names = dict(zip(version.theme_ids, vd.theme_names(version), strict=True))
+    names = dict(zip(version.theme_ids, theme_names(version), strict=True))
     hidden = {int(t["theme_id"]) for t in version.themes if t["hidden"]}
     current = selected_theme(version)
     st.session_state[key] = current
@@ -300,7 +287,7 @@ def theme_picker(version: Version, *, key: str, label: str = "Theme") -> int:
 # --------------------------------------------------------------------------- sidebar
 
 
-def sidebar(ready: vd.Readiness) -> None:
+def sidebar(ready: Readiness) -> None:
     """Workspace path and the current version's facts."""
     with st.sidebar:
         st.caption("Workspace")
@@ -328,21 +315,6 @@ def sidebar(ready: vd.Readiness) -> None:
         if st.button("Reload data", help="Read the workspace again (after a publish or ingest)."):
             clear_caches()
             st.rerun()
-
-
-# --------------------------------------------------------------------------- text
-
-_MD_SPECIAL = set("\\`*_{}[]()#+-.!|<>~$")
-
-
-def md_escape(text: str) -> str:
-    """Text shown through ``st.markdown`` as it is (markdown punctuation escaped)."""
-    return "".join("\\" + c if c in _MD_SPECIAL else c for c in str(text))
-
-
-def percent(value: float, digits: int = 1) -> str:
-    """0.123 → "12.3%"."""
-    return f"{value:.{digits}%}"
 
 
 # --------------------------------------------------------------------------- relevance λ

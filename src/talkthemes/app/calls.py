@@ -2,7 +2,7 @@
 field, exported to CSV, and read in full with the theme's words highlighted.
 
 Transcript text is untrusted. It reaches the page only through
-:func:`talkthemes.viewdata.transcript_html`, which escapes every piece of it, and
+:func:`talkthemes.view.transcript.transcript_html`, which escapes every piece of it, and
 ``st.html``, which sanitises again and never runs scripts.
 """
 
@@ -13,9 +13,17 @@ import datetime as dt
 import pandas as pd
 import streamlit as st
 
-from talkthemes import viewdata as vd
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
+from talkthemes.text import md_inline, percent
+from talkthemes.view.calls import CallFilter, calls_csv, calls_table
+from talkthemes.view.metadata import MetaTable
+from talkthemes.view.transcript import (
+    TermHighlighter,
+    load_transcript,
+    transcript_html,
+    version_lemmas,
+)
 
 MAX_LISTED = 1000  # rows shown in the table; the CSV export has them all
 HIGHLIGHT_TERMS = 20
@@ -23,8 +31,8 @@ OPEN_KEY = "calls_open"
 TABLE_KEY = "calls_table"
 
 
-def _filters(meta: vd.MetaTable) -> vd.CallFilter:
-    flt = vd.CallFilter()
+def _filters(meta: MetaTable) -> CallFilter:
+    flt = CallFilter()
     with st.expander("Filters", expanded=True, icon=":material/filter_list:"):
         left, right = st.columns(2)
         flt.min_share = (
@@ -50,7 +58,7 @@ def _filters(meta: vd.MetaTable) -> vd.CallFilter:
         if meta.date_field is not None:
             info = meta.fields[meta.date_field]
             picked = left.date_input(
-                f"Date range ({_shared.md_escape(meta.date_field)})",
+                f"Date range ({md_inline(meta.date_field)})",
                 value=(info.lo, info.hi),
                 min_value=info.lo,
                 max_value=info.hi,
@@ -67,7 +75,7 @@ def _filters(meta: vd.MetaTable) -> vd.CallFilter:
         for i, info in enumerate(others):
             box = columns[i % 3]
             key = f"calls_field_{info.name}"
-            label = _shared.md_escape(info.name)
+            label = md_inline(info.name)
             if info.kind == "category":
                 chosen = box.multiselect(label, info.values, key=key, placeholder="all values")
                 if chosen:
@@ -102,14 +110,14 @@ def render() -> None:
     pos = version.position(tid)
     flt = _filters(meta)
     try:
-        frame = vd.calls_table(version, meta, pos, flt)
+        frame = calls_table(version, meta, pos, flt)
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return
     coverage = float(version.coverage()[pos])
     st.caption(
         f"{len(frame):,} transcripts match, most dominated by the theme first. The theme "
-        f"leads {coverage:.1%} of all {len(version.doc_ids):,} transcripts."
+        f"leads {percent(coverage)} of all {len(version.doc_ids):,} transcripts."
         + (f" The table lists the first {MAX_LISTED:,}." if len(frame) > MAX_LISTED else "")
     )
     shown = frame.head(MAX_LISTED)
@@ -131,7 +139,7 @@ def render() -> None:
     )
     st.download_button(
         "Download the list (CSV)",
-        data=lambda: vd.calls_csv(frame),
+        data=lambda: calls_csv(frame),
         file_name=f"theme-{tid}-calls.csv",
         mime="text/csv",
         on_click="ignore",
@@ -150,30 +158,28 @@ def render() -> None:
         "Open a transcript",
         ids,
         key=OPEN_KEY,
-        format_func=lambda i: f"{i} · {shares[i]:.0%} this theme",
+        format_func=lambda i: f"{i} · {percent(shares[i], 0)} this theme",
     )
     lam = _shared.relevance_lambda(ws)
     terms = version.top_terms(pos, HIGHLIGHT_TERMS, lam)
-    highlighter = vd.TermHighlighter(
-        terms, lemmas=_shared.lemma_table(_shared.version_lang(version))
-    )
+    highlighter = TermHighlighter(terms, lemmas=version_lemmas(version))
     try:
-        turns = vd.load_transcript(ws, tid_open, highlighter)
+        turns = load_transcript(ws, tid_open, highlighter)
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return
     row = shown[shown["transcript_id"] == tid_open].iloc[0]
-    facts = [
-        _shared.md_escape(f"{k}: {row[k]}") for k in meta.frame.columns if pd.notna(row.get(k))
-    ]
+    facts = [md_inline(f"{k}: {row[k]}") for k in meta.frame.columns if pd.notna(row.get(k))]
     st.caption(
-        " · ".join([f"{len(turns)} turns", f"share of this theme {row['share']:.0%}", *facts])
+        " · ".join(
+            [f"{len(turns)} turns", f"share of this theme {percent(row['share'], 0)}", *facts]
+        )
     )
     st.caption(
         f"Marked words are the theme's {HIGHLIGHT_TERMS} most relevant terms at λ = {lam:g}, "
         "found in the original wording (other forms of the same word count too)."
     )
-    st.html(vd.transcript_html(turns))
+    st.html(transcript_html(turns))
 
 
 if __name__ == "__main__":

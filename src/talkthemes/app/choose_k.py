@@ -6,9 +6,12 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from talkthemes import viewdata as vd
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError, WorkspaceBusyError
+from talkthemes.text import md_inline
+from talkthemes.versions import publish
+from talkthemes.view.choose_k import SweepView, cell_themes, load_sweep, scalar_columns
+from talkthemes.view.readiness import readiness
 from talkthemes.workspace import Workspace
 
 FAMILY_NAMES = {"lda": "LDA", "nmf": "NMF"}
@@ -33,7 +36,7 @@ def _on_k() -> None:
     st.session_state[PICK] = (st.session_state[PICK][0], int(st.session_state["choosek_k"]))
 
 
-def _current_pick(sweep: vd.SweepView) -> tuple[str, int]:
+def _current_pick(sweep: SweepView) -> tuple[str, int]:
     family, k = st.session_state.get(PICK, (None, None))
     if family not in sweep.families:
         family = next((f for f in sweep.families if f in sweep.recommended), sweep.families[0])
@@ -43,7 +46,7 @@ def _current_pick(sweep: vd.SweepView) -> tuple[str, int]:
     return family, int(k)
 
 
-def _recommendations(sweep: vd.SweepView) -> None:
+def _recommendations(sweep: SweepView) -> None:
     if not sweep.recommendations:
         st.info("This sweep has no recommendation yet: it is still running or was interrupted.")
         return
@@ -57,8 +60,8 @@ def _recommendations(sweep: vd.SweepView) -> None:
                     "random seeds often enough.",
                     icon=":material/warning:",
                 )
-            st.caption(_shared.md_escape("Rule: " + rec["rule"]))
-            st.markdown("\n".join(f"- {_shared.md_escape(r)}" for r in rec.get("reasons", [])))
+            st.caption(md_inline("Rule: " + rec["rule"]))
+            st.markdown("\n".join(f"- {md_inline(r)}" for r in rec.get("reasons", [])))
             runners = pd.DataFrame(rec.get("runners_up") or [])
             if not runners.empty:
                 st.caption("Runners-up")
@@ -78,8 +81,6 @@ def _recommendations(sweep: vd.SweepView) -> None:
 
 
 def _run_publish(ws: Workspace, family: str, k: int) -> None:
-    from talkthemes.versions import publish
-
     label = f"{FAMILY_NAMES.get(family, family)} K = {k}"
     try:
         with ws.lock("publish"):
@@ -99,7 +100,7 @@ def _run_publish(ws: Workspace, family: str, k: int) -> None:
     except WorkspaceBusyError as exc:
         busy = str(exc).split(" (use --wait")[0]
         st.error(
-            _shared.md_escape(f"Not published: the {busy}. Try again when it has finished."),
+            md_inline(f"Not published: the {busy}. Try again when it has finished."),
             icon=":material/hourglass_top:",
         )
         return
@@ -149,7 +150,7 @@ def render() -> None:
         "come back with other seeds."
     )
     try:
-        sweep = vd.load_sweep(ws)
+        sweep = load_sweep(ws)
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return
@@ -161,7 +162,7 @@ def render() -> None:
         )
     _shared.show_chart(
         "sweep",
-        vd.scalar_columns(sweep.cells),
+        scalar_columns(sweep.cells),
         sweep.recommended or None,
         key=CHART_KEY,
         on_select=_on_chart_select,
@@ -188,7 +189,7 @@ def render() -> None:
     right.selectbox("Number of themes (K)", sweep.ks(family), key="choosek_k", on_change=_on_k)
     try:
         with st.spinner("Reading the model's themes …"):
-            cell = vd.cell_themes(
+            cell = cell_themes(
                 ws, sweep, family, k, vocabulary=_shared.prep_vocabulary(ws, sweep.prep_hash)
             )
     except TalkthemesError as exc:
@@ -207,7 +208,7 @@ def render() -> None:
             "terms": st.column_config.TextColumn("Top words", width="large"),
         },
     )
-    _publish_controls(ws, family, k, vd.readiness(ws).transcripts)
+    _publish_controls(ws, family, k, readiness(ws).transcripts)
 
 
 if __name__ == "__main__":

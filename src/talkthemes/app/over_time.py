@@ -7,9 +7,10 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from talkthemes import viewdata as vd
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
+from talkthemes.text import md_inline
+from talkthemes.view.over_time import period_choices, segment_fields
 
 FREQ_NAMES = {"week": "Week", "month": "Month"}
 
@@ -40,7 +41,7 @@ def _trends(ws, version, meta, freq: str, show_hidden: bool, selected: int) -> N
 
 def _segments(ws, version, meta, show_hidden: bool) -> None:
     st.subheader("Compare segments")
-    fields = vd.segment_fields(meta)
+    fields = segment_fields(meta)
     if not fields:
         st.info("The transcripts have no metadata field to compare by (such as a queue).")
         return
@@ -59,14 +60,15 @@ def _segments(ws, version, meta, show_hidden: bool) -> None:
         return
     _shared.show_chart("segments", frame, field=field)
     st.caption(
-        f"Each dot is the share of a {field}'s transcripts that the theme leads, with a "
+        f"Each dot is the share of a {md_inline(field)}'s transcripts that the theme leads, "
+        "with a "
         "95% bootstrap interval; where intervals do not overlap, the segments really differ."
     )
 
 
 def _movers(ws, version, meta, freq: str, show_hidden: bool) -> None:
     st.subheader("Rising and falling themes")
-    periods = vd.period_choices(meta, freq)
+    periods = period_choices(meta, freq)
     if len(periods) < 2:
         st.info(f"Movers need transcripts in at least two {freq}s.")
         return

@@ -9,12 +9,20 @@ from typing import Any
 import pandas as pd
 import streamlit as st
 
-from talkthemes import viewhistory as vh
 from talkthemes.app import _shared
-from talkthemes.charts import drift_chart
+from talkthemes.charts import drift_chart, timeline_chart
 from talkthemes.drift import drift_frame
 from talkthemes.errors import TalkthemesError
-from talkthemes.viewdata import NextStep
+from talkthemes.text import md_inline, percent
+from talkthemes.view.history import (
+    ThemeChange,
+    load_drift,
+    new_theme_examples,
+    report_top_terms,
+    version_changes,
+    versions_timeline,
+)
+from talkthemes.view.readiness import NextStep
 from talkthemes.workspace import Workspace
 
 PICK = "history_version"
@@ -27,7 +35,7 @@ STATUS_TEXT = {
 
 @st.cache_data(show_spinner=False, max_entries=8)
 def _drift(root: str, n: int, stamp: int) -> dict[str, Any] | None:
-    return vh.load_drift(Workspace(root), n)
+    return load_drift(Workspace(root), n)
 
 
 @st.cache_data(show_spinner=False, max_entries=8)
@@ -37,7 +45,7 @@ def _drift_spec(report: dict[str, Any]) -> dict[str, Any]:
 
 @st.cache_data(show_spinner=False, max_entries=4)
 def _timeline_spec(timeline: pd.DataFrame) -> dict[str, Any]:
-    return vh.timeline_chart(timeline).to_dict()
+    return timeline_chart(timeline).to_dict()
 
 
 def _version_top_terms(ws: Workspace, n: int) -> dict[int, list[str]]:
@@ -50,7 +58,7 @@ def _version_top_terms(ws: Workspace, n: int) -> dict[int, list[str]]:
     return {tid: version.top_terms(i, 3) for i, tid in enumerate(version.theme_ids)}
 
 
-def _theme_list(items: list[vh.ThemeChange], status: str) -> None:
+def _theme_list(items: list[ThemeChange], status: str) -> None:
     title, meaning = STATUS_TEXT[status]
     st.markdown(f"**{title}** ({len(items)}): {meaning}")
     if not items:
@@ -58,16 +66,16 @@ def _theme_list(items: list[vh.ThemeChange], status: str) -> None:
         return
     lines = []
     for t in items:
-        line = f"- **{_shared.md_escape(t.name)}** \\#{t.theme_id}: {_shared.md_escape(t.detail)}"
+        line = f"- **{md_inline(t.name)}** \\#{t.theme_id}: {md_inline(t.detail)}"
         if t.flags:
-            line += " · " + _shared.md_escape("; ".join(t.flags))
+            line += " · " + md_inline("; ".join(t.flags))
         lines.append(line)
     st.markdown("\n".join(lines))
 
 
 def _examples(report: dict[str, Any], labels: dict[int, str]) -> None:
     st.subheader("The new themes' example calls")
-    frame = vh.new_theme_examples(report, labels)
+    frame = new_theme_examples(report, labels)
     if frame.empty:
         st.caption("This refresh found no new theme.")
         return
@@ -76,11 +84,11 @@ def _examples(report: dict[str, Any], labels: dict[int, str]) -> None:
         "start of the customer's turns."
     )
     for (tid, name), group in frame.groupby(["theme_id", "theme"], sort=False):
-        st.markdown(f"**{_shared.md_escape(name)}** \\#{int(tid)}")
+        st.markdown(f"**{md_inline(name)}** \\#{int(tid)}")
         st.markdown(
             "\n".join(
-                f"- `{_shared.md_escape(r.transcript_id)}` · {_shared.percent(r.share, 0)} · "
-                f"{_shared.md_escape(r.excerpt) or '(no excerpt)'}"
+                f"- {md_inline(r.transcript_id)} · {percent(r.share, 0)} · "
+                f"{md_inline(r.excerpt) or '(no excerpt)'}"
                 for r in group.itertuples()
             )
         )
@@ -110,10 +118,10 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
         reason = refresh.get("resweep_reason")
         st.caption(
             f"Refreshed from version {prev}."
-            + (f" K was chosen again: {_shared.md_escape(reason)}." if reason else "")
+            + (f" K was chosen again: {md_inline(reason)}." if reason else "")
         )
-    terms = vh.report_top_terms(report) or _version_top_terms(ws, n)
-    changes = vh.version_changes(themes, retired, terms)
+    terms = report_top_terms(report) or _version_top_terms(ws, n)
+    changes = version_changes(themes, retired, terms)
     cols = st.columns(3)
     for col, status in zip(cols, ("new", "carried", "retired"), strict=True):
         with col:
@@ -123,8 +131,7 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
             st.warning(
                 "Possible splits or merges: "
                 + "; ".join(
-                    f"{_shared.md_escape(t.name)} (\\#{t.theme_id}) "
-                    + _shared.md_escape(", ".join(t.flags))
+                    f"{md_inline(t.name)} (\\#{t.theme_id}) " + md_inline(", ".join(t.flags))
                     for t in changes.flagged
                 ),
                 icon=":material/call_split:",
@@ -192,7 +199,7 @@ def render() -> None:
             )
         )
         return
-    timeline = vh.versions_timeline(versions)
+    timeline = versions_timeline(versions)
     st.vega_lite_chart(
         _timeline_spec(timeline), theme=None, width="content", key="history_timeline"
     )

@@ -5,9 +5,10 @@ from __future__ import annotations
 
 import streamlit as st
 
-from talkthemes import viewdata as vd
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
+from talkthemes.text import md_inline, percent
+from talkthemes.view.themes import theme_names
 from talkthemes.workspace import Workspace
 
 LAMBDA_HELP = (
@@ -68,7 +69,7 @@ def _editor(ws: Workspace, theme: dict) -> None:
     )
     error = st.session_state.pop("cards_error", None)
     if error:
-        st.error(_shared.md_escape(error), icon=":material/error:")
+        st.error(md_inline(error), icon=":material/error:")
 
 
 def render() -> None:
@@ -79,15 +80,15 @@ def render() -> None:
     tid = _shared.theme_picker(version, key="cards_pick")
     pos = version.position(tid)
     theme = version.themes[pos]
-    name = vd.theme_names(version)[pos]
+    name = theme_names(version)[pos]
 
-    st.subheader(_shared.md_escape(name))
+    st.subheader(md_inline(name))
     cov = float(version.coverage()[pos])
     mean = float(version.mean_share()[pos])
     coherence = (version.info.get("coherence") or {}).get("c_npmi")
     a, b, c = st.columns(3)
-    a.metric("Leads", _shared.percent(cov), help="Share of transcripts whose lead theme it is.")
-    b.metric("Average share", _shared.percent(mean), help="Its average share per transcript.")
+    a.metric("Leads", percent(cov), help="Share of transcripts whose lead theme it is.")
+    b.metric("Average share", percent(mean), help="Its average share per transcript.")
     if coherence:
         c.metric(
             "Coherence (C_NPMI)",
@@ -95,7 +96,7 @@ def render() -> None:
             help="How often its top words occur together in the transcripts (−1 to 1).",
         )
     st.caption(
-        f"Theme #{tid} · {_shared.md_escape(theme['status'])} in version {version.n} · "
+        f"Theme #{tid} · {md_inline(theme['status'])} in version {version.n} · "
         f"about {round(cov * len(version.doc_ids)):,} transcripts"
     )
 

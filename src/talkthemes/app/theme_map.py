@@ -6,8 +6,9 @@ from __future__ import annotations
 import streamlit as st
 
 from talkthemes import charts
-from talkthemes import viewdata as vd
 from talkthemes.app import _shared
+from talkthemes.text import md_inline, percent
+from talkthemes.view.themes import theme_table
 
 CHART_KEY = "map_chart"
 TABLE_KEY = "map_table"
@@ -26,7 +27,7 @@ def render() -> None:
     version = _shared.current_version(ws)
     layout = _shared.layout(ws, version)
     lam = ws.settings().view.relevance_lambda
-    table = vd.theme_table(version, layout, lam=lam)
+    table = theme_table(version, layout, lam=lam)
     selected = _shared.selected_theme(version)
 
     st.title("Theme map")
@@ -46,16 +47,16 @@ def render() -> None:
     )
 
     row = table[table["theme_id"] == _shared.selected_theme(version)].iloc[0]
-    st.subheader(f"Selected: {_shared.md_escape(row['name'])}")
+    st.subheader(f"Selected: {md_inline(row['name'])}")
     a, b, c = st.columns(3)
-    a.metric("Leads", _shared.percent(row["coverage"]), help="Share of transcripts it leads.")
+    a.metric("Leads", percent(row["coverage"]), help="Share of transcripts it leads.")
     b.metric(
         "Average share",
-        _shared.percent(row["mean_share"]),
+        percent(row["mean_share"]),
         help="Its average share across all transcripts.",
     )
     c.metric("Theme id", f"#{int(row['theme_id'])}")
-    st.caption(f"Top words: {_shared.md_escape(row['top_terms'])}")
+    st.caption(f"Top words: {md_inline(row['top_terms'])}")
     st.page_link("theme_cards.py", label="Open its card", icon=":material/label:")
     st.page_link("calls.py", label="Read the calls it leads", icon=":material/call:")
 

@@ -78,7 +78,7 @@ def report(
     ws = open_workspace(workspace)
     with progress_bar("report", enabled=not as_json) as update:
         path = write_report(
-            ws, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=staged(update)
+            ws, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=update
         )
     if as_json:
         emit_json({"out": str(path), "png_dir": None if png is None else str(png)})

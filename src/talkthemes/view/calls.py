@@ -1,0 +1,149 @@
+"""The data behind Calls: the transcripts of a theme, filtered, and the list as CSV."""
+
+from __future__ import annotations
+
+import datetime as dt
+import io
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from talkthemes.errors import InputError
+from talkthemes.text import csv_frame
+from talkthemes.versions import Version
+from talkthemes.view.metadata import MetaTable
+from talkthemes.view.themes import theme_names
+
+__all__ = ["CallFilter", "calls_csv", "calls_table"]
+
+
+@dataclass
+class CallFilter:
+    """Which transcripts the Calls section lists for a theme.
+
+    Attributes
+    ----------
+    min_share : float
+        Least share (0–1) of the theme in the transcript.
+    lead_only : bool
+        Only transcripts the theme leads (its coverage); False lists every transcript
+        where the theme's share reaches ``min_share``.
+    date_from, date_to : date, optional
+        Inclusive date range on the date field.
+    categories : dict of str to list of str
+        Allowed values per category field (an empty list allows all).
+    ranges : dict of str to (float, float)
+        Inclusive range per number field.
+    contains : dict of str to str
+        Case-insensitive text a text field must contain.
+    """
+
+    min_share: float = 0.0
+    lead_only: bool = True
+    date_from: dt.date | None = None
+    date_to: dt.date | None = None
+    categories: dict[str, list[str]] = field(default_factory=dict)
+    ranges: dict[str, tuple[float, float]] = field(default_factory=dict)
+    contains: dict[str, str] = field(default_factory=dict)
+
+
+def _field_mask(meta: MetaTable, flt: CallFilter) -> np.ndarray:
+    n = len(meta.frame)
+    mask = np.ones(n, dtype=bool)
+
+    def known(name: str, kinds: tuple[str, ...]) -> None:
+        info = meta.fields.get(name)
+        if info is None or info.kind not in kinds:
+            have = ", ".join(f"{f} ({i.kind})" for f, i in meta.fields.items()) or "none"
+            raise InputError(
+                f"calls filter: {name!r} is not a {' or '.join(kinds)} field (fields: {have})"
+            )
+
+    if flt.date_from is not None or flt.date_to is not None:
+        if meta.dates is None:
+            raise InputError("calls filter: a date range needs a date field in the metadata")
+        d = meta.dates
+        if flt.date_from is not None:
+            mask &= (d >= pd.Timestamp(flt.date_from)).to_numpy(dtype=bool, na_value=False)
+        if flt.date_to is not None:
+            mask &= (d <= pd.Timestamp(flt.date_to)).to_numpy(dtype=bool, na_value=False)
+    for name, allowed in flt.categories.items():
+        known(name, ("category", "text"))
+        if allowed:
+            mask &= meta.frame[name].isin([str(a) for a in allowed]).to_numpy(dtype=bool)
+    for name, (lo, hi) in flt.ranges.items():
+        known(name, ("number",))
+        values = meta.numbers[name]
+        with np.errstate(invalid="ignore"):
+            mask &= (values >= lo) & (values <= hi)
+    for name, text in flt.contains.items():
+        known(name, ("category", "text"))
+        if text:
+            col = meta.frame[name].astype("string")
+            hit = col.str.contains(text, case=False, regex=False)
+            mask &= hit.to_numpy(dtype=bool, na_value=False)
+    return mask
+
+
+def calls_table(
+    version: Version, meta: MetaTable, position: int, flt: CallFilter | None = None
+) -> pd.DataFrame:
+    """The transcripts of a theme, most dominated first.
+
+    Parameters
+    ----------
+    version : Version
+    meta : MetaTable
+        Aligned with ``version.doc_ids``.
+    position : int
+        The theme's row in the version.
+    flt : CallFilter, optional
+
+    Returns
+    -------
+    DataFrame
+        ``transcript_id, share`` (the theme's share, 0–1), ``lead_theme`` (name of the
+        transcript's lead theme), ``lead_share``, then one column per metadata field;
+        sorted by share (descending), then id.
+    """
+    flt = flt or CallFilter()
+    if not 0 <= position < version.k:
+        raise InputError(f"calls: theme row {position} is outside 0..{version.k - 1}")
+    if len(meta.frame) != len(version.doc_ids):
+        raise InputError(
+            f"calls: metadata has {len(meta.frame)} rows for {len(version.doc_ids)} transcripts"
+        )
+    shares = np.asarray(version.doc_topics[:, position], dtype=np.float64)
+    lead = version.lead()
+    mask = shares >= float(flt.min_share)
+    if flt.lead_only:
+        mask &= lead == position
+    mask &= _field_mask(meta, flt)
+    rows = np.flatnonzero(mask)
+    ids = np.asarray(version.doc_ids, dtype=object)[rows]
+    order = np.lexsort((ids.astype(str), -shares[rows]))
+    rows = rows[order]
+    names = np.asarray(theme_names(version), dtype=object)
+    out = pd.DataFrame(
+        {
+            "transcript_id": np.asarray(version.doc_ids, dtype=object)[rows],
+            "share": shares[rows],
+            "lead_theme": names[lead[rows]],
+            "lead_share": np.asarray(version.lead_share(), dtype=np.float64)[rows],
+        }
+    )
+    extra = meta.frame.iloc[rows].reset_index(drop=True)
+    return pd.concat([out, extra], axis=1)
+
+
+def calls_csv(frame: pd.DataFrame) -> bytes:
+    """The calls list as UTF-8 CSV, safe to open in a spreadsheet.
+
+    Text cells and column names that a spreadsheet would run as a formula (starting with
+    ``=``, ``+``, ``-``, ``@``, tab or carriage return) get a leading apostrophe
+    (:func:`talkthemes.text.csv_frame`); numbers are unchanged.
+    """
+    buf = io.StringIO()
+    csv_frame(frame).to_csv(buf, index=False)
+    return buf.getvalue().encode("utf-8")

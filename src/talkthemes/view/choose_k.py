@@ -1,0 +1,181 @@
+"""The data behind Choose K: a sweep's scored cells, its recommendations, a cell's themes."""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from talkthemes.errors import NotReadyError
+from talkthemes.sweep import seed_agreement
+from talkthemes.versions import pick_cell
+from talkthemes.workspace import Workspace
+
+__all__ = [
+    "CellThemes",
+    "SweepView",
+    "cell_themes",
+    "load_prep_vocabulary",
+    "load_sweep",
+    "scalar_columns",
+]
+
+
+@dataclass
+class SweepView:
+    """A sweep as the Choose K section shows it.
+
+    Attributes
+    ----------
+    sweep_id : int
+    prep_hash : str
+    folder : Path
+        ``sweeps/<id>``.
+    cells : DataFrame
+        One row per finished cell: ``cell, family, k, seed``, its metrics and
+        ``top_terms`` (term ids per theme).
+    recommendations : dict of str to dict
+        Per family, :class:`talkthemes.recommend.Recommendation` as a dict.
+    scored : bool
+        True when the scored cells (coherence, stability…) are on disk; False while a
+        sweep is running or was interrupted (fit measures only).
+    created_at : str
+    """
+
+    sweep_id: int
+    prep_hash: str
+    folder: Path
+    cells: pd.DataFrame
+    recommendations: dict[str, dict[str, Any]]
+    scored: bool
+    created_at: str
+
+    @property
+    def recommended(self) -> dict[str, int]:
+        """Recommended K per family."""
+        return {f: int(r["k"]) for f, r in self.recommendations.items()}
+
+    @property
+    def families(self) -> list[str]:
+        """Families in the sweep, LDA first."""
+        present = set(self.cells["family"])
+        return [f for f in ("lda", "nmf") if f in present]
+
+    def ks(self, family: str) -> list[int]:
+        """Topic counts swept for a family."""
+        return sorted(int(k) for k in set(self.cells.loc[self.cells["family"] == family, "k"]))
+
+
+def load_sweep(ws: Workspace, sweep_id: int | None = None) -> SweepView:
+    """Read a sweep (default: the latest) with its scored cells and recommendations.
+
+    Raises
+    ------
+    NotReadyError
+        When there is no sweep, or it has no finished cell yet.
+    """
+    with ws.store() as store:
+        record = store.get_sweep(sweep_id)
+        if record is None:
+            raise NotReadyError("no sweep yet: run 'talkthemes sweep' first")
+        raw = pd.DataFrame(store.cells(int(record["id"])))
+    if raw.empty:
+        raise NotReadyError(f"sweep {record['id']} has no finished cell yet")
+    folder = ws.sweeps_dir / str(record["id"])
+    path = folder / "cells.parquet"
+    if path.exists():
+        scored = pd.read_parquet(path)
+        cells = scored.merge(raw[["cell", "top_terms"]], on="cell", how="left")
+    else:
+        cells = raw
+    cells = cells.sort_values(["family", "k", "seed"]).reset_index(drop=True)
+    return SweepView(
+        sweep_id=int(record["id"]),
+        prep_hash=str(record["prep_hash"]),
+        folder=folder,
+        cells=cells,
+        recommendations=dict(record.get("recommendations") or {}),
+        scored=path.exists(),
+        created_at=str(record.get("created_at", "")),
+    )
+
+
+@dataclass
+class CellThemes:
+    """The themes of one sweep cell: ``frame`` has ``theme`` (1…K) and ``terms``."""
+
+    cell: str
+    family: str
+    k: int
+    seed: int
+    frame: pd.DataFrame
+
+
+def cell_themes(
+    ws: Workspace,
+    sweep: SweepView,
+    family: str,
+    k: int,
+    *,
+    n_terms: int = 8,
+    vocabulary: Sequence[str] | None = None,
+) -> CellThemes:
+    """Top terms (by probability) of each theme of the (family, K) cell that would be
+    published: the medoid seed, the one agreeing most with the other seeds.
+
+    Parameters
+    ----------
+    ws : Workspace
+    sweep : SweepView
+    family : str
+    k : int
+    n_terms : int
+        Terms per theme.
+    vocabulary : sequence of str, optional
+        The prep's vocabulary (read from ``prepared/<hash>/vocabulary.json`` if omitted).
+
+    Raises
+    ------
+    InputError
+        When the sweep has no such cell.
+    NotReadyError
+        When the prep's vocabulary is missing.
+    """
+    cells = sweep.cells
+    if "top_terms" in cells.columns and cells["top_terms"].notna().all():
+        cells = seed_agreement(cells)
+    row = pick_cell(cells, k=int(k), family=family, cell=None)
+    if vocabulary is None:
+        vocabulary = load_prep_vocabulary(ws, sweep.prep_hash)
+    path = sweep.folder / "topics" / f"{row['cell']}.npy"
+    if path.exists():
+        topics = np.load(path, allow_pickle=False)
+        order = np.argsort(-topics, axis=1, kind="stable")[:, :n_terms]
+    else:  # the cell's recorded top terms (already ranked by probability)
+        order = np.asarray(row["top_terms"], dtype=np.int64)[:, :n_terms]
+    terms = [", ".join(vocabulary[int(i)].replace("_", " ") for i in r) for r in order]
+    frame = pd.DataFrame({"theme": np.arange(1, len(terms) + 1), "terms": terms})
+    return CellThemes(str(row["cell"]), family, int(row["k"]), int(row["seed"]), frame)
+
+
+def load_prep_vocabulary(ws: Workspace, prep_hash: str) -> list[str]:
+    """The vocabulary of a prep (``prepared/<hash>/vocabulary.json``)."""
+    path = ws.prepared_dir / prep_hash / "vocabulary.json"
+    if not path.exists():
+        raise NotReadyError(f"{path} is missing: run 'talkthemes prepare' again")
+    return [str(t) for t in json.loads(path.read_text(encoding="utf-8"))]
+
+
+def scalar_columns(frame: pd.DataFrame) -> pd.DataFrame:
+    """The columns of a frame that hold single values (drops per-topic lists and the like)."""
+    keep = [
+        c
+        for c in frame.columns
+        if not frame[c].map(lambda v: isinstance(v, (list, tuple, np.ndarray, dict))).any()
+    ]
+    return frame[keep]

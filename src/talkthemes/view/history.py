@@ -1,0 +1,301 @@
+"""The data behind Refresh history: the versions' timeline, what each refresh changed.
+
+Inputs are what the store and a version's ``drift.json`` hold
+(:meth:`talkthemes.store.Store.versions`, :meth:`~talkthemes.store.Store.themes`,
+:meth:`~talkthemes.store.Store.retired_themes`, :func:`talkthemes.drift.drift_report`);
+outputs are plain frames and dataclasses the page shows (the timeline is drawn by
+:func:`talkthemes.charts.timeline_chart`). Only :func:`load_drift` reads a file. Theme names
+are the labels as they are now, or three top terms, so a label edited after a refresh shows
+here too.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import pandas as pd
+
+from talkthemes.errors import InputError
+from talkthemes.versions import theme_name  # compat: talkthemes.versions.naming after the merge
+from talkthemes.workspace import Workspace
+
+__all__ = [
+    "TIMELINE_COLUMNS",
+    "ThemeChange",
+    "VersionChanges",
+    "load_drift",
+    "new_theme_examples",
+    "report_top_terms",
+    "version_changes",
+    "versions_timeline",
+]
+
+#: The timeline's columns (what :func:`talkthemes.charts.timeline_chart` reads).
+TIMELINE_COLUMNS = [
+    "n",
+    "created_at",
+    "current",
+    "kind",
+    "family",
+    "k",
+    "previous_version",
+    "new_transcripts",
+]
+
+
+def versions_timeline(versions: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
+    """One row per version, oldest first, for the timeline.
+
+    Parameters
+    ----------
+    versions : sequence of mapping
+        As :meth:`talkthemes.store.Store.versions` returns them (``n``, ``created_at``,
+        ``current`` and the version's info, with a ``refresh`` block when a refresh made
+        it).
+
+    Returns
+    -------
+    DataFrame
+        ``n, created_at`` (naive local datetime), ``current`` (bool), ``kind``
+        (``"refresh"`` or ``"publish"``), ``family`` (upper case), ``k``,
+        ``previous_version`` and ``new_transcripts`` (``<NA>`` for a direct publish).
+
+    Raises
+    ------
+    InputError
+        When a version's ``created_at`` is not an ISO date-time.
+    """
+    rows = []
+    for v in versions:
+        refresh = v.get("refresh") or {}
+        try:
+            created = pd.Timestamp(str(v["created_at"]))
+        except (KeyError, ValueError) as exc:
+            raise InputError(
+                f"version {v.get('n')!r}: created_at {v.get('created_at')!r} is not an ISO "
+                "date-time"
+            ) from exc
+        if created.tzinfo is not None:
+            created = created.tz_convert(None)
+        rows.append(
+            {
+                "n": int(v["n"]),
+                "created_at": created,
+                "current": bool(v.get("current", False)),
+                "kind": "refresh" if refresh else "publish",
+                "family": str(v.get("family", "")).upper(),
+                "k": int(v["k"]) if v.get("k") is not None else pd.NA,
+                "previous_version": refresh.get("previous_version", pd.NA),
+                "new_transcripts": refresh.get("new_transcripts", pd.NA),
+            }
+        )
+    frame = pd.DataFrame(rows, columns=TIMELINE_COLUMNS)
+    frame["created_at"] = pd.to_datetime(frame["created_at"])
+    for col in ("k", "previous_version", "new_transcripts"):
+        frame[col] = frame[col].astype("Int64")
+    return frame.sort_values("n").reset_index(drop=True)
+
+
+@dataclass(frozen=True)
+class ThemeChange:
+    """One theme of a version's changes.
+
+    Attributes
+    ----------
+    theme_id : int
+    name : str
+        Its label, or its three top terms.
+    status : str
+        ``carried``, ``new`` or ``retired``.
+    detail : str
+        One plain sentence: what it continues, how far it moved, its closest match.
+    flags : list of str
+        Possible split or merge, in words.
+    """
+
+    theme_id: int
+    name: str
+    status: str
+    detail: str
+    flags: list[str] = field(default_factory=list)
+
+
+@dataclass(frozen=True)
+class VersionChanges:
+    """What a version carried over, added and retired."""
+
+    carried: list[ThemeChange]
+    new: list[ThemeChange]
+    retired: list[ThemeChange]
+
+    def ids(self, status: str) -> set[int]:
+        """Theme ids with a status (``carried``, ``new`` or ``retired``)."""
+        return {t.theme_id for t in getattr(self, status)}
+
+    @property
+    def flagged(self) -> list[ThemeChange]:
+        """Themes flagged as a possible split or merge."""
+        return [t for t in [*self.carried, *self.new] if t.flags]
+
+
+def _flags(info: Mapping[str, Any]) -> list[str]:
+    out = []
+    if info.get("possible_split_of"):
+        out.append(
+            "possibly split from previous theme "
+            + ", ".join(f"#{int(i)}" for i in info["possible_split_of"])
+        )
+    if info.get("possible_merge_of"):
+        out.append(
+            "possibly a merge of previous themes "
+            + ", ".join(f"#{int(i)}" for i in info["possible_merge_of"])
+        )
+    return out
+
+
+def _name(label: str, terms: Sequence[str] | None, theme_id: int) -> str:
+    if (label or "").strip() or terms:
+        return theme_name(label, list(terms or []))
+    return f"theme #{theme_id}"
+
+
+def version_changes(
+    themes: Sequence[Mapping[str, Any]],
+    retired: Sequence[Mapping[str, Any]],
+    top_terms: Mapping[int, Sequence[str]],
+) -> VersionChanges:
+    """Split a version's themes into carried, new and retired, with names and details.
+
+    Parameters
+    ----------
+    themes : sequence of mapping
+        :meth:`talkthemes.store.Store.themes` of the version (``theme_id``, ``status``,
+        ``label``, ``info`` with ``distance``, ``nearest_previous``,
+        ``possible_split_of``, ``possible_merge_of``).
+    retired : sequence of mapping
+        :meth:`talkthemes.store.Store.retired_themes` of the version (``theme_id``,
+        ``label``, ``info`` with ``top_terms``, ``coverage_before``, ``nearest_new``).
+    top_terms : mapping of int to sequence of str
+        Theme id → top terms, most probable first (from the drift report or the
+        version); a retired theme's own ``info["top_terms"]`` is used when missing here.
+
+    Returns
+    -------
+    VersionChanges
+        Each list in theme-id order.
+    """
+    carried, new, gone = [], [], []
+    for t in themes:
+        tid = int(t["theme_id"])
+        info = t.get("info") or {}
+        name = _name(t.get("label", ""), top_terms.get(tid), tid)
+        if t["status"] == "carried":
+            dist = info.get("distance")
+            detail = (
+                f"kept its id; its words moved by {float(dist):.3f} (Jensen–Shannon distance)"
+                if dist is not None
+                else "kept its id"
+            )
+            carried.append(ThemeChange(tid, name, "carried", detail, _flags(info)))
+        elif t["status"] == "new":
+            near = info.get("nearest_previous")
+            detail = (
+                f"closest previous theme #{int(near['theme_id'])} "
+                f"({near.get('name', '')}) at distance {float(near['distance']):.3f}"
+                if near
+                else "no previous version to compare with"
+            )
+            new.append(ThemeChange(tid, name, "new", detail, _flags(info)))
+        else:
+            raise InputError(f"theme {tid}: status {t['status']!r} is not 'carried' or 'new'")
+    for r in retired:
+        tid = int(r["theme_id"])
+        info = r.get("info") or {}
+        terms = top_terms.get(tid) or info.get("top_terms")
+        near = info.get("nearest_new")
+        detail = (
+            f"closest new theme #{int(near['theme_id'])} at distance {float(near['distance']):.3f}"
+            if near
+            else "no close theme in this version"
+        )
+        gone.append(ThemeChange(tid, _name(r.get("label", ""), terms, tid), "retired", detail))
+
+    def order(items: list[ThemeChange]) -> list[ThemeChange]:
+        return sorted(items, key=lambda c: c.theme_id)
+
+    return VersionChanges(order(carried), order(new), order(gone))
+
+
+def report_top_terms(report: Mapping[str, Any] | None) -> dict[int, list[str]]:
+    """Theme id → top terms of every theme and retired theme in a drift report."""
+    if not report:
+        return {}
+    return {
+        int(t["theme_id"]): list(t.get("top_terms") or [])
+        for t in [*report.get("themes", []), *report.get("retired", [])]
+    }
+
+
+def new_theme_examples(
+    report: Mapping[str, Any], labels: Mapping[int, str] | None = None
+) -> pd.DataFrame:
+    """The new transcripts that best show each new theme, from a drift report.
+
+    Parameters
+    ----------
+    report : mapping
+        A drift report (:func:`talkthemes.drift.drift_report`).
+    labels : mapping of int to str, optional
+        Current labels by theme id (the report's names are those at refresh time).
+
+    Returns
+    -------
+    DataFrame
+        ``theme_id, theme, transcript_id, share, excerpt``: one row per example, new
+        themes in id order, examples by decreasing share. Text is returned as is (the
+        page escapes it).
+    """
+    labels = labels or {}
+    rows = []
+    for t in sorted(report.get("themes", []), key=lambda t: int(t["theme_id"])):
+        if t.get("status") != "new":
+            continue
+        tid = int(t["theme_id"])
+        name = _name(labels.get(tid, t.get("label", "")), t.get("top_terms"), tid)
+        for e in sorted(t.get("examples") or [], key=lambda e: -float(e["share"])):
+            rows.append(
+                {
+                    "theme_id": tid,
+                    "theme": name,
+                    "transcript_id": str(e["transcript_id"]),
+                    "share": float(e["share"]),
+                    "excerpt": str(e.get("excerpt", "")),
+                }
+            )
+    return pd.DataFrame(rows, columns=["theme_id", "theme", "transcript_id", "share", "excerpt"])
+
+
+def load_drift(ws: Workspace, n: int) -> dict[str, Any] | None:
+    """Version ``n``'s ``drift.json``, or None when the version has none (not a refresh).
+
+    Raises
+    ------
+    InputError
+        When the file is not valid JSON or lacks the report's parts.
+    """
+    path = ws.versions_dir / str(n) / "drift.json"
+    if not path.exists():
+        return None
+    try:
+        report = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise InputError(f"{path}: cannot be read as JSON: {exc}") from exc
+    if not isinstance(report, dict):
+        raise InputError(f"{path}: a drift report must be a JSON object")
+    missing = [k for k in ("themes", "retired", "counts") if k not in report]
+    if missing:
+        raise InputError(f"{path}: the drift report lacks {', '.join(missing)}")
+    return report

@@ -1,0 +1,119 @@
+"""The transcripts' metadata, aligned with a version's transcripts, with each field's kind.
+
+A field is a date, a number, a category (at most :data:`MAX_CATEGORIES` distinct values)
+or free text; the Calls filters and the segment comparison offer what suits each kind.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from talkthemes.workspace import Workspace
+
+__all__ = ["MAX_CATEGORIES", "FieldInfo", "MetaTable", "load_metadata", "metadata_table"]
+
+#: Most distinct values a text field may have to be offered as a pick list / segment.
+MAX_CATEGORIES = 30
+
+
+@dataclass(frozen=True)
+class FieldInfo:
+    """A metadata field: its kind and what a filter can offer.
+
+    ``kind`` is ``"date"``, ``"number"``, ``"category"`` (at most :data:`MAX_CATEGORIES`
+    distinct values) or ``"text"``. ``values`` lists the categories (most frequent
+    first); ``lo``/``hi`` bound numbers and dates.
+    """
+
+    name: str
+    kind: str
+    values: tuple[str, ...] = ()
+    lo: Any = None
+    hi: Any = None
+    missing: int = 0
+
+
+@dataclass(eq=False)
+class MetaTable:
+    """Metadata aligned with a version's transcripts (row ``i`` = ``doc_ids[i]``).
+
+    Attributes
+    ----------
+    frame : DataFrame
+        One text column per field (missing values are ``None``).
+    fields : dict of str to FieldInfo
+    date_field : str or None
+        The field used for dates (``date`` when present, else the first date field).
+    dates : Series or None
+        Parsed dates (midnight, no time zone) of ``date_field``.
+    numbers : dict of str to ndarray
+        Parsed values of number fields (NaN when missing).
+    """
+
+    frame: pd.DataFrame
+    fields: dict[str, FieldInfo]
+    date_field: str | None
+    dates: pd.Series | None
+    numbers: dict[str, np.ndarray] = field(default_factory=dict)
+
+
+def metadata_table(doc_ids: Sequence[str], metadata: Mapping[str, Mapping[str, str]]) -> MetaTable:
+    """Build a :class:`MetaTable` from ``{transcript id: {field: value}}``."""
+    frame = pd.DataFrame.from_dict(dict(metadata), orient="index")
+    frame = frame.reindex(list(doc_ids)).reset_index(drop=True)
+    frame = frame.reindex(sorted(frame.columns), axis=1).astype(object)
+    frame = frame.where(frame.notna(), None)
+    fields: dict[str, FieldInfo] = {}
+    numbers: dict[str, np.ndarray] = {}
+    parsed_dates: dict[str, pd.Series] = {}
+    for name in frame.columns:
+        col = frame[name]
+        present = col.dropna()
+        missing = int(len(col) - len(present))
+        if present.empty:
+            continue
+        as_num = pd.to_numeric(present, errors="coerce")
+        if as_num.notna().all():
+            values = pd.to_numeric(col, errors="coerce").to_numpy(dtype=np.float64)
+            numbers[name] = values
+            fields[name] = FieldInfo(
+                name,
+                "number",
+                lo=float(np.nanmin(values)),
+                hi=float(np.nanmax(values)),
+                missing=missing,
+            )
+            continue
+        as_date = pd.to_datetime(present, errors="coerce", format="ISO8601")
+        if as_date.notna().all():
+            full = pd.to_datetime(col, errors="coerce", format="ISO8601")
+            if getattr(full.dt, "tz", None) is not None:
+                full = full.dt.tz_convert(None)
+            full = full.dt.normalize()
+            parsed_dates[name] = full
+            fields[name] = FieldInfo(
+                name, "date", lo=full.min().date(), hi=full.max().date(), missing=missing
+            )
+            continue
+        counts = present.astype(str).value_counts()
+        if len(counts) <= MAX_CATEGORIES:
+            fields[name] = FieldInfo(
+                name, "category", values=tuple(counts.index.astype(str)), missing=missing
+            )
+        else:
+            fields[name] = FieldInfo(name, "text", missing=missing)
+    date_field = "date" if "date" in parsed_dates else next(iter(parsed_dates), None)
+    dates = parsed_dates[date_field] if date_field is not None else None
+    return MetaTable(frame, fields, date_field, dates, numbers)
+
+
+def load_metadata(ws: Workspace, doc_ids: Sequence[str]) -> MetaTable:
+    """Read every transcript's metadata once and align it with ``doc_ids``."""
+    with ws.store() as store:
+        metadata = store.metadata_for(None)
+    return metadata_table(doc_ids, metadata)

@@ -1,0 +1,56 @@
+"""The versions' timeline: one dot per version where it was made, the current one ringed."""
+
+from __future__ import annotations
+
+import pandas as pd
+import pytest
+import tests.charts.spec as vl
+
+from talkthemes.charts import BLACK, BLUE, BLUISH_GREEN, timeline_chart
+from talkthemes.errors import InputError
+from talkthemes.view.history import versions_timeline
+
+VERSIONS = [
+    {"n": 1, "created_at": "2026-05-01T09:00:00", "current": False, "family": "nmf", "k": 8},
+    {
+        "n": 2,
+        "created_at": "2026-06-01T09:00:00+00:00",
+        "current": False,
+        "family": "nmf",
+        "k": 8,
+        "refresh": {"previous_version": 1, "new_transcripts": 120},
+    },
+    {
+        "n": 3,
+        "created_at": "2026-07-01T09:00:00",
+        "current": True,
+        "family": "nmf",
+        "k": 9,
+        "refresh": {"previous_version": 2, "new_transcripts": 80},
+    },
+]
+
+
+def test_one_dot_per_version_in_time_order_coloured_by_how_it_was_made() -> None:
+    spec = timeline_chart(versions_timeline(VERSIONS)).to_dict()
+    scene = vl.scene(spec)
+    (_, dots), *_ = [m for m in scene.of_type("symbol") if len(m[1]) == 3]
+    dots = sorted(dots, key=lambda d: d["x"])
+    assert [d["fill"] for d in dots] == [BLUE, BLUISH_GREEN, BLUISH_GREEN]
+    assert dots[0]["y"] > dots[1]["y"] > dots[2]["y"]  # later versions higher up
+    (_, ring), *_ = [m for m in scene.of_type("symbol") if len(m[1]) == 1]
+    assert ring[0]["stroke"] == BLACK and ring[0]["x"] == pytest.approx(dots[2]["x"])
+    ((_, words),) = scene.of_type("text")
+    assert [(w["text"], w["x"]) for w in words] == [("current", pytest.approx(dots[2]["x"]))]
+    rows = next(iter(spec["datasets"].values()))
+    assert [r["n"] for r in rows] == [1, 2, 3]
+    assert [r["current"] for r in rows] == [False, False, True]
+
+
+def test_a_timeline_without_its_columns_is_refused() -> None:
+    with pytest.raises(InputError, match="timeline lacks column\\(s\\) kind"):
+        timeline_chart(
+            pd.DataFrame({"n": [1], "created_at": [pd.Timestamp("2026-01-01")]}).assign(
+                current=True, family="NMF", k=5, previous_version=pd.NA, new_transcripts=pd.NA
+            )
+        )

@@ -1,0 +1,85 @@
+"""What the presentation packages may import, read from their source (an AST check).
+
+* ``view/`` is the data behind the sections: no Streamlit, no Altair, no charts, no app.
+* ``charts/`` draws frames: no Streamlit, no view, no app, nothing that reads a workspace.
+* The app and the report reach the prepare step only through
+  :func:`talkthemes.view.transcript.lemma_table`: ``view/transcript.py`` is the one
+  presentation module that imports ``talkthemes.prepare``.
+"""
+
+from __future__ import annotations
+
+import ast
+from pathlib import Path
+
+import pytest
+
+import talkthemes
+
+PACKAGE = Path(talkthemes.__file__).resolve().parent
+
+
+def imported_modules(path: Path) -> set[str]:
+    """Every module a file imports, at any depth (top level or inside a function)."""
+    found: set[str] = set()
+    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+        if isinstance(node, ast.Import):
+            found.update(alias.name for alias in node.names)
+        elif isinstance(node, ast.ImportFrom) and node.module and node.level == 0:
+            found.add(node.module)
+            found.update(f"{node.module}.{alias.name}" for alias in node.names)
+    return found
+
+
+def files(*parts: str) -> list[Path]:
+    where = PACKAGE.joinpath(*parts)
+    return sorted(where.rglob("*.py")) if where.is_dir() else [where]
+
+
+def offending(
+    paths: list[Path], forbidden: tuple[str, ...], root: Path = PACKAGE
+) -> dict[str, list[str]]:
+    """File (relative to ``root``) → the forbidden modules it imports."""
+    out = {}
+    for path in paths:
+        bad = sorted(
+            m
+            for m in imported_modules(path)
+            if any(m == f or m.startswith(f + ".") for f in forbidden)
+        )
+        if bad:
+            out[path.relative_to(root).as_posix()] = bad
+    return out
+
+
+def test_the_checker_sees_imports_at_any_depth(tmp_path: Path) -> None:
+    probe = tmp_path / "probe.py"
+    probe.write_text("import altair as alt\ndef f():\n    from streamlit import x\n")
+    assert imported_modules(probe) == {"altair", "streamlit", "streamlit.x"}
+    assert offending([probe], ("streamlit",), tmp_path) == {
+        "probe.py": ["streamlit", "streamlit.x"]
+    }
+    assert offending([probe], ("alt",), tmp_path) == {}  # a prefix of a name is not that name
+
+
+@pytest.mark.parametrize(
+    ("package", "forbidden"),
+    [
+        ("view", ("streamlit", "altair", "vl_convert", "talkthemes.charts", "talkthemes.app",
+                  "talkthemes.report", "talkthemes.render")),
+        ("charts", ("streamlit", "talkthemes.view", "talkthemes.app", "talkthemes.report",
+                    "talkthemes.store", "talkthemes.versions", "talkthemes.prepare")),
+    ],
+)  # fmt: skip
+def test_presentation_layers(package: str, forbidden: tuple[str, ...]) -> None:
+    assert offending(files(package), forbidden) == {}
+
+
+def test_only_the_transcript_view_asks_the_prepare_step() -> None:
+    presentation = [*files("app"), *files("report"), *files("view"), *files("charts")]
+    assert offending(presentation, ("talkthemes.prepare",)) == {
+        "view/transcript.py": [
+            "talkthemes.prepare.lemmas",
+            "talkthemes.prepare.lemmas.load_lemma_table",
+        ]
+    }

@@ -1,0 +1,33 @@
+"""The theme table and the themes' names (labels read fresh, three top terms until labelled)."""
+
+from __future__ import annotations
+
+import pandas as pd
+import pytest
+from tests.view.data import SHARES
+
+from talkthemes.versions import Version
+from talkthemes.view.theme_map import theme_layout
+from talkthemes.view.themes import theme_names, theme_table, with_names
+
+
+def test_theme_table_and_names(version: Version) -> None:
+    layout = theme_layout(version.topic_terms)
+    table = theme_table(version, layout, lam=1.0)
+    assert list(table["theme_id"]) == [11, 12, 13]
+    assert table["coverage"].tolist() == pytest.approx([3 / 6, 2 / 6, 1 / 6])
+    assert table["mean_share"].tolist() == pytest.approx(SHARES.mean(axis=0).tolist())
+    assert table["name"][0] == "Bills"
+    assert table["name"][1] == "power · outage · bill"  # three top terms until labelled
+    assert table["top_terms"][1].startswith("power, outage")
+    assert theme_names(version) == list(table["name"])
+    version.themes[1]["label"] = "Power cuts"
+    assert theme_names(version)[1] == "Power cuts"  # labels are read each time
+
+
+def test_with_names_refreshes_labels_and_hidden(version: Version) -> None:
+    frame = pd.DataFrame({"theme_id": [13, 11], "name": ["old", "old"], "share": [0.1, 0.2]})
+    version.themes[2]["hidden"] = True
+    out = with_names(frame, version)
+    assert list(out["name"]) == [theme_names(version)[2], "Bills"]
+    assert list(out["hidden"]) == [True, False]

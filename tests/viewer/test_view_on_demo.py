@@ -1,0 +1,62 @@
+"""The viewer's data on the published demo workspace: readiness, sweep, transcripts."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from talkthemes.errors import InputError
+from talkthemes.versions import load_version
+from talkthemes.view.calls import calls_table
+from talkthemes.view.choose_k import cell_themes, load_prep_vocabulary, load_sweep
+from talkthemes.view.metadata import load_metadata
+from talkthemes.view.readiness import readiness
+from talkthemes.view.transcript import TermHighlighter, load_transcript
+
+
+def test_readiness_of_the_demo_workspace(demo_ws) -> None:
+    r = readiness(demo_ws.ws)
+    assert r.has_workspace and r.transcripts == 401 and r.prepared
+    assert r.sweep_scored and r.version == 1
+    assert r.blocker("version") is None and r.blocker("sweep") is None and r.next_step is None
+
+
+def test_load_sweep_and_cell_themes(demo_ws) -> None:
+    sweep = load_sweep(demo_ws.ws)
+    assert sweep.scored and sweep.families == ["nmf"] and sweep.ks("nmf") == [5, 8]
+    assert len(sweep.cells) == 4 and {"c_npmi", "stability", "top_terms"} <= set(sweep.cells)
+    with demo_ws.ws.store() as store:
+        record = store.get_sweep()
+    assert sweep.recommended == {"nmf": record["recommendations"]["nmf"]["k"]}
+    cell = cell_themes(demo_ws.ws, sweep, "nmf", 8, n_terms=4)
+    assert cell.k == 8 and cell.cell.startswith("nmf-k008-s") and len(cell.frame) == 8
+    assert list(cell.frame["theme"]) == list(range(1, 9))
+    vocab = set(load_prep_vocabulary(demo_ws.ws, sweep.prep_hash))
+    for terms in cell.frame["terms"]:
+        words = terms.split(", ")
+        assert len(words) == 4 and all(w.replace(" ", "_") in vocab for w in words)
+    topics = np.load(sweep.folder / "topics" / f"{cell.cell}.npy")
+    top = np.argsort(-topics[0])[:4]
+    assert cell.frame["terms"][0] == ", ".join(
+        load_prep_vocabulary(demo_ws.ws, sweep.prep_hash)[i].replace("_", " ") for i in top
+    )
+    with pytest.raises(InputError, match="K=7"):
+        cell_themes(demo_ws.ws, sweep, "nmf", 7)
+
+
+def test_load_transcript(demo_ws) -> None:
+    turns = load_transcript(demo_ws.ws, demo_ws.xss_id, TermHighlighter(["power"]))
+    assert len(turns) == 7 and turns[0].speaker == "Customer" and turns[0].hits >= 2
+    with pytest.raises(InputError, match="no transcript 'missing'"):
+        load_transcript(demo_ws.ws, "missing", TermHighlighter([]))
+
+
+def test_demo_version_round_trip(demo_ws) -> None:
+    version = load_version(demo_ws.ws)
+    meta = load_metadata(demo_ws.ws, version.doc_ids)
+    assert len(meta.frame) == len(version.doc_ids) and meta.date_field == "date"
+    assert set(meta.fields) == {"channel", "date", "duration_s", "queue", "site"}
+    i = version.doc_ids.index(demo_ws.xss_id)
+    assert meta.frame["site"][i].startswith("Site <img")
+    total = sum(len(calls_table(version, meta, p)) for p in range(version.k))
+    assert total == len(version.doc_ids)  # every transcript has exactly one lead theme
