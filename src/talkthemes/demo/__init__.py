@@ -18,7 +18,8 @@ The package is split by responsibility:
 - :mod:`~talkthemes.demo.writer`: :func:`write_demo`, the corpus in mixed formats with a
   manifest and the answer key ``truth.csv`` outside the folder that gets ingested;
 - :mod:`~talkthemes.demo.planted`: planted corpora with a known answer for the quality
-  harness (a different invented scenario).
+  harness (a different invented scenario), and :mod:`~talkthemes.demo.harness`, which runs
+  them through the product and scores the themes (``bench/quality.py``).
 
 One ``random.Random(seed)`` stream composes the demo calls, so a (size, seed) pair always
 gives the same corpus.
