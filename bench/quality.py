@@ -3,7 +3,7 @@
 Usage::
 
     .venv/bin/python bench/quality.py [--reasons 6,10,16] [--seeds 2] [--calls N]
-                                      [--model-seeds 2] [--quick] [--json] [--keep DIR]
+                                      [--model-seeds 3] [--quick] [--json] [--keep DIR]
 
 For every planted setting (number of true reasons) and corpus seed: generate the corpus
 (:mod:`talkthemes.demo.planted`, an invented rail operator's customer line) in a temporary
@@ -220,13 +220,20 @@ def _print_summary(summary: pd.DataFrame, corpora: list[dict[str, Any]]) -> None
 
 
 def main() -> None:
+    from talkthemes.config import SweepSettings
+
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--reasons", default="6,10,16", help="true reason counts, e.g. 6,10,16")
     ap.add_argument("--seeds", type=int, default=2, help="planted corpora per reason count")
     ap.add_argument("--calls", type=int, default=0,
                     help=f"calls per corpus (default {_CALLS_PER_REASON} per reason, "
                          f"{_QUICK_CALLS_PER_REASON} with --quick)")  # fmt: skip
-    ap.add_argument("--model-seeds", type=int, default=2, help="sweep seeds per (family, K)")
+    ap.add_argument(
+        "--model-seeds",
+        type=int,
+        default=SweepSettings().seeds,
+        help="sweep seeds per (family, K); default: the product's [sweep] seeds",
+    )
     ap.add_argument("--families", default="lda,nmf")
     ap.add_argument("--secondary", type=float, default=0.25, help="share with a second reason")
     ap.add_argument("--short", type=float, default=0.04, help="share of short no-reason calls")
