@@ -36,6 +36,7 @@ import shutil
 import sys
 import tempfile
 import time
+from importlib.metadata import version
 from pathlib import Path
 from typing import Any
 
@@ -181,7 +182,10 @@ def summarise(corpora: list[dict[str, Any]]) -> pd.DataFrame:
             "ari_true_k": np.mean([b["ari"] for b in base]),
             "lead_max_rec_k": np.nan,
         })  # fmt: skip
-    return pd.DataFrame(out)
+    frame = pd.DataFrame(out)
+    for column in ("within_2", "weak"):  # counts; empty on the k-means rows
+        frame[column] = frame[column].astype("Int64")
+    return frame
 
 
 def _print_summary(summary: pd.DataFrame, corpora: list[dict[str, Any]], quick: bool) -> None:
@@ -274,7 +278,10 @@ def main() -> None:
             shutil.rmtree(base, ignore_errors=True)
     summary = summarise(corpora)
     minutes = (dt.datetime.now().astimezone() - started).total_seconds() / 60
-    machine = f"{platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}"
+    machine = (
+        f"{platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}, "
+        + ", ".join(f"{name} {version(name)}" for name in ("scikit-learn", "gensim", "spacy"))
+    )
     if args.json:
         doc = {"command": command, "date": started.isoformat(timespec="seconds"),
                "machine": machine, "minutes": round(minutes, 1), "quick": args.quick,
