@@ -16,6 +16,7 @@ from talkthemes.demo.planted import (
     MAX_REASONS,
     PlantedCall,
     PlantedSpec,
+    compose,
     iter_planted_calls,
     load_bank,
     planted_reasons,
@@ -75,7 +76,7 @@ def test_related_reasons_share_vocabulary_and_each_reason_has_its_own() -> None:
 
 def test_every_template_fills_and_has_no_colon() -> None:
     bank = load_bank()
-    c = planted._Call(Random(0), PlantedSpec(), {"agent": "Maren", "customer": "Una"})
+    c = compose._Call(Random(0), PlantedSpec(), {"agent": "Maren", "customer": "Una"})
 
     def strings(value: object) -> list[str]:
         if isinstance(value, str):

@@ -17,7 +17,7 @@ from talkthemes.demo.scenario import pick
 if TYPE_CHECKING:
     from talkthemes.demo.builder import Builder
 
-__all__ = ["GENERATED", "MEMO", "disfluent", "luhn_check_digit"]
+__all__ = ["GENERATED", "MEMO", "disfluent", "luhn_check_digit", "ordinal"]
 
 _MONTHS = ("January", "February", "March", "April", "May", "June", "July", "August",
            "September", "October", "November", "December")  # fmt: skip
@@ -26,7 +26,8 @@ MEMO = frozenset({"acct", "phone", "email", "card", "house", "street", "place", 
                   "branch", "daypart", "percent", "agent", "customer", "company"})  # fmt: skip
 
 
-def _ordinal(n: int) -> str:
+def ordinal(n: int) -> str:
+    """``1st``, ``2nd``, ``3rd``, ``11th``, ..."""
     suffix = "th" if 10 <= n % 100 <= 20 else {1: "st", 2: "nd", 3: "rd"}.get(n % 10, "th")
     return f"{n}{suffix}"
 
@@ -90,7 +91,7 @@ GENERATED: dict[str, Callable[[Builder], str]] = {
     "amount_small": lambda b: _money(b.rng, 12, 95),
     "amount_big": lambda b: _money(b.rng, 380, 1450),
     "house": lambda b: str(b.rng.randint(1, 140)),
-    "date_day": lambda b: _ordinal(b.rng.randint(1, 28)),
+    "date_day": lambda b: ordinal(b.rng.randint(1, 28)),
     "month_prev": lambda b: _MONTHS[(b.date.month - 2) % 12],
     "month_next": lambda b: _MONTHS[b.date.month % 12],
     "n_hundreds": lambda b: str(b.rng.randrange(3, 60) * 20),

@@ -1,182 +1,40 @@
-"""Planted corpora: invented calls whose true reasons are known, for measuring theme quality.
+"""Composing planted calls: boilerplate, reason talk, second reasons, short calls and noise.
 
-The scenario is not the demo's: it is the customer line of *Ambry Vale Railways*, an
-invented regional train operator (every name in it is made up). Its phrase bank
-(``talkthemes/data/planted_scenario.json``) holds 18 call reasons in a fixed order, each with
-several openings, caller details, agent explanations, question-and-answer pairs and reason
-vocabulary, and a list of related reasons that share words with it (refunds, delay claims and
-cancellations; the app and the online account; ticket machines, parking and penalty fares),
-so the task is not trivially separable. A corpus with ``reasons = n`` uses the first ``n``.
-
-Around the reason talk, a regular call carries agent boilerplate (greeting, recording notice,
-identity check, hold, closing, survey notice; switched off with ``boilerplate=False``),
-small talk shared by all reasons, and caller disfluency (fillers, repetitions, false starts).
-A share of regular calls adds a second reason (half the time a related one). A few percent
-are short calls that carry no reason: silent lines, wrong numbers, dropped calls and small
-talk. Optional ASR-like noise swaps homophones, transposes letters, drops and doubles words.
-
-:func:`write_planted` writes ``.txt`` transcripts (``Agent:``/``Customer:`` lines) and a
-manifest with dates that ingest reads, and the answer key ``truth.csv`` outside the folder
-that gets ingested: call id → kind, true reason, second reason (or none). One
-``random.Random(seed)`` stream drives everything, so a spec always gives the same files.
+One ``random.Random(spec.seed)`` stream drives everything, so a spec always gives the same
+calls.
 """
 
 from __future__ import annotations
 
-import contextlib
-import csv
 import datetime as dt
-import functools
-import io
 import itertools
-import json
 import math
 import re
 from collections.abc import Callable, Iterator
-from dataclasses import asdict, dataclass
-from importlib import resources
-from pathlib import Path
 from random import Random
-from typing import Any
 
+from talkthemes.demo.builder import Deck
+from talkthemes.demo.planted.bank import (
+    DAYS,
+    FIRST_DAY,
+    SHORT_KINDS,
+    PlantedCall,
+    PlantedSpec,
+    load_bank,
+    planted_reasons,
+)
 from talkthemes.demo.scenario import pick
-from talkthemes.demo.slots import disfluent
-from talkthemes.errors import InputError
+from talkthemes.demo.slots import disfluent, ordinal
 from talkthemes.ingest.model import normalised_hash
-from talkthemes.workspace import atomic_dir, atomic_write_text
 
-__all__ = [
-    "MAX_REASONS",
-    "PlantedCall",
-    "PlantedFiles",
-    "PlantedSpec",
-    "iter_planted_calls",
-    "load_bank",
-    "planted_reasons",
-    "read_truth",
-    "render_planted_txt",
-    "write_planted",
-]
+__all__ = ["iter_planted_calls"]
 
-FIRST_DAY = dt.date(2027, 2, 1)
-DAYS = 89  # to 2027-04-30
-KINDS = ("regular", "short")
-SHORT_KINDS = ("silent", "wrong_number", "dropped", "small_talk")
-TRUTH_COLUMNS = ("call_id", "date", "kind", "detail", "reason", "secondary_reason", "words")
 _WEEKDAY_WEIGHT = (1.2, 1.1, 1.0, 1.0, 1.0, 0.5, 0.3)
 _MEMO = frozenset({"agent", "customer", "company", "ref", "email", "plate", "station",
                    "station2", "time", "item", "colour"})  # fmt: skip
 _SLOT = re.compile(r"\{(\w+)\}")
 _CHOICE = re.compile(r"\[([^\[\]]*\|[^\[\]]*)\]")
 _LETTERS = "ABCDEFGHJKLMNPRSTVWXY"
-
-
-@functools.lru_cache(maxsize=1)
-def load_bank() -> dict[str, Any]:
-    """Return the planted scenario's phrase bank (``talkthemes/data/planted_scenario.json``)."""
-    data = resources.files("talkthemes").joinpath("data/planted_scenario.json")
-    return json.loads(data.read_text(encoding="utf-8"))
-
-
-#: The number of call reasons in the phrase bank.
-MAX_REASONS = 18
-
-
-def planted_reasons(n: int | None = None) -> dict[str, str]:
-    """The first ``n`` call reasons of the bank (all when ``None``): key → label, in order."""
-    reasons = load_bank()["reasons"]
-    keys = list(reasons)[: MAX_REASONS if n is None else n]
-    return {key: reasons[key]["label"] for key in keys}
-
-
-@dataclass(frozen=True, slots=True)
-class PlantedSpec:
-    """What a planted corpus looks like.
-
-    Attributes
-    ----------
-    reasons : int
-        Number of call reasons (2 to :data:`MAX_REASONS`); the first ones of the bank.
-    calls : int
-        Number of calls.
-    seed : int
-        Seed of the single random stream.
-    secondary : float
-        Share of regular calls that add a second reason.
-    short : float
-        Share of short calls without a reason (hang-ups, wrong numbers, small talk).
-    boilerplate : bool
-        Agent scripts around the reason talk (greeting, identity check, hold, closing).
-    fillers : float
-        Chance that a caller's turn is disfluent (fillers, repetitions, false starts).
-    noise : float
-        Per-word chance of an ASR-like error (homophone, transposed letters, dropped or
-        doubled word); 0 for clean text.
-    imbalance : float
-        Reason ``i`` (0-based, bank order) has weight ``(i + 1) ** -imbalance``; 0 = equal.
-    words : int
-        Median length of a regular call in words.
-    """
-
-    reasons: int = 6
-    calls: int = 600
-    seed: int = 0
-    secondary: float = 0.25
-    short: float = 0.04
-    boilerplate: bool = True
-    fillers: float = 0.85
-    noise: float = 0.0
-    imbalance: float = 0.3
-    words: int = 260
-
-    def __post_init__(self) -> None:
-        if not 2 <= self.reasons <= MAX_REASONS:
-            raise InputError(f"reasons must be 2 to {MAX_REASONS}, got {self.reasons}")
-        if self.calls < 1:
-            raise InputError(f"calls must be at least 1, got {self.calls}")
-        for name in ("secondary", "short", "fillers", "noise"):
-            value = getattr(self, name)
-            if not 0 <= value <= 1:
-                raise InputError(f"{name} must be a share between 0 and 1, got {value}")
-        if self.imbalance < 0 or self.words < 40:
-            raise InputError("imbalance must be ≥ 0 and words ≥ 40")
-
-
-@dataclass(frozen=True, slots=True)
-class PlantedCall:
-    """One planted call and its truth.
-
-    Attributes
-    ----------
-    call_id : str
-    date : datetime.date
-    kind : str
-        ``regular`` or ``short``.
-    detail : str
-        For short calls: ``silent``, ``wrong_number``, ``dropped`` or ``small_talk``.
-    reason, secondary : str
-        The true reason and the second reason; empty when there is none.
-    turns : tuple of (role, text)
-        ``role`` is ``agent`` or ``customer``.
-    """
-
-    call_id: str
-    date: dt.date
-    kind: str
-    detail: str
-    reason: str
-    secondary: str
-    turns: tuple[tuple[str, str], ...]
-
-    @property
-    def text(self) -> str:
-        """All turns' text joined by newlines."""
-        return "\n".join(text for _, text in self.turns)
-
-    @property
-    def word_count(self) -> int:
-        """Whitespace-separated words over all turns."""
-        return sum(len(text.split()) for _, text in self.turns)
 
 
 class _Call:
@@ -231,11 +89,6 @@ class _Call:
             self.say(role, pick(self.rng, self.bank["scripts"][name]))
 
 
-def _ordinal(n: int) -> str:
-    suffix = "th" if 10 <= n % 100 <= 20 else {1: "st", 2: "nd", 3: "rd"}.get(n % 10, "th")
-    return f"{n}{suffix}"
-
-
 def _plate(rng: Random) -> str:
     letters = [pick(rng, _LETTERS) for _ in range(5)]
     return f"{letters[0]}{letters[1]}{rng.randint(10, 79)} {''.join(letters[2:])}"
@@ -252,7 +105,7 @@ _GENERATED: dict[str, Callable[[Random, _Call], str]] = {
     "amount_small": lambda rng, _: f"${rng.uniform(4, 30):.2f}",
     "minutes": lambda rng, _: str(rng.randrange(15, 125, 5)),
     "digits": lambda rng, _: str(rng.randrange(10**5, 10**6)),
-    "date_day": lambda rng, _: _ordinal(rng.randint(1, 28)),
+    "date_day": lambda rng, _: ordinal(rng.randint(1, 28)),
     "n_group": lambda rng, _: str(rng.randint(10, 40)),
     "n_adults": lambda rng, _: str(rng.randint(2, 5)),
     "seat": lambda rng, _: str(rng.randint(1, 80)),
@@ -261,21 +114,11 @@ _GENERATED: dict[str, Callable[[Random, _Call], str]] = {
 }
 
 
-class _Deck:
-    """Draws without replacement, so a call does not repeat itself."""
-
-    def __init__(self, rng: Random, items: list[Any]) -> None:
-        self.rng, self.items = rng, list(items)
-
-    def draw(self) -> Any:
-        return self.items.pop(int(self.rng.random() * len(self.items)))
-
-
-def _section(c: _Call, key: str, budget: float, chat: _Deck) -> None:
+def _section(c: _Call, key: str, budget: float, chat: Deck) -> None:
     """Talk through one reason until about ``budget`` words have been spoken."""
     rng, reason = c.rng, c.bank["reasons"][key]
     c.local = reason["slots"]
-    qa, details, explain = (_Deck(rng, reason[k]) for k in ("qa", "details", "explain"))
+    qa, details, explain = (Deck(rng, reason[k]) for k in ("qa", "details", "explain"))
     start, n, held = c.words, 0, False
     while n < 2 or (c.words - start < budget and n < 20):
         x, n = rng.random(), n + 1
@@ -328,7 +171,7 @@ def _regular(c: _Call, reasons: tuple[str, ...]) -> None:
     c.script("agent", "section_start")
     remaining = max(target - c.words - 30, 40.0)
     share = 0.65 if len(reasons) > 1 else 1.0
-    chat = _Deck(rng, bank["chat"])
+    chat = Deck(rng, bank["chat"])
     _section(c, reasons[0], remaining * share, chat)
     if len(reasons) > 1:
         second = bank["reasons"][reasons[1]]
@@ -438,102 +281,3 @@ def iter_planted_calls(spec: PlantedSpec) -> Iterator[PlantedCall]:
             reason=reasons[0] if reasons else "", secondary=reasons[1] if len(reasons) > 1 else "",
             turns=turns,
         )  # fmt: skip
-
-
-def render_planted_txt(call: PlantedCall) -> str:
-    """A call as a ``.txt`` transcript: one ``Agent:`` or ``Customer:`` line per turn."""
-    return "".join(f"{role.capitalize()}: {text}\n" for role, text in call.turns)
-
-
-@dataclass(frozen=True, slots=True)
-class PlantedFiles:
-    """Where :func:`write_planted` put things.
-
-    Attributes
-    ----------
-    root : Path
-    exports : Path
-        The folder to ingest: ``calls/*.txt`` and ``manifest.csv``.
-    manifest : Path
-        ``exports/manifest.csv`` (``call_id, date``).
-    truth : Path
-        ``root/truth.csv``, the answer key (never ingested).
-    counts : dict of str to int
-        Calls per kind.
-    """
-
-    root: Path
-    exports: Path
-    manifest: Path
-    truth: Path
-    counts: dict[str, int]
-
-
-def _csv_text(rows: list[tuple[str, ...]]) -> str:
-    buffer = io.StringIO()
-    csv.writer(buffer, lineterminator="\n").writerows(rows)
-    return buffer.getvalue()
-
-
-def write_planted(out_dir: Path, spec: PlantedSpec) -> PlantedFiles:
-    """Write a planted corpus: transcripts and a manifest to ingest, and the answer key.
-
-    Layout::
-
-        out_dir/exports/calls/<call_id>.txt   Agent:/Customer: lines
-        out_dir/exports/manifest.csv          call_id, date
-        out_dir/truth.csv                     call_id, date, kind, detail, reason,
-                                              secondary_reason, words (never ingested)
-        out_dir/planted.json                  the spec, reason labels and counts
-
-    Parameters
-    ----------
-    out_dir : Path
-        A new or empty folder, or one holding earlier planted output (it is replaced).
-    spec : PlantedSpec
-
-    Returns
-    -------
-    PlantedFiles
-
-    Raises
-    ------
-    InputError
-        When ``out_dir`` holds something other than planted output.
-    """
-    out_dir = Path(out_dir)
-    if out_dir.exists() and (
-        not out_dir.is_dir()
-        or (any(out_dir.iterdir()) and not (out_dir / "planted.json").is_file())
-    ):
-        raise InputError(
-            f"{out_dir}: not an empty folder nor earlier planted output (planted.json); "
-            "choose an empty or new folder"
-        )
-    truth: list[tuple[str, ...]] = [TRUTH_COLUMNS]
-    manifest: list[tuple[str, ...]] = [("call_id", "date")]
-    counts = dict.fromkeys(KINDS, 0)
-    with contextlib.ExitStack() as stack:
-        exports = stack.enter_context(atomic_dir(out_dir / "exports"))
-        (exports / "calls").mkdir()
-        for call in iter_planted_calls(spec):
-            (exports / "calls" / f"{call.call_id}.txt").write_text(
-                render_planted_txt(call), encoding="utf-8", newline="\n"
-            )
-            manifest.append((call.call_id, call.date.isoformat()))
-            truth.append((call.call_id, call.date.isoformat(), call.kind, call.detail,
-                          call.reason, call.secondary, str(call.word_count)))  # fmt: skip
-            counts[call.kind] += 1
-        atomic_write_text(exports / "manifest.csv", _csv_text(manifest))
-    atomic_write_text(out_dir / "truth.csv", _csv_text(truth))
-    info = {"generator": "talkthemes.demo.planted", "spec": asdict(spec),
-            "reasons": planted_reasons(spec.reasons), "counts": counts}  # fmt: skip
-    atomic_write_text(out_dir / "planted.json", json.dumps(info, indent=2) + "\n")
-    root = out_dir / "exports"
-    return PlantedFiles(out_dir, root, root / "manifest.csv", out_dir / "truth.csv", counts)
-
-
-def read_truth(path: Path) -> list[dict[str, str]]:
-    """Read ``truth.csv`` back: one dict per call with the :data:`TRUTH_COLUMNS`."""
-    with Path(path).open(encoding="utf-8", newline="") as fh:
-        return list(csv.DictReader(fh))
