@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import csv
 import datetime as dt
+import hashlib
 import json
 import re
 import statistics
 from collections import Counter
 from pathlib import Path
+from random import Random
 
 import pytest
 
@@ -19,10 +21,14 @@ from talkthemes.demo import (
     REASONS,
     STORM_WEEK,
     DemoCall,
+    builder,
     iter_demo_calls,
     render_txt,
     render_vtt,
+    scenario,
+    slots,
     write_demo,
+    writer,
 )
 from talkthemes.errors import InputError
 from talkthemes.ingest.model import normalised_hash
@@ -79,6 +85,27 @@ def test_same_seed_gives_identical_bytes_and_other_seed_differs(tmp_path: Path) 
     assert set(a) != set(c) or any(a[k] != c[k] for k in a)
 
 
+#: SHA-256 over (relative path, bytes) of every file ``write_demo(size=200, seed=9,
+#: hold_back_last_month=True)`` writes, recorded from the single-module generator before it
+#: was split into the ``demo`` package. Change it only when the scenario changes on purpose.
+TREE_SHA256_200_9_HELD = "d73431079583271539af81aa2c76144fff3107b89677ff249d545bac6071a296"
+
+
+def _tree_sha256(root: Path) -> str:
+    digest = hashlib.sha256()
+    for path in sorted(root.rglob("*")):
+        if path.is_file():
+            digest.update(path.relative_to(root).as_posix().encode() + b"\0")
+            digest.update(path.read_bytes())
+    return digest.hexdigest()
+
+
+def test_output_is_byte_identical_to_the_recorded_generator(tmp_path: Path) -> None:
+    files = write_demo(tmp_path / "out", size=200, seed=9, hold_back_last_month=True)
+    assert files.turns is not None and files.inbox is not None  # every writer path is covered
+    assert _tree_sha256(files.root) == TREE_SHA256_200_9_HELD
+
+
 def test_committed_sample_matches_the_generator(tmp_path: Path) -> None:
     fresh = _tree(write_demo(tmp_path / "sample", size=40, seed=7).root)
     committed = _tree(SAMPLE)
@@ -91,7 +118,7 @@ def test_committed_sample_matches_the_generator(tmp_path: Path) -> None:
 
 
 def test_reason_frequencies_follow_the_scenario(calls: list[DemoCall]) -> None:
-    weights = {k: v["weight"] for k, v in demo._scenario()["reasons"].items()}
+    weights = {k: v["weight"] for k, v in scenario.load_scenario()["reasons"].items()}
     normal = [
         c for c in calls if c.kind == "regular" and _month(c) not in (PRICE_CHANGE_MONTH,)
         and not _in_storm(c.date) and c.date.month in (5, 9)
@@ -204,7 +231,7 @@ def test_card_numbers_pass_luhn_and_emails_use_reserved_domains(calls: list[Demo
 
 def test_luhn_helper_matches_known_values() -> None:
     # The check digit of 7992739871 is 3 (worked example of the Luhn algorithm, from memory).
-    assert demo._luhn_check_digit("7992739871") == "3"
+    assert slots.luhn_check_digit("7992739871") == "3"
     assert _luhn_ok("79927398713") and not _luhn_ok("79927398710")
 
 
@@ -222,11 +249,9 @@ def _strings(value: object) -> list[str]:
 
 
 def test_every_template_slot_resolves_and_no_colons() -> None:
-    sc = demo._scenario()
+    sc = scenario.load_scenario()
     assert tuple(sc["reasons"]) == REASONS
-    from random import Random
-
-    b = demo._Builder(Random(0), dt.date(2026, 10, 2), {"agent": "A", "customer": "C"},
+    b = builder.Builder(Random(0), dt.date(2026, 10, 2), {"agent": "A", "customer": "C"},
                       {"agent": "Maya", "customer": "Zoë", "company": sc["company"]})  # fmt: skip
     b.greeting = sc["scripts"]["greeting"][0]
     sections = [sc["slots"], sc["scripts"], sc["fillers"], sc["generic_pairs"]]
@@ -256,7 +281,7 @@ def test_reasons_have_labels_and_are_documented() -> None:
 
 
 def test_names_are_invented_sets() -> None:
-    sc = demo._scenario()
+    sc = scenario.load_scenario()
     agents = [n for roster in sc["sites"].values() for n in roster]
     assert len(set(agents)) == len(agents) >= 30
     assert len(set(sc["customers"])) >= 60
@@ -366,7 +391,7 @@ def test_per_turn_csv_is_split_into_parts_that_ingest_whole(
     from talkthemes.ingest.run import ingest
     from talkthemes.workspace import Workspace
 
-    monkeypatch.setattr(demo, "CSV_CALLS_PER_FILE", 20)
+    monkeypatch.setattr(writer, "CSV_CALLS_PER_FILE", 20)
     files = demo.write_demo(tmp_path / "out", size=300, seed=3)
     parts = sorted(files.exports.glob("turns*.csv"), key=lambda p: (p.name != "turns.csv", p.name))
     assert parts[0] == files.turns and len(parts) == -(-files.counts["csv"] // 20)
