@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import csv
+import io
 import json
 import os
 import signal
@@ -443,3 +444,19 @@ def test_manifest_changes_need_update_metadata(tmp_path: Path, exports: Path) ->
     assert any("'queue': 'billing' → 'cards'" in w["message"] for w in doc["warnings"])
     _, st = _json("status", "--workspace", ws)
     assert st["metadata_fields"]["queue"]["top"].get("billing") is None
+
+
+def test_rejects_csv_defuses_formulas_from_file_names(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # OWASP "CSV Injection": a cell starting with = + - @ is prefixed with a quote.
+    monkeypatch.chdir(tmp_path)
+    _call(tmp_path, "=HYPERLINK(1).txt", "")  # empty: rejected, its name goes to the CSV
+    code, _, _ = _run(
+        "ingest", "--create", "=HYPERLINK(1).txt", "--rejects", "rejects.csv", "-w", "w"
+    )
+    assert code == 3
+    text = (tmp_path / "rejects.csv").read_text(encoding="utf-8")
+    rows = list(csv.reader(io.StringIO(text)))
+    assert rows[0] == ["source", "row", "format", "reason"]
+    assert rows[1][0] == "'=HYPERLINK(1).txt"

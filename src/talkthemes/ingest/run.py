@@ -31,6 +31,7 @@ from talkthemes.ingest.metadata import MetadataChange, apply_manifest, unknown_i
 from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.progress import Progress
 from talkthemes.store import Store, TextMatch
+from talkthemes.text.escape import csv_cell
 from talkthemes.workspace import Workspace, atomic_write_text
 
 __all__ = ["IngestReport", "ingest", "reexport_rule", "write_rejects_csv"]
@@ -393,10 +394,16 @@ def _read_files(
 
 
 def write_rejects_csv(path: Path, rejects: Sequence[Reject]) -> None:
-    """Write one row per rejected input: source, row, format, reason (RFC 4180 CSV)."""
+    """Write one row per rejected input: source, row, format, reason (RFC 4180 CSV).
+
+    File names and reasons come from the inputs, so text cells that a spreadsheet would run
+    as a formula are defused (:func:`talkthemes.text.csv_cell`, OWASP CSV injection).
+    """
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\r\n")
     w.writerow(["source", "row", "format", "reason"])
     for r in rejects:
-        w.writerow([r.source, "" if r.row is None else r.row, r.format, r.reason])
+        w.writerow(
+            [csv_cell(r.source), "" if r.row is None else r.row, r.format, csv_cell(r.reason)]
+        )
     atomic_write_text(path, buf.getvalue())
