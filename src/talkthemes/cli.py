@@ -523,14 +523,8 @@ def publish(
             return
         if recommended:
             family, k = _recommended_cell(ws, family)
-        steps: dict[str, Any] = {}
         with _progress("publish", enabled=not as_json) as update:
-
-            def on_step(name: str, done: int, total: int) -> None:
-                steps["last"] = name
-                update(done, total, name)
-
-            result = run_publish(ws, k=k, family=family, cell=cell, progress=on_step)
+            result = run_publish(ws, k=k, family=family, cell=cell, progress=update)
     if as_json:
         _emit_json(result.to_json())
         return
@@ -791,9 +785,7 @@ def demo(
             _print_sweep(result)
         family, best_k = _recommended_cell(ws, None)
         with _progress("publish", enabled=not quiet) as update:
-            published = run_publish(
-                ws, k=best_k, family=family, progress=lambda s, d, t: update(d, t, s)
-            )
+            published = run_publish(ws, k=best_k, family=family, progress=update)
         doc["published"] = {"version": published.version, "family": family, "k": best_k}
         if refresh and files.inbox is not None:
             from talkthemes.refresh import refresh as run_refresh
