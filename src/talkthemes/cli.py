@@ -242,11 +242,21 @@ def _print_ingest_report(report: Any) -> None:
 # -- status --------------------------------------------------------------------------
 def status_data(ws: Workspace) -> dict[str, Any]:
     """Everything ``status`` shows, as a JSON-ready dict."""
+    from talkthemes.sweep.state import sweep_overview
+
     ws.require()
     with ws.store() as store:
         summary = store.summary()
         stages = store.stages()
-    return {"workspace": str(ws.root), **summary, "stages": stages}
+    sweeps = sweep_overview(ws)
+    if stages["swept"] and sweeps["latest"]:  # 'running' of a killed sweep reads interrupted
+        stages["swept"]["status"] = sweeps["latest"]["status"]
+    return {
+        "workspace": str(ws.root),
+        **summary,
+        "stages": stages,
+        "unfinished_sweeps": sweeps["unfinished"],
+    }
 
 
 @app.command()
@@ -305,6 +315,13 @@ def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
         out.print(
             f"[yellow]{data['interrupted_ingest_runs']} ingest run(s) did not finish[/]; "
             "what they stored is complete per transcript — re-run ingest to finish."
+        )
+    for u in data["unfinished_sweeps"]:
+        out.print(
+            f"[yellow]Sweep {u['id']} did not finish[/] ({u['status']}, {u['cells_done']} of "
+            f"{u['cells_total']} cells done); re-run to finish: {u['rerun']}",
+            highlight=False,
+            soft_wrap=True,  # one line: the command can be copied as it is
         )
     st = data["stages"]
     t = Table(title="Stages", title_justify="left")
@@ -494,6 +511,9 @@ def publish(
     recommended: Annotated[
         bool, typer.Option("--recommended", help="Publish the sweep's recommendation.")
     ] = False,
+    force: Annotated[
+        bool, typer.Option("--force", help="Publish again even if it is the current version.")
+    ] = False,
     workspace: WorkspaceOpt = None,
     wait: WaitOpt = False,
     as_json: JsonOpt = False,
@@ -524,14 +544,13 @@ def publish(
         if recommended:
             family, k = _recommended_cell(ws, family)
         with _progress("publish", enabled=not as_json) as update:
-            result = run_publish(ws, k=k, family=family, cell=cell, progress=update)
+            result = run_publish(ws, k=k, family=family, cell=cell, force=force, progress=update)
     if as_json:
         _emit_json(result.to_json())
         return
-    out.print(
-        f"Published version {result.version}: {result.family} K={result.k} "
-        f"(cell {result.cell}, fit in {result.fit_seconds:.1f} s)."
-    )
+    out.print(result.message, markup=False, highlight=False)
+    if result.status == "already_current":
+        return
     _print_themes(result.themes)
     err.print('Next: talkthemes label THEME_ID "Label"  ·  talkthemes view')
 

@@ -18,6 +18,7 @@ import contextlib
 import json
 import logging
 import os
+import time
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -26,14 +27,16 @@ from typing import Any
 import pandas as pd
 
 from talkthemes.config import SweepSettings, settings_from_dict
-from talkthemes.errors import NotReadyError
+from talkthemes.errors import ConfigError, NotReadyError
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.progress import Progress, report
 from talkthemes.sweep.cell import fit_cell
 from talkthemes.sweep.grid import CellSpec, build_cells, grid_key, parse_k
+from talkthemes.sweep.limits import PrepSize, check_k, check_memory
 from talkthemes.sweep.recommend import Recommendation, recommend
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
+from talkthemes.sweep.state import run_info
 from talkthemes.workspace import Workspace
 
 __all__ = ["SweepResult", "load_current_prep", "run_sweep", "sweep_settings"]
@@ -41,6 +44,18 @@ __all__ = ["SweepResult", "load_current_prep", "run_sweep", "sweep_settings"]
 log = logging.getLogger(__name__)
 
 _SWEEP_COLUMNS = ("id", "prep_hash", "created_at", "finished_at", "status")
+
+PAUSE_ENV = "TALKTHEMES_TEST_PAUSE_AT"
+PAUSE_SECONDS_ENV = "TALKTHEMES_TEST_PAUSE_SECONDS"
+
+
+def _checkpoint(stage: str) -> None:
+    """Test hook: sleep at ``stage`` (``sweep-cell``: after the first cell is recorded) when
+    ``TALKTHEMES_TEST_PAUSE_AT`` names it, so a test can kill the sweep exactly there."""
+    if os.environ.get(PAUSE_ENV) == stage:
+        seconds = float(os.environ.get(PAUSE_SECONDS_ENV, "120"))
+        log.warning("sweep paused at stage %s for %.0f s (%s)", stage, seconds, PAUSE_ENV)
+        time.sleep(seconds)
 
 
 def load_current_prep(ws: Workspace) -> tuple[dict[str, Any], Path]:
@@ -96,12 +111,27 @@ def sweep_settings(ws: Workspace, **updates: Any) -> SweepSettings:
 
 
 @contextlib.contextmanager
-def _client(scheduler: str, workers: int) -> Iterator[Any]:
+def _client(settings: SweepSettings) -> Iterator[Any]:
+    """A Dask client: of the scheduler at ``[sweep] scheduler``, or of a local cluster.
+
+    Raises
+    ------
+    ConfigError
+        When the scheduler does not answer within ``[sweep] scheduler_timeout`` seconds.
+    """
     # Deferred on purpose: distributed is heavy to import and only a running sweep needs it.
     from distributed import Client, LocalCluster
 
+    scheduler, workers = settings.scheduler, settings.workers
     if scheduler:
-        client = Client(scheduler, timeout="30s")
+        wait = settings.scheduler_timeout
+        try:
+            client = Client(scheduler, timeout=f"{wait}s")
+        except Exception as exc:  # refused, timed out, or not a Dask scheduler at all
+            raise ConfigError(
+                f"--scheduler {scheduler}: no Dask scheduler answered within {wait:g} s "
+                f"([sweep] scheduler_timeout): {type(exc).__name__}: {exc}"
+            ) from None
         try:
             yield client
         finally:
@@ -169,45 +199,98 @@ def run_sweep(
         ws, k=k, families=families, seeds=seeds, scheduler=scheduler, workers=workers
     )
     prep, prep_folder = load_current_prep(ws)
-    specs = build_cells(parse_k(settings.k), settings.families, settings.seeds)
+    ks = parse_k(settings.k)
+    specs = build_cells(ks, settings.families, settings.seeds)
+    corpus = PreparedCorpus.load(prep_folder)
+    size = PrepSize.of(corpus, settings)
+    check_k(ks, size, settings)
     key = grid_key(prep["hash"], specs, settings)
 
     with ws.store() as store:
+        store.mark_sweeps_interrupted()  # the caller holds the lock: none of them runs
         found = None if force else store.find_sweep(prep["hash"], key)
         if found is not None and found["status"] == "done":
-            sweep_id = found["id"]
-            folder = ws.sweeps_dir / str(sweep_id)
-            cached = _load_finished(folder, found)
+            cached = _load_finished(ws.sweeps_dir / str(found["id"]), found)
             if cached is not None:
                 return cached
+        done = {c["cell"] for c in store.cells(found["id"])} if found is not None else set()
+    todo = [s for s in specs if s.cell not in done]
+    reused = len(specs) - len(todo)
+    check_memory(todo, size, settings)
+    failed: list[dict[str, str]] = []
+    sweep_id: int | None = None
+    try:
+        if not todo:
+            assert found is not None  # every cell is recorded: only the scoring is left
+            sweep_id = _open_record(ws, found, prep["hash"], key, ks, settings)
+            report(progress, reused, len(specs), "resuming")
+        else:
+            # connect first: an unreachable scheduler leaves no sweep record behind
+            with _client(settings) as client:
+                sweep_id = _open_record(ws, found, prep["hash"], key, ks, settings)
+                folder = ws.sweeps_dir / str(sweep_id)
+                folder.mkdir(parents=True, exist_ok=True)
+                report(progress, reused, len(specs), "resuming" if reused else "starting")
+                failed = _run_cells(
+                    ws, client, sweep_id, folder, prep_folder, todo, settings, reused, len(specs),
+                    progress,
+                )  # fmt: skip
+        folder = ws.sweeps_dir / str(sweep_id)
+        return _score(ws, sweep_id, folder, corpus, specs, settings, reused, failed)
+    except BaseException:
+        # any stop (an error, Ctrl-C) leaves the sweep resumable: say so in its record
+        if sweep_id is not None:
+            with ws.store() as store:
+                if (store.get_sweep(sweep_id) or {}).get("status") == "running":
+                    store.set_sweep_status(sweep_id, "interrupted")
+        raise
+
+
+def _open_record(
+    ws: Workspace,
+    found: dict[str, Any] | None,
+    prep_hash: str,
+    key: str,
+    ks: list[int],
+    settings: SweepSettings,
+) -> int:
+    """Record a new sweep, or mark the one being resumed running again, with this process."""
+    with ws.store() as store:
         if found is None:
             info = {
                 "grid_key": key,
-                "k": parse_k(settings.k),
+                "k": ks,
                 "families": list(settings.families),
                 "seeds": settings.seeds,
                 "settings": settings.model_dump(),
+                "run": run_info(),
             }
-            sweep_id = store.start_sweep(prep["hash"], info)
-        else:
-            sweep_id = found["id"]
-        done = {c["cell"] for c in store.cells(sweep_id)}
-    folder = ws.sweeps_dir / str(sweep_id)
-    folder.mkdir(parents=True, exist_ok=True)
-    todo = [s for s in specs if s.cell not in done]
-    reused = len(specs) - len(todo)
-    failed: list[dict[str, str]] = []
-    report(progress, reused, len(specs), "resuming" if reused else "starting")
-    if todo:
-        failed = _run_cells(
-            ws, sweep_id, folder, prep_folder, todo, settings, reused, len(specs), progress
-        )
+            return store.start_sweep(prep_hash, info)
+        info = {k: v for k, v in found.items() if k not in _SWEEP_COLUMNS}
+        info["run"] = run_info()
+        store.set_sweep_status(found["id"], "running", info)
+        return int(found["id"])
 
-    corpus = PreparedCorpus.load(prep_folder)
+
+def _score(
+    ws: Workspace,
+    sweep_id: int,
+    folder: Path,
+    corpus: PreparedCorpus,
+    specs: list[CellSpec],
+    settings: SweepSettings,
+    reused: int,
+    failed: list[dict[str, str]],
+) -> SweepResult:
+    """Score the recorded cells, write ``cells.parquet``, and mark the sweep ``done`` when
+    every cell is in (``incomplete`` when some failed)."""
+    folder.mkdir(parents=True, exist_ok=True)
     train, _ = split_rows(corpus.doc_ids, settings.heldout_share)
     with ws.store() as store:
         cells = store.cells(sweep_id)
     if not cells:
+        with ws.store() as store:
+            store.set_sweep_status(sweep_id, "incomplete")
         raise NotReadyError("no cell of the sweep finished; see the errors above")
     frame = score_cells(
         cells,
@@ -228,6 +311,8 @@ def run_sweep(
             info = {k: v for k, v in record.items() if k not in _SWEEP_COLUMNS}
             info["recommendations"] = {f: r.to_dict() for f, r in recs.items()}
             store.finish_sweep(sweep_id, info)
+        else:
+            store.set_sweep_status(sweep_id, "incomplete")
     return SweepResult(sweep_id, folder, frame, recs, reused, False, failed, settings.rank_by)
 
 
@@ -243,6 +328,7 @@ def _load_finished(folder: Path, record: dict[str, Any]) -> SweepResult | None:
 
 def _run_cells(
     ws: Workspace,
+    client: Any,
     sweep_id: int,
     folder: Path,
     prep_folder: Path,
@@ -257,38 +343,38 @@ def _run_cells(
 
     failed: list[dict[str, str]] = []
     payload = settings.model_dump()
-    with _client(settings.scheduler, settings.workers) as client:
-        futures = {}
-        # Largest K first: they take longest, so the grid finishes sooner on few workers.
-        for spec in sorted(todo, key=lambda s: (-s.k, s.family, s.seed)):
-            fut = client.submit(
-                fit_cell,
-                str(prep_folder.resolve()),
-                str(folder.resolve()),
-                spec.family,
-                spec.k,
-                spec.seed,
-                payload,
-                settings.heldout_share,
-                key=f"talkthemes-sweep{sweep_id}-{spec.cell}",
-                pure=False,
-            )
-            futures[fut] = spec
-        done = done_before
-        try:
-            with ws.store() as store:
-                for fut in as_completed(list(futures)):
-                    spec = futures[fut]
-                    try:
-                        metrics = fut.result()
-                    except Exception as exc:  # one failing cell must not lose the others
-                        log.error("cell %s failed: %s", spec.cell, exc)
-                        failed.append({"cell": spec.cell, "error": f"{type(exc).__name__}: {exc}"})
-                        continue
-                    store.add_cell(sweep_id, spec.cell, spec.family, spec.k, spec.seed, metrics)
-                    done += 1
-                    report(progress, done, total, spec.cell)
-        except BaseException:
-            client.cancel(list(futures))
-            raise
+    futures = {}
+    # Largest K first: they take longest, so the grid finishes sooner on few workers.
+    for spec in sorted(todo, key=lambda s: (-s.k, s.family, s.seed)):
+        fut = client.submit(
+            fit_cell,
+            str(prep_folder.resolve()),
+            str(folder.resolve()),
+            spec.family,
+            spec.k,
+            spec.seed,
+            payload,
+            settings.heldout_share,
+            key=f"talkthemes-sweep{sweep_id}-{spec.cell}",
+            pure=False,
+        )
+        futures[fut] = spec
+    done = done_before
+    try:
+        with ws.store() as store:
+            for fut in as_completed(list(futures)):
+                spec = futures[fut]
+                try:
+                    metrics = fut.result()
+                except Exception as exc:  # one failing cell must not lose the others
+                    log.error("cell %s failed: %s", spec.cell, exc)
+                    failed.append({"cell": spec.cell, "error": f"{type(exc).__name__}: {exc}"})
+                    continue
+                store.add_cell(sweep_id, spec.cell, spec.family, spec.k, spec.seed, metrics)
+                done += 1
+                report(progress, done, total, spec.cell)
+                _checkpoint("sweep-cell")
+    except BaseException:
+        client.cancel(list(futures))
+        raise
     return failed

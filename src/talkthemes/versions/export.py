@@ -1,4 +1,5 @@
-"""Exporting a version: every transcript's lead theme, lead share and share per theme."""
+"""Exporting a version: every transcript's lead theme, lead share and share per theme,
+as CSV (spreadsheet-safe) or Parquet."""
 
 from __future__ import annotations
 
@@ -9,6 +10,7 @@ import numpy as np
 import pandas as pd
 
 from talkthemes.errors import ConfigError
+from talkthemes.text import csv_frame
 from talkthemes.versions.load import Version
 from talkthemes.workspace import atomic_write_bytes
 
@@ -39,10 +41,16 @@ def export_shares(version: Version) -> pd.DataFrame:
 
 
 def write_table(frame: pd.DataFrame, path: Path) -> None:
-    """Write a frame as CSV or Parquet (by extension), atomically."""
+    """Write a frame as CSV or Parquet (by extension), atomically.
+
+    A CSV is opened in spreadsheets, so every text cell that would start a formula (``=``,
+    ``+``, ``-``, ``@``, tab, carriage return) is prefixed with ``'``, as the OWASP guidance
+    on CSV injection advises (:func:`talkthemes.text.csv_frame`); Parquet keeps the values
+    as they are.
+    """
     suffix = path.suffix.lower()
     if suffix == ".csv":
-        atomic_write_bytes(path, frame.to_csv(index=False).encode("utf-8"))
+        atomic_write_bytes(path, csv_frame(frame).to_csv(index=False).encode("utf-8"))
     elif suffix == ".parquet":
         buf = io.BytesIO()
         frame.to_parquet(buf, index=False)
