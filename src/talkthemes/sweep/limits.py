@@ -22,7 +22,8 @@ Both are checked before any model is fitted (docs/methods.md, "Limits on K and m
   gradients and the SVD start: 48 bytes per (D + V) × K entry (35–44 measured);
 * the prep a worker holds: the count matrix three times (loaded, sliced, weighted) at
   12 bytes per non-zero, and the token stream at 4 bytes per token;
-* the worker process itself with its libraries: 400 MiB (about 350 measured).
+* the worker process itself with its libraries: 400 MiB (350–490 MiB measured with the data
+  of these runs loaded).
 
 The sum is compared with ``[sweep] worker_memory_gb`` (8 GiB: two workers on a 24 GiB
 machine leave room for the client, which scores the grid, and the system).
