@@ -35,8 +35,9 @@ def setup(root: Path, train: int, family: str, k: int) -> float:
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.sweep import load_current_prep
-    from talkthemes.versions import fit_version, write_version
+    from talkthemes.sweep.run import load_current_prep
+    from talkthemes.versions.fit import fit_version
+    from talkthemes.versions.write import write_version
     from talkthemes.workspace import Workspace
 
     t0 = time.perf_counter()

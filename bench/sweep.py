@@ -34,8 +34,9 @@ def main() -> None:
     from talkthemes.metrics.coherence import build_reference, score, union_of_topics
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.sweep import run_sweep, split_rows
-    from talkthemes.versions import publish
+    from talkthemes.sweep.run import run_sweep
+    from talkthemes.sweep.split import split_rows
+    from talkthemes.versions.publish import publish
     from talkthemes.workspace import Workspace
 
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])

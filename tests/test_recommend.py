@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from talkthemes.recommend import recommend, summarise_by_k
+from talkthemes.sweep.recommend import recommend, summarise_by_k
 
 
 def _cells(spec: dict[int, tuple[list[float], float]], family: str = "lda") -> pd.DataFrame:
@@ -84,7 +84,7 @@ def test_unknown_measure_is_refused() -> None:
 
 
 def test_best_family_prefers_stable_then_more_coherent() -> None:
-    from talkthemes.recommend import best_family
+    from talkthemes.sweep.recommend import best_family
 
     cells = pd.concat(
         [

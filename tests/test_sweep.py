@@ -14,8 +14,12 @@ from typer.testing import CliRunner
 
 from talkthemes.cli import app
 from talkthemes.errors import ConfigError, NotReadyError
-from talkthemes.sweep import build_cells, parse_k, run_sweep, split_rows
-from talkthemes.versions import export_shares, load_version, publish
+from talkthemes.sweep.grid import build_cells, parse_k
+from talkthemes.sweep.run import run_sweep
+from talkthemes.sweep.split import split_rows
+from talkthemes.versions.export import export_shares
+from talkthemes.versions.load import load_version
+from talkthemes.versions.publish import publish
 from talkthemes.workspace import Workspace
 
 

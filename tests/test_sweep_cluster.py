@@ -14,7 +14,7 @@ import pytest
 from tests.external.bars import make_bars_corpus, pixel_names
 from tests.support.preps import install_prep
 
-from talkthemes.sweep import run_sweep
+from talkthemes.sweep.run import run_sweep
 from talkthemes.workspace import Workspace
 
 DASK = Path(sys.executable).with_name("dask")
@@ -103,6 +103,6 @@ def test_sweep_on_an_external_scheduler_with_two_workers(tmp_path: Path, cluster
     from distributed import Client
 
     with Client(cluster) as c:  # both workers did work
-        logs = c.run(lambda: sorted(__import__("talkthemes.sweep").sweep._PREP_CACHE))
+        logs = c.run(lambda: sorted(__import__("talkthemes.sweep.cell").sweep.cell._PREP_CACHE))
     assert len(logs) == 2
     assert all(v for v in logs.values()), logs  # each worker loaded the prep from the path

@@ -14,7 +14,7 @@ from __future__ import annotations
 import json
 import logging
 import time
-from collections.abc import Callable, Iterable, Iterator, Sequence
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -25,7 +25,13 @@ import scipy.sparse as sp
 
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.frozen import AppliedBatch, PrepApplier, load_prep_spec
+from talkthemes.ingest.decode import check_fallback
+from talkthemes.ingest.detect import iter_files, read_file
 from talkthemes.ingest.model import Reject, Transcript, Warning_
+from talkthemes.ingest.run import ingest
+from talkthemes.progress import Progress, report
+from talkthemes.versions.export import write_table
+from talkthemes.versions.load import Version, load_version
 from talkthemes.workspace import Workspace
 
 __all__ = [
@@ -39,9 +45,6 @@ __all__ = [
 ]
 
 log = logging.getLogger(__name__)
-
-#: ``progress(done_transcripts, total (0 = unknown), current)``
-ProgressFn = Callable[[int, int, str], None]
 
 
 # -- inference -----------------------------------------------------------------------------
@@ -72,7 +75,7 @@ class ShareModel:
         self._lda: Any = None
 
     @classmethod
-    def from_version(cls, version: Any) -> ShareModel:
+    def from_version(cls, version: Version) -> ShareModel:
         """Load the state saved with a version (``.npy`` arrays and ``params.json``)."""
         folder = version.folder / "model"
         if not (folder / "params.json").is_file():
@@ -90,6 +93,8 @@ class ShareModel:
         if counts.shape[0] == 0:
             k = self.params.get("num_topics", self.params.get("k", 0))
             return np.zeros((0, int(k)), dtype=np.float64)
+        # Deferred on purpose: talkthemes.models loads gensim and scikit-learn (about a
+        # second), which reading the inputs and writing the table never need.
         if self.family == "lda":
             from talkthemes.models.lda import infer_doc_topics, restore_lda
 
@@ -211,9 +216,6 @@ def read_transcripts(
 ) -> Iterator[Transcript | Reject | Warning_]:
     """Every transcript, reject and warning in ``paths``, leaving out the files in ``skip``
     (manifests)."""
-    from talkthemes.ingest.decode import check_fallback
-    from talkthemes.ingest.detect import iter_files, read_file
-
     check_fallback(settings.encoding_fallback)
     skipped = {Path(p).resolve() for p in skip}
     for item in iter_files([Path(p) for p in paths], settings):
@@ -254,7 +256,7 @@ def assign(
     manifests: Sequence[Path] = (),
     version: int | None = None,
     batch_size: int = 250,
-    progress: ProgressFn | None = None,
+    progress: Progress | None = None,
 ) -> AssignResult:
     """Theme shares of the transcripts in ``paths`` under a version (default: current).
 
@@ -276,8 +278,8 @@ def assign(
     batch_size : int
         Transcripts prepared and inferred at a time (one process: on two cores, worker
         processes cost more to start than they save; see ``bench/assign.py``).
-    progress : callable, optional
-        ``progress(done, 0, current)``.
+    progress : Progress, optional
+        ``progress(done, 0, current)`` (the total is not known ahead).
 
     Returns
     -------
@@ -289,8 +291,6 @@ def assign(
         When no transcript was found in ``paths`` and nothing was rejected, or ``out`` is
         not a ``.csv`` or ``.parquet`` name.
     """
-    from talkthemes.versions import load_version, write_table
-
     if out.suffix.lower() not in (".csv", ".parquet"):
         raise InputError(f"--out {out}: expected a .csv or .parquet file name")
     t0 = time.perf_counter()
@@ -302,8 +302,6 @@ def assign(
     in_folders = folder_manifests(paths)
     stored = None
     if store:
-        from talkthemes.ingest.run import ingest
-
         stored = ingest(ws, list(paths), manifests=[*manifests, *in_folders]).to_json()
     rejects: list[Reject] = []
     warnings: list[Warning_] = []
@@ -314,8 +312,7 @@ def assign(
         applied = applier.apply(batch)
         frames.append(assign_frame(applied, model.shares(applied.counts), v.theme_ids, labels))
         done += len(applied.doc_ids)
-        if progress:
-            progress(done, 0, applied.doc_ids[-1] if applied.doc_ids else "")
+        report(progress, done, 0, applied.doc_ids[-1] if applied.doc_ids else "")
     if not frames:
         if not rejects:
             raise InputError(

@@ -282,6 +282,32 @@ class SweepSettings(_Section):
     )
     scheduler: str = Field("", description="Dask scheduler address; empty = a local cluster.")
     workers: int = Field(0, ge=0, description="Local cluster workers; 0 = one per core.")
+    scheduler_timeout: float = Field(
+        10.0,
+        gt=0,
+        description="Seconds to wait for the Dask scheduler at 'scheduler' to answer.",
+    )
+    min_calls_per_theme: int = Field(
+        5,
+        ge=1,
+        description=(
+            "K may not exceed the training calls divided by this (nor the terms, nor the calls "
+            "one cell fits on): a theme must be able to lead a few calls on average."
+        ),
+    )
+    worker_memory_gb: float = Field(
+        8.0,
+        gt=0,
+        description=(
+            "Memory one model fit may use (GiB; per Dask worker). A sweep or publish whose "
+            "estimated need is larger is refused before it starts."
+        ),
+    )
+    publish_seed: int = Field(
+        0,
+        ge=0,
+        description="Seed of the model 'publish --k K --family F' fits when no sweep holds it.",
+    )
 
 
 class RefreshSettings(_Section):

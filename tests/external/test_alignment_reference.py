@@ -29,9 +29,9 @@ from gensim.matutils import Sparse2Corpus
 from gensim.models import LdaModel
 from scipy.spatial.distance import jensenshannon
 
-from talkthemes.align import align_themes, calibrate_threshold
 from talkthemes.assign import ShareModel
 from talkthemes.models.lda import LdaTopics
+from talkthemes.versions.align import align_themes, calibrate_threshold
 
 # METHODS §11 topics over four words.
 A1 = [0.7, 0.2, 0.1, 0.0]

@@ -34,8 +34,9 @@ def published_root(tmp_path_factory: pytest.TempPathFactory, demo_files: DemoFil
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.sweep import load_current_prep
-    from talkthemes.versions import fit_version, write_version
+    from talkthemes.sweep.run import load_current_prep
+    from talkthemes.versions.fit import fit_version
+    from talkthemes.versions.write import write_version
 
     ws = Workspace(tmp_path_factory.mktemp("published") / "ws")
     ws.init()

@@ -6,8 +6,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from talkthemes.align import align_themes, calibrate_threshold
 from talkthemes.errors import InputError
+from talkthemes.versions.align import align_themes, calibrate_threshold
 
 
 def blocks(k: int, width: int, *, noise: float = 0.0, seed: int = 0) -> np.ndarray:

@@ -27,8 +27,11 @@ from talkthemes.frozen import (
     load_prep_spec,
 )
 from talkthemes.prepare.corpus import OOV, PreparedCorpus
-from talkthemes.sweep import load_current_prep
-from talkthemes.versions import export_shares, fit_version, load_version, write_version
+from talkthemes.sweep.run import load_current_prep
+from talkthemes.versions.export import export_shares
+from talkthemes.versions.fit import fit_version
+from talkthemes.versions.load import load_version
+from talkthemes.versions.write import write_version
 from talkthemes.workspace import Workspace
 
 register(cli.app)
@@ -226,8 +229,8 @@ def test_lda_shares_from_saved_state_match_the_fitted_model(
 ) -> None:
     """LDA: the shares assign infers from the version's .npy state are exactly those the
     fitted gensim model infers for the same rows and seed; two runs agree."""
+    from talkthemes.models.factory import make_model
     from talkthemes.models.lda import infer_doc_topics
-    from talkthemes.sweep import make_model
 
     ws = published
     prep, folder = load_current_prep(ws)

@@ -7,12 +7,16 @@ import re
 
 import numpy as np
 import pytest
+from markdown_it import MarkdownIt
 
-from talkthemes.align import align_themes
 from talkthemes.charts import drift_chart
-from talkthemes.drift import ThemeSide, drift_frame, drift_report, md_escape, render_markdown
 from talkthemes.errors import InputError
+from talkthemes.text import md_inline
+from talkthemes.versions.align import align_themes
+from talkthemes.versions.drift import ThemeSide, drift_frame, drift_report
+from talkthemes.versions.drift_markdown import render_markdown
 
+LABEL = "Billing <b>|</b> [x](http://e)"
 VOCAB = ["bill", "charge", "fee", "late", "leak", "pipe", "water", "meter", "read", "price"]
 
 
@@ -27,7 +31,7 @@ def _phi(weights: dict[str, float]) -> np.ndarray:
 def case() -> dict:
     old = ThemeSide(
         theme_ids=[1, 2, 3],
-        labels=["Billing <b>|</b> [x](http://e)", "", ""],
+        labels=[LABEL, "", ""],
         topic_terms=np.vstack(
             [
                 _phi({"bill": 5, "charge": 4, "fee": 3, "late": 2}),
@@ -48,7 +52,7 @@ def case() -> dict:
     )
     al = align_themes(old.topic_terms, VOCAB, new_topics, VOCAB, threshold=0.4)
     assert al.matched_old.tolist() == [1, 0, -1] and al.retired.tolist() == [2]
-    new = ThemeSide([2, 1, 4], ["", "Billing <b>|</b> [x](http://e)", ""], new_topics, VOCAB,
+    new = ThemeSide([2, 1, 4], ["", LABEL, ""], new_topics, VOCAB,
                     np.array([0.3, 0.4, 0.3]))  # fmt: skip
     rng = np.random.default_rng(0)
     theta = rng.dirichlet([1, 1, 1], size=40)
@@ -123,7 +127,20 @@ def test_markdown_is_readable_and_escaped(case: dict) -> None:
     assert "\\<b\\>" in md and "\\[x\\]" in md
     table_rows = [line for line in md.splitlines() if line.startswith("| 1 |")]
     assert len(table_rows) == 1 and table_rows[0].count(" | ") == 7  # pipes escaped
-    assert md_escape("a_b *c*\n#d") == "a\\_b \\*c\\* \\#d"
+    assert md_inline(LABEL) in md  # the one escaping every face uses
+
+
+def test_markdown_renders_user_text_literally(case: dict) -> None:
+    """Rendered as a Markdown viewer would (CommonMark with tables, markdown-it-py), the label
+    and the excerpt show as the text they are: no bold element, no link, no extra cell."""
+    html = MarkdownIt("commonmark").enable("table").render(render_markdown(case["report"]))
+    assert "<b>" not in html and "<a " not in html
+    assert "Billing &lt;b&gt;|&lt;/b&gt; [x](http://e)" in html
+    assert "I saw the &lt;price&gt; letter | twice" in html
+    assert "2026-11-02T03:00:00+00:00" in html  # the refresh time, unescaped once rendered
+    first_cell = '<td style="text-align:right">1</td>'
+    carried_rows = [row for row in html.split("<tr>") if first_cell in row]
+    assert len(carried_rows) == 1 and carried_rows[0].count("<td") == 8
 
 
 def test_report_rejects_shapes_that_do_not_fit(case: dict) -> None:

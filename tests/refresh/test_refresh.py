@@ -19,7 +19,7 @@ from talkthemes.config import render_settings, settings_from_dict
 from talkthemes.demo import DemoFiles
 from talkthemes.errors import NotReadyError
 from talkthemes.refresh import coherence_check, refresh
-from talkthemes.versions import load_version
+from talkthemes.versions.load import load_version
 from talkthemes.workspace import Workspace, atomic_write_text
 
 register(cli.app)
@@ -184,7 +184,7 @@ def test_resweep_runs_the_grid_and_publishes_its_recommendation(
 def test_coherence_drop_triggers_a_resweep(
     published: Workspace, demo_files: DemoFiles, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    import talkthemes.refresh as refresh_mod
+    import talkthemes.refresh.run as refresh_mod
 
     calls: list[tuple[str, str]] = []
 
@@ -241,7 +241,7 @@ def test_refresh_needs_a_published_version(ws: Workspace) -> None:
 def test_inbox_setting_is_read_and_a_missing_one_is_a_settings_error(
     published: Workspace, demo_files: DemoFiles
 ) -> None:
-    from talkthemes.refresh import _ingest_paths
+    from talkthemes.refresh.run import _ingest_paths
 
     (published.root / "inbox").mkdir()
     _set(published, "refresh", inbox="inbox")  # relative to the workspace folder

@@ -24,7 +24,7 @@ from typer.testing import CliRunner
 from talkthemes import cli
 from talkthemes.cli_refresh import register
 from talkthemes.demo import DemoFiles
-from talkthemes.versions import load_version
+from talkthemes.versions.load import load_version
 from talkthemes.workspace import Workspace
 
 register(cli.app)

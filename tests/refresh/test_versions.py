@@ -16,15 +16,10 @@ from talkthemes import cli
 from talkthemes.config import render_settings, settings_from_dict
 from talkthemes.errors import InputError, StoreError
 from talkthemes.store import SCHEMA_VERSION, Store
-from talkthemes.versions import (
-    FittedVersion,
-    ThemePlan,
-    fit_version,
-    load_version,
-    prune_versions,
-    remove_leftovers,
-    write_version,
-)
+from talkthemes.versions.fit import FittedVersion, fit_version
+from talkthemes.versions.load import load_version
+from talkthemes.versions.prune import prune_versions, remove_leftovers
+from talkthemes.versions.write import ThemePlan, write_version
 from talkthemes.workspace import Workspace, atomic_write_text
 
 

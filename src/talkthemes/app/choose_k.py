@@ -87,7 +87,7 @@ def _run_publish(ws: Workspace, family: str, k: int) -> None:
             with st.status(f"Publishing {label} …", expanded=True) as status:
                 bar = st.progress(0.0, text="Starting")
 
-                def step(name: str, done: int, total: int) -> None:
+                def step(done: int, total: int, name: str = "") -> None:
                     bar.progress(min(1.0, done / max(total, 1)), text=name.capitalize())
 
                 result = publish(ws, k=k, family=family, progress=step)

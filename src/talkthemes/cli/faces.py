@@ -77,9 +77,7 @@ def report(
         check_output(png, "--png", folder=True)
     ws = open_workspace(workspace)
     with progress_bar("report", enabled=not as_json) as update:
-        path = write_report(
-            ws, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=update
-        )
+        path = write_report(ws, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=update)
     if as_json:
         emit_json({"out": str(path), "png_dir": None if png is None else str(png)})
     else:
@@ -180,7 +178,7 @@ def _run_demo(
         print_sweep(result)
     family, best_k = recommended_cell(ws, None)
     with progress_bar("publish", enabled=not quiet) as update:
-        published = run_publish(ws, k=best_k, family=family, progress=staged(update))
+        published = run_publish(ws, k=best_k, family=family, progress=update)
     doc["published"] = {"version": published.version, "family": family, "k": best_k}
     if refresh and files.inbox is not None:
         from talkthemes.refresh import refresh as run_refresh

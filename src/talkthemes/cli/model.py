@@ -23,7 +23,6 @@ from talkthemes.cli._common import (
     out,
     progress_bar,
     say,
-    staged,
     writing,
 )
 from talkthemes.cli._shared import ThemesTable, print_sweep, recommended_cell
@@ -97,6 +96,9 @@ def publish(
     recommended: Annotated[
         bool, typer.Option("--recommended", help="Publish the sweep's recommendation.")
     ] = False,
+    force: Annotated[
+        bool, typer.Option("--force", help="Publish again even if it is the current version.")
+    ] = False,
     workspace: WorkspaceOpt = None,
     wait: WaitOpt = False,
     as_json: JsonOpt = False,
@@ -116,15 +118,13 @@ def publish(
         from talkthemes.versions import publish as run_publish
 
         with progress_bar("publish", enabled=not as_json) as update:
-            result = run_publish(ws, k=k, family=family, cell=cell, progress=staged(update))
+            result = run_publish(ws, k=k, family=family, cell=cell, force=force, progress=update)
     if as_json:
         emit_json(result.to_json())
         return
-    say(
-        f"Published version {result.version}: {result.family} K={result.k} "
-        f"(cell {result.cell}, fit in {result.fit_seconds:.1f} s).",
-        console=out,
-    )
+    say(result.message, console=out)
+    if result.status == "already_current":
+        return
     out.print(ThemesTable(result.themes))
     say('Next: talkthemes label THEME_ID "Label"  ·  talkthemes view')
 

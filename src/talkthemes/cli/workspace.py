@@ -43,11 +43,22 @@ def init(
 
 def status_data(ws: Workspace) -> dict[str, Any]:
     """Everything ``status`` shows, as a JSON-ready dict."""
+    # deferred: the sweep package pulls in Dask and the models (see module doc)
+    from talkthemes.sweep.state import sweep_overview
+
     ws.require()
     with ws.store() as store:
         summary = store.summary()
         stages = store.stages()
-    return {"workspace": str(ws.root), **summary, "stages": stages}
+    sweeps = sweep_overview(ws)
+    if stages["swept"] and sweeps["latest"]:  # 'running' of a killed sweep reads interrupted
+        stages["swept"]["status"] = sweeps["latest"]["status"]
+    return {
+        "workspace": str(ws.root),
+        **summary,
+        "stages": stages,
+        "unfinished_sweeps": sweeps["unfinished"],
+    }
 
 
 def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
@@ -96,6 +107,13 @@ def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
         say(
             (f"{data['interrupted_ingest_runs']} ingest run(s) did not finish", "yellow"),
             "; what they stored is complete per transcript — re-run ingest to finish.",
+            console=out,
+        )
+    for u in data["unfinished_sweeps"]:
+        say(
+            (f"Sweep {u['id']} did not finish", "yellow"),
+            f" ({u['status']}, {u['cells_done']} of {u['cells_total']} cells done); "
+            f"re-run to finish: {u['rerun']}",
             console=out,
         )
     out.print(_stages(data["stages"]))

@@ -96,6 +96,31 @@ class SweepsMixin(StoreBase):
                 (now_iso(), json.dumps(info), sweep_id),
             )
 
+    def set_sweep_status(
+        self, sweep_id: int, status: str, info: dict[str, Any] | None = None
+    ) -> None:
+        """Set a sweep's status (``running``, ``interrupted``, ``incomplete``), and its info
+        when given."""
+        with self.transaction() as c:
+            if info is None:
+                c.execute("UPDATE sweeps SET status=? WHERE id=?", (status, sweep_id))
+            else:
+                c.execute(
+                    "UPDATE sweeps SET status=?, info=? WHERE id=?",
+                    (status, json.dumps(info), sweep_id),
+                )
+
+    def mark_sweeps_interrupted(self) -> list[int]:
+        """Mark every sweep still ``running`` as ``interrupted`` and return their ids.
+
+        Sweeps run under the workspace lock, so one still running when the next starts (or
+        when its own process is gone) was killed.
+        """
+        with self.transaction() as c:
+            ids = [r[0] for r in c.execute("SELECT id FROM sweeps WHERE status='running'")]
+            c.execute("UPDATE sweeps SET status='interrupted' WHERE status='running'")
+        return ids
+
     def get_sweep(self, sweep_id: int | None = None) -> dict[str, Any] | None:
         """A sweep by id, or the latest one; None when there is none."""
         if sweep_id is None:

@@ -1,0 +1,165 @@
+"""The refresh's drift step: the report of what moved, the theme plan, the drift files.
+
+The report compares the new version's themes with the current version's
+(:func:`talkthemes.versions.drift.drift_report`); the plan says which rows carry which theme
+id and which themes retire (:class:`talkthemes.versions.write.ThemePlan`); the files are
+``drift.json``, ``drift.md`` (:mod:`talkthemes.versions.drift_markdown`) and ``drift.png``.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+from collections.abc import Callable, Sequence
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from talkthemes.prepare.corpus import PreparedCorpus
+from talkthemes.prepare.scrub import scrub
+from talkthemes.versions.align import Alignment, Calibration
+from talkthemes.versions.drift import ThemeSide, best_examples, drift_frame, drift_report
+from talkthemes.versions.drift_markdown import render_markdown
+from talkthemes.versions.fit import FittedVersion
+from talkthemes.versions.load import Version
+from talkthemes.versions.write import ExtraFiles, ThemePlan
+from talkthemes.workspace import Workspace
+
+__all__ = ["DriftPng", "default_drift_png", "drift_files", "drift_of", "excerpt", "theme_plan"]
+
+#: ``drift_png(report) -> bytes``: the drift chart of a report as PNG.
+DriftPng = Callable[[dict[str, Any]], bytes]
+
+
+def excerpt(turns: Sequence[tuple[str, str]], scrub_on: bool, width: int = 200) -> str:
+    """The start of a transcript's customer turns (all turns when none is labelled so),
+    scrubbed of personal data when the prep scrubs."""
+    spoken = [t for role, t in turns if role == "customer"] or [t for _, t in turns]
+    text = " ".join(" ".join(spoken).split())
+    if scrub_on:
+        text = scrub(text)[0]
+    text = " ".join(text.split())
+    return text if len(text) <= width else text[: width - 1].rstrip() + "…"
+
+
+def drift_of(
+    ws: Workspace,
+    current: Version,
+    fitted: FittedVersion,
+    alignment: Alignment,
+    calibration: Calibration,
+    theme_ids: list[int],
+    new_ids: Sequence[str],
+    corpus: PreparedCorpus,
+) -> dict[str, Any]:
+    """The drift report of the new version (its number is filled in when it is written)."""
+    with ws.store() as store:
+        labels = {t["theme_id"]: t["label"] for t in store.themes(current.n)}
+    old_side = ThemeSide(
+        current.theme_ids,
+        [t["label"] for t in current.themes],
+        np.asarray(current.topic_terms),
+        current.vocabulary,
+        current.coverage(),
+    )
+    theta = fitted.doc_topics
+    coverage = np.bincount(np.argmax(theta, axis=1), minlength=fitted.k) / max(1, len(theta))
+    new_side = ThemeSide(
+        theme_ids,
+        [labels.get(t, "") for t in theme_ids],
+        np.asarray(fitted.topic_terms),
+        fitted.vocabulary,
+        coverage,
+    )
+    new_set = set(new_ids)
+    is_new = np.array([d in new_set for d in corpus.doc_ids], dtype=bool)
+    # excerpts of the transcripts shown for each new theme, scrubbed like the prep
+    wanted = sorted(
+        {
+            e["transcript_id"]
+            for j in alignment.new.tolist()
+            for e in best_examples(theta[:, j], is_new, corpus.doc_ids)
+        }
+    )
+    scrub_on = bool(fitted.info["prepare_settings"].get("scrub", True))
+    with ws.store() as store:
+        snippets = {t: excerpt(turns, scrub_on) for t, turns in store.turns_for(wanted)}
+    return drift_report(
+        old_side,
+        new_side,
+        alignment,
+        doc_topics=theta,
+        doc_ids=corpus.doc_ids,
+        is_new=is_new,
+        version=None,
+        previous_version=current.n,
+        calibration=calibration.to_json(),
+        snippets=snippets,
+        created_at=dt.datetime.now().astimezone().isoformat(timespec="seconds"),
+    )
+
+
+def theme_plan(report: dict[str, Any]) -> ThemePlan:
+    """Theme ids, statuses and what each theme row and each retired theme records."""
+    prev = report["previous_version"]
+    keys = ("distance", "nearest_previous", "possible_split_of", "possible_merge_of")
+    info = [
+        {"previous_version": prev, **{k: t[k] for k in keys if t.get(k) is not None}}
+        for t in report["themes"]
+    ]
+    retired = [
+        {
+            "theme_id": r["theme_id"],
+            "info": {
+                "previous_version": prev,
+                **{k: r[k] for k in ("top_terms", "coverage_before", "nearest_new")},
+            },
+        }
+        for r in report["retired"]
+    ]
+    return ThemePlan(
+        [t["theme_id"] for t in report["themes"]],
+        [t["status"] for t in report["themes"]],
+        info,
+        retired,
+    )
+
+
+def drift_files(report: dict[str, Any], drift_png: DriftPng | None = None) -> ExtraFiles:
+    """The writer of ``drift.json``, ``drift.md`` and ``drift.png`` into a version folder.
+
+    Parameters
+    ----------
+    report : dict
+        The drift report; its ``version`` is set to the version's number when written.
+    drift_png : callable, optional
+        ``drift_png(report) -> bytes``, the PNG of the drift chart; by default
+        :func:`default_drift_png`.
+    """
+    render_png = drift_png or default_drift_png
+
+    def write(folder: Path, n: int, ids: list[int]) -> None:
+        report["version"] = n
+        (folder / "drift.json").write_text(
+            json.dumps(report, indent=1, ensure_ascii=False), encoding="utf-8"
+        )
+        (folder / "drift.md").write_text(render_markdown(report), encoding="utf-8")
+        (folder / "drift.png").write_bytes(render_png(report))
+
+    return write
+
+
+def default_drift_png(report: dict[str, Any]) -> bytes:
+    """The drift chart as PNG bytes, drawn by the presentation layer.
+
+    The one place the refresh reaches into presentation: the faces should pass their own
+    ``drift_png`` to :func:`talkthemes.refresh.refresh`; this default keeps the file being
+    written until they do.
+    """
+    # Deferred on purpose: Altair and the PNG renderer are heavy and belong to the
+    # presentation layer; only this default renderer needs them.
+    from talkthemes.charts import drift_chart
+    from talkthemes.render import chart_png
+
+    return chart_png(drift_chart(drift_frame(report)))

@@ -1,0 +1,247 @@
+"""Recommending a topic count from a sweep's metrics: a documented rule with its reasons.
+
+The rule, per model family:
+
+1. Summarise each K over its seeds: mean and standard error of the ranking coherence
+   (C_NPMI by default), the seed-to-seed stability, mean topic diversity, and the fit
+   measure (held-out perplexity for LDA, reconstruction error for NMF).
+2. A K is *eligible* when its stability reaches ``stability_min``: topics that change
+   with the random seed cannot be labelled and tracked. When no K is eligible, every K
+   is considered and the recommendation says it is weak.
+3. Among eligible K, find the best mean coherence. Recommend the **smallest** eligible K
+   whose mean coherence is within one standard error of that best — the one-standard-error
+   rule (Breiman, Friedman, Olshen & Stone 1984; Hastie, Tibshirani & Friedman 2009, §7.10):
+   when the data cannot tell two K apart, prefer the one with fewer themes to read.
+
+The result is never a bare number: it carries the reasons and the runners-up.
+
+References
+----------
+Breiman, L., Friedman, J., Olshen, R., Stone, C. (1984). *Classification and Regression
+Trees*. Wadsworth.
+Hastie, T., Tibshirani, R., Friedman, J. (2009). *The Elements of Statistical Learning*,
+2nd ed., Springer, §7.10.
+Lau, J. H., Newman, D., Baldwin, T. (2014). Machine Reading Tea Leaves. EACL 2014
+(NPMI tracks human coherence ratings best among the automatic measures they compared).
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, field
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+__all__ = ["RANKABLE", "Recommendation", "best_family", "recommend", "summarise_by_k"]
+
+#: Coherence measures a recommendation can rank by, with "higher is better" for all.
+RANKABLE = ("c_npmi", "c_v", "c_uci", "u_mass")
+
+_FIT_COLUMN = {"lda": "perplexity", "nmf": "reconstruction_error"}
+_FIT_NAME = {"perplexity": "held-out perplexity", "reconstruction_error": "reconstruction error"}
+
+
+@dataclass(frozen=True)
+class Recommendation:
+    """A recommended K for one family, with the reasons and the runners-up.
+
+    Attributes
+    ----------
+    family : str
+    k : int
+        The recommended topic count.
+    rank_by : str
+        The coherence measure the rule ranked by.
+    weak : bool
+        True when no K reached the stability threshold.
+    rule : str
+        The rule in one sentence.
+    reasons : list of str
+        Why this K, in plain words with the numbers.
+    runners_up : list of dict
+        Other K worth a look: ``k``, ``coherence``, ``stability`` and ``why_not``.
+    """
+
+    family: str
+    k: int
+    rank_by: str
+    weak: bool
+    rule: str
+    reasons: list[str] = field(default_factory=list)
+    runners_up: list[dict[str, Any]] = field(default_factory=list)
+
+    def to_dict(self) -> dict[str, Any]:
+        """A JSON-ready dict."""
+        return asdict(self)
+
+
+def summarise_by_k(cells: pd.DataFrame, rank_by: str = "c_npmi") -> pd.DataFrame:
+    """Per (family, K): mean and standard error of ``rank_by``, and means of other metrics.
+
+    Parameters
+    ----------
+    cells : DataFrame
+        One row per cell with columns ``family``, ``k``, ``seed``, ``rank_by`` and any of
+        ``stability``, ``diversity``, ``perplexity``, ``reconstruction_error``.
+    rank_by : str
+        The coherence column to summarise with a standard error.
+
+    Returns
+    -------
+    DataFrame
+        Columns ``family, k, seeds, coherence, coherence_se`` plus the mean of each
+        other metric present.
+    """
+    if rank_by not in cells.columns:
+        raise KeyError(f"cells have no column {rank_by!r}")
+    rows = []
+    for (family, k), g in cells.groupby(["family", "k"], sort=True):
+        vals = g[rank_by].to_numpy(dtype=float)
+        vals = vals[np.isfinite(vals)]
+        n = len(vals)
+        row: dict[str, Any] = {
+            "family": family,
+            "k": int(k),
+            "seeds": len(g),
+            "coherence": float(vals.mean()) if n else float("nan"),
+            "coherence_se": float(vals.std(ddof=1) / np.sqrt(n)) if n > 1 else 0.0,
+        }
+        for col in ("stability", "diversity", "perplexity", "reconstruction_error"):
+            if col in g.columns:
+                row[col] = float(g[col].mean())
+        rows.append(row)
+    return pd.DataFrame(rows)
+
+
+def _fmt(x: float) -> str:
+    return f"{x:.3f}" if abs(x) < 100 else f"{x:,.0f}"
+
+
+def recommend(
+    cells: pd.DataFrame, *, rank_by: str = "c_npmi", stability_min: float = 0.6
+) -> dict[str, Recommendation]:
+    """Apply the module's rule to every family in ``cells``.
+
+    Parameters
+    ----------
+    cells : DataFrame
+        One row per (family, k, seed) cell; see :func:`summarise_by_k`.
+    rank_by : str
+        Coherence measure to rank by (one of :data:`RANKABLE`).
+    stability_min : float
+        Stability a K must reach to be eligible.
+
+    Returns
+    -------
+    dict
+        ``family -> Recommendation``.
+    """
+    if rank_by not in RANKABLE:
+        raise ValueError(f"rank_by must be one of {', '.join(RANKABLE)}, not {rank_by!r}")
+    summary = summarise_by_k(cells, rank_by)
+    out: dict[str, Recommendation] = {}
+    for family, s in summary.groupby("family", sort=True):
+        s = s.sort_values("k").reset_index(drop=True)
+        s = s[np.isfinite(s["coherence"])]
+        if s.empty:
+            continue
+        has_stab = "stability" in s.columns and s["stability"].notna().any()
+        eligible = s[s["stability"] >= stability_min] if has_stab else s
+        weak = eligible.empty
+        if weak:
+            eligible = s
+        best = eligible.loc[eligible["coherence"].idxmax()]
+        cutoff = best["coherence"] - best["coherence_se"]
+        chosen = eligible[eligible["coherence"] >= cutoff].sort_values("k").iloc[0]
+        k = int(chosen["k"])
+        name = rank_by.upper()
+        rule = (
+            f"smallest K whose mean {name} is within one standard error of the best among K "
+            f"with seed stability ≥ {stability_min:.2f}"
+        )
+        reasons = [
+            f"K={k}: mean {name} {_fmt(chosen['coherence'])} ± {_fmt(chosen['coherence_se'])} "
+            f"(standard error over {int(chosen['seeds'])} seeds)"
+        ]
+        if int(best["k"]) != k:
+            reasons.append(
+                f"the best {name} among eligible K is K={int(best['k'])} at "
+                f"{_fmt(best['coherence'])} ± {_fmt(best['coherence_se'])}; K={k} is within one "
+                "standard error of it and has fewer themes to read"
+            )
+        else:
+            reasons.append(f"K={k} has the best mean {name} among eligible K")
+        if has_stab:
+            if weak:
+                most = s.loc[s["stability"].idxmax()]
+                reasons.append(
+                    f"no K reached stability {stability_min:.2f} (best "
+                    f"{_fmt(most['stability'])} at K={int(most['k'])}); "
+                    "this recommendation is weak — themes will change with the seed"
+                )
+            else:
+                reasons.append(
+                    f"seed stability {_fmt(chosen['stability'])} ≥ {stability_min:.2f}: the same "
+                    "themes come back with other random seeds"
+                )
+        if "diversity" in s.columns and np.isfinite(chosen.get("diversity", np.nan)):
+            reasons.append(
+                f"topic diversity {_fmt(chosen['diversity'])} (share of distinct words among "
+                "all themes' top 25)"
+            )
+        fit_col = _FIT_COLUMN.get(str(family))
+        if fit_col and fit_col in s.columns and s[fit_col].notna().any():
+            lowest = s.loc[s[fit_col].idxmin()]
+            reasons.append(
+                f"{_FIT_NAME[fit_col]} {_fmt(chosen[fit_col])} (lowest {_fmt(lowest[fit_col])} "
+                f"at K={int(lowest['k'])}; lower fits held-out words better but tends to favour "
+                "more themes than people can tell apart)"
+            )
+        runners: list[dict[str, Any]] = []
+        for _, r in s[s["k"] != k].sort_values("coherence", ascending=False).head(3).iterrows():
+            stab = float(r["stability"]) if has_stab else float("nan")
+            if has_stab and stab < stability_min and not weak:
+                why = f"less stable across seeds ({_fmt(stab)} < {stability_min:.2f})"
+            elif r["coherence"] >= cutoff:
+                why = f"within one standard error but larger (K={int(r['k'])} > {k})"
+            else:
+                why = f"lower {name} ({_fmt(r['coherence'])} vs {_fmt(chosen['coherence'])})"
+            runners.append(
+                {
+                    "k": int(r["k"]),
+                    "coherence": float(r["coherence"]),
+                    "coherence_se": float(r["coherence_se"]),
+                    "stability": stab,
+                    "why_not": why,
+                }
+            )
+        out[str(family)] = Recommendation(
+            family=str(family),
+            k=k,
+            rank_by=rank_by,
+            weak=weak,
+            rule=rule,
+            reasons=reasons,
+            runners_up=runners,
+        )
+    return out
+
+
+def best_family(recommendations: dict[str, Recommendation], cells: pd.DataFrame) -> str:
+    """The family whose recommended K to publish when the user names none.
+
+    A recommendation that is not weak (its themes come back with other seeds) beats a weak
+    one; between equals, the higher mean ranking coherence at the recommended K wins —
+    the measures are computed on the same reference corpus for both families, so they
+    compare directly.
+    """
+    if not recommendations:
+        raise ValueError("no recommendation to choose from")
+
+    def key(item: tuple[str, Recommendation]) -> tuple[bool, float]:
+        fam, rec = item
+        at = cells[(cells["family"] == fam) & (cells["k"] == rec.k)][rec.rank_by]
+        return (not rec.weak, float(at.mean()) if len(at) else float("-inf"))
+
+    return max(recommendations.items(), key=key)[0]

@@ -1,0 +1,380 @@
+"""Running a sweep on Dask: submit the cells, record each as it finishes, score the grid.
+
+Every cell fits one model on the same training transcripts of the current prep and is an
+independent Dask task; by default the tasks run on a :class:`distributed.LocalCluster`
+sized to the machine, or on an existing cluster with ``scheduler``. Workers read the prep
+from the workspace path and write each cell's topic–term matrix to
+``sweeps/<id>/topics/<cell>.npy``; the client records a cell in the store as soon as it
+finishes, so an interrupted sweep resumes where it stopped.
+
+When every cell is in, the grid is scored once (:mod:`talkthemes.sweep.scoring`) and
+:func:`talkthemes.sweep.recommend.recommend` picks K per family (docs/methods.md, "The
+sweep" and "The recommendation").
+"""
+
+from __future__ import annotations
+
+import contextlib
+import json
+import logging
+import os
+import time
+from collections.abc import Iterator, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+
+from talkthemes.config import SweepSettings, settings_from_dict
+from talkthemes.errors import ConfigError, NotReadyError
+from talkthemes.prepare.corpus import PreparedCorpus
+from talkthemes.progress import Progress, report
+from talkthemes.sweep.cell import fit_cell
+from talkthemes.sweep.grid import CellSpec, build_cells, grid_key, parse_k
+from talkthemes.sweep.limits import PrepSize, check_k, check_memory
+from talkthemes.sweep.recommend import Recommendation, recommend
+from talkthemes.sweep.scoring import score_cells
+from talkthemes.sweep.split import split_rows
+from talkthemes.sweep.state import run_info
+from talkthemes.workspace import Workspace
+
+__all__ = ["SweepResult", "load_current_prep", "run_sweep", "sweep_settings"]
+
+log = logging.getLogger(__name__)
+
+_SWEEP_COLUMNS = ("id", "prep_hash", "created_at", "finished_at", "status")
+
+PAUSE_ENV = "TALKTHEMES_TEST_PAUSE_AT"
+PAUSE_SECONDS_ENV = "TALKTHEMES_TEST_PAUSE_SECONDS"
+
+
+def _checkpoint(stage: str) -> None:
+    """Test hook: sleep at ``stage`` (``sweep-cell``: after the first cell is recorded) when
+    ``TALKTHEMES_TEST_PAUSE_AT`` names it, so a test can kill the sweep exactly there."""
+    if os.environ.get(PAUSE_ENV) == stage:
+        seconds = float(os.environ.get(PAUSE_SECONDS_ENV, "120"))
+        log.warning("sweep paused at stage %s for %.0f s (%s)", stage, seconds, PAUSE_ENV)
+        time.sleep(seconds)
+
+
+def load_current_prep(ws: Workspace) -> tuple[dict[str, Any], Path]:
+    """The current prep's record and folder, or :class:`NotReadyError` naming the command."""
+    with ws.store() as store:
+        prep = store.current_prep()
+    if prep is None:
+        raise NotReadyError("nothing prepared yet: run 'talkthemes prepare' first")
+    folder = ws.prepared_dir / prep["hash"]
+    if not folder.exists():
+        raise NotReadyError(
+            f"the current prep's folder {folder} is missing: run 'talkthemes prepare' again"
+        )
+    return prep, folder
+
+
+@dataclass
+class SweepResult:
+    """A finished sweep: its cells' metrics and the recommendation per family."""
+
+    sweep_id: int
+    folder: Path
+    cells: pd.DataFrame
+    recommendations: dict[str, Recommendation]
+    reused_cells: int = 0
+    cached: bool = False
+    failed: list[dict[str, str]] = field(default_factory=list)
+    rank_by: str = "c_npmi"
+
+    def to_json(self) -> dict[str, Any]:
+        """A JSON-ready dict (per-topic score lists left out)."""
+        cols = [c for c in self.cells.columns if not c.endswith("_per_topic")]
+        return {
+            "sweep_id": self.sweep_id,
+            "cached": self.cached,
+            "reused_cells": self.reused_cells,
+            "rank_by": self.rank_by,
+            "cells": json.loads(self.cells[cols].to_json(orient="records")),
+            "recommendations": {f: r.to_dict() for f, r in self.recommendations.items()},
+            "failed": self.failed,
+        }
+
+
+def sweep_settings(ws: Workspace, **updates: Any) -> SweepSettings:
+    """The workspace's ``[sweep]`` settings with the given values (``None`` = keep) applied."""
+    settings = ws.settings().sweep
+    given = {k: v for k, v in updates.items() if v is not None}
+    if "families" in given:
+        given["families"] = list(given["families"])
+    return settings_from_dict(
+        {"sweep": {**settings.model_dump(), **given}}, source="sweep options"
+    ).sweep
+
+
+@contextlib.contextmanager
+def _client(settings: SweepSettings) -> Iterator[Any]:
+    """A Dask client: of the scheduler at ``[sweep] scheduler``, or of a local cluster.
+
+    Raises
+    ------
+    ConfigError
+        When the scheduler does not answer within ``[sweep] scheduler_timeout`` seconds.
+    """
+    # Deferred on purpose: distributed is heavy to import and only a running sweep needs it.
+    from distributed import Client, LocalCluster
+
+    scheduler, workers = settings.scheduler, settings.workers
+    if scheduler:
+        wait = settings.scheduler_timeout
+        try:
+            client = Client(scheduler, timeout=f"{wait}s")
+        except Exception as exc:  # refused, timed out, or not a Dask scheduler at all
+            raise ConfigError(
+                f"--scheduler {scheduler}: no Dask scheduler answered within {wait:g} s "
+                f"([sweep] scheduler_timeout): {type(exc).__name__}: {exc}"
+            ) from None
+        try:
+            yield client
+        finally:
+            client.close()
+        return
+    n = workers or os.cpu_count() or 1
+    with (
+        LocalCluster(
+            n_workers=n,
+            threads_per_worker=1,
+            processes=True,
+            dashboard_address=None,
+            # no dashboard; the scheduler's small HTTP server takes any free port, not 8787
+            scheduler_kwargs={"dashboard": False, "dashboard_address": "127.0.0.1:0"},
+            # A failing cell reaches us through its future (reported per cell); what the
+            # local cluster logs itself is shutdown noise (a worker's last heartbeat racing
+            # the scheduler's close), so only critical lines are let through.
+            silence_logs=logging.CRITICAL,
+            host="127.0.0.1",
+        ) as cluster,
+        Client(cluster) as client,
+    ):
+        yield client
+
+
+def run_sweep(
+    ws: Workspace,
+    *,
+    k: str | None = None,
+    families: Sequence[str] | None = None,
+    seeds: int | None = None,
+    scheduler: str | None = None,
+    workers: int | None = None,
+    force: bool = False,
+    progress: Progress | None = None,
+) -> SweepResult:
+    """Run (or resume, or reuse) a sweep over the current prep.
+
+    Arguments left ``None`` come from ``[sweep]`` in ``talkthemes.toml``. The caller
+    holds the workspace lock.
+
+    Parameters
+    ----------
+    ws : Workspace
+    k : str, optional
+        Topic-count grid, see :func:`~talkthemes.sweep.grid.parse_k`.
+    families : sequence of str, optional
+        ``lda``, ``nmf`` or both.
+    seeds : int, optional
+        Seeds per (family, K).
+    scheduler : str, optional
+        Dask scheduler address; empty for a local cluster.
+    workers : int, optional
+        Local cluster size; 0 for one per core.
+    force : bool
+        Start a new sweep even when the same grid already finished on this prep.
+    progress : Progress, optional
+        ``progress(done_cells, total_cells, cell)``.
+
+    Returns
+    -------
+    SweepResult
+    """
+    settings = sweep_settings(
+        ws, k=k, families=families, seeds=seeds, scheduler=scheduler, workers=workers
+    )
+    prep, prep_folder = load_current_prep(ws)
+    ks = parse_k(settings.k)
+    specs = build_cells(ks, settings.families, settings.seeds)
+    corpus = PreparedCorpus.load(prep_folder)
+    size = PrepSize.of(corpus, settings)
+    check_k(ks, size, settings)
+    key = grid_key(prep["hash"], specs, settings)
+
+    with ws.store() as store:
+        store.mark_sweeps_interrupted()  # the caller holds the lock: none of them runs
+        found = None if force else store.find_sweep(prep["hash"], key)
+        if found is not None and found["status"] == "done":
+            cached = _load_finished(ws.sweeps_dir / str(found["id"]), found)
+            if cached is not None:
+                return cached
+        done = {c["cell"] for c in store.cells(found["id"])} if found is not None else set()
+    todo = [s for s in specs if s.cell not in done]
+    reused = len(specs) - len(todo)
+    check_memory(todo, size, settings)
+    failed: list[dict[str, str]] = []
+    sweep_id: int | None = None
+    try:
+        if not todo:
+            assert found is not None  # every cell is recorded: only the scoring is left
+            sweep_id = _open_record(ws, found, prep["hash"], key, ks, settings)
+            report(progress, reused, len(specs), "resuming")
+        else:
+            # connect first: an unreachable scheduler leaves no sweep record behind
+            with _client(settings) as client:
+                sweep_id = _open_record(ws, found, prep["hash"], key, ks, settings)
+                folder = ws.sweeps_dir / str(sweep_id)
+                folder.mkdir(parents=True, exist_ok=True)
+                report(progress, reused, len(specs), "resuming" if reused else "starting")
+                failed = _run_cells(
+                    ws, client, sweep_id, folder, prep_folder, todo, settings, reused, len(specs),
+                    progress,
+                )  # fmt: skip
+        folder = ws.sweeps_dir / str(sweep_id)
+        return _score(ws, sweep_id, folder, corpus, specs, settings, reused, failed)
+    except BaseException:
+        # any stop (an error, Ctrl-C) leaves the sweep resumable: say so in its record
+        if sweep_id is not None:
+            with ws.store() as store:
+                if (store.get_sweep(sweep_id) or {}).get("status") == "running":
+                    store.set_sweep_status(sweep_id, "interrupted")
+        raise
+
+
+def _open_record(
+    ws: Workspace,
+    found: dict[str, Any] | None,
+    prep_hash: str,
+    key: str,
+    ks: list[int],
+    settings: SweepSettings,
+) -> int:
+    """Record a new sweep, or mark the one being resumed running again, with this process."""
+    with ws.store() as store:
+        if found is None:
+            info = {
+                "grid_key": key,
+                "k": ks,
+                "families": list(settings.families),
+                "seeds": settings.seeds,
+                "settings": settings.model_dump(),
+                "run": run_info(),
+            }
+            return store.start_sweep(prep_hash, info)
+        info = {k: v for k, v in found.items() if k not in _SWEEP_COLUMNS}
+        info["run"] = run_info()
+        store.set_sweep_status(found["id"], "running", info)
+        return int(found["id"])
+
+
+def _score(
+    ws: Workspace,
+    sweep_id: int,
+    folder: Path,
+    corpus: PreparedCorpus,
+    specs: list[CellSpec],
+    settings: SweepSettings,
+    reused: int,
+    failed: list[dict[str, str]],
+) -> SweepResult:
+    """Score the recorded cells, write ``cells.parquet``, and mark the sweep ``done`` when
+    every cell is in (``incomplete`` when some failed)."""
+    folder.mkdir(parents=True, exist_ok=True)
+    train, _ = split_rows(corpus.doc_ids, settings.heldout_share)
+    with ws.store() as store:
+        cells = store.cells(sweep_id)
+    if not cells:
+        with ws.store() as store:
+            store.set_sweep_status(sweep_id, "incomplete")
+        raise NotReadyError("no cell of the sweep finished; see the errors above")
+    frame = score_cells(
+        cells,
+        corpus.tokens,
+        corpus.offsets,
+        corpus.counts,
+        train,
+        topn=settings.topn,
+        stability_topn=settings.stability_topn,
+        diversity_topn=settings.diversity_topn,
+    )
+    recs = recommend(frame, rank_by=settings.rank_by, stability_min=settings.stability_min)
+    frame.to_parquet(folder / "cells.parquet.tmp", index=False)
+    os.replace(folder / "cells.parquet.tmp", folder / "cells.parquet")
+    with ws.store() as store:
+        if not failed and len(cells) == len(specs):
+            record = store.get_sweep(sweep_id) or {}
+            info = {k: v for k, v in record.items() if k not in _SWEEP_COLUMNS}
+            info["recommendations"] = {f: r.to_dict() for f, r in recs.items()}
+            store.finish_sweep(sweep_id, info)
+        else:
+            store.set_sweep_status(sweep_id, "incomplete")
+    return SweepResult(sweep_id, folder, frame, recs, reused, False, failed, settings.rank_by)
+
+
+def _load_finished(folder: Path, record: dict[str, Any]) -> SweepResult | None:
+    path = folder / "cells.parquet"
+    if not path.exists() or "recommendations" not in record:
+        return None
+    frame = pd.read_parquet(path)
+    recs = {f: Recommendation(**r) for f, r in record["recommendations"].items()}
+    rank_by = next(iter(recs.values())).rank_by if recs else "c_npmi"
+    return SweepResult(record["id"], folder, frame, recs, len(frame), True, [], rank_by)
+
+
+def _run_cells(
+    ws: Workspace,
+    client: Any,
+    sweep_id: int,
+    folder: Path,
+    prep_folder: Path,
+    todo: list[CellSpec],
+    settings: SweepSettings,
+    done_before: int,
+    total: int,
+    progress: Progress | None,
+) -> list[dict[str, str]]:
+    # Deferred on purpose, as in _client.
+    from distributed import as_completed
+
+    failed: list[dict[str, str]] = []
+    payload = settings.model_dump()
+    futures = {}
+    # Largest K first: they take longest, so the grid finishes sooner on few workers.
+    for spec in sorted(todo, key=lambda s: (-s.k, s.family, s.seed)):
+        fut = client.submit(
+            fit_cell,
+            str(prep_folder.resolve()),
+            str(folder.resolve()),
+            spec.family,
+            spec.k,
+            spec.seed,
+            payload,
+            settings.heldout_share,
+            key=f"talkthemes-sweep{sweep_id}-{spec.cell}",
+            pure=False,
+        )
+        futures[fut] = spec
+    done = done_before
+    try:
+        with ws.store() as store:
+            for fut in as_completed(list(futures)):
+                spec = futures[fut]
+                try:
+                    metrics = fut.result()
+                except Exception as exc:  # one failing cell must not lose the others
+                    log.error("cell %s failed: %s", spec.cell, exc)
+                    failed.append({"cell": spec.cell, "error": f"{type(exc).__name__}: {exc}"})
+                    continue
+                store.add_cell(sweep_id, spec.cell, spec.family, spec.k, spec.seed, metrics)
+                done += 1
+                report(progress, done, total, spec.cell)
+                _checkpoint("sweep-cell")
+    except BaseException:
+        client.cancel(list(futures))
+        raise
+    return failed

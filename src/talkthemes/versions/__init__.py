@@ -1,0 +1,45 @@
+"""Published versions: load, publish, export and prune them; align and compare versions.
+
+- :mod:`~talkthemes.versions.load` — :class:`Version` and :func:`load_version`;
+- :mod:`~talkthemes.versions.publish` — choose a sweep cell and publish it;
+- :mod:`~talkthemes.versions.fit` and :mod:`~talkthemes.versions.write` — fit a version's
+  model on every transcript, write the folder and make it current;
+- :mod:`~talkthemes.versions.export` — every transcript's shares as CSV or Parquet;
+- :mod:`~talkthemes.versions.prune` — keep the newest versions, remove leftovers;
+- :mod:`~talkthemes.versions.naming` — the name a theme is shown by;
+- :mod:`~talkthemes.versions.align`, :mod:`~talkthemes.versions.drift` and
+  :mod:`~talkthemes.versions.drift_markdown` — theme identity across versions and the
+  drift report of a refresh.
+
+Only the newest ``[refresh] keep_versions`` versions are kept, and always the current one.
+"""
+
+from __future__ import annotations
+
+# compat: re-exports until the merge (every name importers used from talkthemes.versions)
+from talkthemes.versions.export import export_shares, write_table
+from talkthemes.versions.fit import FittedVersion, fit_version, prep_record
+from talkthemes.versions.load import Version, load_version
+from talkthemes.versions.naming import theme_name
+from talkthemes.versions.prune import prune_versions, remove_leftovers
+from talkthemes.versions.publish import PublishResult, find_cell, pick_cell, publish
+from talkthemes.versions.write import ThemePlan, write_version
+
+__all__ = [
+    "FittedVersion",
+    "PublishResult",
+    "ThemePlan",
+    "Version",
+    "export_shares",
+    "find_cell",
+    "fit_version",
+    "load_version",
+    "pick_cell",
+    "prep_record",
+    "prune_versions",
+    "publish",
+    "remove_leftovers",
+    "theme_name",
+    "write_table",
+    "write_version",
+]
