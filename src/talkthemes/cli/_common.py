@@ -163,9 +163,13 @@ def line(*parts: Part) -> Text:
     return result
 
 
-def say(*parts: Part, console: Console | None = None) -> None:
-    """Print :func:`line` of ``parts`` (on stderr unless another console is given)."""
-    (console or err).print(line(*parts))
+def say(*parts: Part, console: Console | None = None, soft_wrap: bool | None = None) -> None:
+    """Print :func:`line` of ``parts`` (on stderr unless another console is given).
+
+    ``soft_wrap=True`` keeps the line whole (a command to copy must not be broken by
+    wrapping); by default the console's own setting applies.
+    """
+    (console or err).print(line(*parts), soft_wrap=soft_wrap)
 
 
 def cell(value: Any, style: str = "") -> Text:

@@ -115,6 +115,7 @@ def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
             f" ({u['status']}, {u['cells_done']} of {u['cells_total']} cells done); "
             f"re-run to finish: {u['rerun']}",
             console=out,
+            soft_wrap=True,
         )
     out.print(_stages(data["stages"]))
 
