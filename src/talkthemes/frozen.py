@@ -9,8 +9,9 @@ learning anything, applies those saved results in the chain's order:
 
 1. sentences whose normalised text is one of the version's boilerplate sentences are
    dropped (matched by the same 64-bit sentence key the chain counts);
-2. the version's phrases are joined, left to right as gensim's ``FrozenPhrases`` does
-   (:func:`~talkthemes.prepare.phrases.apply_phrases`);
+2. the version's phrases are joined where their words are adjacent, left to right as
+   gensim's ``FrozenPhrases`` does (:func:`~talkthemes.prepare.phrases.join_runs`, the
+   function the chain uses);
 3. terms outside the version's vocabulary are dropped (kept as out-of-vocabulary
    positions in the token stream, so sliding windows keep their width).
 
@@ -74,6 +75,9 @@ class PrepSpec:
     prep_hash : str
     excluded : list of (str, str)
         Stored transcripts the prep left out of training, with the reason.
+    chain_version : str
+        :data:`talkthemes.prepare.run.CHAIN_VERSION` of the chain that made the prep ("1"
+        when the record does not say).
     raw : dict
         The ``prep.json`` document it was read from.
     """
@@ -84,7 +88,13 @@ class PrepSpec:
     boilerplate: list[str]
     prep_hash: str = ""
     excluded: list[tuple[str, str]] = field(default_factory=list)
+    chain_version: str = "1"
     raw: dict[str, Any] = field(default_factory=dict, repr=False)
+
+    @property
+    def adjacent_phrases(self) -> bool:
+        """Whether phrases join only adjacent words (chain version 2 on)."""
+        return _version_number(self.chain_version) >= 2
 
     @classmethod
     def from_prep_info(cls, info: dict[str, Any], vocabulary: Sequence[str]) -> PrepSpec:
@@ -103,8 +113,20 @@ class PrepSpec:
             boilerplate=boiler,
             prep_hash=str(info.get("hash", "")),
             excluded=[(str(t), str(r)) for t, r in info.get("excluded", [])],
+            chain_version=str(info.get("chain_version") or "1"),
             raw=dict(info),
         )
+
+
+def _version_number(chain_version: str) -> int:
+    try:
+        return int(chain_version)
+    except ValueError:
+        return 1
+
+
+#: Keys of a prep's ``prep.json`` that older version records did not copy.
+_FROM_PREP = ("chain_version", "lemmas")
 
 
 def load_prep_spec(ws: Workspace, version: Any) -> PrepSpec:
@@ -123,10 +145,14 @@ def load_prep_spec(ws: Workspace, version: Any) -> PrepSpec:
     candidates = [own]
     if prep_hash:
         candidates.append(ws.prepared_dir / prep_hash / "prep.json")
-    for path in candidates:
-        if path.is_file():
-            info = json.loads(path.read_text(encoding="utf-8"))
-            return PrepSpec.from_prep_info(info, version.vocabulary)
+    found = [p for p in candidates if p.is_file()]
+    if found:
+        info = json.loads(found[0].read_text(encoding="utf-8"))
+        if len(found) > 1 and any(k not in info for k in _FROM_PREP):
+            # a version written before its record kept these: the prep folder has them
+            prep = json.loads(found[1].read_text(encoding="utf-8"))
+            info.update({k: prep[k] for k in _FROM_PREP if k in prep and k not in info})
+        return PrepSpec.from_prep_info(info, version.vocabulary)
     raise NotReadyError(
         f"version {version.n}: its preparation record is missing "
         f"({' and '.join(map(str, candidates))}); publish a new version to assign themes"
@@ -258,7 +284,7 @@ class PrepApplier:
 
     def apply(self, batch: Batch) -> AppliedBatch:
         """Prepare one batch of ``(transcript id, [(role, text), ...])``."""
-        from talkthemes.prepare.phrases import PhraseModel, apply_phrases
+        from talkthemes.prepare.phrases import PhraseModel, join_runs
 
         tables = self._tables
         res = self.processor.process(batch)
@@ -281,7 +307,6 @@ class PrepApplier:
             (types.get(t, other) for t in res.types), dtype=np.int64, count=len(res.types)
         )
         stream = local_to_type[local] if local.size else np.zeros(0, dtype=np.int64)
-        unit = sent_kept > 0
         if len(tables["names"]) and stream.size:
             model = PhraseModel(
                 pairs=tables["pairs"],
@@ -289,9 +314,12 @@ class PrepApplier:
                 names=tables["names"],
                 bigram_counts=np.zeros(len(tables["names"]), dtype=np.int64),
             )
-            stream, lengths, _ = apply_phrases(stream, sent_kept[unit], model, tables["n_types"])
-            sent_kept = sent_kept.copy()
-            sent_kept[unit] = lengths
+            if self.spec.adjacent_phrases:
+                breaks = res.breaks[np.repeat(~masked, res.sent_kept.astype(np.int64))]
+            else:  # chain version 1 joined pairs anywhere in a sentence
+                breaks = np.zeros(stream.size, dtype=bool)
+                breaks[(np.cumsum(sent_kept) - sent_kept)[sent_kept > 0]] = True
+            stream, _, sent_kept, _ = join_runs(stream, breaks, sent_kept, model, tables["n_types"])
         # 3. vocabulary
         mapped = tables["to_vocab"][np.asarray(stream, dtype=np.int64)].astype(np.int32)
         doc_len = np.bincount(sent_doc, weights=sent_kept, minlength=n_docs).astype(np.int64)
@@ -402,7 +430,9 @@ def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path
                 "created_at": dt.datetime.now().astimezone().isoformat(timespec="seconds"),
                 "settings": spec.settings.model_dump(),
                 "versions": versions,
-                "chain_version": CHAIN_VERSION,
+                # the rules applied are those of the version's chain, so a version
+                # published from this prep prepares new text the same way
+                "chain_version": spec.chain_version,
                 "corpus_fingerprint": fingerprint,
                 "counts_dtype": "int32",
                 "frozen_from": {"version": version.n, "prep_hash": spec.prep_hash},

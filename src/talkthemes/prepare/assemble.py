@@ -21,7 +21,7 @@ from talkthemes.errors import InputError
 from talkthemes.prepare.boilerplate import find_boilerplate
 from talkthemes.prepare.corpus import OOV, PreparedCorpus
 from talkthemes.prepare.filter import LEMMATISED, POS, STAT_COLUMNS
-from talkthemes.prepare.phrases import apply_phrases, learn_phrases
+from talkthemes.prepare.phrases import join_runs, learn_phrases, run_lengths
 from talkthemes.prepare.scrub import SCRUB_KINDS
 from talkthemes.prepare.vocabulary import VocabularyCut, doc_term_matrix, prune_vocabulary
 
@@ -61,6 +61,7 @@ class Collected:
                 "sent_stats",
                 "sent_kept",
                 "tokens",
+                "breaks",
             )
         }
         self.turns = 0
@@ -88,6 +89,7 @@ class Collected:
         p["sent_stats"].append(res.sent_stats)
         p["sent_kept"].append(res.sent_kept)
         p["tokens"].append(glob[res.ids] if res.ids.size else res.ids)
+        p["breaks"].append(res.breaks)
         self.turns += res.turns
         self.turns_dropped += res.turns_dropped
         for k, v in res.scrub_counts.items():
@@ -100,7 +102,7 @@ class Collected:
         parts = self.parts.pop(name)
         if not parts:
             width = len(STAT_COLUMNS)
-            dtype = np.int64 if name == "sent_keys" else np.int32
+            dtype = np.int64 if name == "sent_keys" else bool if name == "breaks" else np.int32
             return np.zeros((0, width) if name == "sent_stats" else 0, dtype=dtype)
         return np.concatenate(parts)
 
@@ -126,6 +128,9 @@ class TokenTable:
         Term strings by id.
     tokens : ndarray of int32
         Kept term ids, transcript by transcript, sentence by sentence.
+    breaks : ndarray of bool
+        One per token: True where a run of adjacent words starts (see
+        :attr:`talkthemes.prepare.lemmas.Encoded.breaks`).
     sent_doc : ndarray of int64
         Transcript number of each sentence.
     sent_words : ndarray of int64
@@ -145,6 +150,7 @@ class TokenTable:
     tids: list[str]
     types: list[str]
     tokens: NDArray[np.int32]
+    breaks: NDArray[np.bool_]
     sent_doc: NDArray[np.int64]
     sent_words: NDArray[np.int64]
     sent_keys: NDArray[np.int64]
@@ -182,6 +188,7 @@ def start_table(col: Collected, settings: PrepareSettings) -> TokenTable:
         sent_stats=col.array("sent_stats"),
         sent_kept=col.array("sent_kept").astype(np.int64),
         tokens=col.array("tokens"),
+        breaks=col.array("breaks"),
     )
     words = table.per_doc(table.sent_words)
     table.emptied["roles"] = (words + scrub_removed) == 0
@@ -238,7 +245,9 @@ def boilerplate_step(
         "sentences_removed": int(masked.sum()),
         "words_removed": int(table.sent_words[masked].sum()),
     }
-    table.tokens = table.tokens[np.repeat(~masked, table.sent_kept)]
+    kept_tokens = np.repeat(~masked, table.sent_kept)
+    table.tokens = table.tokens[kept_tokens]
+    table.breaks = table.breaks[kept_tokens]
     table.sent_kept = np.where(masked, 0, table.sent_kept)
     table.sent_words = np.where(masked, 0, table.sent_words)
     table.sent_stats = np.where(masked[:, None], 0, table.sent_stats)
@@ -276,7 +285,8 @@ def filter_step(table: TokenTable, settings: PrepareSettings) -> TokenTable:
 
 
 def phrases_step(table: TokenTable, settings: PrepareSettings) -> TokenTable:
-    """Train gensim's NPMI phrase model on the table, freeze it and join its phrases."""
+    """Train gensim's NPMI phrase model on the runs of adjacent words, freeze it and join
+    its phrases (see :mod:`talkthemes.prepare.phrases`)."""
     report: dict[str, Any] = {
         "enabled": settings.phrases,
         "phrases": 0,
@@ -285,21 +295,18 @@ def phrases_step(table: TokenTable, settings: PrepareSettings) -> TokenTable:
         "model": [],
     }
     table.report["phrases"] = report
-    unit = table.sent_kept > 0
     if not settings.phrases or table.tokens.size == 0:
         return table
-    lengths = table.sent_kept[unit]
     model, _ = learn_phrases(
         table.tokens,
-        lengths,
+        run_lengths(table.breaks),
         table.types,
         threshold=settings.phrase_threshold,
         min_count=settings.phrase_min_count,
     )
-    tokens, lengths, joined = apply_phrases(table.tokens, lengths, model, len(table.types))
-    table.tokens = tokens
-    table.sent_kept = table.sent_kept.copy()
-    table.sent_kept[unit] = lengths
+    table.tokens, table.breaks, table.sent_kept, joined = join_runs(
+        table.tokens, table.breaks, table.sent_kept, model, len(table.types)
+    )
     table.types = [*table.types, *model.names]
     top = np.lexsort((np.arange(len(model)), -joined))[:30]
     report.update(

@@ -40,6 +40,7 @@ from talkthemes.prepare.boilerplate import find_boilerplate, split_sentences
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, load_fillers
 from talkthemes.prepare.lemmas import (
+    GAP,
     FastLemmatizer,
     SpacyLemmatizer,
     load_lemma_table,
@@ -74,6 +75,10 @@ STAGES: tuple[str, ...] = ("read", "boilerplate", "phrases", "vocabulary")
 
 #: Worker processes are used only when each gets at least this many batches.
 _MIN_BATCHES_PER_WORKER = 2
+
+#: What the scrub step leaves in place of what it removes: the words on either side are
+#: not adjacent (see :data:`talkthemes.prepare.lemmas.GAP`).
+_SCRUB_MARK = f" {GAP} "
 
 #: Fewer terms than this left after the vocabulary step stops the chain.
 MIN_TERMS = 50
@@ -115,6 +120,7 @@ class BatchResult:
     sent_stats: NDArray[np.int32]  # (S, len(STAT_COLUMNS))
     sent_kept: NDArray[np.int32]  # (S,) kept tokens
     ids: NDArray[np.int32]  # (K,) kept tokens as indices into ``types``
+    breaks: NDArray[np.bool_]  # (K,) not adjacent to the previous kept token (Encoded.breaks)
     types: list[str]
     scrub_counts: dict[str, int] = field(default_factory=dict)
     key_texts: dict[int, str] = field(default_factory=dict)
@@ -174,7 +180,7 @@ class TranscriptProcessor:
         text = _nfc("\n".join(kept))
         scrub_removed = 0
         if self.scrub:
-            text, scrub_removed = scrub(text, counts)
+            text, scrub_removed = scrub(text, counts, mark=_SCRUB_MARK)
         return text, len(dropped), roles_removed, scrub_removed
 
     def process(self, batch: Batch) -> BatchResult:
@@ -227,6 +233,7 @@ class TranscriptProcessor:
             sent_stats=stats.astype(np.int32),
             sent_kept=sent_kept.astype(np.int32),
             ids=inverse.astype(np.int32).ravel(),
+            breaks=enc.breaks[kept],
             types=types,
             scrub_counts=counts,
             key_texts=self._repeated_texts(texts, sent_doc, keys),

@@ -45,11 +45,13 @@ from talkthemes.prepare.boilerplate import (
 from talkthemes.prepare.filter import KEEP, NON_ALPHA, POS, TokenFilter
 
 __all__ = [
+    "GAP",
     "TOKEN_PATTERN",
     "Encoded",
     "FastLemmatizer",
     "SpacyLemmatizer",
     "decode",
+    "kept_breaks",
     "load_lemma_table",
     "lookup_languages",
     "spacy_stop_words",
@@ -65,9 +67,12 @@ TOKEN_PATTERN = re.compile(r"\w+")
 # and the separator between transcripts.
 _DOC_SEP = "\x00"
 _CUT = "\x01"  # follows a word cut off mid-way ("I think- I think")
-_PIECES = re.compile(r"\w+|[.!?…\n\x00\x01]")
+#: Stands where words were removed before the lemma step (the scrub step puts it in place of
+#: what it removes), so that the words on either side are not adjacent.
+GAP = "\x02"
+_PIECES = re.compile(r"\w+|[.!?…\n\x00\x01\x02]")
 _MARK_CHARS = frozenset(".!?…\n")
-_KIND_WORD, _KIND_MARK, _KIND_DOC, _KIND_CUT = 0, 1, 2, 3
+_KIND_WORD, _KIND_MARK, _KIND_DOC, _KIND_CUT, _KIND_GAP = 0, 1, 2, 3, 4
 _CUTOFF = re.compile(r"-(?=\s|$)")
 
 
@@ -84,12 +89,19 @@ class Encoded(NamedTuple):
         Boilerplate key per sentence (0 when shorter than ``min_words`` words).
     n_sentences : ndarray of int64
         Sentences per text.
+    breaks : ndarray of bool
+        One per token (meaningful for kept tokens): True when the token does not directly
+        follow the previous kept token of its sentence, because a word other than a filler
+        was removed between them (a stop word, a number, a word cut off, a part of speech,
+        scrubbed text), or because it is the first kept token of its sentence. Fillers do
+        not break adjacency: speakers insert them anywhere.
     """
 
     codes: NDArray[np.int64]
     lengths: NDArray[np.int64]
     keys: NDArray[np.int64]
     n_sentences: NDArray[np.int64]
+    breaks: NDArray[np.bool_]
 
 
 def words(sentence: str, lang: str) -> list[str]:
@@ -287,10 +299,14 @@ class FastLemmatizer(_Encoder):
         self._kind: list[int] = []
         self._codes: list[int] = []
         self._values: list[int] = []
-        self._arrays: tuple[NDArray[np.int8], NDArray[np.int64], NDArray[np.uint64]] = (
+        self._soft: list[bool] = []  # a filler: dropping it does not part its neighbours
+        self._arrays: tuple[
+            NDArray[np.int8], NDArray[np.int64], NDArray[np.uint64], NDArray[np.bool_]
+        ] = (
             np.zeros(0, dtype=np.int8),
             np.zeros(0, dtype=np.int64),
             np.zeros(0, dtype=np.uint64),
+            np.zeros(0, dtype=bool),
         )
 
     def lemma(self, word: str) -> str:
@@ -304,6 +320,7 @@ class FastLemmatizer(_Encoder):
 
     def _new_surface(self, piece: str) -> int:
         sid = self._sid[piece] = len(self._kind)
+        self._soft.append(False)
         if piece == _DOC_SEP:
             self._kind.append(_KIND_DOC)
             self._codes.append(0)
@@ -312,18 +329,26 @@ class FastLemmatizer(_Encoder):
             self._kind.append(_KIND_CUT)
             self._codes.append(0)
             self._values.append(0)
+        elif piece == GAP:
+            self._kind.append(_KIND_GAP)
+            self._codes.append(0)
+            self._values.append(0)
         elif piece in _MARK_CHARS:
             self._kind.append(_KIND_MARK)
             self._codes.append(0)
             self._values.append(0)
         else:
+            lemma, lower = self.lemma(piece), piece.lower()
             self._kind.append(_KIND_WORD)
-            self._codes.append(self._term(self.lemma(piece), piece.lower()))
+            self._codes.append(self._term(lemma, lower))
             self._values.append(word_value(piece))
+            self._soft[-1] = self.filter.is_filler(lemma, lower)
         return sid
 
-    def _tables(self) -> tuple[NDArray[np.int8], NDArray[np.int64], NDArray[np.uint64]]:
-        kind, codes, values = self._arrays
+    def _tables(
+        self,
+    ) -> tuple[NDArray[np.int8], NDArray[np.int64], NDArray[np.uint64], NDArray[np.bool_]]:
+        kind, codes, values, soft = self._arrays
         n = len(self._kind)
         if kind.size < n:
             kind = np.concatenate([kind, np.asarray(self._kind[kind.size :], dtype=np.int8)])
@@ -331,8 +356,9 @@ class FastLemmatizer(_Encoder):
             values = np.concatenate(
                 [values, np.asarray(self._values[values.size :], dtype=np.uint64)]
             )
-            self._arrays = (kind, codes, values)
-        return kind, codes, values
+            soft = np.concatenate([soft, np.asarray(self._soft[soft.size :], dtype=bool)])
+            self._arrays = (kind, codes, values, soft)
+        return kind, codes, values, soft
 
     def encode(self, texts: Sequence[str]) -> Encoded:
         """Encode texts (one per transcript) into token codes, sentence by sentence.
@@ -356,7 +382,7 @@ class FastLemmatizer(_Encoder):
                 for s, p in zip(sids, pieces, strict=True)
             ]
         arr = np.fromiter(sids, dtype=np.int64, count=len(sids))
-        kind_of, code_of, value_of = self._tables()
+        kind_of, code_of, value_of, soft_of = self._tables()
         kind = kind_of[arr]
         is_doc = kind == _KIND_DOC
         doc = np.cumsum(is_doc)
@@ -374,18 +400,55 @@ class FastLemmatizer(_Encoder):
         lengths = np.diff(np.append(starts, at.size))
         word = arr[at]
         codes = code_of[word]
-        codes[cut[at]] = -NON_ALPHA
+        cut_word = cut[at]
+        codes[cut_word] = -NON_ALPHA
+        # a piece breaks adjacency when it is a gap mark or a dropped word (not a filler)
+        breaking = kind == _KIND_GAP
+        breaking[at] = (codes < 0) & (~soft_of[word] | cut_word)
         return Encoded(
             codes=codes,
             lengths=lengths,
             keys=sentence_keys(value_of[word], lengths, self.min_words),
             n_sentences=np.bincount(doc[at[starts]], minlength=len(texts)),
+            breaks=kept_breaks(np.cumsum(breaking)[at], codes >= 0, first),
         )
+
+
+def kept_breaks(
+    seen: NDArray[np.integer], kept: NDArray[np.bool_], first: NDArray[np.bool_]
+) -> NDArray[np.bool_]:
+    """Which kept tokens do not directly follow the previous kept token of their sentence.
+
+    Parameters
+    ----------
+    seen : ndarray of int, one per token
+        Running count of the pieces that break adjacency, up to and including the token
+        (a breaking token counts itself; a kept token never breaks).
+    kept : ndarray of bool, one per token
+    first : ndarray of bool, one per token
+        True at the first token of each sentence.
+
+    Returns
+    -------
+    ndarray of bool, one per token
+        True at kept tokens after a break or first in their sentence (by position among
+        the kept tokens); False elsewhere.
+    """
+    out = np.zeros(kept.size, dtype=bool)
+    at = np.flatnonzero(kept)
+    if at.size == 0:
+        return out
+    sentence = np.cumsum(first)[at]
+    count = np.asarray(seen)[at]
+    brk = np.ones(at.size, dtype=bool)
+    brk[1:] = (sentence[1:] != sentence[:-1]) | (count[1:] != count[:-1])
+    out[at] = brk
+    return out
 
 
 def _empty_encoded(n_texts: int = 0) -> Encoded:
     z = np.zeros(0, dtype=np.int64)
-    return Encoded(z, z, z, np.zeros(n_texts, dtype=np.int64))
+    return Encoded(z, z, z, np.zeros(n_texts, dtype=np.int64), np.zeros(0, dtype=bool))
 
 
 class SpacyLemmatizer(_Encoder):
@@ -493,22 +556,41 @@ class SpacyLemmatizer(_Encoder):
             n_sentences.append(len(sentences) - before)
         codes: list[int] = []
         lengths: list[int] = []
-        docs = self.nlp.pipe(sentences, batch_size=self.batch_size, n_process=self.n_process)
+        breaks: list[bool] = []
+        docs = self.nlp.pipe(
+            [s.replace(GAP, f" {GAP} ") if GAP in s else s for s in sentences],
+            batch_size=self.batch_size,
+            n_process=self.n_process,
+        )
         pos_keep = self.pos_keep
         candidates = tagged = 0
         for doc in docs:
-            lengths.append(len(doc))
+            n = 0
+            gap = True  # the first kept token of a sentence starts a run
             for tok in doc:
-                if tok.is_space:
-                    codes.append(-NON_ALPHA)
+                if tok.text == GAP:
+                    gap = True
                     continue
-                code = self._term((tok.lemma_ or tok.text).lower(), tok.lower_)
+                n += 1
+                if tok.is_space or tok.is_punct:
+                    # punctuation is not a word: it neither joins nor parts words
+                    codes.append(-NON_ALPHA)
+                    breaks.append(False)
+                    continue
+                lemma = (tok.lemma_ or tok.text).lower()
+                code = self._term(lemma, tok.lower_)
                 if code >= 0 and pos_keep:
                     candidates += 1
                     tagged += bool(tok.pos_)
                     if tok.pos_ not in pos_keep:
                         code = -POS
                 codes.append(code)
+                breaks.append(gap and code >= 0)
+                if code >= 0:
+                    gap = False
+                elif not self.filter.is_filler(lemma, tok.lower_):
+                    gap = True
+            lengths.append(n)
         if pos_keep and not self._pos_checked and candidates:
             if not tagged:
                 raise ConfigError(
@@ -522,4 +604,5 @@ class SpacyLemmatizer(_Encoder):
             np.asarray(lengths, dtype=np.int64),
             np.asarray(keys, dtype=np.int64),
             np.asarray(n_sentences, dtype=np.int64),
+            np.asarray(breaks, dtype=bool),
         )
