@@ -38,6 +38,7 @@ import scipy.sparse as sp
 from talkthemes.config import PrepareSettings
 from talkthemes.errors import NotReadyError
 from talkthemes.prepare.corpus import OOV
+from talkthemes.prepare.headwords import resolve_tokens
 from talkthemes.workspace import Workspace, atomic_dir
 
 __all__ = [
@@ -78,6 +79,9 @@ class PrepSpec:
     chain_version : str
         :data:`talkthemes.prepare.run.CHAIN_VERSION` of the chain that made the prep ("1"
         when the record does not say).
+    lemma_choices : dict of str to str
+        The corpus's decision for each contested word it held (see
+        :mod:`talkthemes.prepare.headwords`).
     raw : dict
         The ``prep.json`` document it was read from.
     """
@@ -89,6 +93,7 @@ class PrepSpec:
     prep_hash: str = ""
     excluded: list[tuple[str, str]] = field(default_factory=list)
     chain_version: str = "1"
+    lemma_choices: dict[str, str] = field(default_factory=dict)
     raw: dict[str, Any] = field(default_factory=dict, repr=False)
 
     @property
@@ -114,6 +119,10 @@ class PrepSpec:
             prep_hash=str(info.get("hash", "")),
             excluded=[(str(t), str(r)) for t, r in info.get("excluded", [])],
             chain_version=str(info.get("chain_version") or "1"),
+            lemma_choices={
+                str(w): str(lemma)
+                for w, lemma in ((info.get("lemmas") or {}).get("choices") or {}).items()
+            },
             raw=dict(info),
         )
 
@@ -235,9 +244,19 @@ class PrepApplier:
 
             # boilerplate_min_share only decides which sentence texts a batch reports for
             # prepare --explain; nothing is learned here, so none is needed
-            settings = self.spec.settings.model_copy(update={"boilerplate_min_share": 0.0})
+            update: dict[str, Any] = {"boilerplate_min_share": 0.0}
+            if not self.spec.adjacent_phrases:
+                # chain version 1 had no lemma checks
+                update.update(names=False, lemma_keep_ratio=0.0, lemma_exceptions={})
+            settings = self.spec.settings.model_copy(update=update)
             self._processor = build_processor(settings)
         return self._processor
+
+    def choose(self, word: str) -> str:
+        """The lemma of a contested word: the version's decision, else the encoder's
+        default (the same rule with no counts)."""
+        lemma = self.spec.lemma_choices.get(word)
+        return lemma if lemma is not None else self.processor.encoder.choose(word)
 
     @cached_property
     def _tables(self) -> dict[str, Any]:
@@ -291,20 +310,30 @@ class PrepApplier:
         n_docs = len(res.tids)
         doc_sentences = res.doc_sentences.astype(np.int64)
         sent_doc = np.repeat(np.arange(n_docs), doc_sentences)
-        sent_kept = res.sent_kept.astype(np.int64)
         sent_words = res.sent_words.astype(np.int64)
+        # 0. the version's lemma decisions
+        res_types, ids, breaks, sent_kept = resolve_tokens(
+            res.types,
+            res.ids,
+            res.breaks,
+            res.sent_kept,
+            self.choose,
+            self.processor.encoder.filter,
+        )
+        kept_before = np.bincount(sent_doc, weights=sent_kept, minlength=n_docs)
         # 1. boilerplate sentences
         masked = (
             np.isin(res.sent_keys, tables["keys"])
             if tables["keys"].size
             else np.zeros(sent_kept.size, dtype=bool)
         )
-        local = res.ids[np.repeat(~masked, sent_kept)]
+        kept_tokens = np.repeat(~masked, sent_kept)
+        local, breaks = ids[kept_tokens], breaks[kept_tokens]
         sent_kept = np.where(masked, 0, sent_kept)
         # 2. phrases, over the version's type table (unknown words share one id)
         types, other = tables["types"], tables["other"]
         local_to_type = np.fromiter(
-            (types.get(t, other) for t in res.types), dtype=np.int64, count=len(res.types)
+            (types.get(t, other) for t in res_types), dtype=np.int64, count=len(res_types)
         )
         stream = local_to_type[local] if local.size else np.zeros(0, dtype=np.int64)
         if len(tables["names"]) and stream.size:
@@ -314,9 +343,8 @@ class PrepApplier:
                 names=tables["names"],
                 bigram_counts=np.zeros(len(tables["names"]), dtype=np.int64),
             )
-            if self.spec.adjacent_phrases:
-                breaks = res.breaks[np.repeat(~masked, res.sent_kept.astype(np.int64))]
-            else:  # chain version 1 joined pairs anywhere in a sentence
+            if not self.spec.adjacent_phrases:
+                # chain version 1 joined pairs anywhere in a sentence
                 breaks = np.zeros(stream.size, dtype=bool)
                 breaks[(np.cumsum(sent_kept) - sent_kept)[sent_kept > 0]] = True
             stream, _, sent_kept, _ = join_runs(stream, breaks, sent_kept, model, tables["n_types"])
@@ -339,7 +367,6 @@ class PrepApplier:
         unmasked_words = np.bincount(
             sent_doc, weights=np.where(masked, 0, sent_words), minlength=n_docs
         )
-        kept_before = np.bincount(sent_doc, weights=res.sent_kept, minlength=n_docs)
         roles = self.spec.settings.roles
         reasons: list[str | None] = []
         for d in range(n_docs):
@@ -389,6 +416,8 @@ def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path
             "phrases": spec.phrases,
             "boilerplate": spec.boilerplate,
             "settings": spec.settings.model_dump(exclude={"batch_size", "n_process"}),
+            "lemmas": spec.lemma_choices,
+            "made_by": spec.chain_version,
             "corpus": fingerprint,
             "chain": CHAIN_VERSION,
             "versions": versions,
@@ -438,6 +467,7 @@ def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path
                 "frozen_from": {"version": version.n, "prep_hash": spec.prep_hash},
                 "counts": corpus.summary(),
                 "phrases": spec.raw.get("phrases", [[p, None] for p in spec.phrases]),
+                "lemmas": {"choices": dict(spec.lemma_choices)},
                 "boilerplate": spec.raw.get(
                     "boilerplate", [{"sentence": s} for s in spec.boilerplate]
                 ),

@@ -27,6 +27,7 @@ from talkthemes.demo import iter_demo_calls
 from talkthemes.prepare.boilerplate import split_sentences
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.filter import KEEP
+from talkthemes.prepare.headwords import name_flags
 from talkthemes.prepare.lemmas import GAP
 from talkthemes.prepare.phrases import learn_phrases
 
@@ -83,26 +84,37 @@ def test_threshold_is_strict():
 _WORD = re.compile(r"(\w+)(-(?=\s|$))?")  # a word, and a hyphen when it was cut off
 
 
-def adjacent_runs(calls, settings: PrepareSettings) -> list[list[str]]:
+def adjacent_runs(calls, settings: PrepareSettings, choices: dict[str, str]) -> list[list[str]]:
     """Runs of adjacent kept lemmas, by a plain loop: a removed word ends a run unless it is
-    a filler; scrubbed text, a word cut off, a sentence or turn end one too."""
+    a filler; scrubbed text, a word cut off, a sentence or turn end one too. Lemmas are the
+    lookup table's, with the chain's lemma checks (names, the corpus's ``choices``)."""
     processor = build_processor(settings)
     enc = processor.encoder
     runs: list[list[str]] = []
     for call in calls:
         text, *_ = processor.text([(t.role, t.text) for t in call.turns])
         for sentence in split_sentences(text):
-            for piece in sentence.split(GAP):
-                run: list[str] = []
-                for m in _WORD.finditer(piece.replace("n't", " not")):
-                    word = m.group(1)
-                    lemma, lower = enc.lemma(word), word.lower()
-                    if m.group(2) is None and enc.filter.reason(lemma, lower) == KEEP:
-                        run.append(lemma)
-                    elif m.group(2) is not None or not enc.filter.is_filler(lemma, lower):
-                        runs.append(run)
-                        run = []
-                runs.append(run)
+            # (piece, match): the pieces are the parts between scrubbed text
+            found = [
+                (p, m)
+                for p, piece in enumerate(sentence.replace("n't", " not").split(GAP))
+                for m in _WORD.finditer(piece)
+            ]
+            names = name_flags([m.group(1) for _, m in found])  # names are per sentence
+            run: list[str] = []
+            for i, ((piece, m), name) in enumerate(zip(found, names, strict=True)):
+                if i and piece != found[i - 1][0]:
+                    runs.append(run)  # scrubbed text stood here
+                    run = []
+                word = m.group(1)
+                lower = word.lower()
+                lemma = lower if name else choices.get(lower, enc.lemma(word))
+                if m.group(2) is None and enc.filter.reason(lemma, lower) == KEEP:
+                    run.append(lemma)
+                elif m.group(2) is not None or not enc.filter.is_filler(lemma, lower):
+                    runs.append(run)
+                    run = []
+            runs.append(run)
     return [r for r in runs if r]
 
 
@@ -120,7 +132,7 @@ def test_chain_phrases_equal_gensim_on_the_adjacent_stream():
     corpus, explain = prepare_corpus(lambda: [batch], settings)
     ours = {name: score for name, score in corpus.info["phrases"]}
 
-    runs = adjacent_runs(calls, settings)
+    runs = adjacent_runs(calls, settings, corpus.info["lemmas"]["choices"])
     reference = Phrases(runs, min_count=8, threshold=0.5, scoring="npmi", delimiter="_")
     frozen = reference.freeze()
     assert len(frozen.phrasegrams) >= 20  # the check has substance

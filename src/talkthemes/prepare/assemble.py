@@ -21,6 +21,7 @@ from talkthemes.errors import InputError
 from talkthemes.prepare.boilerplate import find_boilerplate
 from talkthemes.prepare.corpus import OOV, PreparedCorpus
 from talkthemes.prepare.filter import LEMMATISED, POS, STAT_COLUMNS
+from talkthemes.prepare.headwords import PROVISIONAL, Decision, resolve_tokens
 from talkthemes.prepare.phrases import join_runs, learn_phrases, run_lengths
 from talkthemes.prepare.scrub import SCRUB_KINDS
 from talkthemes.prepare.vocabulary import VocabularyCut, doc_term_matrix, prune_vocabulary
@@ -33,6 +34,7 @@ __all__ = [
     "boilerplate_step",
     "filter_step",
     "finish",
+    "lemma_step",
     "phrases_step",
     "report_progress",
     "start_table",
@@ -68,6 +70,8 @@ class Collected:
         self.turns_dropped = 0
         self.scrub_counts: dict[str, int] = dict.fromkeys(SCRUB_KINDS, 0)
         self.key_texts: dict[int, str] = {}
+        self.word_counts: dict[str, int] = {}
+        self.names: dict[tuple[str, str], int] = {}
 
     def add(self, res: Any) -> None:
         """Merge one :class:`~talkthemes.prepare.chain.BatchResult`."""
@@ -96,6 +100,10 @@ class Collected:
             self.scrub_counts[k] = self.scrub_counts.get(k, 0) + v
         for k, t in res.key_texts.items():
             self.key_texts.setdefault(k, t)
+        for w, n in res.word_counts.items():
+            self.word_counts[w] = self.word_counts.get(w, 0) + n
+        for name, n in res.names.items():
+            self.names[name] = self.names.get(name, 0) + n
 
     def array(self, name: str) -> NDArray[Any]:
         """Concatenate (and release) the collected parts of one array."""
@@ -256,6 +264,65 @@ def boilerplate_step(
     return table
 
 
+def lemma_step(
+    table: TokenTable,
+    settings: PrepareSettings,
+    *,
+    encoder: Any,
+    counts: dict[str, int],
+    names: dict[tuple[str, str], int],
+) -> TokenTable:
+    """Decide the contested words from the corpus's counts and resolve their provisional
+    terms (see :mod:`talkthemes.prepare.headwords`); report the decisions, the exceptions
+    used and the names kept as written."""
+    headwords = encoder.headwords
+    contested = [t[len(PROVISIONAL) :] for t in table.types if t.startswith(PROVISIONAL)]
+    decisions = {w: headwords.decide(w, counts) for w in contested}
+    table.types, table.tokens, table.breaks, table.sent_kept = resolve_tokens(
+        table.types,
+        table.tokens,
+        table.breaks,
+        table.sent_kept,
+        lambda w: decisions[w].lemma,
+        encoder.filter,
+        table.sent_stats,
+    )
+    kept = sorted((d for d in decisions.values() if d.lemma == d.word), key=_by_said)
+    followed = sorted((d for d in decisions.values() if d.lemma != d.word), key=_by_said)
+    table.report["lemmas"] = {
+        "headwords": {
+            "ratio": headwords.ratio,
+            "checked": len(decisions),
+            "kept": len(kept),
+            "decisions": [d._asdict() for d in [*kept[:_MAX_LISTED], *followed[:_MAX_FOLLOWED]]],
+            "choices": {w: d.lemma for w, d in sorted(decisions.items())},
+        },
+        "exceptions": [
+            {"word": w, "lemma": lemma, "count": counts.get(w, 0)}
+            for w, lemma in sorted(encoder.exceptions.items())
+        ],
+        "names": {
+            "enabled": bool(encoder.names),
+            "tokens": sum(names.values()),
+            "top": [
+                {"name": n, "table": t, "count": c}
+                for (n, t), c in sorted(names.items(), key=lambda x: (-x[1], x[0]))[:_MAX_LISTED]
+            ],
+        },
+    }
+    return table
+
+
+#: Decisions (words kept as said, and words that follow the table) and names listed by
+#: ``--explain``.
+_MAX_LISTED = 30
+_MAX_FOLLOWED = 10
+
+
+def _by_said(d: Decision) -> tuple[int, str]:
+    return (-d.said, d.word)
+
+
 def filter_step(table: TokenTable, settings: PrepareSettings) -> TokenTable:
     """Report what the lemma and filter rules (applied per transcript) did."""
     stats = table.sent_stats.sum(axis=0, dtype=np.int64)
@@ -270,6 +337,7 @@ def filter_step(table: TokenTable, settings: PrepareSettings) -> TokenTable:
         "words": int(stats[0]),
         "tokens_lemmatised": int(stats[LEMMATISED]),
         "terms": int(np.unique(table.tokens).size),
+        **table.report.get("lemmas", {}),
     }
     table.report["filter"] = {
         "removed": {
@@ -390,6 +458,7 @@ def finish(
     col: Collected,
     settings: PrepareSettings,
     *,
+    encoder: Any,
     texts_for: Callable[[set[int]], dict[int, str]],
     progress: ProgressFn | None,
     min_terms: int,
@@ -402,6 +471,8 @@ def finish(
     col : Collected
         Every batch's arrays.
     settings : PrepareSettings
+    encoder : FastLemmatizer or SpacyLemmatizer
+        The per-transcript phase's encoder (its lemma checks and filter).
     texts_for : callable
         Given boilerplate keys whose text no batch reported, returns their normalised
         texts (by reading the transcripts again).
@@ -417,6 +488,10 @@ def finish(
     """
     table = start_table(col, settings)
     stages: list[tuple[str, list[CorpusStep]]] = [
+        (
+            "lemmas",
+            [partial(lemma_step, encoder=encoder, counts=col.word_counts, names=col.names)],
+        ),
         (
             "boilerplate",
             [
@@ -437,6 +512,7 @@ def finish(
 
     r = table.report
     phrase_model = r["phrases"].pop("model")
+    choices = r["lemmas"]["headwords"].pop("choices")
     explain = {
         "transcripts": {
             "read": table.n_docs,
@@ -450,6 +526,7 @@ def finish(
         "counts": corpus.summary(),
         "phrases": phrase_model,
         "boilerplate": r["boilerplate"]["sentences"],
+        "lemmas": {"choices": choices},
     }
     return corpus, explain
 

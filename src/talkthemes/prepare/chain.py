@@ -39,6 +39,7 @@ from talkthemes.prepare.assemble import Collected, ProgressFn, finish, report_pr
 from talkthemes.prepare.boilerplate import find_boilerplate, split_sentences
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, load_fillers
+from talkthemes.prepare.headwords import Headwords, load_lemma_index, load_lemma_rules
 from talkthemes.prepare.lemmas import (
     GAP,
     FastLemmatizer,
@@ -71,7 +72,7 @@ Batch = Sequence[tuple[str, Sequence[tuple[str, str]]]]
 #: Stages reported to the progress callback, in order. ``read`` counts transcripts
 #: (total = the number stored); the others report (0, 1) when they start and (1, 1)
 #: when they end.
-STAGES: tuple[str, ...] = ("read", "boilerplate", "phrases", "vocabulary")
+STAGES: tuple[str, ...] = ("read", "lemmas", "boilerplate", "phrases", "vocabulary")
 
 #: Worker processes are used only when each gets at least this many batches.
 _MIN_BATCHES_PER_WORKER = 2
@@ -124,6 +125,8 @@ class BatchResult:
     types: list[str]
     scrub_counts: dict[str, int] = field(default_factory=dict)
     key_texts: dict[int, str] = field(default_factory=dict)
+    word_counts: dict[str, int] = field(default_factory=dict)  # Encoded.counts
+    names: dict[tuple[str, str], int] = field(default_factory=dict)  # Encoded.names
 
 
 class TranscriptProcessor:
@@ -237,6 +240,8 @@ class TranscriptProcessor:
             types=types,
             scrub_counts=counts,
             key_texts=self._repeated_texts(texts, sent_doc, keys),
+            word_counts=enc.counts,
+            names=enc.names,
         )
 
     def find_texts(self, keys: set[int], source: Callable[[], Iterable[Batch]]) -> dict[int, str]:
@@ -324,10 +329,25 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
             batch_size=settings.batch_size,
             n_process=resolve_processes(settings.n_process),
             min_words=settings.boilerplate_min_words,
+            names=settings.names,
+            exceptions=settings.lemma_exceptions,
         )
     else:
+        table = load_lemma_table(lang)
         encoder = FastLemmatizer(
-            load_lemma_table(lang), token_filter, lang, settings.boilerplate_min_words
+            table,
+            token_filter,
+            lang,
+            settings.boilerplate_min_words,
+            names=settings.names,
+            exceptions=settings.lemma_exceptions,
+            headwords=Headwords.build(
+                table,
+                index=load_lemma_index(lang),
+                rules=load_lemma_rules(lang),
+                lang=lang,
+                ratio=settings.lemma_keep_ratio,
+            ),
         )
     return TranscriptProcessor(
         encoder,
@@ -438,6 +458,7 @@ def prepare_corpus(
     return finish(
         col,
         settings,
+        encoder=processor.encoder,
         texts_for=lambda keys: processor.find_texts(keys, source),
         progress=progress,
         min_terms=min_terms,

@@ -28,7 +28,7 @@ from __future__ import annotations
 import logging
 import re
 from abc import ABC, abstractmethod
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from functools import cache
 from typing import Any, NamedTuple
 
@@ -43,6 +43,14 @@ from talkthemes.prepare.boilerplate import (
     word_value,
 )
 from talkthemes.prepare.filter import KEEP, NON_ALPHA, POS, TokenFilter
+from talkthemes.prepare.headwords import (
+    ALL_CAPS_MIN_WORDS,
+    NOUNS_CAPITALISED,
+    PROVISIONAL,
+    Headwords,
+    capitalised,
+    name_flags,
+)
 
 __all__ = [
     "GAP",
@@ -95,6 +103,10 @@ class Encoded(NamedTuple):
         was removed between them (a stop word, a number, a word cut off, a part of speech,
         scrubbed text), or because it is the first kept token of its sentence. Fillers do
         not break adjacency: speakers insert them anywhere.
+    counts : dict of str to int
+        Times each word the lemma decisions need was said, lower-cased (names left out).
+    names : dict of (str, str) to int
+        Names kept as written whose table lemma differs: ``(name, table lemma)`` → times.
     """
 
     codes: NDArray[np.int64]
@@ -102,6 +114,8 @@ class Encoded(NamedTuple):
     keys: NDArray[np.int64]
     n_sentences: NDArray[np.int64]
     breaks: NDArray[np.bool_]
+    counts: dict[str, int] = {}  # noqa: RUF012 - a NamedTuple default, never mutated
+    names: dict[tuple[str, str], int] = {}  # noqa: RUF012
 
 
 def words(sentence: str, lang: str) -> list[str]:
@@ -227,39 +241,102 @@ def decode(code: int) -> tuple[int, int, bool]:
 
 
 class _Encoder(ABC):
-    """Shared state of both paths: the term table and the sentence keys."""
+    """Shared state of both paths: the term table, the sentence keys, the lemma checks.
 
-    def __init__(self, token_filter: TokenFilter, lang: str, min_words: int) -> None:
+    Parameters
+    ----------
+    token_filter : TokenFilter
+    lang : str
+    min_words : int
+    names : bool
+        ``[prepare] names`` (off anyway for languages that capitalise every noun).
+    exceptions : mapping of str to str
+        ``[prepare] lemma_exceptions`` (word as said, lower-cased → lemma).
+    headwords : Headwords, optional
+        The contested words of the lemma table (fast path only).
+    """
+
+    def __init__(
+        self,
+        token_filter: TokenFilter,
+        lang: str,
+        min_words: int,
+        *,
+        names: bool = False,
+        exceptions: Mapping[str, str] | None = None,
+        headwords: Headwords | None = None,
+    ) -> None:
         self.filter = token_filter
         self.lang = lang
         self.min_words = min_words
+        self.names = names and lang not in NOUNS_CAPITALISED
+        self.exceptions = {k.lower(): v.lower() for k, v in (exceptions or {}).items()}
+        self.headwords = headwords or Headwords(ratio=0.0)
         self.types: list[str] = []
         self._ids: dict[str, int] = {}
+
+    def _id(self, term: str) -> int:
+        tid = self._ids.get(term)
+        if tid is None:
+            tid = self._ids[term] = len(self.types)
+            self.types.append(term)
+        return tid
 
     def _term(self, lemma: str, lower: str) -> int:
         reason = self.filter.reason(lemma, lower)
         if reason != KEEP:
             return -reason
-        tid = self._ids.get(lemma)
-        if tid is None:
-            tid = self._ids[lemma] = len(self.types)
-            self.types.append(lemma)
-        return 2 * tid + (lemma != lower)
+        return 2 * self._id(lemma) + (lemma != lower)
+
+    def _provisional(self, lower: str, lemma: str) -> int:
+        """Code of a contested word: a provisional term unless both outcomes are dropped."""
+        reason = self.filter.reason(lemma, lower)
+        if reason != KEEP and self.filter.reason(lower, lower) != KEEP:
+            return -reason
+        return 2 * self._id(PROVISIONAL + lower)
+
+    def choose(self, word: str) -> str:
+        """The lemma of a contested word when no corpus counts are known (the table's,
+        except where the table's lemma is not a word)."""
+        return self.headwords.decide(word, {}).lemma
 
     @abstractmethod
     def encode(self, texts: Sequence[str]) -> Encoded:
         """Encode texts (one per transcript) into token codes, sentence by sentence."""
 
     def kept(self, text: str) -> list[str]:
-        """The lemmas of a text that the filter keeps, in order."""
+        """The lemmas of a text that the filter keeps, in order (contested words resolved by
+        :meth:`choose`)."""
         codes = self.encode([text]).codes
-        return [self.types[c >> 1] for c in codes[codes >= 0].tolist()]
+        out = []
+        for c in codes[codes >= 0].tolist():
+            term = self.types[c >> 1]
+            if term.startswith(PROVISIONAL):
+                word = term[len(PROVISIONAL) :]
+                term = self.choose(word)
+                if self.filter.reason(term, word) != KEEP:
+                    continue
+            out.append(term)
+        return out
 
     def key(self, ws: Sequence[str]) -> int:
         """Boilerplate key of a sentence's words (0 when shorter than ``min_words``)."""
         if len(ws) < self.min_words:
             return 0
         return sentence_key(ws)
+
+
+class _Surface(NamedTuple):
+    """What the fast path knows about one distinct piece of text."""
+
+    kind: int
+    code: int = 0  # token code where the word is not a name
+    name_code: int = 0  # token code where it is a name
+    value: int = 0  # its value in sentence keys
+    soft: bool = False  # a filler: dropping it does not part its neighbours
+    cap: bool = False  # written with a capital
+    counted: int = -1  # index into the counted words, or -1
+    renamed: int = -1  # index into the names whose lemma would differ, or -1
 
 
 class FastLemmatizer(_Encoder):
@@ -278,6 +355,8 @@ class FastLemmatizer(_Encoder):
     case_fallback : bool
         Look a capitalised word up in lowercase when the table does not hold it as written
         (spaCy's lookup mode does not; see the module notes).
+    names, exceptions, headwords
+        The lemma checks (see :class:`_Encoder` and :mod:`talkthemes.prepare.headwords`).
     """
 
     def __init__(
@@ -288,77 +367,91 @@ class FastLemmatizer(_Encoder):
         min_words: int = 3,
         *,
         case_fallback: bool = True,
+        names: bool = False,
+        exceptions: Mapping[str, str] | None = None,
+        headwords: Headwords | None = None,
     ) -> None:
-        super().__init__(token_filter, lang, min_words)
+        super().__init__(
+            token_filter, lang, min_words, names=names, exceptions=exceptions, headwords=headwords
+        )
         self.table = table
         self.case_fallback = case_fallback
+        # words whose counts the decisions need (and the exceptions, for the report)
+        self.counted: list[str] = sorted(self.headwords.relevant | set(self.exceptions))
+        self._counted = {w: i for i, w in enumerate(self.counted)}
+        self.renamed: list[tuple[str, str]] = []
         # Every distinct piece of text seen (word, sentence end, transcript separator) gets
-        # a surface id; the per-surface tables below give its kind, token code and value
-        # in sentence keys, so that everything after the look-up is done by numpy.
+        # a surface id; the per-surface columns below say what it is, so that everything
+        # after the look-up is done by numpy.
         self._sid: dict[str, int] = {}
-        self._kind: list[int] = []
-        self._codes: list[int] = []
-        self._values: list[int] = []
-        self._soft: list[bool] = []  # a filler: dropping it does not part its neighbours
-        self._arrays: tuple[
-            NDArray[np.int8], NDArray[np.int64], NDArray[np.uint64], NDArray[np.bool_]
-        ] = (
-            np.zeros(0, dtype=np.int8),
-            np.zeros(0, dtype=np.int64),
-            np.zeros(0, dtype=np.uint64),
-            np.zeros(0, dtype=bool),
-        )
+        self._rows: list[_Surface] = []
+        self._columns: list[NDArray[Any]] = [
+            np.zeros(0, dtype=t)
+            for t in (np.int8, np.int64, np.int64, np.uint64, bool, bool, np.int64, np.int64)
+        ]
 
     def lemma(self, word: str) -> str:
-        """The lemma of one word (lowercased): the table's entry for it as written, else for
-        its lowercase form, else the lowercase word itself."""
+        """The lemma of one word (lowercased) by the table alone: its entry as written, else
+        for its lowercase form, else the lowercase word itself."""
         found = self.table.get(word)
         if found is None:
             low = word.lower()
             found = self.table.get(low, low) if self.case_fallback and low != word else word
         return found.lower()
 
-    def _new_surface(self, piece: str) -> int:
-        sid = self._sid[piece] = len(self._kind)
-        self._soft.append(False)
-        if piece == _DOC_SEP:
-            self._kind.append(_KIND_DOC)
-            self._codes.append(0)
-            self._values.append(0)
-        elif piece == _CUT:
-            self._kind.append(_KIND_CUT)
-            self._codes.append(0)
-            self._values.append(0)
-        elif piece == GAP:
-            self._kind.append(_KIND_GAP)
-            self._codes.append(0)
-            self._values.append(0)
-        elif piece in _MARK_CHARS:
-            self._kind.append(_KIND_MARK)
-            self._codes.append(0)
-            self._values.append(0)
+    def _word(self, piece: str) -> _Surface:
+        lower = piece.lower()
+        if lower in self.exceptions:
+            lemma = self.exceptions[lower]
+            code = name_code = self._term(lemma, lower)
         else:
-            lemma, lower = self.lemma(piece), piece.lower()
-            self._kind.append(_KIND_WORD)
-            self._codes.append(self._term(lemma, lower))
-            self._values.append(word_value(piece))
-            self._soft[-1] = self.filter.is_filler(lemma, lower)
+            lemma = self.lemma(piece)
+            if self.headwords.contested.get(lower) == lemma:
+                code = self._provisional(lower, lemma)
+            else:
+                code = self._term(lemma, lower)
+            name_code = self._term(lower, lower) if self.names else code
+        renamed = -1
+        if self.names and lemma != lower and name_code >= 0 and capitalised(piece):
+            renamed = len(self.renamed)
+            self.renamed.append((lower, lemma))
+        return _Surface(
+            _KIND_WORD,
+            code,
+            name_code,
+            word_value(piece),
+            self.filter.is_filler(lemma, lower),
+            self.names and capitalised(piece),
+            self._counted.get(lower, -1),
+            renamed,
+        )
+
+    def _new_surface(self, piece: str) -> int:
+        sid = self._sid[piece] = len(self._rows)
+        if piece == _DOC_SEP:
+            row = _Surface(_KIND_DOC)
+        elif piece == _CUT:
+            row = _Surface(_KIND_CUT)
+        elif piece == GAP:
+            row = _Surface(_KIND_GAP)
+        elif piece in _MARK_CHARS:
+            row = _Surface(_KIND_MARK)
+        else:
+            row = self._word(piece)
+        self._rows.append(row)
         return sid
 
-    def _tables(
-        self,
-    ) -> tuple[NDArray[np.int8], NDArray[np.int64], NDArray[np.uint64], NDArray[np.bool_]]:
-        kind, codes, values, soft = self._arrays
-        n = len(self._kind)
-        if kind.size < n:
-            kind = np.concatenate([kind, np.asarray(self._kind[kind.size :], dtype=np.int8)])
-            codes = np.concatenate([codes, np.asarray(self._codes[codes.size :], dtype=np.int64)])
-            values = np.concatenate(
-                [values, np.asarray(self._values[values.size :], dtype=np.uint64)]
-            )
-            soft = np.concatenate([soft, np.asarray(self._soft[soft.size :], dtype=bool)])
-            self._arrays = (kind, codes, values, soft)
-        return kind, codes, values, soft
+    def _tables(self) -> list[NDArray[Any]]:
+        """The per-surface columns (kind, code, name_code, value, soft, cap, counted,
+        renamed) as arrays, extended with the surfaces seen since the last call."""
+        have = self._columns[0].size
+        if have < len(self._rows):
+            new = list(zip(*self._rows[have:], strict=True))
+            self._columns = [
+                np.concatenate([col, np.asarray(vals, dtype=col.dtype)])
+                for col, vals in zip(self._columns, new, strict=True)
+            ]
+        return self._columns
 
     def encode(self, texts: Sequence[str]) -> Encoded:
         """Encode texts (one per transcript) into token codes, sentence by sentence.
@@ -366,7 +459,7 @@ class FastLemmatizer(_Encoder):
         The texts are joined with a separator and split by one regular-expression pass into
         words, sentence ends (see :func:`~talkthemes.prepare.boilerplate.split_sentences`)
         and separators; each piece is looked up once in the surface table, and codes,
-        sentences and boilerplate keys follow with numpy.
+        names, sentences and boilerplate keys follow with numpy.
         """
         if not texts:
             return _empty_encoded()
@@ -382,7 +475,9 @@ class FastLemmatizer(_Encoder):
                 for s, p in zip(sids, pieces, strict=True)
             ]
         arr = np.fromiter(sids, dtype=np.int64, count=len(sids))
-        kind_of, code_of, value_of, soft_of = self._tables()
+        kind_of, code_of, name_code_of, value_of, soft_of, cap_of, counted_of, renamed_of = (
+            self._tables()
+        )
         kind = kind_of[arr]
         is_doc = kind == _KIND_DOC
         doc = np.cumsum(is_doc)
@@ -399,7 +494,8 @@ class FastLemmatizer(_Encoder):
         starts = np.flatnonzero(first)
         lengths = np.diff(np.append(starts, at.size))
         word = arr[at]
-        codes = code_of[word]
+        name = self._name_positions(cap_of[word], first, lengths)
+        codes = np.where(name, name_code_of[word], code_of[word])
         cut_word = cut[at]
         codes[cut_word] = -NON_ALPHA
         # a piece breaks adjacency when it is a gap mark or a dropped word (not a filler)
@@ -411,7 +507,32 @@ class FastLemmatizer(_Encoder):
             keys=sentence_keys(value_of[word], lengths, self.min_words),
             n_sentences=np.bincount(doc[at[starts]], minlength=len(texts)),
             breaks=kept_breaks(np.cumsum(breaking)[at], codes >= 0, first),
+            counts=_tally(counted_of[word][~name], self.counted),
+            names=_tally(renamed_of[word][name], self.renamed),
         )
+
+    def _name_positions(
+        self, cap: NDArray[np.bool_], first: NDArray[np.bool_], lengths: NDArray[np.int64]
+    ) -> NDArray[np.bool_]:
+        """:func:`~talkthemes.prepare.headwords.name_flags` over every sentence at once."""
+        if not self.names or not cap.any():
+            return np.zeros(cap.size, dtype=bool)
+        # the next word is capitalised and in the same sentence
+        next_cap = np.zeros(cap.size, dtype=bool)
+        next_cap[:-1] = cap[1:] & ~first[1:]
+        sentence = np.cumsum(first) - 1
+        caps = np.bincount(sentence, weights=cap, minlength=lengths.size)
+        all_caps = (caps == lengths) & (lengths >= ALL_CAPS_MIN_WORDS)
+        return cap & (~first | next_cap) & ~all_caps[sentence]
+
+
+def _tally(index: NDArray[np.int64], keys: Sequence[Any]) -> dict[Any, int]:
+    """Counts of ``keys[i]`` for every ``i >= 0`` in ``index``."""
+    index = index[index >= 0]
+    if index.size == 0:
+        return {}
+    found = np.bincount(index, minlength=len(keys))
+    return {keys[i]: int(found[i]) for i in np.flatnonzero(found).tolist()}
 
 
 def kept_breaks(
@@ -467,6 +588,9 @@ class SpacyLemmatizer(_Encoder):
         As for :class:`FastLemmatizer`.
     name : str
         The pipeline's name, for messages.
+    names, exceptions
+        The lemma checks (see :class:`_Encoder`); the headword check is for the lookup
+        table only (a pipeline tells parts of speech apart).
     """
 
     def __init__(
@@ -479,8 +603,10 @@ class SpacyLemmatizer(_Encoder):
         n_process: int = 1,
         min_words: int = 3,
         name: str = "",
+        names: bool = False,
+        exceptions: Mapping[str, str] | None = None,
     ) -> None:
-        super().__init__(token_filter, str(nlp.lang), min_words)
+        super().__init__(token_filter, str(nlp.lang), min_words, names=names, exceptions=exceptions)
         self.nlp = nlp
         self.pos_keep = frozenset(pos_keep)
         self.batch_size = batch_size
@@ -499,6 +625,8 @@ class SpacyLemmatizer(_Encoder):
         batch_size: int = 1000,
         n_process: int = 1,
         min_words: int = 3,
+        names: bool = False,
+        exceptions: Mapping[str, str] | None = None,
     ) -> SpacyLemmatizer:
         """Load an installed spaCy pipeline (a package name or a folder) for the chain.
 
@@ -533,6 +661,8 @@ class SpacyLemmatizer(_Encoder):
             n_process=n_process,
             min_words=min_words,
             name=name,
+            names=names,
+            exceptions=exceptions,
         )
 
     def encode(self, texts: Sequence[str]) -> Encoded:
@@ -564,9 +694,14 @@ class SpacyLemmatizer(_Encoder):
         )
         pos_keep = self.pos_keep
         candidates = tagged = 0
+        renamed: dict[tuple[str, str], int] = {}
         for doc in docs:
             n = 0
             gap = True  # the first kept token of a sentence starts a run
+            spoken = [t for t in doc if not (t.is_space or t.is_punct or t.text == GAP)]
+            named = {
+                t.i for t, f in zip(spoken, name_flags([t.text for t in spoken]), strict=True) if f
+            }
             for tok in doc:
                 if tok.text == GAP:
                     gap = True
@@ -577,8 +712,15 @@ class SpacyLemmatizer(_Encoder):
                     codes.append(-NON_ALPHA)
                     breaks.append(False)
                     continue
+                lower = tok.lower_
                 lemma = (tok.lemma_ or tok.text).lower()
-                code = self._term(lemma, tok.lower_)
+                if lower in self.exceptions:
+                    lemma = self.exceptions[lower]
+                elif self.names and tok.i in named and lemma != lower:
+                    key = (lower, lemma)
+                    renamed[key] = renamed.get(key, 0) + 1
+                    lemma = lower
+                code = self._term(lemma, lower)
                 if code >= 0 and pos_keep:
                     candidates += 1
                     tagged += bool(tok.pos_)
@@ -588,7 +730,7 @@ class SpacyLemmatizer(_Encoder):
                 breaks.append(gap and code >= 0)
                 if code >= 0:
                     gap = False
-                elif not self.filter.is_filler(lemma, tok.lower_):
+                elif not self.filter.is_filler(lemma, lower):
                     gap = True
             lengths.append(n)
         if pos_keep and not self._pos_checked and candidates:
@@ -605,4 +747,6 @@ class SpacyLemmatizer(_Encoder):
             np.asarray(keys, dtype=np.int64),
             np.asarray(n_sentences, dtype=np.int64),
             np.asarray(breaks, dtype=bool),
+            {},
+            renamed,
         )
