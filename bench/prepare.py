@@ -87,7 +87,7 @@ def measure(root: Path, sample: int, spacy_sample: int) -> dict:
     marks: list[tuple[str, int, int, float]] = []
     t0 = time.perf_counter()
     result = run_prepare(
-        ws, force=True, progress=lambda s, d, t: marks.append((s, d, t, time.perf_counter()))
+        ws, force=True, progress=lambda d, t, s: marks.append((s, d, t, time.perf_counter()))
     )
     total = time.perf_counter() - t0
     stages: dict[str, float] = {}

@@ -352,9 +352,7 @@ def prepare(
         _lock(ws, "prepare", wait),
         _progress("prepare", enabled=not as_json) as update,
     ):
-        result = run_prepare(
-            ws, force=force, progress=lambda stage, done, total: update(done, total, stage)
-        )
+        result = run_prepare(ws, force=force, progress=update)
     if as_json:
         doc = explain_json(result)
         _emit_json(doc)
@@ -783,7 +781,7 @@ def demo(
             report = run_ingest(ws, [files.exports], manifests=[files.manifest], progress=update)
         doc["ingest"] = report.to_json()["totals"]
         with _progress("prepare", enabled=not quiet) as update:
-            prep = run_prepare(ws, progress=lambda s, d, t: update(d, t, s))
+            prep = run_prepare(ws, progress=update)
         doc["prep"] = prep.summary
         with _progress("sweep cells", enabled=not quiet) as update:
             result = run_sweep(ws, k=k, seeds=seeds, progress=update)

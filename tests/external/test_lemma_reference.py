@@ -31,7 +31,7 @@ from talkthemes.prepare.boilerplate import split_sentences
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.filter import KEEP
 from talkthemes.prepare.headwords import name_flags
-from talkthemes.prepare.lemmas import words
+from talkthemes.prepare.words import words
 
 LEE = Path(gensim.__file__).parent / "test" / "test_data" / "lee_background.cor"
 SETTINGS = PrepareSettings(n_process=1, min_tokens=5)

@@ -28,8 +28,8 @@ from talkthemes.prepare.boilerplate import split_sentences
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.filter import KEEP
 from talkthemes.prepare.headwords import name_flags
-from talkthemes.prepare.lemmas import GAP
 from talkthemes.prepare.phrases import learn_phrases
+from talkthemes.prepare.words import GAP
 
 
 def test_reference_library_version():

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from talkthemes.config import PrepareSettings
-from talkthemes.frozen import PrepApplier, PrepSpec
+from talkthemes.prepare.frozen import PrepApplier, PrepSpec
 
 VOCABULARY = ["late_fee", "late", "fee", "smart_meter", "smart", "meter", "charge"]
 

@@ -11,9 +11,9 @@ from rich.console import Console
 
 from talkthemes.config import PrepareSettings
 from talkthemes.errors import ConfigError
-from talkthemes.frozen import PrepApplier, PrepSpec
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.explain import render_explain
+from talkthemes.prepare.frozen import PrepApplier, PrepSpec
 from talkthemes.prepare.headwords import (
     Headwords,
     load_lemma_index,
@@ -21,7 +21,7 @@ from talkthemes.prepare.headwords import (
     name_flags,
     regular_inflection,
 )
-from talkthemes.prepare.lemmas import load_lemma_table
+from talkthemes.prepare.lexicon import load_lemma_table
 
 
 @pytest.fixture(scope="module")

@@ -82,6 +82,7 @@ _EN_SUFFIXES = ("s", "es", "ed", "d", "ing", "er", "est", "r", "st")
 def load_lemma_index(lang: str) -> frozenset[str]:
     """The base forms of spaCy's ``lemma_index`` table, every part of speech (empty when
     spacy-lookups-data ships none for the language)."""
+    # spaCy is heavy to import: deferred to first use on purpose
     from spacy.util import load_language_data, registry
 
     tables = registry.lookups.get_all().get(lang)
@@ -94,6 +95,7 @@ def load_lemma_index(lang: str) -> frozenset[str]:
 @cache
 def load_lemma_rules(lang: str) -> tuple[tuple[str, str], ...]:
     """spaCy's suffix rules (``lemma_rules``: old ending → new ending), every part of speech."""
+    # spaCy is heavy to import: deferred to first use on purpose
     from spacy.util import load_language_data, registry
 
     tables = registry.lookups.get_all().get(lang)
@@ -291,7 +293,7 @@ def resolve_tokens(
     """Replace the provisional terms by the decided lemmas; drop those the filter drops.
 
     The one place where decisions are applied: the chain (:mod:`talkthemes.prepare.assemble`)
-    and a frozen prep (:mod:`talkthemes.frozen`) both call it.
+    and a frozen prep (:mod:`talkthemes.prepare.frozen`) both call it.
 
     Parameters
     ----------

@@ -132,6 +132,7 @@ def learn_phrases(
     frozen : gensim.models.phrases.FrozenPhrases
         The frozen gensim model (phrase strings → scores in ``phrasegrams``).
     """
+    # gensim is heavy to import: deferred to first use on purpose
     from gensim.models.phrases import Phrases
 
     n_types = len(types)
@@ -247,7 +248,7 @@ def join_runs(
     """Join a model's phrases inside runs of adjacent tokens, keeping the sentence layout.
 
     The one place where phrases are applied: the chain (:mod:`talkthemes.prepare.assemble`)
-    and a frozen prep (:mod:`talkthemes.frozen`) both call it.
+    and a frozen prep (:mod:`talkthemes.prepare.frozen`) both call it.
 
     Parameters
     ----------
