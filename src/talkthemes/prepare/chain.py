@@ -288,7 +288,6 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
             lang=lang,
             pos_keep=settings.pos_keep,
             batch_size=settings.batch_size,
-            n_process=resolve_processes(settings.n_process),
             min_words=settings.boilerplate_min_words,
             names=settings.names,
             exceptions=settings.lemma_exceptions,

@@ -33,12 +33,16 @@ class SpacyLemmatizer(Encoder):
     token_filter : TokenFilter
     pos_keep : sequence of str
         Universal parts of speech kept; empty keeps every part of speech.
-    batch_size, n_process : int
-        Passed to ``nlp.pipe``.
+    batch_size : int
+        Passed to ``nlp.pipe`` (always with ``n_process=1``: the chain's own worker
+        processes, :mod:`talkthemes.prepare.workers`, run pipelines in parallel).
     min_words : int
         As for :class:`FastLemmatizer`.
     name : str
         The pipeline's name, for messages.
+    source : str
+        The name or folder it was loaded from (:meth:`load`); a worker process loads the
+        pipeline again from it instead of receiving the pipeline itself.
     names, exceptions
         The lemma checks (see :class:`Encoder`); the headword check is for the lookup
         table only (a pipeline tells parts of speech apart).
@@ -51,9 +55,9 @@ class SpacyLemmatizer(Encoder):
         *,
         pos_keep: Sequence[str] = (),
         batch_size: int = 1000,
-        n_process: int = 1,
         min_words: int = 3,
         name: str = "",
+        source: str = "",
         names: bool = False,
         exceptions: Mapping[str, str] | None = None,
     ) -> None:
@@ -61,9 +65,24 @@ class SpacyLemmatizer(Encoder):
         self.nlp = nlp
         self.pos_keep = frozenset(pos_keep)
         self.batch_size = batch_size
-        self.n_process = n_process
         self.name = name or str(nlp.meta.get("name", "pipeline"))
+        self.source = source
         self._pos_checked = not self.pos_keep
+
+    def __reduce__(self) -> tuple[Any, tuple[Any, ...]]:
+        """Pickle by name: the receiving process loads the pipeline again (:meth:`load`)."""
+        if not self.source:
+            raise TypeError("a spaCy pipeline not loaded by name cannot be sent to a process")
+        return _load_again, (
+            self.source,
+            self.filter,
+            self.lang,
+            tuple(self.pos_keep),
+            self.batch_size,
+            self.min_words,
+            self.names,
+            self.exceptions,
+        )
 
     @classmethod
     def load(
@@ -74,7 +93,6 @@ class SpacyLemmatizer(Encoder):
         lang: str,
         pos_keep: Sequence[str] = (),
         batch_size: int = 1000,
-        n_process: int = 1,
         min_words: int = 3,
         names: bool = False,
         exceptions: Mapping[str, str] | None = None,
@@ -110,9 +128,9 @@ class SpacyLemmatizer(Encoder):
             token_filter,
             pos_keep=pos_keep,
             batch_size=batch_size,
-            n_process=n_process,
             min_words=min_words,
             name=name,
+            source=name,
             names=names,
             exceptions=exceptions,
         )
@@ -142,7 +160,7 @@ class SpacyLemmatizer(Encoder):
         docs = self.nlp.pipe(
             [s.replace(GAP, f" {GAP} ") if GAP in s else s for s in sentences],
             batch_size=self.batch_size,
-            n_process=self.n_process,
+            n_process=1,
         )
         pos_keep = self.pos_keep
         candidates = tagged = 0
@@ -202,3 +220,25 @@ class SpacyLemmatizer(Encoder):
             {},
             renamed,
         )
+
+
+def _load_again(
+    source: str,
+    token_filter: TokenFilter,
+    lang: str,
+    pos_keep: Sequence[str],
+    batch_size: int,
+    min_words: int,
+    names: bool,
+    exceptions: Mapping[str, str],
+) -> SpacyLemmatizer:
+    return SpacyLemmatizer.load(
+        source,
+        token_filter,
+        lang=lang,
+        pos_keep=pos_keep,
+        batch_size=batch_size,
+        min_words=min_words,
+        names=names,
+        exceptions=exceptions,
+    )

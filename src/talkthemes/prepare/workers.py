@@ -2,9 +2,16 @@
 
 With ``[prepare] n_process`` > 1 each batch of transcripts goes to a process pool (started
 once per run); results come back in order. Workers start from a clean ``forkserver`` process
-(no threads of the caller are copied), which imports this module once; the processor with
-its tables is sent to each worker once. Callers from a script need the usual
+(no threads of the caller are copied), which imports the chain once; the processor with its
+tables is sent to each worker once (a spaCy pipeline is loaded again in each worker, by
+name, rather than sent). Callers from a script need the usual
 ``if __name__ == "__main__":`` guard.
+
+This pool is the only place the chain starts processes: a spaCy pipeline runs with
+``nlp.pipe(n_process=1)`` inside the workers, never with spaCy's own processes. Each worker
+watches the process that started the pool and exits within about a second once it is gone,
+so a ``prepare`` (or the prepare step of a refresh) killed with SIGKILL leaves no worker
+behind holding the terminal or a pipe (``tests/prepare/test_workers.py``).
 """
 
 from __future__ import annotations
@@ -16,6 +23,7 @@ from collections.abc import Iterable, Iterator, Sequence
 from concurrent.futures import Future, ProcessPoolExecutor
 from typing import Any
 
+from talkthemes.ingest.run import watch_parent
 from talkthemes.prepare.collect import BatchResult
 from talkthemes.prepare.pipeline import SpacyLemmatizer
 
@@ -39,8 +47,9 @@ def resolve_processes(n_process: int) -> int:
 _WORKER: Any = None
 
 
-def _init_worker(processor: Any) -> None:
+def _init_worker(processor: Any, parent: int) -> None:
     global _WORKER
+    watch_parent(parent)
     _WORKER = processor
 
 
@@ -52,13 +61,11 @@ def _work(batch: Batch) -> BatchResult:
 def map_batches(processor: Any, batches: Iterable[Batch], n_process: int) -> Iterator[BatchResult]:
     """Run ``processor.process`` over the batches, in order; on ``n_process`` workers when
     more than one."""
-    if n_process <= 1 or isinstance(processor.encoder, SpacyLemmatizer):
+    encoder = processor.encoder
+    if n_process <= 1 or (isinstance(encoder, SpacyLemmatizer) and not encoder.source):
         for batch in batches:
             yield processor.process(batch)
         return
-    # forkserver: workers start from a clean server process (no threads of the caller are
-    # copied), which imports this module once; the processor with its tables is sent to
-    # each worker once. Callers from a script need the usual ``if __name__ == "__main__"``.
     methods = multiprocessing.get_all_start_methods()
     if "forkserver" in methods:
         ctx = multiprocessing.get_context("forkserver")
@@ -66,7 +73,10 @@ def map_batches(processor: Any, batches: Iterable[Batch], n_process: int) -> Ite
     else:  # pragma: no cover - not Linux
         ctx = multiprocessing.get_context("spawn")
     pool = ProcessPoolExecutor(
-        max_workers=n_process, mp_context=ctx, initializer=_init_worker, initargs=(processor,)
+        max_workers=n_process,
+        mp_context=ctx,
+        initializer=_init_worker,
+        initargs=(processor, os.getpid()),
     )
     pending: deque[Future[BatchResult]] = deque()
     try:
