@@ -73,7 +73,7 @@ def decode(code: int) -> tuple[int, int, bool]:
 
 
 def kept_breaks(
-    seen: NDArray[np.integer], kept: NDArray[np.bool_], first: NDArray[np.bool_]
+    seen: NDArray[np.integer], kept: NDArray[np.bool_], sentence: NDArray[np.integer]
 ) -> NDArray[np.bool_]:
     """Which kept tokens do not directly follow the previous kept token of their sentence.
 
@@ -83,8 +83,8 @@ def kept_breaks(
         Running count of the pieces that break adjacency, up to and including the token
         (a breaking token counts itself; a kept token never breaks).
     kept : ndarray of bool, one per token
-    first : ndarray of bool, one per token
-        True at the first token of each sentence.
+    sentence : ndarray of int, one per token
+        The token's sentence (any numbering that changes between sentences).
 
     Returns
     -------
@@ -96,10 +96,10 @@ def kept_breaks(
     at = np.flatnonzero(kept)
     if at.size == 0:
         return out
-    sentence = np.cumsum(first)[at]
+    where = np.asarray(sentence)[at]
     count = np.asarray(seen)[at]
     brk = np.ones(at.size, dtype=bool)
-    brk[1:] = (sentence[1:] != sentence[:-1]) | (count[1:] != count[:-1])
+    brk[1:] = (where[1:] != where[:-1]) | (count[1:] != count[:-1])
     out[at] = brk
     return out
 
@@ -109,12 +109,17 @@ def empty_encoded(n_texts: int = 0) -> Encoded:
     return Encoded(z, z, z, np.zeros(n_texts, dtype=np.int64), np.zeros(0, dtype=bool))
 
 
-def tally(index: NDArray[np.int64], keys: Sequence[Any]) -> dict[Any, int]:
-    """Counts of ``keys[i]`` for every ``i >= 0`` in ``index``."""
-    index = index[index >= 0]
-    if index.size == 0:
+def tally(
+    index: NDArray[np.integer], keys: Sequence[Any], weights: NDArray[np.integer] | None = None
+) -> dict[Any, int]:
+    """Counts of ``keys[i]`` for every ``i >= 0`` in ``index`` (each counted ``weights``
+    times when given)."""
+    index = np.asarray(index)
+    use = index >= 0
+    if not use.any():
         return {}
-    found = np.bincount(index, minlength=len(keys))
+    w = None if weights is None else np.asarray(weights)[use]
+    found = np.bincount(index[use], weights=w, minlength=len(keys))
     return {keys[i]: int(found[i]) for i in np.flatnonzero(found).tolist()}
 
 

@@ -346,27 +346,35 @@ def resolve_tokens(
         else:
             reason[i] = why
             soft[i] = token_filter.is_filler(lemma, word)
-    dropped = reason[tokens] > 0
-    sentence = np.repeat(np.arange(sent_kept.size), sent_kept)
+    # only the provisional tokens need work (a small share of the stream)
+    is_provisional = np.zeros(len(types), dtype=bool)
+    is_provisional[provisional] = True
+    at = np.flatnonzero(is_provisional[tokens])
+    term = tokens[at]
+    why = reason[term]
+    sentence = np.searchsorted(np.cumsum(sent_kept), at, side="right")
     if sent_stats is not None:
         width = sent_stats.shape[1]
-        for col, mask in (
-            *((int(r), dropped & (reason[tokens] == r)) for r in np.unique(reason[reason > 0])),
-            (LEMMATISED, ~dropped & changed[tokens]),
-        ):
+        columns = [(int(r), why == r) for r in np.unique(why[why > 0])]
+        for col, mask in (*columns, (LEMMATISED, (why == 0) & changed[term])):
             if col < width and mask.any():
                 sent_stats[:, col] += np.bincount(sentence[mask], minlength=sent_kept.size).astype(
                     sent_stats.dtype
                 )
-    if dropped.any():
+    gone = why > 0
+    if gone.any():
         # a dropped word parts its neighbours unless it is a filler; a break before it
         # carries on to the next kept token
-        flag = dropped & (~soft[tokens] | breaks)
+        drop = at[gone]
+        flag = np.zeros(tokens.size, dtype=bool)
+        flag[drop] = ~soft[tokens[drop]] | breaks[drop]
         seen = np.cumsum(flag)
-        at = np.flatnonzero(~dropped)
-        before = seen[at]
+        keep = np.ones(tokens.size, dtype=bool)
+        keep[drop] = False
+        kept = np.flatnonzero(keep)
+        before = seen[kept]
         previous = np.concatenate([[0], before[:-1]])
-        breaks = breaks[at] | (before != previous)
-        sent_kept = sent_kept - np.bincount(sentence[dropped], minlength=sent_kept.size)
-        tokens = tokens[at]
+        breaks = breaks[kept] | (before != previous)
+        sent_kept = sent_kept - np.bincount(sentence[gone], minlength=sent_kept.size)
+        tokens = tokens[kept]
     return out_types, remap[tokens].astype(np.int32), breaks, sent_kept

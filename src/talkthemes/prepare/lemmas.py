@@ -245,33 +245,58 @@ class FastLemmatizer(Encoder):
         starts = np.flatnonzero(first)
         lengths = np.diff(np.append(starts, at.size))
         word = arr[at]
-        name = self._name_positions(cap_of[word], first, lengths)
-        codes = np.where(name, name_code_of[word], code_of[word])
+        codes = code_of[word]
+        named = self._names(cap_of, word, first, starts, lengths)
+        if named.size:
+            codes[named] = name_code_of[word[named]]
         cut_word = cut[at]
         codes[cut_word] = -NON_ALPHA
-        # a piece breaks adjacency when it is a gap mark or a dropped word (not a filler)
-        breaking = kind == KIND_GAP
-        breaking[at] = (codes < 0) & (~soft_of[word] | cut_word)
+        # a word breaks adjacency when it is dropped (and not a filler), and so does a gap
+        # mark (rare: counted before each word by a binary search)
+        seen = np.cumsum((codes < 0) & (~soft_of[word] | cut_word))
+        gaps = np.flatnonzero(kind == KIND_GAP)
+        if gaps.size:
+            seen += np.searchsorted(gaps, at)
         return Encoded(
             codes=codes,
             lengths=lengths,
             keys=sentence_keys(value_of[word], lengths, self.min_words),
             n_sentences=np.bincount(doc[at[starts]], minlength=len(texts)),
-            breaks=kept_breaks(np.cumsum(breaking)[at], codes >= 0, first),
-            counts=tally(counted_of[word][~name], self.counted),
-            names=tally(renamed_of[word][name], self.renamed),
+            breaks=kept_breaks(seen, codes >= 0, sent),
+            counts=self._counts(counted_of, word, named),
+            names=tally(renamed_of[word[named]], self.renamed),
         )
 
-    def _name_positions(
-        self, cap: NDArray[np.bool_], first: NDArray[np.bool_], lengths: NDArray[np.int64]
-    ) -> NDArray[np.bool_]:
-        """:func:`~talkthemes.prepare.headwords.name_flags` over every sentence at once."""
-        if not self.names or not cap.any():
-            return np.zeros(cap.size, dtype=bool)
-        # the next word is capitalised and in the same sentence
-        next_cap = np.zeros(cap.size, dtype=bool)
-        next_cap[:-1] = cap[1:] & ~first[1:]
-        sentence = np.cumsum(first) - 1
-        caps = np.bincount(sentence, weights=cap, minlength=lengths.size)
-        all_caps = (caps == lengths) & (lengths >= ALL_CAPS_MIN_WORDS)
-        return cap & (~first | next_cap) & ~all_caps[sentence]
+    def _counts(
+        self, counted_of: NDArray[np.int64], word: NDArray[np.int64], named: NDArray[np.int64]
+    ) -> dict[str, int]:
+        """Times each counted word was said outside names (per surface, then per word)."""
+        if not self.counted:
+            return {}
+        per_surface = np.bincount(word, minlength=counted_of.size)
+        if named.size:
+            per_surface -= np.bincount(word[named], minlength=counted_of.size)
+        return tally(counted_of, self.counted, per_surface)
+
+    def _names(
+        self,
+        cap_of: NDArray[np.bool_],
+        word: NDArray[np.int64],
+        first: NDArray[np.bool_],
+        starts: NDArray[np.int64],
+        lengths: NDArray[np.int64],
+    ) -> NDArray[np.int64]:
+        """Positions of the names (:func:`~talkthemes.prepare.headwords.name_flags` over
+        every sentence at once; only the capitalised words are looked at)."""
+        cap = cap_of[word] if self.names else np.zeros(0, dtype=bool)
+        at = np.flatnonzero(cap)
+        if at.size == 0:
+            return at
+        sentence = np.searchsorted(starts, at, side="right") - 1
+        all_caps = (np.bincount(sentence, minlength=lengths.size) == lengths) & (
+            lengths >= ALL_CAPS_MIN_WORDS
+        )
+        # a sentence's first word is a name only when the next word is a capitalised one
+        after = np.minimum(at + 1, word.size - 1)
+        next_cap = (at + 1 < word.size) & cap[after] & ~first[after]
+        return at[(~first[at] | next_cap) & ~all_caps[sentence]]
