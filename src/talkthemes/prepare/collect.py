@@ -20,7 +20,6 @@ __all__ = ["BatchResult", "Collected"]
 
 
 @dataclass
-@dataclass
 class BatchResult:
     """The per-transcript phase's output for one batch (integer arrays, picklable).
 

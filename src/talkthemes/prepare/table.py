@@ -16,7 +16,6 @@ __all__ = ["CorpusStep", "TokenTable", "start_table"]
 
 
 @dataclass
-@dataclass
 class TokenTable:
     """The corpus phase's state: every transcript's kept tokens, sentence by sentence.
 
