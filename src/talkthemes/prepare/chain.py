@@ -75,7 +75,7 @@ STAGES: tuple[str, ...] = ("read", "lemmas", "boilerplate", "phrases", "vocabula
 _MIN_BATCHES_PER_WORKER = 2
 
 #: What the scrub step leaves in place of what it removes: the words on either side are
-#: not adjacent (see :data:`talkthemes.prepare.lemmas.GAP`).
+#: not adjacent (see :data:`talkthemes.prepare.words.GAP`).
 _SCRUB_MARK = f" {GAP} "
 
 #: Fewer terms than this left after the vocabulary step stops the chain.
