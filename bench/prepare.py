@@ -2,14 +2,15 @@
 
     python bench/prepare.py 20000
     python bench/prepare.py 100000 --n-process 2
+    python bench/prepare.py 20000 --repeat 3 --workspace /tmp/ws   # medians of 3 runs
 
 Steps:
 
 1. Generate N demo calls (:func:`talkthemes.demo.iter_demo_calls`) and store them in a
    temporary workspace (setup; timed but not part of prepare).
-2. In a fresh child process, run :func:`talkthemes.prepare.run_prepare` and time each
-   stage from its progress callback; peak memory is the child's (and its workers')
-   ``ru_maxrss``.
+2. In a fresh child process, run :func:`talkthemes.prepare.run_prepare` (``--repeat``
+   times; the figures are medians) and time each stage from its progress callback; peak
+   memory is the child's (and its workers') ``ru_maxrss``.
 3. In the same child, time each per-transcript step alone on a sample of the stored
    transcripts (store read, roles, scrub, words + lemmas + filter; the word cache warm, as
    it is after the first batches of a run), and the tokenisation of the same text by
@@ -25,6 +26,7 @@ import argparse
 import json
 import os
 import resource
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -75,7 +77,7 @@ def setup(root: Path, n: int, seed: int, n_process: int) -> dict[str, float]:
     return {"seconds": time.perf_counter() - t0, "mb": nbytes / 1e6, "stored": stored}
 
 
-def measure(root: Path, sample: int, spacy_sample: int) -> dict:
+def measure(root: Path, sample: int, spacy_sample: int, repeat: int = 1) -> dict:
     """Run in the child process: prepare, then the per-step and spaCy timings."""
     from talkthemes.prepare import run_prepare
     from talkthemes.prepare.chain import build_processor
@@ -84,17 +86,25 @@ def measure(root: Path, sample: int, spacy_sample: int) -> dict:
     from talkthemes.workspace import Workspace
 
     ws = Workspace(root)
-    marks: list[tuple[str, int, int, float]] = []
-    t0 = time.perf_counter()
-    result = run_prepare(
-        ws, force=True, progress=lambda s, d, t: marks.append((s, d, t, time.perf_counter()))
-    )
-    total = time.perf_counter() - t0
-    stages: dict[str, float] = {}
-    start = {}
-    for stage, _done, _total, at in marks:
-        start.setdefault(stage, at)
-        stages[stage] = at - start[stage]
+    totals: list[float] = []
+    runs: list[dict[str, float]] = []
+    for _ in range(repeat):
+        marks: list[tuple[str, int, int, float]] = []
+        t0 = time.perf_counter()
+        result = run_prepare(
+            ws,
+            force=True,
+            progress=lambda d, t, s, marks=marks: marks.append((s, d, t, time.perf_counter())),
+        )
+        totals.append(time.perf_counter() - t0)
+        stages_run: dict[str, float] = {}
+        start: dict[str, float] = {}
+        for stage, _done, _total, at in marks:
+            start.setdefault(stage, at)
+            stages_run[stage] = at - start[stage]
+        runs.append(stages_run)
+    total = statistics.median(totals)
+    stages = {k: statistics.median(r.get(k, 0.0) for r in runs) for k in runs[0]}
     peak_self = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     peak_children = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
 
@@ -142,6 +152,7 @@ def measure(root: Path, sample: int, spacy_sample: int) -> dict:
         "prep": result.prep_hash,
         "summary": result.summary,
         "total_seconds": total,
+        "totals": totals,
         "stages": stages,
         "peak_mb_main": peak_self,
         "peak_mb_workers": peak_children,
@@ -169,6 +180,8 @@ def report(made: dict, got: dict) -> None:
     mb, n = made["mb"], made["stored"]
     print(f"demo corpus: {n:,} calls, {mb:.1f} MB of text, stored in {made['seconds']:.1f} s")
     print(f"prepare: n_process = {got['n_process']} (0 = one per core), cpus = {got['cpus']}")
+    runs = ", ".join(f"{t:.2f}" for t in got["totals"])
+    print(f"  runs (s)       {runs}; the figures below are medians")
     print(f"  total          {_rate(n, mb, got['total_seconds'])}")
     for stage, seconds in got["stages"].items():
         print(f"  {stage:<14} {_rate(n, mb, seconds)}")
@@ -202,13 +215,14 @@ def main() -> None:
     parser.add_argument("--n-process", type=int, default=0, help="[prepare] n_process")
     parser.add_argument("--sample", type=int, default=5_000, help="transcripts for step timings")
     parser.add_argument("--spacy-sample", type=int, default=2_000, help="transcripts for spaCy")
+    parser.add_argument("--repeat", type=int, default=1, help="prepare runs (medians shown)")
     parser.add_argument(
         "--workspace", type=Path, help="keep the workspace here (reused when it exists)"
     )
     parser.add_argument("--child", type=Path, help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.child:
-        print(json.dumps(measure(args.child, args.sample, args.spacy_sample)))
+        print(json.dumps(measure(args.child, args.sample, args.spacy_sample, args.repeat)))
         return
     with tempfile.TemporaryDirectory(prefix="tt-bench-") as tmp:
         root = args.workspace or Path(tmp) / "ws"
@@ -223,6 +237,8 @@ def main() -> None:
                 str(args.sample),
                 "--spacy-sample",
                 str(args.spacy_sample),
+                "--repeat",
+                str(args.repeat),
             ],
             check=True,
             capture_output=True,

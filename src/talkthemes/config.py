@@ -179,6 +179,31 @@ class PrepareSettings(_Section):
         default_factory=lambda: ["NOUN", "PROPN", "VERB", "ADJ"],
         description="Parts of speech kept when a spaCy pipeline is configured.",
     )
+    names: bool = Field(
+        True,
+        description=(
+            "Keep capitalised words that do not start a sentence (and names of several "
+            "capitalised words) as written, lower-cased, instead of lemmatising them "
+            "(Wales stays wales). Off for languages that capitalise every noun."
+        ),
+    )
+    lemma_keep_ratio: float = Field(
+        2.0,
+        ge=0,
+        description=(
+            "A word the lemma table maps to another word, although it is a dictionary word "
+            "itself (number -> numb), keeps its own form when it is said at least this many "
+            "times as often as the table's lemma (each with its own inflections). "
+            "0 follows the table."
+        ),
+    )
+    lemma_exceptions: dict[str, str] = Field(
+        default_factory=dict,
+        description=(
+            'Your own lemmas, word as said -> lemma, e.g. { lost = "lost", data = '
+            '"data" }; they win over the table and the check above.'
+        ),
+    )
     min_token_length: int = Field(3, ge=1, description="Shorter tokens are dropped.")
     fillers: bool = Field(
         True, description="Drop the shipped list of conversational fillers and back-channels."
@@ -205,6 +230,16 @@ class PrepareSettings(_Section):
     )
     batch_size: int = Field(1000, ge=1, description="Transcripts read from the store per batch.")
     n_process: int = Field(0, ge=0, description="Worker processes for the chain; 0 = one per core.")
+
+    @field_validator("lemma_exceptions")
+    @classmethod
+    def _one_word_each(cls, value: dict[str, str]) -> dict[str, str]:
+        out = {}
+        for word, lemma in value.items():
+            if not (word.strip().isalpha() and lemma.strip().isalpha()):
+                raise ValueError(f"{word!r} = {lemma!r}: each side must be one word of letters")
+            out[word.strip().lower()] = lemma.strip().lower()
+        return out
 
 
 class SweepSettings(_Section):
@@ -430,6 +465,9 @@ def _toml_value(value: Any) -> str:
         return '"' + value.replace("\\", "\\\\").replace('"', '\\"') + '"'
     if isinstance(value, list):
         return "[" + ", ".join(_toml_value(v) for v in value) + "]"
+    if isinstance(value, dict):
+        items = ", ".join(f"{_toml_value(str(k))} = {_toml_value(v)}" for k, v in value.items())
+        return "{ " + items + " }" if items else "{}"
     raise TypeError(f"cannot write {type(value).__name__} to TOML")
 
 

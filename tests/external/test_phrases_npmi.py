@@ -6,19 +6,30 @@ Sources:
   with npmi = 1 for complete co-occurrence, 0 for independence, -1 in the limit of never
   co-occurring.
 - gensim 4.4.0, ``gensim.models.phrases.npmi_scorer`` (reference library), probabilities
-  taken as counts divided by the corpus word count.
+  taken as counts divided by the corpus word count; and ``gensim.models.phrases.Phrases``
+  (``scoring="npmi"``) trained and applied the ordinary way on the stream of adjacent words,
+  built here by a plain loop over the text, independently of the chain's numpy code.
 """
 
 from __future__ import annotations
 
 import math
+import re
+from collections import Counter
 
 import gensim
 import numpy as np
 import pytest
-from gensim.models.phrases import npmi_scorer
+from gensim.models.phrases import Phrases, npmi_scorer
 
+from talkthemes.config import PrepareSettings
+from talkthemes.demo import iter_demo_calls
+from talkthemes.prepare.boilerplate import split_sentences
+from talkthemes.prepare.chain import build_processor, prepare_corpus
+from talkthemes.prepare.filter import KEEP
+from talkthemes.prepare.headwords import name_flags
 from talkthemes.prepare.phrases import learn_phrases
+from talkthemes.prepare.words import GAP
 
 
 def test_reference_library_version():
@@ -67,3 +78,70 @@ def test_threshold_is_strict():
     assert model.names == ["a_b"] and model.scores[0] == pytest.approx(1.0)
     model, _ = learn_phrases(tokens, lengths, types, threshold=1.0, min_count=1)
     assert model.names == []
+
+
+# -- the chain's phrases equal gensim's Phrases on the adjacent-word stream ------------------
+_WORD = re.compile(r"(\w+)(-(?=\s|$))?")  # a word, and a hyphen when it was cut off
+
+
+def adjacent_runs(calls, settings: PrepareSettings, choices: dict[str, str]) -> list[list[str]]:
+    """Runs of adjacent kept lemmas, by a plain loop: a removed word ends a run unless it is
+    a filler; scrubbed text, a word cut off, a sentence or turn end one too. Lemmas are the
+    lookup table's, with the chain's lemma checks (names, the corpus's ``choices``)."""
+    processor = build_processor(settings)
+    enc = processor.encoder
+    runs: list[list[str]] = []
+    for call in calls:
+        text, *_ = processor.text([(t.role, t.text) for t in call.turns])
+        for sentence in split_sentences(text):
+            # (piece, match): the pieces are the parts between scrubbed text
+            found = [
+                (p, m)
+                for p, piece in enumerate(sentence.replace("n't", " not").split(GAP))
+                for m in _WORD.finditer(piece)
+            ]
+            names = name_flags([m.group(1) for _, m in found])  # names are per sentence
+            run: list[str] = []
+            for i, ((piece, m), name) in enumerate(zip(found, names, strict=True)):
+                if i and piece != found[i - 1][0]:
+                    runs.append(run)  # scrubbed text stood here
+                    run = []
+                word = m.group(1)
+                lower = word.lower()
+                lemma = lower if name else choices.get(lower, enc.lemma(word))
+                if m.group(2) is None and enc.filter.reason(lemma, lower) == KEEP:
+                    run.append(lemma)
+                elif m.group(2) is not None or not enc.filter.is_filler(lemma, lower):
+                    runs.append(run)
+                    run = []
+            runs.append(run)
+    return [r for r in runs if r]
+
+
+def test_chain_phrases_equal_gensim_on_the_adjacent_stream():
+    settings = PrepareSettings(
+        n_process=1,
+        boilerplate_min_share=0.0,
+        phrase_min_count=8,
+        phrase_threshold=0.5,
+        vocab_min_docs=2,
+        min_tokens=5,
+    )
+    calls = list(iter_demo_calls(300, seed=11))
+    batch = [(c.call_id, [(t.role, t.text) for t in c.turns]) for c in calls]
+    corpus, explain = prepare_corpus(lambda: [batch], settings)
+    ours = {name: score for name, score in corpus.info["phrases"]}
+
+    runs = adjacent_runs(calls, settings, corpus.info["lemmas"]["choices"])
+    reference = Phrases(runs, min_count=8, threshold=0.5, scoring="npmi", delimiter="_")
+    frozen = reference.freeze()
+    assert len(frozen.phrasegrams) >= 20  # the check has substance
+    assert set(ours) == set(frozen.phrasegrams)
+    for name, score in ours.items():
+        assert score == pytest.approx(frozen.phrasegrams[name], abs=1e-6)
+    # the same pairs are joined, as often
+    joined = Counter(w for run in runs for w in frozen[run] if "_" in w)
+    assert explain["phrases"]["tokens_joined"] == sum(joined.values())
+    assert explain["phrases"]["phrases"] == len(joined)
+    for row in explain["phrases"]["top"]:
+        assert row["count"] == joined[row["phrase"]], row["phrase"]

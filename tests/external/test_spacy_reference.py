@@ -23,7 +23,8 @@ from talkthemes.demo import iter_demo_calls
 from talkthemes.prepare.boilerplate import split_sentences
 from talkthemes.prepare.chain import build_processor
 from talkthemes.prepare.filter import KEEP
-from talkthemes.prepare.lemmas import FastLemmatizer, spacy_stop_words
+from talkthemes.prepare.lemmas import FastLemmatizer
+from talkthemes.prepare.lexicon import spacy_stop_words
 
 
 def test_reference_versions():

@@ -78,7 +78,7 @@ def prepared():
         source_of(data),
         SETTINGS,
         total=len(data),
-        progress=lambda stage, done, total: calls.append((stage, done, total)),
+        progress=lambda done, total, what: calls.append((what, done, total)),
     )
     return data, corpus, explain, calls
 

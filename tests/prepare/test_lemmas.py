@@ -12,6 +12,7 @@ import spacy
 from talkthemes.config import PrepareSettings
 from talkthemes.errors import ConfigError
 from talkthemes.prepare.chain import build_processor, prepare_corpus
+from talkthemes.prepare.encoding import decode
 from talkthemes.prepare.filter import (
     FILLER,
     KEEP,
@@ -23,15 +24,10 @@ from talkthemes.prepare.filter import (
     filler_languages,
     load_fillers,
 )
-from talkthemes.prepare.lemmas import (
-    FastLemmatizer,
-    SpacyLemmatizer,
-    decode,
-    load_lemma_table,
-    lookup_languages,
-    spacy_stop_words,
-    words,
-)
+from talkthemes.prepare.lemmas import FastLemmatizer
+from talkthemes.prepare.lexicon import load_lemma_table, lookup_languages, spacy_stop_words
+from talkthemes.prepare.pipeline import SpacyLemmatizer
+from talkthemes.prepare.words import words
 
 
 @pytest.fixture(scope="module")

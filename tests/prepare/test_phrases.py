@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 import random
 
 import numpy as np
@@ -102,3 +103,95 @@ def test_empty_input():
     assert len(model) == 0
     out, lengths, joined = apply_phrases(tokens, np.zeros(0, dtype=np.int64), model, 0)
     assert out.size == 0 and lengths.size == 0 and joined.size == 0
+
+
+# -- only adjacent words -------------------------------------------------------------------
+def test_run_lengths_and_join_runs_keep_the_sentence_layout():
+    from talkthemes.prepare.phrases import PhraseModel, join_runs, run_lengths
+
+    # two sentences: [a b | a b] and [b a b]; a gap inside the first sentence
+    tokens = np.array([0, 1, 0, 1, 1, 0, 1], dtype=np.int32)
+    breaks = np.array([1, 0, 1, 0, 1, 0, 0], dtype=bool)
+    assert run_lengths(breaks).tolist() == [2, 2, 3]
+    model = PhraseModel(
+        pairs=np.array([[0, 1]]),
+        scores=np.array([0.9]),
+        names=["a_b"],
+        bigram_counts=np.array([3]),
+    )
+    out, new_breaks, sent_kept, joined = join_runs(tokens, breaks, np.array([4, 3]), model, 2)
+    assert out.tolist() == [2, 2, 1, 2]
+    assert new_breaks.tolist() == [True, True, True, False]
+    assert sent_kept.tolist() == [2, 2]
+    assert joined.tolist() == [3]
+    with pytest.raises(ValueError, match="start a run"):
+        run_lengths(np.array([False, True]))
+
+
+def test_breaks_mark_where_words_were_removed():
+    from talkthemes.config import PrepareSettings
+    from talkthemes.prepare.chain import build_processor
+
+    processor = build_processor(PrepareSettings())
+    enc = processor.encoder
+    text, *_ = processor.text(
+        [("customer", "Smart, um, meter charges the late fee. Account 12345678 balance")]
+    )
+    res = enc.encode([text])
+    kept = res.codes >= 0
+    terms = [enc.types[c >> 1] for c in res.codes[kept].tolist()]
+    assert terms == ["smart", "meter", "charge", "late", "fee", "account", "balance"]
+    # "um" is a filler (no break), "the" a stop word (break), the number was scrubbed
+    # (break), and every sentence starts a run
+    assert res.breaks[kept].tolist() == [True, False, False, True, False, True, True]
+
+
+def _planted(n_calls: int = 60) -> list[tuple[str, list[tuple[str, str]]]]:
+    """Invented calls: "parcel" and "depot" always have a stop word between them, "smart" and
+    "meter" are always adjacent or parted by a filler only."""
+    rng = random.Random(9)
+    topic = ["refund", "invoice", "driver", "courier", "label", "postcode", "window"]
+    calls = []
+    for i in range(n_calls):
+        turns = []
+        for _ in range(4):
+            w = rng.sample(topic, 3)
+            turns.append(("customer", f"The parcel to the depot was {w[0]} {w[1]}."))
+            turns.append(("customer", f"My smart, um, meter and {w[2]} then."))
+            turns.append(("customer", f"Parcel. Depot {w[0]}, {w[1]} {w[2]}."))
+        calls.append((f"c{i}", turns))
+    return calls
+
+
+def test_no_phrase_joins_words_that_were_never_adjacent():
+    from talkthemes.config import PrepareSettings
+    from talkthemes.prepare.chain import prepare_corpus
+
+    settings = PrepareSettings(
+        n_process=1,
+        vocab_min_docs=2,
+        min_tokens=5,
+        phrase_min_count=5,
+        phrase_threshold=0.3,
+        boilerplate_min_share=0.0,
+        vocab_max_doc_share=1.0,
+    )
+    data = _planted()
+    corpus, explain = prepare_corpus(lambda: [data], settings, min_terms=5)
+    names = {p["phrase"] for p in explain["phrases"]["top"]}
+    # "parcel ... depot" is frequent, but never adjacent: the stop words part them, and the
+    # sentence break parts "Parcel. Depot"
+    assert "parcel_depot" not in names and "parcel_depot" not in corpus.vocabulary
+    assert {"parcel", "depot"} <= set(corpus.vocabulary)
+    # a filler does not part words: "smart, um, meter" is adjacent
+    assert "smart_meter" in names
+    # every phrase learned joins words that are adjacent somewhere in the text
+    adjacent = set()
+    for _, turns in data:
+        for _, text in turns:
+            for sentence in text.lower().replace(",", "").split("."):
+                ws = [w for w in sentence.split() if w not in {"um"}]
+                adjacent.update(itertools.pairwise(ws))
+    for name in names:
+        first, second = name.split("_")
+        assert any(a.startswith(first[:4]) and b.startswith(second[:4]) for a, b in adjacent)

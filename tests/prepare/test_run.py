@@ -97,7 +97,7 @@ def test_first_run_writes_the_prep_and_records_it(filled: Workspace):
 def test_second_run_is_cached(filled: Workspace):
     first = run_prepare(filled)
     stages: list[str] = []
-    second = run_prepare(filled, progress=lambda stage, done, total: stages.append(stage))
+    second = run_prepare(filled, progress=lambda done, total, what: stages.append(what))
     assert second.cached
     assert second.prep_hash == first.prep_hash
     assert stages == []  # nothing was read

@@ -20,7 +20,7 @@ import logging
 import os
 import sys
 import tempfile
-from collections.abc import Callable, Iterator
+from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Annotated, Any
@@ -58,7 +58,6 @@ __all__ = [
     "out",
     "progress_bar",
     "say",
-    "staged",
     "writing",
 ]
 
@@ -212,26 +211,6 @@ def progress_bar(label: str, *, enabled: bool = True) -> Iterator[Progress]:
             bar.update(task, completed=done, total=total or None, what=shown)
 
         yield update
-
-
-def staged(progress: Progress) -> Callable[..., None]:
-    """Adapt ``progress`` for a library call that reports ``(stage, done, total)``.
-
-    compat: until the merge. ``run_prepare``, ``versions.publish`` and ``write_report``
-    call their callback as ``progress(stage, done, total)`` today; their owners are moving
-    them to the one protocol ``progress(done, total, what)``. This adapter accepts either
-    order (a first argument that is text is the stage), so the CLI works before and after
-    that change; it can then be dropped.
-    """
-
-    def call(*args: Any) -> None:
-        if args and isinstance(args[0], str):
-            stage, done, total = args
-            progress(done, total, stage)
-        else:
-            progress(*args)
-
-    return call
 
 
 # -- the workspace ----------------------------------------------------------------------------

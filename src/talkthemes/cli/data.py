@@ -25,7 +25,6 @@ from talkthemes.cli._common import (
     out,
     progress_bar,
     say,
-    staged,
     writing,
 )
 
@@ -132,7 +131,7 @@ def prepare(
 
     ws = open_workspace(workspace)
     with lock(ws, "prepare", wait), progress_bar("prepare", enabled=not as_json) as update:
-        result = run_prepare(ws, force=force, progress=staged(update))
+        result = run_prepare(ws, force=force, progress=update)
     if as_json:
         emit_json(explain_json(result))
         return

@@ -21,7 +21,6 @@ from talkthemes.cli._common import (
     out,
     progress_bar,
     say,
-    staged,
 )
 from talkthemes.cli._shared import ThemesTable, print_sweep, recommended_cell
 from talkthemes.workspace import Workspace, resolve_workspace
@@ -170,7 +169,7 @@ def _run_demo(
         report = run_ingest(ws, [files.exports], manifests=[files.manifest], progress=update)
     doc["ingest"] = report.to_json()["totals"]
     with progress_bar("prepare", enabled=not quiet) as update:
-        prep = run_prepare(ws, progress=staged(update))
+        prep = run_prepare(ws, progress=update)
     doc["prep"] = prep.summary
     with progress_bar("sweep cells", enabled=not quiet) as update:
         result = run_sweep(ws, k=k, seeds=seeds, progress=update)

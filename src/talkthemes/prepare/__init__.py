@@ -1,11 +1,15 @@
 """The preprocessing chain that turns stored transcripts into a prepared corpus.
 
 Steps, one module each: :mod:`.roles` → :mod:`.scrub` → :mod:`.boilerplate` →
-:mod:`.lemmas` → :mod:`.filter` → :mod:`.phrases` → :mod:`.vocabulary`. :mod:`.chain`
-composes the per-transcript steps and streams batches through them (on worker processes
-when ``n_process`` > 1); :mod:`.assemble` runs the corpus-wide steps; :mod:`.run` caches
-the result under ``prepared/<hash>/`` as a :class:`PreparedCorpus`; :mod:`.explain`
-reports what each step did.
+:mod:`.lemmas` (words in :mod:`.words`, spaCy's resources in :mod:`.lexicon`, the checks on
+the lookup table in :mod:`.headwords`, a spaCy pipeline instead in :mod:`.pipeline`, token
+codes in :mod:`.encoding`) → :mod:`.filter` → :mod:`.phrases` → :mod:`.vocabulary`.
+:mod:`.chain` composes the per-transcript steps and streams batches through them (on worker
+processes when ``n_process`` > 1, :mod:`.workers`; results merged by :mod:`.collect`);
+:mod:`.assemble` runs the corpus-wide steps (:mod:`.table`, :mod:`.steps`, :mod:`.build`);
+:mod:`.run` caches the result under ``prepared/<hash>/`` as a :class:`PreparedCorpus`;
+:mod:`.explain` reports what each step did; :mod:`.frozen` prepares new text exactly like a
+published version.
 """
 
 from __future__ import annotations

@@ -2,17 +2,20 @@
 
 The chain runs in two phases.
 
-**Per transcript** (streamed, in worker processes when ``n_process`` > 1). Every step here
+**Per transcript** (streamed, in worker processes when ``n_process`` > 1, see
+:mod:`.workers`). Every step here
 is a function of one transcript's text: roles (:mod:`.roles`) → scrub (:mod:`.scrub`) →
 sentences (:mod:`.boilerplate`) → words, lemmas and the filter rule (:mod:`.lemmas`,
 :mod:`.filter`). A batch of transcripts becomes a :class:`BatchResult`: integer arrays only
-(kept term ids per sentence, a boilerplate key and step counts per sentence), so the main
-process never holds transcripts as objects beyond the batch being read.
+(kept term ids per sentence, a boilerplate key and step counts per sentence; see
+:mod:`.collect`), so the main process never holds transcripts as objects beyond the batch
+being read.
 
-**Over the corpus** (numpy, in the main process). Each step takes the token table and
-returns a smaller one: boilerplate (drop sentences whose key is frequent; the keys were
-counted in the first phase, so no second read is needed) → phrases (:mod:`.phrases`) →
-vocabulary and minimum length (:mod:`.vocabulary`).
+**Over the corpus** (numpy, in the main process; :mod:`.assemble`). Each step takes the
+token table and returns a smaller one: lemma decisions (:mod:`.headwords`) → boilerplate
+(drop sentences whose key is frequent; the keys were counted in the first phase, so no
+second read is needed) → phrases (:mod:`.phrases`) → vocabulary and minimum length
+(:mod:`.vocabulary`).
 
 :func:`prepare_corpus` runs both phases over any source of batches — the store, or the demo
 generator in ``bench/prepare.py`` — and returns the :class:`PreparedCorpus` with the data
@@ -22,32 +25,28 @@ generator in ``bench/prepare.py`` — and returns the :class:`PreparedCorpus` wi
 from __future__ import annotations
 
 import logging
-import multiprocessing
-import os
 import unicodedata
-from collections import deque
-from collections.abc import Callable, Iterable, Iterator, Sequence
-from concurrent.futures import Future, ProcessPoolExecutor
-from dataclasses import dataclass, field
+from collections.abc import Callable, Iterable, Sequence
 from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
 
 from talkthemes.config import PrepareSettings
-from talkthemes.prepare.assemble import Collected, ProgressFn, finish, report_progress
+from talkthemes.prepare.assemble import ProgressFn, finish
 from talkthemes.prepare.boilerplate import find_boilerplate, split_sentences
+from talkthemes.prepare.collect import BatchResult, Collected
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, load_fillers
-from talkthemes.prepare.lemmas import (
-    FastLemmatizer,
-    SpacyLemmatizer,
-    load_lemma_table,
-    spacy_stop_words,
-    words,
-)
+from talkthemes.prepare.headwords import Headwords, load_lemma_index, load_lemma_rules
+from talkthemes.prepare.lemmas import FastLemmatizer
+from talkthemes.prepare.lexicon import load_lemma_table, spacy_stop_words
+from talkthemes.prepare.pipeline import SpacyLemmatizer
 from talkthemes.prepare.roles import select_turns
 from talkthemes.prepare.scrub import scrub
+from talkthemes.prepare.words import GAP, words
+from talkthemes.prepare.workers import Batch, map_batches, resolve_processes
+from talkthemes.progress import Progress, report
 
 __all__ = [
     "MIN_TERMS",
@@ -58,22 +57,26 @@ __all__ = [
     "ProgressFn",
     "TranscriptProcessor",
     "build_processor",
+    "normalised_sentence",
     "prepare_corpus",
     "resolve_processes",
 ]
+# compat: re-exports until the merge (Batch and resolve_processes live in .workers,
+# BatchResult in .collect, ProgressFn is talkthemes.progress.Progress)
 
 logger = logging.getLogger(__name__)
 
-#: One batch from the store: ``(transcript id, [(role, text), ...])`` per transcript.
-Batch = Sequence[tuple[str, Sequence[tuple[str, str]]]]
-
-#: Stages reported to the progress callback, in order. ``read`` counts transcripts
-#: (total = the number stored); the others report (0, 1) when they start and (1, 1)
-#: when they end.
-STAGES: tuple[str, ...] = ("read", "boilerplate", "phrases", "vocabulary")
+#: Stages reported to the progress callback (as its ``what``), in order. ``read`` counts
+#: transcripts (total = the number stored); the others report (0, 1) when they start and
+#: (1, 1) when they end.
+STAGES: tuple[str, ...] = ("read", "lemmas", "boilerplate", "phrases", "vocabulary")
 
 #: Worker processes are used only when each gets at least this many batches.
 _MIN_BATCHES_PER_WORKER = 2
+
+#: What the scrub step leaves in place of what it removes: the words on either side are
+#: not adjacent (see :data:`talkthemes.prepare.words.GAP`).
+_SCRUB_MARK = f" {GAP} "
 
 #: Fewer terms than this left after the vocabulary step stops the chain.
 MIN_TERMS = 50
@@ -81,43 +84,10 @@ MIN_TERMS = 50
 MIN_TRANSCRIPTS = 20
 
 
-def resolve_processes(n_process: int) -> int:
-    """The number of worker processes for ``[prepare] n_process`` (0 = one per core)."""
-    if n_process > 0:
-        return n_process
-    try:
-        return max(1, len(os.sched_getaffinity(0)))
-    except AttributeError:  # pragma: no cover - not Linux
-        return max(1, os.cpu_count() or 1)
-
-
 def _nfc(text: str) -> str:
     if text.isascii() or unicodedata.is_normalized("NFC", text):
         return text
     return unicodedata.normalize("NFC", text)
-
-
-@dataclass
-class BatchResult:
-    """The per-transcript phase's output for one batch (integer arrays, picklable).
-
-    ``S`` is the number of sentences with at least one word, ``K`` the kept tokens.
-    """
-
-    tids: list[str]
-    doc_sentences: NDArray[np.int32]  # (D,) sentences per transcript
-    doc_roles_removed: NDArray[np.int32]  # (D,) words in turns dropped by roles
-    doc_scrub_removed: NDArray[np.int32]  # (D,) words removed by scrub
-    turns: int
-    turns_dropped: int
-    sent_words: NDArray[np.int32]  # (S,)
-    sent_keys: NDArray[np.int64]  # (S,) boilerplate key, 0 = too short
-    sent_stats: NDArray[np.int32]  # (S, len(STAT_COLUMNS))
-    sent_kept: NDArray[np.int32]  # (S,) kept tokens
-    ids: NDArray[np.int32]  # (K,) kept tokens as indices into ``types``
-    types: list[str]
-    scrub_counts: dict[str, int] = field(default_factory=dict)
-    key_texts: dict[int, str] = field(default_factory=dict)
 
 
 class TranscriptProcessor:
@@ -174,7 +144,7 @@ class TranscriptProcessor:
         text = _nfc("\n".join(kept))
         scrub_removed = 0
         if self.scrub:
-            text, scrub_removed = scrub(text, counts)
+            text, scrub_removed = scrub(text, counts, mark=_SCRUB_MARK)
         return text, len(dropped), roles_removed, scrub_removed
 
     def process(self, batch: Batch) -> BatchResult:
@@ -227,9 +197,12 @@ class TranscriptProcessor:
             sent_stats=stats.astype(np.int32),
             sent_kept=sent_kept.astype(np.int32),
             ids=inverse.astype(np.int32).ravel(),
+            breaks=enc.breaks[kept],
             types=types,
             scrub_counts=counts,
             key_texts=self._repeated_texts(texts, sent_doc, keys),
+            word_counts=enc.counts,
+            names=enc.names,
         )
 
     def find_texts(self, keys: set[int], source: Callable[[], Iterable[Batch]]) -> dict[int, str]:
@@ -315,12 +288,26 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
             lang=lang,
             pos_keep=settings.pos_keep,
             batch_size=settings.batch_size,
-            n_process=resolve_processes(settings.n_process),
             min_words=settings.boilerplate_min_words,
+            names=settings.names,
+            exceptions=settings.lemma_exceptions,
         )
     else:
+        table = load_lemma_table(lang)
         encoder = FastLemmatizer(
-            load_lemma_table(lang), token_filter, lang, settings.boilerplate_min_words
+            table,
+            token_filter,
+            lang,
+            settings.boilerplate_min_words,
+            names=settings.names,
+            exceptions=settings.lemma_exceptions,
+            headwords=Headwords.build(
+                table,
+                index=load_lemma_index(lang),
+                rules=load_lemma_rules(lang),
+                lang=lang,
+                ratio=settings.lemma_keep_ratio,
+            ),
         )
     return TranscriptProcessor(
         encoder,
@@ -330,57 +317,12 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
     )
 
 
-# -- the per-transcript phase, serial or on a process pool ----------------------------------
-_WORKER: TranscriptProcessor | None = None
-
-
-def _init_worker(processor: TranscriptProcessor) -> None:
-    global _WORKER
-    _WORKER = processor
-
-
-def _work(batch: Batch) -> BatchResult:
-    assert _WORKER is not None
-    return _WORKER.process(batch)
-
-
-def _map_batches(
-    processor: TranscriptProcessor, batches: Iterable[Batch], n_process: int
-) -> Iterator[BatchResult]:
-    if n_process <= 1 or isinstance(processor.encoder, SpacyLemmatizer):
-        for batch in batches:
-            yield processor.process(batch)
-        return
-    # forkserver: workers start from a clean server process (no threads of the caller are
-    # copied), which imports this module once; the processor with its tables is sent to
-    # each worker once. Callers from a script need the usual ``if __name__ == "__main__"``.
-    methods = multiprocessing.get_all_start_methods()
-    if "forkserver" in methods:
-        ctx = multiprocessing.get_context("forkserver")
-        ctx.set_forkserver_preload([__name__])
-    else:  # pragma: no cover - not Linux
-        ctx = multiprocessing.get_context("spawn")
-    pool = ProcessPoolExecutor(
-        max_workers=n_process, mp_context=ctx, initializer=_init_worker, initargs=(processor,)
-    )
-    pending: deque[Future[BatchResult]] = deque()
-    try:
-        for batch in batches:
-            pending.append(pool.submit(_work, list(batch)))
-            if len(pending) >= 2 * n_process:
-                yield pending.popleft().result()
-        while pending:
-            yield pending.popleft().result()
-    finally:
-        pool.shutdown(wait=True, cancel_futures=True)
-
-
 def prepare_corpus(
     source: Callable[[], Iterable[Batch]],
     settings: PrepareSettings,
     *,
     total: int | None = None,
-    progress: ProgressFn | None = None,
+    progress: Progress | None = None,
     processor: TranscriptProcessor | None = None,
     min_terms: int = MIN_TERMS,
     min_transcripts: int = MIN_TRANSCRIPTS,
@@ -396,8 +338,8 @@ def prepare_corpus(
     settings : PrepareSettings
     total : int, optional
         Number of transcripts the source yields (for progress).
-    progress : callable, optional
-        ``progress(stage, done, total)``; see :data:`STAGES`.
+    progress : Progress, optional
+        ``progress(done, total, what)`` with the stage as ``what``; see :data:`STAGES`.
     processor : TranscriptProcessor, optional
         The per-transcript steps; built from ``settings`` when omitted.
     min_terms, min_transcripts : int
@@ -423,14 +365,15 @@ def prepare_corpus(
     total = total or 0
     if total and total <= _MIN_BATCHES_PER_WORKER * n_process * settings.batch_size:
         n_process = 1  # starting workers would cost more than it saves
-    report_progress(progress, "read", 0, total)
+    report(progress, 0, total, "read")
     col = Collected()
-    for res in _map_batches(processor, source(), n_process):
+    for res in map_batches(processor, source(), n_process):
         col.add(res)
-        report_progress(progress, "read", len(col.tids), max(total, len(col.tids)))
+        report(progress, len(col.tids), max(total, len(col.tids)), "read")
     return finish(
         col,
         settings,
+        encoder=processor.encoder,
         texts_for=lambda keys: processor.find_texts(keys, source),
         progress=progress,
         min_terms=min_terms,

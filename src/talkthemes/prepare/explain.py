@@ -18,7 +18,11 @@ The report, by key:
     ``sentences`` (each ``sentence``, ``transcripts``, ``share``), ``sentences_removed``,
     ``words_removed``, ``emptied``.
 ``lemmas``
-    ``path``, ``lang``, ``words``, ``tokens_lemmatised``, ``terms``.
+    ``path``, ``lang``, ``words``, ``tokens_lemmatised``, ``terms``; ``headwords``
+    (``ratio``, ``checked``, ``kept`` and ``decisions``: each ``word``, ``table``, ``lemma``,
+    ``said``, ``table_said``), ``exceptions`` (each ``word``, ``lemma``, ``count``) and
+    ``names`` (``enabled``, ``tokens``, ``top``: each ``name``, ``table``, ``count``); see
+    :mod:`talkthemes.prepare.headwords`.
 ``filter``
     ``removed`` (tokens per reason), ``tokens_removed``, ``tokens_kept``, ``emptied``.
 ``phrases``
@@ -96,13 +100,23 @@ def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
         }
     )
     lem = explain["lemmas"]
+    checks = []
+    hw = lem.get("headwords")
+    if hw and hw["checked"]:
+        checks.append(f"{_n(hw['kept'])} of {_n(hw['checked'])} headwords kept as said")
+    names = lem.get("names")
+    if names and names["tokens"]:
+        checks.append(f"{_n(names['tokens'])} name tokens kept as written")
+    if lem.get("exceptions"):
+        checks.append(f"{_n(len(lem['exceptions']))} exceptions")
     rows.append(
         {
             "step": "lemmas",
             "removed": "0",
             "emptied": "0",
             "details": f"{lem['path']} ({lem['lang']}): {_n(lem['tokens_lemmatised'])} kept "
-            f"tokens changed form; {_n(lem['terms'])} distinct terms",
+            f"tokens changed form; {_n(lem['terms'])} distinct terms"
+            + "".join(f"; {c}" for c in checks),
         }
     )
     f = explain["filter"]
@@ -205,6 +219,8 @@ def render_explain(console: Console, explain: dict[str, Any], *, max_excluded: i
             table.add_row(escape(s["sentence"]), _n(s["transcripts"]), f"{s['share']:.1%}")
         console.print(table)
 
+    _render_lemmas(console, explain["lemmas"])
+
     top = explain["phrases"].get("top", [])
     if top:
         table = Table(title=f"{len(top)} most frequent phrases")
@@ -224,4 +240,51 @@ def render_explain(console: Console, explain: dict[str, Any], *, max_excluded: i
             table.add_row(escape(e["id"]), escape(e["reason"]))
         if len(excluded) > max_excluded:
             table.add_row(f"… and {_n(len(excluded) - max_excluded)} more", "")
+        console.print(table)
+
+
+def _render_lemmas(console: Console, lem: dict[str, Any]) -> None:
+    """The lemma checks: headwords decided by the corpus, exceptions, names."""
+    from rich.markup import escape
+    from rich.table import Table
+
+    hw = lem.get("headwords") or {}
+    if hw.get("decisions"):
+        table = Table(
+            title=f"headwords: the table's lemma against the word as said "
+            f"(kept when said ≥ {hw['ratio']:g}× as often)"
+        )
+        for col, justify in (
+            ("word", "left"),
+            ("table's lemma", "left"),
+            ("used", "left"),
+            ("word said", "right"),
+            ("lemma said", "right"),
+        ):
+            table.add_column(col, justify=justify)  # type: ignore[arg-type]
+        for d in hw["decisions"]:
+            table.add_row(
+                escape(d["word"]),
+                escape(d["table"]),
+                "kept as said" if d["lemma"] == d["word"] else escape(d["lemma"]),
+                _n(d["said"]),
+                _n(d["table_said"]),
+            )
+        console.print(table)
+    if lem.get("exceptions"):
+        table = Table(title="your lemma exceptions ([prepare] lemma_exceptions)")
+        table.add_column("word")
+        table.add_column("lemma")
+        table.add_column("said", justify="right")
+        for e in lem["exceptions"]:
+            table.add_row(escape(e["word"]), escape(e["lemma"]), _n(e["count"]))
+        console.print(table)
+    names = lem.get("names") or {}
+    if names.get("top"):
+        table = Table(title="names kept as written (not lemmatised)")
+        table.add_column("name")
+        table.add_column("table's lemma")
+        table.add_column("count", justify="right")
+        for n in names["top"]:
+            table.add_row(escape(n["name"]), escape(n["table"]), _n(n["count"]))
         console.print(table)

@@ -165,6 +165,15 @@ class TokenFilter:
             return USER
         return KEEP
 
+    def is_filler(self, lemma: str, lower: str) -> bool:
+        """Whether a token is a filler or back-channel (whatever reason drops it).
+
+        Dropping a filler does not part the words around it (see
+        :attr:`talkthemes.prepare.lemmas.Encoded.breaks`); a short filler ("um") is
+        counted as too short, but is still a filler here.
+        """
+        return lower in self.fillers or lemma in self.fillers
+
     def fingerprint(self) -> str:
         """A short hash of the word lists (part of the prep hash)."""
         h = hashlib.sha256()

@@ -8,7 +8,16 @@ Scoring is gensim's ``Phrases`` with ``scoring="npmi"``: for a pair of adjacent 
 (Bouma 2009), which lies in [-1, 1]. A pair seen at least ``phrase_min_count`` times whose
 NPMI exceeds ``phrase_threshold`` becomes a phrase. The model is trained once on the whole
 corpus (after boilerplate and stop words are gone), frozen (gensim's ``FrozenPhrases``) and
-applied to every transcript. Pairs never span a sentence or turn boundary.
+applied to every transcript.
+
+**Only adjacent words.** A pair is counted, and joined, only where its two words were next to
+each other in a sentence: the token stream is cut into *runs* of adjacent kept words, and a
+removed word (stop word, number, word cut off, scrubbed text) ends a run; fillers do not, as
+speakers insert them anywhere. Sentences and turns end runs too. So "forth, like, the day"
+never yields ``forth_like``; this is gensim's ``Phrases`` with each run given as a sentence
+(``tests/external/test_phrases_npmi.py`` checks exactly that). Unigram probabilities still
+count every kept token. See ``docs/prepare.md`` ("phrases") for why stop words are not used as
+connector words.
 
 How the work is split: unigram and bigram counts are taken with numpy over the integer token
 stream (the same counts gensim's ``Phrases.add_vocab`` collects, without its vocabulary
@@ -34,7 +43,15 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
-__all__ = ["DELIMITER", "PhraseModel", "apply_phrases", "learn_phrases", "unit_bigrams"]
+__all__ = [
+    "DELIMITER",
+    "PhraseModel",
+    "apply_phrases",
+    "join_runs",
+    "learn_phrases",
+    "run_lengths",
+    "unit_bigrams",
+]
 
 DELIMITER = "_"
 
@@ -115,6 +132,7 @@ def learn_phrases(
     frozen : gensim.models.phrases.FrozenPhrases
         The frozen gensim model (phrase strings → scores in ``phrasegrams``).
     """
+    # gensim is heavy to import: deferred to first use on purpose
     from gensim.models.phrases import Phrases
 
     n_types = len(types)
@@ -203,3 +221,68 @@ def apply_phrases(
     new_lengths = lengths - np.bincount(unit[:-1][take], minlength=lengths.size)
     joined = np.bincount(phrase, minlength=len(model)).astype(np.int64)
     return out[~drop], new_lengths, joined
+
+
+def run_lengths(breaks: NDArray[np.bool_]) -> NDArray[np.int64]:
+    """Lengths of the runs of adjacent tokens; a run starts at every True of ``breaks``.
+
+    ``breaks`` is True at the first kept token of every sentence (and after every removed
+    word that is not a filler), so runs never span sentences.
+    """
+    breaks = np.asarray(breaks, dtype=bool)
+    if breaks.size == 0:
+        return np.zeros(0, dtype=np.int64)
+    if not breaks[0]:
+        raise ValueError("the first token must start a run")
+    starts = np.flatnonzero(breaks)
+    return np.diff(np.append(starts, breaks.size)).astype(np.int64)
+
+
+def join_runs(
+    tokens: NDArray[np.integer],
+    breaks: NDArray[np.bool_],
+    sent_kept: NDArray[np.integer],
+    model: PhraseModel,
+    n_types: int,
+) -> tuple[NDArray[np.int32], NDArray[np.bool_], NDArray[np.int64], NDArray[np.int64]]:
+    """Join a model's phrases inside runs of adjacent tokens, keeping the sentence layout.
+
+    The one place where phrases are applied: the chain (:mod:`talkthemes.prepare.assemble`)
+    and a frozen prep (:mod:`talkthemes.prepare.frozen`) both call it.
+
+    Parameters
+    ----------
+    tokens : ndarray of int, shape (n,)
+    breaks : ndarray of bool, shape (n,)
+        Run starts (see :func:`run_lengths`).
+    sent_kept : ndarray of int, shape (S,)
+        Tokens per sentence (sentences with none included); sums to n.
+    model : PhraseModel
+    n_types : int
+
+    Returns
+    -------
+    tokens : ndarray of int32
+    breaks : ndarray of bool
+        Run starts in the new stream (a joined pair is one token of its run).
+    sent_kept : ndarray of int64
+        New tokens per sentence.
+    joined : ndarray of int64, shape (P,)
+        Times each phrase was joined.
+    """
+    sent_kept = np.asarray(sent_kept, dtype=np.int64)
+    lengths = run_lengths(breaks)
+    if lengths.size == 0 or len(model) == 0:
+        return (
+            np.asarray(tokens).astype(np.int32),
+            np.asarray(breaks, dtype=bool).copy(),
+            sent_kept.copy(),
+            np.zeros(len(model), dtype=np.int64),
+        )
+    starts = np.cumsum(lengths) - lengths
+    run_sentence = np.repeat(np.arange(sent_kept.size), sent_kept)[starts]
+    out, new_lengths, joined = apply_phrases(tokens, lengths, model, n_types)
+    new_breaks = np.zeros(out.size, dtype=bool)
+    new_breaks[np.cumsum(new_lengths) - new_lengths] = True
+    new_kept = np.bincount(run_sentence, weights=new_lengths, minlength=sent_kept.size)
+    return out, new_breaks, new_kept.astype(np.int64), joined

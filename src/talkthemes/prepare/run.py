@@ -21,9 +21,9 @@ from typing import Any
 
 from talkthemes.config import PrepareSettings
 from talkthemes.errors import NotReadyError, StoreError
-from talkthemes.prepare.assemble import ProgressFn, report_progress
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.corpus import FILES, PreparedCorpus, library_versions
+from talkthemes.progress import Progress, report
 from talkthemes.workspace import Workspace, atomic_dir
 
 __all__ = [
@@ -37,8 +37,9 @@ __all__ = [
 
 logger = logging.getLogger(__name__)
 
-#: Bumped whenever a change to the chain's code changes its output.
-CHAIN_VERSION = "1"
+#: Bumped whenever a change to the chain's code changes its output. "2": phrases join only
+#: adjacent words; headword and name checks on lemmas.
+CHAIN_VERSION = "2"
 EXPLAIN_FILE = "explain.json"
 #: Settings that change speed only, left out of the hash.
 _SPEED_ONLY = frozenset({"batch_size", "n_process"})
@@ -119,7 +120,7 @@ def _db_info(corpus_info: dict[str, Any], path: Path) -> dict[str, Any]:
 
 
 def run_prepare(
-    workspace: Workspace, *, force: bool = False, progress: ProgressFn | None = None
+    workspace: Workspace, *, force: bool = False, progress: Progress | None = None
 ) -> PrepareResult:
     """Prepare the workspace's transcripts with its ``[prepare]`` settings.
 
@@ -131,9 +132,10 @@ def run_prepare(
     workspace : Workspace
     force : bool
         Run the chain even when a prep with the same hash exists.
-    progress : callable, optional
-        ``progress(stage, done, total)``: stages ``read`` (transcripts), ``boilerplate``,
-        ``phrases``, ``vocabulary`` and ``write``.
+    progress : Progress, optional
+        ``progress(done, total, what)``, the stage as ``what``: ``read`` (transcripts), then
+        ``lemmas``, ``boilerplate``, ``phrases``, ``vocabulary`` and ``write``, each (0, 1)
+        when it starts and (1, 1) when it ends.
 
     Returns
     -------
@@ -187,14 +189,14 @@ def run_prepare(
             "counts_dtype": "int32",
             **corpus.info,
         }
-        report_progress(progress, "write", 0, 1)
+        report(progress, 0, 1, "write")
         with atomic_dir(final) as tmp:
             corpus.save(tmp)
             (tmp / EXPLAIN_FILE).write_text(
                 json.dumps(explain, ensure_ascii=False, indent=1) + "\n", encoding="utf-8"
             )
         store.record_prep(prep_hash, _db_info(corpus.info, final.relative_to(workspace.root)))
-        report_progress(progress, "write", 1, 1)
+        report(progress, 1, 1, "write")
         return PrepareResult(prep_hash, final, corpus.summary(), False, explain)
 
 

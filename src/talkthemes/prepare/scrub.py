@@ -20,7 +20,9 @@ What is removed, by kind (the names ``prepare --explain`` counts under):
     Redaction and annotation marks: ``[REDACTED]``, ``[inaudible]``, ``<name>``, ``{PII}``,
     runs of ``*`` (``***``) and runs of ``X`` (``XXXX``).
 
-Each match is replaced by a space, so the words around it stay apart. Digits inside words
+Each match is replaced by a space (or by the ``mark`` the caller gives), so the words around
+it stay apart; the chain passes a gap mark so that the words on either side are not counted
+as adjacent by the phrases step. Digits inside words
 (``AB12345``) are left for the filter step, which drops every token that is not alphabetic:
 numbers can never reach the vocabulary. Numbers said as words ("four one one one") are
 dropped by the filter too, since spaCy's stop words and the shipped fillers list hold the
@@ -150,7 +152,9 @@ def _digit_kind(run: str) -> str | None:
     return None
 
 
-def scrub(text: str, counts: MutableMapping[str, int] | None = None) -> tuple[str, int]:
+def scrub(
+    text: str, counts: MutableMapping[str, int] | None = None, *, mark: str = " "
+) -> tuple[str, int]:
     """Remove personal data and redaction marks from one text.
 
     Parameters
@@ -159,11 +163,13 @@ def scrub(text: str, counts: MutableMapping[str, int] | None = None) -> tuple[st
         A transcript's (or a turn's) text.
     counts : mutable mapping of str to int, optional
         Incremented by one per removal under its kind (see :data:`SCRUB_KINDS`).
+    mark : str
+        What replaces each match (a space by default).
 
     Returns
     -------
     text : str
-        The text with every match replaced by a space.
+        The text with every match replaced by ``mark``.
     words_removed : int
         Words (runs of letters, digits and underscores) inside the removed matches.
     """
@@ -174,7 +180,7 @@ def scrub(text: str, counts: MutableMapping[str, int] | None = None) -> tuple[st
         if counts is not None:
             counts[kind] = counts.get(kind, 0) + 1
         removed += len(_WORD.findall(span))
-        return " "
+        return mark
 
     def digits(m: re.Match[str]) -> str:
         run = m.group(0)

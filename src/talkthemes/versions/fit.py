@@ -48,6 +48,8 @@ def prep_record(corpus: Any) -> dict[str, Any]:
         "settings": info.get("settings", {}),
         "phrases": info.get("phrases", []),
         "boilerplate": info.get("boilerplate", []),
+        "chain_version": info.get("chain_version", ""),
+        "lemmas": info.get("lemmas", {}),
         "excluded": [[t, r] for t, r in corpus.excluded],
         "corpus_fingerprint": info.get("corpus_fingerprint", ""),
     }
