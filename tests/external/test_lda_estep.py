@@ -21,7 +21,8 @@ from gensim.matutils import Sparse2Corpus
 from gensim.models import LdaModel
 from scipy.special import psi
 
-from talkthemes.models.estep import CsrLdaModel, RowCorpus, digamma
+from talkthemes.models.csr_lda import CsrLdaModel, RowCorpus
+from talkthemes.models.estep import digamma
 from talkthemes.models.lda import LdaTopics
 
 pytestmark = pytest.mark.skipif(

@@ -11,14 +11,9 @@ from tests.support.blocks import BLOCK_TERMS, N_BLOCKS, block_corpus, matched_di
 
 from talkthemes.errors import ConfigError, InputError, NotReadyError
 from talkthemes.models.base import FittedTopics
-from talkthemes.models.lda import (
-    LdaTopics,
-    heldout_perplexity,
-    infer_doc_topics,
-    lda_state_arrays,
-    lda_state_params,
-    restore_lda,
-)
+from talkthemes.models.lda import LdaTopics
+from talkthemes.models.lda_infer import heldout_perplexity, infer_doc_topics
+from talkthemes.models.lda_state import lda_state_arrays, lda_state_params, restore_lda
 
 
 def small_lda(**overrides: object) -> LdaTopics:
