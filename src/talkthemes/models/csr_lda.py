@@ -55,8 +55,10 @@ class RowCorpus:
         return (_RowRef(matrix, i) for i in range(matrix.shape[0]))
 
 
-def _chunk_matrix(chunk: Sequence[Any], n_terms: int) -> sp.csr_matrix:
-    """The CSR rows of a chunk of row references or of gensim bag-of-words documents."""
+def _chunk_matrix(chunk: Sequence[Any] | sp.csr_matrix, n_terms: int) -> sp.csr_matrix:
+    """The CSR rows of a chunk: a CSR matrix, row references or gensim bag-of-words documents."""
+    if sp.issparse(chunk):
+        return sp.csr_matrix(chunk)
     if len(chunk) and isinstance(chunk[0], _RowRef):
         matrix = chunk[0].matrix
         rows = np.fromiter((ref.row for ref in chunk), dtype=np.int64, count=len(chunk))
@@ -79,16 +81,25 @@ class CsrLdaModel(LdaModel):
 
     Everything else — the online M-step, α and η updates, the bound, saving the state — is
     gensim's own. ``inference`` accepts gensim bag-of-words chunks as before, and chunks of
-    :class:`RowCorpus` rows without going through Python lists. Models with a dtype other
-    than float64 use gensim's E-step unchanged.
+    :class:`RowCorpus` rows or CSR matrices without going through Python lists. Models with a
+    dtype other than float64 use gensim's E-step unchanged.
+
+    Attributes
+    ----------
+    estep_converged : int or None
+        Documents of the last compiled E-step call whose γ met ``gamma_threshold`` within
+        ``iterations`` (None before the first call, and for gensim's own E-step).
     """
 
+    estep_converged: int | None = None
+
     def inference(
-        self, chunk: Sequence[Any], collect_sstats: bool = False
+        self, chunk: Sequence[Any] | sp.csr_matrix, collect_sstats: bool = False
     ) -> tuple[np.ndarray, np.ndarray | None]:
         """gensim's ``LdaModel.inference``, same arguments and results, compiled."""
         if self.dtype != np.float64:
-            if len(chunk) and isinstance(chunk[0], _RowRef):
+            self.estep_converged = None
+            if sp.issparse(chunk) or (len(chunk) and isinstance(chunk[0], _RowRef)):
                 rows = _chunk_matrix(chunk, self.num_terms)
                 chunk = [list(zip(r.indices.tolist(), r.data.tolist(), strict=True)) for r in rows]
             return super().inference(chunk, collect_sstats=collect_sstats)
@@ -112,7 +123,7 @@ class CsrLdaModel(LdaModel):
         gamma = self.random_state.gamma(100.0, 1.0 / 100.0, (counts.shape[0], self.num_topics))
         gamma = gamma.astype(np.float64, copy=False)
         sstats = np.zeros_like(self.expElogbeta, dtype=np.float64)
-        estep(
+        converged = estep(
             counts.indptr.astype(np.int64, copy=False),
             counts.indices.astype(np.int64, copy=False),
             counts.data.astype(np.float64, copy=False),
@@ -124,6 +135,7 @@ class CsrLdaModel(LdaModel):
             sstats,
             bool(collect_sstats),
         )
+        self.estep_converged = int(converged)
         if not collect_sstats:
             return gamma, None
         sstats *= self.expElogbeta

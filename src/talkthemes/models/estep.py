@@ -180,6 +180,13 @@ def bound_words(
 ) -> float:  # pragma: no cover - compiled; tested through variational_bound
     """Σ_d Σ_w n_dw · ln Σ_k exp(E[log θ_dk] + E[log β_kw]): the word part of the LDA bound.
 
+    The sum over k is factored as e^(m_d + c_w) Σ_k e^(E[log θ_dk] − m_d) e^(E[log β_kw] − c_w)
+    with m_d, c_w the largest E[log θ_dk] of the document and E[log β_kw] of the term, so the
+    exponentials are taken once per document and once per term rather than K times per
+    non-zero count (the same factoring as the E-step's φnorm). Both factors are at most 1
+    and each has an entry equal to 1; in the (practically unreachable) case that the sum still
+    falls below 1e-280 the entry is recomputed with the plain log-sum-exp.
+
     Parameters
     ----------
     indptr, indices, data : ndarray
@@ -189,10 +196,34 @@ def bound_words(
         E[log β] transposed, so each term's K values are contiguous.
     """
     n_docs, k_topics = e_log_theta.shape
+    n_terms = e_log_beta_t.shape[0]
+    beta_top = np.empty(n_terms)
+    beta_exp = np.empty((n_terms, k_topics))
+    for w in range(n_terms):
+        top = -math.inf
+        for k in range(k_topics):
+            if e_log_beta_t[w, k] > top:
+                top = e_log_beta_t[w, k]
+        beta_top[w] = top
+        for k in range(k_topics):
+            beta_exp[w, k] = math.exp(e_log_beta_t[w, k] - top)
+    theta_exp = np.empty(k_topics)
     total = 0.0
     for d in range(n_docs):
+        theta_top = -math.inf
+        for k in range(k_topics):
+            if e_log_theta[d, k] > theta_top:
+                theta_top = e_log_theta[d, k]
+        for k in range(k_topics):
+            theta_exp[k] = math.exp(e_log_theta[d, k] - theta_top)
         for j in range(indptr[d], indptr[d + 1]):
             w = indices[j]
+            s = 0.0
+            for k in range(k_topics):
+                s += theta_exp[k] * beta_exp[w, k]
+            if s > 1e-280:
+                total += data[j] * (theta_top + beta_top[w] + math.log(s))
+                continue
             top = -math.inf
             for k in range(k_topics):
                 v = e_log_theta[d, k] + e_log_beta_t[w, k]

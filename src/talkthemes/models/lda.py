@@ -42,7 +42,7 @@ from talkthemes.models.base import (
     real_rule,
     vocabulary_rule,
 )
-from talkthemes.models.csr_lda import CsrLdaModel, RowCorpus
+from talkthemes.models.csr_lda import CsrLdaModel
 from talkthemes.models.lda_infer import (
     auto_chunksize,
     heldout_perplexity,
@@ -50,8 +50,10 @@ from talkthemes.models.lda_infer import (
     variational_bound,
 )
 from talkthemes.models.lda_state import lda_state_arrays, lda_state_params, restore_lda
+from talkthemes.models.lda_train import ConvergenceTrace, train_to_convergence
 
 __all__ = [
+    "ConvergenceTrace",
     "LdaTopics",
     # compat: re-exports until the merge (moved to lda_infer and lda_state)
     "heldout_perplexity",
@@ -77,7 +79,9 @@ _RULES: dict[str, _Rule] = {
     "decay": real_rule(0.5, 1.0),
     "offset": real_rule(0.0, 1e9),
     "gamma_threshold": real_rule(0.0, 1.0, low_open=True),
-    "eval_every": _Rule(lambda v: v is None or (int_rule(1).check(v)), "None or an integer >= 1"),
+    "bound_tol": real_rule(0.0, 1.0),
+    "starts": int_rule(1),
+    "start_passes": int_rule(1),
     "vocabulary": vocabulary_rule(),
 }
 
@@ -93,7 +97,8 @@ class LdaTopics:
         Seed of gensim's random state (topic initialisation and E-step starting points).
         The same seed on the same input gives the same result.
     passes : int
-        Passes over the corpus.
+        Most passes over the corpus. Training stops earlier once the per-word bound
+        converges (``bound_tol``); with ``bound_tol=0`` it runs exactly this many.
     iterations : int
         Most E-step iterations per document.
     chunksize : int
@@ -109,9 +114,15 @@ class LdaTopics:
         τ₀ ≥ 0: slows down the first updates.
     gamma_threshold : float
         An E-step stops once the mean absolute change of γ is below this.
-    eval_every : int or None
-        Log gensim's perplexity estimate every that many updates; ``None`` (default) never
-        does, since it costs about as much as an extra pass.
+    bound_tol : float
+        Training stops after a pass in which the per-word bound of the training corpus
+        changed by less than this share of its value (Hoffman, Blei & Bach 2010); 0 never
+        stops before ``passes``. See :mod:`talkthemes.models.lda_train`.
+    starts : int
+        Random starts; each runs ``start_passes`` passes and only the one with the highest
+        per-word bound is trained on. Start 0 uses ``seed``.
+    start_passes : int
+        Passes each start runs before the best is kept.
     vocabulary : list of str, optional
         Term for each column, used only in gensim's log lines.
 
@@ -121,7 +132,13 @@ class LdaTopics:
         The fitted gensim model.
     result_ : FittedTopics
         Topic–term matrix (gensim's posterior mean, λ row-normalised), document–topic matrix
-        of the training documents, parameters and fit time.
+        of the training documents, parameters and fit time. ``result_.params["convergence"]``
+        is the convergence trace (:meth:`ConvergenceTrace.as_dict
+        <talkthemes.models.lda_train.ConvergenceTrace.as_dict>`): ``per_word_bound`` (one
+        float per pass), ``passes``, ``converged``, ``bound_tol``, ``max_passes``,
+        ``estep_converged``, ``start_bounds``, ``start_passes``, ``kept_start``, ``seconds``.
+    convergence_ : ConvergenceTrace
+        The same trace as an object.
     n_documents_ : int
         Training documents.
     n_terms_ : int
@@ -146,7 +163,9 @@ class LdaTopics:
         decay: float = 0.5,
         offset: float = 1.0,
         gamma_threshold: float = 0.001,
-        eval_every: int | None = None,
+        bound_tol: float = _DEFAULTS.lda_bound_tol,
+        starts: int = _DEFAULTS.lda_starts,
+        start_passes: int = _DEFAULTS.lda_start_passes,
         vocabulary: Sequence[str] | None = None,
     ) -> None:
         self.k = k
@@ -159,7 +178,9 @@ class LdaTopics:
         self.decay = decay
         self.offset = offset
         self.gamma_threshold = gamma_threshold
-        self.eval_every = eval_every
+        self.bound_tol = bound_tol
+        self.starts = starts
+        self.start_passes = start_passes
         self.vocabulary = vocabulary
 
     def get_params(self) -> dict[str, Any]:
@@ -195,23 +216,35 @@ class LdaTopics:
         n_docs, n_terms = counts.shape
         id2word = check_vocabulary("LdaTopics", self.vocabulary, n_terms)
         start = time.perf_counter()
-        model = CsrLdaModel(
-            corpus=None,
-            num_topics=self.k,
-            id2word=id2word,
-            chunksize=self._chunksize(n_docs),
+        chunksize = self._chunksize(n_docs)
+
+        def build(random_seed: int) -> CsrLdaModel:
+            return CsrLdaModel(
+                corpus=None,
+                num_topics=self.k,
+                id2word=id2word,
+                chunksize=chunksize,
+                passes=self.passes,
+                alpha=self.alpha,
+                eta=self.eta,
+                decay=self.decay,
+                offset=self.offset,
+                eval_every=None,
+                iterations=self.iterations,
+                gamma_threshold=self.gamma_threshold,
+                random_state=random_seed,
+                dtype=_DTYPE,
+            )
+
+        model, trace = train_to_convergence(
+            build,
+            counts,
+            seed=self.seed,
             passes=self.passes,
-            alpha=self.alpha,
-            eta=self.eta,
-            decay=self.decay,
-            offset=self.offset,
-            eval_every=self.eval_every,
-            iterations=self.iterations,
-            gamma_threshold=self.gamma_threshold,
-            random_state=self.seed,
-            dtype=_DTYPE,
+            bound_tol=self.bound_tol,
+            starts=self.starts,
+            start_passes=self.start_passes,
         )
-        model.update(RowCorpus(counts))
         train_seconds = time.perf_counter() - start
         doc_topics = (
             infer_doc_topics(model, counts, seed=self.seed, chunksize=self._chunksize(n_docs))
@@ -220,11 +253,15 @@ class LdaTopics:
         )
         fit_seconds = time.perf_counter() - start
         logger.info(
-            "LDA k=%d seed=%d on %d documents x %d terms: trained in %.1fs, inferred in %.1fs",
+            "LDA k=%d seed=%d on %d documents x %d terms: %d passes (%s), per-word bound %.4f; "
+            "trained in %.1fs, inferred in %.1fs",
             self.k,
             self.seed,
             n_docs,
             n_terms,
+            trace.passes,
+            "converged" if trace.converged else "at the cap",
+            trace.per_word_bound[-1],
             train_seconds,
             fit_seconds - train_seconds,
         )
@@ -235,8 +272,10 @@ class LdaTopics:
             "n_terms": n_terms,
             "alpha_fitted": [float(a) for a in model.alpha],
             "library": f"gensim {gensim.__version__}",
+            "convergence": trace.as_dict(),
         }
         self.model_ = model
+        self.convergence_ = trace
         self.n_documents_ = n_docs
         self.n_terms_ = n_terms
         self.result_ = FittedTopics(
