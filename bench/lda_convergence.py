@@ -9,8 +9,8 @@ Usage::
 Builds (or reuses, with ``--workspace``) a prepared workspace of N invented demo calls whose
 primary call reason is known (``truth.csv``), then fits, at the true number of reasons K (or
 ``--k``), each LDA variant, NMF with the sweep defaults and a k-means-on-counts baseline, with
-one model per seed exactly as a sweep cell does (the same held-out split and the same 80 %
-subsample per seed). For each it prints:
+one model per seed exactly as a sweep cell does (the same held-out split, and each seed on the
+80 % subsample the sweep draws for it). For each it prints:
 
 * NMI and ARI (scikit-learn ``normalized_mutual_info_score``, ``adjusted_rand_score``) of each
   training call's lead theme (arg max of its shares) against its true primary reason, over the
@@ -21,9 +21,11 @@ subsample per seed). For each it prints:
   and for LDA the passes used and how many fits converged.
 
 A variant is a name and LdaTopics keyword arguments, e.g.
-``--variant before:passes=2,max_passes=2,bound_tol=0`` (values are read as JSON, bare words
-as text). ``default`` alone fits LdaTopics with its defaults. Not a test: it prints figures
-for docs/methods_models.md; the machine may be shared, so fit times are indicative.
+``--variant before:passes=2,bound_tol=0,starts=1`` (the defaults before convergence); values
+are read as JSON, bare words as text, and ``--variant after:`` (no arguments) fits LdaTopics
+with its defaults, as does giving no variant. The k-means baseline is scikit-learn ``KMeans``
+(``n_init=10``) on L2-normalised counts. Not a test: it prints figures for
+docs/methods_models.md; the machine may be shared, so fit times are indicative.
 """
 
 from __future__ import annotations

@@ -94,8 +94,9 @@ class LdaTopics:
     k : int
         Number of topics.
     seed : int
-        Seed of gensim's random state (topic initialisation and E-step starting points).
-        The same seed on the same input gives the same result.
+        Seed of gensim's random state (topic initialisation and E-step starting points) of
+        start 0; further starts use seeds derived from it. The same seed on the same input
+        gives the same result.
     passes : int
         Most passes over the corpus. Training stops earlier once the per-word bound
         converges (``bound_tol``); with ``bound_tol=0`` it runs exactly this many.
