@@ -46,7 +46,7 @@ def main() -> None:
     from gensim.models import LdaModel
     from threadpoolctl import threadpool_limits
 
-    from talkthemes.models.estep import RowCorpus
+    from talkthemes.models.csr_lda import RowCorpus
     from talkthemes.models.lda import LdaTopics
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.sweep import load_current_prep, split_rows

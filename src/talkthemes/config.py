@@ -271,7 +271,35 @@ class SweepSettings(_Section):
             "measures how themes hold up when the data changes (Greene et al. 2014); 1 = all."
         ),
     )
-    lda_passes: int = Field(2, ge=1, description="LDA passes over the corpus.")
+    lda_passes: int = Field(
+        50,
+        ge=1,
+        description=(
+            "Most LDA passes over the corpus; training stops earlier once the per-word bound "
+            "converges (lda_bound_tol)."
+        ),
+    )
+    lda_bound_tol: float = Field(
+        3e-4,
+        ge=0,
+        lt=1,
+        description=(
+            "LDA stops after a pass that changed the per-word bound of the training corpus by "
+            "less than this share of its value (Hoffman, Blei & Bach 2010); 0 = always run "
+            "lda_passes."
+        ),
+    )
+    lda_starts: int = Field(
+        6,
+        ge=1,
+        description=(
+            "LDA random starts per fit: each runs lda_start_passes passes and only the one "
+            "with the highest per-word bound is trained to convergence."
+        ),
+    )
+    lda_start_passes: int = Field(
+        2, ge=1, description="Passes each LDA start runs before the best one is kept."
+    )
     lda_iterations: int = Field(50, ge=1, description="LDA per-document E-step iterations.")
     lda_chunksize: int = Field(
         0, ge=0, description="LDA documents per online update; 0 = about ten updates per pass."

@@ -25,12 +25,8 @@ from gensim.test.utils import common_texts, datapath
 from gensim.topic_coherence.text_analysis import WordOccurrenceAccumulator
 from gensim.utils import simple_preprocess
 
-from talkthemes.metrics.coherence import (
-    build_reference,
-    score,
-    union_of_topics,
-    window_counts,
-)
+from talkthemes.metrics.coherence import score
+from talkthemes.metrics.cooccurrence import build_reference, union_of_topics, window_counts
 
 PLACEHOLDER = "zzplaceholder"
 

@@ -3,7 +3,8 @@
 References:
 - gensim 4.4.0, ``gensim/models/ldamodel.py``: ``LdaModel.inference`` (the per-document
   fixed-point iteration of Hoffman, Blei & Bach 2010) and ``LdaModel.update`` (online training).
-- scipy ``scipy.special.psi`` (Cephes) for the digamma function.
+- scipy ``scipy.special.psi`` (Cephes) for the digamma function, ``scipy.special.logsumexp``
+  for the word part of the bound.
 
 The corpora are invented test data drawn from the LDA generative process; the references are
 the libraries' own computations on them.
@@ -19,9 +20,10 @@ import pytest
 import scipy.sparse as sp
 from gensim.matutils import Sparse2Corpus
 from gensim.models import LdaModel
-from scipy.special import psi
+from scipy.special import logsumexp, psi
 
-from talkthemes.models.estep import CsrLdaModel, RowCorpus, digamma
+from talkthemes.models.csr_lda import CsrLdaModel, RowCorpus
+from talkthemes.models.estep import bound_words, digamma
 from talkthemes.models.lda import LdaTopics
 
 pytestmark = pytest.mark.skipif(
@@ -105,3 +107,30 @@ def test_training_with_the_compiled_step_follows_gensims_training() -> None:
     reference = LdaModel(corpus=Sparse2Corpus(counts, documents_columns=False), **settings)
     np.testing.assert_allclose(ours.get_topics(), reference.get_topics(), rtol=0, atol=1e-6)
     np.testing.assert_allclose(ours.alpha, reference.alpha, rtol=1e-6)
+
+
+def test_word_part_of_the_bound_matches_scipy_logsumexp() -> None:
+    """scipy ``scipy.special.logsumexp`` as the reference for Σ n_dw ln Σ_k exp(a_dk + b_kw),
+    on ordinary values and on ones so far apart that the factored sum underflows (the
+    compiled loop then falls back to the plain log-sum-exp)."""
+    rng = np.random.default_rng(3)
+    dense = rng.poisson(0.7, size=(40, 25)).astype(np.float64)
+    e_log_theta = rng.normal(-3.0, 2.0, size=(40, 6))
+    e_log_beta_t = rng.normal(-6.0, 3.0, size=(25, 6))
+    # document 0 and term 0: each one's best topic is 800 nats down in the other, so every
+    # product of the factored sum underflows to 0 (exp(−745) is the last positive double)
+    e_log_theta[0] = [0.0, -800.0, -800.0, -800.0, -800.0, -800.0]
+    e_log_beta_t[0] = [-800.0, 0.0, -1600.0, -1600.0, -1600.0, -1600.0]
+    dense[0, 0] = 2.0
+    counts = sp.csr_matrix(dense)
+    joint = logsumexp(e_log_theta[:, None, :] + e_log_beta_t[None, :, :], axis=2)
+    expected = float(np.sum(dense * joint))
+    ours = bound_words(
+        counts.indptr.astype(np.int64),
+        counts.indices.astype(np.int64),
+        counts.data,
+        np.ascontiguousarray(e_log_theta),
+        np.ascontiguousarray(e_log_beta_t),
+    )
+    assert ours == pytest.approx(expected, rel=1e-12)
+    assert joint[0, 0] == pytest.approx(-800.0 + np.log(2.0), rel=1e-12)

@@ -1,4 +1,4 @@
-"""Checks of talkthemes.models.lda against gensim 4.4.0's own LdaModel.
+"""Checks of talkthemes.models.lda_infer and lda_state against gensim 4.4.0's own LdaModel.
 
 Reference: gensim 4.4.0, ``gensim/models/ldamodel.py`` (``LdaModel.inference``, ``bound``,
 ``log_perplexity``, ``LdaState``). The corpus is invented test data; the reference is the
@@ -16,14 +16,9 @@ import scipy.sparse as sp
 from gensim.matutils import Sparse2Corpus
 from gensim.models import LdaModel
 
-from talkthemes.models.lda import (
-    LdaTopics,
-    heldout_perplexity,
-    lda_state_arrays,
-    lda_state_params,
-    restore_lda,
-    variational_bound,
-)
+from talkthemes.models.lda import LdaTopics
+from talkthemes.models.lda_infer import heldout_perplexity, variational_bound
+from talkthemes.models.lda_state import lda_state_arrays, lda_state_params, restore_lda
 
 pytestmark = pytest.mark.skipif(
     gensim.__version__ != "4.4.0", reason="pins the behaviour of gensim 4.4.0"

@@ -1,4 +1,4 @@
-"""Unit tests for talkthemes.metrics.coherence on tiny invented corpora with known answers."""
+"""Unit tests for talkthemes.metrics.coherence and cooccurrence on tiny invented corpora."""
 
 from __future__ import annotations
 
@@ -12,17 +12,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from talkthemes.errors import InputError
-from talkthemes.metrics import coherence as coh
-from talkthemes.metrics.coherence import (
-    EPSILON,
-    MEASURES,
+from talkthemes.metrics import cooccurrence as cooc
+from talkthemes.metrics.coherence import EPSILON, MEASURES, c_npmi, c_uci, c_v, score, u_mass
+from talkthemes.metrics.cooccurrence import (
+    CoherenceReference,
     build_reference,
-    c_npmi,
-    c_uci,
-    c_v,
     document_counts,
-    score,
-    u_mass,
     union_of_topics,
     window_counts,
 )
@@ -136,12 +131,12 @@ def test_sparse_accumulation_and_small_pair_blocks_change_nothing(case: tuple) -
     docs, _, word_ids, window, chunk = case
     tokens, offsets = stream(docs)
     dense = window_counts(tokens, offsets, np.array(word_ids), window, chunk_tokens=chunk)
-    saved = coh._DENSE_MAX_WORDS, coh._PAIR_BLOCK
-    coh._DENSE_MAX_WORDS, coh._PAIR_BLOCK = 0, 1
+    saved = cooc._DENSE_MAX_WORDS, cooc._PAIR_BLOCK
+    cooc._DENSE_MAX_WORDS, cooc._PAIR_BLOCK = 0, 1
     try:
         sparse = window_counts(tokens, offsets, np.array(word_ids), window, chunk_tokens=chunk)
     finally:
-        coh._DENSE_MAX_WORDS, coh._PAIR_BLOCK = saved
+        cooc._DENSE_MAX_WORDS, cooc._PAIR_BLOCK = saved
     assert np.array_equal(dense.cooccurrences.toarray(), sparse.cooccurrences.toarray())
     assert np.array_equal(dense.occurrences, sparse.occurrences)
 
@@ -178,12 +173,12 @@ TOPIC = np.array([[0, 1, 2]])
 
 
 @pytest.fixture
-def reference() -> coh.CoherenceReference:
+def reference() -> CoherenceReference:
     tokens, offsets = stream(DOCS)
     return build_reference(tokens, offsets, bow(DOCS, 4), union_of_topics([TOPIC]))
 
 
-def test_u_mass_by_hand(reference: coh.CoherenceReference) -> None:
+def test_u_mass_by_hand(reference: CoherenceReference) -> None:
     # N = 4; D(0)=3, D(1)=2, D(2)=1; D(0,1)=2, D(0,2)=1, D(1,2)=0; w* is the higher-ranked
     want = np.mean(
         [
@@ -197,7 +192,7 @@ def test_u_mass_by_hand(reference: coh.CoherenceReference) -> None:
     assert got.per_topic[0] == pytest.approx(want, abs=1e-12)
 
 
-def test_u_mass_depends_on_word_order(reference: coh.CoherenceReference) -> None:
+def test_u_mass_depends_on_word_order(reference: CoherenceReference) -> None:
     assert u_mass(reference, TOPIC).mean != pytest.approx(u_mass(reference, TOPIC[:, ::-1]).mean)
 
 
@@ -209,7 +204,7 @@ def npmi(joint: float, pa: float, pb: float) -> float:
     return pmi(joint, pa, pb) / -math.log(joint + EPSILON)
 
 
-def test_c_uci_and_c_npmi_by_hand(reference: coh.CoherenceReference) -> None:
+def test_c_uci_and_c_npmi_by_hand(reference: CoherenceReference) -> None:
     p = {0: 3 / 4, 1: 2 / 4, 2: 1 / 4}
     joint = {(0, 1): 2 / 4, (0, 2): 1 / 4, (1, 2): 0.0}
     uci = np.mean([pmi(j, p[a], p[b]) for (a, b), j in joint.items()])
@@ -218,7 +213,7 @@ def test_c_uci_and_c_npmi_by_hand(reference: coh.CoherenceReference) -> None:
     assert c_npmi(reference, TOPIC).per_topic[0] == pytest.approx(nm, abs=1e-12)
 
 
-def test_c_v_by_definition(reference: coh.CoherenceReference) -> None:
+def test_c_v_by_definition(reference: CoherenceReference) -> None:
     p = [3 / 4, 2 / 4, 1 / 4]
     joint = np.array([[3 / 4, 2 / 4, 1 / 4], [2 / 4, 2 / 4, 0.0], [1 / 4, 0.0, 1 / 4]])
     m = np.array([[npmi(joint[i, j], p[i], p[j]) for j in range(3)] for i in range(3)])
@@ -231,7 +226,7 @@ def test_c_v_by_definition(reference: coh.CoherenceReference) -> None:
     assert c_v(reference, TOPIC).per_topic[0] == pytest.approx(np.mean(cosines), abs=1e-12)
 
 
-def test_registry_and_result(reference: coh.CoherenceReference) -> None:
+def test_registry_and_result(reference: CoherenceReference) -> None:
     assert set(MEASURES) == {"c_v", "c_npmi", "c_uci", "u_mass"}
     topics = np.array([[0, 1, 2], [2, 0, 1]])
     for name in MEASURES:
@@ -246,7 +241,7 @@ def test_registry_and_result(reference: coh.CoherenceReference) -> None:
 
 
 def test_window_override_needs_counts_for_that_window(
-    reference: coh.CoherenceReference,
+    reference: CoherenceReference,
 ) -> None:
     with pytest.raises(InputError, match="no counts for window 5"):
         score(reference, TOPIC, "c_npmi", window=5)
@@ -292,7 +287,7 @@ def test_chunking_does_not_change_counts() -> None:
 # --- input errors ---------------------------------------------------------------------
 
 
-def test_topic_errors_name_the_topic(reference: coh.CoherenceReference) -> None:
+def test_topic_errors_name_the_topic(reference: CoherenceReference) -> None:
     with pytest.raises(InputError, match=r"topic 1 word 2 \(term id 9\)"):
         c_v(reference, np.array([[0, 1, 2], [0, 1, 9]]))
     with pytest.raises(InputError, match="topic 0 lists a term id twice"):

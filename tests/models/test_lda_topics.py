@@ -11,14 +11,9 @@ from tests.support.blocks import BLOCK_TERMS, N_BLOCKS, block_corpus, matched_di
 
 from talkthemes.errors import ConfigError, InputError, NotReadyError
 from talkthemes.models.base import FittedTopics
-from talkthemes.models.lda import (
-    LdaTopics,
-    heldout_perplexity,
-    infer_doc_topics,
-    lda_state_arrays,
-    lda_state_params,
-    restore_lda,
-)
+from talkthemes.models.lda import LdaTopics
+from talkthemes.models.lda_infer import heldout_perplexity, infer_doc_topics
+from talkthemes.models.lda_state import lda_state_arrays, lda_state_params, restore_lda
 
 
 def small_lda(**overrides: object) -> LdaTopics:
@@ -29,6 +24,7 @@ def small_lda(**overrides: object) -> LdaTopics:
         "chunksize": 30,
         "alpha": "symmetric",
         "eta": "symmetric",
+        "starts": 1,
     }
     settings.update(overrides)
     return LdaTopics(**settings)  # type: ignore[arg-type]
@@ -81,6 +77,10 @@ def test_params_are_json_and_complete(fitted) -> None:
     assert params["n_documents"] == 120 and params["n_terms"] == N_BLOCKS * BLOCK_TERMS
     assert params["library"].startswith("gensim ")
     assert len(params["alpha_fitted"]) == 3
+    assert params["bound_tol"] == fitted.bound_tol and params["starts"] == 1
+    trace = params["convergence"]
+    assert trace["max_passes"] == 10 and 2 <= trace["passes"] <= 10
+    assert len(trace["per_word_bound"]) == trace["passes"]
 
 
 def test_same_seed_same_result_and_other_seed_differs(corpus, fitted) -> None:
@@ -119,7 +119,10 @@ def test_vocabulary_names_the_terms(corpus) -> None:
         ("eta", "asymmetric", "one of 'symmetric', 'auto'"),
         ("decay", 0.4, "a number in [0.5, 1.0]"),
         ("passes", 2.5, "an integer >= 1"),
-        ("eval_every", 0, "None or an integer >= 1"),
+        ("bound_tol", -0.1, "a number in [0.0, 1.0]"),
+        ("bound_tol", float("nan"), "a number in [0.0, 1.0]"),
+        ("starts", 0, "an integer >= 1"),
+        ("start_passes", 0, "an integer >= 1"),
     ],
 )
 def test_bad_parameters_are_named(corpus, name: str, value: object, allowed: str) -> None:

@@ -5,11 +5,12 @@ Jaccard index over list prefixes, match the topics of two models one to one so t
 total is largest (Hungarian assignment), and average the matched scores. Their procedure
 compares a reference model with models fitted on random subsamples of the documents.
 
-**Our variant:** :func:`seed_stability` compares models fitted on the *same* documents
-with different random seeds, averaging the agreement over every pair of seeds. It
-measures how reproducible the topics of a given K are, at no extra fitting cost in a
-sweep that already fits several seeds per K; it does not test robustness to a change of
-documents, as the subsample procedure does.
+**Our variant:** :func:`seed_stability` compares the models of different random seeds,
+averaging the agreement over every pair of seeds, at no extra fitting cost in a sweep that
+already fits several seeds per K. The sweep fits each seed on its own random subsample of
+the documents, so the figure also reflects robustness to a change of documents, as in
+Greene et al.; on the same documents it measures reproducibility alone (see
+docs/methods_metrics.md, "Stability across seeds").
 
 References
 ----------
@@ -164,8 +165,8 @@ def seed_stability(topic_sets: Sequence[np.ndarray], t: int = 20) -> float:
     """Stability of a topic count across seeds: mean pairwise agreement of the seeds.
 
     A variant of Greene, O'Callaghan & Cunningham (2014): instead of comparing a
-    reference model with models fitted on document subsamples, it compares models
-    fitted on the same documents with different random seeds, over all pairs of seeds.
+    reference model with models fitted on document subsamples, it compares the models of
+    different random seeds (in a sweep, each fitted on its own subsample), over all pairs.
 
     Parameters
     ----------

@@ -14,7 +14,8 @@ after ``iterations`` updates, and collecting the sufficient statistics
 ``sstats[k, w] = Σ_d n_dw exp(E[log θ_dk]) / φnorm_dw`` (the caller multiplies by
 exp(E[log β]) as gensim does). Starting points γ⁰ are drawn by the caller, so the result
 equals gensim's for the same random state up to floating-point summation order; the test
-``tests/external/test_lda_estep.py`` checks that against gensim itself.
+``tests/external/test_lda_estep.py`` checks that against gensim itself. The gensim model that
+runs it is :class:`talkthemes.models.csr_lda.CsrLdaModel`.
 
 E[log θ_dk] = ψ(γ_dk) − ψ(Σ_j γ_dj) needs the digamma function ψ, which numba cannot take
 from scipy; :func:`digamma` evaluates it with the recurrence ψ(x) = ψ(x + 1) − 1/x up to
@@ -31,15 +32,11 @@ Abramowitz, M., Stegun, I. A. (1964). Handbook of Mathematical Functions, §6.3.
 from __future__ import annotations
 
 import math
-from collections.abc import Iterator, Sequence
-from typing import Any
 
 import numpy as np
-import scipy.sparse as sp
-from gensim.models import LdaModel
 from numba import njit
 
-__all__ = ["CsrLdaModel", "RowCorpus", "bound_words", "digamma", "estep"]
+__all__ = ["bound_words", "digamma", "estep"]
 
 # Reassociation lets LLVM vectorise the sums over topics; no flag assumes away NaN or inf.
 _FAST = {"reassoc", "contract", "arcp", "nsz"}
@@ -183,6 +180,13 @@ def bound_words(
 ) -> float:  # pragma: no cover - compiled; tested through variational_bound
     """Σ_d Σ_w n_dw · ln Σ_k exp(E[log θ_dk] + E[log β_kw]): the word part of the LDA bound.
 
+    The sum over k is factored as e^(m_d + c_w) Σ_k e^(E[log θ_dk] − m_d) e^(E[log β_kw] − c_w)
+    with m_d, c_w the largest E[log θ_dk] of the document and E[log β_kw] of the term, so the
+    exponentials are taken once per document and once per term rather than K times per
+    non-zero count (the same factoring as the E-step's φnorm). Both factors are at most 1
+    and each has an entry equal to 1; in the (practically unreachable) case that the sum still
+    falls below 1e-280 the entry is recomputed with the plain log-sum-exp.
+
     Parameters
     ----------
     indptr, indices, data : ndarray
@@ -192,10 +196,34 @@ def bound_words(
         E[log β] transposed, so each term's K values are contiguous.
     """
     n_docs, k_topics = e_log_theta.shape
+    n_terms = e_log_beta_t.shape[0]
+    beta_top = np.empty(n_terms)
+    beta_exp = np.empty((n_terms, k_topics))
+    for w in range(n_terms):
+        top = -math.inf
+        for k in range(k_topics):
+            if e_log_beta_t[w, k] > top:
+                top = e_log_beta_t[w, k]
+        beta_top[w] = top
+        for k in range(k_topics):
+            beta_exp[w, k] = math.exp(e_log_beta_t[w, k] - top)
+    theta_exp = np.empty(k_topics)
     total = 0.0
     for d in range(n_docs):
+        theta_top = -math.inf
+        for k in range(k_topics):
+            if e_log_theta[d, k] > theta_top:
+                theta_top = e_log_theta[d, k]
+        for k in range(k_topics):
+            theta_exp[k] = math.exp(e_log_theta[d, k] - theta_top)
         for j in range(indptr[d], indptr[d + 1]):
             w = indices[j]
+            s = 0.0
+            for k in range(k_topics):
+                s += theta_exp[k] * beta_exp[w, k]
+            if s > 1e-280:
+                total += data[j] * (theta_top + beta_top[w] + math.log(s))
+                continue
             top = -math.inf
             for k in range(k_topics):
                 v = e_log_theta[d, k] + e_log_beta_t[w, k]
@@ -206,110 +234,3 @@ def bound_words(
                 s += math.exp(e_log_theta[d, k] + e_log_beta_t[w, k] - top)
             total += data[j] * (top + math.log(s))
     return total
-
-
-# ----------------------------------------------------------------------- gensim glue
-
-
-class _RowRef:
-    """One row of a :class:`RowCorpus`, as gensim's chunking hands it to ``inference``."""
-
-    __slots__ = ("matrix", "row")
-
-    def __init__(self, matrix: sp.csr_matrix, row: int) -> None:
-        self.matrix = matrix
-        self.row = row
-
-
-class RowCorpus:
-    """A CSR count matrix as a corpus for :meth:`CsrLdaModel.update`.
-
-    gensim's ``update`` only takes ``len`` of the corpus and groups its items into chunks
-    for ``inference``; the items here are row references, so :class:`CsrLdaModel` slices the
-    matrix instead of building and re-reading bag-of-words lists.
-    """
-
-    def __init__(self, matrix: sp.csr_matrix) -> None:
-        self.matrix = matrix
-
-    def __len__(self) -> int:
-        return int(self.matrix.shape[0])
-
-    def __iter__(self) -> Iterator[_RowRef]:
-        matrix = self.matrix
-        return (_RowRef(matrix, i) for i in range(matrix.shape[0]))
-
-
-def _chunk_matrix(chunk: Sequence[Any], n_terms: int) -> sp.csr_matrix:
-    """The CSR rows of a chunk of row references or of gensim bag-of-words documents."""
-    if len(chunk) and isinstance(chunk[0], _RowRef):
-        matrix = chunk[0].matrix
-        rows = np.fromiter((ref.row for ref in chunk), dtype=np.int64, count=len(chunk))
-        if all(ref.matrix is matrix for ref in chunk):
-            if len(rows) and rows[-1] - rows[0] == len(rows) - 1:
-                return matrix[int(rows[0]) : int(rows[-1]) + 1]
-            return matrix[rows]
-        raise ValueError("a chunk mixes rows of different matrices")
-    lengths = np.fromiter((len(doc) for doc in chunk), dtype=np.int64, count=len(chunk))
-    indptr = np.zeros(len(chunk) + 1, dtype=np.int64)
-    np.cumsum(lengths, out=indptr[1:])
-    flat = [pair for doc in chunk for pair in doc]
-    ids = np.fromiter((int(i) for i, _ in flat), dtype=np.int64, count=len(flat))
-    cts = np.fromiter((c for _, c in flat), dtype=np.float64, count=len(flat))
-    return sp.csr_matrix((cts, ids, indptr), shape=(len(chunk), n_terms))
-
-
-class CsrLdaModel(LdaModel):
-    """gensim's ``LdaModel`` with its E-step run by the compiled :func:`estep`.
-
-    Everything else — the online M-step, α and η updates, the bound, saving the state — is
-    gensim's own. ``inference`` accepts gensim bag-of-words chunks as before, and chunks of
-    :class:`RowCorpus` rows without going through Python lists. Models with a dtype other
-    than float64 use gensim's E-step unchanged.
-    """
-
-    def inference(
-        self, chunk: Sequence[Any], collect_sstats: bool = False
-    ) -> tuple[np.ndarray, np.ndarray | None]:
-        """gensim's ``LdaModel.inference``, same arguments and results, compiled."""
-        if self.dtype != np.float64:
-            if len(chunk) and isinstance(chunk[0], _RowRef):
-                rows = _chunk_matrix(chunk, self.num_terms)
-                chunk = [list(zip(r.indices.tolist(), r.data.tolist(), strict=True)) for r in rows]
-            return super().inference(chunk, collect_sstats=collect_sstats)
-        return self.csr_inference(_chunk_matrix(chunk, self.num_terms), collect_sstats)
-
-    def csr_inference(
-        self, counts: sp.csr_matrix, collect_sstats: bool = False
-    ) -> tuple[np.ndarray, np.ndarray | None]:
-        """The E-step for the rows of a CSR count matrix (float64 models).
-
-        Draws the starting points γ⁰ ~ Gamma(100, 1/100) from the model's random state
-        exactly as gensim does, then runs :func:`estep`.
-
-        Returns
-        -------
-        gamma : ndarray of shape (D, K)
-        sstats : ndarray of shape (K, V) or None
-            Sufficient statistics multiplied by exp(E[log β]), when ``collect_sstats``.
-        """
-        counts = sp.csr_matrix(counts)
-        gamma = self.random_state.gamma(100.0, 1.0 / 100.0, (counts.shape[0], self.num_topics))
-        gamma = gamma.astype(np.float64, copy=False)
-        sstats = np.zeros_like(self.expElogbeta, dtype=np.float64)
-        estep(
-            counts.indptr.astype(np.int64, copy=False),
-            counts.indices.astype(np.int64, copy=False),
-            counts.data.astype(np.float64, copy=False),
-            np.ascontiguousarray(self.expElogbeta, dtype=np.float64),
-            np.ascontiguousarray(self.alpha, dtype=np.float64),
-            gamma,
-            int(self.iterations),
-            float(self.gamma_threshold),
-            sstats,
-            bool(collect_sstats),
-        )
-        if not collect_sstats:
-            return gamma, None
-        sstats *= self.expElogbeta
-        return gamma, sstats
