@@ -50,6 +50,9 @@ def make_model(family: str, k: int, seed: int, settings: SweepSettings) -> Any:
             chunksize=settings.lda_chunksize,
             alpha=settings.lda_alpha,
             eta=settings.lda_eta,
+            bound_tol=settings.lda_bound_tol,
+            starts=settings.lda_starts,
+            start_passes=settings.lda_start_passes,
         )
     if family == "nmf":
         return NmfTopics(

@@ -67,6 +67,8 @@ def fit_cell(
         result = model.result_
         metrics: dict[str, Any] = {"fit_seconds": float(result.fit_seconds)}
         if family == "lda":
+            # how training stopped (per-word bound per pass; docs/methods_models.md)
+            metrics["convergence"] = result.params.get("convergence")
             metrics["perplexity"] = (
                 float(model.heldout_perplexity(counts[held], total_docs=len(train)))
                 if len(held)
