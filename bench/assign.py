@@ -31,7 +31,7 @@ from pathlib import Path
 
 def setup(root: Path, train: int, family: str, k: int) -> float:
     """Create a workspace at ``root/ws`` with one published version; returns seconds."""
-    from talkthemes.demo import write_demo
+    from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.prepare.run import run_prepare
@@ -91,7 +91,8 @@ def main() -> None:
         print(json.dumps(child(args.child)))
         return
 
-    from talkthemes.demo import iter_demo_calls, write_demo
+    from talkthemes.demo.calls import iter_demo_calls
+    from talkthemes.demo.writer import write_demo
 
     with tempfile.TemporaryDirectory(prefix="talkthemes-bench-assign-") as tmp:
         root = Path(tmp)

@@ -20,7 +20,8 @@ import tempfile
 import time
 from pathlib import Path
 
-from talkthemes.demo import iter_demo_calls, render_txt
+from talkthemes.demo.calls import iter_demo_calls
+from talkthemes.demo.render import render_txt
 from talkthemes.ingest.run import ingest
 from talkthemes.workspace import Workspace
 

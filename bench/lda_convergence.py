@@ -43,7 +43,7 @@ import numpy as np
 
 
 def _prepared_workspace(n: int, seed: int, root: Path) -> tuple[Path, Path]:
-    from talkthemes.demo import write_demo
+    from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.run import run_prepare
     from talkthemes.workspace import Workspace
@@ -87,7 +87,8 @@ def main() -> None:
     from talkthemes.models.lda import LdaTopics
     from talkthemes.models.nmf import NmfTopics
     from talkthemes.prepare.corpus import PreparedCorpus
-    from talkthemes.sweep import load_current_prep, split_rows, subsample_rows
+    from talkthemes.sweep.run import load_current_prep
+    from talkthemes.sweep.split import split_rows, subsample_rows
     from talkthemes.workspace import Workspace
 
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])

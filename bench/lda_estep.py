@@ -27,7 +27,7 @@ import numpy as np
 
 
 def _prepared_workspace(n: int, root: Path) -> Path:
-    from talkthemes.demo import write_demo
+    from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.run import run_prepare
     from talkthemes.workspace import Workspace
@@ -49,7 +49,8 @@ def main() -> None:
     from talkthemes.models.csr_lda import RowCorpus
     from talkthemes.models.lda import LdaTopics
     from talkthemes.prepare.corpus import PreparedCorpus
-    from talkthemes.sweep import load_current_prep, split_rows
+    from talkthemes.sweep.run import load_current_prep
+    from talkthemes.sweep.split import split_rows
     from talkthemes.workspace import Workspace
 
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])

@@ -41,7 +41,7 @@ def _mb(texts: list[str]) -> float:
 def setup(root: Path, n: int, seed: int, n_process: int) -> dict[str, float]:
     """Create a workspace at ``root`` holding ``n`` demo calls."""
     from talkthemes.config import PrepareSettings, Settings, render_settings
-    from talkthemes.demo import iter_demo_calls
+    from talkthemes.demo.calls import iter_demo_calls
     from talkthemes.ingest.model import Transcript, Turn
     from talkthemes.workspace import Workspace, atomic_write_text
 

@@ -69,7 +69,7 @@ def run_corpus(root: Path, reasons: int, seed: int, args: argparse.Namespace) ->
     """Generate, ingest, prepare, sweep and score one planted corpus."""
     from talkthemes.demo.harness import build_workspace, kmeans_leads, score_leads, sweep_and_score
     from talkthemes.demo.planted import PlantedSpec
-    from talkthemes.recommend import best_family
+    from talkthemes.sweep.recommend import best_family
 
     calls = args.calls or reasons * (_QUICK_CALLS_PER_REASON if args.quick else _CALLS_PER_REASON)
     spec = PlantedSpec(reasons=reasons, calls=calls, seed=seed, secondary=args.secondary,

@@ -29,9 +29,10 @@ def _peak_mb() -> float:
 
 
 def main() -> None:
-    from talkthemes.demo import write_demo
+    from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
-    from talkthemes.metrics.coherence import build_reference, score, union_of_topics
+    from talkthemes.metrics.coherence import score
+    from talkthemes.metrics.cooccurrence import build_reference, union_of_topics
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.prepare.run import run_prepare
     from talkthemes.sweep.run import run_sweep

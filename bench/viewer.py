@@ -37,11 +37,11 @@ def log(message: str) -> None:
 
 def build(root: Path, size: int, k: int) -> None:
     """Create a published demo workspace of ``size`` calls at ``root``."""
-    from talkthemes.demo import write_demo
+    from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.sweep import run_sweep
-    from talkthemes.versions import publish
+    from talkthemes.sweep.run import run_sweep
+    from talkthemes.versions.publish import publish
     from talkthemes.workspace import Workspace
 
     ws = Workspace(root)
@@ -80,8 +80,12 @@ def main() -> int:
     parser.add_argument("--keep", action="store_true", help="keep a built temporary workspace")
     args = parser.parse_args()
 
-    from talkthemes import charts, view
-    from talkthemes.versions import load_version
+    from talkthemes import view
+    from talkthemes.charts.sweep import sweep_chart
+    from talkthemes.charts.terms import term_chart
+    from talkthemes.charts.theme_map import theme_map_chart
+    from talkthemes.charts.trends import movers_chart, segment_chart, trend_chart
+    from talkthemes.versions.load import load_version
     from talkthemes.workspace import Workspace
 
     tmp = None
@@ -162,34 +166,34 @@ def main() -> int:
         (
             "Choose K",
             choose_k_data,
-            lambda d: charts.sweep_chart(
+            lambda d: sweep_chart(
                 view.scalar_columns(d[0].cells), d[0].recommended or None
             ).to_dict(),
         ),
         (
             "Theme map",
             map_data,
-            lambda d: charts.theme_map_chart(
+            lambda d: theme_map_chart(
                 d[["theme_id", "x", "y", "coverage", "name", "hidden"]], selected=tid
             ).to_dict(),
         ),
         (
             "Theme cards",
             cards_data,
-            lambda d: charts.term_chart(d, view.theme_names(version)[pos], width=560).to_dict(),
+            lambda d: term_chart(d, view.theme_names(version)[pos], width=560).to_dict(),
         ),
         ("Calls", calls_data, lambda d: None),
         (
             "Over time",
             time_data,
             lambda d: [
-                charts.trend_chart(d["trend"], highlight=[tid], freq=freq).to_dict()
+                trend_chart(d["trend"], highlight=[tid], freq=freq).to_dict()
                 if "trend" in d
                 else None,
-                charts.segment_chart(d["segments"], field=field or "").to_dict()
+                segment_chart(d["segments"], field=field or "").to_dict()
                 if "segments" in d
                 else None,
-                charts.movers_chart(d["movers"]).to_dict() if "movers" in d else None,
+                movers_chart(d["movers"]).to_dict() if "movers" in d else None,
             ],
         ),
     ]

@@ -7,7 +7,7 @@ from pathlib import Path
 
 from typer.testing import CliRunner
 
-from talkthemes.cli import app
+from talkthemes.cli._common import app
 
 
 def test_demo_runs_ingest_prepare_sweep_publish(tmp_path: Path) -> None:

@@ -16,7 +16,7 @@ from pathlib import Path
 import pytest
 from typer.testing import CliRunner
 
-from talkthemes.cli import app
+from talkthemes.cli._common import app
 
 runner = CliRunner()
 

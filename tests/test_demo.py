@@ -14,22 +14,20 @@ from random import Random
 
 import pytest
 
-from talkthemes import demo
 from talkthemes.config import IngestSettings
-from talkthemes.demo import (
+from talkthemes.demo import builder, scenario, slots, writer
+from talkthemes.demo.calls import iter_demo_calls
+from talkthemes.demo.records import DemoCall, DemoFiles
+from talkthemes.demo.render import render_txt, render_vtt
+from talkthemes.demo.scenario import (
+    FIRST_DAY,
+    LAST_DAY,
     PRICE_CHANGE_MONTH,
     REASONS,
     STORM_WEEK,
-    DemoCall,
-    builder,
-    iter_demo_calls,
-    render_txt,
-    render_vtt,
-    scenario,
-    slots,
-    write_demo,
-    writer,
+    demo_reasons,
 )
+from talkthemes.demo.writer import write_demo
 from talkthemes.errors import InputError
 from talkthemes.ingest.model import normalised_hash
 
@@ -69,7 +67,7 @@ def calls() -> list[DemoCall]:
 
 
 @pytest.fixture(scope="module")
-def written(tmp_path_factory: pytest.TempPathFactory) -> demo.DemoFiles:
+def written(tmp_path_factory: pytest.TempPathFactory) -> DemoFiles:
     return write_demo(tmp_path_factory.mktemp("demo") / "out", size=300, seed=5)
 
 
@@ -172,7 +170,7 @@ def test_second_reasons_short_and_off_topic_calls(calls: list[DemoCall]) -> None
 
 
 def test_dates_are_weekday_weighted_and_in_range(calls: list[DemoCall]) -> None:
-    assert all(demo.FIRST_DAY <= c.date <= demo.LAST_DAY for c in calls)
+    assert all(FIRST_DAY <= c.date <= LAST_DAY for c in calls)
     assert [c.date for c in calls] == sorted(c.date for c in calls)
     weekday = Counter(c.date.weekday() for c in calls)
     assert weekday[0] > 2 * weekday[5] > 2 * weekday[6]
@@ -274,7 +272,7 @@ def test_every_template_slot_resolves_and_no_colons() -> None:
 
 
 def test_reasons_have_labels_and_are_documented() -> None:
-    labels = demo.demo_reasons()
+    labels = demo_reasons()
     assert tuple(labels) == REASONS and all(labels.values())
     readme = (SAMPLE.parent / "README.md").read_text(encoding="utf-8")
     assert all(f"`{key}`" in readme for key in REASONS)
@@ -291,7 +289,7 @@ def test_names_are_invented_sets() -> None:
 # -- files -----------------------------------------------------------------------------
 
 
-def test_formats_mix_and_manifest_covers_every_call(written: demo.DemoFiles) -> None:
+def test_formats_mix_and_manifest_covers_every_call(written: DemoFiles) -> None:
     counts = written.counts
     assert sum(counts.values()) == 300 and written.inbox is None
     assert 0.35 < counts["txt"] / 300 < 0.65
@@ -314,7 +312,7 @@ def test_formats_mix_and_manifest_covers_every_call(written: demo.DemoFiles) -> 
     assert all(re.fullmatch(r"C2026-\d\d-\d{6}", i) for i in ids)
 
 
-def test_truth_lives_outside_the_exports(written: demo.DemoFiles) -> None:
+def test_truth_lives_outside_the_exports(written: DemoFiles) -> None:
     assert written.truth.parent == written.root
     assert written.exports not in written.truth.parents
     assert not list(written.exports.rglob("truth*"))
@@ -322,7 +320,7 @@ def test_truth_lives_outside_the_exports(written: demo.DemoFiles) -> None:
         assert "primary_reason" not in path.read_text(encoding="utf-8")
 
 
-def test_rendered_files_follow_their_formats(written: demo.DemoFiles) -> None:
+def test_rendered_files_follow_their_formats(written: DemoFiles) -> None:
     styles = Counter()
     for path in (written.exports / "calls").rglob("*.txt"):
         lines = path.read_text(encoding="utf-8").splitlines()
@@ -392,7 +390,7 @@ def test_per_turn_csv_is_split_into_parts_that_ingest_whole(
     from talkthemes.workspace import Workspace
 
     monkeypatch.setattr(writer, "CSV_CALLS_PER_FILE", 20)
-    files = demo.write_demo(tmp_path / "out", size=300, seed=3)
+    files = write_demo(tmp_path / "out", size=300, seed=3)
     parts = sorted(files.exports.glob("turns*.csv"), key=lambda p: (p.name != "turns.csv", p.name))
     assert parts[0] == files.turns and len(parts) == -(-files.counts["csv"] // 20)
     ids_per_part = [{row["call_id"] for row in _read_csv(p)} for p in parts]

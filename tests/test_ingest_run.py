@@ -5,7 +5,7 @@ from __future__ import annotations
 import time
 from pathlib import Path
 
-from talkthemes.demo import write_demo
+from talkthemes.demo.writer import write_demo
 from talkthemes.ingest.run import PARALLEL_MIN_FILES, ingest
 from talkthemes.workspace import Workspace
 

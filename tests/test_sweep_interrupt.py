@@ -22,7 +22,7 @@ from tests.external.bars import make_bars_corpus, pixel_names
 from tests.support.preps import install_prep
 from typer.testing import CliRunner
 
-from talkthemes.cli import app
+from talkthemes.cli._common import app
 from talkthemes.sweep.run import run_sweep
 from talkthemes.workspace import Workspace
 

@@ -2,7 +2,7 @@
 
 :func:`assign` reads transcripts in any supported format without storing them (or stores
 them too), prepares them exactly as the version's training data was
-(:class:`~talkthemes.frozen.PrepApplier`) and infers their shares: for LDA with gensim's
+(:class:`~talkthemes.prepare.frozen.PrepApplier`) and infers their shares: for LDA with gensim's
 E-step on the model restored from its saved ``.npy`` state (deterministic for the version's
 seed and the input order), for NMF by solving for the weights with the topics held fixed,
 on TF-IDF with the saved idf. A transcript with no word in the vocabulary gets a row with
@@ -24,11 +24,11 @@ import pandas as pd
 import scipy.sparse as sp
 
 from talkthemes.errors import InputError, NotReadyError
-from talkthemes.frozen import AppliedBatch, PrepApplier, load_prep_spec
 from talkthemes.ingest.decode import check_fallback
 from talkthemes.ingest.detect import iter_files, read_file
 from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.run import ingest
+from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec
 from talkthemes.progress import Progress, report
 from talkthemes.versions.export import write_table
 from talkthemes.versions.load import Version, load_version
@@ -96,7 +96,8 @@ class ShareModel:
         # Deferred on purpose: talkthemes.models loads gensim and scikit-learn (about a
         # second), which reading the inputs and writing the table never need.
         if self.family == "lda":
-            from talkthemes.models.lda import infer_doc_topics, restore_lda
+            from talkthemes.models.lda_infer import infer_doc_topics
+            from talkthemes.models.lda_state import restore_lda
 
             if self._lda is None:
                 self._lda = restore_lda(self.arrays, self.params, seed=self.seed)

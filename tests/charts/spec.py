@@ -19,7 +19,7 @@ import numpy as np
 import vl_convert as vlc
 from PIL import Image
 
-from talkthemes.charts import OKABE_ITO
+from talkthemes.charts.style import OKABE_ITO
 
 # --------------------------------------------------------------------------- the spec
 

@@ -7,7 +7,7 @@ import pandas as pd
 import pytest
 import tests.charts.spec as vl
 
-from talkthemes.charts import drift_chart
+from talkthemes.charts.drift import drift_chart
 from talkthemes.errors import InputError
 
 

@@ -16,17 +16,9 @@ import pandas as pd
 import pytest
 import tests.charts.spec as vl
 
-from talkthemes.charts import (
-    BLUE,
-    SERIES_COLOURS,
-    VERMILLION,
-    chart_html,
-    chart_png,
-    movers_chart,
-    save_chart,
-    trend_chart,
-)
-from talkthemes.charts.style import LINE_SOFT
+from talkthemes.charts.render import chart_html, chart_png, save_chart
+from talkthemes.charts.style import BLUE, LINE_SOFT, SERIES_COLOURS, VERMILLION
+from talkthemes.charts.trends import movers_chart, trend_chart
 from talkthemes.trends import lead_share_by_period, period_start
 
 # Outage rose clearly, Upgrade rose a little (its interval includes no change), Late fees

@@ -5,9 +5,9 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 
-from talkthemes import charts
-from talkthemes.charts import FAMILY_COLOURS, OKABE_ITO, SERIES_COLOURS, term_chart
-from talkthemes.charts.style import unique_names
+from talkthemes.charts import style as chart_style
+from talkthemes.charts.style import FAMILY_COLOURS, OKABE_ITO, SERIES_COLOURS, unique_names
+from talkthemes.charts.terms import term_chart
 from talkthemes.errors import InputError
 
 
@@ -43,7 +43,7 @@ def _terms(n: int) -> pd.DataFrame:
 
 def test_charts_refuse_unaggregated_sizes(monkeypatch: pytest.MonkeyPatch) -> None:
     term_chart(_terms(5), "fits")
-    monkeypatch.setattr(charts.style, "MAX_CHART_ROWS", 5)
+    monkeypatch.setattr(chart_style, "MAX_CHART_ROWS", 5)
     with pytest.raises(InputError, match=r"6 rows is more than a chart takes.*aggregate first"):
         term_chart(_terms(6), "too many")
 
@@ -60,13 +60,3 @@ def test_charts_say_which_column_is_missing() -> None:
 def test_a_repeated_name_gets_its_theme_id() -> None:
     frame = pd.DataFrame({"theme_id": [4, 9, 4, 2], "name": ["Bills", "Bills", "Bills", "Moves"]})
     assert unique_names(frame).tolist() == ["Bills (#4)", "Bills (#9)", "Bills (#4)", "Moves"]
-
-
-def test_theme_name_stays_importable_from_charts_until_the_merge() -> None:
-    # compat: the domain branch moves theme_name to talkthemes.versions.naming
-    assert charts.theme_name("Payment plans", ["pay", "plan", "month"]) == "Payment plans"
-    assert charts.theme_name("  ", ["late_fee", "charge", "waive", "refund"]) == (
-        "late fee · charge · waive"
-    )
-    with pytest.raises(InputError, match="label or at least one top term"):
-        charts.theme_name("", [])

@@ -9,7 +9,8 @@ import pandas as pd
 import pytest
 import tests.charts.spec as vl
 
-from talkthemes.charts import BLUE, FAMILY_COLOURS, VERMILLION, sweep_chart
+from talkthemes.charts.style import BLUE, FAMILY_COLOURS, VERMILLION
+from talkthemes.charts.sweep import sweep_chart
 from talkthemes.errors import InputError
 
 

@@ -6,7 +6,8 @@ import pandas as pd
 import pytest
 import tests.charts.spec as vl
 
-from talkthemes.charts import BLACK, BLUE, term_chart
+from talkthemes.charts.style import BLACK, BLUE
+from talkthemes.charts.terms import term_chart
 from talkthemes.errors import InputError
 
 

@@ -11,8 +11,8 @@ import pytest
 import tests.charts.spec as vl
 from tests.support.layout import retained_share
 
-from talkthemes.charts import BLACK, ORANGE, SKY_BLUE, theme_map_caption, theme_map_chart
-from talkthemes.charts.theme_map import _place_labels
+from talkthemes.charts.style import BLACK, ORANGE, SKY_BLUE
+from talkthemes.charts.theme_map import _place_labels, theme_map_caption, theme_map_chart
 from talkthemes.errors import InputError
 from talkthemes.view.theme_map import theme_layout
 

@@ -6,7 +6,8 @@ import pandas as pd
 import pytest
 import tests.charts.spec as vl
 
-from talkthemes.charts import BLACK, BLUE, BLUISH_GREEN, timeline_chart
+from talkthemes.charts.history import timeline_chart
+from talkthemes.charts.style import BLACK, BLUE, BLUISH_GREEN
 from talkthemes.errors import InputError
 from talkthemes.view.history import versions_timeline
 

@@ -8,14 +8,8 @@ import pandas as pd
 import pytest
 import tests.charts.spec as vl
 
-from talkthemes.charts import (
-    BLUE,
-    OKABE_ITO,
-    VERMILLION,
-    movers_chart,
-    segment_chart,
-    trend_chart,
-)
+from talkthemes.charts.style import BLUE, OKABE_ITO, VERMILLION
+from talkthemes.charts.trends import movers_chart, segment_chart, trend_chart
 from talkthemes.errors import InputError
 from talkthemes.trends import lead_share_by_period, period_start
 

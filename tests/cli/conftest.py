@@ -42,8 +42,9 @@ def published_root(tmp_path_factory: pytest.TempPathFactory) -> Path:
     """The tiny published workspace (read-only: copy it with :func:`copy_workspace`)."""
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.corpus import PreparedCorpus
-    from talkthemes.sweep import load_current_prep
-    from talkthemes.versions import fit_version, write_version
+    from talkthemes.sweep.run import load_current_prep
+    from talkthemes.versions.fit import fit_version
+    from talkthemes.versions.write import write_version
 
     base = tmp_path_factory.mktemp("cli-published")
     calls = base / "calls"

@@ -21,8 +21,8 @@ from rich.color import ColorSystem
 from rich.console import Console
 from typer.testing import CliRunner
 
-from talkthemes.cli import _common, app
-from talkthemes.cli._common import line
+from talkthemes.cli import _common
+from talkthemes.cli._common import app, line
 from talkthemes.cli._shared import ThemesTable
 from talkthemes.config import render_settings
 from talkthemes.text import terminal_text
@@ -100,19 +100,13 @@ def test_label_note_themes_and_export_show_any_text(
         with out_csv.open(newline="", encoding="utf-8") as fh:
             rows = [r for r in csv.DictReader(fh) if r["lead_theme_id"] == str(theme)]
         assert rows
-        if "\r" not in text:  # see test_export_keeps_a_carriage_return_inside_a_label
-            # the label as stored, or with the quote that keeps a spreadsheet from reading it
-            # as a formula
-            assert {r["lead_theme_label"] for r in rows} <= {text, "'" + text}
+        # the label as stored (a CR too: RFC 4180 line ends), or with the quote that keeps
+        # a spreadsheet from reading it as a formula
+        assert {r["lead_theme_label"] for r in rows} <= {text, "'" + text}
 
     check()
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="versions.write_table writes CSV with '\\n' line ends, so a bare CR in a label "
-    "is left unquoted and ends the row; writing '\\r\\n' line ends (RFC 4180) quotes it",
-)
 def test_export_keeps_a_carriage_return_inside_a_label(published: Workspace) -> None:
     w = str(published.root)
     assert invoke("label", "-w", w, "1", "before\rafter")[0] == 0

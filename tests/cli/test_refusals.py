@@ -10,7 +10,7 @@ import pytest
 import typer
 from typer.testing import CliRunner
 
-from talkthemes.cli import app
+from talkthemes.cli._common import app
 from talkthemes.workspace import Workspace
 
 runner = CliRunner()

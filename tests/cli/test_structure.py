@@ -12,7 +12,7 @@ import typer
 from typer.testing import CliRunner
 
 import talkthemes.cli
-from talkthemes.cli import app
+from talkthemes.cli._common import app
 
 CLI = Path(talkthemes.cli.__file__).parent
 SHARED = {"talkthemes.cli._common", "talkthemes.cli._shared"}
@@ -49,15 +49,6 @@ def test_command_groups_import_only_the_shared_modules() -> None:
         assert _cli_imports(path) <= SHARED, path.name
     assert _cli_imports(CLI / "_common.py") == set()
     assert _cli_imports(CLI / "_shared.py") == {"talkthemes.cli._common"}
-    assert _cli_imports(CLI.parent / "cli_refresh.py") == set()  # the compat shim: no cycle
-
-
-def test_old_registration_is_harmless() -> None:
-    from talkthemes.cli_refresh import register
-
-    register(app)
-    register(app)
-    assert len(typer.main.get_command(app).commands) == len(COMMANDS)
 
 
 def test_start_up_does_not_load_the_heavy_libraries() -> None:

@@ -14,7 +14,7 @@ import pytest
 import typer
 from typer.testing import CliRunner
 
-from talkthemes.cli import app
+from talkthemes.cli._common import app
 
 runner = CliRunner()
 GROUP = typer.main.get_command(app)

@@ -24,7 +24,7 @@ from pathlib import Path
 from tests.external.bars import make_bars_corpus, pixel_names
 from tests.support.preps import install_prep
 
-from talkthemes.sweep import run_sweep
+from talkthemes.sweep.run import run_sweep
 from talkthemes.workspace import Workspace
 
 SETTINGS = """

@@ -122,7 +122,7 @@ def _print(name: str, figures: dict[str, float]) -> None:
 
 
 if __name__ == "__main__":
-    from talkthemes.demo import iter_demo_calls
+    from talkthemes.demo.calls import iter_demo_calls
 
     _print("Lee", agreement(lee_batch()))
     demo = [(c.call_id, [(t.role, t.text) for t in c.turns]) for c in iter_demo_calls(1500, 7)]

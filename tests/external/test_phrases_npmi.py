@@ -23,7 +23,7 @@ import pytest
 from gensim.models.phrases import Phrases, npmi_scorer
 
 from talkthemes.config import PrepareSettings
-from talkthemes.demo import iter_demo_calls
+from talkthemes.demo.calls import iter_demo_calls
 from talkthemes.prepare.boilerplate import split_sentences
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.filter import KEEP

@@ -26,7 +26,8 @@ from hypothesis import strategies as st
 
 from talkthemes.config import IngestSettings
 from talkthemes.ingest.model import Transcript
-from talkthemes.ingest.tables import load_table, read_table
+from talkthemes.ingest.tables.files import load_table
+from talkthemes.ingest.tables.read import read_table
 
 SETTINGS = IngestSettings()
 

@@ -19,7 +19,7 @@ from spacy.lang.en.stop_words import STOP_WORDS
 from spacy.lookups import load_lookups
 
 from talkthemes.config import PrepareSettings
-from talkthemes.demo import iter_demo_calls
+from talkthemes.demo.calls import iter_demo_calls
 from talkthemes.prepare.boilerplate import split_sentences
 from talkthemes.prepare.chain import build_processor
 from talkthemes.prepare.filter import KEEP

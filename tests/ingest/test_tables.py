@@ -15,13 +15,10 @@ import pytest
 
 from talkthemes.config import IngestSettings
 from talkthemes.ingest.model import Reject, Transcript, Warning_
-from talkthemes.ingest.tables import (
-    date_order,
-    find_column,
-    load_table,
-    normalise_date,
-    read_table,
-)
+from talkthemes.ingest.tables.columns import find_column
+from talkthemes.ingest.tables.dates import date_order, normalise_date
+from talkthemes.ingest.tables.files import load_table
+from talkthemes.ingest.tables.read import read_table
 
 SETTINGS = IngestSettings()
 

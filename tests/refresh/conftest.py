@@ -9,7 +9,8 @@ from pathlib import Path
 
 import pytest
 
-from talkthemes.demo import DemoFiles, write_demo
+from talkthemes.demo.records import DemoFiles
+from talkthemes.demo.writer import write_demo
 from talkthemes.workspace import Workspace
 
 #: Demo calls: enough that October holds ~170 calls, ~18 of them about the price change.

@@ -14,11 +14,11 @@ from typer.testing import CliRunner
 
 from talkthemes import cli
 from talkthemes.assign import ShareModel, assign, assign_frame, folder_manifests
-from talkthemes.cli_refresh import register
 from talkthemes.config import PrepareSettings
-from talkthemes.demo import DemoFiles
+from talkthemes.demo.records import DemoFiles
 from talkthemes.errors import InputError
-from talkthemes.frozen import (
+from talkthemes.prepare.corpus import OOV, PreparedCorpus
+from talkthemes.prepare.frozen import (
     NO_KNOWN_TERMS,
     AppliedBatch,
     PrepApplier,
@@ -26,7 +26,6 @@ from talkthemes.frozen import (
     build_frozen_prep,
     load_prep_spec,
 )
-from talkthemes.prepare.corpus import OOV, PreparedCorpus
 from talkthemes.sweep.run import load_current_prep
 from talkthemes.versions.export import export_shares
 from talkthemes.versions.fit import fit_version
@@ -34,7 +33,6 @@ from talkthemes.versions.load import load_version
 from talkthemes.versions.write import write_version
 from talkthemes.workspace import Workspace
 
-register(cli.app)
 runner = CliRunner()
 
 
@@ -230,7 +228,7 @@ def test_lda_shares_from_saved_state_match_the_fitted_model(
     """LDA: the shares assign infers from the version's .npy state are exactly those the
     fitted gensim model infers for the same rows and seed; two runs agree."""
     from talkthemes.models.factory import make_model
-    from talkthemes.models.lda import infer_doc_topics
+    from talkthemes.models.lda_infer import infer_doc_topics
 
     ws = published
     prep, folder = load_current_prep(ws)

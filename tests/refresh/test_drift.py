@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 from markdown_it import MarkdownIt
 
-from talkthemes.charts import drift_chart
+from talkthemes.charts.drift import drift_chart
 from talkthemes.errors import InputError
 from talkthemes.text import md_inline
 from talkthemes.versions.align import align_themes

@@ -14,15 +14,14 @@ from tests.refresh.conftest import FAMILY, PRICE_WORDS, K
 from typer.testing import CliRunner
 
 from talkthemes import cli
-from talkthemes.cli_refresh import register
 from talkthemes.config import render_settings, settings_from_dict
-from talkthemes.demo import DemoFiles
+from talkthemes.demo.records import DemoFiles
 from talkthemes.errors import NotReadyError
-from talkthemes.refresh import coherence_check, refresh
+from talkthemes.refresh.coherence import coherence_check
+from talkthemes.refresh.run import refresh
 from talkthemes.versions.load import load_version
 from talkthemes.workspace import Workspace, atomic_write_text
 
-register(cli.app)
 runner = CliRunner()
 
 
@@ -210,8 +209,8 @@ def test_coherence_drop_triggers_a_resweep(
 def test_coherence_check_compares_like_with_like(
     published: Workspace, demo_files: DemoFiles
 ) -> None:
-    from talkthemes.frozen import load_prep_spec
     from talkthemes.ingest.run import ingest
+    from talkthemes.prepare.frozen import load_prep_spec
 
     ws = published
     v = load_version(ws)
@@ -260,7 +259,8 @@ def test_labels_survive_two_refreshes_and_rollback(
     published: Workspace, demo_files: DemoFiles, tmp_path: Path
 ) -> None:
     """Refresh twice (October, then a second batch), then roll back with publish --version."""
-    from talkthemes.demo import iter_demo_calls, render_txt
+    from talkthemes.demo.calls import iter_demo_calls
+    from talkthemes.demo.render import render_txt
 
     ws = published
     with ws.lock("refresh"):

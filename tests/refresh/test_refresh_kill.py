@@ -22,17 +22,11 @@ import numpy as np
 from typer.testing import CliRunner
 
 from talkthemes import cli
-from talkthemes.cli_refresh import register
-from talkthemes.demo import DemoFiles
+from talkthemes.demo.records import DemoFiles
 from talkthemes.versions.load import load_version
 from talkthemes.workspace import Workspace
 
-register(cli.app)
-
-_ENTRY = (
-    "from talkthemes import cli; from talkthemes.cli_refresh import register; "
-    "register(cli.app); cli.main()"
-)
+_ENTRY = "from talkthemes import cli; cli.main()"
 
 
 def _start(ws: Workspace, inbox: Path, stage: str | None) -> subprocess.Popen[str]:

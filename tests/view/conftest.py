@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 from tests.view.data import META, SHARES, make_version
 
-from talkthemes.versions import Version
+from talkthemes.versions.load import Version
 from talkthemes.view.metadata import FieldInfo, MetaTable, metadata_table
 
 

@@ -11,7 +11,7 @@ from pathlib import Path
 
 import numpy as np
 
-from talkthemes.versions import Version
+from talkthemes.versions.load import Version
 
 
 def make_version(

@@ -79,7 +79,7 @@ def test_only_the_transcript_view_asks_the_prepare_step() -> None:
     presentation = [*files("app"), *files("report"), *files("view"), *files("charts")]
     assert offending(presentation, ("talkthemes.prepare",)) == {
         "view/transcript.py": [
-            "talkthemes.prepare.lemmas",
-            "talkthemes.prepare.lemmas.load_lemma_table",
+            "talkthemes.prepare.lexicon",
+            "talkthemes.prepare.lexicon.load_lemma_table",
         ]
     }

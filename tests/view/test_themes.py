@@ -6,7 +6,7 @@ import pandas as pd
 import pytest
 from tests.view.data import SHARES
 
-from talkthemes.versions import Version
+from talkthemes.versions.load import Version
 from talkthemes.view.theme_map import theme_layout
 from talkthemes.view.themes import theme_names, theme_table, with_names
 

@@ -62,11 +62,12 @@ def _add_xss(folder: Path) -> tuple[Path, Path]:
 def demo_ws(tmp_path_factory: pytest.TempPathFactory) -> DemoWorkspace:
     """The published demo workspace (read-only for tests; copy it to change it)."""
     from talkthemes.config import render_settings
-    from talkthemes.demo import write_demo
+    from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.sweep import run_sweep
-    from talkthemes.versions import load_version, publish
+    from talkthemes.sweep.run import run_sweep
+    from talkthemes.versions.load import load_version
+    from talkthemes.versions.publish import publish
     from talkthemes.workspace import atomic_write_text
 
     root = tmp_path_factory.mktemp("viewer") / "ws"

@@ -15,7 +15,7 @@ from talkthemes.app import _shared
 from talkthemes.app.choose_k import PICK
 from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.text import md_inline
-from talkthemes.versions import load_version
+from talkthemes.versions.load import load_version
 from talkthemes.view.theme_map import theme_layout
 from talkthemes.workspace import Workspace
 

@@ -11,7 +11,7 @@ import pytest
 from streamlit.testing.v1 import AppTest
 
 import talkthemes.app
-from talkthemes.charts import timeline_chart
+from talkthemes.charts.history import timeline_chart
 from talkthemes.errors import InputError
 from talkthemes.text import md_inline
 from talkthemes.view.history import (
@@ -34,13 +34,15 @@ LABEL = "Billing <b>questions</b> & *more*"
 def refreshed(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
     """Version 1 published on May–September, then refreshed with October into version 2
     (the theme leading the most transcripts labelled before the refresh)."""
-    from talkthemes.demo import write_demo
+    from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.refresh import refresh
-    from talkthemes.sweep import load_current_prep
-    from talkthemes.versions import fit_version, load_version, write_version
+    from talkthemes.refresh.run import refresh
+    from talkthemes.sweep.run import load_current_prep
+    from talkthemes.versions.fit import fit_version
+    from talkthemes.versions.load import load_version
+    from talkthemes.versions.write import write_version
 
     base = tmp_path_factory.mktemp("history")
     files = write_demo(base / "src", size=DEMO_SIZE, seed=7, hold_back_last_month=True)
@@ -65,12 +67,13 @@ def refreshed(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
 @pytest.fixture(scope="module")
 def single(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
     """A workspace with one directly published version and no refresh."""
-    from talkthemes.demo import write_demo
+    from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.sweep import load_current_prep
-    from talkthemes.versions import fit_version, write_version
+    from talkthemes.sweep.run import load_current_prep
+    from talkthemes.versions.fit import fit_version
+    from talkthemes.versions.write import write_version
 
     base = tmp_path_factory.mktemp("single")
     files = write_demo(base / "src", size=200, seed=3)

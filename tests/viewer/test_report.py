@@ -12,10 +12,10 @@ import pytest
 import tests.charts.spec as vl
 from tests.support.layout import retained_share
 
-from talkthemes.charts import BLUE, SERIES_COLOURS, VERMILLION
+from talkthemes.charts.style import BLUE, SERIES_COLOURS, VERMILLION
 from talkthemes.errors import NotReadyError
 from talkthemes.report import build_report, render_report, write_report
-from talkthemes.versions import load_version
+from talkthemes.versions.load import load_version
 from talkthemes.view.theme_map import theme_layout
 from talkthemes.workspace import Workspace
 

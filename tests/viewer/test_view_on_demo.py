@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from talkthemes.errors import InputError
-from talkthemes.versions import load_version
+from talkthemes.versions.load import load_version
 from talkthemes.view.calls import calls_table
 from talkthemes.view.choose_k import cell_themes, load_prep_vocabulary, load_sweep
 from talkthemes.view.metadata import load_metadata

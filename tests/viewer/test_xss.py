@@ -17,7 +17,7 @@ from talkthemes.app import _shared
 from talkthemes.app.calls import OPEN_KEY
 from talkthemes.report import build_report, render_report
 from talkthemes.text import md_inline
-from talkthemes.versions import load_version
+from talkthemes.versions.load import load_version
 from talkthemes.view.transcript import TermHighlighter, segments_html, transcript_html, turn_views
 
 APP = Path(talkthemes.app.__file__).resolve().parent / "main.py"

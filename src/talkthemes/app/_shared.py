@@ -18,10 +18,13 @@ from typing import Any
 import pandas as pd
 import streamlit as st
 
-from talkthemes import charts
+from talkthemes.charts.sweep import sweep_chart
+from talkthemes.charts.terms import term_chart
+from talkthemes.charts.theme_map import theme_map_chart
+from talkthemes.charts.trends import movers_chart, segment_chart, trend_chart
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline
-from talkthemes.versions import Version, load_version
+from talkthemes.versions.load import Version, load_version
 from talkthemes.view.choose_k import load_prep_vocabulary
 from talkthemes.view.metadata import MetaTable, load_metadata
 from talkthemes.view.over_time import movers_frame, segment_frame, trend_frame
@@ -198,12 +201,12 @@ def clear_caches() -> None:
 # --------------------------------------------------------------------------- charts
 
 _BUILDERS: dict[str, Any] = {
-    "sweep": charts.sweep_chart,
-    "map": charts.theme_map_chart,
-    "terms": charts.term_chart,
-    "trend": charts.trend_chart,
-    "segments": charts.segment_chart,
-    "movers": charts.movers_chart,
+    "sweep": sweep_chart,
+    "map": theme_map_chart,
+    "terms": term_chart,
+    "trend": trend_chart,
+    "segments": segment_chart,
+    "movers": movers_chart,
 }
 
 

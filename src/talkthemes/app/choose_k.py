@@ -9,7 +9,7 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError, WorkspaceBusyError
 from talkthemes.text import md_inline
-from talkthemes.versions import publish
+from talkthemes.versions.publish import publish
 from talkthemes.view.choose_k import SweepView, cell_themes, load_sweep, scalar_columns
 from talkthemes.view.readiness import readiness
 from talkthemes.workspace import Workspace

@@ -10,10 +10,11 @@ import pandas as pd
 import streamlit as st
 
 from talkthemes.app import _shared
-from talkthemes.charts import drift_chart, timeline_chart
-from talkthemes.drift import drift_frame
+from talkthemes.charts.drift import drift_chart
+from talkthemes.charts.history import timeline_chart
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline, percent
+from talkthemes.versions.drift import drift_frame
 from talkthemes.view.history import (
     ThemeChange,
     load_drift,

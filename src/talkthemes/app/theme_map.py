@@ -5,8 +5,8 @@ from __future__ import annotations
 
 import streamlit as st
 
-from talkthemes import charts
 from talkthemes.app import _shared
+from talkthemes.charts.theme_map import theme_map_caption
 from talkthemes.text import md_inline, percent
 from talkthemes.view.themes import theme_table
 
@@ -40,7 +40,7 @@ def render() -> None:
         selection_mode="theme",
     )
     st.caption(
-        charts.theme_map_caption(layout.explained)
+        theme_map_caption(layout.explained)
         + " Distances come from the Jensen–Shannon distance between the themes' word "
         "distributions; the axes themselves have no unit. Faint dashed circles are themes "
         "hidden as noise."

@@ -17,62 +17,7 @@ One module per chart family:
 * :mod:`.history` — the versions' timeline (:func:`timeline_chart`);
 * :mod:`.render` — writing a chart as PNG or offline HTML.
 
-This package re-exports the chart functions and the palette: ``from talkthemes import
-charts; charts.trend_chart(frame)`` is the charts API.
+Import a chart from its module: ``from talkthemes.charts.trends import trend_chart``.
 """
 
 from __future__ import annotations
-
-from talkthemes.charts._naming import theme_name  # compat: re-exports until the merge
-from talkthemes.charts.drift import drift_chart
-from talkthemes.charts.history import timeline_chart
-from talkthemes.charts.render import chart_html, chart_png, save_chart
-from talkthemes.charts.style import (
-    BLACK,
-    BLUE,
-    BLUISH_GREEN,
-    FAMILY_COLOURS,
-    MAX_CHART_ROWS,
-    OKABE_ITO,
-    ORANGE,
-    REDDISH_PURPLE,
-    SERIES_COLOURS,
-    SKY_BLUE,
-    VERMILLION,
-    YELLOW,
-    ChartLike,
-)
-from talkthemes.charts.sweep import sweep_chart
-from talkthemes.charts.terms import TERM_CAPTION, term_chart
-from talkthemes.charts.theme_map import theme_map_caption, theme_map_chart
-from talkthemes.charts.trends import movers_chart, segment_chart, trend_chart
-
-__all__ = [
-    "BLACK",
-    "BLUE",
-    "BLUISH_GREEN",
-    "FAMILY_COLOURS",
-    "MAX_CHART_ROWS",
-    "OKABE_ITO",
-    "ORANGE",
-    "REDDISH_PURPLE",
-    "SERIES_COLOURS",
-    "SKY_BLUE",
-    "TERM_CAPTION",
-    "VERMILLION",
-    "YELLOW",
-    "ChartLike",
-    "chart_html",
-    "chart_png",
-    "drift_chart",
-    "movers_chart",
-    "save_chart",
-    "segment_chart",
-    "sweep_chart",
-    "term_chart",
-    "theme_map_caption",
-    "theme_map_chart",
-    "theme_name",
-    "timeline_chart",
-    "trend_chart",
-]

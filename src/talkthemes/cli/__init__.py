@@ -19,9 +19,6 @@ from __future__ import annotations
 
 from talkthemes.cli import data, faces, model, refresh, themes, workspace
 from talkthemes.cli._common import app
-from talkthemes.cli.workspace import status_data  # compat: re-exports until the merge
-
-__all__ = ["app", "main", "status_data"]
 
 _COMMANDS = (
     ("init", workspace.init),

@@ -172,8 +172,11 @@ def say(*parts: Part, console: Console | None = None, soft_wrap: bool | None = N
 
 
 def cell(value: Any, style: str = "") -> Text:
-    """A table cell showing ``value`` literally (tables read plain strings as markup)."""
-    return Text(terminal_text(value), style=style)
+    """A table cell showing ``value`` literally (tables read plain strings as markup).
+
+    A tab becomes one space: a cell's width is measured before a tab would be expanded.
+    """
+    return Text(terminal_text(value).replace("\t", " "), style=style)
 
 
 def emit_json(doc: Any) -> None:

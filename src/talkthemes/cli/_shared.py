@@ -236,7 +236,7 @@ def recommended_cell(ws: Workspace, family: str | None) -> tuple[str, int]:
     # `talkthemes --help` imports every command module
     import pandas as pd
 
-    from talkthemes.recommend import Recommendation, best_family
+    from talkthemes.sweep.recommend import Recommendation, best_family
 
     with ws.store() as store:
         sweep = next(

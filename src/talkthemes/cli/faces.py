@@ -155,11 +155,11 @@ def _run_demo(
     Returns the JSON document of the run and the published version's themes.
     """
     # deferred: the whole pipeline (see the module docstring)
-    from talkthemes.demo import write_demo
+    from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest as run_ingest
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.sweep import run_sweep
-    from talkthemes.versions import publish as run_publish
+    from talkthemes.sweep.run import run_sweep
+    from talkthemes.versions.publish import publish as run_publish
 
     source = ws.root / "demo-source"
     say(f"Writing {size:,} invented calls to {source} …")
@@ -180,7 +180,7 @@ def _run_demo(
         published = run_publish(ws, k=best_k, family=family, progress=update)
     doc["published"] = {"version": published.version, "family": family, "k": best_k}
     if refresh and files.inbox is not None:
-        from talkthemes.refresh import refresh as run_refresh
+        from talkthemes.refresh.run import refresh as run_refresh
 
         if not quiet:
             say(f"Published version {published.version}: {family} K={best_k}.", console=out)

@@ -53,7 +53,7 @@ def sweep(
 ) -> None:
     """Fit LDA and NMF over a grid of topic counts and seeds; score them; recommend K."""
     # deferred: Dask, gensim and scikit-learn (see module doc)
-    from talkthemes.sweep import run_sweep
+    from talkthemes.sweep.run import run_sweep
 
     if chart is not None:
         check_output(chart, "--chart")
@@ -72,8 +72,8 @@ def sweep(
         )
     if chart is not None:
         # deferred: Altair and the PNG renderer (see module doc)
-        from talkthemes.charts import sweep_chart
-        from talkthemes.render import save_chart
+        from talkthemes.charts.render import save_chart
+        from talkthemes.charts.sweep import sweep_chart
 
         recommended = {f: r.k for f, r in result.recommendations.items()}
         with writing(chart, "--chart"):
@@ -115,7 +115,7 @@ def publish(
         if cell is not None and (k is not None or family is not None):
             _check_cell(ws, cell, k=k, family=family)
         # deferred: fitting and scoring the model (see module doc)
-        from talkthemes.versions import publish as run_publish
+        from talkthemes.versions.publish import publish as run_publish
 
         with progress_bar("publish", enabled=not as_json) as update:
             result = run_publish(ws, k=k, family=family, cell=cell, force=force, progress=update)
@@ -166,7 +166,7 @@ def _check_cell(ws: Workspace, cell: str, *, k: int | None, family: str | None) 
 def _make_current(ws: Workspace, version: int, *, as_json: bool) -> None:
     """``publish --version N``: make a kept version current again."""
     # deferred: loading a version reads numpy arrays (see module doc)
-    from talkthemes.versions import load_version
+    from talkthemes.versions.load import load_version
 
     with ws.store() as store:
         known = [v["n"] for v in store.versions()]

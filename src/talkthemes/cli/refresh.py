@@ -65,7 +65,7 @@ def refresh(
 ) -> None:
     """Ingest new transcripts, retrain, keep theme ids and labels, report drift, publish."""
     # deferred: see the module docstring
-    from talkthemes.refresh import refresh as run_refresh
+    from talkthemes.refresh.run import refresh as run_refresh
 
     ws = open_workspace(workspace)
     with lock(ws, "refresh", wait), progress_bar("refresh", enabled=not as_json) as update:

@@ -47,7 +47,7 @@ def themes(
 ) -> None:
     """The current version's themes: label, coverage, mean share, top terms, coherence."""
     # deferred: see the module docstring
-    from talkthemes.versions import load_version
+    from talkthemes.versions.load import load_version
 
     ws = open_workspace(workspace)
     v = load_version(ws, version)
@@ -123,7 +123,8 @@ def export(
 ) -> None:
     """Write every transcript's lead theme, lead share and share per theme to CSV or Parquet."""
     # deferred: see the module docstring
-    from talkthemes.versions import export_shares, load_version, write_table
+    from talkthemes.versions.export import export_shares, write_table
+    from talkthemes.versions.load import load_version
 
     check_output(out_path, "--out")
     ws = open_workspace(workspace)

@@ -26,39 +26,3 @@ gives the same corpus.
 """
 
 from __future__ import annotations
-
-from talkthemes.demo.calls import iter_demo_calls
-from talkthemes.demo.records import DemoCall, DemoFiles, DemoTurn, RenderStyle
-from talkthemes.demo.render import render_txt, render_vtt
-from talkthemes.demo.scenario import (
-    FIRST_DAY,
-    FORMATS,
-    KINDS,
-    LAST_DAY,
-    PRICE_CHANGE_MONTH,
-    REASONS,
-    STORM_WEEK,
-    demo_reasons,
-)
-from talkthemes.demo.writer import CSV_CALLS_PER_FILE, write_demo
-
-# compat: re-exports until the merge (importers use ``talkthemes.demo`` as the old module)
-__all__ = [
-    "CSV_CALLS_PER_FILE",
-    "FIRST_DAY",
-    "FORMATS",
-    "KINDS",
-    "LAST_DAY",
-    "PRICE_CHANGE_MONTH",
-    "REASONS",
-    "STORM_WEEK",
-    "DemoCall",
-    "DemoFiles",
-    "DemoTurn",
-    "RenderStyle",
-    "demo_reasons",
-    "iter_demo_calls",
-    "render_txt",
-    "render_vtt",
-    "write_demo",
-]

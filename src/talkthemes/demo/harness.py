@@ -41,8 +41,10 @@ from talkthemes.demo.planted import PlantedFiles, PlantedSpec, read_truth, write
 from talkthemes.ingest.run import ingest
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.run import run_prepare
-from talkthemes.sweep import SweepResult, run_sweep, seed_agreement
-from talkthemes.versions import fit_version, pick_cell
+from talkthemes.sweep.run import SweepResult, run_sweep
+from talkthemes.sweep.scoring import seed_agreement
+from talkthemes.versions.fit import fit_version
+from talkthemes.versions.publish import pick_cell
 from talkthemes.workspace import Workspace, atomic_write_text
 
 __all__ = [

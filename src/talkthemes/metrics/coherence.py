@@ -41,37 +41,20 @@ from talkthemes.errors import InputError
 from talkthemes.metrics.cooccurrence import (
     DEFAULT_WINDOWS,
     CoherenceReference,
-    CooccurrenceCounts,
     TopicProbabilities,
-    build_reference,
-    document_counts,
     estimate,
-    union_of_topics,
-    window_counts,
 )
 
-# compat: CoherenceReference, CooccurrenceCounts, TopicProbabilities, build_reference,
-# document_counts, estimate, union_of_topics and window_counts are re-exports until the merge
-# (they moved to talkthemes.metrics.cooccurrence).
 __all__ = [
-    "DEFAULT_WINDOWS",
     "EPSILON",
     "MEASURES",
     "CoherencePipeline",
-    "CoherenceReference",
     "CoherenceResult",
-    "CooccurrenceCounts",
-    "TopicProbabilities",
-    "build_reference",
     "c_npmi",
     "c_uci",
     "c_v",
-    "document_counts",
-    "estimate",
     "score",
     "u_mass",
-    "union_of_topics",
-    "window_counts",
 ]
 
 logger = logging.getLogger(__name__)

@@ -47,21 +47,12 @@ from talkthemes.models.lda_infer import (
     auto_chunksize,
     heldout_perplexity,
     infer_doc_topics,
-    variational_bound,
 )
-from talkthemes.models.lda_state import lda_state_arrays, lda_state_params, restore_lda
-from talkthemes.models.lda_train import ConvergenceTrace, train_to_convergence
+from talkthemes.models.lda_state import lda_state_arrays, lda_state_params
+from talkthemes.models.lda_train import train_to_convergence
 
 __all__ = [
-    "ConvergenceTrace",
     "LdaTopics",
-    # compat: re-exports until the merge (moved to lda_infer and lda_state)
-    "heldout_perplexity",
-    "infer_doc_topics",
-    "lda_state_arrays",
-    "lda_state_params",
-    "restore_lda",
-    "variational_bound",
 ]
 
 logger = logging.getLogger(__name__)

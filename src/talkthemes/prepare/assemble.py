@@ -18,23 +18,13 @@ from talkthemes.prepare.build import vocabulary_step
 from talkthemes.prepare.collect import Collected
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.steps import boilerplate_step, filter_step, lemma_step, phrases_step
-from talkthemes.prepare.table import CorpusStep, TokenTable, start_table
+from talkthemes.prepare.table import CorpusStep, start_table
 from talkthemes.progress import Progress, report
 
 __all__ = [
-    "Collected",
-    "CorpusStep",
     "ProgressFn",
-    "TokenTable",
-    "boilerplate_step",
-    "filter_step",
     "finish",
-    "lemma_step",
-    "phrases_step",
-    "start_table",
-    "vocabulary_step",
 ]
-# compat: re-exports until the merge (the steps live in .collect, .table, .steps, .build)
 
 #: The progress callback (``talkthemes.progress.Progress``).
 ProgressFn = Progress

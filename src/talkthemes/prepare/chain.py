@@ -33,7 +33,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from talkthemes.config import PrepareSettings
-from talkthemes.prepare.assemble import ProgressFn, finish
+from talkthemes.prepare.assemble import finish
 from talkthemes.prepare.boilerplate import find_boilerplate, split_sentences
 from talkthemes.prepare.collect import BatchResult, Collected
 from talkthemes.prepare.corpus import PreparedCorpus
@@ -52,17 +52,11 @@ __all__ = [
     "MIN_TERMS",
     "MIN_TRANSCRIPTS",
     "STAGES",
-    "Batch",
-    "BatchResult",
-    "ProgressFn",
     "TranscriptProcessor",
     "build_processor",
     "normalised_sentence",
     "prepare_corpus",
-    "resolve_processes",
 ]
-# compat: re-exports until the merge (Batch and resolve_processes live in .workers,
-# BatchResult in .collect, ProgressFn is talkthemes.progress.Progress)
 
 logger = logging.getLogger(__name__)
 

@@ -32,15 +32,12 @@ from talkthemes.prepare.boilerplate import sentence_keys, word_value
 from talkthemes.prepare.encoding import (
     Encoded,
     Encoder,
-    decode,
     empty_encoded,
     kept_breaks,
     tally,
 )
 from talkthemes.prepare.filter import NON_ALPHA, TokenFilter
 from talkthemes.prepare.headwords import ALL_CAPS_MIN_WORDS, Headwords, capitalised
-from talkthemes.prepare.lexicon import load_lemma_table, lookup_languages, spacy_stop_words
-from talkthemes.prepare.pipeline import SpacyLemmatizer
 from talkthemes.prepare.words import (
     CUT,
     DOC_SEP,
@@ -52,29 +49,13 @@ from talkthemes.prepare.words import (
     KIND_WORD,
     MARK_CHARS,
     PIECES,
-    TOKEN_PATTERN,
     english_not,
     mark_cutoffs,
-    words,
 )
 
 __all__ = [
-    "GAP",
-    "TOKEN_PATTERN",
-    "Encoded",
     "FastLemmatizer",
-    "SpacyLemmatizer",
-    "decode",
-    "kept_breaks",
-    "load_lemma_table",
-    "lookup_languages",
-    "spacy_stop_words",
-    "words",
 ]
-# compat: re-exports until the merge (GAP, TOKEN_PATTERN, Encoded, SpacyLemmatizer, decode,
-# kept_breaks, load_lemma_table, lookup_languages, spacy_stop_words and words now live in
-# .words, .encoding, .pipeline and .lexicon; report.py, app/_shared.py and bench/viewer.py
-# import load_lemma_table from here)
 
 
 class _Surface(NamedTuple):

@@ -7,11 +7,3 @@
 """
 
 from __future__ import annotations
-
-from talkthemes.refresh.coherence import MIN_NEW_FOR_CHECK, coherence_check
-from talkthemes.refresh.run import PAUSE_STAGES, RefreshResult, refresh
-
-# compat: re-exports until the merge (a private helper the tests imported from here)
-from talkthemes.refresh.run import _ingest_paths as _ingest_paths
-
-__all__ = ["MIN_NEW_FOR_CHECK", "PAUSE_STAGES", "RefreshResult", "coherence_check", "refresh"]

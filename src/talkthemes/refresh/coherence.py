@@ -15,8 +15,9 @@ from typing import Any
 
 import numpy as np
 
-from talkthemes.frozen import PrepApplier, PrepSpec
-from talkthemes.metrics.coherence import build_reference, score
+from talkthemes.metrics.coherence import score
+from talkthemes.metrics.cooccurrence import build_reference
+from talkthemes.prepare.frozen import PrepApplier, PrepSpec
 from talkthemes.versions.load import Version
 from talkthemes.workspace import Workspace
 

@@ -159,7 +159,7 @@ def default_drift_png(report: dict[str, Any]) -> bytes:
     """
     # Deferred on purpose: Altair and the PNG renderer are heavy and belong to the
     # presentation layer; only this default renderer needs them.
-    from talkthemes.charts import drift_chart
-    from talkthemes.render import chart_png
+    from talkthemes.charts.drift import drift_chart
+    from talkthemes.charts.render import chart_png
 
     return chart_png(drift_chart(drift_frame(report)))

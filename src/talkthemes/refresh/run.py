@@ -11,7 +11,7 @@ One run (the caller holds the workspace lock):
 3. **prepare**: by default the vocabulary is rebuilt on all transcripts
    (:func:`~talkthemes.prepare.run.run_prepare`); with ``[refresh] vocabulary = "frozen"``
    every transcript is prepared with the current version's settings, boilerplate
-   sentences, phrases and vocabulary (:class:`~talkthemes.frozen.PrepApplier`).
+   sentences, phrases and vocabulary (:class:`~talkthemes.prepare.frozen.PrepApplier`).
 4. **coherence check** (:mod:`talkthemes.refresh.coherence`): when the current themes'
    C_NPMI on the new transcripts is lower than on earlier ones by more than
    ``[refresh] resweep_coherence_drop``, K is chosen again.
@@ -51,9 +51,9 @@ from typing import Any
 
 from talkthemes.assign import folder_manifests
 from talkthemes.errors import InputError, NotReadyError
-from talkthemes.frozen import PrepSpec, build_frozen_prep, load_prep_spec
 from talkthemes.ingest.run import ingest
 from talkthemes.prepare.corpus import PreparedCorpus
+from talkthemes.prepare.frozen import PrepSpec, build_frozen_prep, load_prep_spec
 from talkthemes.prepare.run import run_prepare
 from talkthemes.progress import Progress, report
 from talkthemes.refresh.calibration import calibration_fits

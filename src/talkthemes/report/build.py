@@ -10,7 +10,7 @@ from talkthemes.progress import Progress
 from talkthemes.progress import report as tell
 from talkthemes.report import sections
 from talkthemes.report.page import Report, render_report
-from talkthemes.versions import load_version
+from talkthemes.versions.load import load_version
 from talkthemes.view.metadata import load_metadata
 from talkthemes.view.readiness import readiness
 from talkthemes.view.theme_map import theme_layout

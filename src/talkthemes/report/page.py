@@ -15,7 +15,7 @@ from typing import Any
 
 import vl_convert as vlc
 
-from talkthemes.charts import ChartLike
+from talkthemes.charts.style import ChartLike
 from talkthemes.text import html_text
 
 __all__ = ["Report", "chart_div", "render_report"]

@@ -13,12 +13,16 @@ import logging
 
 import pandas as pd
 
-from talkthemes import __version__, charts
+from talkthemes import __version__
 from talkthemes.charts.style import FAMILY_NAMES
+from talkthemes.charts.sweep import sweep_chart
+from talkthemes.charts.terms import TERM_CAPTION, term_chart
+from talkthemes.charts.theme_map import theme_map_caption, theme_map_chart
+from talkthemes.charts.trends import trend_chart
 from talkthemes.errors import TalkthemesError
 from talkthemes.report.page import Report, chart_div
 from talkthemes.text import html_text, percent
-from talkthemes.versions import Version
+from talkthemes.versions.load import Version
 from talkthemes.view.calls import CallFilter, calls_table
 from talkthemes.view.choose_k import load_sweep, scalar_columns
 from talkthemes.view.metadata import MetaTable
@@ -79,9 +83,7 @@ def sweep_section(ws: Workspace, sweep_id: int | None, report: Report) -> str:
     except TalkthemesError as exc:
         log.info("report without a sweep: %s", exc)
         return ""
-    report.charts["sweep"] = charts.sweep_chart(
-        scalar_columns(sweep.cells), sweep.recommended or None
-    )
+    report.charts["sweep"] = sweep_chart(scalar_columns(sweep.cells), sweep.recommended or None)
     parts = [
         '<section id="choose-k"><h2>Choosing the number of themes</h2>',
         f'<p class="lead">Sweep {sweep.sweep_id}: {len(sweep.cells)} models fitted for '
@@ -124,14 +126,14 @@ def sweep_section(ws: Workspace, sweep_id: int | None, report: Report) -> str:
 
 def map_section(table: pd.DataFrame, layout: ThemeLayout, report: Report) -> str:
     """The theme map and its caption (the share of the differences the map keeps)."""
-    report.charts["theme-map"] = charts.theme_map_chart(
+    report.charts["theme-map"] = theme_map_chart(
         table[["theme_id", "x", "y", "coverage", "name", "hidden"]]
     )
     return (
         '<section id="map"><h2>Theme map</h2>'
         + chart_div(
             "theme-map",
-            charts.theme_map_caption(layout.explained)
+            theme_map_caption(layout.explained)
             + " Closeness is the Jensen–Shannon distance between the themes' word "
             "distributions; the axes have no unit.",
         )
@@ -153,7 +155,7 @@ def _card(
     pos, tid = int(row["position"]), int(row["theme_id"])
     terms = version.term_table(pos, n=15, lam=lam)
     chart_id = f"theme-{tid}-terms"
-    report.charts[chart_id] = charts.term_chart(terms, str(row["name"]), width=520)
+    report.charts[chart_id] = term_chart(terms, str(row["name"]), width=520)
     coherence = (version.info.get("coherence") or {}).get("c_npmi")
     facts = [
         (percent(row["coverage"]), "of transcripts it leads"),
@@ -241,7 +243,7 @@ def themes_section(
         '<section id="themes"><h2>Themes</h2><p class="caption">'
         + html_text(
             f"Largest first. Words are ranked by relevance with λ = {lam:g}: "
-            + charts.TERM_CAPTION
+            + TERM_CAPTION
             + " Marked words in the excerpts are the theme's top words."
         )
         + "</p>"
@@ -270,7 +272,7 @@ def trend_section(version: Version, meta: MetaTable, report: Report) -> str:
         if trend.empty:
             parts.append('<p class="caption">Every theme is hidden as noise.</p>')
         else:
-            report.charts["trend"] = charts.trend_chart(trend, freq=freq)
+            report.charts["trend"] = trend_chart(trend, freq=freq)
             parts.append(
                 chart_div(
                     "trend",

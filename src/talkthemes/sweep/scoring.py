@@ -12,7 +12,8 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from talkthemes.metrics.coherence import build_reference, score, union_of_topics
+from talkthemes.metrics.coherence import score
+from talkthemes.metrics.cooccurrence import build_reference, union_of_topics
 from talkthemes.metrics.diversity import topic_diversity
 from talkthemes.metrics.stability import agreement, seed_stability
 

@@ -15,31 +15,3 @@ Only the newest ``[refresh] keep_versions`` versions are kept, and always the cu
 """
 
 from __future__ import annotations
-
-# compat: re-exports until the merge (every name importers used from talkthemes.versions)
-from talkthemes.versions.export import export_shares, write_table
-from talkthemes.versions.fit import FittedVersion, fit_version, prep_record
-from talkthemes.versions.load import Version, load_version
-from talkthemes.versions.naming import theme_name
-from talkthemes.versions.prune import prune_versions, remove_leftovers
-from talkthemes.versions.publish import PublishResult, find_cell, pick_cell, publish
-from talkthemes.versions.write import ThemePlan, write_version
-
-__all__ = [
-    "FittedVersion",
-    "PublishResult",
-    "ThemePlan",
-    "Version",
-    "export_shares",
-    "find_cell",
-    "fit_version",
-    "load_version",
-    "pick_cell",
-    "prep_record",
-    "prune_versions",
-    "publish",
-    "remove_leftovers",
-    "theme_name",
-    "write_table",
-    "write_version",
-]

@@ -50,7 +50,9 @@ def write_table(frame: pd.DataFrame, path: Path) -> None:
     """
     suffix = path.suffix.lower()
     if suffix == ".csv":
-        atomic_write_bytes(path, csv_frame(frame).to_csv(index=False).encode("utf-8"))
+        atomic_write_bytes(
+            path, csv_frame(frame).to_csv(index=False, lineterminator="\r\n").encode("utf-8")
+        )
     elif suffix == ".parquet":
         buf = io.BytesIO()
         frame.to_parquet(buf, index=False)

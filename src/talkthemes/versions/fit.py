@@ -14,7 +14,8 @@ from typing import Any
 
 import numpy as np
 
-from talkthemes.metrics.coherence import build_reference, score
+from talkthemes.metrics.coherence import score
+from talkthemes.metrics.cooccurrence import build_reference
 from talkthemes.workspace import Workspace
 
 __all__ = ["FittedVersion", "fit_version", "prep_record"]

@@ -11,7 +11,7 @@ import pandas as pd
 
 from talkthemes.errors import InputError
 from talkthemes.text import csv_frame
-from talkthemes.versions import Version
+from talkthemes.versions.load import Version
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.themes import theme_names
 

@@ -12,8 +12,8 @@ import numpy as np
 import pandas as pd
 
 from talkthemes.errors import NotReadyError
-from talkthemes.sweep import seed_agreement
-from talkthemes.versions import pick_cell
+from talkthemes.sweep.scoring import seed_agreement
+from talkthemes.versions.publish import pick_cell
 from talkthemes.workspace import Workspace
 
 __all__ = [
@@ -40,7 +40,7 @@ class SweepView:
         One row per finished cell: ``cell, family, k, seed``, its metrics and
         ``top_terms`` (term ids per theme).
     recommendations : dict of str to dict
-        Per family, :class:`talkthemes.recommend.Recommendation` as a dict.
+        Per family, :class:`talkthemes.sweep.recommend.Recommendation` as a dict.
     scored : bool
         True when the scored cells (coherence, stability…) are on disk; False while a
         sweep is running or was interrupted (fit measures only).

@@ -2,7 +2,7 @@
 
 Inputs are what the store and a version's ``drift.json`` hold
 (:meth:`talkthemes.store.Store.versions`, :meth:`~talkthemes.store.Store.themes`,
-:meth:`~talkthemes.store.Store.retired_themes`, :func:`talkthemes.drift.drift_report`);
+:meth:`~talkthemes.store.Store.retired_themes`, :func:`talkthemes.versions.drift.drift_report`);
 outputs are plain frames and dataclasses the page shows (the timeline is drawn by
 :func:`talkthemes.charts.timeline_chart`). Only :func:`load_drift` reads a file. Theme names
 are the labels as they are now, or three top terms, so a label edited after a refresh shows
@@ -19,7 +19,7 @@ from typing import Any
 import pandas as pd
 
 from talkthemes.errors import InputError
-from talkthemes.versions import theme_name  # compat: talkthemes.versions.naming after the merge
+from talkthemes.versions.naming import theme_name
 from talkthemes.workspace import Workspace
 
 __all__ = [
@@ -247,7 +247,7 @@ def new_theme_examples(
     Parameters
     ----------
     report : mapping
-        A drift report (:func:`talkthemes.drift.drift_report`).
+        A drift report (:func:`talkthemes.versions.drift.drift_report`).
     labels : mapping of int to str, optional
         Current labels by theme id (the report's names are those at refresh time).
 

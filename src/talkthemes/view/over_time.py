@@ -18,7 +18,7 @@ from talkthemes.trends import (
     period_range,
     period_start,
 )
-from talkthemes.versions import Version
+from talkthemes.versions.load import Version
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.themes import theme_names, with_names
 

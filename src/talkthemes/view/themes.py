@@ -9,10 +9,8 @@ from __future__ import annotations
 
 import pandas as pd
 
-from talkthemes.versions import (
-    Version,
-    theme_name,  # compat: talkthemes.versions.naming after the merge
-)
+from talkthemes.versions.load import Version
+from talkthemes.versions.naming import theme_name
 from talkthemes.view.theme_map import ThemeLayout
 
 __all__ = ["theme_names", "theme_table", "with_names"]

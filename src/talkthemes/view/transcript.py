@@ -40,9 +40,9 @@ from typing import Any
 import numpy as np
 
 from talkthemes.errors import InputError, TalkthemesError
-from talkthemes.prepare.lemmas import load_lemma_table
+from talkthemes.prepare.lexicon import load_lemma_table
 from talkthemes.text import html_text
-from talkthemes.versions import Version
+from talkthemes.versions.load import Version
 from talkthemes.workspace import Workspace
 
 __all__ = [
@@ -77,7 +77,7 @@ def lemma_table(lang: str) -> dict[str, str]:
     """The lookup lemma table the prepare step uses for ``lang`` (word as written → lemma).
 
     This is the one place the viewer and the report ask the prepare step for its lemmas
-    (spaCy's lookup table, :func:`talkthemes.prepare.lemmas.load_lemma_table`). The table
+    (spaCy's lookup table, :func:`talkthemes.prepare.lexicon.load_lemma_table`). The table
     is read once per process and shared; do not change it.
 
     Returns
