@@ -7,7 +7,8 @@ touching them. :class:`Store` is composed of one mixin per group of tables:
 :mod:`~talkthemes.store.runs` (ingest runs, rejects, same-text pairs, the summary),
 :mod:`~talkthemes.store.transcripts` (transcripts, turns, metadata),
 :mod:`~talkthemes.store.sweeps` (preps, sweeps, cells), :mod:`~talkthemes.store.versions`
-(versions, themes, labels, retired themes) and :mod:`~talkthemes.store.refreshes`.
+(versions, themes, labels, retired themes), :mod:`~talkthemes.store.refreshes` and
+:mod:`~talkthemes.store.curation` (merges and the curation log).
 """
 
 from __future__ import annotations
@@ -17,6 +18,7 @@ from pathlib import Path
 
 from talkthemes.errors import StoreError
 from talkthemes.store._base import now_iso
+from talkthemes.store.curation import CurationMixin
 from talkthemes.store.refreshes import RefreshesMixin
 from talkthemes.store.runs import IngestRunsMixin, TextMatch
 from talkthemes.store.schema import _MIGRATIONS, SCHEMA_VERSION, check_version, connect, migrate
@@ -28,7 +30,9 @@ from talkthemes.store.versions import VersionsMixin
 __all__ = ["SCHEMA_VERSION", "AddOutcome", "Store", "StoredTurn", "TextMatch", "now_iso"]
 
 
-class Store(IngestRunsMixin, TranscriptsMixin, SweepsMixin, VersionsMixin, RefreshesMixin):
+class Store(
+    IngestRunsMixin, TranscriptsMixin, SweepsMixin, VersionsMixin, RefreshesMixin, CurationMixin
+):
     """The SQLite store of a workspace. Open with :meth:`Store.open`."""
 
     # -- opening ---------------------------------------------------------------

@@ -145,6 +145,34 @@ _MIGRATIONS: list[Migration] = [
     lambda conn: _pack_turns(conn),
     # 5: identity first: a text hash no longer unique; same-text pairs (see _identity_first)
     lambda conn: _identity_first(conn),
+    # 6: curation: themes merged into others, and the log of every curation action (the
+    # labels and notes already set are logged as set when they were last changed)
+    """
+    CREATE TABLE theme_merges (
+        theme_id INTEGER PRIMARY KEY,
+        into_id INTEGER NOT NULL,
+        version INTEGER,
+        merged_at TEXT NOT NULL
+    );
+    CREATE TABLE curation_log (
+        id INTEGER PRIMARY KEY,
+        at TEXT NOT NULL,
+        action TEXT NOT NULL,
+        theme_id INTEGER NOT NULL,
+        version INTEGER,
+        detail TEXT NOT NULL DEFAULT '{}'
+    );
+    CREATE INDEX curation_log_theme ON curation_log(theme_id);
+    INSERT INTO curation_log(at, action, theme_id, detail)
+        SELECT updated_at, 'label', theme_id, json_object('after', label) FROM labels
+        WHERE label != '' ORDER BY theme_id;
+    INSERT INTO curation_log(at, action, theme_id, detail)
+        SELECT updated_at, 'note', theme_id, json_object('after', note) FROM labels
+        WHERE note != '' ORDER BY theme_id;
+    INSERT INTO curation_log(at, action, theme_id, detail)
+        SELECT updated_at, 'not_a_theme', theme_id, '{}' FROM labels
+        WHERE hidden != 0 ORDER BY theme_id;
+    """,
 ]
 
 SCHEMA_VERSION = len(_MIGRATIONS)

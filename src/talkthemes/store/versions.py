@@ -8,6 +8,7 @@ from typing import Any
 
 from talkthemes.errors import StoreError
 from talkthemes.store._base import StoreBase, now_iso
+from talkthemes.store.curation import write_label
 
 __all__ = ["VersionsMixin"]
 
@@ -91,38 +92,18 @@ class VersionsMixin(StoreBase):
     ) -> dict[str, Any]:
         """Set a theme's label, note or hidden flag (``None`` leaves a field as it is).
 
+        The hidden flag is *not a theme*: hidden from trends and alerts by default, still
+        counted and listed. Every field that changes is logged in the curation log, in the
+        same transaction (see :meth:`curation_log`).
+
         Raises
         ------
         StoreError
             When no version has a theme with this id.
         """
         with self.transaction() as c:
-            if c.execute("SELECT 1 FROM themes WHERE theme_id = ?", (theme_id,)).fetchone() is None:
-                raise StoreError(f"there is no theme {theme_id}")
-            c.execute(
-                "INSERT INTO labels(theme_id, updated_at) VALUES (?, ?) "
-                "ON CONFLICT(theme_id) DO NOTHING",
-                (theme_id, now_iso()),
-            )
-            if label is not None:
-                c.execute(
-                    "UPDATE labels SET label=?, updated_at=? WHERE theme_id=?",
-                    (label, now_iso(), theme_id),
-                )
-            if note is not None:
-                c.execute(
-                    "UPDATE labels SET note=?, updated_at=? WHERE theme_id=?",
-                    (note, now_iso(), theme_id),
-                )
-            if hidden is not None:
-                c.execute(
-                    "UPDATE labels SET hidden=?, updated_at=? WHERE theme_id=?",
-                    (int(hidden), now_iso(), theme_id),
-                )
-            row = c.execute(
-                "SELECT label, note, hidden FROM labels WHERE theme_id = ?", (theme_id,)
-            ).fetchone()
-        return {"theme_id": theme_id, "label": row[0], "note": row[1], "hidden": bool(row[2])}
+            lab, nt, hid = write_label(c, theme_id, label=label, note=note, hidden=hidden)
+        return {"theme_id": theme_id, "label": lab, "note": nt, "hidden": hid}
 
     # -- publishing with retired themes, pruning, the refresh log ----------------------
     def publish_version(

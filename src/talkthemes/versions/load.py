@@ -1,13 +1,20 @@
 """Loading a published version read-only: its arrays, themes, vocabulary and summaries.
 
 A version is the folder ``versions/<n>/`` (see :mod:`talkthemes.versions`) plus its rows in
-the store: the themes with their ids, labels, notes and hidden flags.
+the store: the themes with their ids, labels, notes and hidden (*not a theme*) flags.
+
+Themes merged into others (:mod:`talkthemes.versions.curation`) are shown as one: a loaded
+version's ``themes``, ``topic_terms``, ``doc_topics`` and per-theme records already hold
+the merged themes, unless it is loaded with ``fold=False`` (what a refresh aligns).
+Each theme has a *suggested name* (:mod:`talkthemes.versions.naming`), shown until it is
+labelled, and its evidence sentences (:mod:`talkthemes.versions.evidence`), both stored
+with the version when it was written.
 """
 
 from __future__ import annotations
 
 import json
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -16,7 +23,9 @@ import pandas as pd
 
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.metrics.relevance import relevance
-from talkthemes.versions.naming import theme_name
+from talkthemes.versions.curation import Group, fold_columns, fold_rows, merge_groups
+from talkthemes.versions.evidence import MAX_SENTENCES, EvidenceSentence, load_evidence
+from talkthemes.versions.naming import display_name, suggest_names
 from talkthemes.workspace import Workspace
 
 __all__ = ["Version", "load_version"]
@@ -37,11 +46,15 @@ class Version:
     info : dict
         ``version.json``.
     themes : list of dict
-        One per row of ``topic_terms``: ``theme_id, position, status, label, note, hidden``.
+        One per row of ``topic_terms``: ``theme_id, position, status, label, note, hidden``
+        and ``merged`` (ids of the themes merged into it).
     vocabulary : list of str
     doc_ids : list of str
     topic_terms : ndarray (K, V)
     doc_topics : ndarray (D, K)
+    groups : list of (int, list of int) or None
+        When themes are merged: per row, the id it keeps and the rows of the version's
+        files folded into it (None: the files' rows as they are).
     """
 
     n: int
@@ -52,6 +65,7 @@ class Version:
     doc_ids: list[str]
     topic_terms: np.ndarray
     doc_topics: np.ndarray
+    groups: list[Group] | None = None
     _cache: dict[str, Any] = field(default_factory=dict, repr=False)
 
     @property
@@ -132,35 +146,168 @@ class Version:
             }
         )
 
+    def suggested_names(self) -> list[str]:
+        """Each theme's suggested name (stored with the version; worked out for versions
+        written before names were stored)."""
+        names = self.info.get("suggested_names")
+        if not names or len(names) != self.k:
+            if "suggested" not in self._cache:
+                self._cache["suggested"] = suggest_names(
+                    self.topic_terms,
+                    self.term_marginal(),
+                    self.vocabulary,
+                    order=np.argsort(-self.topic_weights(), kind="stable"),
+                )
+            names = self._cache["suggested"]
+        return [str(x) for x in names]
+
     def names(self) -> list[str]:
-        """Display name of each theme (label, or three top terms)."""
-        return [theme_name(t["label"], self.top_terms(i, 3)) for i, t in enumerate(self.themes)]
+        """Display name of each theme: its label, or its suggested name until labelled."""
+        suggested = self.suggested_names()
+        return [display_name(t["label"], suggested[i]) for i, t in enumerate(self.themes)]
+
+    def fold(self, shares: np.ndarray) -> np.ndarray:
+        """Shares of transcripts (D × the model's K, e.g. of new calls) as this version's
+        themes: the columns of merged themes summed (unchanged without merges)."""
+        return fold_columns(shares, self.groups)
+
+    def evidence_stored(self) -> bool:
+        """Whether the version holds evidence sentences (versions written before they
+        were kept do not)."""
+        return self._evidence() is not None
+
+    def _evidence(self) -> dict[int, list[EvidenceSentence]] | None:
+        if "evidence" not in self._cache:
+            self._cache["evidence"] = load_evidence(self.folder)
+        return self._cache["evidence"]
+
+    def evidence(self, position: int) -> list[EvidenceSentence]:
+        """A theme's evidence sentences, in the order chosen (empty when none are stored).
+
+        A merged theme has its themes' sentences, highest score first, one per call.
+        """
+        stored = self._evidence()
+        if not stored:
+            return []
+        theme = self.themes[position]
+        ids = [int(theme["theme_id"]), *map(int, theme.get("merged") or [])]
+        if len(ids) == 1:
+            return list(stored.get(ids[0], []))
+        pooled = sorted(
+            (s for t in ids for s in stored.get(t, [])), key=lambda s: (-s.score, s.call_id)
+        )
+        seen: set[str] = set()
+        out = []
+        for s in pooled:
+            if s.call_id not in seen:
+                seen.add(s.call_id)
+                out.append(s)
+        return out[:MAX_SENTENCES]
+
+    def with_labels(self, store: Any) -> Version:
+        """This version with its themes' labels, notes and flags read again from ``store``
+        (the arrays are kept; the merges must be those it was loaded with)."""
+        return replace(self, themes=_themes(store, self.n, self.groups))
 
     def summary(self, *, lam: float = 0.6, n_terms: int = 10) -> list[dict[str, Any]]:
-        """Per theme: id, label, note, hidden, status, coverage, mean share, terms, coherence."""
+        """Per theme: id, name, suggested name, label, note, not-a-theme flag, merged ids,
+        status, coverage, mean share, terms, coherence."""
         cov, mean = self.coverage(), self.mean_share()
         coh = self.info.get("coherence", {})
+        suggested = self.suggested_names()
         out = []
         for i, t in enumerate(self.themes):
             out.append(
                 {
                     "theme_id": t["theme_id"],
-                    "name": theme_name(t["label"], self.top_terms(i, 3)),
+                    "name": display_name(t["label"], suggested[i]),
+                    "suggested_name": suggested[i],
+                    "labelled": bool(str(t["label"] or "").strip()),
                     "label": t["label"],
                     "note": t["note"],
                     "hidden": t["hidden"],
+                    "not_a_theme": t["hidden"],
+                    "merged": list(t.get("merged") or []),
                     "status": t["status"],
                     "coverage": float(cov[i]),
                     "mean_share": float(mean[i]),
                     "top_terms": self.top_terms(i, n_terms, lam),
-                    "coherence": {m: float(v[i]) for m, v in coh.items()},
+                    "coherence": {
+                        m: (float(v[i]) if v[i] is not None and np.isfinite(v[i]) else None)
+                        for m, v in coh.items()
+                    },
                 }
             )
         return out
 
 
-def load_version(ws: Workspace, n: int | None = None) -> Version:
+def _themes(store: Any, n: int, groups: list[Group] | None) -> list[dict[str, Any]]:
+    """A version's themes from the store, merged themes as one (see :class:`Version`)."""
+    raw = store.themes(n)
+    if groups is None:
+        return [{**t, "merged": []} for t in raw]
+    labels = store.labels_for([root for root, _ in groups])
+    out = []
+    for pos, (root, rows) in enumerate(groups):
+        ids = [int(raw[r]["theme_id"]) for r in rows]
+        base = next((raw[r] for r in rows if int(raw[r]["theme_id"]) == root), raw[rows[0]])
+        out.append(
+            {
+                **base,
+                **labels[root],
+                "theme_id": root,
+                "position": pos,
+                "merged": [t for t in ids if t != root],
+            }
+        )
+    return out
+
+
+def _fold_info(info: dict[str, Any], groups: list[Group], weights: np.ndarray) -> dict[str, Any]:
+    """``version.json`` with its per-theme lists as the merged themes: weights summed,
+    coherence unknown for a merged theme, suggested names kept for themes left alone."""
+    out = dict(info)
+    out["topic_weights"] = [float(w) for w in weights]
+    out["coherence"] = {
+        m: [float(v[rows[0]]) if len(rows) == 1 else None for _, rows in groups]
+        for m, v in (info.get("coherence") or {}).items()
+    }
+    names = info.get("suggested_names")
+    raw_k = len(info.get("theme_ids") or [])
+    if names and len(names) == raw_k:
+        out["suggested_names"] = [names[rows[0]] if len(rows) == 1 else None for _, rows in groups]
+    else:
+        out.pop("suggested_names", None)
+    out["theme_ids"] = [root for root, _ in groups]
+    out["merged_groups"] = {str(root): [int(info["theme_ids"][r]) for r in rows]
+                            for root, rows in groups if len(rows) > 1}  # fmt: skip
+    return out
+
+
+def _name_merged(version: Version) -> None:
+    """Suggested names of merged themes: from their mixed words, distinct from the rest."""
+    names = version.info.get("suggested_names")
+    if not names or all(x is not None for x in names):
+        return
+    missing = [i for i, x in enumerate(names) if x is None]
+    taken = [x for x in names if x is not None]
+    fresh = suggest_names(
+        version.topic_terms[missing], version.term_marginal(), version.vocabulary, taken=taken
+    )
+    for i, name in zip(missing, fresh, strict=True):
+        names[i] = name
+
+
+def load_version(ws: Workspace, n: int | None = None, *, fold: bool = True) -> Version:
     """Load version ``n`` (default: the current one).
+
+    Parameters
+    ----------
+    ws : Workspace
+    n : int, optional
+    fold : bool
+        Show merged themes as one (the default); False gives the themes as fitted, as a
+        refresh aligns them.
 
     Raises
     ------
@@ -173,17 +320,36 @@ def load_version(ws: Workspace, n: int | None = None) -> Version:
             if cur is None:
                 raise NotReadyError("no version published yet: run 'talkthemes publish' first")
             n = int(cur["n"])
-        themes = store.themes(n)
+        raw = store.themes(n)
+        merges = store.theme_merges() if fold else {}
+        groups = merge_groups([int(t["theme_id"]) for t in raw], merges) if merges else None
+        themes = _themes(store, n, groups) if raw else []
     folder = ws.versions_dir / str(n)
     if not themes or not folder.exists():
         raise NotReadyError(f"version {n} is not on disk (kept versions: see 'talkthemes status')")
-    return Version(
+    info = _load_json(folder / "version.json")
+    topic_terms = np.load(folder / "topic_terms.npy", allow_pickle=False)
+    doc_topics = np.load(folder / "doc_topics.npy", allow_pickle=False, mmap_mode="r")
+    if groups is not None:
+        info.setdefault("theme_ids", [int(t["theme_id"]) for t in raw])
+        weights = np.asarray(
+            info.get("topic_weights") or np.asarray(doc_topics).mean(axis=0), dtype=np.float64
+        )
+        folded, folded_weights = fold_rows(topic_terms, weights, groups)
+        topic_terms = folded.astype(topic_terms.dtype)
+        doc_topics = fold_columns(doc_topics, groups).astype(np.float32)
+        info = _fold_info(info, groups, folded_weights)
+    version = Version(
         n=n,
         folder=folder,
-        info=_load_json(folder / "version.json"),
+        info=info,
         themes=themes,
         vocabulary=_load_json(folder / "vocabulary.json"),
         doc_ids=_load_json(folder / "doc_ids.json"),
-        topic_terms=np.load(folder / "topic_terms.npy", allow_pickle=False),
-        doc_topics=np.load(folder / "doc_topics.npy", allow_pickle=False, mmap_mode="r"),
+        topic_terms=topic_terms,
+        doc_topics=doc_topics,
+        groups=groups,
     )
+    if groups is not None:
+        _name_merged(version)
+    return version

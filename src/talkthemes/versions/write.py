@@ -9,8 +9,9 @@ model state as ``.npy`` arrays plus ``params.json``), ``prep.json`` (what the pr
 that new text needs: settings, boilerplate sentences, phrases, excluded transcripts; see
 :mod:`talkthemes.assign`), ``version.json`` (what was published, from which sweep cell or
 refresh, settings, library versions, theme ids by row, retired theme ids, per-theme
-coherence), and for a refresh ``drift.json``, ``drift.md`` and ``drift.png`` (see
-:mod:`talkthemes.versions.drift`).
+coherence, each theme's suggested name), ``evidence.json`` (each theme's evidence sentences,
+:mod:`talkthemes.versions.evidence`), and for a refresh ``drift.json``, ``drift.md`` and
+``drift.png`` (see :mod:`talkthemes.versions.drift`).
 """
 
 from __future__ import annotations
@@ -25,7 +26,12 @@ from typing import Any
 import numpy as np
 
 from talkthemes.errors import InputError
+from talkthemes.prepare.frozen import PrepSpec
+from talkthemes.progress import Progress
+from talkthemes.versions.evidence import EVIDENCE_FILE, evidence_document
+from talkthemes.versions.evidence_build import build_evidence
 from talkthemes.versions.fit import FittedVersion
+from talkthemes.versions.naming import suggest_names
 from talkthemes.versions.prune import prune_versions
 from talkthemes.workspace import Workspace, atomic_dir
 
@@ -78,6 +84,7 @@ def write_version(
     refresh_id: int | None = None,
     refresh_info: Callable[[int, list[int]], dict[str, Any]] | None = None,
     checkpoint: Checkpoint | None = None,
+    progress: Progress | None = None,
 ) -> int:
     """Write a version folder in full, make it current in one transaction, prune old ones.
 
@@ -104,6 +111,8 @@ def write_version(
         Called with ``"version-files"`` once the files are written (not yet moved),
         ``"version-folder"`` once the folder is in place (not yet current) and
         ``"version-current"`` after the commit (before pruning).
+    progress : Progress, optional
+        Reports the choice of evidence sentences.
 
     Returns
     -------
@@ -120,6 +129,8 @@ def write_version(
     folder = ws.versions_dir / str(n)
     info = {"n": n, **fitted.info, **(extra_info or {}), "theme_ids": theme_ids}
     info["retired_theme_ids"] = [int(r["theme_id"]) for r in plan.retired]
+    names, evidence = _labelling_aids(ws, fitted, progress)
+    info["suggested_names"] = names
     with atomic_dir(folder) as tmp:
         np.save(tmp / "topic_terms.npy", fitted.topic_terms.astype(np.float32), allow_pickle=False)
         np.save(tmp / "doc_topics.npy", fitted.doc_topics.astype(np.float32), allow_pickle=False)
@@ -135,6 +146,10 @@ def write_version(
             np.save(tmp / "model" / f"{name}.npy", np.asarray(arr), allow_pickle=False)
         (tmp / "model" / "params.json").write_text(
             json.dumps(fitted.state_params, default=float), "utf-8"
+        )
+        (tmp / EVIDENCE_FILE).write_text(
+            json.dumps(evidence_document(theme_ids, evidence), ensure_ascii=False, indent=1),
+            encoding="utf-8",
         )
         if extra_files is not None:
             extra_files(tmp, n, theme_ids)
@@ -162,3 +177,33 @@ def write_version(
     if removed:
         log.info("removed old versions %s", removed)
     return n
+
+
+def _labelling_aids(
+    ws: Workspace, fitted: FittedVersion, progress: Progress | None
+) -> tuple[list[str], list[Any]]:
+    """Each theme's suggested name and evidence sentences (docs/methods.md, "Suggested
+    names" and "Evidence sentences"), worked out once so that screens only read them."""
+    lam = ws.settings().view.relevance_lambda
+    phi = np.asarray(fitted.topic_terms, dtype=np.float64)
+    weights = np.asarray(
+        fitted.info.get("topic_weights") or np.asarray(fitted.doc_topics).mean(axis=0),
+        dtype=np.float64,
+    )
+    marginal = (weights / weights.sum()) @ phi
+    names = suggest_names(
+        phi, marginal, fitted.vocabulary, lam=lam, order=np.argsort(-weights, kind="stable")
+    )
+    spec = PrepSpec.from_prep_info(fitted.prep_info, fitted.vocabulary)
+    with ws.store() as store:
+        evidence = build_evidence(
+            store.turns_for,
+            spec,
+            phi,
+            fitted.doc_topics,
+            fitted.doc_ids,
+            marginal,
+            lam=lam,
+            progress=progress,
+        )
+    return names, evidence
