@@ -311,7 +311,8 @@ def assign(
     items = read_transcripts(paths, settings, skip=[*manifests, *in_folders])
     for batch in _batches(items, batch_size, rejects, warnings):
         applied = applier.apply(batch)
-        frames.append(assign_frame(applied, model.shares(applied.counts), v.theme_ids, labels))
+        shares = v.fold(model.shares(applied.counts))  # merged themes as one
+        frames.append(assign_frame(applied, shares, v.theme_ids, labels))
         done += len(applied.doc_ids)
         report(progress, done, 0, applied.doc_ids[-1] if applied.doc_ids else "")
     if not frames:

@@ -64,7 +64,9 @@ def _width(text: Text | str) -> int:
 class ThemesTable:
     """The themes of a version as a table: id, name, coverage, mean share, C_NPMI, terms.
 
-    ``themes`` are :meth:`talkthemes.versions.Version.summary` rows. Coverage and mean share
+    ``themes`` are :meth:`talkthemes.versions.Version.summary` rows. A theme not labelled yet
+    shows its suggested name in italics, marked with a ``*``; a theme marked not a theme
+    says so, and a merged theme names the themes merged into it. Coverage and mean share
     are shown as percentages with one decimal, C_NPMI with three decimals.
     """
 
@@ -73,9 +75,14 @@ class ThemesTable:
     def __rich_console__(self, console: Console, options: ConsoleOptions) -> Iterator[Table]:
         rows = []
         for t in self.themes:
-            name = cell(t["name"])
+            suggested = not t.get("labelled", True)
+            name = cell(t["name"], "italic" if suggested else "")
+            if suggested:
+                name.append(" *", style="dim")
             if t["hidden"]:
-                name.append(" (hidden)", style="dim")
+                name.append(" (not a theme)", style="dim")
+            if t.get("merged"):
+                name.append(" (+ " + ", ".join(f"#{m}" for m in t["merged"]) + ")", style="dim")
             coh = t["coherence"].get("c_npmi")
             rows.append(
                 [

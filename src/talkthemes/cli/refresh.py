@@ -115,6 +115,15 @@ def print_refresh(result: Any) -> None:
         say(f"  new theme {t['theme_id']}: ", ", ".join(t["top_terms"][:8]), console=out)
     for t in result.retired_themes:
         say(f"  retired theme {t['theme_id']}: ", t["name"], console=out)
+    lost = (result.curation or {}).get("not_carried") or []
+    for t in lost:
+        say(
+            ("  could not carry", "yellow"),
+            f" the curation of theme {t['theme_id']} (",
+            ", ".join(t["curation"]),
+            "): the themes changed too much",
+            console=out,
+        )
     if result.drift_files:
         say(f"Drift report: {result.drift_files[1]}")
 

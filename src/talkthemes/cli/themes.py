@@ -1,4 +1,8 @@
-"""``themes``, ``label`` and ``export``: read a version's themes, name them, export shares.
+"""``themes``, ``label`` and ``export``: read a version's themes, name and curate them,
+export shares.
+
+``label --from FILE.csv`` checks every row of the spreadsheet first and applies all of
+them in one transaction, or none: any problem (named with the file and row) exits 2.
 
 The version module is imported inside the commands on purpose: it pulls in numpy, pandas
 and Altair, and ``talkthemes --help`` imports every command module.
@@ -8,7 +12,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from pathlib import Path
-from typing import Annotated
+from typing import Annotated, Any
 
 import typer
 
@@ -24,6 +28,7 @@ from talkthemes.cli._common import (
 )
 from talkthemes.cli._shared import ThemesTable
 from talkthemes.errors import ConfigError, InputError, NotReadyError
+from talkthemes.workspace import atomic_write_bytes
 
 __all__ = ["export", "id_ranges", "label", "themes"]
 
@@ -39,20 +44,62 @@ def themes(
         ),
     ] = None,
     terms: Annotated[int, typer.Option("--terms", min=1, help="Terms per theme.")] = 10,
+    evidence: Annotated[
+        int,
+        typer.Option(
+            "--evidence", min=0, help="Also print this many evidence sentences per theme."
+        ),
+    ] = 0,
+    out_path: Annotated[
+        Path | None,
+        typer.Option(
+            "--out",
+            help="Write the themes spreadsheet (FILE.csv) to label them: fill its label and "
+            "note columns, then read it back with 'talkthemes label --from FILE.csv'.",
+        ),
+    ] = None,
     version: Annotated[
         int | None, typer.Option("--version", help="Version (default current).")
     ] = None,
     workspace: WorkspaceOpt = None,
     as_json: JsonOpt = False,
 ) -> None:
-    """The current version's themes: label, coverage, mean share, top terms, coherence."""
+    """The current version's themes: name (suggested until labelled), coverage, mean share,
+    top terms, coherence; with --out, the spreadsheet to label them in."""
     # deferred: see the module docstring
     from talkthemes.versions.load import load_version
+    from talkthemes.versions.spreadsheet import sheet_bytes, themes_sheet
 
+    if out_path is not None:
+        check_output(out_path, "--out")
+        if out_path.suffix.lower() != ".csv":
+            raise InputError(f"--out {out_path}: expected a .csv file name")
     ws = open_workspace(workspace)
     v = load_version(ws, version)
     lam = ws.settings().view.relevance_lambda if lam is None else lam
     summary = v.summary(lam=lam, n_terms=terms)
+    for i, t in enumerate(summary):
+        t["evidence"] = [e.to_json() for e in v.evidence(i)]
+    if out_path is not None:
+        sheet = themes_sheet(v, lam=lam, n_terms=terms)
+        with writing(out_path, "--out"):
+            atomic_write_bytes(out_path, sheet_bytes(sheet))
+        if as_json:
+            emit_json(
+                {
+                    "out": str(out_path),
+                    "version": v.n,
+                    "rows": len(sheet),
+                    "columns": list(sheet.columns),
+                }
+            )
+        else:
+            say(
+                f"Wrote {len(sheet)} themes of version {v.n} to {out_path}. Fill the label "
+                f"and note columns, then run: talkthemes label --from {out_path}",
+                soft_wrap=True,
+            )
+        return
     if as_json:
         emit_json(
             {"version": v.n, "family": v.info["family"], "k": v.k, "lambda": lam, "themes": summary}
@@ -63,43 +110,247 @@ def themes(
         console=out,
     )
     out.print(ThemesTable(summary))
+    if any(not t["labelled"] for t in summary):
+        say(
+            "* suggested name, not labelled yet: 'talkthemes label ID TEXT' sets a label.",
+            console=out,
+        )
+    if evidence:
+        print_evidence(summary, evidence, stored=v.evidence_stored())
+
+
+def print_evidence(summary: Sequence[dict], n: int, *, stored: bool) -> None:
+    """Each theme's first ``n`` evidence sentences with their calls."""
+    if not stored:
+        say(
+            "This version holds no evidence sentences (it was written before they were kept); "
+            "publish or refresh to get them.",
+            console=out,
+        )
+        return
+    for t in summary:
+        say("")
+        say((f"#{t['theme_id']} ", "bold"), (t["name"], "bold"), console=out)
+        sentences = t["evidence"][:n]
+        if not sentences:
+            say("  (no sentence: the theme leads no call with its terms)", console=out)
+        for e in sentences:
+            say(f"  “{e['text']}”", (f"  call {e['call_id']}, {e['role']}", "dim"), console=out)
 
 
 def label(
-    theme_id: Annotated[int, typer.Argument(help="Theme id (see 'talkthemes themes').")],
+    theme_id: Annotated[
+        int | None, typer.Argument(help="Theme id (see 'talkthemes themes').", show_default=False)
+    ] = None,
     text: Annotated[str | None, typer.Argument(help="The label.")] = None,
     note: Annotated[str | None, typer.Option("--note", help="A note kept with the label.")] = None,
-    hide: Annotated[
-        bool | None, typer.Option("--hide/--show", help="Hide the theme as noise, or show it.")
+    not_a_theme: Annotated[
+        bool | None,
+        typer.Option(
+            "--not-a-theme/--a-theme",
+            "--hide/--show",
+            help="Mark as not a theme (small talk, noise: hidden from trends and alerts, "
+            "still counted and listed), or undo it.",
+            show_default=False,
+        ),
     ] = None,
+    merge_into: Annotated[
+        int | None,
+        typer.Option(
+            "--merge-into",
+            help="Merge the theme into theme ID: one theme (shares summed) keeping ID.",
+            show_default=False,
+        ),
+    ] = None,
+    unmerge: Annotated[
+        bool, typer.Option("--unmerge", help="Undo the merges of the theme.")
+    ] = False,
+    from_file: Annotated[
+        Path | None,
+        typer.Option(
+            "--from",
+            help="Read labels and notes from a themes spreadsheet (see 'themes --out'): "
+            "all rows or none.",
+            show_default=False,
+        ),
+    ] = None,
+    show_log: Annotated[
+        bool, typer.Option("--log", help="Show the curation log (of the theme, if given).")
+    ] = False,
     workspace: WorkspaceOpt = None,
     as_json: JsonOpt = False,
 ) -> None:
-    """Set a theme's label, note, or hidden flag; kept across versions by theme id."""
+    """Label a theme, note it, mark it not a theme, merge it; kept across versions by id."""
     ws = open_workspace(workspace)
-    if text is None and note is None and hide is None:
-        raise ConfigError("give a label text, --note, --hide or --show")
+    if show_log:
+        return _show_log(ws, theme_id, as_json)
+    if from_file is not None:
+        if theme_id is not None or text is not None or note is not None:
+            raise ConfigError("--from reads every label from the file: give no theme id or text")
+        return _label_from(ws, from_file, as_json)
+    if theme_id is None:
+        raise ConfigError("give a theme id (see 'talkthemes themes'), or --from FILE.csv")
+    if merge_into is not None or unmerge:
+        if (
+            text is not None
+            or note is not None
+            or not_a_theme is not None
+            or (merge_into is not None and unmerge)
+        ):
+            raise ConfigError("--merge-into and --unmerge go alone")
+        return _merge(ws, theme_id, merge_into, as_json)
+    if text is None and note is None and not_a_theme is None:
+        raise ConfigError("give a label text, --note, --not-a-theme, --merge-into or --unmerge")
     with ws.store() as store:
-        current = store.current_version()
-        if current is None:
-            raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-        n = int(current["n"])
-        ids = [int(t["theme_id"]) for t in store.themes(n)]
-        if theme_id not in ids:
-            raise InputError(
-                f"there is no theme {theme_id} in version {n} (its theme ids: {id_ranges(ids)}; "
-                "see 'talkthemes themes')"
-            )
-        row = store.set_label(theme_id, label=text, note=note, hidden=hide)
+        n, shown, merged = _shown_ids(store)
+        _check_shown(theme_id, n, shown, merged)
+        row = store.set_label(theme_id, label=text, note=note, hidden=not_a_theme)
     if as_json:
-        emit_json(row)
+        emit_json({**row, "not_a_theme": row["hidden"]})
         return
     parts = [f"Theme {theme_id}: label “", row["label"] or "", "”"]
     if row["note"]:
         parts += [", note “", row["note"], "”"]
     if row["hidden"]:
-        parts.append(", hidden")
+        parts.append(", not a theme")
     say(*parts)
+
+
+def _shown_ids(store: Any) -> tuple[int, list[int], dict[int, int]]:
+    """The current version's number, its theme ids as shown (merged themes as one), and
+    the themes merged into another (id → the id it is shown as)."""
+    from talkthemes.store.curation import merge_root  # light: the store is imported anyway
+
+    current = store.current_version()
+    if current is None:
+        raise NotReadyError("no version published yet: run 'talkthemes publish' first")
+    n = int(current["n"])
+    merges = store.theme_merges()
+    raw = [int(t["theme_id"]) for t in store.themes(n)]
+    shown = list(dict.fromkeys(merge_root(merges, t) for t in raw))
+    merged = {t: merge_root(merges, t) for t in merges}
+    return n, shown, merged
+
+
+def _check_shown(theme_id: int, n: int, shown: list[int], merged: dict[int, int]) -> None:
+    if theme_id in shown:
+        return
+    if theme_id in merged:
+        raise InputError(
+            f"theme {theme_id} is merged into theme {merged[theme_id]}: label theme "
+            f"{merged[theme_id]}, or undo with 'talkthemes label {theme_id} --unmerge'"
+        )
+    raise InputError(
+        f"there is no theme {theme_id} in version {n} (its theme ids: {id_ranges(shown)}; "
+        "see 'talkthemes themes')"
+    )
+
+
+def _merge(ws: Any, theme_id: int, into: int | None, as_json: bool) -> None:
+    with ws.store() as store:
+        n, shown, merged = _shown_ids(store)
+        if into is None:  # --unmerge
+            if theme_id not in merged and theme_id not in set(merged.values()):
+                raise InputError(f"theme {theme_id} is not merged with another theme")
+            apart = store.unmerge_theme(theme_id)
+            if as_json:
+                emit_json({"theme_id": theme_id, "unmerged": apart})
+                return
+            say(
+                f"Theme {theme_id}: merge undone; themes {', '.join(map(str, apart))} are "
+                "shown on their own again."
+            )
+            return
+        _check_shown(theme_id, n, shown, merged)
+        _check_shown(into, n, shown, merged)
+        if theme_id == into:
+            raise InputError(f"--merge-into {into}: a theme cannot be merged into itself")
+        root = store.merge_theme(theme_id, into)
+    if as_json:
+        emit_json({"theme_id": theme_id, "merged_into": root})
+        return
+    say(
+        f"Theme {theme_id} merged into theme {root}: shown as one theme, id {root}, its shares "
+        f"the sum of both; later refreshes keep them together. Undo: talkthemes label "
+        f"{theme_id} --unmerge",
+        soft_wrap=True,
+    )
+
+
+def _label_from(ws: Any, path: Path, as_json: bool) -> None:
+    """``label --from``: every row checked, then all applied in one transaction or none."""
+    # deferred: see the module docstring
+    from talkthemes.versions.spreadsheet import read_label_sheet
+
+    with ws.store() as store:
+        n, shown, merged = _shown_ids(store)
+        rows, problems = read_label_sheet(path, shown, merged, version=n)
+        if problems:
+            if as_json:
+                emit_json(
+                    {
+                        "file": str(path),
+                        "applied": False,
+                        "problems": [{"row": p.row, "message": p.message} for p in problems],
+                    }
+                )
+            for p in problems:
+                say(("talkthemes: ", ""), p.line(path))
+            if as_json:
+                raise typer.Exit(2)
+            raise InputError(
+                f"{path}: {len(problems)} problem(s) found; nothing was applied (fix the rows "
+                "above and run it again)"
+            )
+        current = store.labels_for([r.theme_id for r in rows])
+        changes = [
+            (r.theme_id, r.label, r.note)
+            for r in rows
+            if (r.label is not None and r.label != current[r.theme_id]["label"])
+            or (r.note is not None and r.note != current[r.theme_id]["note"])
+        ]
+        applied = store.apply_labels(changes) if changes else []
+    if as_json:
+        emit_json(
+            {
+                "file": str(path),
+                "applied": True,
+                "rows": len(rows),
+                "changed": applied,
+                "unchanged": len(rows) - len(applied),
+            }
+        )
+        return
+    say(
+        f"{path}: {len(rows)} themes read; {len(applied)} changed, "
+        f"{len(rows) - len(applied)} unchanged."
+    )
+    for r in applied:
+        parts = [f"  theme {r['theme_id']}: label “", r["label"], "”"]
+        if r["note"]:
+            parts += [", note “", r["note"], "”"]
+        say(*parts)
+
+
+def _show_log(ws: Any, theme_id: int | None, as_json: bool) -> None:
+    with ws.store() as store:
+        entries = store.curation_log(theme_id)
+    if as_json:
+        emit_json({"theme_id": theme_id, "log": entries})
+        return
+    if not entries:
+        say("No curation yet." if theme_id is None else f"No curation of theme {theme_id} yet.")
+        return
+    for e in entries:
+        what = {
+            "label": lambda e: ("label “", e.get("after", ""), "”"),
+            "note": lambda e: ("note “", e.get("after", ""), "”"),
+            "not_a_theme": lambda e: ("marked not a theme",),
+            "a_theme": lambda e: ("marked a theme again",),
+            "merge": lambda e: (f"merged into theme {e.get('into')}",),
+            "unmerge": lambda e: (f"merge into theme {e.get('from')} undone",),
+        }.get(e["action"], lambda e: (e["action"],))(e)
+        say(f"{e['at']}  theme {e['theme_id']}: ", *what, console=out)
 
 
 def id_ranges(ids: Sequence[int]) -> str:

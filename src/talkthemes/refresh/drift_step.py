@@ -19,6 +19,7 @@ import numpy as np
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.scrub import scrub
 from talkthemes.versions.align import Alignment, Calibration
+from talkthemes.versions.curation import curation_markdown
 from talkthemes.versions.drift import ThemeSide, best_examples, drift_frame, drift_report
 from talkthemes.versions.drift_markdown import render_markdown
 from talkthemes.versions.fit import FittedVersion
@@ -144,7 +145,9 @@ def drift_files(report: dict[str, Any], drift_png: DriftPng | None = None) -> Ex
         (folder / "drift.json").write_text(
             json.dumps(report, indent=1, ensure_ascii=False), encoding="utf-8"
         )
-        (folder / "drift.md").write_text(render_markdown(report), encoding="utf-8")
+        (folder / "drift.md").write_text(
+            render_markdown(report) + curation_markdown(report), encoding="utf-8"
+        )
         (folder / "drift.png").write_bytes(render_png(report))
 
     return write

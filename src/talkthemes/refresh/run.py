@@ -23,7 +23,9 @@ One run (the caller holds the workspace lock):
    transcripts), and **align** the new themes to the current version's
    (:mod:`talkthemes.versions.align`): a matched theme keeps its id, label and note (carried), an
    unmatched new theme gets a new id (new), an unmatched old theme is recorded as retired;
-   near-ties are flagged as possible splits and merges.
+   near-ties are flagged as possible splits and merges. Themes are aligned as fitted
+   (merged themes apart), so merges carry by id like labels; the drift report lists the
+   curated themes it could not carry (:mod:`talkthemes.versions.curation`).
 7. **write** the version in full — with ``drift.json``, ``drift.md`` and ``drift.png``
    (:mod:`talkthemes.refresh.drift_step`) — and make it current in one transaction together with the
    refresh's log row (:func:`~talkthemes.versions.write.write_version`); then old versions
@@ -61,6 +63,7 @@ from talkthemes.refresh.coherence import coherence_check
 from talkthemes.refresh.drift_step import DriftPng, drift_files, drift_of, theme_plan
 from talkthemes.sweep.run import load_current_prep, run_sweep
 from talkthemes.versions.align import align_themes, calibrate_threshold
+from talkthemes.versions.curation import curation_of
 from talkthemes.versions.fit import fit_version
 from talkthemes.versions.load import Version, load_version
 from talkthemes.versions.prune import remove_leftovers
@@ -131,6 +134,7 @@ class RefreshResult:
     new_themes: list[dict[str, Any]] = field(default_factory=list)
     retired_themes: list[dict[str, Any]] = field(default_factory=list)
     drift_files: list[str] = field(default_factory=list)
+    curation: dict[str, Any] | None = None
     seconds: float = 0.0
 
     @property
@@ -163,6 +167,7 @@ class RefreshResult:
             "new_themes": self.new_themes,
             "retired_themes": self.retired_themes,
             "drift_files": self.drift_files,
+            "curation": self.curation,
             "seconds": round(self.seconds, 2),
             "ingest": self.ingest,
         }
@@ -266,7 +271,7 @@ def refresh(
             raise NotReadyError(
                 "no version published yet: run 'talkthemes publish' first (refresh builds on it)"
             )
-    current = load_version(ws)
+    current = load_version(ws, fold=False)  # themes as fitted: merges carry by id
     spec = load_prep_spec(ws, current)
     paths = _ingest_paths(ws, ingest_paths)
     remove_leftovers(ws)  # of runs killed before their commit
@@ -396,6 +401,7 @@ def _run(
     # 7. write
     step(6, "writing the version and its drift report")
     drift = drift_of(ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus)
+    drift["curation"] = curation_of(ws, current.theme_ids, theme_ids, drift["retired"])
     plan = theme_plan(drift)
 
     summary = {
@@ -407,6 +413,10 @@ def _run(
         "resweep_reason": result.resweep_reason,
         "same_theme_cutoff": calibration.threshold,
         "rejected": result.rejected,
+        "curation": {
+            **drift["curation"]["counts"],
+            "not_carried_theme_ids": [e["theme_id"] for e in drift["curation"]["not_carried"]],
+        },
     }
     n = write_version(
         ws,
@@ -442,3 +452,4 @@ def _run(
         {"theme_id": t["theme_id"], "name": t["name"]} for t in drift["retired"]
     ]
     result.drift_files = [str(folder / f) for f in ("drift.json", "drift.md", "drift.png")]
+    result.curation = drift["curation"]

@@ -189,7 +189,8 @@ class CurationMixin(StoreBase):
             rows = (
                 own
                 or c.execute(
-                    "SELECT theme_id, into_id FROM theme_merges WHERE into_id = ? ORDER BY theme_id",
+                    "SELECT theme_id, into_id FROM theme_merges WHERE into_id = ? "
+                    "ORDER BY theme_id",
                     (theme_id,),
                 ).fetchall()
             )

@@ -24,11 +24,13 @@ import numpy as np
 
 from talkthemes.store.curation import merge_root
 from talkthemes.text import md_inline
+from talkthemes.workspace import Workspace
 
 __all__ = [
     "Group",
     "carry_report",
     "curation_markdown",
+    "curation_of",
     "fold_columns",
     "fold_rows",
     "merge_groups",
@@ -171,6 +173,20 @@ def carry_report(
     }
 
 
+def curation_of(
+    ws: Workspace,
+    previous_ids: Sequence[int],
+    new_ids: Sequence[int],
+    retired: Sequence[Mapping[str, Any]] = (),
+) -> dict[str, Any]:
+    """:func:`carry_report` of a refresh, with the labels and merges read from the store."""
+    with ws.store() as store:
+        merges = store.theme_merges()
+        roots = {merge_root(merges, int(t)) for t in previous_ids}
+        labels = store.labels_for(sorted(roots))
+    return carry_report(previous_ids, new_ids, labels, merges, retired)
+
+
 _KIND_WORDS = {"label": "label", "note": "note", "not_a_theme": "not a theme", "merge": "merge"}
 
 
@@ -189,6 +205,12 @@ def curation_markdown(report: Mapping[str, Any]) -> str:
         f"{n_ok} curated theme{'s' if n_ok != 1 else ''} carried (labels, notes, "
         "*not a theme* marks and merges keep to their theme ids)."
     )
+    again = [e for e in cur["carried"] if len(e["continued_by"]) > 1]
+    if again:
+        lines.append("")
+    for e in again:
+        ids = ", ".join(map(str, e["continued_by"]))
+        lines.append(f"- Theme {e['theme_id']} is shown as one again (themes {ids} merged).")
     if n_lost:
         lines += [
             "",
@@ -213,8 +235,4 @@ def curation_markdown(report: Mapping[str, Any]) -> str:
                 else ""
             )
             lines.append(f"- Theme {e['theme_id']}{name}{merged}: {what}{close}.")
-    again = [e for e in cur["carried"] if len(e["continued_by"]) > 1]
-    for e in again:
-        ids = ", ".join(map(str, e["continued_by"]))
-        lines.append(f"- Theme {e['theme_id']} is shown as one again (themes {ids} merged).")
     return "\n".join(lines) + "\n"

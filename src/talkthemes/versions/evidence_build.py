@@ -258,8 +258,11 @@ def build_evidence(
         idx = [call_index[doc_ids[d]] for d in wanted[j] if doc_ids[d] in call_index]
         if not idx:
             continue
-        share = {call_index[doc_ids[d]]: float(theta[d, j]) for d in wanted[j]
-                 if doc_ids[d] in call_index}  # fmt: skip
+        share = {
+            call_index[doc_ids[d]]: float(theta[d, j])
+            for d in wanted[j]
+            if doc_ids[d] in call_index
+        }
         mine = np.flatnonzero(np.isin(cand_call, idx))
         top = np.lexsort((np.arange(phi.shape[1]), -phi[j], -rel[j]))[:TOP_TERMS]
         top = top[phi[j, top] > 0]

@@ -279,8 +279,11 @@ def _fold_info(info: dict[str, Any], groups: list[Group], weights: np.ndarray) -
     else:
         out.pop("suggested_names", None)
     out["theme_ids"] = [root for root, _ in groups]
-    out["merged_groups"] = {str(root): [int(info["theme_ids"][r]) for r in rows]
-                            for root, rows in groups if len(rows) > 1}  # fmt: skip
+    out["merged_groups"] = {
+        str(root): [int(info["theme_ids"][r]) for r in rows]
+        for root, rows in groups
+        if len(rows) > 1
+    }
     return out
 
 
