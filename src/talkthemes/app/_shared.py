@@ -10,7 +10,6 @@ read fresh from the store on every run, so an edit shows everywhere at once.
 from __future__ import annotations
 
 import argparse
-import dataclasses
 import sys
 from pathlib import Path
 from typing import Any
@@ -95,8 +94,11 @@ def _stamp(path: Path) -> int:
 
 
 def version_key(ws: Workspace, n: int) -> tuple[str, int, int]:
-    """Cache key of a version: workspace path, number, ``version.json`` modification time."""
-    return str(ws.root), int(n), _stamp(ws.versions_dir / str(n) / "version.json")
+    """Cache key of a version: workspace path, number, and a stamp of its
+    ``version.json`` modification time and the merged themes (which change its rows)."""
+    with ws.store() as store:
+        merges = tuple(sorted(store.theme_merges().items()))
+    return str(ws.root), int(n), hash((_stamp(ws.versions_dir / str(n) / "version.json"), merges))
 
 
 @st.cache_resource(show_spinner=False, max_entries=4)
@@ -121,11 +123,11 @@ def current_version(ws: Workspace) -> Version:
         if record is None:  # published meanwhile? gate() runs first, so rare
             raise TalkthemesError("no version published yet: run 'talkthemes publish'")
         n = int(record["n"])
-        themes = store.themes(n)
     key = version_key(ws, n)
     with st.spinner(f"Loading version {n} …"):
         version = _version(*key)
-    return dataclasses.replace(version, themes=themes)
+    with ws.store() as store:
+        return version.with_labels(store)
 
 
 def layout(ws: Workspace, version: Version) -> ThemeLayout:

@@ -1,5 +1,6 @@
 """Calls: the transcripts a theme dominates, filtered by share, date and any metadata
-field, exported to CSV, and read in full with the theme's words highlighted.
+field, exported to CSV, and read in full with the theme's words highlighted, and why the
+call belongs to its top themes.
 
 Transcript text is untrusted. It reaches the page only through
 :func:`talkthemes.view.transcript.transcript_html`, which escapes every piece of it, and
@@ -13,7 +14,7 @@ import datetime as dt
 import pandas as pd
 import streamlit as st
 
-from talkthemes.app import _shared
+from talkthemes.app import _labelling, _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline, percent
 from talkthemes.view.calls import CallFilter, calls_csv, calls_table
@@ -180,6 +181,7 @@ def render() -> None:
         "found in the original wording (other forms of the same word count too)."
     )
     st.html(transcript_html(turns))
+    _labelling.why_section(ws, version, tid_open)
 
 
 if __name__ == "__main__":

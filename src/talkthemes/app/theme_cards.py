@@ -1,11 +1,12 @@
-"""Theme cards: a theme's words ranked by relevance, and its label, note and hidden flag
-(saved to the workspace as soon as they change)."""
+"""Theme cards: a theme's words ranked by relevance, its suggested name and evidence
+sentences, and its label, note and *not a theme* flag (saved to the workspace as soon as
+they change), merges and curation log."""
 
 from __future__ import annotations
 
 import streamlit as st
 
-from talkthemes.app import _shared
+from talkthemes.app import _labelling, _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline, percent
 from talkthemes.view.themes import theme_names
@@ -61,11 +62,12 @@ def _editor(ws: Workspace, theme: dict) -> None:
         help="Saved when you leave the field (or press Ctrl+Enter).",
     )
     st.toggle(
-        "Hide as noise",
+        "Not a theme (hide as noise)",
         key=_field_key("hidden", tid),
         on_change=_save,
         args=(str(ws.root), tid, "hidden"),
-        help="Hidden themes are drawn faint on the map and left out of the charts over time.",
+        help="Small talk, hang-ups, noise: drawn faint on the map and left out of the charts "
+        "over time and of alerts, still counted and listed.",
     )
     error = st.session_state.pop("cards_error", None)
     if error:
@@ -83,13 +85,14 @@ def render() -> None:
     name = theme_names(version)[pos]
 
     st.subheader(md_inline(name))
+    _labelling.suggested_caption(version, pos)
     cov = float(version.coverage()[pos])
     mean = float(version.mean_share()[pos])
     coherence = (version.info.get("coherence") or {}).get("c_npmi")
     a, b, c = st.columns(3)
     a.metric("Leads", percent(cov), help="Share of transcripts whose lead theme it is.")
     b.metric("Average share", percent(mean), help="Its average share per transcript.")
-    if coherence:
+    if coherence and coherence[pos] is not None:  # None: a merged theme (not scored)
         c.metric(
             "Coherence (C_NPMI)",
             f"{coherence[pos]:.3f}",
@@ -117,8 +120,10 @@ def render() -> None:
     with editor:
         _editor(ws, theme)
         st.page_link("calls.py", label="Read the calls it leads", icon=":material/call:")
+        _labelling.curation_section(ws, version, pos)
     terms = version.term_table(pos, n=n, lam=lam)
     _shared.show_chart("terms", terms, name, width=560)
+    _labelling.evidence_section(ws, version, pos)
 
 
 if __name__ == "__main__":

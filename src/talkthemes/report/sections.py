@@ -27,6 +27,7 @@ from talkthemes.view.calls import CallFilter, calls_table
 from talkthemes.view.choose_k import load_sweep, scalar_columns
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.over_time import trend_frame
+from talkthemes.view.theme_evidence import evidence_html, evidence_note, evidence_views
 from talkthemes.view.theme_map import ThemeLayout
 from talkthemes.view.transcript import (
     TermHighlighter,
@@ -38,6 +39,8 @@ from talkthemes.view.transcript import (
 from talkthemes.workspace import Workspace
 
 __all__ = [
+    "EVIDENCE_IN_REPORT",
+    "evidence_block",
     "footer",
     "header",
     "map_section",
@@ -47,6 +50,9 @@ __all__ = [
 ]
 
 log = logging.getLogger(__name__)
+
+#: Evidence sentences per theme card.
+EVIDENCE_IN_REPORT = 5
 
 
 def header(report: Report, version: Version, meta: MetaTable, table: pd.DataFrame) -> str:
@@ -161,12 +167,17 @@ def _card(
         (percent(row["coverage"]), "of transcripts it leads"),
         (percent(row["mean_share"]), "average share per transcript"),
     ]
-    if coherence:
+    if coherence and coherence[pos] is not None:  # None: a merged theme (not scored)
         facts.append((f"{coherence[pos]:.3f}", "coherence (C_NPMI)"))
     parts = [
         f'<article class="card" id="theme-{tid}"><h3>{html_text(row["name"])}</h3>',
         f'<div class="meta">Theme #{tid}'
-        + (" · not labelled yet (named by its top words)" if not row["label"] else "")
+        + (" · suggested name, not labelled yet" if not row["label"] else "")
+        + (
+            " · merged: " + html_text(", ".join(f"#{m}" for m in merged))
+            if (merged := version.themes[pos].get("merged"))
+            else ""
+        )
         + "</div>",
         '<div class="facts">'
         + "".join(
@@ -183,6 +194,7 @@ def _card(
         + "</p>"
     )
     parts.append(chart_div(chart_id))
+    parts.append(evidence_block(version, pos, lemmas))
     calls = calls_table(version, meta, pos, CallFilter(lead_only=True))
     if n_excerpts and not calls.empty:
         highlighter = TermHighlighter(version.top_terms(pos, 20, lam), lemmas=lemmas)
@@ -205,6 +217,18 @@ def _card(
     return "".join(parts)
 
 
+def evidence_block(version: Version, pos: int, lemmas: dict[str, str]) -> str:
+    """A card's evidence sentences (stored with the version), its top words marked."""
+    note = evidence_note(version, pos)
+    if note is not None:
+        return f'<h4>Evidence sentences</h4><p class="caption">{html_text(note)}</p>'
+    views = evidence_views(version, pos, lemmas, limit=EVIDENCE_IN_REPORT)
+    return (
+        '<h4>Evidence sentences</h4><p class="caption">The sentences of the calls it leads '
+        "that carry its words most, customers first, one per call.</p>" + evidence_html(views)
+    )
+
+
 def themes_section(
     ws: Workspace,
     version: Version,
@@ -217,9 +241,10 @@ def themes_section(
 ) -> str:
     """A card per theme, largest first; themes hidden as noise folded at the end.
 
-    A card holds the theme's name, coverage, average share and coherence, its note, its
-    words ranked by relevance at ``lam`` (and their chart), and ``n_excerpts`` excerpts
-    from the calls it leads most strongly, its top words marked.
+    A card holds the theme's name (suggested until labelled), coverage, average share and
+    coherence, its note, its words ranked by relevance at ``lam`` (and their chart), its
+    evidence sentences, and ``n_excerpts`` excerpts from the calls it leads most strongly,
+    its top words marked.
     """
     lemmas = version_lemmas(version)
     ordered = table.sort_values(["coverage", "theme_id"], ascending=[False, True])

@@ -1,8 +1,8 @@
 """A version's themes as the sections list them: names, coverage, map position, words.
 
-A theme is shown by its label, or by its three top terms until it is labelled. Labels
+A theme is shown by its label, or by its suggested name until it is labelled. Labels
 change at any time (the viewer edits them), so names are worked out from the labels as
-they are now, every time; only the top terms are cached per loaded version.
+they are now, every time; the suggested names are stored with the version.
 """
 
 from __future__ import annotations
@@ -10,7 +10,6 @@ from __future__ import annotations
 import pandas as pd
 
 from talkthemes.versions.load import Version
-from talkthemes.versions.naming import theme_name
 from talkthemes.view.theme_map import ThemeLayout
 
 __all__ = ["theme_names", "theme_table", "with_names"]
@@ -48,18 +47,12 @@ def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> p
 
 
 def theme_names(version: Version) -> list[str]:
-    """Each theme's display name: its label, or its three top terms until labelled.
+    """Each theme's display name: its label, or its suggested name until labelled.
 
-    The same names as ``Version.names()``; the top terms are worked out once per loaded
-    version (kept in the version's private cache), the labels are read each time.
+    The same names as ``Version.names()``: the suggested names are stored with the
+    version, the labels are read each time.
     """
-    cache = getattr(version, "_cache", None)
-    top3 = cache.get("view.top3") if cache is not None else None
-    if top3 is None:
-        top3 = [version.top_terms(i, 3) for i in range(version.k)]
-        if cache is not None:
-            cache["view.top3"] = top3
-    return [theme_name(t["label"], top3[i]) for i, t in enumerate(version.themes)]
+    return version.names()
 
 
 def with_names(frame: pd.DataFrame, version: Version) -> pd.DataFrame:
