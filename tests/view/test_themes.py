@@ -18,7 +18,7 @@ def test_theme_table_and_names(version: Version) -> None:
     assert table["coverage"].tolist() == pytest.approx([3 / 6, 2 / 6, 1 / 6])
     assert table["mean_share"].tolist() == pytest.approx(SHARES.mean(axis=0).tolist())
     assert table["name"][0] == "Bills"
-    assert table["name"][1] == "power · outage · bill"  # three top terms until labelled
+    assert table["name"][1] == "Power · outage"  # the suggested name until labelled
     assert table["top_terms"][1].startswith("power, outage")
     assert theme_names(version) == list(table["name"])
     version.themes[1]["label"] = "Power cuts"

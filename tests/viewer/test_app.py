@@ -24,7 +24,7 @@ SECTIONS = [
     ("choose_k.py", "Choose K", 1),
     ("theme_map.py", "Theme map", 1),
     ("theme_cards.py", "Theme cards", 1),
-    ("calls.py", "Calls", 0),
+    ("calls.py", "Calls", 1),  # why this call
     ("over_time.py", "Over time", 3),
 ]
 

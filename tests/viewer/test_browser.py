@@ -205,7 +205,7 @@ SECTIONS = [
     ("", "Theme map", 1),
     ("choose-k", "Choose K", 1),
     ("theme-cards", "Theme cards", 1),
-    ("calls", "Calls", 0),
+    ("calls", "Calls", 1),  # why this call
     ("over-time", "Over time", 3),
 ]
 

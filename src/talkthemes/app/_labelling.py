@@ -13,13 +13,13 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.charts.why import why_chart
 from talkthemes.errors import TalkthemesError
-from talkthemes.prepare.frozen import PrepApplier
 from talkthemes.text import md_inline
+from talkthemes.versions.call_terms import CallCounter, call_counter, call_counts
 from talkthemes.versions.load import Version, load_version
 from talkthemes.view.theme_evidence import evidence_html, evidence_note, evidence_views
 from talkthemes.view.themes import theme_names
 from talkthemes.view.transcript import version_lemmas
-from talkthemes.view.why import call_applier, call_counts, why_frame
+from talkthemes.view.why import why_frame
 from talkthemes.workspace import Workspace
 
 __all__ = ["curation_section", "evidence_section", "suggested_caption", "why_section"]
@@ -160,8 +160,8 @@ def _describe(entry: dict) -> str:
 
 
 @st.cache_resource(show_spinner=False, max_entries=2)
-def _applier(root: str, n: int, stamp: int) -> PrepApplier:
-    return call_applier(Workspace(root), load_version(Workspace(root), n))
+def _counter(root: str, n: int, stamp: int) -> CallCounter:
+    return call_counter(Workspace(root), load_version(Workspace(root), n))
 
 
 def why_section(ws: Workspace, version: Version, call_id: str) -> None:
@@ -174,8 +174,8 @@ def why_section(ws: Workspace, version: Version, call_id: str) -> None:
         return
     try:
         with st.spinner("Counting the call's words …"):
-            applier = _applier(*_shared.version_key(ws, version.n))
-            counts = call_counts(ws, version, call_id, applier)
+            counter = _counter(*_shared.version_key(ws, version.n))
+            counts = call_counts(ws, version, call_id, counter)
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return

@@ -10,8 +10,7 @@ the theme, normalised over the call's terms:
 
 so the pulls of a theme sum to 1 over all the call's terms and the chart shows the
 :data:`TERMS` largest. The counts are the call's terms as the version's prep counted them
-(the call prepared again with the version's frozen prep,
-:class:`talkthemes.prepare.frozen.PrepApplier`, which gives the training counts exactly).
+(:func:`talkthemes.versions.call_terms.call_counts`).
 """
 
 from __future__ import annotations
@@ -22,11 +21,9 @@ import numpy as np
 import pandas as pd
 
 from talkthemes.errors import InputError
-from talkthemes.prepare.frozen import PrepApplier, load_prep_spec
 from talkthemes.versions.load import Version
-from talkthemes.workspace import Workspace
 
-__all__ = ["MIN_SHARE", "TERMS", "TOP_THEMES", "call_applier", "call_counts", "why_frame"]
+__all__ = ["MIN_SHARE", "TERMS", "TOP_THEMES", "why_frame"]
 
 #: Themes shown per call.
 TOP_THEMES = 3
@@ -34,30 +31,6 @@ TOP_THEMES = 3
 MIN_SHARE = 0.05
 #: Terms shown per theme.
 TERMS = 8
-
-
-def call_applier(ws: Workspace, version: Version) -> PrepApplier:
-    """The version's frozen prep, to count a call's terms as training counted them."""
-    return PrepApplier(load_prep_spec(ws, version))
-
-
-def call_counts(
-    ws: Workspace, version: Version, call_id: str, applier: PrepApplier | None = None
-) -> np.ndarray:
-    """A call's term counts over the version's vocabulary.
-
-    Raises
-    ------
-    InputError
-        When no transcript has this id.
-    """
-    with ws.store() as store:
-        found = store.turns_for([call_id])
-    if not found:
-        raise InputError(f"there is no transcript {call_id!r} in the workspace")
-    applier = applier or call_applier(ws, version)
-    applied = applier.apply([(call_id, list(found[0][1]))])
-    return np.asarray(applied.counts.toarray()[0], dtype=np.float64)
 
 
 def why_frame(
@@ -76,7 +49,7 @@ def why_frame(
     ----------
     version : Version
     counts : ndarray (V,)
-        The call's term counts (:func:`call_counts`).
+        The call's term counts (:func:`talkthemes.versions.call_terms.call_counts`).
     shares : ndarray (K,)
         The call's theme shares (its row of ``version.doc_topics``).
     names : list of str, optional
