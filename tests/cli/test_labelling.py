@@ -153,3 +153,16 @@ def test_merge_not_a_theme_note_and_the_log(published: Workspace) -> None:
     assert "marked not a theme" in res.stdout and "hold music" in res.stdout
     for args in (["label"], ["label", str(a), "--merge-into", str(a)], ["label", "7", "x"]):
         assert invoke(published, *args).exit_code == 2
+
+
+def test_the_shares_export_carries_the_lead_themes_suggested_name(
+    published: Workspace, tmp_path: Path
+) -> None:
+    names = {t["theme_id"]: t["suggested_name"] for t in themes_json(published)["themes"]}
+    out = tmp_path / "shares.csv"
+    assert invoke(published, "export", "--out", str(out)).exit_code == 0
+    with out.open(encoding="utf-8", newline="") as fh:
+        rows = list(csv.DictReader(fh))
+    assert rows and all(
+        r["lead_theme_suggested_name"] == names[int(r["lead_theme_id"])] for r in rows
+    )

@@ -6,7 +6,14 @@
   model on every transcript, write the folder and make it current;
 - :mod:`~talkthemes.versions.export` — every transcript's shares as CSV or Parquet;
 - :mod:`~talkthemes.versions.prune` — keep the newest versions, remove leftovers;
-- :mod:`~talkthemes.versions.naming` — the name a theme is shown by;
+- :mod:`~talkthemes.versions.naming` — the name a theme is shown by: its label, or its
+  suggested name;
+- :mod:`~talkthemes.versions.evidence` and :mod:`~talkthemes.versions.evidence_build` —
+  each theme's evidence sentences, chosen when a version is written;
+- :mod:`~talkthemes.versions.curation` — merged themes shown as one, and what a refresh
+  carried of the curation;
+- :mod:`~talkthemes.versions.spreadsheet` — the themes spreadsheet to label in;
+- :mod:`~talkthemes.versions.call_terms` — a call's terms as a version counted them;
 - :mod:`~talkthemes.versions.align`, :mod:`~talkthemes.versions.drift` and
   :mod:`~talkthemes.versions.drift_markdown` — theme identity across versions and the
   drift report of a refresh.

@@ -18,19 +18,22 @@ __all__ = ["export_shares", "write_table"]
 
 
 def export_shares(version: Version) -> pd.DataFrame:
-    """One row per transcript: id, lead theme id and label, lead share, a share per theme.
+    """One row per transcript: id, lead theme id and label, lead share, the lead theme's
+    suggested name (what screens show until it is labelled), a share per theme.
 
-    Share columns are named ``share_<theme id>``.
+    Share columns are named ``share_<theme id>``; merged themes are one column.
     """
     lead = version.lead()
     ids = np.asarray(version.theme_ids)
     labels = [t["label"] for t in version.themes]
+    suggested = version.suggested_names()
     frame = pd.DataFrame(
         {
             "transcript_id": version.doc_ids,
             "lead_theme_id": ids[lead],
             "lead_theme_label": [labels[i] for i in lead],
             "lead_share": np.round(version.lead_share().astype(np.float64), 6),
+            "lead_theme_suggested_name": [suggested[i] for i in lead],
         }
     )
     shares = pd.DataFrame(

@@ -21,9 +21,8 @@ upper case: ``Direct debit · refund``.
 
 References
 ----------
-Sievert, C., Shirley, K. E. (2014). LDAvis: A method for visualizing and interpreting
-topics. Proc. Workshop on Interactive Language Learning, Visualization, and Interfaces
-(ACL 2014), pp. 63–70.
+Sievert, C., Shirley, K. E. (2014). Proc. Workshop on Interactive Language Learning,
+Visualization, and Interfaces (ACL 2014), pp. 63–70.
 """
 
 from __future__ import annotations
