@@ -89,7 +89,7 @@ def test_the_spreadsheet_round_trip(published: Workspace, tmp_path: Path) -> Non
     assert json.loads(res.stdout)["changed"] == [] and json.loads(res.stdout)["unchanged"] == 3
     with published.store() as store:
         log = store.curation_log()
-    assert sum(e["action"] == "label" for e in log) == 2  # the blank label changed nothing
+    assert sum(e.action == "label" for e in log) == 2  # the blank label changed nothing
 
 
 def test_a_sheet_with_problems_changes_nothing_and_names_each_row(

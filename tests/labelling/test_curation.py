@@ -38,16 +38,17 @@ def test_every_curation_action_is_logged_with_when_and_what(store: Store) -> Non
     assert store.merge_theme(4, 1) == 1
     assert store.unmerge_theme(4) == [4]
     log = store.curation_log()
-    assert [(e["action"], e["theme_id"]) for e in reversed(log)] == [
+    assert [(e.action, e.theme_id) for e in reversed(log)] == [
         ("label", 2), ("note", 2), ("not_a_theme", 3), ("a_theme", 3), ("merge", 4),
         ("unmerge", 4),
     ]  # fmt: skip
     first = log[-1]
-    assert (first["before"], first["after"], first["version"]) == ("", "Payment plans", 1)
-    assert first["at"][:4].isdigit() and "T" in first["at"]
-    assert log[1]["into"] == 1 and log[0]["from"] == 1
-    assert store.curation_log(3, limit=1)[0]["action"] == "a_theme"
-    assert store.curation_stamp() == max(e["id"] for e in log)
+    assert (first.detail, first.version) == ({"before": "", "after": "Payment plans"}, 1)
+    assert first.at[:4].isdigit() and "T" in first.at
+    assert log[1].detail == {"into": 1} and log[0].detail == {"from": 1}
+    assert store.curation_log(3, limit=1)[0].action == "a_theme"
+    assert store.curation_stamp() == max(e.id for e in log)
+    assert log[0].to_json()["from"] == 1
 
 
 def test_merges_follow_chains_and_refuse_what_makes_no_sense(store: Store) -> None:
@@ -70,9 +71,9 @@ def test_apply_labels_is_all_or_nothing(store: Store) -> None:
     store.set_label(1, label="kept")
     with pytest.raises(StoreError, match="no theme 99"):
         store.apply_labels([(1, "changed", None), (99, "x", None)])
-    assert store.labels_for([1])[1]["label"] == "kept"
+    assert store.labels_for([1])[1].label == "kept"
     done = store.apply_labels([(1, "changed", "n"), (2, None, "only a note")])
-    assert [(d["theme_id"], d["label"], d["note"]) for d in done] == [
+    assert [(d.theme_id, d.label, d.note) for d in done] == [
         (1, "changed", "n"),
         (2, "", "only a note"),
     ]
@@ -99,11 +100,11 @@ def test_migration_logs_the_labels_set_before_it(
     with Store.open(path) as new:
         assert new.schema_version() == SCHEMA_VERSION >= 6
         log = new.curation_log(7)
-        assert {(e["action"], e.get("after")) for e in log} == {
+        assert {(e.action, e.detail.get("after")) for e in log} == {
             ("label", "Old label"),
             ("not_a_theme", None),
         }
-        assert all(e["at"] == "2026-01-02T03:04:05+00:00" for e in log)
+        assert all(e.at == "2026-01-02T03:04:05+00:00" for e in log)
         assert new.theme_merges() == {}
 
 

@@ -119,3 +119,23 @@ def test_a_version_without_stored_evidence_says_so(planted_root: Planted, tmp_pa
     (v.folder / EVIDENCE_FILE).unlink()
     v = load_version(ws)
     assert not v.evidence_stored() and v.evidence(0) == []
+
+
+def test_themes_prints_the_stored_evidence(planted: tuple[Workspace, Planted]) -> None:
+    from typer.testing import CliRunner
+
+    from talkthemes import cli
+
+    ws, _ = planted
+    v = load_version(ws)
+    res = CliRunner().invoke(cli.app, ["themes", "--json", "-w", str(ws.root)])
+    assert res.exit_code == 0, res.stderr
+    doc = json.loads(res.stdout)
+    for i, t in enumerate(doc["themes"]):
+        assert [e["text"] for e in t["evidence"]] == [s.text for s in v.evidence(i)]
+        assert t["suggested_name"] == v.suggested_names()[i]
+    res = CliRunner().invoke(cli.app, ["themes", "--evidence", "2", "-w", str(ws.root)])
+    assert res.exit_code == 0
+    first = v.evidence(0)[0]
+    flat = " ".join(res.stdout.split())
+    assert f"“{first.text}”" in flat and f"call {first.call_id}, customer" in flat

@@ -56,7 +56,7 @@ def test_merging_on_the_card_makes_one_theme_everywhere(ws_copy, monkeypatch) ->
     run(at)
     with ws_copy.store() as store:
         assert store.theme_merges() == {b: a}
-        assert store.curation_log(b)[0]["action"] == "merge"
+        assert store.curation_log(b)[0].action == "merge"
     assert at.session_state[_shared.SELECTED_THEME] == a
     assert f"Merged: themes #{b} are shown as part of theme #{a}" in texts(at)
     run(at, "theme_map.py")

@@ -13,6 +13,7 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.charts.why import why_chart
 from talkthemes.errors import TalkthemesError
+from talkthemes.store.curation import CurationEntry
 from talkthemes.text import md_inline
 from talkthemes.versions.call_terms import CallCounter, call_counter, call_counts
 from talkthemes.versions.load import Version, load_version
@@ -143,20 +144,20 @@ def curation_section(ws: Workspace, version: Version, position: int) -> None:
         if not log:
             st.caption("Nothing recorded for this theme yet.")
         for e in log:
-            st.caption(md_inline(f"{e['at']} · {_describe(e)}"))
+            st.caption(md_inline(f"{e.at} · {_describe(e)}"))
 
 
-def _describe(entry: dict) -> str:
-    action = entry["action"]
-    if action in ("label", "note"):
-        after = entry.get("after") or ""
-        return f"{action} set to “{after}”" if after else f"{action} cleared"
+def _describe(entry: CurationEntry) -> str:
+    d = entry.detail
+    if entry.action in ("label", "note"):
+        after = d.get("after") or ""
+        return f"{entry.action} set to “{after}”" if after else f"{entry.action} cleared"
     return {
         "not_a_theme": "marked not a theme",
         "a_theme": "marked a theme again",
-        "merge": f"merged into theme #{entry.get('into')}",
-        "unmerge": f"merge into theme #{entry.get('from')} undone",
-    }.get(action, action)
+        "merge": f"merged into theme #{d.get('into')}",
+        "unmerge": f"merge into theme #{d.get('from')} undone",
+    }.get(entry.action, entry.action)
 
 
 @st.cache_resource(show_spinner=False, max_entries=2)

@@ -306,8 +306,8 @@ def _label_from(ws: Any, path: Path, as_json: bool) -> None:
         changes = [
             (r.theme_id, r.label, r.note)
             for r in rows
-            if (r.label is not None and r.label != current[r.theme_id]["label"])
-            or (r.note is not None and r.note != current[r.theme_id]["note"])
+            if (r.label is not None and r.label != current[r.theme_id].label)
+            or (r.note is not None and r.note != current[r.theme_id].note)
         ]
         applied = store.apply_labels(changes) if changes else []
     if as_json:
@@ -316,7 +316,7 @@ def _label_from(ws: Any, path: Path, as_json: bool) -> None:
                 "file": str(path),
                 "applied": True,
                 "rows": len(rows),
-                "changed": applied,
+                "changed": [a.to_json() for a in applied],
                 "unchanged": len(rows) - len(applied),
             }
         )
@@ -326,9 +326,9 @@ def _label_from(ws: Any, path: Path, as_json: bool) -> None:
         f"{len(rows) - len(applied)} unchanged."
     )
     for r in applied:
-        parts = [f"  theme {r['theme_id']}: label “", r["label"], "”"]
-        if r["note"]:
-            parts += [", note “", r["note"], "”"]
+        parts = [f"  theme {r.theme_id}: label “", r.label, "”"]
+        if r.note:
+            parts += [", note “", r.note, "”"]
         say(*parts)
 
 
@@ -336,21 +336,29 @@ def _show_log(ws: Any, theme_id: int | None, as_json: bool) -> None:
     with ws.store() as store:
         entries = store.curation_log(theme_id)
     if as_json:
-        emit_json({"theme_id": theme_id, "log": entries})
+        emit_json({"theme_id": theme_id, "log": [e.to_json() for e in entries]})
         return
     if not entries:
         say("No curation yet." if theme_id is None else f"No curation of theme {theme_id} yet.")
         return
     for e in entries:
-        what = {
-            "label": lambda e: ("label “", e.get("after", ""), "”"),
-            "note": lambda e: ("note “", e.get("after", ""), "”"),
-            "not_a_theme": lambda e: ("marked not a theme",),
-            "a_theme": lambda e: ("marked a theme again",),
-            "merge": lambda e: (f"merged into theme {e.get('into')}",),
-            "unmerge": lambda e: (f"merge into theme {e.get('from')} undone",),
-        }.get(e["action"], lambda e: (e["action"],))(e)
-        say(f"{e['at']}  theme {e['theme_id']}: ", *what, console=out)
+        say(f"{e.at}  theme {e.theme_id}: ", *describe(e), console=out)
+
+
+def describe(entry: Any) -> tuple[str, ...]:
+    """A curation log entry in words (pieces to print literally)."""
+    d = entry.detail
+    if entry.action in ("label", "note"):
+        after = d.get("after") or ""
+        return (f"{entry.action} “", after, "”") if after else (f"{entry.action} cleared",)
+    return (
+        {
+            "not_a_theme": "marked not a theme",
+            "a_theme": "marked a theme again",
+            "merge": f"merged into theme {d.get('into')}",
+            "unmerge": f"merge into theme {d.get('from')} undone",
+        }.get(entry.action, entry.action),
+    )
 
 
 def id_ranges(ids: Sequence[int]) -> str:

@@ -13,15 +13,79 @@ from __future__ import annotations
 import json
 import sqlite3
 from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
 from typing import Any
 
 from talkthemes.errors import StoreError
 from talkthemes.store._base import StoreBase, now_iso
 
-__all__ = ["ACTIONS", "CurationMixin", "log_label_changes", "merge_root", "write_label"]
+__all__ = [
+    "ACTIONS",
+    "CurationEntry",
+    "CurationMixin",
+    "ThemeLabel",
+    "log_label_changes",
+    "merge_root",
+    "write_label",
+]
 
 #: The curation actions the log records.
 ACTIONS = ("label", "note", "not_a_theme", "a_theme", "merge", "unmerge")
+
+
+@dataclass(frozen=True)
+class ThemeLabel:
+    """A theme's label, note and hidden (*not a theme*) flag."""
+
+    theme_id: int
+    label: str = ""
+    note: str = ""
+    hidden: bool = False
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "theme_id": self.theme_id,
+            "label": self.label,
+            "note": self.note,
+            "hidden": self.hidden,
+            "not_a_theme": self.hidden,
+        }
+
+
+@dataclass(frozen=True)
+class CurationEntry:
+    """One row of the curation log.
+
+    Attributes
+    ----------
+    id : int
+    at : str
+        When (ISO 8601 with offset).
+    action : str
+        One of :data:`ACTIONS`.
+    theme_id : int
+    version : int or None
+        The current version when it was done.
+    detail : dict
+        ``before``/``after`` (label, note), ``into`` (merge), ``from`` (unmerge).
+    """
+
+    id: int
+    at: str
+    action: str
+    theme_id: int
+    version: int | None
+    detail: dict[str, Any] = field(default_factory=dict)
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "id": self.id,
+            "at": self.at,
+            "action": self.action,
+            "theme_id": self.theme_id,
+            "version": self.version,
+            **self.detail,
+        }
 
 
 def merge_root(merges: Mapping[int, int], theme_id: int) -> int:
@@ -201,9 +265,9 @@ class CurationMixin(StoreBase):
                 _log(c, "unmerge", int(t), {"from": int(into)})
         return [int(t) for t, _ in rows]
 
-    def labels_for(self, theme_ids: Sequence[int]) -> dict[int, dict[str, Any]]:
+    def labels_for(self, theme_ids: Sequence[int]) -> dict[int, ThemeLabel]:
         """Label, note and hidden flag of the given theme ids (blank for ids never labelled)."""
-        out = {int(t): {"label": "", "note": "", "hidden": False} for t in theme_ids}
+        out = {int(t): ThemeLabel(int(t)) for t in theme_ids}
         ids = list(out)
         for i in range(0, len(ids), 500):
             chunk = ids[i : i + 500]
@@ -211,12 +275,12 @@ class CurationMixin(StoreBase):
             for t, label, note, hidden in self._conn.execute(
                 f"SELECT theme_id, label, note, hidden FROM labels WHERE theme_id IN ({q})", chunk
             ):
-                out[int(t)] = {"label": label or "", "note": note or "", "hidden": bool(hidden)}
+                out[int(t)] = ThemeLabel(int(t), label or "", note or "", bool(hidden))
         return out
 
     def apply_labels(
         self, changes: Sequence[tuple[int, str | None, str | None]]
-    ) -> list[dict[str, Any]]:
+    ) -> list[ThemeLabel]:
         """Set the label and note of several themes in one transaction: all or nothing.
 
         Parameters
@@ -226,8 +290,8 @@ class CurationMixin(StoreBase):
 
         Returns
         -------
-        list of dict
-            ``theme_id, label, note, hidden`` after the change, one per entry.
+        list of ThemeLabel
+            The values after the change, one per entry.
 
         Raises
         ------
@@ -238,14 +302,13 @@ class CurationMixin(StoreBase):
         with self.transaction() as c:
             for theme_id, label, note in changes:
                 lab, nt, hid = write_label(c, int(theme_id), label=label, note=note)
-                out.append({"theme_id": int(theme_id), "label": lab, "note": nt, "hidden": hid})
+                out.append(ThemeLabel(int(theme_id), lab, nt, hid))
         return out
 
     def curation_log(
         self, theme_id: int | None = None, limit: int | None = None
-    ) -> list[dict[str, Any]]:
-        """The curation log, newest first (``id, at, action, theme_id, version`` and the
-        action's details: ``before``/``after`` values, ``into``, ``from``)."""
+    ) -> list[CurationEntry]:
+        """The curation log, newest first (of one theme when ``theme_id`` is given)."""
         sql = "SELECT id, at, action, theme_id, version, detail FROM curation_log"
         params: list[Any] = []
         if theme_id is not None:
@@ -256,14 +319,7 @@ class CurationMixin(StoreBase):
             sql += " LIMIT ?"
             params.append(int(limit))
         return [
-            {
-                "id": int(i),
-                "at": at,
-                "action": action,
-                "theme_id": int(t),
-                "version": version,
-                **json.loads(detail),
-            }
+            CurationEntry(int(i), at, action, int(t), version, json.loads(detail))
             for i, at, action, t, version, detail in self._conn.execute(sql, params)
         ]
 

@@ -251,10 +251,13 @@ def _themes(store: Any, n: int, groups: list[Group] | None) -> list[dict[str, An
     for pos, (root, rows) in enumerate(groups):
         ids = [int(raw[r]["theme_id"]) for r in rows]
         base = next((raw[r] for r in rows if int(raw[r]["theme_id"]) == root), raw[rows[0]])
+        lab = labels[root]
         out.append(
             {
                 **base,
-                **labels[root],
+                "label": lab.label,
+                "note": lab.note,
+                "hidden": lab.hidden,
                 "theme_id": root,
                 "position": pos,
                 "merged": [t for t in ids if t != root],
