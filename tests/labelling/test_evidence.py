@@ -139,3 +139,28 @@ def test_themes_prints_the_stored_evidence(planted: tuple[Workspace, Planted]) -
     first = v.evidence(0)[0]
     flat = " ".join(res.stdout.split())
     assert f"“{first.text}”" in flat and f"call {first.call_id}, customer" in flat
+
+
+def test_sentences_are_scrubbed_even_when_the_prep_does_not_scrub(
+    planted: tuple[Workspace, Planted],
+) -> None:
+    import dataclasses
+
+    from talkthemes.versions.evidence_build import build_evidence
+
+    ws, _ = planted
+    v = load_version(ws)
+    spec = load_prep_spec(ws, v)
+    spec = dataclasses.replace(spec, settings=spec.settings.model_copy(update={"scrub": False}))
+
+    def turns_of(ids):
+        with ws.store() as store:
+            calls = store.turns_for(ids)
+        mail = "write to jo.doe@example.org"
+        return [(t, [(r, f"{x[:-1]} {mail}{x[-1]}") for r, x in turns]) for t, turns in calls]
+
+    chosen = build_evidence(
+        turns_of, spec, v.topic_terms, v.doc_topics, v.doc_ids, v.term_marginal()
+    )
+    texts = [s.text for ss in chosen for s in ss]
+    assert texts and all("jo.doe" not in t and "[…]" in t for t in texts)

@@ -9,12 +9,12 @@ For each theme *k*:
 1. **Candidate calls** are the :data:`CANDIDATE_CALLS` calls it leads with the largest
    share θ_dk.
 2. **Sentences.** Each turn is scrubbed of personal data as the chain scrubs it
-   (:func:`talkthemes.prepare.scrub.scrub`) and cut into sentences at the chain's sentence
-   ends (``. ! ? …`` and line breaks, :func:`talkthemes.prepare.boilerplate.split_sentences`).
-   Sentences of fewer than :data:`MIN_WORDS` words are dropped, and so is every sentence
-   the version's prep found to be *boilerplate* (its normalised text is on the prep's
-   list); a sentence longer than :data:`MAX_WORDS` words is read as pieces of at most that
-   many words.
+   (:func:`talkthemes.prepare.scrub.scrub`; always, since the sentences are shown) and cut
+   into sentences at the chain's sentence ends (``. ! ? …`` and line breaks,
+   :func:`talkthemes.prepare.boilerplate.split_sentences`). Sentences of fewer than
+   :data:`MIN_WORDS` words are dropped, and so is every sentence the version's prep found
+   to be *boilerplate* (its normalised text is on the prep's list); a sentence longer than
+   :data:`MAX_WORDS` words is read as pieces of at most that many words.
 3. **Prepared terms.** Each sentence is prepared exactly as the version's training data
    was (:class:`talkthemes.prepare.frozen.PrepApplier`: roles, lemmas, filter, phrases,
    vocabulary), giving the set T(s) of vocabulary terms it holds.
@@ -29,12 +29,12 @@ For each theme *k*:
    between the sentences' term sets and λ_MMR = :data:`MMR_LAMBDA`, so near-repeats of a
    chosen sentence give way to sentences that say something else. No two sentences come
    from the same call, and a sentence said word for word in several calls is a candidate
-   once (the first time). Customer sentences are chosen first; sentences of unknown speakers,
-   then of agents, only fill the places customer sentences cannot.
+   once (the first time). Customer sentences are chosen first; sentences of unknown
+   speakers, then of agents, only fill the places customer sentences cannot.
 
 They are chosen by :func:`talkthemes.versions.evidence_build.build_evidence`. Each stored
-sentence keeps its call id, the speaker's role, the theme's share in the
-call, its score and the theme terms it holds (screens highlight those in the text).
+sentence keeps its call id, the speaker's role, the theme's share in the call, its score
+and the theme terms it holds (screens highlight those in the text).
 
 References
 ----------

@@ -91,14 +91,13 @@ def _candidates(
     calls: Sequence[tuple[str, Sequence[tuple[str, str]]]],
     boilerplate: set[str],
     lang: str,
-    scrub_on: bool,
 ) -> list[_Candidate]:
     out: list[_Candidate] = []
     for c, (_, turns) in enumerate(calls):
         for role, raw in turns:
-            text = unicodedata.normalize("NFC", raw)
-            if scrub_on:
-                text = scrub(text, mark=_SCRUB_MARK)[0]
+            # scrubbed as the chain scrubs, even when [prepare] scrub is off: the sentences
+            # are shown on screens, in the report and in exports
+            text = scrub(unicodedata.normalize("NFC", raw), mark=_SCRUB_MARK)[0]
             for whole in _SENTENCE.finditer(text):
                 said = split_sentences(whole.group())  # the pieces the chain compared
                 if any(normalised_sentence(p, lang) in boilerplate for p in said):
@@ -242,7 +241,7 @@ def build_evidence(
     report(progress, 0, k + 1, "reading the calls")
     calls = turns_of([doc_ids[d] for rows in wanted for d in rows])
     call_index = {tid: i for i, (tid, _) in enumerate(calls)}
-    cands = _candidates(calls, set(spec.boilerplate), spec.settings.lang, spec.settings.scrub)
+    cands = _candidates(calls, set(spec.boilerplate), spec.settings.lang)
     report(progress, 1, k + 1, f"preparing {len(cands):,} sentences")
     applier = PrepApplier(spec)
     applied = applier.apply_all(

@@ -241,9 +241,12 @@ class Version:
         return out
 
 
-def _themes(store: Any, n: int, groups: list[Group] | None) -> list[dict[str, Any]]:
-    """A version's themes from the store, merged themes as one (see :class:`Version`)."""
-    raw = store.themes(n)
+def _themes(
+    store: Any, n: int, groups: list[Group] | None, raw: list[dict[str, Any]] | None = None
+) -> list[dict[str, Any]]:
+    """A version's themes from the store (``raw``: as already read), merged themes as one
+    (see :class:`Version`)."""
+    raw = store.themes(n) if raw is None else raw
     if groups is None:
         return [{**t, "merged": []} for t in raw]
     labels = store.labels_for([root for root, _ in groups])
@@ -329,7 +332,7 @@ def load_version(ws: Workspace, n: int | None = None, *, fold: bool = True) -> V
         raw = store.themes(n)
         merges = store.theme_merges() if fold else {}
         groups = merge_groups([int(t["theme_id"]) for t in raw], merges) if merges else None
-        themes = _themes(store, n, groups) if raw else []
+        themes = _themes(store, n, groups, raw) if raw else []
     folder = ws.versions_dir / str(n)
     if not themes or not folder.exists():
         raise NotReadyError(f"version {n} is not on disk (kept versions: see 'talkthemes status')")

@@ -27,7 +27,6 @@ import numpy as np
 
 from talkthemes.errors import InputError
 from talkthemes.prepare.frozen import PrepSpec
-from talkthemes.progress import Progress
 from talkthemes.versions.evidence import EVIDENCE_FILE, evidence_document
 from talkthemes.versions.evidence_build import build_evidence
 from talkthemes.versions.fit import FittedVersion
@@ -84,7 +83,6 @@ def write_version(
     refresh_id: int | None = None,
     refresh_info: Callable[[int, list[int]], dict[str, Any]] | None = None,
     checkpoint: Checkpoint | None = None,
-    progress: Progress | None = None,
 ) -> int:
     """Write a version folder in full, make it current in one transaction, prune old ones.
 
@@ -111,8 +109,6 @@ def write_version(
         Called with ``"version-files"`` once the files are written (not yet moved),
         ``"version-folder"`` once the folder is in place (not yet current) and
         ``"version-current"`` after the commit (before pruning).
-    progress : Progress, optional
-        Reports the choice of evidence sentences.
 
     Returns
     -------
@@ -129,7 +125,7 @@ def write_version(
     folder = ws.versions_dir / str(n)
     info = {"n": n, **fitted.info, **(extra_info or {}), "theme_ids": theme_ids}
     info["retired_theme_ids"] = [int(r["theme_id"]) for r in plan.retired]
-    names, evidence = _labelling_aids(ws, fitted, progress)
+    names, evidence = _labelling_aids(ws, fitted)
     info["suggested_names"] = names
     with atomic_dir(folder) as tmp:
         np.save(tmp / "topic_terms.npy", fitted.topic_terms.astype(np.float32), allow_pickle=False)
@@ -179,9 +175,7 @@ def write_version(
     return n
 
 
-def _labelling_aids(
-    ws: Workspace, fitted: FittedVersion, progress: Progress | None
-) -> tuple[list[str], list[Any]]:
+def _labelling_aids(ws: Workspace, fitted: FittedVersion) -> tuple[list[str], list[Any]]:
     """Each theme's suggested name and evidence sentences (docs/methods.md, "Suggested
     names" and "Evidence sentences"), worked out once so that screens only read them."""
     lam = ws.settings().view.relevance_lambda
@@ -204,6 +198,5 @@ def _labelling_aids(
             fitted.doc_ids,
             marginal,
             lam=lam,
-            progress=progress,
         )
     return names, evidence
