@@ -32,6 +32,7 @@ def test_the_theme_card_shows_the_suggested_name_and_the_evidence(demo_ws, monke
     suggested = version.suggested_names()[pos]
     assert at.subheader[0].value == md_inline(suggested)
     assert f"**Suggested name**, not labelled yet: {md_inline(suggested)}" in texts(at)
+    assert at.selectbox(key="cards_pick").format_func(tid).endswith("· suggested name")
     body = _html(at)
     sentences = version.evidence(pos)
     assert sentences and body.count('class="tt-evidence-item"') == len(sentences)

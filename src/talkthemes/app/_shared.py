@@ -273,6 +273,7 @@ def theme_picker(version: Version, *, key: str, label: str = "Theme") -> int:
     """A select box of the version's themes, bound to the shared selection."""
     names = dict(zip(version.theme_ids, theme_names(version), strict=True))
     hidden = {int(t["theme_id"]) for t in version.themes if t["hidden"]}
+    suggested = {int(t["theme_id"]) for t in version.themes if not str(t["label"]).strip()}
     current = selected_theme(version)
     st.session_state[key] = current
 
@@ -284,7 +285,11 @@ def theme_picker(version: Version, *, key: str, label: str = "Theme") -> int:
         options=version.theme_ids,
         key=key,
         on_change=changed,
-        format_func=lambda t: f"{names[t]} (#{t})" + (" · hidden" if t in hidden else ""),
+        format_func=lambda t: (
+            f"{names[t]} (#{t})"
+            + (" · suggested name" if t in suggested else "")
+            + (" · hidden" if t in hidden else "")
+        ),
     )
     return selected_theme(version)
 

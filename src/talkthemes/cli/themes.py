@@ -129,7 +129,7 @@ def print_evidence(summary: Sequence[dict], n: int, *, stored: bool) -> None:
         )
         return
     for t in summary:
-        say("")
+        say("", console=out)
         say((f"#{t['theme_id']} ", "bold"), (t["name"], "bold"), console=out)
         sentences = t["evidence"][:n]
         if not sentences:
