@@ -114,13 +114,15 @@ def assign_frame(
     shares: np.ndarray,
     theme_ids: Sequence[int],
     labels: Sequence[str],
+    suggested: Sequence[str] | None = None,
 ) -> pd.DataFrame:
     """The assignment table: the layout of ``export`` plus ``known_terms`` and ``reason``.
 
     Columns: ``transcript_id``, ``lead_theme_id`` (empty when the transcript has no word
-    in the vocabulary), ``lead_theme_label``, ``lead_share``, one ``share_<theme id>`` per
-    theme, ``known_terms`` (tokens in the vocabulary) and ``reason`` (why there is no lead
-    theme; empty otherwise).
+    in the vocabulary), ``lead_theme_label``, ``lead_share``, ``lead_theme_suggested_name``
+    (when ``suggested`` names are given), one ``share_<theme id>`` per theme,
+    ``known_terms`` (tokens in the vocabulary) and ``reason`` (why there is no lead theme;
+    empty otherwise).
     """
     n, k = len(applied.doc_ids), len(theme_ids)
     if shares.shape != (n, k):
@@ -140,6 +142,10 @@ def assign_frame(
             "lead_share": values[np.arange(n), lead] if k else np.full(n, np.nan),
         }
     )
+    if suggested is not None:
+        frame["lead_theme_suggested_name"] = [
+            suggested[i] if h else "" for i, h in zip(lead, has, strict=True)
+        ]
     share_cols = pd.DataFrame(values, columns=[f"share_{t}" for t in ids])
     tail = pd.DataFrame(
         {
@@ -299,6 +305,7 @@ def assign(
     applier = PrepApplier(load_prep_spec(ws, v))
     model = ShareModel.from_version(v)
     labels = [t["label"] for t in v.themes]
+    suggested = v.suggested_names()
     settings = ws.settings().ingest
     in_folders = folder_manifests(paths)
     stored = None
@@ -312,7 +319,7 @@ def assign(
     for batch in _batches(items, batch_size, rejects, warnings):
         applied = applier.apply(batch)
         shares = v.fold(model.shares(applied.counts))  # merged themes as one
-        frames.append(assign_frame(applied, shares, v.theme_ids, labels))
+        frames.append(assign_frame(applied, shares, v.theme_ids, labels, suggested))
         done += len(applied.doc_ids)
         report(progress, done, 0, applied.doc_ids[-1] if applied.doc_ids else "")
     if not frames:
@@ -323,7 +330,7 @@ def assign(
                 + " (read: .txt, .vtt, .csv, .jsonl, .parquet)"
             )
         empty = AppliedBatch.concat([], v.topic_terms.shape[1])
-        frames.append(assign_frame(empty, np.zeros((0, v.k)), v.theme_ids, labels))
+        frames.append(assign_frame(empty, np.zeros((0, v.k)), v.theme_ids, labels, suggested))
     frame = pd.concat(frames, ignore_index=True)
     write_table(frame, out)
     seconds = time.perf_counter() - t0

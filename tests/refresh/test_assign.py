@@ -254,7 +254,7 @@ def test_lda_shares_from_saved_state_match_the_fitted_model(
         assign(ws, [demo_files.inbox], out=path)
     first, second = pd.read_parquet(a), pd.read_parquet(b)
     pd.testing.assert_frame_equal(first, second)
-    assert first.shape[1] == 4 + 6 + 2 and first.shape[0] == sum(demo_files.inbox_counts.values())
+    assert first.shape[1] == 5 + 6 + 2 and first.shape[0] == sum(demo_files.inbox_counts.values())
     assert K != 6  # the LDA version is its own (the NMF one has K themes)
 
 
