@@ -31,7 +31,7 @@ def test_calls_filters(version, meta) -> None:
 
     assert ids(categories={"queue": ["faults"]}) == ["t1", "t3"]
     assert ids(categories={"queue": []}) == [f"t{i}" for i in range(6)]
-    assert ids(ranges={"duration_s": (150, 450)}) == ["t1", "t2", "t3"]
+    assert ids(ranges={"duration_s": (2.5, 7.5)}) == ["t1", "t2", "t3"]  # minutes
     assert ids(contains={"ref": "B-"}) == ["t1"]
     assert ids(date_from=dt.date(2026, 5, 5), date_to=dt.date(2026, 6, 1)) == ["t1", "t2", "t3"]
     assert ids(date_from=dt.date(2026, 6, 1)) == ["t3", "t4"]  # undated t5 left out

@@ -102,6 +102,14 @@ def ws_copy(demo_ws: DemoWorkspace, tmp_path: Path) -> Workspace:
 
 
 @pytest.fixture(scope="session")
+def browser_ws(demo_ws: DemoWorkspace, tmp_path_factory: pytest.TempPathFactory) -> Workspace:
+    """A copy of the demo workspace for the browser tests (they type labels into it)."""
+    target = tmp_path_factory.mktemp("browser") / "ws"
+    shutil.copytree(demo_ws.ws.root, target, ignore=shutil.ignore_patterns(".lock"))
+    return Workspace(target)
+
+
+@pytest.fixture(scope="session")
 def report_file(demo_ws: DemoWorkspace, tmp_path_factory: pytest.TempPathFactory) -> Path:
     """The demo workspace's report, written once (with every chart as PNG beside it)."""
     from talkthemes.report import write_report

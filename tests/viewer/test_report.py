@@ -172,3 +172,26 @@ def test_progress_is_told_done_total_and_what(ws_copy, tmp_path: Path) -> None:
     n_charts = len(list((tmp_path / "png").glob("*.png")))
     assert calls[-1][:2] == (n_charts, n_charts)  # the PNGs, counted to the last
     assert all(0 <= done <= total and what for done, total, what in calls)
+
+
+def test_the_footer_names_the_model_and_never_an_empty_cell(demo_ws, page: str) -> None:
+    import dataclasses
+
+    from talkthemes.report.sections import footer
+
+    footer_html = re.search(r"<footer>(.*?)</footer>", page, re.S).group(1)
+    assert "NMF, K = 5" in footer_html and "cell )" not in footer_html
+    version = load_version(demo_ws.ws)
+    bare = dataclasses.replace(version, info={"family": "lda"})
+    assert footer(bare).endswith("from version 1 (LDA, K = 5).</footer>")
+
+
+def test_the_static_map_asks_for_no_click_and_counts_say_who_was_left_out(
+    demo_ws, page: str
+) -> None:
+    from talkthemes.view.counts import call_counts
+
+    subtitle = " ".join(specs_of(page)["theme-map"]["title"]["subtitle"])
+    assert "click" not in subtitle.lower()
+    sentence = call_counts(demo_ws.ws, load_version(demo_ws.ws)).sentence()
+    assert "left out" in sentence and html.escape(sentence) in page

@@ -60,3 +60,17 @@ def test_demo_version_round_trip(demo_ws) -> None:
     assert meta.frame["site"][i].startswith("Site <img")
     total = sum(len(calls_table(version, meta, p)) for p in range(version.k))
     assert total == len(version.doc_ids)  # every transcript has exactly one lead theme
+
+
+def test_counts_account_for_every_stored_transcript(demo_ws) -> None:
+    from talkthemes.view.counts import call_counts, excluded_reasons
+
+    version = load_version(demo_ws.ws)
+    counts = call_counts(demo_ws.ws, version)
+    with demo_ws.ws.store() as store:
+        stored = store.count_transcripts()
+    excluded = excluded_reasons(version.folder)
+    assert counts.stored == stored and counts.shown == len(version.doc_ids)
+    assert counts.shown + counts.n_left_out == stored
+    assert counts.n_left_out == len(excluded) > 0  # the demo has short calls
+    assert f"{counts.n_left_out:,} left out" in counts.sentence()

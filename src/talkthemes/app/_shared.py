@@ -11,18 +11,21 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
+import functools
 import sys
 from pathlib import Path
 from typing import Any
 
 import pandas as pd
 import streamlit as st
+from PIL import Image, ImageDraw
 
 from talkthemes import charts
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline
 from talkthemes.versions import Version, load_version
 from talkthemes.view.choose_k import load_prep_vocabulary
+from talkthemes.view.counts import CallCounts, call_counts
 from talkthemes.view.metadata import MetaTable, load_metadata
 from talkthemes.view.over_time import movers_frame, segment_frame, trend_frame
 from talkthemes.view.readiness import Need, NextStep, Readiness
@@ -45,6 +48,18 @@ def workspace_root() -> Path:
     parser.add_argument("--workspace", default=None)
     args, _ = parser.parse_known_args(sys.argv[1:])
     return resolve_workspace(args.workspace).expanduser().resolve()
+
+
+@functools.cache
+def favicon() -> Image.Image:
+    """The browser-tab icon, drawn here so the page loads nothing from the network."""
+    img = Image.new("RGBA", (64, 64), (0, 0, 0, 0))
+    draw = ImageDraw.Draw(img)
+    draw.rounded_rectangle((2, 6, 62, 50), radius=12, fill=charts.BLUE)
+    draw.polygon([(14, 46), (14, 62), (30, 46)], fill=charts.BLUE)
+    for y, right in ((17, 50), (28, 42), (39, 34)):
+        draw.rounded_rectangle((13, y, right, y + 5), radius=2, fill="#ffffff")
+    return img
 
 
 def workspace() -> Workspace:
@@ -125,6 +140,11 @@ def current_version(ws: Workspace) -> Version:
     return dataclasses.replace(version, themes=themes)
 
 
+def counts(ws: Workspace, version: Version) -> CallCounts:
+    """Transcripts in the version, stored, and left out by reason (read on every run)."""
+    return call_counts(ws, version)
+
+
 def layout(ws: Workspace, version: Version) -> ThemeLayout:
     """Map coordinates of the version's themes (cached)."""
     with st.spinner("Placing the themes on the map …"):
@@ -148,12 +168,14 @@ def _segments(root: str, n: int, stamp: int, field: str) -> pd.DataFrame:
 
 
 @st.cache_data(show_spinner=False, max_entries=16)
-def _movers(root: str, n: int, stamp: int, freq: str, before: str, after: str) -> pd.DataFrame:
+def _movers(
+    root: str, n: int, stamp: int, freq: str, before: tuple[str, ...], after: str
+) -> pd.DataFrame:
     return movers_frame(
         _version(root, n, stamp),
         _metadata(root, n, stamp),
         freq,  # type: ignore[arg-type]
-        pd.Timestamp(before),
+        [pd.Timestamp(b) for b in before],
         pd.Timestamp(after),
     )
 
@@ -171,11 +193,16 @@ def segments(ws: Workspace, version: Version, field: str) -> pd.DataFrame:
 
 
 def movers(
-    ws: Workspace, version: Version, freq: str, before: pd.Timestamp, after: pd.Timestamp
+    ws: Workspace,
+    version: Version,
+    freq: str,
+    before: tuple[pd.Timestamp, ...],
+    after: pd.Timestamp,
 ) -> pd.DataFrame:
-    """Ranked change of each theme's share between two periods (numbers cached)."""
-    with st.spinner("Comparing the two periods …"):
-        frame = _movers(*version_key(ws, version.n), freq, before.isoformat(), after.isoformat())
+    """Ranked change of each theme's share from the ``before`` periods to ``after``."""
+    with st.spinner("Comparing the periods …"):
+        pool = tuple(pd.Timestamp(b).isoformat() for b in before)
+        frame = _movers(*version_key(ws, version.n), freq, pool, after.isoformat())
         return with_names(frame, version)
 
 
@@ -307,6 +334,7 @@ def sidebar(ready: Readiness) -> None:
                 f"{labelled} of {version.k} themes labelled"
                 + (f", {hidden} hidden" if hidden else "")
             )
+            st.caption(md_inline(counts(Workspace(ready.root), version).sentence()))
         elif ready.has_workspace:
             step = ready.next_step
             if step is not None:

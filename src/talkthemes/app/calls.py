@@ -58,7 +58,7 @@ def _filters(meta: MetaTable) -> CallFilter:
         if meta.date_field is not None:
             info = meta.fields[meta.date_field]
             picked = left.date_input(
-                f"Date range ({md_inline(meta.date_field)})",
+                f"Date range ({md_inline(meta.fields[meta.date_field].label)})",
                 value=(info.lo, info.hi),
                 min_value=info.lo,
                 max_value=info.hi,
@@ -75,7 +75,7 @@ def _filters(meta: MetaTable) -> CallFilter:
         for i, info in enumerate(others):
             box = columns[i % 3]
             key = f"calls_field_{info.name}"
-            label = md_inline(info.name)
+            label = md_inline(info.label)
             if info.kind == "category":
                 chosen = box.multiselect(label, info.values, key=key, placeholder="all values")
                 if chosen:
@@ -117,7 +117,8 @@ def render() -> None:
     coverage = float(version.coverage()[pos])
     st.caption(
         f"{len(frame):,} transcripts match, most dominated by the theme first. The theme "
-        f"leads {percent(coverage)} of all {len(version.doc_ids):,} transcripts."
+        f"leads {percent(coverage)} of the version's {len(version.doc_ids):,} transcripts. "
+        + md_inline(_shared.counts(ws, version).sentence())
         + (f" The table lists the first {MAX_LISTED:,}." if len(frame) > MAX_LISTED else "")
     )
     shown = frame.head(MAX_LISTED)
@@ -135,6 +136,11 @@ def render() -> None:
             ),
             "lead_theme": st.column_config.TextColumn("Lead theme"),
             "lead_share": st.column_config.NumberColumn("Lead share", format="percent"),
+            **{
+                name: st.column_config.TextColumn(info.label)
+                for name, info in meta.fields.items()
+                if name in shown.columns
+            },
         },
     )
     st.download_button(
@@ -169,7 +175,11 @@ def render() -> None:
         _shared.show_error(exc)
         return
     row = shown[shown["transcript_id"] == tid_open].iloc[0]
-    facts = [md_inline(f"{k}: {row[k]}") for k in meta.frame.columns if pd.notna(row.get(k))]
+    facts = [
+        md_inline(f"{meta.fields[k].label if k in meta.fields else k}: {row[k]}")
+        for k in meta.frame.columns
+        if pd.notna(row.get(k))
+    ]
     st.caption(
         " · ".join(
             [f"{len(turns)} turns", f"share of this theme {percent(row['share'], 0)}", *facts]

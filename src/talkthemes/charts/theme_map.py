@@ -63,6 +63,7 @@ def theme_map_chart(
     *,
     width: int = 560,
     height: int = 440,
+    interactive: bool = True,
 ) -> alt.LayerChart:
     """Themes as circles on a 2-D map: close circles use similar words.
 
@@ -192,8 +193,8 @@ def theme_map_chart(
         height=height,
         **look(
             "Theme map",
-            "Close circles use similar words; larger circles lead more transcripts. "
-            "Click a theme to select it.",
+            "Close circles use similar words; larger circles lead more transcripts."
+            + (" Click a theme to select it." if interactive else ""),
         ),
     )
 

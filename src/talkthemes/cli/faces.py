@@ -77,9 +77,7 @@ def report(
         check_output(png, "--png", folder=True)
     ws = open_workspace(workspace)
     with progress_bar("report", enabled=not as_json) as update:
-        path = write_report(
-            ws, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=update
-        )
+        path = write_report(ws, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=update)
     if as_json:
         emit_json({"out": str(path), "png_dir": None if png is None else str(png)})
     else:

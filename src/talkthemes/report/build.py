@@ -11,6 +11,7 @@ from talkthemes.progress import report as tell
 from talkthemes.report import sections
 from talkthemes.report.page import Report, render_report
 from talkthemes.versions import load_version
+from talkthemes.view.counts import call_counts
 from talkthemes.view.metadata import load_metadata
 from talkthemes.view.readiness import readiness
 from talkthemes.view.theme_map import theme_layout
@@ -57,7 +58,7 @@ def build_report(
 
     tell(progress, 1, 5, "the sweep")
     body = [
-        sections.header(report, version, meta, table),
+        sections.header(report, version, meta, table, call_counts(ws, version)),
         sections.sweep_section(ws, version.info.get("sweep_id"), report),
     ]
     tell(progress, 2, 5, "the theme map")

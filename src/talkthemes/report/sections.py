@@ -20,10 +20,12 @@ from talkthemes.report.page import Report, chart_div
 from talkthemes.text import html_text, percent
 from talkthemes.versions import Version
 from talkthemes.view.calls import CallFilter, calls_table
-from talkthemes.view.choose_k import load_sweep, scalar_columns
+from talkthemes.view.choose_k import load_sweep, measure_text, scalar_columns
+from talkthemes.view.counts import CallCounts
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.over_time import trend_frame
 from talkthemes.view.theme_map import ThemeLayout
+from talkthemes.view.themes import boilerplate_advice
 from talkthemes.view.transcript import (
     TermHighlighter,
     excerpt,
@@ -45,8 +47,15 @@ __all__ = [
 log = logging.getLogger(__name__)
 
 
-def header(report: Report, version: Version, meta: MetaTable, table: pd.DataFrame) -> str:
-    """Title, what the version is, how many themes are labelled, and the page's contents."""
+def header(
+    report: Report,
+    version: Version,
+    meta: MetaTable,
+    table: pd.DataFrame,
+    counts: CallCounts | None = None,
+) -> str:
+    """Title, what the version is, how many themes are labelled, how many transcripts were
+    left out and why, and the page's contents."""
     info = version.info
     family = str(info.get("family"))
     parts = [
@@ -62,6 +71,8 @@ def header(report: Report, version: Version, meta: MetaTable, table: pd.DataFram
         + (f", {int(table['hidden'].sum())} hidden as noise" if table["hidden"].any() else "")
         + ".</p>"
     )
+    if counts is not None:
+        parts.append(f'<p class="caption">{html_text(counts.sentence())}</p>')
     parts.append(
         '<nav><a href="#choose-k">Choosing K</a><a href="#map">Theme map</a>'
         '<a href="#themes">Themes</a><a href="#over-time">Over time</a></nav></header>'
@@ -106,14 +117,17 @@ def sweep_section(ws: Workspace, sweep_id: int | None, report: Report) -> str:
                 '<p class="weak">A weak recommendation: no K gave themes that come back '
                 "with other random seeds often enough.</p>"
             )
-        parts.append(f'<p class="caption">Rule: {html_text(rec.get("rule", ""))}</p><ul>')
-        parts.extend(f"<li>{html_text(r)}</li>" for r in rec.get("reasons", []))
+        parts.append(
+            f'<p class="caption">Rule: {html_text(measure_text(rec.get("rule", "")))}</p><ul>'
+        )
+        parts.extend(f"<li>{html_text(measure_text(r))}</li>" for r in rec.get("reasons", []))
         parts.append("</ul>")
         runners = rec.get("runners_up") or []
         if runners:
             parts.append("<table><tr><th>Runner-up K</th><th>Why not</th></tr>")
             parts.extend(
-                f"<tr><td>{int(r['k'])}</td><td>{html_text(r.get('why_not', ''))}</td></tr>"
+                f"<tr><td>{int(r['k'])}</td>"
+                f"<td>{html_text(measure_text(r.get('why_not', '')))}</td></tr>"
                 for r in runners
             )
             parts.append("</table>")
@@ -125,7 +139,7 @@ def sweep_section(ws: Workspace, sweep_id: int | None, report: Report) -> str:
 def map_section(table: pd.DataFrame, layout: ThemeLayout, report: Report) -> str:
     """The theme map and its caption (the share of the differences the map keeps)."""
     report.charts["theme-map"] = charts.theme_map_chart(
-        table[["theme_id", "x", "y", "coverage", "name", "hidden"]]
+        table[["theme_id", "x", "y", "coverage", "name", "hidden"]], interactive=False
     )
     return (
         '<section id="map"><h2>Theme map</h2>'
@@ -173,6 +187,8 @@ def _card(
         )
         + "</div>",
     ]
+    if row.get("boilerplate_like") and not row["hidden"]:
+        parts.append(f'<p class="suggest">{html_text(boilerplate_advice(row))}</p>')
     if row["note"]:
         parts.append(f'<div class="note">{html_text(row["note"])}</div>')
     parts.append(
@@ -284,9 +300,20 @@ def trend_section(version: Version, meta: MetaTable, report: Report) -> str:
 
 
 def footer(version: Version) -> str:
-    """Which talkthemes made the report, when, and from which version and sweep cell."""
+    """Which talkthemes made the report, when, and from which version (and model)."""
+    info = version.info
+    model = [
+        str(FAMILY_NAMES.get(str(info.get("family")), info.get("family") or "")).strip(),
+        f"K = {version.k}",
+    ]
+    if info.get("seed") is not None:
+        model.append(f"seed {info['seed']}")
+    cell = str(info.get("cell") or "").strip()
+    if cell:
+        model.append(f"cell {cell}")
+    described = ", ".join(m for m in model if m)
     return (
         f"<footer>Made by talkthemes {html_text(__version__)} on "
         f"{dt.date.today():%d %B %Y} from version {version.n} "
-        f"(cell {html_text(version.info.get('cell', ''))}).</footer>"
+        f"({html_text(described)}).</footer>"
     )

@@ -9,23 +9,29 @@ from __future__ import annotations
 
 import pandas as pd
 
+from talkthemes.metrics.prominence import boilerplate_like
+from talkthemes.text import percent
 from talkthemes.versions import (
     Version,
     theme_name,  # compat: talkthemes.versions.naming after the merge
 )
 from talkthemes.view.theme_map import ThemeLayout
 
-__all__ = ["theme_names", "theme_table", "with_names"]
+__all__ = ["boilerplate_advice", "theme_names", "theme_table", "with_names"]
 
 
 def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> pd.DataFrame:
     """One row per theme of a version, in the version's row order.
 
     Columns: ``theme_id, position, name, label, note, hidden, status, coverage,
-    mean_share, x, y, top_terms`` (eight terms by relevance at ``lam``, as text).
+    mean_share, boilerplate_like, x, y, top_terms`` (eight terms by relevance at ``lam``,
+    as text). ``boilerplate_like`` marks a theme with a large average share that almost
+    never leads a transcript (:func:`talkthemes.metrics.prominence.boilerplate_like`):
+    suggested for hiding as noise unless it is hidden already.
     """
     names = theme_names(version)
     cov, mean = version.coverage(), version.mean_share()
+    suggest = boilerplate_like(cov, mean)
     rows = []
     for i, t in enumerate(version.themes):
         rows.append(
@@ -39,6 +45,7 @@ def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> p
                 "status": t["status"],
                 "coverage": float(cov[i]),
                 "mean_share": float(mean[i]),
+                "boilerplate_like": bool(suggest[i]),
                 "x": float(layout.x[i]),
                 "y": float(layout.y[i]),
                 "top_terms": ", ".join(
@@ -47,6 +54,15 @@ def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> p
             }
         )
     return pd.DataFrame(rows)
+
+
+def boilerplate_advice(row: pd.Series | dict) -> str:
+    """The suggestion shown on a boilerplate-like theme's card and tile (plain text)."""
+    return (
+        f"Looks like boilerplate: it takes {percent(row['mean_share'])} of the average "
+        f"transcript but leads only {percent(row['coverage'])} of them, like phrases said "
+        "in every call. Consider hiding it as noise."
+    )
 
 
 def theme_names(version: Version) -> list[str]:

@@ -46,12 +46,14 @@ from talkthemes.versions import Version
 from talkthemes.workspace import Workspace
 
 __all__ = [
+    "ROLE_NAMES",
     "Segment",
     "TermHighlighter",
     "TurnView",
     "excerpt",
     "lemma_table",
     "load_transcript",
+    "role_name",
     "segments_html",
     "transcript_html",
     "turn_views",
@@ -63,6 +65,15 @@ log = logging.getLogger(__name__)
 
 Segment = tuple[str, bool]
 """A piece of original text and whether it is highlighted."""
+
+#: How each role is written on every screen, whatever the transcript's own speaker labels
+#: were ("AGENT", "agent 2", a person's name): one spelling, and no name on screen.
+ROLE_NAMES: dict[str, str] = {"agent": "Agent", "customer": "Customer", "unknown": "Speaker"}
+
+
+def role_name(role: str) -> str:
+    """The name a turn's speaker is shown by: its role (``"Agent"``, ``"Customer"``)."""
+    return ROLE_NAMES.get(str(role).strip().lower(), ROLE_NAMES["unknown"])
 
 
 # --------------------------------------------------------------------------- lemmas
@@ -326,7 +337,7 @@ def transcript_html(turns: Sequence[TurnView]) -> str:
         parts.append(
             '<div class="tt-turn" style="margin:0 0 0.6rem 0">'
             f'<span class="tt-speaker" style="font-weight:600;color:{colour}">'
-            f"{html_text(t.speaker or t.role)}</span>"
+            f"{html_text(role_name(t.role))}</span>"
             + (
                 f' <span style="color:#6b6b6b;font-size:0.8rem">{html_text(when)}</span>'
                 if when
@@ -344,6 +355,7 @@ def excerpt(turns: Sequence[TurnView], *, max_chars: int = 280) -> tuple[str, li
     Returns
     -------
     speaker : str
+        The turn's role name (:func:`role_name`).
     segments : list of Segment
         At most about ``max_chars`` characters, with "…" where text was cut.
     """
@@ -352,7 +364,7 @@ def excerpt(turns: Sequence[TurnView], *, max_chars: int = 280) -> tuple[str, li
     best = max(turns, key=lambda t: (t.hits, -t.seq))
     text = "".join(s for s, _ in best.segments)
     if len(text) <= max_chars:
-        return best.speaker or best.role, list(best.segments)
+        return role_name(best.role), list(best.segments)
     first = 0
     pos = 0
     for s, hit in best.segments:
@@ -377,4 +389,4 @@ def excerpt(turns: Sequence[TurnView], *, max_chars: int = 280) -> tuple[str, li
         pos += len(s)
     if end < len(text):
         out.append((" …", False))
-    return best.speaker or best.role, out
+    return role_name(best.role), out
