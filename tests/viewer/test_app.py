@@ -80,7 +80,12 @@ def test_the_map_is_the_first_section_once_published(demo_ws, monkeypatch) -> No
     layout = theme_layout(version.topic_terms)
     share = retained_share(version.topic_terms, layout.x, layout.y)
     caption = next(c.value for c in at.caption if "keep" in c.value)
-    assert re.findall(r"\d+%", caption) == [f"{share:.0%}"]
+    assert re.findall(r"\d+%", caption)[0] == f"{share:.0%}"
+    # and the links' cut-off it states is the one the links were drawn under
+    from talkthemes.view.theme_map import theme_links
+
+    links, cutoff = theme_links(layout.distances, version.theme_ids)
+    assert f"under {cutoff:.3f} apart" in caption and (links["distance"] < cutoff).all()
 
 
 def test_choose_k_shows_the_picked_cell_and_the_recommendation(demo_ws, monkeypatch) -> None:

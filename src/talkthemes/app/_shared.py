@@ -27,7 +27,7 @@ from talkthemes.versions import Version, load_version
 from talkthemes.view.choose_k import load_prep_vocabulary
 from talkthemes.view.counts import CallCounts, call_counts
 from talkthemes.view.metadata import MetaTable, load_metadata
-from talkthemes.view.over_time import movers_frame, segment_frame, trend_frame
+from talkthemes.view.over_time import movers_frame, segment_frame, theme_trends, trend_frame
 from talkthemes.view.readiness import Need, NextStep, Readiness
 from talkthemes.view.readiness import readiness as workspace_readiness
 from talkthemes.view.theme_map import ThemeLayout, theme_layout
@@ -160,6 +160,17 @@ def metadata(ws: Workspace, version: Version) -> MetaTable:
 @st.cache_data(show_spinner=False, max_entries=8)
 def _trend(root: str, n: int, stamp: int, freq: str) -> pd.DataFrame:
     return trend_frame(_version(root, n, stamp), _metadata(root, n, stamp), freq)  # type: ignore[arg-type]
+
+
+@st.cache_data(show_spinner=False, max_entries=4)
+def _theme_trends(root: str, n: int, stamp: int) -> pd.DataFrame:
+    return theme_trends(_version(root, n, stamp), _metadata(root, n, stamp))
+
+
+def trends(ws: Workspace, version: Version) -> pd.DataFrame:
+    """How each theme is moving (last full period against the ones before; cached)."""
+    with st.spinner("Comparing the last full period with the ones before …"):
+        return _theme_trends(*version_key(ws, version.n))
 
 
 @st.cache_data(show_spinner=False, max_entries=16)

@@ -13,6 +13,7 @@ from talkthemes.report.page import Report, render_report
 from talkthemes.versions import load_version
 from talkthemes.view.counts import call_counts
 from talkthemes.view.metadata import load_metadata
+from talkthemes.view.over_time import theme_trends
 from talkthemes.view.readiness import readiness
 from talkthemes.view.theme_map import theme_layout
 from talkthemes.view.themes import theme_table
@@ -62,7 +63,7 @@ def build_report(
         sections.sweep_section(ws, version.info.get("sweep_id"), report),
     ]
     tell(progress, 2, 5, "the theme map")
-    body.append(sections.map_section(table, layout, report))
+    body.append(sections.map_section(table, layout, report, theme_trends(version, meta)))
     tell(progress, 3, 5, "the theme cards")
     body.append(
         sections.themes_section(

@@ -24,8 +24,8 @@ from talkthemes.view.choose_k import load_sweep, measure_text, scalar_columns
 from talkthemes.view.counts import CallCounts
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.over_time import trend_frame
-from talkthemes.view.theme_map import ThemeLayout
-from talkthemes.view.themes import boilerplate_advice
+from talkthemes.view.theme_map import ThemeLayout, theme_links
+from talkthemes.view.themes import boilerplate_advice, map_frame
 from talkthemes.view.transcript import (
     TermHighlighter,
     excerpt,
@@ -45,6 +45,8 @@ __all__ = [
 ]
 
 log = logging.getLogger(__name__)
+
+MAP_WIDTH = 940  # the report's text column (984 px) less the chart's padding
 
 
 def header(
@@ -136,10 +138,16 @@ def sweep_section(ws: Workspace, sweep_id: int | None, report: Report) -> str:
     return "".join(parts)
 
 
-def map_section(table: pd.DataFrame, layout: ThemeLayout, report: Report) -> str:
+def map_section(
+    table: pd.DataFrame,
+    layout: ThemeLayout,
+    report: Report,
+    trends: pd.DataFrame | None = None,
+) -> str:
     """The theme map and its caption (the share of the differences the map keeps)."""
+    links, cutoff = theme_links(layout.distances, table["theme_id"].astype(int).tolist())
     report.charts["theme-map"] = charts.theme_map_chart(
-        table[["theme_id", "x", "y", "coverage", "name", "hidden"]], interactive=False
+        map_frame(table, trends), links, width=MAP_WIDTH, interactive=False
     )
     return (
         '<section id="map"><h2>Theme map</h2>'
@@ -147,7 +155,8 @@ def map_section(table: pd.DataFrame, layout: ThemeLayout, report: Report) -> str
             "theme-map",
             charts.theme_map_caption(layout.explained)
             + " Closeness is the Jensen–Shannon distance between the themes' word "
-            "distributions; the axes have no unit.",
+            f"distributions; a line joins a theme to its closest themes under {cutoff:.3f} "
+            "apart. Rising and falling compare the last full period with the ones before.",
         )
         + "</section>"
     )

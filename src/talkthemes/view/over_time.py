@@ -10,6 +10,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any, Literal
 
+import numpy as np
 import pandas as pd
 
 from talkthemes.errors import InputError, NotReadyError
@@ -35,6 +36,7 @@ __all__ = [
     "period_choices",
     "segment_fields",
     "segment_frame",
+    "theme_trends",
     "trend_frame",
 ]
 
@@ -246,3 +248,31 @@ def movers_frame(
         version.lead(), mask_a, mask_b, version.k, n_boot=n_boot, seed=seed, **_theme_args(version)
     )
     return with_names(frame, version)
+
+
+def theme_trends(version: Version, meta: MetaTable) -> pd.DataFrame:
+    """How each theme is moving: the last full period against the ones before it.
+
+    Weeks for data spanning up to about four months, months beyond, compared as
+    :func:`talkthemes.view.over_time.default_comparison` does (like with like).
+
+    Returns
+    -------
+    DataFrame
+        ``theme_id, trend`` (``"rising"`` or ``"falling"`` when the 95% interval of the
+        change excludes zero, else ``"steady"``) and ``change`` (percentage points);
+        empty without dates or with fewer than two periods.
+    """
+    empty = pd.DataFrame(columns=["theme_id", "trend", "change"])
+    if meta.dates is None or meta.dates.dropna().empty:
+        return empty
+    dates = meta.dates.dropna()
+    freq = "week" if (dates.max() - dates.min()).days <= 120 else "month"
+    comparison = default_comparison(meta, freq)  # type: ignore[arg-type]
+    if comparison is None or not comparison.before:
+        return empty
+    mv = movers_frame(version, meta, freq, comparison.before, comparison.after)  # type: ignore[arg-type]
+    trend = np.where(mv["lo"] > 0, "rising", np.where(mv["hi"] < 0, "falling", "steady"))
+    return pd.DataFrame(
+        {"theme_id": mv["theme_id"].astype(int), "trend": trend, "change": mv["change"]}
+    )

@@ -7,6 +7,7 @@ they are now, every time; only the top terms are cached per loaded version.
 
 from __future__ import annotations
 
+import numpy as np
 import pandas as pd
 
 from talkthemes.metrics.prominence import boilerplate_like
@@ -17,13 +18,13 @@ from talkthemes.versions import (
 )
 from talkthemes.view.theme_map import ThemeLayout
 
-__all__ = ["boilerplate_advice", "theme_names", "theme_table", "with_names"]
+__all__ = ["boilerplate_advice", "map_frame", "theme_names", "theme_table", "with_names"]
 
 
 def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> pd.DataFrame:
     """One row per theme of a version, in the version's row order.
 
-    Columns: ``theme_id, position, name, label, note, hidden, status, coverage,
+    Columns: ``theme_id, position, name, label, labelled, note, hidden, status, coverage,
     mean_share, boilerplate_like, x, y, top_terms`` (eight terms by relevance at ``lam``,
     as text). ``boilerplate_like`` marks a theme with a large average share that almost
     never leads a transcript (:func:`talkthemes.metrics.prominence.boilerplate_like`):
@@ -40,6 +41,7 @@ def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> p
                 "position": i,
                 "name": names[i],
                 "label": t["label"],
+                "labelled": bool(str(t["label"] or "").strip()),
                 "note": t["note"],
                 "hidden": bool(t["hidden"]),
                 "status": t["status"],
@@ -90,4 +92,21 @@ def with_names(frame: pd.DataFrame, version: Version) -> pd.DataFrame:
     out = frame.copy()
     out["name"] = out["theme_id"].map(names).astype(str)
     out["hidden"] = out["theme_id"].map(hidden).astype(bool)
+    return out
+
+
+def map_frame(table: pd.DataFrame, trends: pd.DataFrame | None = None) -> pd.DataFrame:
+    """The theme table with each theme's trend, as the theme map takes it.
+
+    ``trends`` is :func:`talkthemes.view.over_time.theme_trends` (``theme_id, trend,
+    change``); themes without one are ``"steady"``.
+    """
+    cols = ["theme_id", "x", "y", "coverage", "name", "labelled", "hidden", "boilerplate_like"]
+    out = table[cols].copy()
+    if trends is not None and not trends.empty:
+        by_id = trends.set_index("theme_id")
+        out["trend"] = out["theme_id"].map(by_id["trend"]).fillna("steady")
+        out["change"] = out["theme_id"].map(by_id["change"])
+    else:
+        out["trend"], out["change"] = "steady", np.nan
     return out
