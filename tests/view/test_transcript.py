@@ -75,7 +75,7 @@ def test_transcript_html_escapes_speakers_and_text() -> None:
         StoredTurn(1, "", "customer", None, None, "ok"),
         StoredTurn(2, "caller", "unknown", None, None, "hm"),
     ]
-    views = turn_views(turns, TermHighlighter(["bill"]))
+    views = turn_views(turns, TermHighlighter(["bill"]), masked=False)
     out = transcript_html(views)
     assert "<script>" not in out and "&lt;script&gt;" in out
     assert '<mark class="tt-hit">bill</mark>' in out and "1:05" in out

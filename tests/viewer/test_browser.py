@@ -168,6 +168,15 @@ class Page:
         }}"""
         )
 
+    def choose(self, label: str, text: str) -> None:
+        """Pick an option of the select box labelled ``label`` by typing it, as a user does."""
+        box = self.page.locator('[data-testid="stSelectbox"]').filter(has_text=label).first
+        field = box.locator("input").first
+        field.click()
+        field.fill(text)
+        self.page.get_by_role("option").filter(has_text=text).first.click()
+        self.settle()
+
     def close(self) -> None:
         self.context.close()
 
@@ -236,3 +245,22 @@ def test_the_report_draws_every_chart_offline(report_file, browser) -> None:
     assert "could not be drawn" not in text and "Click a theme" not in text
     assert not re.search(r"\(cell \)", text)
     assert not tab.errors, tab.errors
+
+
+def test_planted_personal_data_never_reaches_the_screen(viewer, page, browser_ws) -> None:
+    from tests.viewer.conftest import PII, PII_ID
+
+    from talkthemes.versions import load_version
+
+    version = load_version(browser_ws)
+    pos = int(version.lead()[version.doc_ids.index(PII_ID)])
+    page.open(f"{viewer}/calls", "Calls")
+    page.choose("Theme", f"(#{version.theme_ids[pos]})")
+    page.choose("Open a transcript", PII_ID)
+    page.page.locator(".tt-transcript .tt-masked").first.wait_for(timeout=60_000)
+    text = page.text()
+    assert "Brisha" not in text and PII_ID in text  # the planted call is the one open
+    assert not [p for p in PII if p in text]
+    masked = page.page.locator(".tt-transcript .tt-masked").all_inner_texts()
+    assert {"name", "e-mail", "number", "card number", "phone number", "address"} <= set(masked)
+    assert_clean(page)

@@ -16,7 +16,7 @@ from talkthemes.view.transcript import TermHighlighter, load_transcript
 
 def test_readiness_of_the_demo_workspace(demo_ws) -> None:
     r = readiness(demo_ws.ws)
-    assert r.has_workspace and r.transcripts == 401 and r.prepared
+    assert r.has_workspace and r.transcripts == 402 and r.prepared
     assert r.sweep_scored and r.version == 1
     assert r.blocker("version") is None and r.blocker("sweep") is None and r.next_step is None
 

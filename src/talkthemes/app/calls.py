@@ -21,6 +21,7 @@ from talkthemes.view.metadata import MetaTable
 from talkthemes.view.transcript import (
     TermHighlighter,
     load_transcript,
+    original_allowed,
     transcript_html,
     version_lemmas,
 )
@@ -110,7 +111,7 @@ def render() -> None:
     pos = version.position(tid)
     flt = _filters(meta)
     try:
-        frame = calls_table(version, meta, pos, flt)
+        frame = calls_table(version, meta, pos, flt, masked=not original_allowed(ws))
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return

@@ -9,7 +9,7 @@ from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.metrics.prominence import boilerplate_like
 from talkthemes.text import md_inline, percent
-from talkthemes.view.themes import boilerplate_advice, theme_names
+from talkthemes.view.themes import boilerplate_advice, term_rows, theme_names
 from talkthemes.workspace import Workspace
 
 LAMBDA_HELP = (
@@ -125,7 +125,7 @@ def render() -> None:
     with editor:
         _editor(ws, theme)
         st.page_link("calls.py", label="Read the calls it leads", icon=":material/call:")
-    terms = version.term_table(pos, n=n, lam=lam)
+    terms = term_rows(version, pos, n=n, lam=lam)
     _shared.show_chart("terms", terms, name, width=560)
 
 

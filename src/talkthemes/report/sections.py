@@ -25,7 +25,7 @@ from talkthemes.view.counts import CallCounts
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.over_time import trend_frame
 from talkthemes.view.theme_map import ThemeLayout, theme_links
-from talkthemes.view.themes import boilerplate_advice, map_frame
+from talkthemes.view.themes import boilerplate_advice, map_frame, term_rows
 from talkthemes.view.transcript import (
     TermHighlighter,
     excerpt,
@@ -174,7 +174,7 @@ def _card(
     report: Report,
 ) -> str:
     pos, tid = int(row["position"]), int(row["theme_id"])
-    terms = version.term_table(pos, n=15, lam=lam)
+    terms = term_rows(version, pos, n=15, lam=lam)
     chart_id = f"theme-{tid}-terms"
     report.charts[chart_id] = charts.term_chart(terms, str(row["name"]), width=520)
     coherence = (version.info.get("coherence") or {}).get("c_npmi")

@@ -10,6 +10,7 @@ import numpy as np
 import pandas as pd
 
 from talkthemes.errors import InputError
+from talkthemes.privacy import mask_text
 from talkthemes.text import csv_frame
 from talkthemes.versions import Version
 from talkthemes.view.metadata import MetaTable
@@ -87,7 +88,12 @@ def _field_mask(meta: MetaTable, flt: CallFilter) -> np.ndarray:
 
 
 def calls_table(
-    version: Version, meta: MetaTable, position: int, flt: CallFilter | None = None
+    version: Version,
+    meta: MetaTable,
+    position: int,
+    flt: CallFilter | None = None,
+    *,
+    masked: bool = True,
 ) -> pd.DataFrame:
     """The transcripts of a theme, most dominated first.
 
@@ -99,6 +105,9 @@ def calls_table(
     position : int
         The theme's row in the version.
     flt : CallFilter, optional
+    masked : bool
+        Mask personal data in free-text metadata fields (:func:`talkthemes.privacy.
+        mask_text`); pass False only where the workspace allows the original text.
 
     Returns
     -------
@@ -134,6 +143,10 @@ def calls_table(
         }
     )
     extra = meta.frame.iloc[rows].reset_index(drop=True)
+    if masked:
+        for name, info in meta.fields.items():
+            if info.kind == "text" and name in extra:
+                extra[name] = extra[name].map(lambda v: None if v is None else mask_text(str(v)))
     return pd.concat([out, extra], axis=1)
 
 

@@ -11,6 +11,7 @@ import numpy as np
 import pandas as pd
 
 from talkthemes.metrics.prominence import boilerplate_like
+from talkthemes.privacy import name_term
 from talkthemes.text import percent
 from talkthemes.versions import (
     Version,
@@ -18,7 +19,15 @@ from talkthemes.versions import (
 )
 from talkthemes.view.theme_map import ThemeLayout
 
-__all__ = ["boilerplate_advice", "map_frame", "theme_names", "theme_table", "with_names"]
+__all__ = [
+    "boilerplate_advice",
+    "map_frame",
+    "shown_terms",
+    "term_rows",
+    "theme_names",
+    "theme_table",
+    "with_names",
+]
 
 
 def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> pd.DataFrame:
@@ -51,7 +60,7 @@ def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> p
                 "x": float(layout.x[i]),
                 "y": float(layout.y[i]),
                 "top_terms": ", ".join(
-                    w.replace("_", " ") for w in version.top_terms(i, 8, lam=lam)
+                    w.replace("_", " ") for w in shown_terms(version, i, 8, lam)
                 ),
             }
         )
@@ -67,6 +76,25 @@ def boilerplate_advice(row: pd.Series | dict) -> str:
     )
 
 
+def shown_terms(version: Version, position: int, n: int = 10, lam: float = 1.0) -> list[str]:
+    """A theme's ``n`` top terms at ``lam`` as screens show them: person names left out.
+
+    Terms holding a first name (:func:`talkthemes.privacy.name_term`, e.g. an agent's
+    name said in every greeting) are personal data; they are skipped and the next terms
+    take their place.
+    """
+    return term_rows(version, position, n=n, lam=lam)["term"].tolist()
+
+
+def term_rows(version: Version, position: int, *, n: int = 20, lam: float = 0.6) -> pd.DataFrame:
+    """``Version.term_table`` of a theme without person-name terms (see :func:`shown_terms`)."""
+    table = version.term_table(position, n=n + 25, lam=lam)
+    keep = ~table["term"].map(name_term).astype(bool)
+    out = table[keep].head(n).reset_index(drop=True)
+    out["rank"] = range(1, len(out) + 1)
+    return out
+
+
 def theme_names(version: Version) -> list[str]:
     """Each theme's display name: its label, or its three top terms until labelled.
 
@@ -76,7 +104,7 @@ def theme_names(version: Version) -> list[str]:
     cache = getattr(version, "_cache", None)
     top3 = cache.get("view.top3") if cache is not None else None
     if top3 is None:
-        top3 = [version.top_terms(i, 3) for i in range(version.k)]
+        top3 = [shown_terms(version, i, 3) for i in range(version.k)]
         if cache is not None:
             cache["view.top3"] = top3
     return [theme_name(t["label"], top3[i]) for i, t in enumerate(version.themes)]

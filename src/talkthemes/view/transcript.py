@@ -41,6 +41,7 @@ import numpy as np
 
 from talkthemes.errors import InputError, TalkthemesError
 from talkthemes.prepare.lemmas import load_lemma_table
+from talkthemes.privacy import html_pieces, masker_for, plain
 from talkthemes.text import html_text
 from talkthemes.versions import Version
 from talkthemes.workspace import Workspace
@@ -53,8 +54,10 @@ __all__ = [
     "excerpt",
     "lemma_table",
     "load_transcript",
+    "original_allowed",
     "role_name",
     "segments_html",
+    "segments_text",
     "transcript_html",
     "turn_views",
     "version_lang",
@@ -273,16 +276,42 @@ class TurnView:
         return sum(1 for _, h in self.segments if h)
 
 
-def turn_views(turns: Iterable[Any], highlighter: TermHighlighter) -> list[TurnView]:
-    """Cut stored turns (:class:`talkthemes.store.StoredTurn`) into highlighted segments."""
+def turn_views(
+    turns: Iterable[Any], highlighter: TermHighlighter, *, masked: bool = True
+) -> list[TurnView]:
+    """Cut stored turns (:class:`talkthemes.store.StoredTurn`) into highlighted segments.
+
+    With ``masked`` (the default) personal data is masked first
+    (:func:`talkthemes.privacy.masker_for`, which learns the names in the speaker labels
+    and turns of the transcript): the segments then hold placeholders, which
+    :func:`segments_html` and :func:`segments_text` show as "[name]", "[e-mail]"…
+    """
+    turns = list(turns)
+    masker = masker_for(turns) if masked else None
     return [
-        TurnView(int(t.seq), str(t.speaker), str(t.role), t.start, highlighter.segments(t.text))
+        TurnView(
+            int(t.seq),
+            str(t.speaker),
+            str(t.role),
+            t.start,
+            highlighter.segments(masker.mask(t.text) if masker is not None else t.text),
+        )
         for t in turns
     ]
 
 
-def load_transcript(ws: Workspace, tid: str, highlighter: TermHighlighter) -> list[TurnView]:
+def original_allowed(ws: Workspace) -> bool:
+    """Whether the workspace allows the original text (``[view] original_text``)."""
+    return bool(ws.settings().view.original_text)
+
+
+def load_transcript(
+    ws: Workspace, tid: str, highlighter: TermHighlighter, *, masked: bool | None = None
+) -> list[TurnView]:
     """A stored transcript's turns with the highlighter's terms marked.
+
+    Personal data is masked unless ``masked`` is False or, when it is None (the
+    default), the workspace allows the original text (:func:`original_allowed`).
 
     Raises
     ------
@@ -293,20 +322,40 @@ def load_transcript(ws: Workspace, tid: str, highlighter: TermHighlighter) -> li
         turns = store.get_turns(tid)
     if not turns:
         raise InputError(f"there is no transcript {tid!r} in the workspace")
-    return turn_views(turns, highlighter)
+    if masked is None:
+        masked = not original_allowed(ws)
+    return turn_views(turns, highlighter, masked=masked)
+
+
+def _piece_html(text: str) -> str:
+    return "".join(
+        html_text(piece)
+        if kind is None
+        else f'<span class="tt-masked" title="masked: {html_text(piece)}" '
+        f'style="{_MASKED_STYLE}">{html_text(piece)}</span>'
+        for piece, kind in html_pieces(text)
+    )
+
+
+_MASKED_STYLE = "background:#ececec;color:#4a4a4a;border-radius:3px;padding:0 3px;font-size:0.85em"
 
 
 def segments_html(segments: Iterable[Segment], *, mark_class: str = "tt-hit") -> str:
     """HTML for segments, built only from :func:`talkthemes.text.html_text`-escaped pieces.
 
-    Highlighted pieces are wrapped in ``<mark class="...">``; nothing of the text is ever
-    interpreted as markup.
+    Highlighted pieces are wrapped in ``<mark class="...">``; masked personal data shows
+    as a grey "name", "e-mail"… tag; nothing of the text is ever interpreted as markup.
     """
     cls = html_text(mark_class)
     return "".join(
-        f'<mark class="{cls}">{html_text(text)}</mark>' if hit else html_text(text)
+        f'<mark class="{cls}">{_piece_html(text)}</mark>' if hit else _piece_html(text)
         for text, hit in segments
     )
+
+
+def segments_text(segments: Iterable[Segment]) -> str:
+    """Segments as plain text, masked data written as "[name]", "[e-mail]"…"""
+    return plain("".join(text for text, _ in segments))
 
 
 def _clock(seconds: float | None) -> str:
