@@ -55,6 +55,7 @@ __all__ = [
     "first_names",
     "html_pieces",
     "mask_text",
+    "mask_value",
     "masker_for",
     "name_term",
     "plain",
@@ -366,9 +367,14 @@ class Masker:
         found in its other turns); matched as whole words, any case.
     lang : str
         Language of the text, for the everyday words (default English).
+    cues : bool
+        Read names from cues in the text (off for short values such as a metadata cell,
+        where a lone capitalised word is a place or a queue, not someone answering "can
+        I take your name?").
     """
 
-    def __init__(self, names: Iterable[str] = (), *, lang: str = "en") -> None:
+    def __init__(self, names: Iterable[str] = (), *, lang: str = "en", cues: bool = True) -> None:
+        self.cues = bool(cues)
         self.everyday = everyday_words(lang)
         self.stop = stop_words()
         self.first = first_names()
@@ -385,6 +391,8 @@ class Masker:
 
     def _cued(self, text: str) -> list[re.Match[str]]:
         """Capitalised words a cue marks as a person's name (introduced or spoken to)."""
+        if not self.cues:
+            return []
         found = [*_CUES.finditer(text), *_VOCATIVE.finditer(text), *_ALONE.finditer(text)]
         return [m for m in found if self._cue_ok(m.group(1))]
 
@@ -474,6 +482,12 @@ def name_term(term: str) -> bool:
     return any(
         p.capitalize() in names and p not in everyday for p in str(term).lower().split("_") if p
     )
+
+
+def mask_value(value: str) -> str:
+    """A metadata value masked as "[name]" text: the chain's verdict, addresses and names
+    from the first-name list, no cues (see :class:`Masker`)."""
+    return plain(Masker(cues=False).mask(str(value)))
 
 
 def mask_text(text: str, *, names: Iterable[str] = ()) -> str:

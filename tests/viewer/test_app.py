@@ -156,6 +156,9 @@ def test_calls_filters_the_list_and_offers_csv(demo_ws, monkeypatch) -> None:
     at = run(open_app(demo_ws.ws.root, monkeypatch), "calls.py")
     everything = at.dataframe[0].value
     assert len(everything) > 0 and everything["share"].is_monotonic_decreasing
+    # readable at a glance: each call's best sentence beside its id
+    assert list(everything.columns[:2]) == ["transcript_id", "best_sentence"]
+    assert (everything["best_sentence"].str.len() > 0).mean() > 0.8
     at.multiselect(key="calls_field_queue").set_value(["billing"])
     run(at)
     billing = at.dataframe[0].value

@@ -26,6 +26,7 @@ from talkthemes.text import md_inline
 from talkthemes.versions import Version, load_version
 from talkthemes.view.choose_k import load_prep_vocabulary
 from talkthemes.view.counts import CallCounts, call_counts
+from talkthemes.view.evidence import best_sentences
 from talkthemes.view.metadata import MetaTable, load_metadata
 from talkthemes.view.over_time import movers_frame, segment_frame, theme_trends, trend_frame
 from talkthemes.view.readiness import Need, NextStep, Readiness
@@ -215,6 +216,26 @@ def movers(
         pool = tuple(pd.Timestamp(b).isoformat() for b in before)
         frame = _movers(*version_key(ws, version.n), freq, pool, after.isoformat())
         return with_names(frame, version)
+
+
+@st.cache_data(show_spinner=False, max_entries=32)
+def _sentences(
+    root: str, n: int, stamp: int, ids: tuple[str, ...], positions: tuple[int, ...], lam: float,
+    masked: bool,
+) -> list[str]:  # fmt: skip
+    return best_sentences(
+        Workspace(root), _version(root, n, stamp), ids, positions, lam=lam, masked=masked
+    )
+
+
+def sentences(
+    ws: Workspace, version: Version, ids: list[str], positions: list[int], *, masked: bool
+) -> list[str]:
+    """Each call's best sentence for the theme at ``positions`` (cached per list)."""
+    lam = relevance_lambda(ws)
+    with st.spinner(f"Picking the best sentence of {len(ids):,} calls …"):
+        key = version_key(ws, version.n)
+        return _sentences(*key, tuple(ids), tuple(int(p) for p in positions), lam, masked)
 
 
 @st.cache_resource(show_spinner=False, max_entries=2)

@@ -17,6 +17,7 @@ from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline, percent
 from talkthemes.view.calls import CallFilter, calls_csv, calls_table
+from talkthemes.view.evidence import best_sentences
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.transcript import (
     TermHighlighter,
@@ -27,6 +28,7 @@ from talkthemes.view.transcript import (
 )
 
 MAX_LISTED = 1000  # rows shown in the table; the CSV export has them all
+MAX_SENTENCES = 200  # rows of the table that show their best sentence
 HIGHLIGHT_TERMS = 20
 OPEN_KEY = "calls_open"
 TABLE_KEY = "calls_table"
@@ -101,6 +103,24 @@ def _on_table_select(ids: list[str]) -> None:
         st.session_state[OPEN_KEY] = ids[rows[0]]
 
 
+def _with_sentences(ws, version, frame, masked: bool):
+    """The full list with every call's best sentence, as the CSV download writes it."""
+    out = frame.copy()
+    out.insert(
+        1,
+        "best_sentence",
+        best_sentences(
+            ws,
+            version,
+            out["transcript_id"].astype(str).tolist(),
+            [version.position(int(t)) for t in out["lead_theme_id"]],
+            lam=_shared.relevance_lambda(ws),
+            masked=masked,
+        ),
+    )
+    return out
+
+
 def render() -> None:
     """The Calls section."""
     ws = _shared.gate("version")
@@ -122,16 +142,32 @@ def render() -> None:
         + md_inline(_shared.counts(ws, version).sentence())
         + (f" The table lists the first {MAX_LISTED:,}." if len(frame) > MAX_LISTED else "")
     )
-    shown = frame.head(MAX_LISTED)
+    shown = frame.head(MAX_LISTED).copy()
     ids = shown["transcript_id"].astype(str).tolist()
+    masked = not original_allowed(ws)
+    head = shown.head(MAX_SENTENCES)
+    picked = _shared.sentences(
+        ws,
+        version,
+        head["transcript_id"].astype(str).tolist(),
+        [version.position(int(t)) for t in head["lead_theme_id"]],
+        masked=masked,
+    )
+    shown.insert(1, "best_sentence", picked + [""] * (len(shown) - len(picked)))
     st.dataframe(
-        shown,
+        shown.drop(columns=["lead_theme_id"]),
         hide_index=True,
         key=TABLE_KEY,
         on_select=lambda: _on_table_select(ids),
         selection_mode="single-row",
         column_config={
             "transcript_id": st.column_config.TextColumn("Transcript"),
+            "best_sentence": st.column_config.TextColumn(
+                "Best sentence",
+                width="large",
+                help="The sentence of the call that holds the most of its lead theme's "
+                "words, the customer's first; personal data masked.",
+            ),
             "share": st.column_config.ProgressColumn(
                 "Share of this theme", format="percent", min_value=0.0, max_value=1.0
             ),
@@ -146,7 +182,7 @@ def render() -> None:
     )
     st.download_button(
         "Download the list (CSV)",
-        data=lambda: calls_csv(frame),
+        data=lambda: calls_csv(_with_sentences(ws, version, frame, masked), meta),
         file_name=f"theme-{tid}-calls.csv",
         mime="text/csv",
         on_click="ignore",
