@@ -74,5 +74,5 @@ def test_csv_and_parquet_with_a_companion(version, tmp_path) -> None:
     parquet = write_export(tables, tmp_path / "shares.parquet")
     back = pd.read_parquet(parquet[0])
     assert list(back.columns) == list(tables.shares.columns)
-    with pytest.raises(InputError, match="csv or a .parquet"):
+    with pytest.raises(InputError, match=r"csv or a \.parquet"):
         write_export(tables, tmp_path / "shares.xlsx")

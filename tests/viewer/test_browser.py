@@ -32,6 +32,7 @@ CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
 
 pytestmark = [
     pytest.mark.browser,
+    pytest.mark.slow,  # one viewer for the module; about 1.5 min in all
     pytest.mark.skipif(
         CHROMIUM is None, reason="needs Debian's chromium: apt-get install -y chromium"
     ),
@@ -150,6 +151,15 @@ class Page:
         time.sleep(0.8)  # the last chart's transitions
         self.page.wait_for_function(IDLE, timeout=120_000)
 
+    def wait_text(self, text: str, timeout: float = 60_000) -> None:
+        """Wait until ``text`` shows anywhere on the page (charts included)."""
+        self.page.wait_for_function(
+            "t => document.body.innerText.includes(t) || [...document.querySelectorAll("
+            "'svg text')].some(e => e.textContent.includes(t))",
+            arg=text,
+            timeout=timeout,
+        )
+
     def text(self) -> str:
         """What a reader sees: page text, chart text and the values in input boxes."""
         return self.page.evaluate(
@@ -263,4 +273,85 @@ def test_planted_personal_data_never_reaches_the_screen(viewer, page, browser_ws
     assert not [p for p in PII if p in text]
     masked = page.page.locator(".tt-transcript .tt-masked").all_inner_texts()
     assert {"name", "e-mail", "number", "card number", "phone number", "address"} <= set(masked)
+    assert_clean(page)
+
+
+def test_pick_a_theme_on_the_map_and_land_on_its_card(viewer, page, browser_ws) -> None:
+    from talkthemes.versions import load_version
+    from talkthemes.view.themes import theme_names
+
+    version = load_version(browser_ws)
+    names = theme_names(version)
+    smallest = int(version.coverage().argmin())  # not the theme selected at first
+    page.open(f"{viewer}/theme-map", "Theme map")
+    page.settle(charts=1)
+    first_line = page.page.locator(f"{CHART} svg text").filter(
+        has_text=names[smallest].split(" · ")[0]
+    )
+    first_line.first.click()
+    page.page.locator("h3", has_text=f"Selected: {names[smallest]}").wait_for(timeout=60_000)
+    page.page.get_by_role("link", name="Open its card").click()
+    page.page.locator("h1", has_text="Theme cards").wait_for(timeout=60_000)
+    page.settle(charts=1)
+    headings = [h.strip() for h in page.page.locator("h3").all_inner_texts()]
+    assert names[smallest] in headings
+    assert page.page.url.rstrip("/").endswith("/theme-cards")
+    assert_clean(page)
+
+
+def test_a_label_typed_on_a_card_shows_in_calls_over_time_and_the_report(
+    viewer, page, browser_ws, tmp_path
+) -> None:
+    from talkthemes.report import write_report
+
+    label = "Outage callbacks & <crews>"
+    page.open(f"{viewer}/theme-cards", "Theme cards")
+    field = page.page.get_by_label("Label", exact=True)
+    field.fill(label)
+    field.press("Enter")
+    page.page.get_by_text("saved", exact=False).first.wait_for(timeout=30_000)
+    page.settle(charts=1)
+    assert label in page.page.locator("h3").all_inner_texts()
+    page.open(f"{viewer}/calls", "Calls")
+    box = page.page.locator('[data-testid="stSelectbox"]').filter(has_text="Theme").first
+    sync_api.expect(box.locator("input").first).to_have_value(
+        re.compile(re.escape(label)), timeout=60_000
+    )  # the theme picked in Calls goes by its new label
+    page.open(f"{viewer}/over-time", "Over time")
+    page.settle(charts=3)
+    page.wait_text(label)
+    assert label in page.page.locator(f"{CHART} svg text").all_text_contents()
+    assert_clean(page)
+    report = write_report(browser_ws, tmp_path / "themes.html")
+    tab = Page(page.context.browser, offline=True)
+    try:
+        tab.page.goto(report.resolve().as_uri())
+        tab.page.locator("h3", has_text=label).first.wait_for(timeout=60_000)
+        assert label in tab.page.locator("article h3").all_inner_texts()
+    finally:
+        tab.close()
+
+
+def test_filter_calls_by_a_metadata_value(viewer, page, browser_ws) -> None:
+    from talkthemes.versions import load_version
+    from talkthemes.view.calls import CallFilter, calls_table
+    from talkthemes.view.metadata import load_metadata
+
+    version = load_version(browser_ws)
+    meta = load_metadata(browser_ws, version.doc_ids)
+    pos = int(version.coverage().argmax())
+    everything = len(calls_table(version, meta, pos))
+    billing = len(calls_table(version, meta, pos, CallFilter(categories={"queue": ["billing"]})))
+    assert 0 < billing < everything
+    page.open(f"{viewer}/calls", "Calls")
+    caption = page.page.get_by_text("transcripts match", exact=False).first
+    assert caption.inner_text().startswith(f"{everything:,} transcripts match")
+    queue = page.page.locator('[data-testid="stMultiSelect"]').filter(has_text="Queue").first
+    queue.locator("input").first.click()
+    page.page.get_by_role("option", name="billing", exact=True).click()
+    page.page.keyboard.press("Escape")
+    page.settle()
+    page.page.get_by_text(f"{billing:,} transcripts match", exact=False).first.wait_for(
+        timeout=60_000
+    )
     assert_clean(page)
