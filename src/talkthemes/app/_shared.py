@@ -220,9 +220,14 @@ def movers(
 
 @st.cache_data(show_spinner=False, max_entries=32)
 def _sentences(
-    root: str, n: int, stamp: int, ids: tuple[str, ...], positions: tuple[int, ...], lam: float,
+    root: str,
+    n: int,
+    stamp: int,
+    ids: tuple[str, ...],
+    positions: tuple[int, ...],
+    lam: float,
     masked: bool,
-) -> list[str]:  # fmt: skip
+) -> list[str]:
     return best_sentences(
         Workspace(root), _version(root, n, stamp), ids, positions, lam=lam, masked=masked
     )

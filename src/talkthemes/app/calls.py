@@ -16,6 +16,7 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline, percent
+from talkthemes.versions import Version
 from talkthemes.view.calls import CallFilter, calls_csv, calls_table
 from talkthemes.view.evidence import best_sentences
 from talkthemes.view.metadata import MetaTable
@@ -26,6 +27,7 @@ from talkthemes.view.transcript import (
     transcript_html,
     version_lemmas,
 )
+from talkthemes.workspace import Workspace
 
 MAX_LISTED = 1000  # rows shown in the table; the CSV export has them all
 MAX_SENTENCES = 200  # rows of the table that show their best sentence
@@ -103,7 +105,9 @@ def _on_table_select(ids: list[str]) -> None:
         st.session_state[OPEN_KEY] = ids[rows[0]]
 
 
-def _with_sentences(ws, version, frame, masked: bool):
+def _with_sentences(
+    ws: Workspace, version: Version, frame: pd.DataFrame, masked: bool
+) -> pd.DataFrame:
     """The full list with every call's best sentence, as the CSV download writes it."""
     out = frame.copy()
     out.insert(

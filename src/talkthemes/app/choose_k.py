@@ -65,8 +65,8 @@ def _runner_line(runner: dict, rec: dict) -> str:
     """One runner-up as a list item, its reason in full (a table column would cut it)."""
     facts = []
     if runner.get("coherence") is not None:
-        facts.append(f"coherence ({measure_name(rec.get('rank_by', 'c_npmi'))}) "
-                     f"{float(runner['coherence']):.3f}")  # fmt: skip
+        measure = measure_name(rec.get("rank_by", "c_npmi"))
+        facts.append(f"coherence ({measure}) {float(runner['coherence']):.3f}")
     if runner.get("stability") is not None:
         facts.append(f"stability {float(runner['stability']):.2f}")
     head = f"K = {int(runner['k'])}" + (f" ({', '.join(facts)})" if facts else "")
