@@ -80,7 +80,12 @@ def test_the_map_is_the_first_section_once_published(demo_ws, monkeypatch) -> No
     layout = theme_layout(version.topic_terms)
     share = retained_share(version.topic_terms, layout.x, layout.y)
     caption = next(c.value for c in at.caption if "keep" in c.value)
-    assert re.findall(r"\d+%", caption) == [f"{share:.0%}"]
+    assert re.findall(r"\d+%", caption)[0] == f"{share:.0%}"
+    # and the links' cut-off it states is the one the links were drawn under
+    from talkthemes.view.theme_map import theme_links
+
+    links, cutoff = theme_links(layout.distances, version.theme_ids)
+    assert f"under {cutoff:.3f} apart" in caption and (links["distance"] < cutoff).all()
 
 
 def test_choose_k_shows_the_picked_cell_and_the_recommendation(demo_ws, monkeypatch) -> None:
@@ -151,6 +156,9 @@ def test_calls_filters_the_list_and_offers_csv(demo_ws, monkeypatch) -> None:
     at = run(open_app(demo_ws.ws.root, monkeypatch), "calls.py")
     everything = at.dataframe[0].value
     assert len(everything) > 0 and everything["share"].is_monotonic_decreasing
+    # readable at a glance: each call's best sentence beside its id
+    assert list(everything.columns[:2]) == ["transcript_id", "best_sentence"]
+    assert (everything["best_sentence"].str.len() > 0).mean() > 0.8
     at.multiselect(key="calls_field_queue").set_value(["billing"])
     run(at)
     billing = at.dataframe[0].value
@@ -167,19 +175,43 @@ def test_calls_filters_the_list_and_offers_csv(demo_ws, monkeypatch) -> None:
 
 
 def test_over_time_controls(demo_ws, monkeypatch) -> None:
+    from talkthemes.view.over_time import default_comparison, full_periods
+
     at = run(open_app(demo_ws.ws.root, monkeypatch), "over_time.py")
+    meta = _shared.metadata(demo_ws.ws, load_version(demo_ws.ws))
+    weekly = default_comparison(meta, "week")
+    # like with like: the last full week against the 4 full weeks before it
+    assert at.selectbox(key="time_after_week").value == weekly.after
+    assert weekly.after == full_periods(meta, "week")[-1] and len(weekly.before) == 4
+    assert at.number_input(key="time_baseline_week").value == 4
     at.radio(key="time_freq").set_value("month")
     run(at)
     at.selectbox(key="time_field").select("duration_s")
     run(at)
     assert len(charts(at)) == 3
-    before = at.selectbox(key="time_before_month")
-    after = at.selectbox(key="time_after_month")
-    assert str(after.value) > str(before.value)
-    before.select(after.value)
+    assert at.selectbox(key="time_field").format_func("duration_s") == "Duration (min)"
+    assert "duration_s" not in texts(at)
+    at.number_input(key="time_baseline_month").set_value(1)
     run(at)
-    assert any("two different periods" in w.value for w in at.warning)
-    assert len(charts(at)) == 2
+    assert any("transcripts) to" in c.value for c in at.caption)
+
+
+def test_cards_say_the_relevance_sentence_once_and_measures_read_as_written(
+    demo_ws, monkeypatch
+) -> None:
+    from talkthemes.app.theme_cards import LAMBDA_HELP
+
+    at = run(open_app(demo_ws.ws.root, monkeypatch), "theme_cards.py")
+    shown = texts(at)
+    assert shown.count(LAMBDA_HELP[:40]) <= 1 and "C_NPMI" in at.metric[2].label
+    assert "left out" in shown  # the counts say who is not in the themes, and why
+    run(at, "choose_k.py")
+    shown = texts(at)
+    assert "c_npmi" not in shown and "Runners-up, and why not" in shown
+    with demo_ws.ws.store() as store:
+        rec = store.get_sweep()["recommendations"]["nmf"]
+    for runner in rec["runners_up"]:  # each reason in full, never cut by a column
+        assert md_inline(runner["why_not"].replace("c_npmi", "C_NPMI")) in shown
 
 
 # --------------------------------------------------------------------------- publishing

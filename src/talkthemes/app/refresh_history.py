@@ -24,6 +24,7 @@ from talkthemes.view.history import (
     versions_timeline,
 )
 from talkthemes.view.readiness import NextStep
+from talkthemes.view.transcript import original_allowed
 from talkthemes.workspace import Workspace
 
 PICK = "history_version"
@@ -74,9 +75,9 @@ def _theme_list(items: list[ThemeChange], status: str) -> None:
     st.markdown("\n".join(lines))
 
 
-def _examples(report: dict[str, Any], labels: dict[int, str]) -> None:
+def _examples(report: dict[str, Any], labels: dict[int, str], *, masked: bool) -> None:
     st.subheader("The new themes' example calls")
-    frame = new_theme_examples(report, labels)
+    frame = new_theme_examples(report, labels, masked=masked)
     if frame.empty:
         st.caption("This refresh found no new theme.")
         return
@@ -147,7 +148,7 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
             "theme leads before (ring) and after (dot) the refresh."
         )
         labels = {int(t["theme_id"]): t["label"] for t in themes}
-        _examples(report, labels)
+        _examples(report, labels, masked=not original_allowed(ws))
 
 
 def _refresh_log(ws: Workspace) -> None:

@@ -7,8 +7,9 @@ import streamlit as st
 
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
+from talkthemes.metrics.prominence import boilerplate_like
 from talkthemes.text import md_inline, percent
-from talkthemes.view.themes import theme_names
+from talkthemes.view.themes import boilerplate_advice, term_rows, theme_names
 from talkthemes.workspace import Workspace
 
 LAMBDA_HELP = (
@@ -97,8 +98,16 @@ def render() -> None:
         )
     st.caption(
         f"Theme #{tid} · {md_inline(theme['status'])} in version {version.n} · "
-        f"about {round(cov * len(version.doc_ids)):,} transcripts"
+        f"leads {int((version.lead() == pos).sum()):,} of the version's "
+        f"{len(version.doc_ids):,} transcripts. "
+        + md_inline(_shared.counts(ws, version).sentence())
     )
+    if (
+        bool(boilerplate_like(version.coverage(), version.mean_share())[pos])
+        and not theme["hidden"]
+    ):
+        row = {"mean_share": mean, "coverage": cov}
+        st.warning(md_inline(boilerplate_advice(row)), icon=":material/visibility_off:")
 
     controls, editor = st.columns([3, 2], gap="large")
     with controls:
@@ -112,12 +121,11 @@ def render() -> None:
             on_change=lambda: _shared.set_relevance_lambda(st.session_state["cards_lambda"]),
             help=LAMBDA_HELP,
         )
-        st.caption(LAMBDA_HELP)
         n = st.slider("Words shown", min_value=5, max_value=40, value=15, key="cards_n")
     with editor:
         _editor(ws, theme)
         st.page_link("calls.py", label="Read the calls it leads", icon=":material/call:")
-    terms = version.term_table(pos, n=n, lam=lam)
+    terms = term_rows(version, pos, n=n, lam=lam)
     _shared.show_chart("terms", terms, name, width=560)
 
 

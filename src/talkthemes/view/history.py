@@ -2,7 +2,7 @@
 
 Inputs are what the store and a version's ``drift.json`` hold
 (:meth:`talkthemes.store.Store.versions`, :meth:`~talkthemes.store.Store.themes`,
-:meth:`~talkthemes.store.Store.retired_themes`, :func:`talkthemes.versions.drift.drift_report`);
+:meth:`~talkthemes.store.Store.retired_themes`, :func:`talkthemes.drift.drift_report`);
 outputs are plain frames and dataclasses the page shows (the timeline is drawn by
 :func:`talkthemes.charts.timeline_chart`). Only :func:`load_drift` reads a file. Theme names
 are the labels as they are now, or three top terms, so a label edited after a refresh shows
@@ -19,6 +19,7 @@ from typing import Any
 import pandas as pd
 
 from talkthemes.errors import InputError
+from talkthemes.privacy import mask_text
 from talkthemes.versions.naming import theme_name
 from talkthemes.workspace import Workspace
 
@@ -240,23 +241,26 @@ def report_top_terms(report: Mapping[str, Any] | None) -> dict[int, list[str]]:
 
 
 def new_theme_examples(
-    report: Mapping[str, Any], labels: Mapping[int, str] | None = None
+    report: Mapping[str, Any], labels: Mapping[int, str] | None = None, *, masked: bool = True
 ) -> pd.DataFrame:
     """The new transcripts that best show each new theme, from a drift report.
 
     Parameters
     ----------
     report : mapping
-        A drift report (:func:`talkthemes.versions.drift.drift_report`).
+        A drift report (:func:`talkthemes.drift.drift_report`).
     labels : mapping of int to str, optional
         Current labels by theme id (the report's names are those at refresh time).
+    masked : bool
+        Mask personal data in the excerpts (:func:`talkthemes.privacy.mask_text`); pass
+        False only where the workspace allows the original text.
 
     Returns
     -------
     DataFrame
         ``theme_id, theme, transcript_id, share, excerpt``: one row per example, new
-        themes in id order, examples by decreasing share. Text is returned as is (the
-        page escapes it).
+        themes in id order, examples by decreasing share. Text is not escaped (the page
+        escapes it).
     """
     labels = labels or {}
     rows = []
@@ -272,7 +276,9 @@ def new_theme_examples(
                     "theme": name,
                     "transcript_id": str(e["transcript_id"]),
                     "share": float(e["share"]),
-                    "excerpt": str(e.get("excerpt", "")),
+                    "excerpt": mask_text(str(e.get("excerpt", "")))
+                    if masked
+                    else str(e.get("excerpt", "")),
                 }
             )
     return pd.DataFrame(rows, columns=["theme_id", "theme", "transcript_id", "share", "excerpt"])
