@@ -6,12 +6,12 @@ from pathlib import Path
 
 import pytest
 
-from talkthemes.workspace import Workspace
+from talkthemes.workspace import WorkspaceDir
 
 
 @pytest.fixture
-def ws(tmp_path: Path) -> Workspace:
+def ws(tmp_path: Path) -> WorkspaceDir:
     """A fresh, initialised workspace in a temporary folder."""
-    w = Workspace(tmp_path / "ws")
+    w = WorkspaceDir(tmp_path / "ws")
     w.init()
     return w

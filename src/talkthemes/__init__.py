@@ -16,7 +16,7 @@ from talkthemes.errors import (
     WorkspaceBusyError,
 )
 from talkthemes.ingest.model import Reject, Transcript, Turn
-from talkthemes.workspace import Workspace
+from talkthemes.workspace import WorkspaceDir
 
 __version__ = "0.1.0"
 
@@ -30,8 +30,8 @@ __all__ = [
     "TalkthemesError",
     "Transcript",
     "Turn",
-    "Workspace",
     "WorkspaceBusyError",
+    "WorkspaceDir",
     "__version__",
     "load_settings",
 ]

@@ -32,7 +32,7 @@ from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec
 from talkthemes.progress import Progress, report
 from talkthemes.versions.export import write_table
 from talkthemes.versions.load import Version, load_version
-from talkthemes.workspace import Workspace
+from talkthemes.workspace import WorkspaceDir
 
 __all__ = [
     "MANIFEST_NAMES",
@@ -249,7 +249,7 @@ def _batches(
 
 
 def assign(
-    ws: Workspace,
+    ws: WorkspaceDir,
     paths: Sequence[Path],
     *,
     out: Path,
@@ -263,7 +263,7 @@ def assign(
 
     Parameters
     ----------
-    ws : Workspace
+    ws : WorkspaceDir
     paths : sequence of Path
         Transcript files, tables and folders (any supported format).
     out : Path

@@ -41,7 +41,7 @@ from typer.core import TyperGroup
 from talkthemes.errors import InputError, NotReadyError, TalkthemesError
 from talkthemes.progress import Progress, silent
 from talkthemes.text import terminal_text
-from talkthemes.workspace import Workspace, resolve_workspace
+from talkthemes.workspace import WorkspaceDir, resolve_workspace
 
 __all__ = [
     "JsonOpt",
@@ -219,7 +219,7 @@ def progress_bar(label: str, *, enabled: bool = True) -> Iterator[Progress]:
 # -- the workspace ----------------------------------------------------------------------------
 def open_workspace(
     path: Path | None, *, create: bool = False, create_flag: str | None = None
-) -> Workspace:
+) -> WorkspaceDir:
     """The workspace named by ``--workspace`` (or the environment, or the default).
 
     Only ``init`` creates a workspace, or a command given its ``--create`` flag: a mistyped
@@ -239,7 +239,7 @@ def open_workspace(
     NotReadyError
         When there is no workspace at that path and ``create`` is false (exit 2).
     """
-    ws = Workspace(resolve_workspace(path))
+    ws = WorkspaceDir(resolve_workspace(path))
     if ws.exists():
         return ws
     if create:
@@ -249,7 +249,7 @@ def open_workspace(
     raise NotReadyError(f"no workspace at {ws.root}: run 'talkthemes init {ws.root}' first{hint}")
 
 
-def lock(ws: Workspace, command: str, wait: bool) -> Any:
+def lock(ws: WorkspaceDir, command: str, wait: bool) -> Any:
     """The workspace's writer lock for ``command``; with ``wait``, say so and wait."""
     return ws.lock(command, wait=wait, on_wait=lambda message: say(message, "; waiting…"))
 

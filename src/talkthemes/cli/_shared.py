@@ -22,7 +22,7 @@ from rich.text import Text
 from talkthemes.cli._common import cell, line, out, say
 from talkthemes.errors import ConfigError
 from talkthemes.text import percent
-from talkthemes.workspace import Workspace
+from talkthemes.workspace import WorkspaceDir
 
 __all__ = [
     "SweepTable",
@@ -224,7 +224,7 @@ def print_sweep(result: Any) -> None:
 
 
 # -- the sweep's recommendation ---------------------------------------------------------------
-def recommended_cell(ws: Workspace, family: str | None) -> tuple[str, int]:
+def recommended_cell(ws: WorkspaceDir, family: str | None) -> tuple[str, int]:
     """(family, K) of the latest finished sweep's recommendation (best family if none given).
 
     Raises

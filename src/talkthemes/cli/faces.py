@@ -23,7 +23,7 @@ from talkthemes.cli._common import (
     say,
 )
 from talkthemes.cli._shared import ThemesTable, print_sweep, recommended_cell
-from talkthemes.workspace import Workspace, resolve_workspace
+from talkthemes.workspace import WorkspaceDir, resolve_workspace
 
 __all__ = ["demo", "report", "view"]
 
@@ -43,7 +43,7 @@ def view(
     _serve(ws, host or settings.host, port or settings.port, open_browser=open_browser)
 
 
-def _serve(ws: Workspace, host: str, port: int, *, open_browser: bool = False) -> NoReturn:
+def _serve(ws: WorkspaceDir, host: str, port: int, *, open_browser: bool = False) -> NoReturn:
     # deferred: see the module docstring
     from talkthemes.serve import serve as run_serve
 
@@ -104,7 +104,7 @@ def demo(
     as_json: JsonOpt = False,
 ) -> None:
     """Generate the invented demo corpus and run the whole pipeline on it, then view it."""
-    ws = Workspace(resolve_workspace(workspace))
+    ws = WorkspaceDir(resolve_workspace(workspace))
     ws.init()  # the demo builds its own workspace
     with ws.store() as store:
         existing = store.current_version()
@@ -148,7 +148,7 @@ def demo(
 
 
 def _run_demo(
-    ws: Workspace, *, size: int, seed: int, k: str, seeds: int, refresh: bool, quiet: bool
+    ws: WorkspaceDir, *, size: int, seed: int, k: str, seeds: int, refresh: bool, quiet: bool
 ) -> tuple[dict[str, Any], list[dict[str, Any]]]:
     """Write the invented corpus into the workspace and run every stage on it.
 

@@ -27,7 +27,7 @@ from talkthemes.cli._common import (
 )
 from talkthemes.cli._shared import ThemesTable, print_sweep, recommended_cell
 from talkthemes.errors import ConfigError
-from talkthemes.workspace import Workspace
+from talkthemes.workspace import WorkspaceDir
 
 __all__ = ["publish", "sweep"]
 
@@ -142,7 +142,7 @@ def _check_choice(
         raise ConfigError("--recommended chooses K itself: give it without --k and --cell")
 
 
-def _check_cell(ws: Workspace, cell: str, *, k: int | None, family: str | None) -> None:
+def _check_cell(ws: WorkspaceDir, cell: str, *, k: int | None, family: str | None) -> None:
     """Refuse ``--k``/``--family`` that disagree with the cell ``--cell`` names."""
     with ws.store() as store:
         found = next(
@@ -163,7 +163,7 @@ def _check_cell(ws: Workspace, cell: str, *, k: int | None, family: str | None) 
         )
 
 
-def _make_current(ws: Workspace, version: int, *, as_json: bool) -> None:
+def _make_current(ws: WorkspaceDir, version: int, *, as_json: bool) -> None:
     """``publish --version N``: make a kept version current again."""
     # deferred: loading a version reads numpy arrays (see module doc)
     from talkthemes.versions.load import load_version

@@ -18,7 +18,7 @@ from talkthemes.cli._common import (
     out,
     say,
 )
-from talkthemes.workspace import Workspace, resolve_workspace
+from talkthemes.workspace import WorkspaceDir, resolve_workspace
 
 __all__ = ["init", "status", "status_data"]
 
@@ -31,7 +31,7 @@ def init(
     as_json: JsonOpt = False,
 ) -> None:
     """Create a workspace: a commented talkthemes.toml with every default and an empty store."""
-    ws = Workspace(folder if folder else resolve_workspace(workspace))
+    ws = WorkspaceDir(folder if folder else resolve_workspace(workspace))
     created = ws.init()
     if as_json:
         emit_json({"workspace": str(ws.root), "created": created})
@@ -41,7 +41,7 @@ def init(
         say(f"Workspace {ws.root} already exists; nothing changed.")
 
 
-def status_data(ws: Workspace) -> dict[str, Any]:
+def status_data(ws: WorkspaceDir) -> dict[str, Any]:
     """Everything ``status`` shows, as a JSON-ready dict."""
     # deferred: the sweep package pulls in Dask and the models (see module doc)
     from talkthemes.sweep.state import sweep_overview

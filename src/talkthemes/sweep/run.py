@@ -37,7 +37,7 @@ from talkthemes.sweep.recommend import Recommendation, recommend
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
 from talkthemes.sweep.state import run_info
-from talkthemes.workspace import Workspace
+from talkthemes.workspace import WorkspaceDir
 
 __all__ = ["SweepResult", "load_current_prep", "run_sweep", "sweep_settings"]
 
@@ -58,7 +58,7 @@ def _checkpoint(stage: str) -> None:
         time.sleep(seconds)
 
 
-def load_current_prep(ws: Workspace) -> tuple[dict[str, Any], Path]:
+def load_current_prep(ws: WorkspaceDir) -> tuple[dict[str, Any], Path]:
     """The current prep's record and folder, or :class:`NotReadyError` naming the command."""
     with ws.store() as store:
         prep = store.current_prep()
@@ -99,7 +99,7 @@ class SweepResult:
         }
 
 
-def sweep_settings(ws: Workspace, **updates: Any) -> SweepSettings:
+def sweep_settings(ws: WorkspaceDir, **updates: Any) -> SweepSettings:
     """The workspace's ``[sweep]`` settings with the given values (``None`` = keep) applied."""
     settings = ws.settings().sweep
     given = {k: v for k, v in updates.items() if v is not None}
@@ -158,7 +158,7 @@ def _client(settings: SweepSettings) -> Iterator[Any]:
 
 
 def run_sweep(
-    ws: Workspace,
+    ws: WorkspaceDir,
     *,
     k: str | None = None,
     families: Sequence[str] | None = None,
@@ -175,7 +175,7 @@ def run_sweep(
 
     Parameters
     ----------
-    ws : Workspace
+    ws : WorkspaceDir
     k : str, optional
         Topic-count grid, see :func:`~talkthemes.sweep.grid.parse_k`.
     families : sequence of str, optional
@@ -247,7 +247,7 @@ def run_sweep(
 
 
 def _open_record(
-    ws: Workspace,
+    ws: WorkspaceDir,
     found: dict[str, Any] | None,
     prep_hash: str,
     key: str,
@@ -273,7 +273,7 @@ def _open_record(
 
 
 def _score(
-    ws: Workspace,
+    ws: WorkspaceDir,
     sweep_id: int,
     folder: Path,
     corpus: PreparedCorpus,
@@ -327,7 +327,7 @@ def _load_finished(folder: Path, record: dict[str, Any]) -> SweepResult | None:
 
 
 def _run_cells(
-    ws: Workspace,
+    ws: WorkspaceDir,
     client: Any,
     sweep_id: int,
     folder: Path,

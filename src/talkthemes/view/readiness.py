@@ -13,7 +13,7 @@ from pathlib import Path
 from typing import Literal
 
 from talkthemes.errors import InputError
-from talkthemes.workspace import Workspace
+from talkthemes.workspace import WorkspaceDir
 
 __all__ = ["Need", "NextStep", "Readiness", "readiness"]
 
@@ -132,12 +132,12 @@ class Readiness:
         return self.blocker("version")
 
 
-def readiness(ws: Workspace) -> Readiness:
+def readiness(ws: WorkspaceDir) -> Readiness:
     """Look at a workspace without changing it: what exists, what is missing.
 
     Parameters
     ----------
-    ws : Workspace
+    ws : WorkspaceDir
 
     Returns
     -------
