@@ -10,8 +10,9 @@
 * **paths** — one :class:`~pathlib.Path` or a list of them: files and folders in any format
   ingest reads (a ``manifest.*`` at the top of a folder is skipped, as by ``assign``).
 
-Rows of an in-memory table are counted from 0, as list positions and ``DataFrame.iloc``
-count them, in messages and in the ids of rows without one (``frame-3``).
+An empty list or frame gives no transcripts. Rows of an in-memory table are counted from 0,
+as list positions and ``DataFrame.iloc`` count them, in messages and in the ids of rows
+without one (``frame-3``).
 """
 
 from __future__ import annotations
@@ -62,13 +63,15 @@ def read_inputs(data: Any, settings: IngestSettings) -> Iterator[Item]:
     if isinstance(data, os.PathLike):
         return _paths([Path(data)], settings)
     if _is_frame(data):
-        return _frame(data, settings)
+        return _frame(data, settings) if len(data) else iter(())
     if not isinstance(data, Sequence):
         raise InputError(
             f"assign: cannot read a {type(data).__name__}: give a list of texts, "
             "a DataFrame, or paths"
         )
     items = list(data)
+    if not items:
+        return iter(())
     if all(isinstance(x, str) for x in items):
         return _texts(items, settings)
     if all(isinstance(x, os.PathLike) for x in items):

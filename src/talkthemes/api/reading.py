@@ -153,6 +153,13 @@ class ReadingMixin(WorkspaceBase):
 
         The file is written to a temporary name and moved into place.
 
+        Parameters
+        ----------
+        path : path
+            A ``.csv`` or ``.parquet`` file name.
+        version : int, optional
+            Default: the current version.
+
         Returns
         -------
         Export

@@ -21,26 +21,26 @@ class Workspace(WritingMixin, ReadingMixin):
         ws.ingest(paths)  →  ws.prepare()  →  ws.sweep(k="4:16:2")  →  ws.publish(...)
         ws.themes(), ws.shares(), ws.label(theme_id, "…"), ws.assign(texts), ws.refresh()
 
-    ==================  ========================================================  =======
-    method              does                                                      lock
-    ==================  ========================================================  =======
-    ``ingest``          read transcripts and manifests into the store             writer
-    ``prepare``         run the preprocessing chain into a cached prep            writer
-    ``sweep``           fit and score a grid of K × family × seed; recommend K    writer
-    ``publish``         refit one choice on every transcript as the next version  writer
-    ``make_current``    make a kept version current again                         writer
-    ``refresh``         ingest, retrain, keep identities, report drift, publish   writer
-    ``assign_files``    shares of transcripts in files, written to a table        with
-                                                                                  store
-    ``label``           a theme's label, note or hidden flag                      —
-    ``status``          what the workspace holds, where each stage stands         —
-    ``version``         a published version, loaded read-only                     —
-    ``themes``          a version's themes (DataFrame)                            —
-    ``shares``          every transcript's shares (DataFrame)                     —
-    ``export``          the shares as CSV or Parquet                              —
-    ``recommendation``  the latest sweep's recommended K                          —
-    ``assign``          shares of new texts, frames or files (DataFrame)          —
-    ==================  ========================================================  =======
+    ===================  ========================================================  ========
+    method               does                                                      lock
+    ===================  ========================================================  ========
+    ``ingest``           read transcripts and manifests into the store             writer
+    ``prepare``          run the preprocessing chain into a cached prep            writer
+    ``sweep``            fit and score a grid of K × family × seed; recommend K    writer
+    ``publish``          refit one choice on every transcript as the next version  writer
+    ``make_current``     make a kept version current again                         writer
+    ``refresh``          ingest, retrain, keep identities, report drift, publish   writer
+    ``assign_files``     shares of transcripts in files, written to a table        if store
+    ``label``            a theme's label, note or hidden flag                      —
+    ``status``           what the workspace holds, where each stage stands         —
+    ``current_version``  the current version's number (None before a publish)      —
+    ``version``          a published version, loaded read-only                     —
+    ``themes``           a version's themes (DataFrame)                            —
+    ``shares``           every transcript's shares (DataFrame)                     —
+    ``export``           the shares as CSV or Parquet                              —
+    ``recommendation``   the latest sweep's recommended K                          —
+    ``assign``           shares of new texts, frames or files (DataFrame)          —
+    ===================  ========================================================  ========
 
     Writers take the workspace's single-writer lock themselves: with ``wait=False`` (the
     default) a busy workspace raises :class:`~talkthemes.WorkspaceBusyError`; with
