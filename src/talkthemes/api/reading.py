@@ -234,7 +234,9 @@ class ReadingMixin(WorkspaceBase):
         NotReadyError
             When nothing is published yet.
         """
-        n = version if version is not None else self.version().n
+        n = version if version is not None else self.current_version()
+        if n is None:
+            raise NotReadyError("no version published yet: run 'talkthemes publish' first")
         assigner = self._versions.assigner(self._dir, int(n))
         items = read_inputs(data, self.settings().ingest)
         with assigner.lock:
