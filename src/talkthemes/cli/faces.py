@@ -1,8 +1,9 @@
 """``view``, ``report`` and ``demo``: the viewer, the offline HTML report, the guided demo.
 
-The library modules behind these commands are imported inside them on purpose: they pull
-in Streamlit, Altair, pandas and the whole pipeline, and ``talkthemes --help`` imports
-every command module.
+The work happens in :class:`talkthemes.Workspace`. The faces these commands start (the
+viewer's server, the report, the demo's corpus writer) are imported inside them on purpose:
+they pull in Streamlit, Altair and pandas, and ``talkthemes --help`` imports every command
+module.
 """
 
 from __future__ import annotations
