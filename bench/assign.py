@@ -38,11 +38,11 @@ def setup(root: Path, train: int, family: str, k: int) -> float:
     from talkthemes.sweep.run import load_current_prep
     from talkthemes.versions.fit import fit_version
     from talkthemes.versions.write import write_version
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
     t0 = time.perf_counter()
     files = write_demo(root / "train", size=train, seed=7)
-    ws = WorkspaceDir(root / "ws")
+    ws = Workspace(root / "ws")
     ws.init()
     with ws.lock("bench"):
         ingest(ws, [files.exports], manifests=[files.manifest])
@@ -61,11 +61,11 @@ def child(root: Path) -> dict[str, float]:
     import spacy  # noqa: F401
 
     from talkthemes.assign import assign
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
     imports = time.perf_counter() - t0
     result = assign(
-        WorkspaceDir(root / "ws"),
+        Workspace(root / "ws"),
         [root / "new" / "exports"],
         out=root / "shares.parquet",
     )

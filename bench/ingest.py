@@ -23,7 +23,7 @@ from pathlib import Path
 from talkthemes.demo.calls import iter_demo_calls
 from talkthemes.demo.render import render_txt
 from talkthemes.ingest.run import ingest
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 
 def main() -> None:
@@ -53,7 +53,7 @@ def main() -> None:
 
         times = []
         for r in range(args.repeat):
-            ws = WorkspaceDir(tmp / f"ws{r}")
+            ws = Workspace(tmp / f"ws{r}")
             ws.init()
             t0 = time.perf_counter()
             with ws.lock("bench"):

@@ -46,10 +46,10 @@ def _prepared_workspace(n: int, seed: int, root: Path) -> tuple[Path, Path]:
     from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
     files = write_demo(root / "src", size=n, seed=seed)
-    ws = WorkspaceDir(root / "ws")
+    ws = Workspace(root / "ws")
     ws.init()
     with ws.lock("bench"):
         ingest(ws, [files.exports], manifests=[files.manifest])
@@ -89,7 +89,7 @@ def main() -> None:
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.sweep.run import load_current_prep
     from talkthemes.sweep.split import split_rows, subsample_rows
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=1200)
@@ -109,7 +109,7 @@ def main() -> None:
             root, truth_file = keep / "ws", keep / "src" / "truth.csv"
         else:
             root, truth_file = _prepared_workspace(args.n, args.corpus_seed, keep or tmp)
-        _, folder = load_current_prep(WorkspaceDir(root))
+        _, folder = load_current_prep(Workspace(root))
         corpus = PreparedCorpus.load(folder)
         with truth_file.open(newline="", encoding="utf-8") as fh:
             reason = {row["call_id"]: row["primary_reason"] for row in csv.DictReader(fh)}

@@ -30,10 +30,10 @@ def _prepared_workspace(n: int, root: Path) -> Path:
     from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.run import run_prepare
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
     files = write_demo(root / "src", size=n, seed=21)
-    ws = WorkspaceDir(root / "ws")
+    ws = Workspace(root / "ws")
     ws.init()
     with ws.lock("bench"):
         ingest(ws, [files.exports], manifests=[files.manifest])
@@ -51,7 +51,7 @@ def main() -> None:
     from talkthemes.prepare.corpus import PreparedCorpus
     from talkthemes.sweep.run import load_current_prep
     from talkthemes.sweep.split import split_rows
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=6000)
@@ -63,7 +63,7 @@ def main() -> None:
     tmp = Path(tempfile.mkdtemp(prefix="tt-bench-estep-"))
     try:
         root = args.workspace or _prepared_workspace(args.n, tmp)
-        _, folder = load_current_prep(WorkspaceDir(root))
+        _, folder = load_current_prep(Workspace(root))
         corpus = PreparedCorpus.load(folder)
         train, _ = split_rows(corpus.doc_ids, 0.1)
         counts = corpus.counts.tocsr()[train]

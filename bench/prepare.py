@@ -43,9 +43,9 @@ def setup(root: Path, n: int, seed: int, n_process: int) -> dict[str, float]:
     from talkthemes.config import PrepareSettings, Settings, render_settings
     from talkthemes.demo.calls import iter_demo_calls
     from talkthemes.ingest.model import Transcript, Turn
-    from talkthemes.workspace import WorkspaceDir, atomic_write_text
+    from talkthemes.workspace import Workspace, atomic_write_text
 
-    ws = WorkspaceDir(root)
+    ws = Workspace(root)
     reuse = ws.exists()
     ws.init()
     settings = Settings(prepare=PrepareSettings(n_process=n_process))
@@ -83,9 +83,9 @@ def measure(root: Path, sample: int, spacy_sample: int, repeat: int = 1) -> dict
     from talkthemes.prepare.chain import build_processor
     from talkthemes.prepare.roles import select_turns
     from talkthemes.prepare.scrub import scrub
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
-    ws = WorkspaceDir(root)
+    ws = Workspace(root)
     totals: list[float] = []
     runs: list[dict[str, float]] = []
     for _ in range(repeat):

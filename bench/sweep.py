@@ -38,7 +38,7 @@ def main() -> None:
     from talkthemes.sweep.run import run_sweep
     from talkthemes.sweep.split import split_rows
     from talkthemes.versions.publish import publish
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=20000)
@@ -62,7 +62,7 @@ def main() -> None:
         t = time.perf_counter()
         files = write_demo(tmp / "src", size=args.n, seed=21)
         print(f"generate {args.n:,} calls: {time.perf_counter() - t:.1f} s (not counted)")
-        ws = WorkspaceDir(root)
+        ws = Workspace(root)
         ws.init()
         stages: dict[str, float] = {}
         with ws.lock("bench"):

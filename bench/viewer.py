@@ -42,9 +42,9 @@ def build(root: Path, size: int, k: int) -> None:
     from talkthemes.prepare.run import run_prepare
     from talkthemes.sweep.run import run_sweep
     from talkthemes.versions.publish import publish
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
-    ws = WorkspaceDir(root)
+    ws = Workspace(root)
     ws.init()
     t0 = time.perf_counter()
     log(f"writing {size:,} demo calls …")
@@ -86,14 +86,14 @@ def main() -> int:
     from talkthemes.charts.theme_map import theme_map_chart
     from talkthemes.charts.trends import movers_chart, segment_chart, trend_chart
     from talkthemes.versions.load import load_version
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
     tmp = None
     root = args.workspace
     if root is None:
         tmp = Path(tempfile.mkdtemp(prefix="tt-bench-viewer-"))
         root = tmp / "ws"
-    ws = WorkspaceDir(root)
+    ws = Workspace(root)
     if view.readiness(ws).version is None:
         build(root, args.size, args.k)
 

@@ -6,12 +6,12 @@ from pathlib import Path
 
 import pytest
 
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 
 @pytest.fixture
-def ws(tmp_path: Path) -> WorkspaceDir:
+def ws(tmp_path: Path) -> Workspace:
     """A fresh, initialised workspace in a temporary folder."""
-    w = WorkspaceDir(tmp_path / "ws")
+    w = Workspace(tmp_path / "ws")
     w.init()
     return w

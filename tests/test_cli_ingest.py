@@ -179,9 +179,9 @@ def test_missing_path_is_rejected_not_a_crash(tmp_path: Path) -> None:
 
 
 def test_busy_workspace_message(tmp_path: Path, exports: Path) -> None:
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
-    w = WorkspaceDir(tmp_path / "w")
+    w = Workspace(tmp_path / "w")
     w.init()
     with w.lock("refresh"):
         code, _, err = _run("ingest", str(exports), "--workspace", str(w.root))

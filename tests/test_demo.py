@@ -387,7 +387,7 @@ def test_per_turn_csv_is_split_into_parts_that_ingest_whole(
     """Large demos write several per-turn CSV parts (the default size limit would refuse one
     huge file); every call lands in exactly one part and every part ingests."""
     from talkthemes.ingest.run import ingest
-    from talkthemes.workspace import WorkspaceDir
+    from talkthemes.workspace import Workspace
 
     monkeypatch.setattr(writer, "CSV_CALLS_PER_FILE", 20)
     files = write_demo(tmp_path / "out", size=300, seed=3)
@@ -396,7 +396,7 @@ def test_per_turn_csv_is_split_into_parts_that_ingest_whole(
     ids_per_part = [{row["call_id"] for row in _read_csv(p)} for p in parts]
     assert all(len(ids) == 20 for ids in ids_per_part[:-1])
     assert sum(map(len, ids_per_part)) == len(set().union(*ids_per_part)) == files.counts["csv"]
-    ws = WorkspaceDir(tmp_path / "ws")
+    ws = Workspace(tmp_path / "ws")
     ws.init()
     with ws.lock("test"):
         report = ingest(ws, [files.exports], manifests=[files.manifest])

@@ -7,10 +7,10 @@ from pathlib import Path
 
 from talkthemes.demo.writer import write_demo
 from talkthemes.ingest.run import PARALLEL_MIN_FILES, ingest
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 
-def _stored(ws: WorkspaceDir) -> list[tuple[str, str, int]]:
+def _stored(ws: Workspace) -> list[tuple[str, str, int]]:
     with ws.store() as store:
         return store._conn.execute(
             "SELECT tid, content_hash, n_words FROM transcripts ORDER BY tid"
@@ -21,7 +21,7 @@ def test_parallel_and_serial_ingest_store_the_same(tmp_path: Path) -> None:
     files = write_demo(tmp_path / "src", size=PARALLEL_MIN_FILES + 250, seed=4)
     results = []
     for workers in (1, 2):
-        ws = WorkspaceDir(tmp_path / f"ws{workers}")
+        ws = Workspace(tmp_path / f"ws{workers}")
         ws.init()
         with ws.lock("test"):
             report = ingest(ws, [files.exports], manifests=[files.manifest], workers=workers)

@@ -27,7 +27,7 @@ from talkthemes.demo.planted import (
 from talkthemes.errors import InputError
 from talkthemes.ingest.model import normalised_hash
 from talkthemes.ingest.run import ingest
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 GREETING = "ambry vale railways"
 CLOSING = re.compile(r"is there anything else i can (help you with today|do for you)")
@@ -210,7 +210,7 @@ def test_files_ingest_whole_with_dates(tmp_path: Path) -> None:
     first = (files.exports / "calls" / f"{txt[0]}.txt").read_text(encoding="utf-8")
     assert all(re.match(r"(Agent|Customer): \S", line) for line in first.splitlines())
 
-    ws = WorkspaceDir(tmp_path / "ws")
+    ws = Workspace(tmp_path / "ws")
     ws.init()
     with ws.lock("test"):
         report = ingest(ws, [files.exports], manifests=[files.manifest])

@@ -20,7 +20,7 @@ from talkthemes.sweep.split import split_rows
 from talkthemes.versions.export import export_shares
 from talkthemes.versions.load import load_version
 from talkthemes.versions.publish import publish
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 
 @pytest.mark.parametrize(
@@ -59,20 +59,20 @@ def test_split_is_stable_per_id_and_near_the_share() -> None:
 
 
 @pytest.fixture(scope="module")
-def bars_ws(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
-    ws = WorkspaceDir(tmp_path_factory.mktemp("bars") / "ws")
+def bars_ws(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
+    ws = Workspace(tmp_path_factory.mktemp("bars") / "ws")
     ws.init()
     _, _, texts = make_bars_corpus(400, seed=3)
     install_prep(ws, pixel_names(), texts)
     return ws
 
 
-def test_sweep_without_prep_names_the_command(ws: WorkspaceDir) -> None:
+def test_sweep_without_prep_names_the_command(ws: Workspace) -> None:
     with pytest.raises(NotReadyError, match="talkthemes prepare"):
         run_sweep(ws, k="4,5", families=["nmf"], seeds=1)
 
 
-def test_sweep_runs_scores_recommends_and_is_reused(bars_ws: WorkspaceDir) -> None:
+def test_sweep_runs_scores_recommends_and_is_reused(bars_ws: Workspace) -> None:
     seen: list[tuple[int, int]] = []
     res = run_sweep(
         bars_ws,
@@ -102,7 +102,7 @@ def test_sweep_runs_scores_recommends_and_is_reused(bars_ws: WorkspaceDir) -> No
     assert again.recommendations["lda"].k == res.recommendations["lda"].k
 
 
-def test_interrupted_sweep_resumes_finished_cells(bars_ws: WorkspaceDir) -> None:
+def test_interrupted_sweep_resumes_finished_cells(bars_ws: Workspace) -> None:
     first = run_sweep(bars_ws, k="6", families=["nmf"], seeds=2, workers=1)
     with bars_ws.store() as store:  # simulate an interruption after one cell
         con = store._conn
@@ -124,7 +124,7 @@ def test_interrupted_sweep_resumes_finished_cells(bars_ws: WorkspaceDir) -> None
         assert store.get_sweep(res.sweep_id)["status"] == "done"
 
 
-def test_publish_themes_label_export(bars_ws: WorkspaceDir, tmp_path: Path) -> None:
+def test_publish_themes_label_export(bars_ws: Workspace, tmp_path: Path) -> None:
     run_sweep(bars_ws, k="8,10", families=["lda", "nmf"], seeds=2, workers=2)
     with bars_ws.lock("publish"):
         result = publish(bars_ws, k=10, family="nmf")

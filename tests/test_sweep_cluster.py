@@ -15,7 +15,7 @@ from tests.external.bars import make_bars_corpus, pixel_names
 from tests.support.preps import install_prep
 
 from talkthemes.sweep.run import run_sweep
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 DASK = Path(sys.executable).with_name("dask")
 
@@ -93,7 +93,7 @@ def cluster(tmp_path: Path):
 
 
 def test_sweep_on_an_external_scheduler_with_two_workers(tmp_path: Path, cluster: str) -> None:
-    ws = WorkspaceDir(tmp_path / "ws")
+    ws = Workspace(tmp_path / "ws")
     ws.init()
     _, _, texts = make_bars_corpus(200, seed=5)
     install_prep(ws, pixel_names(), texts)

@@ -24,22 +24,22 @@ from typer.testing import CliRunner
 
 from talkthemes.cli._common import app
 from talkthemes.sweep.run import run_sweep
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 runner = CliRunner()
 GRID = ["--k", "4,5,6", "--family", "nmf", "--seeds", "2", "--workers", "1"]
 
 
 @pytest.fixture
-def bars(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
-    ws = WorkspaceDir(tmp_path_factory.mktemp("bars") / "ws")
+def bars(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
+    ws = Workspace(tmp_path_factory.mktemp("bars") / "ws")
     ws.init()
     _, _, texts = make_bars_corpus(200, seed=4)
     install_prep(ws, pixel_names(), texts)
     return ws
 
 
-def _status(ws: WorkspaceDir) -> tuple[dict, str]:
+def _status(ws: Workspace) -> tuple[dict, str]:
     res = runner.invoke(app, ["status", "--json", "-w", str(ws.root)])
     assert res.exit_code == 0, res.stderr
     text = runner.invoke(app, ["status", "-w", str(ws.root)])
@@ -47,7 +47,7 @@ def _status(ws: WorkspaceDir) -> tuple[dict, str]:
     return json.loads(res.stdout), text.stdout
 
 
-def _start_paused_sweep(ws: WorkspaceDir) -> subprocess.Popen[str]:
+def _start_paused_sweep(ws: Workspace) -> subprocess.Popen[str]:
     env = {k: v for k, v in os.environ.items() if not k.startswith("TALKTHEMES_TEST_")}
     env["TALKTHEMES_TEST_PAUSE_AT"] = "sweep-cell"
     env["TALKTHEMES_TEST_PAUSE_SECONDS"] = "300"
@@ -76,7 +76,7 @@ def _start_paused_sweep(ws: WorkspaceDir) -> subprocess.Popen[str]:
 
 
 def test_a_killed_sweep_shows_as_interrupted_until_the_same_grid_finishes(
-    bars: WorkspaceDir,
+    bars: Workspace,
 ) -> None:
     proc = _start_paused_sweep(bars)
     os.kill(proc.pid, signal.SIGKILL)  # the sweep's own process, as a crash would
@@ -106,7 +106,7 @@ def test_a_killed_sweep_shows_as_interrupted_until_the_same_grid_finishes(
     assert "did not finish" not in text
 
 
-def test_ctrl_c_marks_the_record_at_once_and_a_rerun_clears_it(bars: WorkspaceDir) -> None:
+def test_ctrl_c_marks_the_record_at_once_and_a_rerun_clears_it(bars: Workspace) -> None:
     def stop_after_first_cell(done: int, total: int, what: str = "") -> None:
         if done == 1:
             raise KeyboardInterrupt

@@ -29,23 +29,23 @@ from talkthemes.sweep.limits import (
     largest_k,
 )
 from talkthemes.sweep.run import run_sweep
-from talkthemes.workspace import WorkspaceDir, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_text
 
 runner = CliRunner()
 
 
-def _set_sweep(ws: WorkspaceDir, **values: object) -> None:
+def _set_sweep(ws: Workspace, **values: object) -> None:
     atomic_write_text(ws.settings_path, render_settings(settings_from_dict({"sweep": values})))
 
 
-def _sweeps(ws: WorkspaceDir) -> list[int]:
+def _sweeps(ws: Workspace) -> list[int]:
     with ws.store() as store:
         return store.sweep_ids()
 
 
 @pytest.fixture
-def bars(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
-    ws = WorkspaceDir(tmp_path_factory.mktemp("bars") / "ws")
+def bars(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
+    ws = Workspace(tmp_path_factory.mktemp("bars") / "ws")
     ws.init()
     _, _, texts = make_bars_corpus(400, seed=3)
     install_prep(ws, pixel_names(), texts)  # 400 calls, 25 terms
@@ -63,7 +63,7 @@ def test_largest_k_names_the_limit_that_binds() -> None:
     assert most == 43 and "43 calls one fit trains on" in reason
 
 
-def test_sweep_refuses_k_above_the_terms_before_recording_anything(bars: WorkspaceDir) -> None:
+def test_sweep_refuses_k_above_the_terms_before_recording_anything(bars: Workspace) -> None:
     with pytest.raises(ConfigError, match=r"at most 25 themes \(25 terms"):
         run_sweep(bars, k="20,100000", families=["nmf"], seeds=1, workers=1)
     assert _sweeps(bars) == []
@@ -73,7 +73,7 @@ def test_sweep_refuses_k_above_the_terms_before_recording_anything(bars: Workspa
     assert _sweeps(bars) == []
 
 
-def test_sweep_refuses_k_above_the_calls_per_theme(ws: WorkspaceDir) -> None:
+def test_sweep_refuses_k_above_the_calls_per_theme(ws: Workspace) -> None:
     vocab = [f"w{i:03d}" for i in range(200)]
     rng = np.random.default_rng(0)
     texts = [list(rng.choice(vocab, size=30)) for _ in range(60)]
@@ -124,7 +124,7 @@ def test_memory_estimate_grows_with_k_and_the_vocabulary() -> None:
         check_memory([CellSpec("lda", 1000, 0), CellSpec("lda", 5000, 0)], wide, SweepSettings())
 
 
-def test_sweep_refuses_a_cell_over_the_memory_setting(bars: WorkspaceDir) -> None:
+def test_sweep_refuses_a_cell_over_the_memory_setting(bars: Workspace) -> None:
     _set_sweep(bars, worker_memory_gb=0.25)  # below the process alone
     res = runner.invoke(
         app, ["sweep", "--k", "5", "--family", "nmf", "--seeds", "1", "-w", str(bars.root)]
@@ -141,7 +141,7 @@ def _closed_port() -> int:
         return s.getsockname()[1]
 
 
-def test_unreachable_scheduler_exits_2_within_the_timeout(bars: WorkspaceDir) -> None:
+def test_unreachable_scheduler_exits_2_within_the_timeout(bars: Workspace) -> None:
     address = f"tcp://127.0.0.1:{_closed_port()}"
     _set_sweep(bars, scheduler_timeout=2)
     start = time.monotonic()

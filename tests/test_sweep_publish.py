@@ -20,26 +20,26 @@ from talkthemes.errors import ConfigError
 from talkthemes.sweep.run import run_sweep
 from talkthemes.versions.load import load_version
 from talkthemes.versions.publish import publish
-from talkthemes.workspace import WorkspaceDir, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_text
 
 runner = CliRunner()
 
 
 @pytest.fixture
-def bars(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
-    ws = WorkspaceDir(tmp_path_factory.mktemp("bars") / "ws")
+def bars(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
+    ws = Workspace(tmp_path_factory.mktemp("bars") / "ws")
     ws.init()
     _, _, texts = make_bars_corpus(300, seed=6)
     install_prep(ws, pixel_names(), texts)
     return ws
 
 
-def _versions(ws: WorkspaceDir) -> list[int]:
+def _versions(ws: Workspace) -> list[int]:
     with ws.store() as store:
         return store.version_numbers()
 
 
-def test_publish_without_a_sweep_fits_the_cell_with_progress(bars: WorkspaceDir) -> None:
+def test_publish_without_a_sweep_fits_the_cell_with_progress(bars: Workspace) -> None:
     atomic_write_text(
         bars.settings_path, render_settings(settings_from_dict({"sweep": {"publish_seed": 3}}))
     )
@@ -60,7 +60,7 @@ def test_publish_without_a_sweep_fits_the_cell_with_progress(bars: WorkspaceDir)
     assert len({tuple(sorted(v.top_terms(i, 5))) for i in range(v.k)}) == 10
 
 
-def test_publish_without_a_sweep_refuses_k_the_prep_cannot_support(bars: WorkspaceDir) -> None:
+def test_publish_without_a_sweep_refuses_k_the_prep_cannot_support(bars: Workspace) -> None:
     res = runner.invoke(app, ["publish", "--k", "40", "--family", "lda", "-w", str(bars.root)])
     assert res.exit_code == 2
     assert "K = 40 is more than the current prep supports: at most 25 themes" in res.stderr
@@ -69,7 +69,7 @@ def test_publish_without_a_sweep_refuses_k_the_prep_cannot_support(bars: Workspa
     assert res.exit_code == 2 and "--family 'plsa': expected lda or nmf" in res.stderr
 
 
-def test_republishing_the_current_cell_changes_nothing_unless_forced(bars: WorkspaceDir) -> None:
+def test_republishing_the_current_cell_changes_nothing_unless_forced(bars: Workspace) -> None:
     run_sweep(bars, k="8,10", families=["nmf"], seeds=2, workers=1)
     root = str(bars.root)
     first = runner.invoke(app, ["publish", "--k", "10", "--family", "nmf", "--json", "-w", root])
@@ -103,7 +103,7 @@ def test_republishing_the_current_cell_changes_nothing_unless_forced(bars: Works
     assert (other.status, other.version, other.sweep_id) == ("published", 3, None)
 
 
-def test_publish_direct_fit_memory_is_checked(bars: WorkspaceDir) -> None:
+def test_publish_direct_fit_memory_is_checked(bars: Workspace) -> None:
     atomic_write_text(
         bars.settings_path,
         render_settings(settings_from_dict({"sweep": {"worker_memory_gb": 0.25}})),
@@ -114,7 +114,7 @@ def test_publish_direct_fit_memory_is_checked(bars: WorkspaceDir) -> None:
 
 
 def test_csv_export_neutralises_formulas_parquet_keeps_them(
-    bars: WorkspaceDir, tmp_path: Path
+    bars: Workspace, tmp_path: Path
 ) -> None:
     """OWASP, "CSV Injection": a cell starting with =, +, -, @ is prefixed with a quote so a
     spreadsheet shows it as text."""

@@ -14,7 +14,7 @@ import pytest
 
 from talkthemes.errors import NotReadyError, WorkspaceBusyError
 from talkthemes.workspace import (
-    WorkspaceDir,
+    Workspace,
     atomic_dir,
     atomic_write_text,
     resolve_workspace,
@@ -22,7 +22,7 @@ from talkthemes.workspace import (
 
 
 def test_init_creates_settings_and_store_and_is_idempotent(tmp_path: Path) -> None:
-    ws = WorkspaceDir(tmp_path / "w")
+    ws = Workspace(tmp_path / "w")
     assert ws.init() is True
     assert ws.settings_path.read_text().startswith("# talkthemes workspace settings")
     assert ws.db_path.exists()
@@ -33,7 +33,7 @@ def test_init_creates_settings_and_store_and_is_idempotent(tmp_path: Path) -> No
 
 def test_require_names_the_command_to_run(tmp_path: Path) -> None:
     with pytest.raises(NotReadyError, match="talkthemes init"):
-        WorkspaceDir(tmp_path / "nothing").require()
+        Workspace(tmp_path / "nothing").require()
 
 
 def test_resolve_workspace_order(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> None:
@@ -44,7 +44,7 @@ def test_resolve_workspace_order(monkeypatch: pytest.MonkeyPatch, tmp_path: Path
     assert resolve_workspace(None) == Path("talkthemes-work")
 
 
-def test_second_writer_gets_busy_message_naming_command(ws: WorkspaceDir) -> None:
+def test_second_writer_gets_busy_message_naming_command(ws: Workspace) -> None:
     with ws.lock("ingest"):
         with pytest.raises(WorkspaceBusyError) as info:
             with ws.lock("prepare"):
@@ -56,7 +56,7 @@ def test_second_writer_gets_busy_message_naming_command(ws: WorkspaceDir) -> Non
         pass
 
 
-def test_lock_held_by_another_process_and_released_when_it_dies(ws: WorkspaceDir) -> None:
+def test_lock_held_by_another_process_and_released_when_it_dies(ws: Workspace) -> None:
     code = textwrap.dedent(
         f"""
         import sys, time
@@ -80,7 +80,7 @@ def test_lock_held_by_another_process_and_released_when_it_dies(ws: WorkspaceDir
         pass
 
 
-def test_wait_waits_for_the_holder(ws: WorkspaceDir) -> None:
+def test_wait_waits_for_the_holder(ws: Workspace) -> None:
     released = threading.Event()
     messages: list[str] = []
 

@@ -32,7 +32,7 @@ from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec
 from talkthemes.progress import Progress, report
 from talkthemes.versions.export import write_table
 from talkthemes.versions.load import Version, load_version
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = [
     "MANIFEST_NAMES",
@@ -289,7 +289,7 @@ def assign_items(
 
 
 def assign(
-    ws: WorkspaceDir,
+    ws: Workspace,
     paths: Sequence[Path],
     *,
     out: Path,
@@ -303,7 +303,7 @@ def assign(
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
     paths : sequence of Path
         Transcript files, tables and folders (any supported format).
     out : Path

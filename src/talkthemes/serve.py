@@ -18,7 +18,7 @@ from collections.abc import Callable
 from pathlib import Path
 
 from talkthemes.errors import ConfigError, NotReadyError
-from talkthemes.workspace import ENV_VAR, WorkspaceDir
+from talkthemes.workspace import ENV_VAR, Workspace
 
 __all__ = ["APP_MAIN", "serve", "streamlit_command", "viewer_url"]
 
@@ -123,7 +123,7 @@ def serve(
     NotReadyError
         When there is no workspace at ``workspace``.
     """
-    ws = WorkspaceDir(Path(workspace).expanduser().resolve())
+    ws = Workspace(Path(workspace).expanduser().resolve())
     if not ws.exists():
         raise NotReadyError(f"no workspace at {ws.root}: run 'talkthemes init {ws.root}' first")
     if not _is_loopback(host):

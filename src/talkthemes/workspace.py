@@ -99,7 +99,7 @@ def atomic_dir(final: Path) -> Iterator[Path]:
         raise
 
 
-class WorkspaceDir:
+class Workspace:
     """A workspace folder: its paths, settings file, store and writer lock.
 
     This is the layer under the public API: domain functions take it. Scripts and notebooks
@@ -259,7 +259,6 @@ class WorkspaceDir:
         return f"workspace busy: {command} since {since}{who}"
 
 
-#: The folder class's name before the public API took the name ``Workspace``. Kept so that
-#: code written on other branches of this round still imports; the lead removes it after the
-#: merge (every importer on this branch uses :class:`WorkspaceDir`).
-Workspace = WorkspaceDir
+#: The folder class's name once the public API (``talkthemes.Workspace``) is merged everywhere;
+#: transitional: the API package already uses it, the rest of the code follows after the merge.
+WorkspaceDir = Workspace

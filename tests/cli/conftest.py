@@ -14,7 +14,7 @@ from pathlib import Path
 import pytest
 from tests.support.preps import install_prep
 
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 BLOCKS = (
     ("meter", "reading", "estimate", "photo", "digits", "register", "submit", "actual"),
@@ -31,10 +31,10 @@ def _tokens(n_docs: int) -> list[list[str]]:
     return docs
 
 
-def copy_workspace(root: Path, dest: Path) -> WorkspaceDir:
+def copy_workspace(root: Path, dest: Path) -> Workspace:
     """A private copy of a workspace (a test may change it)."""
     shutil.copytree(root, dest, ignore=shutil.ignore_patterns(".lock"))
-    return WorkspaceDir(dest)
+    return Workspace(dest)
 
 
 @pytest.fixture(scope="session")
@@ -60,7 +60,7 @@ def published_root(tmp_path_factory: pytest.TempPathFactory) -> Path:
         writer.writerow(["call_id", "date", "queue"])
         for i in range(6):
             writer.writerow([f"c{i:03d}", f"2026-0{4 + i % 3}-1{i}", ("billing", "faults")[i % 2]])
-    ws = WorkspaceDir(base / "ws")
+    ws = Workspace(base / "ws")
     ws.init()
     with ws.lock("test"):
         ingest(ws, [calls], manifests=[manifest])
@@ -75,6 +75,6 @@ def published_root(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 
 @pytest.fixture
-def published(published_root: Path, tmp_path: Path) -> WorkspaceDir:
+def published(published_root: Path, tmp_path: Path) -> Workspace:
     """A private copy of the tiny published workspace."""
     return copy_workspace(published_root, tmp_path / "ws")

@@ -26,7 +26,7 @@ from talkthemes.cli._common import app, line
 from talkthemes.cli._shared import ThemesTable
 from talkthemes.config import render_settings
 from talkthemes.text import terminal_text
-from talkthemes.workspace import WorkspaceDir, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_text
 
 from .conftest import copy_workspace
 
@@ -107,7 +107,7 @@ def test_label_note_themes_and_export_show_any_text(
     check()
 
 
-def test_export_keeps_a_carriage_return_inside_a_label(published: WorkspaceDir) -> None:
+def test_export_keeps_a_carriage_return_inside_a_label(published: Workspace) -> None:
     w = str(published.root)
     assert invoke("label", "-w", w, "1", "before\rafter")[0] == 0
     out_csv = published.root.parent / "shares.csv"
@@ -163,7 +163,7 @@ def test_reject_reasons_keep_their_brackets(tmp_path: Path) -> None:
     (calls / "c1.txt").write_text("Agent: Hello.\nCustomer: The bill is wrong.\n", "utf-8")
     (tmp_path / "elsewhere.txt").write_text("Agent: Hi.\nCustomer: Moving house.\n", "utf-8")
     (calls / "link.txt").symlink_to(tmp_path / "elsewhere.txt")
-    ws = WorkspaceDir(tmp_path / "ws")
+    ws = Workspace(tmp_path / "ws")
     ws.init()
     settings_ = ws.settings()
     settings_.ingest.follow_symlinks = False
@@ -174,7 +174,7 @@ def test_reject_reasons_keep_their_brackets(tmp_path: Path) -> None:
 
 
 def test_hostile_labels_change_no_colour_and_make_no_link_on_a_terminal(
-    published: WorkspaceDir, monkeypatch: pytest.MonkeyPatch
+    published: Workspace, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     """On a colour terminal the label's markup would be escape codes; it must stay text."""
     for console in (_common.out, _common.err):

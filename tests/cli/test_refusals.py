@@ -11,7 +11,7 @@ import typer
 from typer.testing import CliRunner
 
 from talkthemes.cli._common import app
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 runner = CliRunner()
 GROUP = typer.main.get_command(app)
@@ -23,7 +23,7 @@ def run(*args: str) -> tuple[int, str, str]:
     return res.exit_code, res.stdout, " ".join(res.stderr.translate(FRAME).split())
 
 
-def versions(ws: WorkspaceDir) -> list[int]:
+def versions(ws: Workspace) -> list[int]:
     with ws.store() as store:
         return [int(v["n"]) for v in store.versions()]
 
@@ -38,7 +38,7 @@ def versions(ws: WorkspaceDir) -> list[int]:
     ],
 )
 def test_unwritable_output_exits_2_naming_path_and_reason(
-    published: WorkspaceDir, command: list[str], option: str
+    published: Workspace, command: list[str], option: str
 ) -> None:
     target = "/proc/talkthemes-out" + ("" if option == "--png" else ".html")
     code, out, err = run(*command, option, target, "-w", str(published.root))
@@ -48,7 +48,7 @@ def test_unwritable_output_exits_2_naming_path_and_reason(
 
 
 def test_output_under_a_file_or_onto_a_folder_is_refused(
-    published: WorkspaceDir, tmp_path: Path
+    published: Workspace, tmp_path: Path
 ) -> None:
     a_file = tmp_path / "notes.txt"
     a_file.write_text("x", encoding="utf-8")
@@ -61,7 +61,7 @@ def test_output_under_a_file_or_onto_a_folder_is_refused(
 
 
 def test_output_in_a_folder_still_to_be_made_is_written(
-    published: WorkspaceDir, tmp_path: Path
+    published: Workspace, tmp_path: Path
 ) -> None:
     target = tmp_path / "new" / "deeper" / "shares.csv"
     code, _, err = run("export", "--out", str(target), "-w", str(published.root))
@@ -71,7 +71,7 @@ def test_output_in_a_folder_still_to_be_made_is_written(
 
 
 def test_unwritable_rejects_file_refuses_before_ingesting(tmp_path: Path) -> None:
-    ws = WorkspaceDir(tmp_path / "ws")
+    ws = Workspace(tmp_path / "ws")
     ws.init()
     (tmp_path / "c1.txt").write_text("Agent: Hello.\nCustomer: My bill is wrong.\n", "utf-8")
     code, _, err = run(
@@ -82,7 +82,7 @@ def test_unwritable_rejects_file_refuses_before_ingesting(tmp_path: Path) -> Non
         assert store.count_transcripts() == 0
 
 
-def test_unwritable_chart_refuses_before_sweeping(published: WorkspaceDir) -> None:
+def test_unwritable_chart_refuses_before_sweeping(published: Workspace) -> None:
     with published.store() as store:
         before = store.sweep_ids()
     code, _, err = run("sweep", "--k", "2,3", "--chart", "/proc/sweep", "-w", str(published.root))
@@ -91,9 +91,7 @@ def test_unwritable_chart_refuses_before_sweeping(published: WorkspaceDir) -> No
         assert store.sweep_ids() == before
 
 
-def test_assign_to_an_unwritable_file_or_from_nowhere(
-    published: WorkspaceDir, tmp_path: Path
-) -> None:
+def test_assign_to_an_unwritable_file_or_from_nowhere(published: Workspace, tmp_path: Path) -> None:
     w = str(published.root)
     code, _, err = run("assign", "/nonexistent", "--out", str(tmp_path / "a.csv"), "-w", w)
     assert code == 2
@@ -107,7 +105,7 @@ def test_assign_to_an_unwritable_file_or_from_nowhere(
 
 
 # -- label ----------------------------------------------------------------------------------
-def test_label_of_an_unknown_theme_names_the_ids(published: WorkspaceDir) -> None:
+def test_label_of_an_unknown_theme_names_the_ids(published: Workspace) -> None:
     code, _, err = run("label", "99999", "x", "-w", str(published.root))
     assert code == 2
     assert "there is no theme 99999 in version 1 (its theme ids: 1–3;" in err
@@ -116,7 +114,7 @@ def test_label_of_an_unknown_theme_names_the_ids(published: WorkspaceDir) -> Non
 
 
 def test_label_before_anything_is_published(tmp_path: Path) -> None:
-    ws = WorkspaceDir(tmp_path / "ws")
+    ws = Workspace(tmp_path / "ws")
     ws.init()
     code, _, err = run("label", "1", "x", "-w", str(ws.root))
     assert code == 2 and "run 'talkthemes publish' first" in err
@@ -124,7 +122,7 @@ def test_label_before_anything_is_published(tmp_path: Path) -> None:
 
 # -- publish --------------------------------------------------------------------------------
 @pytest.fixture
-def swept(published: WorkspaceDir) -> WorkspaceDir:
+def swept(published: Workspace) -> Workspace:
     """The published workspace with one recorded sweep of two NMF cells (K = 3 and 4)."""
     with published.store() as store:
         prep = store.stages()["prepared"]["hash"]
@@ -145,7 +143,7 @@ def swept(published: WorkspaceDir) -> WorkspaceDir:
     ],
 )
 def test_publish_refuses_options_that_disagree(
-    swept: WorkspaceDir, options: list[str], message: str
+    swept: Workspace, options: list[str], message: str
 ) -> None:
     code, _, err = run("publish", *options, "-w", str(swept.root))
     assert code == 2
@@ -189,4 +187,4 @@ def test_ingest_creates_the_workspace_only_when_asked(tmp_path: Path) -> None:
     code, out, err = run(*_args("ingest", tmp_path), "-w", str(ws), "--create", "--json")
     assert code == 0, err
     assert json.loads(out)["totals"]["added"] == 1
-    assert WorkspaceDir(ws).exists()
+    assert Workspace(ws).exists()

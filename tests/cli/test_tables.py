@@ -22,7 +22,7 @@ from typer.testing import CliRunner
 
 from talkthemes.cli._common import app
 from talkthemes.cli._shared import SweepTable, ThemesTable
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 NUMBER = re.compile(r"(?<![\w.])-?\d[\d,]*(?:\.\d+)?%?")
 THEME_ROW = re.compile(
@@ -113,7 +113,7 @@ def test_themes_table_numbers_whole_and_terms_on_one_line(width: int) -> None:
                    for t in themes)  # fmt: skip
 
 
-def test_themes_command_at_80_columns_matches_its_json(published: WorkspaceDir) -> None:
+def test_themes_command_at_80_columns_matches_its_json(published: Workspace) -> None:
     runner = CliRunner()
     w = str(published.root)
     long_label = "Refunds, credits and the balance left after a house move"
@@ -214,7 +214,7 @@ def test_sweep_table_numbers_are_whole_at_any_width(width: int) -> None:
 
 
 @pytest.mark.slow
-def test_sweep_command_at_80_columns_matches_its_json(published: WorkspaceDir) -> None:
+def test_sweep_command_at_80_columns_matches_its_json(published: Workspace) -> None:
     """A real (tiny) sweep: the table a user sees against ``sweep --json`` of the same sweep.
 
     The prep is 80 documents of the bars corpus (25 terms: the sweep needs at least its

@@ -25,7 +25,7 @@ from tests.external.bars import make_bars_corpus, pixel_names
 from tests.support.preps import install_prep
 
 from talkthemes.sweep.run import run_sweep
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 SETTINGS = """
 [sweep]
@@ -39,7 +39,7 @@ lda_chunksize = 100
 
 
 def test_sweep_recommends_near_ten_on_bars(tmp_path: Path) -> None:
-    ws = WorkspaceDir(tmp_path / "ws")
+    ws = Workspace(tmp_path / "ws")
     ws.init()
     ws.settings_path.write_text(SETTINGS, encoding="utf-8")
     _, _, texts = make_bars_corpus(800, seed=11)

@@ -22,7 +22,7 @@ from talkthemes.prepare import (
     render_explain,
     run_prepare,
 )
-from talkthemes.workspace import WorkspaceDir, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_text
 
 WORDS = {
     "billing": "invoice refund payment balance statement overdraft credit discount tariff "
@@ -47,25 +47,25 @@ def transcripts(n: int, seed: int = 1, start: int = 0) -> list[Transcript]:
     return out
 
 
-def add(ws: WorkspaceDir, items: list[Transcript]) -> None:
+def add(ws: Workspace, items: list[Transcript]) -> None:
     with ws.store() as store:
         store.add_transcripts(items, None)
 
 
-def set_prepare(ws: WorkspaceDir, **values) -> None:
+def set_prepare(ws: Workspace, **values) -> None:
     atomic_write_text(
         ws.settings_path, render_settings(Settings(prepare=PrepareSettings(**values)))
     )
 
 
 @pytest.fixture
-def filled(ws: WorkspaceDir) -> WorkspaceDir:
+def filled(ws: Workspace) -> Workspace:
     add(ws, transcripts(45))
     set_prepare(ws, n_process=1)
     return ws
 
 
-def test_first_run_writes_the_prep_and_records_it(filled: WorkspaceDir):
+def test_first_run_writes_the_prep_and_records_it(filled: Workspace):
     result = run_prepare(filled)
     assert not result.cached
     assert result.path == filled.prepared_dir / result.prep_hash
@@ -94,7 +94,7 @@ def test_first_run_writes_the_prep_and_records_it(filled: WorkspaceDir):
     assert [p.name for p in filled.prepared_dir.iterdir()] == [result.prep_hash]
 
 
-def test_second_run_is_cached(filled: WorkspaceDir):
+def test_second_run_is_cached(filled: Workspace):
     first = run_prepare(filled)
     stages: list[str] = []
     second = run_prepare(filled, progress=lambda done, total, what: stages.append(what))
@@ -106,7 +106,7 @@ def test_second_run_is_cached(filled: WorkspaceDir):
     assert not forced.cached and forced.prep_hash == first.prep_hash
 
 
-def test_hash_follows_settings_and_transcripts(filled: WorkspaceDir):
+def test_hash_follows_settings_and_transcripts(filled: Workspace):
     first = run_prepare(filled)
     set_prepare(filled, n_process=1, batch_size=7)  # speed only: same prep
     assert run_prepare(filled).cached
@@ -133,14 +133,14 @@ def test_prep_hash_covers_versions_and_ignores_speed_settings():
     assert len(base) == 16
 
 
-def test_empty_store_is_not_ready(ws: WorkspaceDir):
+def test_empty_store_is_not_ready(ws: Workspace):
     with pytest.raises(NotReadyError, match="ingest"):
         run_prepare(ws)
     with pytest.raises(NotReadyError, match="prepare"):
         load_current(ws)
 
 
-def test_failed_run_leaves_the_previous_prep_current(filled: WorkspaceDir):
+def test_failed_run_leaves_the_previous_prep_current(filled: Workspace):
     first = run_prepare(filled)
     set_prepare(filled, n_process=1, vocab_min_docs=40)
     with pytest.raises(InputError, match="vocab_min_docs"):
@@ -150,7 +150,7 @@ def test_failed_run_leaves_the_previous_prep_current(filled: WorkspaceDir):
     assert [p.name for p in filled.prepared_dir.iterdir()] == [first.prep_hash]
 
 
-def test_explain_outputs(filled: WorkspaceDir):
+def test_explain_outputs(filled: Workspace):
     result = run_prepare(filled)
     rows = explain_rows(result.explain)
     assert [r["step"] for r in rows] == [
@@ -175,7 +175,7 @@ def test_explain_outputs(filled: WorkspaceDir):
     assert "45 used" in text
 
 
-def test_saved_corpus_round_trips(filled: WorkspaceDir):
+def test_saved_corpus_round_trips(filled: Workspace):
     result = run_prepare(filled)
     a = PreparedCorpus.load(result.path, mmap=True)
     b = PreparedCorpus.load(result.path, mmap=False)

@@ -15,7 +15,7 @@ import pytest
 
 from talkthemes.config import PrepareSettings, Settings, render_settings
 from talkthemes.ingest.model import Transcript, Turn
-from talkthemes.workspace import WorkspaceDir, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_text
 
 WORDS = [
     "invoice",
@@ -41,7 +41,7 @@ WORDS = [
 ]
 
 
-def _fill(ws: WorkspaceDir, n: int) -> None:
+def _fill(ws: Workspace, n: int) -> None:
     rng = random.Random(4)
     items = []
     for i in range(n):
@@ -84,7 +84,7 @@ def _descendants(pid: int) -> set[int]:
 
 @pytest.mark.slow
 @pytest.mark.skipif(not Path("/proc/self/stat").exists(), reason="needs /proc")
-def test_workers_exit_soon_after_prepare_is_killed(ws: WorkspaceDir) -> None:
+def test_workers_exit_soon_after_prepare_is_killed(ws: Workspace) -> None:
     _fill(ws, 4000)
     settings = Settings(prepare=PrepareSettings(n_process=2, batch_size=20))
     atomic_write_text(ws.settings_path, render_settings(settings))

@@ -11,7 +11,7 @@ import pytest
 
 from talkthemes.demo.records import DemoFiles
 from talkthemes.demo.writer import write_demo
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 #: Demo calls: enough that October holds ~170 calls, ~18 of them about the price change.
 DEMO_SIZE = 1000
@@ -39,7 +39,7 @@ def published_root(tmp_path_factory: pytest.TempPathFactory, demo_files: DemoFil
     from talkthemes.versions.fit import fit_version
     from talkthemes.versions.write import write_version
 
-    ws = WorkspaceDir(tmp_path_factory.mktemp("published") / "ws")
+    ws = Workspace(tmp_path_factory.mktemp("published") / "ws")
     ws.init()
     with ws.lock("test"):
         ingest(ws, [demo_files.exports], manifests=[demo_files.manifest])
@@ -52,8 +52,8 @@ def published_root(tmp_path_factory: pytest.TempPathFactory, demo_files: DemoFil
 
 
 @pytest.fixture
-def published(published_root: Path, tmp_path: Path) -> WorkspaceDir:
+def published(published_root: Path, tmp_path: Path) -> Workspace:
     """A private copy of the published workspace."""
     dest = tmp_path / "ws"
     shutil.copytree(published_root, dest)
-    return WorkspaceDir(dest)
+    return Workspace(dest)

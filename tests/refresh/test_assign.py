@@ -31,7 +31,7 @@ from talkthemes.versions.export import export_shares
 from talkthemes.versions.fit import fit_version
 from talkthemes.versions.load import load_version
 from talkthemes.versions.write import write_version
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 runner = CliRunner()
 
@@ -39,7 +39,7 @@ runner = CliRunner()
 def test_applier_reproduces_the_versions_prep_exactly(published_root: Path) -> None:
     """Every stored transcript, prepared the version's way, gives the prep's counts and
     token streams (boilerplate dropped, phrases joined, out-of-vocabulary kept as -1)."""
-    ws = WorkspaceDir(published_root)
+    ws = Workspace(published_root)
     v = load_version(ws)
     spec = load_prep_spec(ws, v)
     assert spec.boilerplate and spec.phrases  # both steps are exercised
@@ -133,7 +133,7 @@ def test_assign_frame_layout_and_unknown_rows() -> None:
 
 
 def test_assign_cli_csv_and_parquet(
-    published: WorkspaceDir, demo_files: DemoFiles, tmp_path: Path
+    published: Workspace, demo_files: DemoFiles, tmp_path: Path
 ) -> None:
     ws = published
     v = load_version(ws)
@@ -175,7 +175,7 @@ def test_assign_cli_csv_and_parquet(
 
 
 def test_assign_store_unknown_words_rejects_and_usage(
-    published: WorkspaceDir, demo_files: DemoFiles, tmp_path: Path
+    published: Workspace, demo_files: DemoFiles, tmp_path: Path
 ) -> None:
     ws = published
     extra = tmp_path / "extra"
@@ -216,14 +216,14 @@ def test_assign_store_unknown_words_rejects_and_usage(
     assert res.exit_code == 2 and "no transcripts found" in res.stderr
 
 
-def test_assign_needs_a_version(ws: WorkspaceDir, tmp_path: Path) -> None:
+def test_assign_needs_a_version(ws: Workspace, tmp_path: Path) -> None:
     res = runner.invoke(cli.app, ["assign", str(tmp_path), "--out", str(tmp_path / "a.csv"),
                                   "-w", str(ws.root)])  # fmt: skip
     assert res.exit_code == 2 and "talkthemes publish" in res.stderr
 
 
 def test_lda_shares_from_saved_state_match_the_fitted_model(
-    published: WorkspaceDir, demo_files: DemoFiles, tmp_path: Path
+    published: Workspace, demo_files: DemoFiles, tmp_path: Path
 ) -> None:
     """LDA: the shares assign infers from the version's .npy state are exactly those the
     fitted gensim model infers for the same rows and seed; two runs agree."""
@@ -258,7 +258,7 @@ def test_lda_shares_from_saved_state_match_the_fitted_model(
     assert K != 6  # the LDA version is its own (the NMF one has K themes)
 
 
-def test_frozen_prep_of_the_same_store_is_the_prep_itself(published: WorkspaceDir) -> None:
+def test_frozen_prep_of_the_same_store_is_the_prep_itself(published: Workspace) -> None:
     """Prepared the version's way, the transcripts the version was built from give back its
     prep: same vocabulary, training transcripts, counts, token streams and exclusions."""
     ws = published

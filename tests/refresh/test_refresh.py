@@ -20,12 +20,12 @@ from talkthemes.errors import NotReadyError
 from talkthemes.refresh.coherence import coherence_check
 from talkthemes.refresh.run import refresh
 from talkthemes.versions.load import load_version
-from talkthemes.workspace import WorkspaceDir, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_text
 
 runner = CliRunner()
 
 
-def _snapshot(ws: WorkspaceDir) -> dict:
+def _snapshot(ws: Workspace) -> dict:
     """Everything a refresh could change, except the logs of runs."""
     with ws.store() as store:
         versions = [(v["n"], v["current"], json.dumps(v, sort_keys=True)) for v in store.versions()]
@@ -40,14 +40,14 @@ def _snapshot(ws: WorkspaceDir) -> dict:
     return {"versions": versions, "themes": themes, "prep": prep, "n": count, "files": files}
 
 
-def _set(ws: WorkspaceDir, section: str, **values: object) -> None:
+def _set(ws: Workspace, section: str, **values: object) -> None:
     data = ws.settings().model_dump()
     data[section].update(values)
     atomic_write_text(ws.settings_path, render_settings(settings_from_dict(data)))
 
 
 def test_refresh_finds_the_new_theme_keeps_labels_and_reports_drift(
-    published: WorkspaceDir, demo_files: DemoFiles
+    published: Workspace, demo_files: DemoFiles
 ) -> None:
     ws = published
     before = load_version(ws)
@@ -135,7 +135,7 @@ def test_refresh_finds_the_new_theme_keeps_labels_and_reports_drift(
 
 
 def test_frozen_vocabulary_keeps_the_versions_terms_and_rejects_give_exit_3(
-    published: WorkspaceDir, demo_files: DemoFiles, tmp_path: Path
+    published: Workspace, demo_files: DemoFiles, tmp_path: Path
 ) -> None:
     ws = published
     _set(ws, "refresh", vocabulary="frozen")
@@ -160,7 +160,7 @@ def test_frozen_vocabulary_keeps_the_versions_terms_and_rejects_give_exit_3(
 
 
 def test_resweep_runs_the_grid_and_publishes_its_recommendation(
-    published: WorkspaceDir, demo_files: DemoFiles
+    published: Workspace, demo_files: DemoFiles
 ) -> None:
     ws = published
     _set(ws, "sweep", k="8,12", families=["nmf"], seeds=2, workers=1)
@@ -181,7 +181,7 @@ def test_resweep_runs_the_grid_and_publishes_its_recommendation(
 
 
 def test_coherence_drop_triggers_a_resweep(
-    published: WorkspaceDir, demo_files: DemoFiles, monkeypatch: pytest.MonkeyPatch
+    published: Workspace, demo_files: DemoFiles, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     import talkthemes.refresh.run as refresh_mod
 
@@ -207,7 +207,7 @@ def test_coherence_drop_triggers_a_resweep(
 
 
 def test_coherence_check_compares_like_with_like(
-    published: WorkspaceDir, demo_files: DemoFiles
+    published: Workspace, demo_files: DemoFiles
 ) -> None:
     from talkthemes.ingest.run import ingest
     from talkthemes.prepare.frozen import load_prep_spec
@@ -230,7 +230,7 @@ def test_coherence_check_compares_like_with_like(
     assert october["triggered"] == (october["difference"] > 0.1)
 
 
-def test_refresh_needs_a_published_version(ws: WorkspaceDir) -> None:
+def test_refresh_needs_a_published_version(ws: Workspace) -> None:
     with pytest.raises(NotReadyError, match="talkthemes publish"):
         refresh(ws)
     res = runner.invoke(cli.app, ["refresh", "-w", str(ws.root)])
@@ -238,7 +238,7 @@ def test_refresh_needs_a_published_version(ws: WorkspaceDir) -> None:
 
 
 def test_inbox_setting_is_read_and_a_missing_one_is_a_settings_error(
-    published: WorkspaceDir, demo_files: DemoFiles
+    published: Workspace, demo_files: DemoFiles
 ) -> None:
     from talkthemes.refresh.run import _ingest_paths
 
@@ -256,7 +256,7 @@ def test_inbox_setting_is_read_and_a_missing_one_is_a_settings_error(
 
 
 def test_labels_survive_two_refreshes_and_rollback(
-    published: WorkspaceDir, demo_files: DemoFiles, tmp_path: Path
+    published: Workspace, demo_files: DemoFiles, tmp_path: Path
 ) -> None:
     """Refresh twice (October, then a second batch), then roll back with publish --version."""
     from talkthemes.demo.calls import iter_demo_calls

@@ -24,12 +24,12 @@ from typer.testing import CliRunner
 from talkthemes import cli
 from talkthemes.demo.records import DemoFiles
 from talkthemes.versions.load import load_version
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 _ENTRY = "from talkthemes import cli; cli.main()"
 
 
-def _start(ws: WorkspaceDir, inbox: Path, stage: str | None) -> subprocess.Popen[str]:
+def _start(ws: Workspace, inbox: Path, stage: str | None) -> subprocess.Popen[str]:
     env = {k: v for k, v in os.environ.items() if not k.startswith("TALKTHEMES_TEST_")}
     if stage is not None:
         env["TALKTHEMES_TEST_PAUSE_AT"] = stage
@@ -69,7 +69,7 @@ def _kill(proc: subprocess.Popen[str]) -> None:
             pipe.close()
 
 
-def _check_consistent(ws: WorkspaceDir, current: int) -> None:
+def _check_consistent(ws: Workspace, current: int) -> None:
     """The store is sound, ``current`` is current, every recorded version is whole on disk,
     and the lock is free."""
     with ws.store() as store:
@@ -90,7 +90,7 @@ def _check_consistent(ws: WorkspaceDir, current: int) -> None:
 
 
 def test_refresh_killed_at_every_stage_loses_nothing(
-    published: WorkspaceDir, demo_files: DemoFiles
+    published: Workspace, demo_files: DemoFiles
 ) -> None:
     ws = published
     v1 = load_version(ws)

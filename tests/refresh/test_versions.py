@@ -20,12 +20,12 @@ from talkthemes.versions.fit import FittedVersion, fit_version
 from talkthemes.versions.load import load_version
 from talkthemes.versions.prune import prune_versions, remove_leftovers
 from talkthemes.versions.write import ThemePlan, write_version
-from talkthemes.workspace import WorkspaceDir, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_text
 
 
 @pytest.fixture(scope="module")
 def fitted(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, FittedVersion]:
-    ws = WorkspaceDir(tmp_path_factory.mktemp("bars") / "ws")
+    ws = Workspace(tmp_path_factory.mktemp("bars") / "ws")
     ws.init()
     _, _, texts = make_bars_corpus(120, seed=5)
     corpus = install_prep(ws, pixel_names(), texts)
@@ -34,20 +34,20 @@ def fitted(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, FittedVersio
 
 
 @pytest.fixture
-def ws(tmp_path: Path) -> WorkspaceDir:
-    w = WorkspaceDir(tmp_path / "ws")
+def ws(tmp_path: Path) -> Workspace:
+    w = Workspace(tmp_path / "ws")
     w.init()
     return w
 
 
-def _keep(ws: WorkspaceDir, n: int) -> None:
+def _keep(ws: Workspace, n: int) -> None:
     data = ws.settings().model_dump()
     data["refresh"]["keep_versions"] = n
     atomic_write_text(ws.settings_path, render_settings(settings_from_dict(data)))
 
 
 def test_theme_plan_is_written_in_full_and_current_in_one_go(
-    ws: WorkspaceDir, fitted: tuple[Path, FittedVersion]
+    ws: Workspace, fitted: tuple[Path, FittedVersion]
 ) -> None:
     fit = fitted[1]
     first = write_version(ws, fit)
@@ -97,7 +97,7 @@ def test_theme_plan_is_written_in_full_and_current_in_one_go(
 
 
 def test_a_failure_while_writing_leaves_the_previous_version(
-    ws: WorkspaceDir, fitted: tuple[Path, FittedVersion]
+    ws: Workspace, fitted: tuple[Path, FittedVersion]
 ) -> None:
     write_version(ws, fitted[1])
 
@@ -112,7 +112,7 @@ def test_a_failure_while_writing_leaves_the_previous_version(
 
 
 def test_keep_the_last_n_versions_and_never_the_current(
-    ws: WorkspaceDir, fitted: tuple[Path, FittedVersion]
+    ws: Workspace, fitted: tuple[Path, FittedVersion]
 ) -> None:
     _keep(ws, 2)
     write_version(ws, fitted[1])
@@ -143,7 +143,7 @@ def test_keep_the_last_n_versions_and_never_the_current(
 
 
 def test_leftovers_are_removed_and_versions_kept(
-    ws: WorkspaceDir, fitted: tuple[Path, FittedVersion]
+    ws: Workspace, fitted: tuple[Path, FittedVersion]
 ) -> None:
     write_version(ws, fitted[1])
     for name in (".2.abc123.tmp", ".1.old-4242", "7"):
@@ -227,7 +227,7 @@ def test_migration_to_the_refresh_log_keeps_versions(
 
 
 def test_write_version_stores_float32_arrays(
-    ws: WorkspaceDir, fitted: tuple[Path, FittedVersion]
+    ws: Workspace, fitted: tuple[Path, FittedVersion]
 ) -> None:
     n = write_version(ws, fitted[1])
     v = load_version(ws, n)

@@ -9,11 +9,11 @@ import numpy as np
 import scipy.sparse as sp
 
 from talkthemes.prepare.corpus import PreparedCorpus
-from talkthemes.workspace import WorkspaceDir, atomic_dir
+from talkthemes.workspace import Workspace, atomic_dir
 
 
 def install_prep(
-    ws: WorkspaceDir,
+    ws: Workspace,
     vocabulary: Sequence[str],
     token_lists: Sequence[Sequence[str]],
     doc_ids: Sequence[str] | None = None,

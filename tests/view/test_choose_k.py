@@ -9,11 +9,11 @@ import pytest
 
 from talkthemes.errors import NotReadyError
 from talkthemes.view.choose_k import load_sweep, scalar_columns
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 
 def test_load_sweep_without_one(tmp_path: Path) -> None:
-    ws = WorkspaceDir(tmp_path)
+    ws = Workspace(tmp_path)
     ws.init()
     with pytest.raises(NotReadyError, match="talkthemes sweep"):
         load_sweep(ws)

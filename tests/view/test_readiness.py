@@ -9,7 +9,7 @@ import pytest
 from talkthemes.errors import InputError
 from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.view.readiness import readiness
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 
 def _transcript(tid: str, text: str = "my bill is wrong") -> Transcript:
@@ -17,7 +17,7 @@ def _transcript(tid: str, text: str = "my bill is wrong") -> Transcript:
 
 
 def test_readiness_walks_every_stage_with_the_next_command(tmp_path: Path) -> None:
-    ws = WorkspaceDir(tmp_path / "w s")
+    ws = Workspace(tmp_path / "w s")
     r = readiness(ws)
     assert r.blocker("version").command == f"talkthemes init '{ws.root}'"
     assert not ws.root.exists()  # looking never creates anything

@@ -14,7 +14,7 @@ from pathlib import Path
 
 import pytest
 
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 XSS_ID = "A-xss-001"
 SCRIPT = "<script>alert(1)</script>"
@@ -41,7 +41,7 @@ XSS_TEXT = (
 class DemoWorkspace:
     """The session's workspace and what the tests need to know about it."""
 
-    ws: WorkspaceDir
+    ws: Workspace
     labelled: dict[int, str]  # theme id -> label
     xss_id: str = XSS_ID
 
@@ -71,7 +71,7 @@ def demo_ws(tmp_path_factory: pytest.TempPathFactory) -> DemoWorkspace:
     from talkthemes.workspace import atomic_write_text
 
     root = tmp_path_factory.mktemp("viewer") / "ws"
-    ws = WorkspaceDir(root)
+    ws = Workspace(root)
     ws.init()
     settings = ws.settings()
     settings.sweep.workers = 2
@@ -95,11 +95,11 @@ def demo_ws(tmp_path_factory: pytest.TempPathFactory) -> DemoWorkspace:
 
 
 @pytest.fixture
-def ws_copy(demo_ws: DemoWorkspace, tmp_path: Path) -> WorkspaceDir:
+def ws_copy(demo_ws: DemoWorkspace, tmp_path: Path) -> Workspace:
     """A private copy of the demo workspace that a test may change."""
     target = tmp_path / "copy"
     shutil.copytree(demo_ws.ws.root, target, ignore=shutil.ignore_patterns(".lock"))
-    return WorkspaceDir(target)
+    return Workspace(target)
 
 
 @pytest.fixture(scope="session")

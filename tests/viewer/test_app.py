@@ -17,7 +17,7 @@ from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.text import md_inline
 from talkthemes.versions.load import load_version
 from talkthemes.view.theme_map import theme_layout
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 APP = Path(talkthemes.app.__file__).resolve().parent / "main.py"
 SECTIONS = [
@@ -226,7 +226,7 @@ def test_publish_cancel_and_confirm(ws_copy, monkeypatch) -> None:
 def _at_stage(root: Path, stage: str) -> None:
     if stage == "workspace":
         return
-    ws = WorkspaceDir(root)
+    ws = Workspace(root)
     ws.init()
     if stage == "transcripts":
         return

@@ -21,7 +21,7 @@ from talkthemes.view.history import (
     version_changes,
     versions_timeline,
 )
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 PAGE = Path(talkthemes.app.__file__).resolve().parent / "refresh_history.py"
 #: As in tests/refresh/conftest.py: NMF K=12 on 1000 invented demo calls with October held
@@ -31,7 +31,7 @@ LABEL = "Billing <b>questions</b> & *more*"
 
 
 @pytest.fixture(scope="module")
-def refreshed(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
+def refreshed(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
     """Version 1 published on May–September, then refreshed with October into version 2
     (the theme leading the most transcripts labelled before the refresh)."""
     from talkthemes.demo.writer import write_demo
@@ -46,7 +46,7 @@ def refreshed(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
 
     base = tmp_path_factory.mktemp("history")
     files = write_demo(base / "src", size=DEMO_SIZE, seed=7, hold_back_last_month=True)
-    ws = WorkspaceDir(base / "ws")
+    ws = Workspace(base / "ws")
     ws.init()
     with ws.lock("test"):
         ingest(ws, [files.exports], manifests=[files.manifest])
@@ -65,7 +65,7 @@ def refreshed(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
 
 
 @pytest.fixture(scope="module")
-def single(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
+def single(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
     """A workspace with one directly published version and no refresh."""
     from talkthemes.demo.writer import write_demo
     from talkthemes.ingest.run import ingest
@@ -77,7 +77,7 @@ def single(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
 
     base = tmp_path_factory.mktemp("single")
     files = write_demo(base / "src", size=200, seed=3)
-    ws = WorkspaceDir(base / "ws")
+    ws = Workspace(base / "ws")
     ws.init()
     with ws.lock("test"):
         ingest(ws, [files.exports], manifests=[files.manifest])
@@ -90,7 +90,7 @@ def single(tmp_path_factory: pytest.TempPathFactory) -> WorkspaceDir:
     return ws
 
 
-def _report(ws: WorkspaceDir, n: int = 2) -> dict:
+def _report(ws: Workspace, n: int = 2) -> dict:
     return json.loads((ws.versions_dir / str(n) / "drift.json").read_text(encoding="utf-8"))
 
 
@@ -170,7 +170,7 @@ def test_examples_come_from_the_report_with_current_labels(refreshed) -> None:
 def test_load_drift_names_the_file_when_broken(refreshed, tmp_path) -> None:
     assert load_drift(refreshed, 1) is None
     assert load_drift(refreshed, 2) == _report(refreshed)
-    ws = WorkspaceDir(tmp_path / "ws")
+    ws = Workspace(tmp_path / "ws")
     (ws.versions_dir / "4").mkdir(parents=True)
     (ws.versions_dir / "4" / "drift.json").write_text("{not json", encoding="utf-8")
     with pytest.raises(InputError, match=r"drift\.json: cannot be read as JSON"):

@@ -17,7 +17,7 @@ from talkthemes.errors import NotReadyError
 from talkthemes.report import build_report, render_report, write_report
 from talkthemes.versions.load import load_version
 from talkthemes.view.theme_map import theme_layout
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 
 def specs_of(page: str) -> dict:
@@ -152,7 +152,7 @@ def test_lambda_changes_the_word_ranking(ws_copy) -> None:
 
 
 def test_no_report_before_a_version(tmp_path: Path) -> None:
-    ws = WorkspaceDir(tmp_path / "w")
+    ws = Workspace(tmp_path / "w")
     ws.init()
     with pytest.raises(NotReadyError, match="talkthemes ingest"):
         write_report(ws, tmp_path / "r.html")

@@ -32,7 +32,7 @@ from talkthemes.view.readiness import Need, NextStep, Readiness
 from talkthemes.view.readiness import readiness as workspace_readiness
 from talkthemes.view.theme_map import ThemeLayout, theme_layout
 from talkthemes.view.themes import theme_names, with_names
-from talkthemes.workspace import WorkspaceDir, resolve_workspace
+from talkthemes.workspace import Workspace, resolve_workspace
 
 #: Session-state key of the theme selected anywhere in the viewer (a theme id).
 SELECTED_THEME = "tt_theme_id"
@@ -50,9 +50,9 @@ def workspace_root() -> Path:
     return resolve_workspace(args.workspace).expanduser().resolve()
 
 
-def workspace() -> WorkspaceDir:
+def workspace() -> Workspace:
     """The viewer's workspace."""
-    return WorkspaceDir(workspace_root())
+    return Workspace(workspace_root())
 
 
 def readiness() -> Readiness:
@@ -69,7 +69,7 @@ def empty_state(step: NextStep) -> None:
     st.code(step.command, language="bash")
 
 
-def gate(need: Need) -> WorkspaceDir:
+def gate(need: Need) -> Workspace:
     """Stop the page with an empty state unless the workspace has what ``need`` names."""
     ws = workspace()
     step = readiness().blocker(need)
@@ -94,14 +94,14 @@ def _stamp(path: Path) -> int:
         return 0
 
 
-def version_key(ws: WorkspaceDir, n: int) -> tuple[str, int, int]:
+def version_key(ws: Workspace, n: int) -> tuple[str, int, int]:
     """Cache key of a version: workspace path, number, ``version.json`` modification time."""
     return str(ws.root), int(n), _stamp(ws.versions_dir / str(n) / "version.json")
 
 
 @st.cache_resource(show_spinner=False, max_entries=4)
 def _version(root: str, n: int, stamp: int) -> Version:
-    return load_version(WorkspaceDir(root), n)
+    return load_version(Workspace(root), n)
 
 
 @st.cache_resource(show_spinner=False, max_entries=4)
@@ -111,10 +111,10 @@ def _layout(root: str, n: int, stamp: int) -> ThemeLayout:
 
 @st.cache_resource(show_spinner=False, max_entries=4)
 def _metadata(root: str, n: int, stamp: int) -> MetaTable:
-    return load_metadata(WorkspaceDir(root), _version(root, n, stamp).doc_ids)
+    return load_metadata(Workspace(root), _version(root, n, stamp).doc_ids)
 
 
-def current_version(ws: WorkspaceDir) -> Version:
+def current_version(ws: Workspace) -> Version:
     """The current version, its arrays cached, its labels fresh from the store."""
     with ws.store() as store:
         record = store.current_version()
@@ -128,13 +128,13 @@ def current_version(ws: WorkspaceDir) -> Version:
     return dataclasses.replace(version, themes=themes)
 
 
-def layout(ws: WorkspaceDir, version: Version) -> ThemeLayout:
+def layout(ws: Workspace, version: Version) -> ThemeLayout:
     """Map coordinates of the version's themes (cached)."""
     with st.spinner("Placing the themes on the map …"):
         return _layout(*version_key(ws, version.n))
 
 
-def metadata(ws: WorkspaceDir, version: Version) -> MetaTable:
+def metadata(ws: Workspace, version: Version) -> MetaTable:
     """The version's transcripts' metadata (read once, cached)."""
     with st.spinner("Reading the transcripts' metadata …"):
         return _metadata(*version_key(ws, version.n))
@@ -161,20 +161,20 @@ def _movers(root: str, n: int, stamp: int, freq: str, before: str, after: str) -
     )
 
 
-def trend(ws: WorkspaceDir, version: Version, freq: str) -> pd.DataFrame:
+def trend(ws: Workspace, version: Version, freq: str) -> pd.DataFrame:
     """Shares per period with bootstrap intervals (numbers cached, names fresh)."""
     with st.spinner("Counting themes per period and resampling for the intervals …"):
         return with_names(_trend(*version_key(ws, version.n), freq), version)
 
 
-def segments(ws: WorkspaceDir, version: Version, field: str) -> pd.DataFrame:
+def segments(ws: Workspace, version: Version, field: str) -> pd.DataFrame:
     """Shares per segment of a metadata field (numbers cached, names fresh)."""
     with st.spinner(f"Comparing themes by {md_inline(field)} …"):
         return with_names(_segments(*version_key(ws, version.n), field), version)
 
 
 def movers(
-    ws: WorkspaceDir, version: Version, freq: str, before: pd.Timestamp, after: pd.Timestamp
+    ws: Workspace, version: Version, freq: str, before: pd.Timestamp, after: pd.Timestamp
 ) -> pd.DataFrame:
     """Ranked change of each theme's share between two periods (numbers cached)."""
     with st.spinner("Comparing the two periods …"):
@@ -184,10 +184,10 @@ def movers(
 
 @st.cache_resource(show_spinner=False, max_entries=2)
 def _prep_vocabulary(root: str, prep_hash: str) -> list[str]:
-    return load_prep_vocabulary(WorkspaceDir(root), prep_hash)
+    return load_prep_vocabulary(Workspace(root), prep_hash)
 
 
-def prep_vocabulary(ws: WorkspaceDir, prep_hash: str) -> list[str]:
+def prep_vocabulary(ws: Workspace, prep_hash: str) -> list[str]:
     """A prep's vocabulary (cached)."""
     return _prep_vocabulary(str(ws.root), prep_hash)
 
@@ -297,7 +297,7 @@ def sidebar(ready: Readiness) -> None:
         st.code(str(ready.root), language=None)
         if ready.version is not None:
             try:
-                version = current_version(WorkspaceDir(ready.root))
+                version = current_version(Workspace(ready.root))
             except TalkthemesError as exc:
                 show_error(exc)
                 return
@@ -325,7 +325,7 @@ def sidebar(ready: Readiness) -> None:
 LAMBDA = "tt_lambda"
 
 
-def relevance_lambda(ws: WorkspaceDir) -> float:
+def relevance_lambda(ws: Workspace) -> float:
     """The λ the user last picked (default: ``[view] relevance_lambda``)."""
     if LAMBDA not in st.session_state:
         st.session_state[LAMBDA] = float(ws.settings().view.relevance_lambda)

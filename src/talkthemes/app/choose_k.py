@@ -12,7 +12,7 @@ from talkthemes.text import md_inline
 from talkthemes.versions.publish import publish
 from talkthemes.view.choose_k import SweepView, cell_themes, load_sweep, scalar_columns
 from talkthemes.view.readiness import readiness
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 FAMILY_NAMES = {"lda": "LDA", "nmf": "NMF"}
 PICK = "tt_cell_pick"  # (family, K) picked in the chart or the select boxes
@@ -80,7 +80,7 @@ def _recommendations(sweep: SweepView) -> None:
                 )
 
 
-def _run_publish(ws: WorkspaceDir, family: str, k: int) -> None:
+def _run_publish(ws: Workspace, family: str, k: int) -> None:
     label = f"{FAMILY_NAMES.get(family, family)} K = {k}"
     try:
         with ws.lock("publish"):
@@ -115,7 +115,7 @@ def _run_publish(ws: WorkspaceDir, family: str, k: int) -> None:
     st.button("Show the new version", key="choosek_show_new")
 
 
-def _publish_controls(ws: WorkspaceDir, family: str, k: int, n_transcripts: int) -> None:
+def _publish_controls(ws: Workspace, family: str, k: int, n_transcripts: int) -> None:
     label = f"{FAMILY_NAMES.get(family, family)} K = {k}"
     if st.session_state.get(PENDING) != (family, k):
         if st.button(f"Publish {label} …", type="primary", key="choosek_publish"):

@@ -24,7 +24,7 @@ from talkthemes.view.history import (
     versions_timeline,
 )
 from talkthemes.view.readiness import NextStep
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 PICK = "history_version"
 STATUS_TEXT = {
@@ -36,7 +36,7 @@ STATUS_TEXT = {
 
 @st.cache_data(show_spinner=False, max_entries=8)
 def _drift(root: str, n: int, stamp: int) -> dict[str, Any] | None:
-    return load_drift(WorkspaceDir(root), n)
+    return load_drift(Workspace(root), n)
 
 
 @st.cache_data(show_spinner=False, max_entries=8)
@@ -49,7 +49,7 @@ def _timeline_spec(timeline: pd.DataFrame) -> dict[str, Any]:
     return timeline_chart(timeline).to_dict()
 
 
-def _version_top_terms(ws: WorkspaceDir, n: int) -> dict[int, list[str]]:
+def _version_top_terms(ws: Workspace, n: int) -> dict[int, list[str]]:
     """Top terms of a version's themes from its arrays (for a version without a report)."""
     try:
         version = _shared._version(*_shared.version_key(ws, n))
@@ -95,7 +95,7 @@ def _examples(report: dict[str, Any], labels: dict[int, str]) -> None:
         )
 
 
-def _version_details(ws: WorkspaceDir, record: dict[str, Any]) -> None:
+def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
     n = int(record["n"])
     with ws.store() as store:
         themes = store.themes(n)
@@ -150,7 +150,7 @@ def _version_details(ws: WorkspaceDir, record: dict[str, Any]) -> None:
         _examples(report, labels)
 
 
-def _refresh_log(ws: WorkspaceDir) -> None:
+def _refresh_log(ws: Workspace) -> None:
     with ws.store() as store:
         log = store.refreshes(limit=50)
     if not log:

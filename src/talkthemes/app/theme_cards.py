@@ -9,7 +9,7 @@ from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline, percent
 from talkthemes.view.themes import theme_names
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 LAMBDA_HELP = (
     "λ decides how the words are ranked. At 1 they are ranked by how often the theme uses "
@@ -28,7 +28,7 @@ def _save(root: str, theme_id: int, what: str) -> None:
     value = st.session_state[_field_key(what, theme_id)]
     change = {what: value.strip() if isinstance(value, str) else bool(value)}
     try:
-        with WorkspaceDir(root).store() as store:
+        with Workspace(root).store() as store:
             store.set_label(theme_id, **change)
     except TalkthemesError as exc:
         st.session_state["cards_error"] = str(exc)
@@ -37,7 +37,7 @@ def _save(root: str, theme_id: int, what: str) -> None:
     st.toast(f"{words} of theme #{theme_id} saved.", icon=":material/check:")
 
 
-def _editor(ws: WorkspaceDir, theme: dict) -> None:
+def _editor(ws: Workspace, theme: dict) -> None:
     tid = int(theme["theme_id"])
     for what in ("label", "note", "hidden"):
         key = _field_key(what, tid)

@@ -45,7 +45,7 @@ from talkthemes.sweep.run import SweepResult, run_sweep
 from talkthemes.sweep.scoring import seed_agreement
 from talkthemes.versions.fit import fit_version
 from talkthemes.versions.publish import pick_cell
-from talkthemes.workspace import WorkspaceDir, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_text
 
 __all__ = [
     "LeadScore",
@@ -69,7 +69,7 @@ class PlantedWorkspace:
 
     Attributes
     ----------
-    workspace : WorkspaceDir
+    workspace : Workspace
     files : PlantedFiles
     truth : list of dict
         ``truth.csv`` rows (``call_id, kind, reason, secondary_reason``, ...).
@@ -77,7 +77,7 @@ class PlantedWorkspace:
     corpus : PreparedCorpus
     """
 
-    workspace: WorkspaceDir
+    workspace: Workspace
     files: PlantedFiles
     truth: list[dict[str, str]]
     prep_hash: str
@@ -122,7 +122,7 @@ def build_workspace(
     """
     root = Path(root)
     files = write_planted(root / "source", spec)
-    ws = WorkspaceDir(root / "ws")
+    ws = Workspace(root / "ws")
     ws.init()
     if settings:
         lines = []

@@ -32,7 +32,7 @@ from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.progress import Progress
 from talkthemes.store import Store, TextMatch
 from talkthemes.text.escape import csv_cell
-from talkthemes.workspace import WorkspaceDir, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_text
 
 __all__ = ["IngestReport", "ingest", "reexport_rule", "write_rejects_csv"]
 
@@ -206,7 +206,7 @@ class _Batcher:
 
 
 def ingest(
-    workspace: WorkspaceDir,
+    workspace: Workspace,
     paths: Sequence[Path],
     *,
     manifests: Sequence[Path] = (),
@@ -226,7 +226,7 @@ def ingest(
 
     Parameters
     ----------
-    workspace : WorkspaceDir
+    workspace : Workspace
     paths : sequence of Path
         Transcript files, tables and folders.
     manifests : sequence of Path

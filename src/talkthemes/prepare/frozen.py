@@ -44,7 +44,7 @@ from talkthemes.prepare.headwords import resolve_tokens
 from talkthemes.prepare.phrases import DELIMITER, PhraseModel, join_runs
 from talkthemes.prepare.run import CHAIN_VERSION, EXPLAIN_FILE
 from talkthemes.prepare.workers import Batch
-from talkthemes.workspace import WorkspaceDir, atomic_dir
+from talkthemes.workspace import Workspace, atomic_dir
 
 __all__ = [
     "NO_KNOWN_TERMS",
@@ -141,7 +141,7 @@ def _version_number(chain_version: str) -> int:
 _FROM_PREP = ("chain_version", "lemmas")
 
 
-def load_prep_spec(ws: WorkspaceDir, version: Any) -> PrepSpec:
+def load_prep_spec(ws: Workspace, version: Any) -> PrepSpec:
     """The prep spec of a loaded version.
 
     Read from ``versions/<n>/prep.json``; for versions written before that file existed,
@@ -387,7 +387,7 @@ class PrepApplier:
         return AppliedBatch.concat([self.apply(b) for b in batches], len(self.spec.vocabulary))
 
 
-def build_frozen_prep(ws: WorkspaceDir, version: Any, spec: Any) -> tuple[str, Path]:
+def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path]:
     """Prepare every stored transcript with a version's frozen prep; make it current.
 
     The vocabulary, phrases and boilerplate sentences are the version's; transcripts with

@@ -24,7 +24,7 @@ from talkthemes.errors import NotReadyError, StoreError
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.corpus import FILES, PreparedCorpus, library_versions
 from talkthemes.progress import Progress, report
-from talkthemes.workspace import WorkspaceDir, atomic_dir
+from talkthemes.workspace import Workspace, atomic_dir
 
 __all__ = [
     "CHAIN_VERSION",
@@ -120,7 +120,7 @@ def _db_info(corpus_info: dict[str, Any], path: Path) -> dict[str, Any]:
 
 
 def run_prepare(
-    workspace: WorkspaceDir, *, force: bool = False, progress: Progress | None = None
+    workspace: Workspace, *, force: bool = False, progress: Progress | None = None
 ) -> PrepareResult:
     """Prepare the workspace's transcripts with its ``[prepare]`` settings.
 
@@ -129,7 +129,7 @@ def run_prepare(
 
     Parameters
     ----------
-    workspace : WorkspaceDir
+    workspace : Workspace
     force : bool
         Run the chain even when a prep with the same hash exists.
     progress : Progress, optional
@@ -200,7 +200,7 @@ def run_prepare(
         return PrepareResult(prep_hash, final, corpus.summary(), False, explain)
 
 
-def load_current(workspace: WorkspaceDir, *, mmap: bool = True) -> PreparedCorpus:
+def load_current(workspace: Workspace, *, mmap: bool = True) -> PreparedCorpus:
     """Load the workspace's current prep.
 
     Raises

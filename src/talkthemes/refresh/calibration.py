@@ -9,13 +9,13 @@ from typing import Any
 import numpy as np
 
 from talkthemes.sweep.split import subsample_rows
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["calibration_fits"]
 
 
 def calibration_fits(
-    ws: WorkspaceDir, counts: Any, family: str, k: int, seed: int, n: int
+    ws: Workspace, counts: Any, family: str, k: int, seed: int, n: int
 ) -> list[np.ndarray]:
     """``n`` more fits of ``family`` at ``k`` (seeds ``seed + 1`` …), each on its own random
     ``[sweep] subsample`` of the transcripts: the topic–term matrices the same-theme cut-off

@@ -19,7 +19,7 @@ from talkthemes.metrics.coherence import score
 from talkthemes.metrics.cooccurrence import build_reference
 from talkthemes.prepare.frozen import PrepApplier, PrepSpec
 from talkthemes.versions.load import Version
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["MIN_NEW_FOR_CHECK", "coherence_check"]
 
@@ -28,7 +28,7 @@ MIN_NEW_FOR_CHECK = 20
 
 
 def coherence_check(
-    ws: WorkspaceDir,
+    ws: Workspace,
     version: Version,
     spec: PrepSpec,
     new_ids: Sequence[str],

@@ -24,7 +24,7 @@ from talkthemes.versions.drift_markdown import render_markdown
 from talkthemes.versions.fit import FittedVersion
 from talkthemes.versions.load import Version
 from talkthemes.versions.write import ExtraFiles, ThemePlan
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["DriftPng", "default_drift_png", "drift_files", "drift_of", "excerpt", "theme_plan"]
 
@@ -44,7 +44,7 @@ def excerpt(turns: Sequence[tuple[str, str]], scrub_on: bool, width: int = 200) 
 
 
 def drift_of(
-    ws: WorkspaceDir,
+    ws: Workspace,
     current: Version,
     fitted: FittedVersion,
     alignment: Alignment,

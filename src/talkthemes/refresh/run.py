@@ -66,7 +66,7 @@ from talkthemes.versions.load import Version, load_version
 from talkthemes.versions.prune import remove_leftovers
 from talkthemes.versions.publish import find_cell
 from talkthemes.versions.write import write_version
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["PAUSE_STAGES", "RefreshResult", "refresh"]
 
@@ -169,7 +169,7 @@ class RefreshResult:
 
 
 # -- inputs -------------------------------------------------------------------------------
-def _ingest_paths(ws: WorkspaceDir, paths: Sequence[Path] | None) -> list[Path]:
+def _ingest_paths(ws: Workspace, paths: Sequence[Path] | None) -> list[Path]:
     if paths:
         return [Path(p) for p in paths]
     inbox = ws.settings().refresh.inbox.strip()
@@ -188,7 +188,7 @@ def _known_ids(version: Any, spec: Any) -> set[str]:
 
 
 # -- inputs -------------------------------------------------------------------------------
-def _ingest_paths(ws: WorkspaceDir, paths: Sequence[Path] | None) -> list[Path]:
+def _ingest_paths(ws: Workspace, paths: Sequence[Path] | None) -> list[Path]:
     if paths:
         return [Path(p) for p in paths]
     inbox = ws.settings().refresh.inbox.strip()
@@ -207,7 +207,7 @@ def _known_ids(version: Any, spec: Any) -> set[str]:
 
 
 # -- the run ------------------------------------------------------------------------------
-def _resweep_fit(ws: WorkspaceDir, family: str, prep_hash: str) -> tuple[int, int, str]:
+def _resweep_fit(ws: Workspace, family: str, prep_hash: str) -> tuple[int, int, str]:
     """Run the [sweep] grid for ``family`` on the current prep; its recommended K and seed."""
     result = run_sweep(ws, families=[family])
     rec = result.recommendations.get(family)
@@ -218,7 +218,7 @@ def _resweep_fit(ws: WorkspaceDir, family: str, prep_hash: str) -> tuple[int, in
 
 
 def refresh(
-    ws: WorkspaceDir,
+    ws: Workspace,
     *,
     ingest_paths: Sequence[Path] | None = None,
     manifests: Sequence[Path] = (),
@@ -231,7 +231,7 @@ def refresh(
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
     ingest_paths : sequence of Path, optional
         Files and folders to ingest; ``[refresh] inbox`` when omitted.
     manifests : sequence of Path
@@ -296,7 +296,7 @@ def refresh(
 
 
 def _run(
-    ws: WorkspaceDir,
+    ws: Workspace,
     result: RefreshResult,
     current: Version,
     spec: PrepSpec,

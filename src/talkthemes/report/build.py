@@ -15,13 +15,13 @@ from talkthemes.view.metadata import load_metadata
 from talkthemes.view.readiness import readiness
 from talkthemes.view.theme_map import theme_layout
 from talkthemes.view.themes import theme_table
-from talkthemes.workspace import WorkspaceDir, atomic_write_bytes, atomic_write_text
+from talkthemes.workspace import Workspace, atomic_write_bytes, atomic_write_text
 
 __all__ = ["build_report", "write_report"]
 
 
 def build_report(
-    ws: WorkspaceDir,
+    ws: Workspace,
     *,
     lam: float | None = None,
     excerpts: int = 3,
@@ -31,7 +31,7 @@ def build_report(
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
     lam : float, optional
         Relevance weight for ranking words (default ``[view] relevance_lambda``).
     excerpts : int
@@ -77,7 +77,7 @@ def build_report(
 
 
 def write_report(
-    ws: WorkspaceDir,
+    ws: Workspace,
     out: Path,
     *,
     png_dir: Path | None = None,
@@ -89,7 +89,7 @@ def write_report(
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
     out : Path
         The HTML file to write (replaced atomically).
     png_dir : Path, optional

@@ -35,7 +35,7 @@ from talkthemes.view.transcript import (
     segments_html,
     version_lemmas,
 )
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = [
     "footer",
@@ -73,7 +73,7 @@ def header(report: Report, version: Version, meta: MetaTable, table: pd.DataFram
     return "".join(parts)
 
 
-def sweep_section(ws: WorkspaceDir, sweep_id: int | None, report: Report) -> str:
+def sweep_section(ws: Workspace, sweep_id: int | None, report: Report) -> str:
     """How K was chosen: the sweep chart, the recommendation, its reasons, the runners-up.
 
     Empty when the version's sweep is gone (a version outlives its sweep's files).
@@ -142,7 +142,7 @@ def map_section(table: pd.DataFrame, layout: ThemeLayout, report: Report) -> str
 
 
 def _card(
-    ws: WorkspaceDir,
+    ws: Workspace,
     version: Version,
     meta: MetaTable,
     row: pd.Series,
@@ -206,7 +206,7 @@ def _card(
 
 
 def themes_section(
-    ws: WorkspaceDir,
+    ws: Workspace,
     version: Version,
     meta: MetaTable,
     table: pd.DataFrame,

@@ -37,7 +37,7 @@ from talkthemes.sweep.recommend import Recommendation, recommend
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
 from talkthemes.sweep.state import run_info
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["SweepResult", "load_current_prep", "run_sweep", "sweep_settings"]
 
@@ -58,7 +58,7 @@ def _checkpoint(stage: str) -> None:
         time.sleep(seconds)
 
 
-def load_current_prep(ws: WorkspaceDir) -> tuple[dict[str, Any], Path]:
+def load_current_prep(ws: Workspace) -> tuple[dict[str, Any], Path]:
     """The current prep's record and folder, or :class:`NotReadyError` naming the command."""
     with ws.store() as store:
         prep = store.current_prep()
@@ -124,7 +124,7 @@ class SweepResult:
         }
 
 
-def sweep_settings(ws: WorkspaceDir, **updates: Any) -> SweepSettings:
+def sweep_settings(ws: Workspace, **updates: Any) -> SweepSettings:
     """The workspace's ``[sweep]`` settings with the given values (``None`` = keep) applied."""
     settings = ws.settings().sweep
     given = {k: v for k, v in updates.items() if v is not None}
@@ -183,7 +183,7 @@ def _client(settings: SweepSettings) -> Iterator[Any]:
 
 
 def run_sweep(
-    ws: WorkspaceDir,
+    ws: Workspace,
     *,
     k: str | None = None,
     families: Sequence[str] | None = None,
@@ -200,7 +200,7 @@ def run_sweep(
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
     k : str, optional
         Topic-count grid, see :func:`~talkthemes.sweep.grid.parse_k`.
     families : sequence of str, optional
@@ -272,7 +272,7 @@ def run_sweep(
 
 
 def _open_record(
-    ws: WorkspaceDir,
+    ws: Workspace,
     found: dict[str, Any] | None,
     prep_hash: str,
     key: str,
@@ -298,7 +298,7 @@ def _open_record(
 
 
 def _score(
-    ws: WorkspaceDir,
+    ws: Workspace,
     sweep_id: int,
     folder: Path,
     corpus: PreparedCorpus,
@@ -352,7 +352,7 @@ def _load_finished(folder: Path, record: dict[str, Any]) -> SweepResult | None:
 
 
 def _run_cells(
-    ws: WorkspaceDir,
+    ws: Workspace,
     client: Any,
     sweep_id: int,
     folder: Path,

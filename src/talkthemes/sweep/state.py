@@ -18,7 +18,7 @@ import os
 import socket
 from typing import Any
 
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["UNFINISHED", "effective_status", "run_info", "sweep_overview", "unfinished_sweeps"]
 
@@ -71,7 +71,7 @@ def _rerun_command(record: dict[str, Any]) -> str:
     return f"talkthemes sweep --k {k} --family {families} --seeds {record.get('seeds')}"
 
 
-def unfinished_sweeps(ws: WorkspaceDir) -> list[dict[str, Any]]:
+def unfinished_sweeps(ws: Workspace) -> list[dict[str, Any]]:
     """Sweeps of the current prep that stopped before the end and were not finished since.
 
     Returns
@@ -83,7 +83,7 @@ def unfinished_sweeps(ws: WorkspaceDir) -> list[dict[str, Any]]:
     return sweep_overview(ws)["unfinished"]
 
 
-def sweep_overview(ws: WorkspaceDir) -> dict[str, Any]:
+def sweep_overview(ws: Workspace) -> dict[str, Any]:
     """The latest sweep with its effective status, and the unfinished sweeps.
 
     Returns

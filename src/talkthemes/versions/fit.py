@@ -16,7 +16,7 @@ import numpy as np
 
 from talkthemes.metrics.coherence import score
 from talkthemes.metrics.cooccurrence import build_reference
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["FittedVersion", "fit_version", "prep_record"]
 
@@ -57,7 +57,7 @@ def prep_record(corpus: Any) -> dict[str, Any]:
 
 
 def fit_version(
-    ws: WorkspaceDir,
+    ws: Workspace,
     corpus: Any,
     *,
     family: str,
@@ -70,7 +70,7 @@ def fit_version(
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
     corpus : PreparedCorpus
     family, k, seed
         The model to fit (``[sweep]`` settings give the rest).

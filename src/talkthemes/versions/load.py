@@ -17,7 +17,7 @@ import pandas as pd
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.metrics.relevance import relevance
 from talkthemes.versions.naming import theme_name
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["Version", "load_version"]
 
@@ -159,7 +159,7 @@ class Version:
         return out
 
 
-def load_version(ws: WorkspaceDir, n: int | None = None) -> Version:
+def load_version(ws: Workspace, n: int | None = None) -> Version:
     """Load version ``n`` (default: the current one).
 
     Raises

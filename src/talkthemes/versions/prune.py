@@ -7,14 +7,14 @@ import logging
 import re
 import shutil
 
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["prune_versions", "remove_leftovers"]
 
 log = logging.getLogger(__name__)
 
 
-def prune_versions(ws: WorkspaceDir, keep: int) -> list[int]:
+def prune_versions(ws: Workspace, keep: int) -> list[int]:
     """Delete all but the newest ``keep`` versions, never the current one.
 
     The store forgets them first (one transaction), then their folders are removed, with
@@ -40,7 +40,7 @@ def prune_versions(ws: WorkspaceDir, keep: int) -> list[int]:
 _TEMPORARY = re.compile(r"\.\d+\.(.+\.tmp|old-\d+)")
 
 
-def remove_leftovers(ws: WorkspaceDir) -> list[str]:
+def remove_leftovers(ws: Workspace) -> list[str]:
     """Remove version folders no version record points to.
 
     These are a version folder written by a run killed before its commit, the temporary

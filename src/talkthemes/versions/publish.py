@@ -29,7 +29,7 @@ from talkthemes.sweep.scoring import seed_agreement
 from talkthemes.versions.fit import fit_version
 from talkthemes.versions.load import load_version
 from talkthemes.versions.write import write_version
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["PublishResult", "find_cell", "fit_key", "pick_cell", "publish"]
 
@@ -134,7 +134,7 @@ def pick_cell(
 
 
 def find_cell(
-    ws: WorkspaceDir,
+    ws: Workspace,
     prep_hash: str,
     sweep_id: int | None,
     *,
@@ -190,7 +190,7 @@ class _Choice:
 
 
 def _choose(
-    ws: WorkspaceDir,
+    ws: Workspace,
     prep_hash: str,
     sweep_id: int | None,
     *,
@@ -218,7 +218,7 @@ def _choose(
     )
 
 
-def _already_current(ws: WorkspaceDir, key: str, prep_hash: str, choice: _Choice) -> int | None:
+def _already_current(ws: Workspace, key: str, prep_hash: str, choice: _Choice) -> int | None:
     """The current version's number when it is the model asked for, else None.
 
     Versions published before the fit key was recorded are compared by prep, family, K and
@@ -242,7 +242,7 @@ def _already_current(ws: WorkspaceDir, key: str, prep_hash: str, choice: _Choice
 
 
 def publish(
-    ws: WorkspaceDir,
+    ws: Workspace,
     *,
     k: int | None = None,
     family: str | None = None,
@@ -258,7 +258,7 @@ def publish(
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
     k, family : optional
         The topic count and family; the sweep cell of that (family, K) with the medoid seed,
         or, when no sweep of the current prep has one, that cell fitted here.

@@ -27,7 +27,7 @@ import numpy as np
 from talkthemes.errors import InputError
 from talkthemes.versions.fit import FittedVersion
 from talkthemes.versions.prune import prune_versions
-from talkthemes.workspace import WorkspaceDir, atomic_dir
+from talkthemes.workspace import Workspace, atomic_dir
 
 __all__ = ["Checkpoint", "ExtraFiles", "ThemePlan", "write_version"]
 
@@ -69,7 +69,7 @@ Checkpoint = Callable[[str], None]
 
 
 def write_version(
-    ws: WorkspaceDir,
+    ws: Workspace,
     fitted: FittedVersion,
     *,
     plan: ThemePlan | None = None,
@@ -88,7 +88,7 @@ def write_version(
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
     fitted : FittedVersion
     plan : ThemePlan, optional
         Theme ids and statuses per row; by default every row is a new theme.

@@ -14,7 +14,7 @@ import pandas as pd
 from talkthemes.errors import NotReadyError
 from talkthemes.sweep.scoring import seed_agreement
 from talkthemes.versions.publish import pick_cell
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = [
     "CellThemes",
@@ -71,7 +71,7 @@ class SweepView:
         return sorted(int(k) for k in set(self.cells.loc[self.cells["family"] == family, "k"]))
 
 
-def load_sweep(ws: WorkspaceDir, sweep_id: int | None = None) -> SweepView:
+def load_sweep(ws: Workspace, sweep_id: int | None = None) -> SweepView:
     """Read a sweep (default: the latest) with its scored cells and recommendations.
 
     Raises
@@ -117,7 +117,7 @@ class CellThemes:
 
 
 def cell_themes(
-    ws: WorkspaceDir,
+    ws: Workspace,
     sweep: SweepView,
     family: str,
     k: int,
@@ -130,7 +130,7 @@ def cell_themes(
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
     sweep : SweepView
     family : str
     k : int
@@ -163,7 +163,7 @@ def cell_themes(
     return CellThemes(str(row["cell"]), family, int(row["k"]), int(row["seed"]), frame)
 
 
-def load_prep_vocabulary(ws: WorkspaceDir, prep_hash: str) -> list[str]:
+def load_prep_vocabulary(ws: Workspace, prep_hash: str) -> list[str]:
     """The vocabulary of a prep (``prepared/<hash>/vocabulary.json``)."""
     path = ws.prepared_dir / prep_hash / "vocabulary.json"
     if not path.exists():

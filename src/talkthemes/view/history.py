@@ -20,7 +20,7 @@ import pandas as pd
 
 from talkthemes.errors import InputError
 from talkthemes.versions.naming import theme_name
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = [
     "TIMELINE_COLUMNS",
@@ -278,7 +278,7 @@ def new_theme_examples(
     return pd.DataFrame(rows, columns=["theme_id", "theme", "transcript_id", "share", "excerpt"])
 
 
-def load_drift(ws: WorkspaceDir, n: int) -> dict[str, Any] | None:
+def load_drift(ws: Workspace, n: int) -> dict[str, Any] | None:
     """Version ``n``'s ``drift.json``, or None when the version has none (not a refresh).
 
     Raises

@@ -13,7 +13,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["MAX_CATEGORIES", "FieldInfo", "MetaTable", "load_metadata", "metadata_table"]
 
@@ -112,7 +112,7 @@ def metadata_table(doc_ids: Sequence[str], metadata: Mapping[str, Mapping[str, s
     return MetaTable(frame, fields, date_field, dates, numbers)
 
 
-def load_metadata(ws: WorkspaceDir, doc_ids: Sequence[str]) -> MetaTable:
+def load_metadata(ws: Workspace, doc_ids: Sequence[str]) -> MetaTable:
     """Read every transcript's metadata once and align it with ``doc_ids``."""
     with ws.store() as store:
         metadata = store.metadata_for(None)

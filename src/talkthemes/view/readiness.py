@@ -13,7 +13,7 @@ from pathlib import Path
 from typing import Literal
 
 from talkthemes.errors import InputError
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = ["Need", "NextStep", "Readiness", "readiness"]
 
@@ -132,12 +132,12 @@ class Readiness:
         return self.blocker("version")
 
 
-def readiness(ws: WorkspaceDir) -> Readiness:
+def readiness(ws: Workspace) -> Readiness:
     """Look at a workspace without changing it: what exists, what is missing.
 
     Parameters
     ----------
-    ws : WorkspaceDir
+    ws : Workspace
 
     Returns
     -------

@@ -43,7 +43,7 @@ from talkthemes.errors import InputError, TalkthemesError
 from talkthemes.prepare.lexicon import load_lemma_table
 from talkthemes.text import html_text
 from talkthemes.versions.load import Version
-from talkthemes.workspace import WorkspaceDir
+from talkthemes.workspace import Workspace
 
 __all__ = [
     "Segment",
@@ -270,7 +270,7 @@ def turn_views(turns: Iterable[Any], highlighter: TermHighlighter) -> list[TurnV
     ]
 
 
-def load_transcript(ws: WorkspaceDir, tid: str, highlighter: TermHighlighter) -> list[TurnView]:
+def load_transcript(ws: Workspace, tid: str, highlighter: TermHighlighter) -> list[TurnView]:
     """A stored transcript's turns with the highlighter's terms marked.
 
     Raises
