@@ -74,7 +74,27 @@ def load_current_prep(ws: Workspace) -> tuple[dict[str, Any], Path]:
 
 @dataclass
 class SweepResult:
-    """A finished sweep: its cells' metrics and the recommendation per family."""
+    """A finished sweep: its cells' metrics and the recommendation per family.
+
+    Attributes
+    ----------
+    sweep_id : int
+    folder : Path
+        ``sweeps/<id>/``.
+    cells : DataFrame
+        One row per fitted cell: ``cell``, ``family``, ``k``, ``seed`` and its metrics
+        (coherence measures, stability, diversity, held-out fit, fit seconds).
+    recommendations : dict of str to Recommendation
+        Per family; also read as :attr:`recommendation`.
+    reused_cells : int
+        Cells taken from an earlier run of the same grid.
+    cached : bool
+        True when the whole sweep was already done and is returned as it was.
+    failed : list of dict
+        Cells that failed: ``cell`` and ``error``.
+    rank_by : str
+        The coherence measure the recommendation ranked by.
+    """
 
     sweep_id: int
     folder: Path
@@ -84,6 +104,11 @@ class SweepResult:
     cached: bool = False
     failed: list[dict[str, str]] = field(default_factory=list)
     rank_by: str = "c_npmi"
+
+    @property
+    def recommendation(self) -> dict[str, Recommendation]:
+        """The recommended K per family (the public API's name for ``recommendations``)."""
+        return self.recommendations
 
     def to_json(self) -> dict[str, Any]:
         """A JSON-ready dict (per-topic score lists left out)."""
