@@ -298,7 +298,7 @@ def assign(
     v = load_version(ws, version)
     applier = PrepApplier(load_prep_spec(ws, v))
     model = ShareModel.from_version(v)
-    labels = [t["label"] for t in v.themes]
+    labels = [t.label for t in v.themes]
     settings = ws.settings().ingest
     in_folders = folder_manifests(paths)
     stored = None

@@ -240,15 +240,15 @@ def recommended_cell(ws: Workspace, family: str | None) -> tuple[str, int]:
 
     with ws.store() as store:
         sweep = next(
-            (s for s in map(store.get_sweep, store.sweep_ids()) if s and s.get("recommendations")),
+            (s for s in map(store.get_sweep, store.sweep_ids()) if s and s.recommendations),
             None,
         )
-        cells = pd.DataFrame(store.cells(sweep["id"])) if sweep else pd.DataFrame()
-    if sweep is None:
+        cells = pd.DataFrame([c.row() for c in store.cells(sweep.id)]) if sweep else pd.DataFrame()
+    if sweep is None or not sweep.recommendations:
         raise ConfigError("no finished sweep with a recommendation: run 'talkthemes sweep'")
-    recs = {f: Recommendation(**r) for f, r in sweep["recommendations"].items()}
+    recs = {f: Recommendation(**r) for f, r in sweep.recommendations.items()}
     if family is None:
-        scored = ws.sweeps_dir / str(sweep["id"]) / "cells.parquet"
+        scored = ws.sweeps_dir / str(sweep.id) / "cells.parquet"
         family = best_family(recs, pd.read_parquet(scored) if scored.exists() else cells)
     if family not in recs:
         raise ConfigError(f"the sweep has no recommendation for --family {family}")

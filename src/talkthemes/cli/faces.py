@@ -110,11 +110,11 @@ def demo(
         existing = store.current_version()
     if existing is not None:  # a second run keeps the versions, labels and notes made so far
         say(
-            f"{ws.root} already holds the demo (version {existing['n']} is current); "
+            f"{ws.root} already holds the demo (version {existing.n} is current); "
             "delete the folder to build it again."
         )
         if as_json:
-            emit_json({"workspace": str(ws.root), "existing_version": existing["n"]})
+            emit_json({"workspace": str(ws.root), "existing_version": existing.n})
         elif serve:
             _serve(ws, host, port)
         return

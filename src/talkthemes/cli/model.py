@@ -146,19 +146,18 @@ def _check_cell(ws: Workspace, cell: str, *, k: int | None, family: str | None) 
     """Refuse ``--k``/``--family`` that disagree with the cell ``--cell`` names."""
     with ws.store() as store:
         found = next(
-            (c for sid in store.sweep_ids() for c in store.cells(sid) if c["cell"] == cell),
+            (c for sid in store.sweep_ids() for c in store.cells(sid) if c.cell == cell),
             None,
         )
     if found is None:
         return  # the publish step names the unknown cell
-    if k is not None and int(found["k"]) != k:
+    if k is not None and found.k != k:
         raise ConfigError(
-            f"--cell {cell} has K={found['k']}, not --k {k}: give --cell alone, "
-            "or --k with --family"
+            f"--cell {cell} has K={found.k}, not --k {k}: give --cell alone, or --k with --family"
         )
-    if family is not None and found["family"] != family:
+    if family is not None and found.family != family:
         raise ConfigError(
-            f"--cell {cell} is {found['family']}, not --family {family}: give --cell alone, "
+            f"--cell {cell} is {found.family}, not --family {family}: give --cell alone, "
             "or --k with --family"
         )
 
@@ -169,7 +168,7 @@ def _make_current(ws: Workspace, version: int, *, as_json: bool) -> None:
     from talkthemes.versions.load import load_version
 
     with ws.store() as store:
-        known = [v["n"] for v in store.versions()]
+        known = [v.n for v in store.versions()]
         if version not in known:
             raise ConfigError(
                 f"--version {version}: no such version (kept: "

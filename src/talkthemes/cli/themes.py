@@ -83,8 +83,8 @@ def label(
         current = store.current_version()
         if current is None:
             raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-        n = int(current["n"])
-        ids = [int(t["theme_id"]) for t in store.themes(n)]
+        n = current.n
+        ids = [t.theme_id for t in store.themes(n)]
         if theme_id not in ids:
             raise InputError(
                 f"there is no theme {theme_id} in version {n} (its theme ids: {id_ranges(ids)}; "
@@ -92,12 +92,12 @@ def label(
             )
         row = store.set_label(theme_id, label=text, note=note, hidden=hide)
     if as_json:
-        emit_json(row)
+        emit_json(row.to_json())
         return
-    parts = [f"Theme {theme_id}: label “", row["label"] or "", "”"]
-    if row["note"]:
-        parts += [", note “", row["note"], "”"]
-    if row["hidden"]:
+    parts = [f"Theme {theme_id}: label “", row.label or "", "”"]
+    if row.note:
+        parts += [", note “", row.note, "”"]
+    if row.hidden:
         parts.append(", hidden")
     say(*parts)
 

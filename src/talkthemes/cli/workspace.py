@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 from typing import Annotated, Any
 
@@ -51,12 +52,13 @@ def status_data(ws: Workspace) -> dict[str, Any]:
         summary = store.summary()
         stages = store.stages()
     sweeps = sweep_overview(ws)
-    if stages["swept"] and sweeps["latest"]:  # 'running' of a killed sweep reads interrupted
-        stages["swept"]["status"] = sweeps["latest"]["status"]
+    if stages.swept and sweeps["latest"]:  # 'running' of a killed sweep reads interrupted
+        swept = dataclasses.replace(stages.swept, status=sweeps["latest"]["status"])
+        stages = dataclasses.replace(stages, swept=swept)
     return {
         "workspace": str(ws.root),
-        **summary,
-        "stages": stages,
+        **summary.to_json(),
+        "stages": stages.to_json(),
         "unfinished_sweeps": sweeps["unfinished"],
     }
 
