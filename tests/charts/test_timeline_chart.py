@@ -9,26 +9,27 @@ import tests.charts.spec as vl
 from talkthemes.charts.history import timeline_chart
 from talkthemes.charts.style import BLACK, BLUE, BLUISH_GREEN
 from talkthemes.errors import InputError
+from talkthemes.store.records import VersionRecord, VersionRefresh
 from talkthemes.view.history import versions_timeline
 
 VERSIONS = [
-    {"n": 1, "created_at": "2026-05-01T09:00:00", "current": False, "family": "nmf", "k": 8},
-    {
-        "n": 2,
-        "created_at": "2026-06-01T09:00:00+00:00",
-        "current": False,
-        "family": "nmf",
-        "k": 8,
-        "refresh": {"previous_version": 1, "new_transcripts": 120},
-    },
-    {
-        "n": 3,
-        "created_at": "2026-07-01T09:00:00",
-        "current": True,
-        "family": "nmf",
-        "k": 9,
-        "refresh": {"previous_version": 2, "new_transcripts": 80},
-    },
+    VersionRecord(n=1, created_at="2026-05-01T09:00:00", current=False, family="nmf", k=8),
+    VersionRecord(
+        n=2,
+        created_at="2026-06-01T09:00:00+00:00",
+        current=False,
+        family="nmf",
+        k=8,
+        refresh=VersionRefresh(previous_version=1, new_transcripts=120),
+    ),
+    VersionRecord(
+        n=3,
+        created_at="2026-07-01T09:00:00",
+        current=True,
+        family="nmf",
+        k=9,
+        refresh=VersionRefresh(previous_version=2, new_transcripts=80),
+    ),
 ]
 
 

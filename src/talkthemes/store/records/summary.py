@@ -144,6 +144,7 @@ class StoreSummary(DictAccess):
             "same_text_pairs": self.same_text_pairs,
         }
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
         return self.to_json()
 
@@ -201,5 +202,6 @@ class Stages(DictAccess):
             "published": None if self.published is None else self.published.to_json(),
         }
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
         return self.to_json()

@@ -64,6 +64,7 @@ class PrepRecord(DictAccess):
             info=doc,
         )
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
         return {**self.info, "hash": self.hash, "created_at": self.created_at}
 
@@ -137,6 +138,7 @@ class SweepRecord(DictAccess):
             info=doc,
         )
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
         return {
             **self.info,
@@ -216,5 +218,6 @@ class CellRecord(DictAccess):
             **self.metrics,
         }
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
         return self.row()

@@ -26,6 +26,7 @@ class DictAccess:
 
     __slots__ = ()
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
         """The dict the store returned for this record before records were typed."""
         raise NotImplementedError

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Any, ClassVar
+from typing import Any
 
 from talkthemes.store.records._base import (
     EMPTY,
@@ -47,11 +47,11 @@ class VersionRefresh:
         The whole block (also ``same_theme_cutoff`` and ``coherence_check``).
     """
 
-    refresh_id: int | None
-    previous_version: int | None
-    new_transcripts: int | None
-    resweep: bool
-    resweep_reason: str | None
+    refresh_id: int | None = None
+    previous_version: int | None = None
+    new_transcripts: int | None = None
+    resweep: bool = False
+    resweep_reason: str | None = None
     info: Mapping[str, Any] = EMPTY
 
     @classmethod
@@ -124,6 +124,7 @@ class VersionRecord(DictAccess):
             info=doc,
         )
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
         return {"n": self.n, "created_at": self.created_at, "current": self.current, **self.info}
 
@@ -181,10 +182,6 @@ class ThemeRecord(DictAccess):
     possible_merge_of: tuple[int, ...] = ()
     info: Mapping[str, Any] = EMPTY
 
-    _COLUMNS: ClassVar[tuple[str, ...]] = (
-        "theme_id", "position", "status", "info", "label", "note", "hidden",
-    )  # fmt: skip
-
     @classmethod
     def from_row(
         cls,
@@ -213,8 +210,17 @@ class ThemeRecord(DictAccess):
             info=doc,
         )
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
-        return {k: getattr(self, k) for k in self._COLUMNS}
+        return {
+            "theme_id": self.theme_id,
+            "position": self.position,
+            "status": self.status,
+            "info": self.info,
+            "label": self.label,
+            "note": self.note,
+            "hidden": self.hidden,
+        }
 
 
 @dataclass(frozen=True, slots=True)
@@ -245,8 +251,6 @@ class RetiredTheme(DictAccess):
     nearest_new: NearestTheme | None = None
     info: Mapping[str, Any] = EMPTY
 
-    _COLUMNS: ClassVar[tuple[str, ...]] = ("theme_id", "info", "label", "note", "hidden")
-
     @classmethod
     def from_row(
         cls, theme_id: int, info: str, label: str | None, note: str | None, hidden: int | None
@@ -264,8 +268,15 @@ class RetiredTheme(DictAccess):
             info=doc,
         )
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
-        return {k: getattr(self, k) for k in self._COLUMNS}
+        return {
+            "theme_id": self.theme_id,
+            "info": self.info,
+            "label": self.label,
+            "note": self.note,
+            "hidden": self.hidden,
+        }
 
 
 @dataclass(frozen=True, slots=True)
@@ -286,6 +297,7 @@ class LabelRecord(DictAccess):
             "hidden": self.hidden,
         }
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
         return self.to_json()
 
@@ -356,6 +368,7 @@ class RefreshRecord(DictAccess):
             info=doc,
         )
 
+    # transitional: dict-style access for code written before typed records
     def _legacy_dict(self) -> dict[str, Any]:
         return {
             **self.info,
