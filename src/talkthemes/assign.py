@@ -270,7 +270,7 @@ def assign_items(
     rejects : list of Reject
     warnings : list of Warning_
     """
-    labels = [t["label"] for t in version.themes]
+    labels = [t.label for t in version.themes]
     rejects: list[Reject] = []
     warnings: list[Warning_] = []
     frames = []

@@ -26,7 +26,7 @@ def current_number(folder: WorkspaceDir) -> int | None:
     """The current version's number; None before the first publish."""
     with folder.store() as store:
         current = store.current_version()
-    return None if current is None else int(current["n"])
+    return None if current is None else current.n
 
 
 def latest(folder: WorkspaceDir, family: str | None) -> recommend.Recommendation:
@@ -39,15 +39,15 @@ def latest(folder: WorkspaceDir, family: str | None) -> recommend.Recommendation
     """
     with folder.store() as store:
         sweep = next(
-            (s for s in map(store.get_sweep, store.sweep_ids()) if s and s.get("recommendations")),
+            (s for s in map(store.get_sweep, store.sweep_ids()) if s and s.recommendations),
             None,
         )
-        cells = pd.DataFrame(store.cells(sweep["id"])) if sweep else pd.DataFrame()
+        cells = pd.DataFrame([c.row() for c in store.cells(sweep.id)]) if sweep else pd.DataFrame()
     if sweep is None:
         raise ConfigError("no finished sweep with a recommendation: run 'talkthemes sweep'")
-    recs = {f: recommend.Recommendation(**r) for f, r in sweep["recommendations"].items()}
+    recs = {f: recommend.Recommendation(**r) for f, r in sweep.recommendations.items()}
     if family is None:
-        scored = folder.sweeps_dir / str(sweep["id"]) / "cells.parquet"
+        scored = folder.sweeps_dir / str(sweep.id) / "cells.parquet"
         family = recommend.best_family(recs, pd.read_parquet(scored) if scored.exists() else cells)
     if family not in recs:
         raise ConfigError(f"the sweep has no recommendation for --family {family}")
@@ -61,19 +61,18 @@ def check_cell(folder: WorkspaceDir, cell: str, *, k: int | None, family: str | 
     """
     with folder.store() as store:
         found = next(
-            (c for sid in store.sweep_ids() for c in store.cells(sid) if c["cell"] == cell),
+            (c for sid in store.sweep_ids() for c in store.cells(sid) if c.cell == cell),
             None,
         )
     if found is None:
         return
-    if k is not None and int(found["k"]) != k:
+    if k is not None and found.k != k:
         raise ConfigError(
-            f"--cell {cell} has K={found['k']}, not --k {k}: give --cell alone, "
-            "or --k with --family"
+            f"--cell {cell} has K={found.k}, not --k {k}: give --cell alone, or --k with --family"
         )
-    if family is not None and found["family"] != family:
+    if family is not None and found.family != family:
         raise ConfigError(
-            f"--cell {cell} is {found['family']}, not --family {family}: give --cell alone, "
+            f"--cell {cell} is {found.family}, not --family {family}: give --cell alone, "
             "or --k with --family"
         )
 
@@ -81,7 +80,7 @@ def check_cell(folder: WorkspaceDir, cell: str, *, k: int | None, family: str | 
 def kept_version(folder: WorkspaceDir, version: int) -> None:
     """Refuse a version number that is not kept."""
     with folder.store() as store:
-        known = [v["n"] for v in store.versions()]
+        known = [v.n for v in store.versions()]
     if version not in known:
         raise ConfigError(
             f"--version {version}: no such version (kept: {', '.join(map(str, known)) or 'none'})"
@@ -94,8 +93,8 @@ def check_theme(folder: WorkspaceDir, theme_id: int) -> None:
         current = store.current_version()
         if current is None:
             raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-        n = int(current["n"])
-        ids = [int(t["theme_id"]) for t in store.themes(n)]
+        n = current.n
+        ids = [t.theme_id for t in store.themes(n)]
     if theme_id not in ids:
         raise InputError(
             f"there is no theme {theme_id} in version {n} (its theme ids: {id_ranges(ids)}; "

@@ -10,6 +10,7 @@ versions are shared read-only (see :mod:`talkthemes.api._cache`).
 
 from __future__ import annotations
 
+import dataclasses
 import logging
 import os
 from collections.abc import Sequence
@@ -67,12 +68,13 @@ class ReadingMixin(WorkspaceBase):
             summary = store.summary()
             stages = store.stages()
         sweeps = sweep_overview(self._dir)
-        if stages["swept"] and sweeps["latest"]:  # 'running' of a killed sweep reads interrupted
-            stages["swept"]["status"] = sweeps["latest"]["status"]
+        if stages.swept and sweeps["latest"]:  # 'running' of a killed sweep reads interrupted
+            swept = dataclasses.replace(stages.swept, status=sweeps["latest"]["status"])
+            stages = dataclasses.replace(stages, swept=swept)
         return Status(
             workspace=str(self._dir.root),
-            **summary,
-            stages=stages,
+            **summary.to_json(),
+            stages=stages.to_json(),
             unfinished_sweeps=sweeps["unfinished"],
         )
 

@@ -400,10 +400,10 @@ class WritingMixin(WorkspaceBase):
         with self._dir.store() as store:
             row = store.set_label(theme_id, label=label, note=note, hidden=hidden)
         return Label(
-            theme_id=int(row["theme_id"]),
-            label=row["label"] or "",
-            note=row["note"] or "",
-            hidden=bool(row["hidden"]),
+            theme_id=row.theme_id,
+            label=row.label or "",
+            note=row.note or "",
+            hidden=bool(row.hidden),
         )
 
     def assign_files(

@@ -174,9 +174,16 @@ def cell(value: Any, style: str = "") -> Text:
     return Text(terminal_text(value).replace("\t", " "), style=style)
 
 
+def _json_value(value: Any) -> Any:
+    """The JSON form of a value ``json`` does not know: its ``to_json()`` (a store record,
+    a result), else its text (a path)."""
+    to_json = getattr(value, "to_json", None)
+    return to_json() if callable(to_json) else str(value)
+
+
 def emit_json(doc: Any) -> None:
     """Print ``doc`` as the command's one JSON document on stdout."""
-    sys.stdout.write(json.dumps(doc, indent=2, ensure_ascii=False, default=str) + "\n")
+    sys.stdout.write(json.dumps(doc, indent=2, ensure_ascii=False, default=_json_value) + "\n")
     sys.stdout.flush()
 
 
