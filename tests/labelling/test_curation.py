@@ -135,7 +135,7 @@ def test_a_merged_version_shows_one_theme_with_summed_shares(
         store.merge_theme(b, a)
     v = load_version(ws)
     assert v.k == 1 and v.theme_ids == [a]
-    assert v.themes[0]["label"] == "Readings and refunds" and v.themes[0]["merged"] == [b]
+    assert v.themes[0].label == "Readings and refunds" and v.themes[0].merged == (b,)
     summed = np.asarray(raw.doc_topics).sum(axis=1)
     assert np.asarray(v.doc_topics)[:, 0] == pytest.approx(summed, abs=1e-5)
     assert v.coverage() == pytest.approx([1.0])
@@ -149,7 +149,7 @@ def test_a_merged_version_shows_one_theme_with_summed_shares(
     with ws.store() as store:
         store.unmerge_theme(a)
     back = load_version(ws)
-    assert back.k == 2 and [t["label"] for t in back.themes] == [
+    assert back.k == 2 and [t.label for t in back.themes] == [
         "Readings and refunds",
         "lost while merged",
     ]  # nothing was lost

@@ -39,7 +39,7 @@ def test_merge_and_not_a_theme_survive_a_refresh(
         store.merge_theme(meter, leak)  # a planted pairing: two reasons as one theme
         store.set_label(outage, hidden=True)  # marked not a theme
     merged = load_version(ws)
-    assert merged.k == K - 1 and merged.themes[merged.position(leak)]["merged"] == [meter]
+    assert merged.k == K - 1 and merged.themes[merged.position(leak)].merged == (meter,)
 
     with ws.lock("refresh"):
         result = refresh(ws, ingest_paths=[demo_files.inbox])
@@ -51,7 +51,7 @@ def test_merge_and_not_a_theme_survive_a_refresh(
     after = load_version(ws)
     assert after.k == K - 1  # both carried, shown as one again
     kept = after.themes[after.position(leak)]
-    assert kept["merged"] == [meter] and kept["label"] == "Water and meters"
+    assert kept.merged == (meter,) and kept.label == "Water and meters"
     rows = [raw.position(leak), raw.position(meter)]
     assert np.allclose(
         np.asarray(after.doc_topics)[:, after.position(leak)],
@@ -59,7 +59,7 @@ def test_merge_and_not_a_theme_survive_a_refresh(
         atol=1e-5,
     )
     assert meter not in after.theme_ids
-    assert after.themes[after.position(outage)]["hidden"]  # still not a theme
+    assert after.themes[after.position(outage)].hidden  # still not a theme
 
     # every curated theme of version 1 is carried or reported as not carried
     cur = result.curation
@@ -82,7 +82,7 @@ def test_merge_and_not_a_theme_survive_a_refresh(
         assert f"- Theme {t}" in md
     with ws.store() as store:
         log = store.refreshes()[0]
-    assert set(log["curation"]["not_carried_theme_ids"]) == lost
+    assert set(log.info["curation"]["not_carried_theme_ids"]) == lost
 
     # the new version was written with its labelling aids
     assert (folder / EVIDENCE_FILE).is_file()

@@ -23,8 +23,8 @@ def _html(at) -> str:
 
 def test_the_theme_card_shows_the_suggested_name_and_the_evidence(demo_ws, monkeypatch) -> None:
     version = load_version(demo_ws.ws)
-    unlabelled = next(t for t in version.themes if not t["label"])
-    tid = int(unlabelled["theme_id"])
+    unlabelled = next(t for t in version.themes if not t.label)
+    tid = unlabelled.theme_id
     at = open_app(demo_ws.ws.root, monkeypatch)
     at.session_state[_shared.SELECTED_THEME] = tid
     run(at, "theme_cards.py")
@@ -106,7 +106,7 @@ def test_the_report_cards_hold_the_evidence_and_mark_suggested_names(
         assert "<h4>Evidence sentences</h4>" in body
         n = min(5, len(version.evidence(pos)))
         assert body.count('class="tt-evidence-item"') == n
-        if not version.themes[pos]["label"]:
+        if not version.themes[pos].label:
             assert "suggested name, not labelled yet" in body
             assert f"<h3>{version.suggested_names()[pos]}</h3>" in body.replace("&#x27;", "'")
     assert SCRIPT not in page

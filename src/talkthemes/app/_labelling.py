@@ -13,9 +13,10 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.charts.why import why_chart
 from talkthemes.errors import TalkthemesError
-from talkthemes.store.curation import CurationEntry
+from talkthemes.store.records import CurationEntry
 from talkthemes.text import md_inline
 from talkthemes.versions.call_terms import CallCounter, call_counter, call_counts
+from talkthemes.versions.evidence_shown import EvidenceMasker, masked_by_default
 from talkthemes.versions.load import Version, load_version
 from talkthemes.view.theme_evidence import evidence_html, evidence_note, evidence_views
 from talkthemes.view.themes import theme_names
@@ -32,19 +33,19 @@ def suggested_caption(version: Version, position: int) -> None:
     """Under a theme's title: its suggested name, marked as such until it is labelled."""
     theme = version.themes[position]
     suggested = version.suggested_names()[position]
-    if str(theme["label"] or "").strip():
+    if theme.label.strip():
         st.caption(f"Suggested name: {md_inline(suggested)}")
     else:
         st.caption(
             f"**Suggested name**, not labelled yet: {md_inline(suggested)}. Built from the "
             "theme's most relevant phrases and words; type a label to replace it."
         )
-    merged = theme.get("merged") or []
+    merged = theme.merged
     if merged:
         st.caption(
             "Merged: themes "
             + ", ".join(f"#{m}" for m in merged)
-            + f" are shown as part of theme #{theme['theme_id']} (their shares added)."
+            + f" are shown as part of theme #{theme.theme_id} (their shares added)."
         )
 
 
@@ -54,13 +55,16 @@ def evidence_section(ws: Workspace, version: Version, position: int) -> None:
     st.caption(
         "The sentences of the calls this theme leads that carry its words most, customers "
         "first, no two from the same call, picked for variety when the version was "
-        "published. Marked words are the theme's top words; personal data is removed."
+        "published. Marked words are the theme's top words; personal data is masked."
     )
     note = evidence_note(version, position)
     if note is not None:
         st.info(md_inline(note), icon=":material/info:")
         return
-    views = evidence_views(version, position, version_lemmas(version), limit=EVIDENCE_SHOWN)
+    masker = EvidenceMasker(ws) if masked_by_default(ws) else None
+    views = evidence_views(
+        version, position, version_lemmas(version), limit=EVIDENCE_SHOWN, masker=masker
+    )
     st.html(evidence_html(views))
     calls = [v.call_id for v in views]
     left, right = st.columns([3, 1])
@@ -68,7 +72,7 @@ def evidence_section(ws: Workspace, version: Version, position: int) -> None:
         "Read one of these calls in full", calls, key=f"evidence_call_{position}_{version.n}"
     )
     if right.button("Open in Calls", icon=":material/call:", key=f"evidence_open_{version.n}"):
-        _shared.select_theme(int(version.themes[position]["theme_id"]))
+        _shared.select_theme(version.themes[position].theme_id)
         st.session_state["calls_open"] = pick
         st.session_state["calls_lead_only"] = True
         st.switch_page("calls.py")
@@ -103,7 +107,7 @@ def _unmerge(root: str, theme_id: int) -> None:
 def curation_section(ws: Workspace, version: Version, position: int) -> None:
     """Merge the theme into another (or undo a merge), and its curation log."""
     theme = version.themes[position]
-    tid = int(theme["theme_id"])
+    tid = theme.theme_id
     names = dict(zip(version.theme_ids, theme_names(version), strict=True))
     others = [t for t in version.theme_ids if t != tid]
     with st.expander("Merge into another theme", icon=":material/merge:"):
@@ -128,9 +132,9 @@ def curation_section(ws: Workspace, version: Version, position: int) -> None:
             args=(str(ws.root), tid, key),
             disabled=st.session_state.get(key) is None,
         )
-        if theme.get("merged"):
+        if theme.merged:
             st.button(
-                "Undo the merge: show " + ", ".join(f"#{m}" for m in theme["merged"]) + " apart",
+                "Undo the merge: show " + ", ".join(f"#{m}" for m in theme.merged) + " apart",
                 key=f"curation_unmerge_{tid}",
                 on_click=_unmerge,
                 args=(str(ws.root), tid),

@@ -4,8 +4,8 @@ export shares.
 ``label --from FILE.csv`` checks every row of the spreadsheet first and applies all of
 them in one transaction, or none: any problem (named with the file and row) exits 2.
 
-The version module is imported inside the commands on purpose: it pulls in numpy, pandas
-and Altair, and ``talkthemes --help`` imports every command module.
+The work happens in :class:`talkthemes.Workspace`, which imports numpy and pandas only when
+a command first needs them (``talkthemes --help`` imports every command module).
 """
 
 from __future__ import annotations
@@ -16,6 +16,7 @@ from typing import Annotated, Any
 
 import typer
 
+from talkthemes import Workspace
 from talkthemes.cli._common import (
     JsonOpt,
     WorkspaceOpt,
@@ -27,10 +28,9 @@ from talkthemes.cli._common import (
     writing,
 )
 from talkthemes.cli._shared import ThemesTable
-from talkthemes.errors import ConfigError, InputError, NotReadyError
-from talkthemes.workspace import atomic_write_bytes
+from talkthemes.errors import ConfigError, InputError
 
-__all__ = ["export", "id_ranges", "label", "themes"]
+__all__ = ["export", "label", "themes"]
 
 
 def themes(
@@ -66,40 +66,26 @@ def themes(
 ) -> None:
     """The current version's themes: name (suggested until labelled), coverage, mean share,
     top terms, coherence; with --out, the spreadsheet to label them in."""
-    # deferred: see the module docstring
-    from talkthemes.versions.load import load_version
-    from talkthemes.versions.spreadsheet import sheet_bytes, themes_sheet
-
+    ws = open_workspace(workspace)
     if out_path is not None:
         check_output(out_path, "--out")
-        if out_path.suffix.lower() != ".csv":
-            raise InputError(f"--out {out_path}: expected a .csv file name")
-    ws = open_workspace(workspace)
-    v = load_version(ws, version)
-    lam = ws.settings().view.relevance_lambda if lam is None else lam
-    summary = v.summary(lam=lam, n_terms=terms)
-    for i, t in enumerate(summary):
-        t["evidence"] = [e.to_json() for e in v.evidence(i)]
-    if out_path is not None:
-        sheet = themes_sheet(v, lam=lam, n_terms=terms)
         with writing(out_path, "--out"):
-            atomic_write_bytes(out_path, sheet_bytes(sheet))
+            sheet = ws.themes_sheet(out_path, version=version, lam=lam, n_terms=terms)
         if as_json:
-            emit_json(
-                {
-                    "out": str(out_path),
-                    "version": v.n,
-                    "rows": len(sheet),
-                    "columns": list(sheet.columns),
-                }
-            )
+            emit_json(sheet.to_json())
         else:
             say(
-                f"Wrote {len(sheet)} themes of version {v.n} to {out_path}. Fill the label "
-                f"and note columns, then run: talkthemes label --from {out_path}",
+                f"Wrote {sheet.rows} themes of version {sheet.version} to {out_path}. Fill the "
+                f"label and note columns, then run: talkthemes label --from {out_path}",
                 soft_wrap=True,
             )
         return
+    v = ws.version(version)
+    lam = ws.settings().view.relevance_lambda if lam is None else lam
+    summary = v.summary(lam=lam, n_terms=terms)
+    evidence = ws.evidence_sentences(v.n)  # personal data masked, as on screens
+    for t in summary:
+        t["evidence"] = [e.to_json() for e in evidence[t["theme_id"]]]
     if as_json:
         emit_json(
             {"version": v.n, "family": v.info["family"], "k": v.k, "lambda": lam, "themes": summary}
@@ -201,74 +187,37 @@ def label(
         return _merge(ws, theme_id, merge_into, as_json)
     if text is None and note is None and not_a_theme is None:
         raise ConfigError("give a label text, --note, --not-a-theme, --merge-into or --unmerge")
-    with ws.store() as store:
-        n, shown, merged = _shown_ids(store)
-        _check_shown(theme_id, n, shown, merged)
-        row = store.set_label(theme_id, label=text, note=note, hidden=not_a_theme)
+    if text is None and note is None:
+        row = ws.mark_not_a_theme(theme_id, bool(not_a_theme))
+    else:
+        row = ws.label(theme_id, text, note=note, hidden=not_a_theme)
     if as_json:
-        emit_json({**row, "not_a_theme": row["hidden"]})
+        emit_json(row.to_json())
         return
-    parts = [f"Theme {theme_id}: label “", row["label"] or "", "”"]
-    if row["note"]:
-        parts += [", note “", row["note"], "”"]
-    if row["hidden"]:
+    parts = [f"Theme {theme_id}: label “", row.label, "”"]
+    if row.note:
+        parts += [", note “", row.note, "”"]
+    if row.hidden:
         parts.append(", not a theme")
     say(*parts)
 
 
-def _shown_ids(store: Any) -> tuple[int, list[int], dict[int, int]]:
-    """The current version's number, its theme ids as shown (merged themes as one), and
-    the themes merged into another (id → the id it is shown as)."""
-    from talkthemes.store.curation import merge_root  # light: the store is imported anyway
-
-    current = store.current_version()
-    if current is None:
-        raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-    n = int(current["n"])
-    merges = store.theme_merges()
-    raw = [int(t["theme_id"]) for t in store.themes(n)]
-    shown = list(dict.fromkeys(merge_root(merges, t) for t in raw))
-    merged = {t: merge_root(merges, t) for t in merges}
-    return n, shown, merged
-
-
-def _check_shown(theme_id: int, n: int, shown: list[int], merged: dict[int, int]) -> None:
-    if theme_id in shown:
-        return
-    if theme_id in merged:
-        raise InputError(
-            f"theme {theme_id} is merged into theme {merged[theme_id]}: label theme "
-            f"{merged[theme_id]}, or undo with 'talkthemes label {theme_id} --unmerge'"
-        )
-    raise InputError(
-        f"there is no theme {theme_id} in version {n} (its theme ids: {id_ranges(shown)}; "
-        "see 'talkthemes themes')"
-    )
-
-
-def _merge(ws: Any, theme_id: int, into: int | None, as_json: bool) -> None:
-    with ws.store() as store:
-        n, shown, merged = _shown_ids(store)
-        if into is None:  # --unmerge
-            if theme_id not in merged and theme_id not in set(merged.values()):
-                raise InputError(f"theme {theme_id} is not merged with another theme")
-            apart = store.unmerge_theme(theme_id)
-            if as_json:
-                emit_json({"theme_id": theme_id, "unmerged": apart})
-                return
-            say(
-                f"Theme {theme_id}: merge undone; themes {', '.join(map(str, apart))} are "
-                "shown on their own again."
-            )
+def _merge(ws: Workspace, theme_id: int, into: int | None, as_json: bool) -> None:
+    if into is None:  # --unmerge
+        apart = ws.unmerge(theme_id)
+        if as_json:
+            emit_json(apart.to_json())
             return
-        _check_shown(theme_id, n, shown, merged)
-        _check_shown(into, n, shown, merged)
-        if theme_id == into:
-            raise InputError(f"--merge-into {into}: a theme cannot be merged into itself")
-        root = store.merge_theme(theme_id, into)
-    if as_json:
-        emit_json({"theme_id": theme_id, "merged_into": root})
+        say(
+            f"Theme {theme_id}: merge undone; themes {', '.join(map(str, apart.apart))} are "
+            "shown on their own again."
+        )
         return
+    merged = ws.merge(theme_id, into)
+    if as_json:
+        emit_json(merged.to_json())
+        return
+    root = merged.into
     say(
         f"Theme {theme_id} merged into theme {root}: shown as one theme, id {root}, its shares "
         f"the sum of both; later refreshes keep them together. Undo: talkthemes label "
@@ -277,64 +226,36 @@ def _merge(ws: Any, theme_id: int, into: int | None, as_json: bool) -> None:
     )
 
 
-def _label_from(ws: Any, path: Path, as_json: bool) -> None:
+def _label_from(ws: Workspace, path: Path, as_json: bool) -> None:
     """``label --from``: every row checked, then all applied in one transaction or none."""
-    # deferred: see the module docstring
-    from talkthemes.versions.spreadsheet import read_label_sheet
-
-    with ws.store() as store:
-        n, shown, merged = _shown_ids(store)
-        rows, problems = read_label_sheet(path, shown, merged, version=n)
-        if problems:
-            if as_json:
-                emit_json(
-                    {
-                        "file": str(path),
-                        "applied": False,
-                        "problems": [{"row": p.row, "message": p.message} for p in problems],
-                    }
-                )
-            for p in problems:
-                say(("talkthemes: ", ""), p.line(path))
-            if as_json:
-                raise typer.Exit(2)
-            raise InputError(
-                f"{path}: {len(problems)} problem(s) found; nothing was applied (fix the rows "
-                "above and run it again)"
-            )
-        current = store.labels_for([r.theme_id for r in rows])
-        changes = [
-            (r.theme_id, r.label, r.note)
-            for r in rows
-            if (r.label is not None and r.label != current[r.theme_id].label)
-            or (r.note is not None and r.note != current[r.theme_id].note)
-        ]
-        applied = store.apply_labels(changes) if changes else []
-    if as_json:
-        emit_json(
-            {
-                "file": str(path),
-                "applied": True,
-                "rows": len(rows),
-                "changed": [a.to_json() for a in applied],
-                "unchanged": len(rows) - len(applied),
-            }
+    result = ws.label_from(path)
+    if not result.applied:
+        if as_json:
+            emit_json(result.to_json())
+        for p in result.problems:
+            say(("talkthemes: ", ""), p.line(path))
+        if as_json:
+            raise typer.Exit(result.exit_code)
+        raise InputError(
+            f"{path}: {len(result.problems)} problem(s) found; nothing was applied (fix the "
+            "rows above and run it again)"
         )
+    if as_json:
+        emit_json(result.to_json())
         return
     say(
-        f"{path}: {len(rows)} themes read; {len(applied)} changed, "
-        f"{len(rows) - len(applied)} unchanged."
+        f"{path}: {result.rows} themes read; {len(result.changed)} changed, "
+        f"{result.unchanged} unchanged."
     )
-    for r in applied:
+    for r in result.changed:
         parts = [f"  theme {r.theme_id}: label “", r.label, "”"]
         if r.note:
             parts += [", note “", r.note, "”"]
         say(*parts)
 
 
-def _show_log(ws: Any, theme_id: int | None, as_json: bool) -> None:
-    with ws.store() as store:
-        entries = store.curation_log(theme_id)
+def _show_log(ws: Workspace, theme_id: int | None, as_json: bool) -> None:
+    entries = ws.curation_log(theme_id)
     if as_json:
         emit_json({"theme_id": theme_id, "log": [e.to_json() for e in entries]})
         return
@@ -361,17 +282,6 @@ def describe(entry: Any) -> tuple[str, ...]:
     )
 
 
-def id_ranges(ids: Sequence[int]) -> str:
-    """``[1, 2, 3, 7, 9, 10]`` → ``"1–3, 7, 9–10"``."""
-    runs: list[list[int]] = []
-    for i in sorted(set(ids)):
-        if runs and i == runs[-1][1] + 1:
-            runs[-1][1] = i
-        else:
-            runs.append([i, i])
-    return ", ".join(str(a) if a == b else f"{a}–{b}" for a, b in runs) or "none"
-
-
 def export(
     out_path: Annotated[Path, typer.Option("--out", help="FILE.csv or FILE.parquet")],
     version: Annotated[
@@ -381,16 +291,11 @@ def export(
     as_json: JsonOpt = False,
 ) -> None:
     """Write every transcript's lead theme, lead share and share per theme to CSV or Parquet."""
-    # deferred: see the module docstring
-    from talkthemes.versions.export import export_shares, write_table
-    from talkthemes.versions.load import load_version
-
     check_output(out_path, "--out")
     ws = open_workspace(workspace)
-    frame = export_shares(load_version(ws, version))
     with writing(out_path, "--out"):
-        write_table(frame, out_path)
+        result = ws.export(out_path, version=version)
     if as_json:
-        emit_json({"out": str(out_path), "rows": len(frame), "columns": list(frame.columns)})
+        emit_json(result.to_json())
     else:
-        say(f"Wrote {len(frame):,} transcripts to {out_path}.")
+        say(f"Wrote {result.rows:,} transcripts to {out_path}.")

@@ -13,79 +13,22 @@ from __future__ import annotations
 import json
 import sqlite3
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
 from typing import Any
 
 from talkthemes.errors import StoreError
 from talkthemes.store._base import StoreBase, now_iso
+from talkthemes.store.records import CURATION_ACTIONS, CurationEntry, LabelRecord
 
 __all__ = [
     "ACTIONS",
-    "CurationEntry",
     "CurationMixin",
-    "ThemeLabel",
     "log_label_changes",
     "merge_root",
     "write_label",
 ]
 
 #: The curation actions the log records.
-ACTIONS = ("label", "note", "not_a_theme", "a_theme", "merge", "unmerge")
-
-
-@dataclass(frozen=True)
-class ThemeLabel:
-    """A theme's label, note and hidden (*not a theme*) flag."""
-
-    theme_id: int
-    label: str = ""
-    note: str = ""
-    hidden: bool = False
-
-    def to_json(self) -> dict[str, Any]:
-        return {
-            "theme_id": self.theme_id,
-            "label": self.label,
-            "note": self.note,
-            "hidden": self.hidden,
-            "not_a_theme": self.hidden,
-        }
-
-
-@dataclass(frozen=True)
-class CurationEntry:
-    """One row of the curation log.
-
-    Attributes
-    ----------
-    id : int
-    at : str
-        When (ISO 8601 with offset).
-    action : str
-        One of :data:`ACTIONS`.
-    theme_id : int
-    version : int or None
-        The current version when it was done.
-    detail : dict
-        ``before``/``after`` (label, note), ``into`` (merge), ``from`` (unmerge).
-    """
-
-    id: int
-    at: str
-    action: str
-    theme_id: int
-    version: int | None
-    detail: dict[str, Any] = field(default_factory=dict)
-
-    def to_json(self) -> dict[str, Any]:
-        return {
-            "id": self.id,
-            "at": self.at,
-            "action": self.action,
-            "theme_id": self.theme_id,
-            "version": self.version,
-            **self.detail,
-        }
+ACTIONS = CURATION_ACTIONS
 
 
 def merge_root(merges: Mapping[int, int], theme_id: int) -> int:
@@ -146,12 +89,12 @@ def write_label(
     label: str | None = None,
     note: str | None = None,
     hidden: bool | None = None,
-) -> tuple[str, str, bool]:
+) -> LabelRecord:
     """Set a theme's label, note or hidden flag inside a transaction, and log the changes.
 
     Returns
     -------
-    (label, note, hidden)
+    LabelRecord
         The values after the change.
 
     Raises
@@ -179,7 +122,7 @@ def write_label(
         "SELECT label, note, hidden FROM labels WHERE theme_id = ?", (theme_id,)
     ).fetchone()
     log_label_changes(c, theme_id, before, after)
-    return str(after[0] or ""), str(after[1] or ""), bool(after[2])
+    return LabelRecord(int(theme_id), str(after[0] or ""), str(after[1] or ""), bool(after[2]))
 
 
 class CurationMixin(StoreBase):
@@ -265,9 +208,9 @@ class CurationMixin(StoreBase):
                 _log(c, "unmerge", int(t), {"from": int(into)})
         return [int(t) for t, _ in rows]
 
-    def labels_for(self, theme_ids: Sequence[int]) -> dict[int, ThemeLabel]:
+    def labels_for(self, theme_ids: Sequence[int]) -> dict[int, LabelRecord]:
         """Label, note and hidden flag of the given theme ids (blank for ids never labelled)."""
-        out = {int(t): ThemeLabel(int(t)) for t in theme_ids}
+        out = {int(t): LabelRecord(int(t), "", "", False) for t in theme_ids}
         ids = list(out)
         for i in range(0, len(ids), 500):
             chunk = ids[i : i + 500]
@@ -275,12 +218,12 @@ class CurationMixin(StoreBase):
             for t, label, note, hidden in self._conn.execute(
                 f"SELECT theme_id, label, note, hidden FROM labels WHERE theme_id IN ({q})", chunk
             ):
-                out[int(t)] = ThemeLabel(int(t), label or "", note or "", bool(hidden))
+                out[int(t)] = LabelRecord(int(t), label or "", note or "", bool(hidden))
         return out
 
     def apply_labels(
         self, changes: Sequence[tuple[int, str | None, str | None]]
-    ) -> list[ThemeLabel]:
+    ) -> list[LabelRecord]:
         """Set the label and note of several themes in one transaction: all or nothing.
 
         Parameters
@@ -290,7 +233,7 @@ class CurationMixin(StoreBase):
 
         Returns
         -------
-        list of ThemeLabel
+        list of LabelRecord
             The values after the change, one per entry.
 
         Raises
@@ -301,8 +244,7 @@ class CurationMixin(StoreBase):
         out = []
         with self.transaction() as c:
             for theme_id, label, note in changes:
-                lab, nt, hid = write_label(c, int(theme_id), label=label, note=note)
-                out.append(ThemeLabel(int(theme_id), lab, nt, hid))
+                out.append(write_label(c, int(theme_id), label=label, note=note))
         return out
 
     def curation_log(
@@ -318,10 +260,7 @@ class CurationMixin(StoreBase):
         if limit is not None:
             sql += " LIMIT ?"
             params.append(int(limit))
-        return [
-            CurationEntry(int(i), at, action, int(t), version, json.loads(detail))
-            for i, at, action, t, version, detail in self._conn.execute(sql, params)
-        ]
+        return [CurationEntry.from_row(*row) for row in self._conn.execute(sql, params)]
 
     def curation_stamp(self) -> int:
         """A number that changes with every curation action (the newest log row's id)."""

@@ -9,7 +9,8 @@
 - :mod:`~talkthemes.versions.naming` — the name a theme is shown by: its label, or its
   suggested name;
 - :mod:`~talkthemes.versions.evidence` and :mod:`~talkthemes.versions.evidence_build` —
-  each theme's evidence sentences, chosen when a version is written;
+  each theme's evidence sentences, chosen when a version is written, and
+  :mod:`~talkthemes.versions.evidence_shown` — them as shown, personal data masked;
 - :mod:`~talkthemes.versions.curation` — merged themes shown as one, and what a refresh
   carried of the curation;
 - :mod:`~talkthemes.versions.spreadsheet` — the themes spreadsheet to label in;

@@ -183,7 +183,7 @@ def curation_of(
     with ws.store() as store:
         merges = store.theme_merges()
         roots = {merge_root(merges, int(t)) for t in previous_ids}
-        labels = {t: vars(lab) for t, lab in store.labels_for(sorted(roots)).items()}
+        labels = {t: lab.to_json() for t, lab in store.labels_for(sorted(roots)).items()}
     return carry_report(previous_ids, new_ids, labels, merges, retired)
 
 

@@ -25,7 +25,7 @@ def export_shares(version: Version) -> pd.DataFrame:
     """
     lead = version.lead()
     ids = np.asarray(version.theme_ids)
-    labels = [t["label"] for t in version.themes]
+    labels = [t.label for t in version.themes]
     suggested = version.suggested_names()
     frame = pd.DataFrame(
         {

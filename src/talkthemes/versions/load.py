@@ -14,6 +14,7 @@ with the version when it was written.
 from __future__ import annotations
 
 import json
+from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
@@ -23,6 +24,7 @@ import pandas as pd
 
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.metrics.relevance import relevance
+from talkthemes.store.records import ThemeRecord
 from talkthemes.versions.curation import Group, fold_columns, fold_rows, merge_groups
 from talkthemes.versions.evidence import MAX_SENTENCES, EvidenceSentence, load_evidence
 from talkthemes.versions.naming import display_name, suggest_names
@@ -45,9 +47,9 @@ class Version:
     folder : Path
     info : dict
         ``version.json``.
-    themes : list of dict
-        One per row of ``topic_terms``: ``theme_id, position, status, label, note, hidden``
-        and ``merged`` (ids of the themes merged into it).
+    themes : list of ThemeRecord
+        One per row of ``topic_terms``, with its label, note and hidden flag; ``merged``
+        holds the ids of the themes merged into it.
     vocabulary : list of str
     doc_ids : list of str
     topic_terms : ndarray (K, V)
@@ -60,7 +62,7 @@ class Version:
     n: int
     folder: Path
     info: dict[str, Any]
-    themes: list[dict[str, Any]]
+    themes: list[ThemeRecord]
     vocabulary: list[str]
     doc_ids: list[str]
     topic_terms: np.ndarray
@@ -74,7 +76,7 @@ class Version:
 
     @property
     def theme_ids(self) -> list[int]:
-        return [int(t["theme_id"]) for t in self.themes]
+        return [t.theme_id for t in self.themes]
 
     def position(self, theme_id: int) -> int:
         """Row of a theme id in this version's arrays."""
@@ -157,6 +159,7 @@ class Version:
                     self.term_marginal(),
                     self.vocabulary,
                     order=np.argsort(-self.topic_weights(), kind="stable"),
+                    skip=_name_term(),
                 )
             names = self._cache["suggested"]
         return [str(x) for x in names]
@@ -164,7 +167,7 @@ class Version:
     def names(self) -> list[str]:
         """Display name of each theme: its label, or its suggested name until labelled."""
         suggested = self.suggested_names()
-        return [display_name(t["label"], suggested[i]) for i, t in enumerate(self.themes)]
+        return [display_name(t.label, suggested[i]) for i, t in enumerate(self.themes)]
 
     def fold(self, shares: np.ndarray) -> np.ndarray:
         """Shares of transcripts (D × the model's K, e.g. of new calls) as this version's
@@ -190,7 +193,7 @@ class Version:
         if not stored:
             return []
         theme = self.themes[position]
-        ids = [int(theme["theme_id"]), *map(int, theme.get("merged") or [])]
+        ids = [theme.theme_id, *theme.merged]
         if len(ids) == 1:
             return list(stored.get(ids[0], []))
         pooled = sorted(
@@ -210,8 +213,8 @@ class Version:
         return replace(self, themes=_themes(store, self.n, self.groups))
 
     def summary(self, *, lam: float = 0.6, n_terms: int = 10) -> list[dict[str, Any]]:
-        """Per theme: id, name, suggested name, label, note, not-a-theme flag, merged ids,
-        status, coverage, mean share, terms, coherence."""
+        """Per theme: id, name, label, note, hidden, status, coverage, mean share, terms,
+        coherence, then suggested name, whether labelled, not-a-theme flag, merged ids."""
         cov, mean = self.coverage(), self.mean_share()
         coh = self.info.get("coherence", {})
         suggested = self.suggested_names()
@@ -219,16 +222,12 @@ class Version:
         for i, t in enumerate(self.themes):
             out.append(
                 {
-                    "theme_id": t["theme_id"],
-                    "name": display_name(t["label"], suggested[i]),
-                    "suggested_name": suggested[i],
-                    "labelled": bool(str(t["label"] or "").strip()),
-                    "label": t["label"],
-                    "note": t["note"],
-                    "hidden": t["hidden"],
-                    "not_a_theme": t["hidden"],
-                    "merged": list(t.get("merged") or []),
-                    "status": t["status"],
+                    "theme_id": t.theme_id,
+                    "name": display_name(t.label, suggested[i]),
+                    "label": t.label,
+                    "note": t.note,
+                    "hidden": t.hidden,
+                    "status": t.status,
                     "coverage": float(cov[i]),
                     "mean_share": float(mean[i]),
                     "top_terms": self.top_terms(i, n_terms, lam),
@@ -236,35 +235,40 @@ class Version:
                         m: (float(v[i]) if v[i] is not None and np.isfinite(v[i]) else None)
                         for m, v in coh.items()
                     },
+                    "suggested_name": suggested[i],
+                    "labelled": bool(t.label.strip()),
+                    "not_a_theme": t.hidden,
+                    "merged": list(t.merged),
                 }
             )
         return out
 
 
 def _themes(
-    store: Any, n: int, groups: list[Group] | None, raw: list[dict[str, Any]] | None = None
-) -> list[dict[str, Any]]:
+    store: Any, n: int, groups: list[Group] | None, raw: list[ThemeRecord] | None = None
+) -> list[ThemeRecord]:
     """A version's themes from the store (``raw``: as already read), merged themes as one
-    (see :class:`Version`)."""
+    (see :class:`Version`): a merged theme is the record of the id it keeps, with that id's
+    label, note and flag, its new position and the ids merged into it."""
     raw = store.themes(n) if raw is None else raw
     if groups is None:
-        return [{**t, "merged": []} for t in raw]
+        return list(raw)
     labels = store.labels_for([root for root, _ in groups])
     out = []
     for pos, (root, rows) in enumerate(groups):
-        ids = [int(raw[r]["theme_id"]) for r in rows]
-        base = next((raw[r] for r in rows if int(raw[r]["theme_id"]) == root), raw[rows[0]])
+        ids = [raw[r].theme_id for r in rows]
+        base = next((raw[r] for r in rows if raw[r].theme_id == root), raw[rows[0]])
         lab = labels[root]
         out.append(
-            {
-                **base,
-                "label": lab.label,
-                "note": lab.note,
-                "hidden": lab.hidden,
-                "theme_id": root,
-                "position": pos,
-                "merged": [t for t in ids if t != root],
-            }
+            replace(
+                base,
+                theme_id=root,
+                position=pos,
+                label=lab.label,
+                note=lab.note,
+                hidden=lab.hidden,
+                merged=tuple(t for t in ids if t != root),
+            )
         )
     return out
 
@@ -293,6 +297,15 @@ def _fold_info(info: dict[str, Any], groups: list[Group], weights: np.ndarray) -
     return out
 
 
+def _name_term() -> Callable[[str], bool]:
+    """:func:`talkthemes.privacy.name_term`: person names are never in a suggested name."""
+    # Deferred on purpose: privacy loads the preparation chain (about a second), needed
+    # here only to name merged themes and versions written before names were stored.
+    from talkthemes.privacy import name_term
+
+    return name_term
+
+
 def _name_merged(version: Version) -> None:
     """Suggested names of merged themes: from their mixed words, distinct from the rest."""
     names = version.info.get("suggested_names")
@@ -301,7 +314,11 @@ def _name_merged(version: Version) -> None:
     missing = [i for i, x in enumerate(names) if x is None]
     taken = [x for x in names if x is not None]
     fresh = suggest_names(
-        version.topic_terms[missing], version.term_marginal(), version.vocabulary, taken=taken
+        version.topic_terms[missing],
+        version.term_marginal(),
+        version.vocabulary,
+        taken=taken,
+        skip=_name_term(),
     )
     for i, name in zip(missing, fresh, strict=True):
         names[i] = name
@@ -328,10 +345,10 @@ def load_version(ws: Workspace, n: int | None = None, *, fold: bool = True) -> V
             cur = store.current_version()
             if cur is None:
                 raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-            n = int(cur["n"])
+            n = cur.n
         raw = store.themes(n)
         merges = store.theme_merges() if fold else {}
-        groups = merge_groups([int(t["theme_id"]) for t in raw], merges) if merges else None
+        groups = merge_groups([t.theme_id for t in raw], merges) if merges else None
         themes = _themes(store, n, groups, raw) if raw else []
     folder = ws.versions_dir / str(n)
     if not themes or not folder.exists():
@@ -340,7 +357,7 @@ def load_version(ws: Workspace, n: int | None = None, *, fold: bool = True) -> V
     topic_terms = np.load(folder / "topic_terms.npy", allow_pickle=False)
     doc_topics = np.load(folder / "doc_topics.npy", allow_pickle=False, mmap_mode="r")
     if groups is not None:
-        info.setdefault("theme_ids", [int(t["theme_id"]) for t in raw])
+        info.setdefault("theme_ids", [t.theme_id for t in raw])
         weights = np.asarray(
             info.get("topic_weights") or np.asarray(doc_topics).mean(axis=0), dtype=np.float64
         )

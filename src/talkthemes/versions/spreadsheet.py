@@ -33,6 +33,7 @@ import pandas as pd
 from talkthemes.errors import InputError
 from talkthemes.text import csv_frame
 from talkthemes.text.escape import FORMULA_START
+from talkthemes.versions.evidence import EvidenceSentence
 from talkthemes.versions.load import Version
 
 __all__ = [
@@ -67,13 +68,21 @@ def _unguard(cell: str) -> str:
     return cell
 
 
-def themes_sheet(version: Version, *, lam: float = 0.6, n_terms: int = 10) -> pd.DataFrame:
+def themes_sheet(
+    version: Version,
+    *,
+    lam: float = 0.6,
+    n_terms: int = 10,
+    evidence: Sequence[Sequence[EvidenceSentence]] | None = None,
+) -> pd.DataFrame:
     """One row per theme of a version, as ``themes --out`` writes it.
 
     Columns: ``theme_id, suggested_name, label, note, share`` (average share per
     transcript), ``coverage`` (share of transcripts it leads), ``top_terms`` (``n_terms``
     by relevance at ``lam``), ``top_phrases`` (the five most relevant phrases), then
-    ``evidence_1, evidence_1_call`` … up to :data:`EVIDENCE_COLUMNS`.
+    ``evidence_1, evidence_1_call`` … up to :data:`EVIDENCE_COLUMNS`: the sentences of
+    ``evidence`` (per theme row, as shown: personal data masked,
+    :func:`talkthemes.versions.evidence_shown.shown_evidence`), or else as stored.
     """
     suggested = version.suggested_names()
     cov, mean = version.coverage(), version.mean_share()
@@ -82,19 +91,19 @@ def themes_sheet(version: Version, *, lam: float = 0.6, n_terms: int = 10) -> pd
         ranked = version.term_table(i, n=200, lam=lam)["term"].tolist()
         phrases = [w for w in ranked if "_" in w][:5]
         row: dict[str, object] = {
-            "theme_id": int(t["theme_id"]),
+            "theme_id": t.theme_id,
             "suggested_name": suggested[i],
-            "label": t["label"],
-            "note": t["note"],
+            "label": t.label,
+            "note": t.note,
             "share": round(float(mean[i]), 4),
             "coverage": round(float(cov[i]), 4),
             "top_terms": ", ".join(w.replace("_", " ") for w in ranked[:n_terms]),
             "top_phrases": ", ".join(w.replace("_", " ") for w in phrases),
         }
-        evidence = version.evidence(i)
+        said = version.evidence(i) if evidence is None else evidence[i]
         for e in range(EVIDENCE_COLUMNS):
-            row[f"evidence_{e + 1}"] = evidence[e].text if e < len(evidence) else ""
-            row[f"evidence_{e + 1}_call"] = evidence[e].call_id if e < len(evidence) else ""
+            row[f"evidence_{e + 1}"] = said[e].text if e < len(said) else ""
+            row[f"evidence_{e + 1}_call"] = said[e].call_id if e < len(said) else ""
         rows.append(row)
     return pd.DataFrame(rows)
 

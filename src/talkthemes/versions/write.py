@@ -27,6 +27,7 @@ import numpy as np
 
 from talkthemes.errors import InputError
 from talkthemes.prepare.frozen import PrepSpec
+from talkthemes.privacy import name_term
 from talkthemes.versions.evidence import EVIDENCE_FILE, evidence_document
 from talkthemes.versions.evidence_build import build_evidence
 from talkthemes.versions.fit import FittedVersion
@@ -186,7 +187,12 @@ def _labelling_aids(ws: Workspace, fitted: FittedVersion) -> tuple[list[str], li
     )
     marginal = (weights / weights.sum()) @ phi
     names = suggest_names(
-        phi, marginal, fitted.vocabulary, lam=lam, order=np.argsort(-weights, kind="stable")
+        phi,
+        marginal,
+        fitted.vocabulary,
+        lam=lam,
+        order=np.argsort(-weights, kind="stable"),
+        skip=name_term,  # a person's name is personal data, never a theme's name
     )
     spec = PrepSpec.from_prep_info(fitted.prep_info, fitted.vocabulary)
     with ws.store() as store:

@@ -4,8 +4,10 @@ The sentences are chosen when the version is written and stored with it
 (:mod:`talkthemes.versions.evidence`); this module only shows them: each sentence with
 the theme terms it holds highlighted (:class:`~talkthemes.view.transcript.TermHighlighter`,
 which finds lemmas and phrases in the wording as said), the speaker's role, the call it
-comes from and the theme's share in that call. The sentence text is untrusted: the HTML
-is built only from :func:`talkthemes.text.html_text`-escaped pieces
+comes from and the theme's share in that call. Personal data is masked on screen as in a
+transcript, with the call's own names (:mod:`talkthemes.versions.evidence_shown`), unless
+the workspace allows the original text. The sentence text is untrusted: the HTML is built
+only from :func:`talkthemes.text.html_text`-escaped pieces
 (:func:`~talkthemes.view.transcript.segments_html`) and our own tags.
 """
 
@@ -15,8 +17,9 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 
 from talkthemes.text import html_text, percent
+from talkthemes.versions.evidence_shown import EvidenceMasker
 from talkthemes.versions.load import Version
-from talkthemes.view.transcript import Segment, TermHighlighter, segments_html
+from talkthemes.view.transcript import Segment, TermHighlighter, segments_html, segments_text
 
 __all__ = ["ROLE_WORDS", "EvidenceView", "evidence_html", "evidence_note", "evidence_views"]
 
@@ -49,8 +52,8 @@ class EvidenceView:
 
     @property
     def text(self) -> str:
-        """The sentence as plain text."""
-        return "".join(s for s, _ in self.segments)
+        """The sentence as plain text (masked data written as "[name]" …)."""
+        return segments_text(self.segments)
 
     @property
     def hits(self) -> int:
@@ -64,6 +67,7 @@ def evidence_views(
     lemmas: Mapping[str, str] | None = None,
     *,
     limit: int | None = None,
+    masker: EvidenceMasker | None = None,
 ) -> list[EvidenceView]:
     """A theme's stored evidence sentences with its terms highlighted.
 
@@ -77,16 +81,21 @@ def evidence_views(
         that "paid" is found for the term ``pay``.
     limit : int, optional
         At most this many sentences.
+    masker : EvidenceMasker, optional
+        Masks personal data with each call's names (the segments then hold placeholders,
+        which :func:`~talkthemes.view.transcript.segments_html` shows as "[name]" …);
+        None shows the stored text (only where the workspace allows the original).
     """
     out = []
     for s in version.evidence(position)[:limit]:
         highlighter = TermHighlighter(s.terms, lemmas=lemmas)
+        text = masker.mask(s.call_id, s.text) if masker is not None else s.text
         out.append(
             EvidenceView(
                 call_id=s.call_id,
                 role=ROLE_WORDS.get(s.role, ROLE_WORDS["unknown"]),
                 share=s.share,
-                segments=highlighter.segments(s.text),
+                segments=highlighter.segments(text),
             )
         )
     return out

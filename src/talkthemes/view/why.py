@@ -85,7 +85,7 @@ def why_frame(
         for r, w in enumerate(best, start=1):
             rows.append(
                 {
-                    "theme_id": int(version.themes[k]["theme_id"]),
+                    "theme_id": version.themes[k].theme_id,
                     "name": names[k],
                     "share": float(theta[k]),
                     "theme_rank": rank + 1,
