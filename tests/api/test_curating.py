@@ -123,10 +123,11 @@ def test_evidence_on_screens_is_masked_with_the_calls_names(
     stored = [s for i in range(v.k) for s in v.evidence(i)]
     assert stored, "the demo version stores evidence sentences"
     first = stored[0]
-    planted = dataclasses.replace(first, text="Priya here.")
+    planted = dataclasses.replace(first, text="Priya here, the bill went to […] again.")
     (shown,) = shown_evidence(published.folder, [planted])
-    assert shown.text == "[name] here." and shown.call_id == first.call_id
+    assert shown.text == "[name] here, the bill went to […] again."  # the chain's gap kept
+    assert shown.call_id == first.call_id
     settings = published.settings()
     settings.view.original_text = True
     atomic_write_text(published.folder.settings_path, render_settings(settings))
-    assert shown_evidence(published.folder, [planted])[0].text == "Priya here."
+    assert shown_evidence(published.folder, [planted])[0].text == planted.text

@@ -60,9 +60,12 @@ def test_shares_give_every_transcript_its_lead_theme(published: tt.Workspace) ->
         "lead_theme_id",
         "lead_theme_label",
         "lead_share",
+        "lead_theme_suggested_name",
         *share_cols,
     ]
     assert shares["transcript_id"].tolist() == v.doc_ids
+    names = dict(zip(v.theme_ids, v.suggested_names(), strict=True))
+    assert (shares["lead_theme_suggested_name"] == shares["lead_theme_id"].map(names)).all()
     values = shares[share_cols].to_numpy()
     assert np.allclose(values.sum(axis=1), 1, atol=1e-5)
     picked = np.asarray(v.theme_ids)[values.argmax(axis=1)]

@@ -164,3 +164,21 @@ def test_sentences_are_scrubbed_even_when_the_prep_does_not_scrub(
     )
     texts = [s.text for ss in chosen for s in ss]
     assert texts and all("jo.doe" not in t and "[…]" in t for t in texts)
+
+
+def test_the_calls_list_quotes_a_calls_stored_sentence(planted: tuple[Workspace, Planted]) -> None:
+    """A call with a stored evidence sentence for the theme shows that sentence in the Calls
+    list (masked, the chain's "[…]" kept); the other calls get one picked on the fly."""
+    from talkthemes.view.evidence import best_sentences
+
+    ws, _ = planted
+    v = load_version(ws)
+    stored = v.evidence(0)
+    lead = v.lead()
+    others = [d for d in v.doc_ids if d not in {s.call_id for s in stored}]
+    other = next(d for d in others if lead[v.doc_ids.index(d)] == 0)
+    ids = [s.call_id for s in stored] + [other]
+    picked = best_sentences(ws, v, ids, [0] * len(ids))
+    assert picked[:-1] == [s.text for s in stored]
+    assert any("[…]" in s.text for s in stored)  # the planted e-mail, removed when stored
+    assert picked[-1] and picked[-1] not in {s.text for s in stored}

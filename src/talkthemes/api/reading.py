@@ -181,8 +181,9 @@ class ReadingMixin(WorkspaceBase):
         -------
         DataFrame
             One row per transcript the version was trained on: ``transcript_id``,
-            ``lead_theme_id``, ``lead_theme_label``, ``lead_share``, then one column
-            ``share_<theme id>`` per theme (a row sums to 1).
+            ``lead_theme_id``, ``lead_theme_label``, ``lead_share``,
+            ``lead_theme_suggested_name``, then one column ``share_<theme id>`` per theme
+            (a row sums to 1; merged themes are one column).
         """
         return versions_export.export_shares(self.version(version))
 
@@ -262,8 +263,9 @@ class ReadingMixin(WorkspaceBase):
         DataFrame
             One row per transcript, in input order: ``transcript_id``, ``lead_theme_id``
             (empty when no word of the transcript is in the version's vocabulary),
-            ``lead_theme_label``, ``lead_share``, one ``share_<theme id>`` per theme,
-            ``known_terms`` and ``reason`` (why there is no lead theme).
+            ``lead_theme_label``, ``lead_share``, ``lead_theme_suggested_name``, one
+            ``share_<theme id>`` per theme, ``known_terms`` and ``reason`` (why there is
+            no lead theme).
 
         Raises
         ------

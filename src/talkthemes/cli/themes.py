@@ -83,9 +83,9 @@ def themes(
     v = ws.version(version)
     lam = ws.settings().view.relevance_lambda if lam is None else lam
     summary = v.summary(lam=lam, n_terms=terms)
-    evidence = ws.evidence_sentences(v.n)  # personal data masked, as on screens
+    sentences = ws.evidence_sentences(v.n)  # personal data masked, as on screens
     for t in summary:
-        t["evidence"] = [e.to_json() for e in evidence[t["theme_id"]]]
+        t["evidence"] = [e.to_json() for e in sentences[t["theme_id"]]]
     if as_json:
         emit_json(
             {"version": v.n, "family": v.info["family"], "k": v.k, "lambda": lam, "themes": summary}

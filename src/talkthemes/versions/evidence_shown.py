@@ -16,10 +16,16 @@ import dataclasses
 from collections.abc import Iterable
 
 from talkthemes.privacy import Masker, masker_for, plain
-from talkthemes.versions.evidence import EvidenceSentence
+from talkthemes.versions.evidence import REMOVED, EvidenceSentence
 from talkthemes.workspace import Workspace
 
-__all__ = ["EvidenceMasker", "masked_by_default", "shown_evidence"]
+__all__ = ["EvidenceMasker", "mask_sentence", "masked_by_default", "shown_evidence"]
+
+
+def mask_sentence(masker: Masker, text: str) -> str:
+    """A stored sentence masked by ``masker``, the "[…]" where the chain removed something
+    kept as it is (masked on its own, it would read as a masked number)."""
+    return REMOVED.join(masker.mask(piece) if piece else "" for piece in text.split(REMOVED))
 
 
 def masked_by_default(ws: Workspace) -> bool:
@@ -52,7 +58,7 @@ class EvidenceMasker:
     def mask(self, call_id: str, text: str) -> str:
         """``text`` masked, with placeholders (:func:`talkthemes.privacy.html_pieces` and
         :func:`talkthemes.privacy.plain` show them)."""
-        return self._masker(str(call_id)).mask(text)
+        return mask_sentence(self._masker(str(call_id)), text)
 
     def plain(self, call_id: str, text: str) -> str:
         """``text`` masked as plain text ("[name]", "[e-mail]" …)."""

@@ -29,6 +29,7 @@ from collections.abc import Iterable, Mapping, Sequence
 from typing import Any
 
 from talkthemes.privacy import masker_for, plain
+from talkthemes.versions.evidence_shown import mask_sentence
 from talkthemes.versions.load import Version
 from talkthemes.view.themes import term_rows
 from talkthemes.view.transcript import TermHighlighter, version_lemmas
@@ -161,7 +162,7 @@ def best_sentences(
             if str(tid) in stored[pos]:
                 turns_of_call: list[Any] = store.get_turns(str(tid))
                 text = stored[pos][str(tid)]
-                shown = plain(masker_for(turns_of_call).mask(text)) if masked else text
+                shown = plain(mask_sentence(masker_for(turns_of_call), text)) if masked else text
                 out.append(_cut(shown))
                 continue
             if pos not in per_theme:
