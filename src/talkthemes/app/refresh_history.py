@@ -16,7 +16,9 @@ from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline, percent
 from talkthemes.versions.drift import drift_frame
 from talkthemes.view.history import (
+    AlertCard,
     ThemeChange,
+    alert_cards,
     load_drift,
     new_theme_examples,
     report_top_terms,
@@ -70,8 +72,51 @@ def _theme_list(items: list[ThemeChange], status: str) -> None:
         line = f"- **{md_inline(t.name)}** \\#{t.theme_id}: {md_inline(t.detail)}"
         if t.flags:
             line += " · " + md_inline("; ".join(t.flags))
+        if t.alert:
+            line += " · *" + md_inline(t.alert) + "*"
         lines.append(line)
     st.markdown("\n".join(lines))
+
+
+ALERT_TITLE = {"new": "New theme", "riser": "Riser", "faller": "Faller"}
+
+
+def _alert_card(card: AlertCard) -> None:
+    with st.container(border=True):
+        st.markdown(
+            f"**{ALERT_TITLE[card.kind]} \\#{card.theme_id}: {md_inline(card.name)}**  \n"
+            f"{md_inline(card.size[:1].upper() + card.size[1:])}; {md_inline(card.growth)}.  \n"
+            f"Top terms: {md_inline(', '.join(card.top_terms[:8]))}"
+        )
+        st.markdown(
+            "\n".join(
+                f"- {'✓' if held else '✗'} {md_inline(text)}" for held, text in card.evidence
+            )
+        )
+        if card.examples:
+            st.markdown(
+                "\n".join(f"> “{md_inline(s)}” ({md_inline(t)})  " for t, s in card.examples)
+            )
+
+
+def _alerts(report: dict[str, Any], labels: dict[int, str]) -> None:
+    cards = alert_cards(report, labels)
+    if "alerts" not in report:
+        return
+    st.subheader("Alerts")
+    if not cards:
+        st.caption(
+            "No alert: no new theme passed every test, and no carried theme's share of the "
+            "new transcripts changed significantly."
+        )
+        return
+    st.caption(
+        "Each alert with the evidence that held and three sentences from new transcripts "
+        "(scrubbed of personal data). A new theme alerts only when it is large enough, not a "
+        "split of an old theme, its words are new, and it is not marked not a theme."
+    )
+    for card in cards:
+        _alert_card(card)
 
 
 def _examples(report: dict[str, Any], labels: dict[int, str]) -> None:
@@ -147,6 +192,7 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
             "theme leads before (ring) and after (dot) the refresh."
         )
         labels = {int(t["theme_id"]): t["label"] for t in themes}
+        _alerts(report, labels)
         _examples(report, labels)
 
 

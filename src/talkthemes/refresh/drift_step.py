@@ -17,7 +17,10 @@ from typing import Any
 import numpy as np
 
 from talkthemes.prepare.corpus import PreparedCorpus
+from talkthemes.prepare.frozen import PrepSpec
 from talkthemes.prepare.scrub import scrub
+from talkthemes.refresh.alert_step import alerts_of
+from talkthemes.versions.alerts import AlertRules, with_alerts
 from talkthemes.versions.align import Alignment, Calibration
 from talkthemes.versions.drift import ThemeSide, best_examples, drift_frame, drift_report
 from talkthemes.versions.drift_markdown import render_markdown
@@ -52,8 +55,11 @@ def drift_of(
     theme_ids: list[int],
     new_ids: Sequence[str],
     corpus: PreparedCorpus,
+    previous_spec: PrepSpec,
+    rules: AlertRules,
 ) -> dict[str, Any]:
-    """The drift report of the new version (its number is filled in when it is written)."""
+    """The drift report of the new version (its number is filled in when it is written),
+    with its ``alerts`` block (:func:`talkthemes.refresh.alert_step.alerts_of`)."""
     with ws.store() as store:
         labels = {t["theme_id"]: t["label"] for t in store.themes(current.n)}
     old_side = ThemeSide(
@@ -85,7 +91,7 @@ def drift_of(
     scrub_on = bool(fitted.info["prepare_settings"].get("scrub", True))
     with ws.store() as store:
         snippets = {t: excerpt(turns, scrub_on) for t, turns in store.turns_for(wanted)}
-    return drift_report(
+    report = drift_report(
         old_side,
         new_side,
         alignment,
@@ -98,12 +104,18 @@ def drift_of(
         snippets=snippets,
         created_at=dt.datetime.now().astimezone().isoformat(timespec="seconds"),
     )
+    alerts = alerts_of(
+        ws, current, previous_spec, fitted, alignment, (old_side, new_side), is_new,
+        corpus.counts, rules,
+    )  # fmt: skip
+    return with_alerts(report, alerts)
 
 
 def theme_plan(report: dict[str, Any]) -> ThemePlan:
     """Theme ids, statuses and what each theme row and each retired theme records."""
     prev = report["previous_version"]
-    keys = ("distance", "nearest_previous", "possible_split_of", "possible_merge_of")
+    keys = ("distance", "nearest_previous", "possible_split_of", "possible_merge_of",
+            "verdict", "alert", "split_of", "change")  # fmt: skip
     info = [
         {"previous_version": prev, **{k: t[k] for k in keys if t.get(k) is not None}}
         for t in report["themes"]

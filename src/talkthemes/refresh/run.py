@@ -60,6 +60,7 @@ from talkthemes.refresh.calibration import calibration_fits
 from talkthemes.refresh.coherence import coherence_check
 from talkthemes.refresh.drift_step import DriftPng, drift_files, drift_of, theme_plan
 from talkthemes.sweep.run import load_current_prep, run_sweep
+from talkthemes.versions.alerts import AlertRules
 from talkthemes.versions.align import align_themes, calibrate_threshold
 from talkthemes.versions.fit import fit_version
 from talkthemes.versions.load import Version, load_version
@@ -112,7 +113,13 @@ class RefreshResult:
     counts : dict
         Themes ``carried``, ``new`` and ``retired``.
     new_themes : list of dict
-        ``theme_id`` and ``top_terms`` of each new theme.
+        Each new theme: ``theme_id``, ``top_terms``, ``verdict`` (``new`` when alerted;
+        else ``split``, ``small``, ``familiar`` or ``not_a_theme``), ``alert``,
+        ``split_of``, ``growth``, ``evidence`` and, when alerted, ``examples``
+        (:func:`talkthemes.versions.alerts.judge_new_themes`).
+    risers, fallers : list of dict
+        Carried themes whose share of the new transcripts rose (fell) significantly
+        (:func:`talkthemes.versions.alerts.judge_changes`), with their ``examples``.
     """
 
     status: str
@@ -121,6 +128,7 @@ class RefreshResult:
     new_transcripts: int = 0
     ingest: dict[str, Any] | None = None
     alert_on_new: bool = False
+    alert_on_rise: bool = False
     family: str | None = None
     k: int | None = None
     resweep: bool = False
@@ -130,6 +138,8 @@ class RefreshResult:
     counts: dict[str, int] = field(default_factory=dict)
     new_themes: list[dict[str, Any]] = field(default_factory=list)
     retired_themes: list[dict[str, Any]] = field(default_factory=list)
+    risers: list[dict[str, Any]] = field(default_factory=list)
+    fallers: list[dict[str, Any]] = field(default_factory=list)
     drift_files: list[str] = field(default_factory=list)
     seconds: float = 0.0
 
@@ -139,10 +149,16 @@ class RefreshResult:
         return len((self.ingest or {}).get("rejects", []))
 
     @property
+    def alerted_new(self) -> list[int]:
+        """Ids of the new themes alerted (every piece of evidence held)."""
+        return [int(t["theme_id"]) for t in self.new_themes if t.get("alert")]
+
+    @property
     def exit_code(self) -> int:
-        """4 when asked to alert and a new theme appeared; else 3 when some inputs were
-        rejected; else 0 (published, or nothing new to do)."""
-        if self.alert_on_new and self.counts.get("new", 0) > 0:
+        """4 when asked to alert (``alert_on_new``, ``alert_on_rise``) and such an alert
+        occurred; else 3 when some inputs were rejected; else 0 (published, or nothing new
+        to do)."""
+        if (self.alert_on_new and self.alerted_new) or (self.alert_on_rise and self.risers):
             return 4
         return 3 if self.rejected else 0
 
@@ -160,31 +176,19 @@ class RefreshResult:
             "coherence_check": self.coherence,
             "threshold": self.threshold,
             "counts": self.counts,
+            "alerts": {
+                "new": self.alerted_new,
+                "rise": [int(t["theme_id"]) for t in self.risers],
+                "fall": [int(t["theme_id"]) for t in self.fallers],
+            },
             "new_themes": self.new_themes,
+            "risers": self.risers,
+            "fallers": self.fallers,
             "retired_themes": self.retired_themes,
             "drift_files": self.drift_files,
             "seconds": round(self.seconds, 2),
             "ingest": self.ingest,
         }
-
-
-# -- inputs -------------------------------------------------------------------------------
-def _ingest_paths(ws: Workspace, paths: Sequence[Path] | None) -> list[Path]:
-    if paths:
-        return [Path(p) for p in paths]
-    inbox = ws.settings().refresh.inbox.strip()
-    if not inbox:
-        return []
-    folder = Path(inbox).expanduser()
-    if not folder.is_absolute():
-        folder = ws.root / folder
-    if not folder.is_dir():
-        raise InputError(f"[refresh] inbox = {inbox!r}: {folder} is not a folder")
-    return [folder]
-
-
-def _known_ids(version: Any, spec: Any) -> set[str]:
-    return set(version.doc_ids) | {t for t, _ in spec.excluded}
 
 
 # -- inputs -------------------------------------------------------------------------------
@@ -224,6 +228,7 @@ def refresh(
     manifests: Sequence[Path] = (),
     resweep: bool = False,
     alert_on_new: bool = False,
+    alert_on_rise: bool = False,
     progress: Progress | None = None,
     drift_png: DriftPng | None = None,
 ) -> RefreshResult:
@@ -239,7 +244,10 @@ def refresh(
     resweep : bool
         Choose K again with the ``[sweep]`` grid.
     alert_on_new : bool
-        Make :attr:`RefreshResult.exit_code` 4 when a new theme appears.
+        Make :attr:`RefreshResult.exit_code` 4 when a new theme is alerted (every piece of
+        evidence held; docs/methods_alerts.md).
+    alert_on_rise : bool
+        Make :attr:`RefreshResult.exit_code` 4 when a carried theme rose significantly.
     progress : Progress, optional
         ``progress(done, total, what)``.
     drift_png : callable, optional
@@ -278,6 +286,7 @@ def refresh(
         status="running",
         previous_version=current.n,
         alert_on_new=alert_on_new,
+        alert_on_rise=alert_on_rise,
         family=str(current.info["family"]),
         k=current.k,
     )
@@ -395,7 +404,11 @@ def _run(
     ]
     # 7. write
     step(6, "writing the version and its drift report")
-    drift = drift_of(ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus)
+    drift = drift_of(
+        ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus, spec,
+        AlertRules.from_settings(rs),
+    )  # fmt: skip
+    alerts = drift["alerts"]
     plan = theme_plan(drift)
 
     summary = {
@@ -403,6 +416,7 @@ def _run(
         "counts": drift["counts"],
         "new_theme_ids": [t["theme_id"] for t in drift["themes"] if t["status"] == "new"],
         "retired_theme_ids": [t["theme_id"] for t in drift["retired"]],
+        "alerts": {k: alerts[k] for k in ("new", "rise", "fall")},
         "resweep": result.resweep,
         "resweep_reason": result.resweep_reason,
         "same_theme_cutoff": calibration.threshold,
@@ -434,10 +448,12 @@ def _run(
     result.version = n
     result.counts = drift["counts"]
     result.new_themes = [
-        {"theme_id": t["theme_id"], "top_terms": t["top_terms"]}
-        for t in drift["themes"]
-        if t["status"] == "new"
+        {k: t[k] for k in ("theme_id", "name", "top_terms", "verdict", "alert", "split_of",
+                           "growth", "evidence", "examples") if k in t}  # fmt: skip
+        for t in alerts["new_themes"]
     ]
+    result.risers = [t for t in alerts["changes"] if t["alert"] and t["direction"] == "rise"]
+    result.fallers = [t for t in alerts["changes"] if t["alert"] and t["direction"] == "fall"]
     result.retired_themes = [
         {"theme_id": t["theme_id"], "name": t["name"]} for t in drift["retired"]
     ]

@@ -24,8 +24,10 @@ from talkthemes.workspace import Workspace
 
 __all__ = [
     "TIMELINE_COLUMNS",
+    "AlertCard",
     "ThemeChange",
     "VersionChanges",
+    "alert_cards",
     "load_drift",
     "new_theme_examples",
     "report_top_terms",
@@ -114,6 +116,9 @@ class ThemeChange:
         One plain sentence: what it continues, how far it moved, its closest match.
     flags : list of str
         Possible split or merge, in words.
+    alert : str
+        What the refresh's alerts said of it ("alerted as new", "split of #3, not
+        alerted", "rose significantly", …); "" when nothing.
     """
 
     theme_id: int
@@ -121,6 +126,7 @@ class ThemeChange:
     status: str
     detail: str
     flags: list[str] = field(default_factory=list)
+    alert: str = ""
 
 
 @dataclass(frozen=True)
@@ -139,6 +145,20 @@ class VersionChanges:
     def flagged(self) -> list[ThemeChange]:
         """Themes flagged as a possible split or merge."""
         return [t for t in [*self.carried, *self.new] if t.flags]
+
+
+def _alert_note(info: Mapping[str, Any]) -> str:
+    """What the refresh's alerts said of a theme, in words ("" when nothing)."""
+    verdict = info.get("verdict")
+    if verdict == "new":
+        return "alerted as new"
+    if verdict == "split" and info.get("split_of") is not None:
+        return f"split of #{int(info['split_of'])}, not alerted"
+    if verdict:
+        return "not alerted (" + str(verdict).replace("_", " ") + ")"
+    if info.get("alert") and info.get("change") in ("rise", "fall"):
+        return "rose significantly" if info["change"] == "rise" else "fell significantly"
+    return ""
 
 
 def _flags(info: Mapping[str, Any]) -> list[str]:
@@ -199,7 +219,9 @@ def version_changes(
                 if dist is not None
                 else "kept its id"
             )
-            carried.append(ThemeChange(tid, name, "carried", detail, _flags(info)))
+            carried.append(
+                ThemeChange(tid, name, "carried", detail, _flags(info), _alert_note(info))
+            )
         elif t["status"] == "new":
             near = info.get("nearest_previous")
             detail = (
@@ -208,7 +230,7 @@ def version_changes(
                 if near
                 else "no previous version to compare with"
             )
-            new.append(ThemeChange(tid, name, "new", detail, _flags(info)))
+            new.append(ThemeChange(tid, name, "new", detail, _flags(info), _alert_note(info)))
         else:
             raise InputError(f"theme {tid}: status {t['status']!r} is not 'carried' or 'new'")
     for r in retired:
@@ -299,3 +321,111 @@ def load_drift(ws: Workspace, n: int) -> dict[str, Any] | None:
     if missing:
         raise InputError(f"{path}: the drift report lacks {', '.join(missing)}")
     return report
+
+
+@dataclass(frozen=True)
+class AlertCard:
+    """One alert of a refresh, explained (from the drift report's ``alerts`` block).
+
+    Attributes
+    ----------
+    kind : str
+        ``new``, ``riser`` or ``faller``.
+    theme_id : int
+    name : str
+        Its label as it is now, or its three top terms.
+    size : str
+        Transcripts it leads among the new ones, in words.
+    growth : str
+        Its share of new against earlier transcripts, the ratio and its interval.
+    top_terms : list of str
+    evidence : list of (bool, str)
+        Each piece of evidence: whether it held, and what it says.
+    examples : list of (str, str)
+        ``(transcript id, sentence)``, scrubbed when the prep scrubs.
+    """
+
+    kind: str
+    theme_id: int
+    name: str
+    size: str
+    growth: str
+    top_terms: list[str]
+    evidence: list[tuple[bool, str]]
+    examples: list[tuple[str, str]]
+
+
+def _share(x: Any) -> str:
+    return "–" if x is None else f"{100 * float(x):.1f}%"
+
+
+def _card(kind: str, t: Mapping[str, Any], name: str, evidence: list[tuple[bool, str]]) -> AlertCard:
+    g = t.get("growth") or {}
+    ratio = (
+        f" (×{g['ratio']:.2f}, 95% interval {g['ratio_lo']:.2f}–{g['ratio_hi']:.2f})"
+        if g.get("ratio") is not None
+        else ""
+    )
+    return AlertCard(
+        kind=kind,
+        theme_id=int(t["theme_id"]),
+        name=name,
+        size=(
+            f"leads {int(g.get('calls_new', 0)):,} of {int(g.get('new_transcripts', 0)):,} new "
+            f"transcripts ({_share(g.get('share_new'))})"
+        ),
+        growth=(
+            f"{_share(g.get('share_new'))} of new transcripts against "
+            f"{_share(g.get('share_earlier'))} of earlier ones{ratio}"
+        ),
+        top_terms=list(t.get("top_terms") or []),
+        evidence=evidence,
+        examples=[(str(e["transcript_id"]), str(e["sentence"])) for e in t.get("examples") or []],
+    )
+
+
+def alert_cards(
+    report: Mapping[str, Any] | None, labels: Mapping[int, str] | None = None
+) -> list[AlertCard]:
+    """The alerts of a drift report, each explained: new themes alerted, then risers, then
+    fallers (empty for a report written before alerts existed).
+
+    Parameters
+    ----------
+    report : mapping or None
+        A drift report with an ``alerts`` block (:func:`talkthemes.versions.alerts.with_alerts`).
+    labels : mapping of int to str, optional
+        Current labels by theme id.
+    """
+    block = (report or {}).get("alerts")
+    if not block:
+        return []
+    labels = labels or {}
+    cards = []
+    for t in block.get("new_themes", []):
+        if t.get("alert"):
+            tid = int(t["theme_id"])
+            evidence = [(bool(e["held"]), str(e["text"])) for e in t.get("evidence", [])]
+            name = _name(labels.get(tid, ""), t.get("top_terms"), tid)
+            cards.append(_card("new", t, name, evidence))
+    rules = block.get("rules") or {}
+    by_id = {int(t["theme_id"]): t for t in block.get("changes", [])}
+    for kind, ids in (("riser", block.get("rise", [])), ("faller", block.get("fall", []))):
+        for tid in ids:
+            t = by_id[int(tid)]
+            text = str(t.get("text", ""))
+            evidence = [
+                (True, text),
+                (
+                    True,
+                    f"significant at a false discovery rate of {rules.get('change_fdr', '–')} "
+                    f"and beyond ×{rules.get('change_min_ratio', '–')} (or its inverse)",
+                ),
+            ]
+            if t.get("includes"):
+                evidence.append(
+                    (True, "counted with its split themes " + ", ".join(map(str, t["includes"])))
+                )
+            name = _name(labels.get(int(tid), ""), t.get("top_terms"), int(tid))
+            cards.append(_card(kind, t, name, evidence))
+    return cards
