@@ -89,9 +89,7 @@ def _alert_card(card: AlertCard) -> None:
             f"Top terms: {md_inline(', '.join(card.top_terms[:8]))}"
         )
         st.markdown(
-            "\n".join(
-                f"- {'✓' if held else '✗'} {md_inline(text)}" for held, text in card.evidence
-            )
+            "\n".join(f"- {'✓' if held else '✗'} {md_inline(text)}" for held, text in card.evidence)
         )
         if card.examples:
             st.markdown(

@@ -19,9 +19,10 @@ shares asked for; what varies between seeds is the text and the models. Scored p
 (:func:`score_run`):
 
 * whether any alert was raised (a new theme alerted, or a riser);
-* for the new reason: over the batch's calls, the **precision** (calls led by alerted new
-  themes whose true reason is the new one) and **recall** (new-reason calls led by an
-  alerted new theme);
+* for the new reason, over the batch's calls: the **precision**, the share of the calls led
+  by alerted new themes that are about the new reason (their lead or their second reason;
+  ``precision_lead`` counts the lead reason only), and the **recall**, the share of the
+  calls whose lead reason is the new one that an alerted new theme leads;
 * a **rise caught**: a riser whose batch calls are mostly of the rising reason;
 * a **split reported as new**: an alerted new theme whose batch calls are mostly of an old
   reason; a **false riser**: a riser whose calls are mostly of another reason.
@@ -35,6 +36,7 @@ from __future__ import annotations
 import datetime as dt
 import shutil
 from collections import Counter
+from collections.abc import Mapping
 from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
@@ -42,15 +44,29 @@ from typing import Any
 import numpy as np
 
 from talkthemes.demo.harness import build_workspace
-from talkthemes.demo.planted import PlantedSpec, planted_reasons, read_truth, write_planted
+from talkthemes.demo.planted import (
+    PlantedFiles,
+    PlantedSpec,
+    planted_reasons,
+    read_truth,
+    write_planted,
+)
 from talkthemes.errors import InputError
-from talkthemes.refresh.run import RefreshResult, refresh
+from talkthemes.refresh.run import refresh
 from talkthemes.versions.fit import fit_version
 from talkthemes.versions.load import load_version
 from talkthemes.versions.write import write_version
 from talkthemes.workspace import Workspace
 
-__all__ = ["CASES", "AlertScenario", "build_history", "run_case", "score_run"]
+__all__ = [
+    "CASES",
+    "AlertScenario",
+    "build_history",
+    "run_case",
+    "score_run",
+    "with_settings",
+    "write_batch",
+]
 
 #: The four kinds of next batch.
 CASES = ("nothing", "new", "rise", "both")
@@ -166,14 +182,24 @@ def build_history(root: Path, scenario: AlertScenario, seed: int) -> Workspace:
     return ws
 
 
+def write_batch(
+    root: Path, scenario: AlertScenario, case: str, seed: int
+) -> tuple[PlantedFiles, list[dict[str, str]]]:
+    """Write the next month of ``case`` under ``root``: the folder to ingest and its truth."""
+    files = write_planted(Path(root), scenario.batch_spec(case, seed))
+    return files, read_truth(files.truth)
+
+
 def run_case(
     history: Workspace, root: Path, scenario: AlertScenario, case: str, seed: int
-) -> tuple[RefreshResult, Workspace, list[dict[str, str]]]:
-    """Copy the history's workspace to ``root/ws``, write the batch of ``case`` and refresh.
+) -> tuple[dict[str, Any], Workspace, list[dict[str, str]]]:
+    """Copy the history's workspace to ``root/ws``, write the batch of ``case`` and refresh
+    (asking for both alerts).
 
     Returns
     -------
-    result : RefreshResult
+    doc : dict
+        What ``refresh --json`` prints (:meth:`RefreshResult.to_json`).
     ws : Workspace
         The refreshed copy.
     truth : list of dict
@@ -182,10 +208,10 @@ def run_case(
     root = Path(root)
     ws = Workspace(root / "ws")
     shutil.copytree(history.root, ws.root)
-    files = write_planted(root / "batch", scenario.batch_spec(case, seed))
+    files, truth = write_batch(root / "batch", scenario, case, seed)
     with ws.lock("alerts"):
         result = refresh(ws, ingest_paths=[files.exports], alert_on_new=True, alert_on_rise=True)
-    return result, ws, read_truth(files.truth)
+    return result.to_json(), ws, truth
 
 
 def _majority(calls: list[str], reason_of: dict[str, str]) -> str:
@@ -194,7 +220,7 @@ def _majority(calls: list[str], reason_of: dict[str, str]) -> str:
 
 
 def score_run(
-    result: RefreshResult,
+    doc: Mapping[str, Any],
     ws: Workspace,
     truth: list[dict[str, str]],
     scenario: AlertScenario,
@@ -202,17 +228,28 @@ def score_run(
 ) -> dict[str, Any]:
     """Score one refresh against the batch's answer key (see the module notes).
 
+    Parameters
+    ----------
+    doc : mapping
+        What ``refresh --json`` printed for it.
+    ws : Workspace
+        The refreshed workspace.
+    truth : list of dict
+        The batch's answer key.
+
     Returns
     -------
     dict
         ``case``, ``alert`` (any new-theme alert or riser), ``new_alerts``, ``risers``,
-        ``fallers``, ``precision`` and ``recall`` of the new reason (None when it is not
-        planted), ``rise_caught`` (None when no rise is planted), ``split_as_new`` (alerted
-        new themes whose calls are mostly an old reason), ``false_risers``, ``verdicts``
-        (the verdict of every new theme), ``new_reason_calls`` and ``rise_reason_calls``.
+        ``fallers``, ``precision``, ``precision_lead`` and ``recall`` of the new reason (None
+        when it is not planted) and the counts behind them (``alerted_calls``,
+        ``alerted_about_new``, ``alerted_led_by_new``), ``rise_caught`` (None when no rise
+        is planted), ``split_as_new`` (alerted new themes whose calls are mostly an old
+        reason), ``false_risers``, ``verdicts`` (the verdict of every new theme),
+        ``new_reason_calls`` and ``rise_reason_calls``.
     """
-    if result.status != "published":
-        raise InputError(f"the refresh did not publish ({result.status})")
+    if doc["status"] != "published":
+        raise InputError(f"the refresh did not publish ({doc['status']})")
     version = load_version(ws)
     reason_of = {r["call_id"]: r["reason"] for r in truth}
     lead_theme = np.asarray(version.theme_ids)[version.lead()]
@@ -220,25 +257,28 @@ def score_run(
     for d, t in zip(version.doc_ids, lead_theme.tolist(), strict=True):
         if d in reason_of:
             calls_of.setdefault(int(t), []).append(d)
-    alerted = result.alerted_new
+    alerted = list(doc["alerts"]["new"])
     in_alerted = {c for t in alerted for c in calls_of.get(t, [])}
     new_calls = {c for c, r in reason_of.items() if r == scenario.new_key}
+    about_new = new_calls | {
+        r["call_id"] for r in truth if r["secondary_reason"] == scenario.new_key
+    }
     planted_new = case in ("new", "both")
-    precision = recall = None
+    precision = precision_lead = recall = None
     if planted_new:
-        hit = len(in_alerted & new_calls)
-        precision = hit / len(in_alerted) if in_alerted else 0.0
-        recall = hit / len(new_calls) if new_calls else 0.0
+        precision = len(in_alerted & about_new) / len(in_alerted) if in_alerted else 0.0
+        precision_lead = len(in_alerted & new_calls) / len(in_alerted) if in_alerted else 0.0
+        recall = len(in_alerted & new_calls) / len(new_calls) if new_calls else 0.0
     split_as_new = [
         t for t in alerted if _majority(calls_of.get(t, []), reason_of) != scenario.new_key
     ]
-    risers = [int(t["theme_id"]) for t in result.risers]
+    risers = [int(t["theme_id"]) for t in doc["risers"]]
 
-    def riser_reason(t: dict[str, Any]) -> str:
+    def riser_reason(t: Mapping[str, Any]) -> str:
         ids = [int(t["theme_id"]), *map(int, t.get("includes", []))]
         return _majority([c for i in ids for c in calls_of.get(i, [])], reason_of)
 
-    rise_reasons = [riser_reason(t) for t in result.risers]
+    rise_reasons = [riser_reason(t) for t in doc["risers"]]
     planted_rise = case in ("rise", "both")
     rise_caught = (scenario.rise_key in rise_reasons) if planted_rise else None
     false_risers = [
@@ -250,13 +290,17 @@ def score_run(
         "alert": bool(alerted or risers),
         "new_alerts": alerted,
         "risers": risers,
-        "fallers": [int(t["theme_id"]) for t in result.fallers],
+        "fallers": [int(t["theme_id"]) for t in doc["fallers"]],
         "precision": precision,
+        "precision_lead": precision_lead,
         "recall": recall,
+        "alerted_calls": len(in_alerted),
+        "alerted_about_new": len(in_alerted & about_new),
+        "alerted_led_by_new": len(in_alerted & new_calls),
         "rise_caught": rise_caught,
         "split_as_new": split_as_new,
         "false_risers": false_risers,
-        "verdicts": {str(t["theme_id"]): t["verdict"] for t in result.new_themes},
+        "verdicts": {str(t["theme_id"]): t["verdict"] for t in doc["new_themes"]},
         "new_reason_calls": len(new_calls),
         "rise_reason_calls": sum(r == scenario.rise_key for r in reason_of.values()),
     }

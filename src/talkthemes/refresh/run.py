@@ -448,8 +448,21 @@ def _run(
     result.version = n
     result.counts = drift["counts"]
     result.new_themes = [
-        {k: t[k] for k in ("theme_id", "name", "top_terms", "verdict", "alert", "split_of",
-                           "growth", "evidence", "examples") if k in t}  # fmt: skip
+        {
+            k: t[k]
+            for k in (
+                "theme_id",
+                "name",
+                "top_terms",
+                "verdict",
+                "alert",
+                "split_of",
+                "growth",
+                "evidence",
+                "examples",
+            )
+            if k in t
+        }
         for t in alerts["new_themes"]
     ]
     result.risers = [t for t in alerts["changes"] if t["alert"] and t["direction"] == "rise"]

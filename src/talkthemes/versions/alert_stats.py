@@ -153,7 +153,11 @@ def difference_interval(
     l1, u1 = wilson_interval(x1, n1, level)
     l2, u2 = wilson_interval(x2, n2, level)
     d = p1 - p2
-    return d, d - np.sqrt((p1 - l1) ** 2 + (u2 - p2) ** 2), d + np.sqrt((u1 - p1) ** 2 + (p2 - l2) ** 2)
+    return (
+        d,
+        d - np.sqrt((p1 - l1) ** 2 + (u2 - p2) ** 2),
+        d + np.sqrt((u1 - p1) ** 2 + (p2 - l2) ** 2),
+    )
 
 
 def benjamini_hochberg(p_values: Any) -> np.ndarray:

@@ -217,8 +217,14 @@ def _term_novelty(
         "score": round(score, 6),
         "novel_terms": [vocabulary[t] for t in top[novel].tolist()],
         "terms": [
-            {"term": vocabulary[t], "new": int(x), "earlier": int(y), "ratio": _r(r, 3),
-             "llr": _r(g, 3), "novel": bool(v)}  # fmt: skip
+            {
+                "term": vocabulary[t],
+                "new": int(x),
+                "earlier": int(y),
+                "ratio": _r(r, 3),
+                "llr": _r(g, 3),
+                "novel": bool(v),
+            }
             for t, x, y, r, g, v in zip(top.tolist(), a, b, ratio, llr, novel, strict=True)
         ],
     }
@@ -402,7 +408,10 @@ def judge_changes(
         x2 = np.array([r[4] for r in testable])
         z, p = two_proportion_test(x1, n_new, x2, n_old)
         q = benjamini_hochberg(p)
-        q_of = {r[1]: (float(a), float(b), float(c)) for r, a, b, c in zip(testable, z, p, q, strict=True)}
+        q_of = {
+            r[1]: (float(a), float(b), float(c))
+            for r, a, b, c in zip(testable, z, p, q, strict=True)
+        }
     out = []
     for j, tid, cols, x_new, x_old in rows:
         growth = _growth(x_new, n_new, x_old, n_old, rules.level)

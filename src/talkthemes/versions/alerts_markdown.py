@@ -90,7 +90,9 @@ def _new_alert(t: Mapping[str, Any]) -> list[str]:
         f"- Top terms: {_terms(t['top_terms'])}",
         "- Evidence (every piece held):",
     ]
-    lines += [f"  - {'held' if e['held'] else 'failed'}: {md_inline(e['text'])}" for e in t["evidence"]]
+    lines += [
+        f"  - {'held' if e['held'] else 'failed'}: {md_inline(e['text'])}" for e in t["evidence"]
+    ]
     return [*lines, *_examples(t), ""]
 
 

@@ -359,7 +359,9 @@ def _share(x: Any) -> str:
     return "–" if x is None else f"{100 * float(x):.1f}%"
 
 
-def _card(kind: str, t: Mapping[str, Any], name: str, evidence: list[tuple[bool, str]]) -> AlertCard:
+def _card(
+    kind: str, t: Mapping[str, Any], name: str, evidence: list[tuple[bool, str]]
+) -> AlertCard:
     g = t.get("growth") or {}
     ratio = (
         f" (×{g['ratio']:.2f}, 95% interval {g['ratio_lo']:.2f}–{g['ratio_hi']:.2f})"

@@ -118,8 +118,7 @@ class PlantedSpec:
         if self.imbalance < 0 or self.words < 40:
             raise InputError("imbalance must be ≥ 0 and words ≥ 40")
         if self.weights is not None and (
-            len(self.weights) != self.reasons
-            or not all(w > 0 for w in self.weights)
+            len(self.weights) != self.reasons or not all(w > 0 for w in self.weights)
         ):
             raise InputError(
                 f"weights must be {self.reasons} positive numbers (one per reason), "

@@ -1,0 +1,71 @@
+"""Example sentences of an alert: prepared the version's way, customer first, one per call,
+never boilerplate, scrubbed."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import scipy.sparse as sp
+from talkthemes.prepare.frozen import PrepApplier, load_prep_spec
+from talkthemes.refresh.alert_step import (
+    best_sentences,
+    not_a_theme_ids,
+    split_sentences,
+    term_counts,
+)
+from talkthemes.versions.load import load_version
+from talkthemes.workspace import Workspace
+
+
+def test_split_sentences_keeps_abbreviation_free_sentences_whole() -> None:
+    assert split_sentences("Hello there.  My price went up!\nWhy? ok") == [
+        "Hello there.",
+        "My price went up!",
+        "Why?",
+        "ok",
+    ]
+    assert split_sentences("   ") == []
+
+
+def test_best_sentences_prefer_the_customer_and_skip_boilerplate(published_root: Path) -> None:
+    ws = Workspace(published_root)
+    version = load_version(ws)
+    spec = load_prep_spec(ws, version)
+    applier = PrepApplier(spec)
+    leak = {"leak", "water", "tap"}  # terms of the demo's water-leak theme
+    assert leak <= set(spec.vocabulary)
+    weights = np.array([1.0 if t in leak else 0.0 for t in spec.vocabulary])
+    boiler = spec.boilerplate[0].capitalize() + "."
+    turns = [
+        ("c1", [("agent", "Is the water leak near the tap, the leak you mentioned?"),
+                ("customer", "Hi. Water comes from the tap, ring 0161 496 0000 or a.b@example.com"),
+                ("agent", boiler)]),
+        ("c2", [("agent", boiler), ("agent", "A water leak at the tap is ours to fix.")]),
+        ("c3", [("agent", boiler), ("customer", "Thanks, bye.")]),
+        ("c4", [("customer", "The leak. The leak and the water and the tap again.")]),
+    ]  # fmt: skip
+    picked = best_sentences(turns, applier, weights, n=3, scrub_on=True)
+    assert [p["transcript_id"] for p in picked] == ["c4", "c1", "c2"]  # customers first
+    by_id = {p["transcript_id"]: p["sentence"] for p in picked}
+    assert by_id["c4"] == "The leak and the water and the tap again."
+    assert by_id["c1"].startswith("Water comes from the tap, ring")
+    assert "0161" not in by_id["c1"] and "example.com" not in by_id["c1"]  # scrubbed
+    raw = best_sentences(turns, applier, weights, n=3, scrub_on=False)
+    assert "0161 496 0000 or a.b@example.com" in raw[1]["sentence"]
+    assert by_id["c2"] == "A water leak at the tap is ours to fix."  # no customer sentence
+    assert all(p["sentence"] != boiler for p in picked)
+    assert best_sentences(turns, applier, weights, n=1, scrub_on=True) == picked[:1]
+    assert best_sentences([], applier, weights) == []
+
+
+def test_term_counts_and_the_not_a_theme_mark(published: Workspace) -> None:
+    counts = sp.csr_matrix(np.array([[1, 0, 2], [0, 3, 0], [4, 0, 0]]))
+    new, earlier = term_counts(counts, np.array([True, False, True]))
+    assert new.tolist() == [5, 0, 2] and earlier.tolist() == [0, 3, 0]
+    version = load_version(published)
+    hidden = version.theme_ids[2]
+    with published.store() as store:
+        assert not_a_theme_ids(store, version.n) == set()
+        store.set_label(hidden, hidden=True)
+        assert not_a_theme_ids(store, version.n) == {hidden}
