@@ -7,6 +7,7 @@ from pathlib import Path
 
 import numpy as np
 import scipy.sparse as sp
+
 from talkthemes.prepare.frozen import PrepApplier, load_prep_spec
 from talkthemes.refresh.alert_step import (
     best_sentences,
