@@ -1,8 +1,9 @@
-"""The statistics behind refresh alerts: pure functions over counts (docs/methods_alerts.md).
+"""The statistics behind refresh alerts: pure functions over counts (docs/methods_alerts.md,
+"Risers and fallers" and "A new theme alerts only when four pieces of evidence hold").
 
 * :func:`two_proportion_test` — is a theme's share of the new transcripts different from its
-  share of the earlier ones? The pooled two-proportion z-test, two-sided (Agresti 2013,
-  section 3.1; its square is Pearson's chi-square statistic of the 2 × 2 table);
+  share of the earlier ones? The pooled two-proportion z-test, two-sided (Agresti 2013;
+  its square is Pearson's chi-square statistic of the 2 × 2 table);
 * :func:`ratio_interval` — the ratio of the two shares with the Katz log interval (Katz,
   Baptista, Azen & Pike 1978), 0.5 added to every cell when a count is 0;
 * :func:`difference_interval` — the difference of the shares with Newcombe's (1998) hybrid
@@ -18,7 +19,7 @@ reads files, the clock or a random state.
 
 References
 ----------
-Agresti, A. (2013). *Categorical Data Analysis*, 3rd ed. Wiley. Sections 2.4 and 3.1.
+Agresti, A. (2013). *Categorical Data Analysis*, 3rd ed. Wiley. Chapters 2–3.
 Benjamini, Y. & Hochberg, Y. (1995). Controlling the false discovery rate: a practical and
 powerful approach to multiple testing. *Journal of the Royal Statistical Society B* 57(1):
 289–300.
@@ -87,8 +88,8 @@ def two_proportion_test(x1: Any, n1: Any, x2: Any, n2: Any) -> tuple[np.ndarray,
 
     Notes
     -----
-    z² equals Pearson's X² of the 2 × 2 table without continuity correction (Agresti 2013,
-    section 3.1), so the p-value equals scipy's ``chi2_contingency(..., correction=False)``.
+    z² equals Pearson's X² of the 2 × 2 table without continuity correction (Agresti 2013),
+    so the p-value equals scipy's ``chi2_contingency(..., correction=False)``.
     """
     x1, n1 = _counts(x1, n1, "two-proportion test")
     x2, n2 = _counts(x2, n2, "two-proportion test")

@@ -1,6 +1,7 @@
 """Refresh alerts: which new themes are really new, which carried themes rose or fell.
 
-Pure functions over the arrays a refresh already holds (docs/methods_alerts.md). Shares are
+Pure functions over the arrays a refresh already holds (docs/methods_alerts.md, "A new theme
+alerts only when four pieces of evidence hold" and "Risers and fallers"). Shares are
 lead shares: the fraction of a group of transcripts whose lead theme (largest share) a
 theme is, all under the *new* version, so the new transcripts and the earlier ones are
 compared by one model.
