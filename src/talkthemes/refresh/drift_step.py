@@ -1,7 +1,8 @@
 """The refresh's drift step: the report of what moved, the theme plan, the drift files.
 
 The report compares the new version's themes with the current version's
-(:func:`talkthemes.versions.drift.drift_report`); the plan says which rows carry which theme
+(:func:`talkthemes.versions.drift.drift_report`) with its alerts
+(:func:`talkthemes.refresh.alert_step.alerts_of`); the plan says which rows carry which theme
 id and which themes retire (:class:`talkthemes.versions.write.ThemePlan`); the files are
 ``drift.json``, ``drift.md`` (:mod:`talkthemes.versions.drift_markdown`) and ``drift.png``.
 """

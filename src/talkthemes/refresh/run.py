@@ -24,7 +24,10 @@ One run (the caller holds the workspace lock):
    (:mod:`talkthemes.versions.align`): a matched theme keeps its id, label and note (carried), an
    unmatched new theme gets a new id (new), an unmatched old theme is recorded as retired;
    near-ties are flagged as possible splits and merges.
-7. **write** the version in full — with ``drift.json``, ``drift.md`` and ``drift.png``
+7. **judge the alerts** (:mod:`talkthemes.refresh.alert_step`, docs/methods_alerts.md):
+   which new themes are really new (mass, not a split, new words, not marked not a theme),
+   which carried themes rose or fell significantly; each with three example sentences;
+   then **write** the version in full — with ``drift.json``, ``drift.md`` and ``drift.png``
    (:mod:`talkthemes.refresh.drift_step`) — and make it current in one transaction together with the
    refresh's log row (:func:`~talkthemes.versions.write.write_version`); then old versions
    beyond ``[refresh] keep_versions`` are removed (never the current one).
@@ -403,7 +406,7 @@ def _run(
         int(current.theme_ids[i]) if i >= 0 else next(fresh) for i in alignment.matched_old.tolist()
     ]
     # 7. write
-    step(6, "writing the version and its drift report")
+    step(6, "judging alerts, writing the version and its drift report")
     drift = drift_of(
         ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus, spec,
         AlertRules.from_settings(rs),
@@ -447,24 +450,7 @@ def _run(
     result.status = "published"
     result.version = n
     result.counts = drift["counts"]
-    result.new_themes = [
-        {
-            k: t[k]
-            for k in (
-                "theme_id",
-                "name",
-                "top_terms",
-                "verdict",
-                "alert",
-                "split_of",
-                "growth",
-                "evidence",
-                "examples",
-            )
-            if k in t
-        }
-        for t in alerts["new_themes"]
-    ]
+    result.new_themes = list(alerts["new_themes"])
     result.risers = [t for t in alerts["changes"] if t["alert"] and t["direction"] == "rise"]
     result.fallers = [t for t in alerts["changes"] if t["alert"] and t["direction"] == "fall"]
     result.retired_themes = [
