@@ -13,6 +13,7 @@ and three example sentences per alert.
 
 from __future__ import annotations
 
+import logging
 import re
 from collections.abc import Iterable, Mapping, Sequence
 from typing import Any
@@ -21,6 +22,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from talkthemes.assign import ShareModel
+from talkthemes.errors import NotReadyError
 from talkthemes.prepare.frozen import PrepApplier, PrepSpec
 from talkthemes.prepare.scrub import scrub
 from talkthemes.store import Store
@@ -43,9 +45,13 @@ __all__ = [
 
 #: Candidate transcripts read per alert (those with the largest share of the theme).
 CANDIDATES = 12
+#: Transcripts prepared and inferred at a time under the previous version.
+_CHUNK = 2000
 #: Longest example sentence shown, in characters.
 WIDTH = 240
 _SENTENCE_END = re.compile(r"(?<=[.!?])\s+")
+
+log = logging.getLogger(__name__)
 
 
 def previous_leads(
@@ -56,7 +62,10 @@ def previous_leads(
     Returns
     -------
     ndarray of int (len(doc_ids),)
-        -1 for a transcript none of whose words the previous version knows.
+        -1 for a transcript none of whose words the previous version knows, and for every
+        transcript it was not trained on when its model state is missing (a version
+        written before states were kept: the split test then reads earlier transcripts
+        only).
     """
     own = {d: i for i, d in enumerate(previous.doc_ids)}
     lead = previous.lead()
@@ -70,16 +79,19 @@ def previous_leads(
             out[k] = lead[i]
     if not others:
         return out
-    with ws.store() as store:
-        applied = PrepApplier(spec).apply(store.turns_for(others))
-    shares = ShareModel.from_version(previous).shares(applied.counts.tocsr())
-    inferred = {
-        d: int(np.argmax(row)) if known > 0 else -1
-        for d, row, known in zip(applied.doc_ids, shares, applied.known, strict=True)
-    }
+    try:
+        model = ShareModel.from_version(previous)
+    except NotReadyError as exc:  # a version written before model states were kept
+        log.warning("split test on earlier transcripts only: %s", exc)
+        return out
+    applier = PrepApplier(spec)
     where = {d: k for k, d in enumerate(doc_ids)}
-    for d, row in inferred.items():
-        out[where[d]] = row
+    for start in range(0, len(others), _CHUNK):
+        with ws.store() as store:
+            applied = applier.apply(store.turns_for(others[start : start + _CHUNK]))
+        shares = model.shares(applied.counts.tocsr())
+        for d, row, known in zip(applied.doc_ids, shares, applied.known, strict=True):
+            out[where[d]] = int(np.argmax(row)) if known > 0 else -1
     return out
 
 

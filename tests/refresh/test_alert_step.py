@@ -1,5 +1,6 @@
-"""Example sentences of an alert: prepared the version's way, customer first, one per call,
-never boilerplate, scrubbed."""
+"""What the alert step reads: example sentences (prepared the version's way, customer first,
+one per call, never boilerplate, scrubbed), lead themes under the previous version, term
+counts per period, the not-a-theme mark."""
 
 from __future__ import annotations
 
@@ -8,10 +9,12 @@ from pathlib import Path
 import numpy as np
 import scipy.sparse as sp
 
+from talkthemes.demo.records import DemoFiles
 from talkthemes.prepare.frozen import PrepApplier, load_prep_spec
 from talkthemes.refresh.alert_step import (
     best_sentences,
     not_a_theme_ids,
+    previous_leads,
     split_sentences,
     term_counts,
 )
@@ -70,3 +73,31 @@ def test_term_counts_and_the_not_a_theme_mark(published: Workspace) -> None:
         assert not_a_theme_ids(store, version.n) == set()
         store.set_label(hidden, hidden=True)
         assert not_a_theme_ids(store, version.n) == {hidden}
+
+
+def test_previous_leads_read_own_shares_and_infer_the_others(
+    published: Workspace, demo_files: DemoFiles
+) -> None:
+    from talkthemes.assign import ShareModel
+    from talkthemes.ingest.run import ingest
+
+    ws = published
+    version = load_version(ws)
+    spec = load_prep_spec(ws, version)
+    with ws.lock("ingest"):
+        ingest(ws, [demo_files.inbox])
+    with ws.store() as store:
+        october = [t for t in store.transcript_ids() if t.startswith("C2026-10")][:40]
+        applied = PrepApplier(spec).apply(store.turns_for(october))
+    ids = [*version.doc_ids[:30], *october]
+    lead = previous_leads(ws, version, spec, ids)
+    assert lead[:30].tolist() == version.lead()[:30].tolist()  # its own shares
+    expected = np.argmax(ShareModel.from_version(version).shares(applied.counts.tocsr()), 1)
+    known = applied.known > 0
+    assert known.sum() >= 35
+    assert lead[30:][known].tolist() == expected[known].tolist()  # as assign infers them
+    assert (lead[30:][~known] == -1).all()
+    # a version without its model state: the others stay unknown, its own are still read
+    (version.folder / "model" / "params.json").unlink()
+    fallback = previous_leads(ws, version, spec, ids)
+    assert fallback[:30].tolist() == lead[:30].tolist() and (fallback[30:] == -1).all()
