@@ -48,6 +48,7 @@ def test_best_sentences_prefer_the_customer_and_skip_boilerplate(published_root:
         ("c2", [("agent", boiler), ("agent", "A water leak at the tap is ours to fix.")]),
         ("c3", [("agent", boiler), ("customer", "Thanks, bye.")]),
         ("c4", [("customer", "The leak. The leak and the water and the tap again.")]),
+        ("c5", [("customer", "the leak and the water and the tap  again.")]),  # said before
     ]  # fmt: skip
     picked = best_sentences(turns, applier, weights, n=3, scrub_on=True)
     assert [p["transcript_id"] for p in picked] == ["c4", "c1", "c2"]  # customers first

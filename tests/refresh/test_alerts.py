@@ -199,11 +199,16 @@ def test_alerts_explain_themselves_in_markdown_escaped() -> None:
     assert "Theme 8 (meter · smart · read) is new but not alerted: split of theme 3" in alerts
     new7 = alerts[alerts.index("### New theme 7") : alerts.index("### Riser 1")]
     assert "- Size: leads 40 of 200 new transcripts (20.0% [" in new7
-    assert "- Growth: 20.0% of new transcripts against 0.0% of 300 earlier ones: ×" in new7
+    assert (
+        "- Growth: 20.0% of new transcripts against 0.0% of 300 earlier ones, +20.0 points ["
+        in new7
+    )
+    assert "(0 earlier calls: too few for a ratio)" in new7
     assert "- Top terms: strike, union, walkout" in new7
     assert new7.count("  - held: ") == 4 and new7.count("  - “") == 3
     riser = alerts[alerts.index("### Riser 1") : alerts.index("### Faller 2")]
     assert "q = " in riser and "Benjamini–Hochberg" in riser
+    assert "earlier ones: ×1.38 [" in riser
     assert "- Alert: **not alerted: split of theme 3** (see Alerts)." in md
     assert "(riser)" in md and "(faller)" in md  # flagged in the carried table too
     assert not re.search(r"(?<!\\)[<>]", md) and not re.search(r"(?<!\\)\]\(", md)

@@ -27,7 +27,9 @@ REPORT = {
         "changes": [
             {"theme_id": 3, "top_terms": ["season_ticket", "renew"], "alert": True,
              "direction": "rise", "includes": [11], "text": "leads 24.6% … q = 1e-06",
-             "growth": {**GROWTH, "ratio": 1.5, "ratio_lo": 1.3, "ratio_hi": 1.7},
+             "growth": {**GROWTH, "calls_new": 221, "share_new": 0.245556,
+                        "calls_earlier": 393, "share_earlier": 0.16375,
+                        "ratio": 1.5, "ratio_lo": 1.3, "ratio_hi": 1.7},
              "examples": []},
         ],
     },
@@ -38,11 +40,14 @@ def test_alert_cards_explain_each_alert_with_current_labels() -> None:
     new, riser = alert_cards(REPORT, {3: "Season tickets"})
     assert (new.kind, new.theme_id, new.name) == ("new", 9, "cancel · replacement bus · taxi")
     assert new.size == "leads 120 of 900 new transcripts (13.3%)"
-    assert new.growth.startswith("13.3% of new transcripts against 0.1% of earlier ones (×106.70")
+    # 3 earlier calls are too few for a ratio: none shown
+    assert new.growth == "13.3% of new transcripts against 0.1% of earlier ones"
     assert new.evidence == [(True, "leads 120 of 900"), (True, "not a split: spread")]
     assert new.examples == [("B0-00012", "My <b>train</b> was off")]  # the page escapes it
     assert (riser.kind, riser.name) == ("riser", "Season tickets")
-    assert "95% interval 1.30–1.70" in riser.growth
+    assert riser.growth == (
+        "24.6% of new transcripts against 16.4% of earlier ones (×1.50, 95% interval 1.30–1.70)"
+    )
     assert riser.evidence[0] == (True, "leads 24.6% … q = 1e-06")
     assert riser.evidence[-1] == (True, "counted with its split themes 11")
 

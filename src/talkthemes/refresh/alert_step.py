@@ -134,7 +134,8 @@ def best_sentences(
     ``weights`` times the term's count once prepared like the version's transcripts, so
     boilerplate sentences score 0). The customer's sentences are preferred: a transcript's
     agent sentences are used only when none of its customer sentences scores above 0. Each
-    transcript gives its best sentence; the ``n`` best transcripts are kept, best first.
+    transcript gives its best sentence; the ``n`` best transcripts are kept, best first,
+    skipping a sentence whose words (ignoring case) were already picked from another one.
 
     Returns
     -------
@@ -161,8 +162,18 @@ def best_sentences(
         current = best.get(tid)
         if current is None or (customer, score) > (current[0], current[1]):
             best[tid] = (customer, score, sentence)
-    ranked = sorted(best.items(), key=lambda kv: (-kv[1][0], -kv[1][1], kv[0]))[:n]
-    return [{"transcript_id": tid, "sentence": _shown(s, scrub_on)} for tid, (_, _, s) in ranked]
+    picked: list[dict[str, str]] = []
+    seen: set[str] = set()
+    for tid, (_, _, sentence) in sorted(best.items(), key=lambda kv: (-kv[1][0], -kv[1][1], kv[0])):
+        shown = _shown(sentence, scrub_on)
+        key = " ".join(shown.lower().split())
+        if key in seen:  # the same words said in another call add nothing
+            continue
+        seen.add(key)
+        picked.append({"transcript_id": tid, "sentence": shown})
+        if len(picked) == n:
+            break
+    return picked
 
 
 def alert_examples(

@@ -27,10 +27,14 @@ def _ids(ids: Sequence[int]) -> str:
     return ", ".join(str(int(i)) for i in ids) or "none"
 
 
-def _ratio(g: Mapping[str, Any]) -> str:
-    if g.get("ratio") is None:
-        return "–"
-    return f"×{g['ratio']:.2f} [{g['ratio_lo']:.2f}–{g['ratio_hi']:.2f}]"
+#: Fewer calls than this in either period: no ratio is shown (it would be mostly noise).
+MIN_CALLS_FOR_RATIO = 5
+
+
+def _enough(g: Mapping[str, Any]) -> bool:
+    return g.get("ratio") is not None and min(g["calls_new"], g["calls_earlier"]) >= (
+        MIN_CALLS_FOR_RATIO
+    )
 
 
 def _size(g: Mapping[str, Any]) -> str:
@@ -46,13 +50,17 @@ def _size(g: Mapping[str, Any]) -> str:
 def _growth(g: Mapping[str, Any]) -> str:
     text = (
         f"{percent(g['share_new'])} of new transcripts against {percent(g['share_earlier'])} "
-        f"of {g['earlier_transcripts']:,} earlier ones: {_ratio(g)}"
+        f"of {g['earlier_transcripts']:,} earlier ones"
     )
+    if _enough(g):
+        text += f": ×{g['ratio']:.2f} [{g['ratio_lo']:.2f}–{g['ratio_hi']:.2f}]"
     if g.get("difference") is not None:
         text += (
             f", {100 * g['difference']:+.1f} points "
             f"[{100 * g['difference_lo']:+.1f} to {100 * g['difference_hi']:+.1f}]"
         )
+    if g.get("ratio") is not None and not _enough(g):
+        text += f" ({g['calls_earlier']:,} earlier calls: too few for a ratio)"
     return text
 
 

@@ -363,9 +363,10 @@ def _card(
     kind: str, t: Mapping[str, Any], name: str, evidence: list[tuple[bool, str]]
 ) -> AlertCard:
     g = t.get("growth") or {}
+    enough = min(int(g.get("calls_new", 0)), int(g.get("calls_earlier", 0))) >= 5
     ratio = (
         f" (×{g['ratio']:.2f}, 95% interval {g['ratio_lo']:.2f}–{g['ratio_hi']:.2f})"
-        if g.get("ratio") is not None
+        if g.get("ratio") is not None and enough
         else ""
     )
     return AlertCard(
