@@ -36,6 +36,10 @@ SCENARIO = AlertScenario(
 runner = CliRunner()
 
 
+def _no_nan(name: str) -> None:
+    raise AssertionError(f"drift.json holds {name}")
+
+
 @pytest.fixture(scope="module")
 def history(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
     return build_history(tmp_path_factory.mktemp("alerts") / "history", SCENARIO, seed=0)
@@ -79,6 +83,8 @@ def test_new_reason_and_rise_alert_and_explain_themselves(
     )
     assert res.exit_code == 4, res.stderr  # a riser, and --alert-on-rise
     doc = json.loads(res.stdout)
+    json.dumps(doc, allow_nan=False)  # strict JSON for schedulers' parsers
+    json.loads((ws.versions_dir / "2" / "drift.json").read_text(), parse_constant=_no_nan)
     score = score_run(doc, ws, truth, SCENARIO, "both")
     assert score["precision"] >= 0.85 and score["recall"] >= 0.8, score
     assert score["rise_caught"] and not score["split_as_new"] and not score["false_risers"]

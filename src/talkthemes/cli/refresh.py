@@ -125,8 +125,6 @@ def print_refresh(result: Any) -> None:
     )
     if result.resweep:
         say(f"K was chosen again: {result.resweep_reason}.", console=out)
-    for t in result.new_themes:
-        say(f"  new theme {t['theme_id']}: ", ", ".join(t["top_terms"][:8]), console=out)
     print_alerts(result)
     for t in result.retired_themes:
         say(f"  retired theme {t['theme_id']}: ", t["name"], console=out)
@@ -160,10 +158,12 @@ def print_alerts(result: Any) -> None:
             for e in t.get("evidence") or []:
                 say("    ✓ " if e["held"] else "    ✗ ", e["text"], console=out)
             _examples(t)
-        elif t.get("verdict"):
+        else:
             failed = [e["text"] for e in t.get("evidence") or [] if not e["held"]]
             say(
-                f"  theme {t['theme_id']} not alerted ({t['verdict'].replace('_', ' ')}): ",
+                f"  new theme {t['theme_id']}: ",
+                ", ".join(t["top_terms"][:8]),
+                f" — not alerted ({str(t.get('verdict', '')).replace('_', ' ')}): ",
                 "; ".join(failed),
                 console=out,
             )
