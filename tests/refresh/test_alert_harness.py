@@ -5,7 +5,8 @@ rise of an old one, refreshed by the product (the second through the CLI).
 Smaller than the bench (1,600 + 600 calls instead of 2,400 + 900, one seed), so the floors
 here are the bench's targets where the small batch still meets them with room: no alert on
 nothing new; the new reason alerted with precision ≥ 0.85 and recall ≥ 0.8 over its calls;
-the rise (×1.5, about 140 calls) caught; no split reported as new.
+the rise (×1.5, about 140 calls) caught; no split reported as new; and a theme marked not a
+theme never alerts, however much it rose.
 """
 
 from __future__ import annotations
@@ -27,7 +28,8 @@ from talkthemes.demo.alert_harness import (
     score_run,
     write_batch,
 )
-from talkthemes.refresh.run import RefreshResult
+from talkthemes.refresh.run import RefreshResult, refresh
+from talkthemes.versions.load import load_version
 from talkthemes.workspace import Workspace
 
 SCENARIO = AlertScenario(
@@ -127,3 +129,24 @@ def test_new_reason_and_rise_alert_and_explain_themselves(
     )
     assert shown.count("✓ ") >= 4 and "q = " in shown
     assert all(e["transcript_id"] in shown for e in [*new["examples"], *riser["examples"]])
+
+
+@pytest.mark.slow
+def test_a_theme_marked_not_a_theme_never_alerts(history: Workspace, tmp_path: Path) -> None:
+    ws = Workspace(tmp_path / "ws")
+    shutil.copytree(history.root, ws.root)
+    version = load_version(ws)
+    season = next(
+        tid for i, tid in enumerate(version.theme_ids) if "season_ticket" in version.top_terms(i, 3)
+    )
+    with ws.store() as store:
+        store.set_label(season, hidden=True)  # marked: not a theme
+    files, _ = write_batch(tmp_path / "batch", SCENARIO, "rise", seed=0)
+    with ws.lock("test"):
+        result = refresh(ws, ingest_paths=[files.exports], alert_on_rise=True)
+    assert result.exit_code == 0 and result.risers == []  # the rise is there, not alerted
+    drift = json.loads((ws.versions_dir / "2" / "drift.json").read_text())
+    change = next(c for c in drift["alerts"]["changes"] if c["theme_id"] == season)
+    assert not change["tested"] and change["text"] == "marked not a theme: not tested"
+    assert change["growth"]["share_new"] > 1.3 * change["growth"]["share_earlier"]
+    assert drift["alerts"]["not_a_theme"] == [season]
