@@ -3,8 +3,8 @@
 Exit codes of ``refresh``: 0 published, or nothing new to do; 3 done, but some inputs were
 rejected; 4 ``--alert-on-new`` was given and a new theme was alerted (every piece of
 evidence held), or ``--alert-on-rise`` and a carried theme rose significantly (4 wins over
-3: the JSON document still lists the rejects); 2 usage or settings error, or the workspace is busy;
-1 anything unexpected. ``assign``: 0 done; 3 some inputs rejected; 2 usage (no transcript
+3: the JSON document still lists the rejects); 2 usage or settings error, or the workspace
+is busy; 1 anything unexpected. ``assign``: 0 done; 3 some inputs rejected; 2 usage (no transcript
 found, every path missing, an unwritable ``--out``); 1 unexpected.
 
 The library modules behind these commands are imported inside them on purpose: they pull
