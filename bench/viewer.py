@@ -80,12 +80,12 @@ def main() -> int:
     parser.add_argument("--keep", action="store_true", help="keep a built temporary workspace")
     args = parser.parse_args()
 
-    from talkthemes import view
-    from talkthemes.charts.sweep import sweep_chart
-    from talkthemes.charts.terms import term_chart
-    from talkthemes.charts.theme_map import theme_map_chart
-    from talkthemes.charts.trends import movers_chart, segment_chart, trend_chart
+    from talkthemes import charts, view
     from talkthemes.versions.load import load_version
+    from talkthemes.view.evidence import best_sentences
+    from talkthemes.view.over_time import default_comparison, theme_trends
+    from talkthemes.view.theme_map import theme_links
+    from talkthemes.view.themes import map_frame, term_rows
     from talkthemes.workspace import Workspace
 
     tmp = None
@@ -110,6 +110,8 @@ def main() -> int:
     cold.append(("lead themes", t))
     t, sweep = timed(lambda: view.load_sweep(ws))
     cold.append(("sweep cells", t))
+    t, trends = timed(lambda: theme_trends(version, meta))
+    cold.append(("map trends (last full period vs before)", t))
 
     pos = int(version.coverage().argmax())
     tid = version.theme_ids[pos]
@@ -117,7 +119,6 @@ def main() -> int:
     freq = "week"
     fields = view.segment_fields(meta)
     field = "queue" if "queue" in fields else (fields[0] if fields else None)
-    periods = view.period_choices(meta, freq) if meta.date_field else []
 
     def fresh_version() -> Any:
         import dataclasses
@@ -134,10 +135,12 @@ def main() -> int:
     vocab = view.load_prep_vocabulary(ws, sweep.prep_hash)
 
     def map_data() -> Any:
-        return view.theme_table(fresh_version(), layout, lam=lam)
+        v = fresh_version()
+        links, _ = theme_links(layout.distances, v.theme_ids)
+        return map_frame(view.theme_table(v, layout, lam=lam), trends), links
 
     def cards_data() -> Any:
-        return fresh_version().term_table(pos, n=15, lam=lam)
+        return term_rows(fresh_version(), pos, n=15, lam=lam)
 
     def calls_data() -> Any:
         v = fresh_version()
@@ -145,7 +148,15 @@ def main() -> int:
         if field is not None and meta.fields[field].kind == "category":
             flt = view.CallFilter(categories={field: [meta.fields[field].values[0]]})
             view.calls_table(v, meta, pos, flt)
-        view.calls_csv(frame)
+        view.calls_csv(frame, meta)
+        head = frame.head(200)  # the rows that show their best sentence
+        best_sentences(
+            ws,
+            v,
+            head["transcript_id"].astype(str).tolist(),
+            [v.position(int(t)) for t in head["lead_theme_id"]],
+            lam=lam,
+        )
         if len(frame):
             h = view.TermHighlighter(v.top_terms(pos, 20, lam), lemmas=lemmas)
             view.transcript_html(view.load_transcript(ws, str(frame["transcript_id"].iloc[0]), h))
@@ -156,8 +167,11 @@ def main() -> int:
         out = {}
         if meta.date_field:
             out["trend"] = view.trend_frame(v, meta, freq)
-            if len(periods) >= 2:
-                out["movers"] = view.movers_frame(v, meta, freq, periods[0], periods[-1])
+            comparison = default_comparison(meta, freq)
+            if comparison is not None:
+                out["movers"] = view.movers_frame(
+                    v, meta, freq, comparison.before, comparison.after
+                )
         if field is not None:
             out["segments"] = view.segment_frame(v, meta, field)
         return out
@@ -166,34 +180,32 @@ def main() -> int:
         (
             "Choose K",
             choose_k_data,
-            lambda d: sweep_chart(
+            lambda d: charts.sweep_chart(
                 view.scalar_columns(d[0].cells), d[0].recommended or None
             ).to_dict(),
         ),
         (
             "Theme map",
             map_data,
-            lambda d: theme_map_chart(
-                d[["theme_id", "x", "y", "coverage", "name", "hidden"]], selected=tid
-            ).to_dict(),
+            lambda d: charts.theme_map_chart(d[0], d[1], tid).to_dict(),
         ),
         (
             "Theme cards",
             cards_data,
-            lambda d: term_chart(d, view.theme_names(version)[pos], width=560).to_dict(),
+            lambda d: charts.term_chart(d, view.theme_names(version)[pos], width=560).to_dict(),
         ),
         ("Calls", calls_data, lambda d: None),
         (
             "Over time",
             time_data,
             lambda d: [
-                trend_chart(d["trend"], highlight=[tid], freq=freq).to_dict()
+                charts.trend_chart(d["trend"], highlight=[tid], freq=freq).to_dict()
                 if "trend" in d
                 else None,
-                segment_chart(d["segments"], field=field or "").to_dict()
+                charts.segment_chart(d["segments"], field=field or "").to_dict()
                 if "segments" in d
                 else None,
-                movers_chart(d["movers"]).to_dict() if "movers" in d else None,
+                charts.movers_chart(d["movers"]).to_dict() if "movers" in d else None,
             ],
         ),
     ]

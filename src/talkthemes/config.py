@@ -495,6 +495,14 @@ class ViewSettings(_Section):
     relevance_lambda: float = Field(
         0.6, ge=0, le=1, description="Default λ for term relevance (Sievert & Shirley 2014)."
     )
+    original_text: bool = Field(
+        False,
+        description=(
+            "Show transcripts as they were ingested, personal data included, in the viewer, "
+            "the report and exports. Off: e-mail addresses, numbers, names and street "
+            "addresses are masked (set it only where everyone who opens them may see them)."
+        ),
+    )
 
 
 class Settings(_Section):

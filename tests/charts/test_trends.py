@@ -100,8 +100,8 @@ def test_segment_chart_dot_plot() -> None:
     vl.assert_palette(spec)
 
 
-def test_movers_chart_diverging_and_ranked() -> None:
-    mv = pd.DataFrame(
+def _movers() -> pd.DataFrame:
+    return pd.DataFrame(
         {
             "theme_id": [3, 1, 2],
             "name": ["Outage", "Late fees", "Upgrade"],
@@ -112,6 +112,10 @@ def test_movers_chart_diverging_and_ranked() -> None:
             "hi": [14.0, -4.0, 4.0],
         }
     )
+
+
+def test_movers_chart_diverging_and_ranked() -> None:
+    mv = _movers()
     spec = movers_chart(mv).to_dict()
     bar = vl.by_mark(spec, "bar")[0]
     enc = {**spec.get("encoding", {}), **bar["encoding"]}
@@ -132,3 +136,35 @@ def test_movers_chart_diverging_and_ranked() -> None:
     whisker = next(u for u in vl.by_mark(spec, "rule") if u["encoding"]["x"]["field"] == "lo")
     assert whisker["encoding"]["x2"]["field"] == "hi"
     vl.assert_palette(spec)
+
+
+def test_movers_bars_have_width_as_the_viewer_lays_them_out() -> None:
+    """The viewer's page lays a chart out with its own defaults unless the spec says how:
+    left to them, long theme names and the shares column took the whole width and the
+    bars had none. Laid out as the page prepares it, each bar is as long as its change."""
+    from streamlit.elements.vega_charts import _prepare_vega_lite_spec
+
+    spec = _prepare_vega_lite_spec(
+        movers_chart(_movers(), width=420, compared="from May to June").to_dict(),
+        use_container_width=False,
+    )
+    assert spec["autosize"] == {"type": "pad", "contains": "padding"}
+    assert "from May to June" in " ".join(spec["title"]["subtitle"])
+    ((_, bars),) = vl.scene(spec).of_type("rect")[:1]
+    widths = sorted(round(float(b["width"])) for b in bars)
+    assert widths[0] > 0
+    # the plot is 420 px wide for 2 × 14 pp (domain ±15.4, made nice to ±20): 10.5 px per pp
+    per_pp = 420 / 40
+    assert widths == pytest.approx(sorted([10 * per_pp, 8 * per_pp, 1 * per_pp]), abs=2)
+
+
+@pytest.mark.parametrize("build", ["trend", "segments", "movers"])
+def test_every_chart_keeps_its_size_wherever_it_is_drawn(build: str) -> None:
+    chart = {
+        "trend": lambda: trend_chart(_trend()),
+        "segments": lambda: segment_chart(
+            _trend().rename(columns={"period": "segment"}).assign(segment="a")
+        ),
+        "movers": lambda: movers_chart(_movers()),
+    }[build]()
+    assert chart.to_dict()["autosize"] == {"type": "pad", "contains": "padding"}

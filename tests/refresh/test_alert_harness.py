@@ -115,10 +115,11 @@ def test_new_reason_and_rise_alert_and_explain_themselves(
     assert not re.search(r"(?<!\\)[<>]", md)
     # the store keeps each theme's verdict for the Refresh history
     with ws.store() as store:
-        info = {t["theme_id"]: t["info"] for t in store.themes(2)}
+        info = {t.theme_id: t.info for t in store.themes(2)}
         log = store.refreshes()[0]
     assert info[new_id]["verdict"] == "new" and info[riser["theme_id"]]["change"] == "rise"
-    assert log["alerts"]["new"] == [new_id] and log["alerts"]["rise"] == [riser["theme_id"]]
+    assert log.info["alerts"]["new"] == [new_id]
+    assert log.info["alerts"]["rise"] == [riser["theme_id"]]
     # the same run read by a person: each alert explained on the terminal
     keys = ("status", "previous_version", "version", "new_transcripts", "family", "k",
             "counts", "new_themes", "risers", "fallers")  # fmt: skip

@@ -31,7 +31,7 @@ def test_calls_filters(version, meta) -> None:
 
     assert ids(categories={"queue": ["faults"]}) == ["t1", "t3"]
     assert ids(categories={"queue": []}) == [f"t{i}" for i in range(6)]
-    assert ids(ranges={"duration_s": (150, 450)}) == ["t1", "t2", "t3"]
+    assert ids(ranges={"duration_s": (2.5, 7.5)}) == ["t1", "t2", "t3"]  # minutes
     assert ids(contains={"ref": "B-"}) == ["t1"]
     assert ids(date_from=dt.date(2026, 5, 5), date_to=dt.date(2026, 6, 1)) == ["t1", "t2", "t3"]
     assert ids(date_from=dt.date(2026, 6, 1)) == ["t3", "t4"]  # undated t5 left out
@@ -45,15 +45,19 @@ def test_calls_filters(version, meta) -> None:
 
 def test_calls_csv_defuses_formulas(version, meta) -> None:
     frame = calls_table(version, meta, 0, CallFilter(lead_only=False))
-    text = calls_csv(frame).decode("utf-8")
+    text = calls_csv(frame, meta).decode("utf-8")
     assert "'=cmd()" in text and "\n=cmd()" not in text and ",=cmd()" not in text
     back = pd.read_csv(io.StringIO(text))
-    assert back["share"].tolist() == pytest.approx(frame["share"].tolist())
-    assert list(back.columns) == list(frame.columns)
+    assert back["Share of this theme"].tolist() == pytest.approx(frame["share"].tolist())
+    # columns named as on screen, never as raw field names
+    assert list(back.columns[:5]) == [
+        "Transcript", "Share of this theme", "Lead theme", "Lead theme id", "Lead share"
+    ]  # fmt: skip
+    assert "Duration (min)" in back.columns and "duration_s" not in back.columns
 
 
 def test_calls_csv_defuses_a_formula_in_a_field_name() -> None:
     frame = pd.DataFrame({"transcript_id": ["t0"], "=HYPERLINK(1)": ["-2+3"], "share": [0.5]})
     header, row = calls_csv(frame).decode("utf-8").splitlines()
-    assert header == "transcript_id,'=HYPERLINK(1),share"
+    assert header == "Transcript,'=HYPERLINK(1),Share of this theme"
     assert row == "t0,'-2+3,0.5"

@@ -3,6 +3,9 @@ size, growth, top terms, evidence and example sentences; the verdicts beside eac
 
 from __future__ import annotations
 
+import json
+
+from talkthemes.store.records import ThemeRecord
 from talkthemes.view.history import alert_cards, version_changes
 
 GROWTH = {"calls_new": 120, "new_transcripts": 900, "share_new": 0.133333,
@@ -20,7 +23,8 @@ REPORT = {
              "verdict": "new", "growth": GROWTH,
              "evidence": [{"test": "mass", "held": True, "text": "leads 120 of 900"},
                           {"test": "not_split", "held": True, "text": "not a split: spread"}],
-             "examples": [{"transcript_id": "B0-00012", "sentence": "My <b>train</b> was off"}]},
+             "examples": [{"transcript_id": "B0-00012",
+                           "sentence": "My name's Dana and my <b>train</b> was off"}]},
             {"theme_id": 10, "top_terms": ["fine", "hear"], "alert": False, "verdict": "small",
              "growth": GROWTH, "evidence": []},
         ],
@@ -43,7 +47,10 @@ def test_alert_cards_explain_each_alert_with_current_labels() -> None:
     # 3 earlier calls are too few for a ratio: none shown
     assert new.growth == "13.3% of new transcripts against 0.1% of earlier ones"
     assert new.evidence == [(True, "leads 120 of 900"), (True, "not a split: spread")]
-    assert new.examples == [("B0-00012", "My <b>train</b> was off")]  # the page escapes it
+    # personal data masked by default; the page escapes what is left
+    ((tid, sentence),) = new.examples
+    assert tid == "B0-00012" and "Dana" not in sentence and "[name]" in sentence
+    assert sentence.endswith("was off")
     assert (riser.kind, riser.name) == ("riser", "Season tickets")
     assert riser.growth == (
         "24.6% of new transcripts against 16.4% of earlier ones (×1.50, 95% interval 1.30–1.70)"
@@ -52,21 +59,29 @@ def test_alert_cards_explain_each_alert_with_current_labels() -> None:
     assert riser.evidence[-1] == (True, "counted with its split themes 11")
 
 
+def test_alert_examples_are_original_only_when_asked() -> None:
+    new, _ = alert_cards(REPORT, masked=False)
+    assert new.examples == [("B0-00012", "My name's Dana and my <b>train</b> was off")]
+
+
 def test_reports_without_alerts_give_no_cards() -> None:
     assert alert_cards(None) == [] and alert_cards({"themes": []}) == []
 
 
 def test_theme_changes_carry_the_alert_verdicts() -> None:
+    # as the store returns them: the refresh recorded the verdicts in each theme's document
+    rows = [
+        (3, "carried", {"distance": 0.1, "change": "rise", "alert": True}),
+        (4, "carried", {"distance": 0.1, "change": "none", "alert": False}),
+        (9, "new", {"verdict": "new", "alert": True}),
+        (10, "new", {"verdict": "split", "split_of": 4}),
+        (12, "new", {"verdict": "not_a_theme"}),
+    ]
     themes = [
-        {"theme_id": 3, "status": "carried", "label": "",
-         "info": {"distance": 0.1, "change": "rise", "alert": True}},
-        {"theme_id": 4, "status": "carried", "label": "",
-         "info": {"distance": 0.1, "change": "none", "alert": False}},
-        {"theme_id": 9, "status": "new", "label": "", "info": {"verdict": "new", "alert": True}},
-        {"theme_id": 10, "status": "new", "label": "", "info": {"verdict": "split", "split_of": 4}},
-        {"theme_id": 12, "status": "new", "label": "", "info": {"verdict": "not_a_theme"}},
-    ]  # fmt: skip
-    changes = version_changes(themes, [], {t["theme_id"]: ["a"] for t in themes})
+        ThemeRecord.from_row(tid, i, status, json.dumps(info), None, None, None)
+        for i, (tid, status, info) in enumerate(rows)
+    ]
+    changes = version_changes(themes, [], {t.theme_id: ["a"] for t in themes})
     notes = {t.theme_id: t.alert for t in [*changes.carried, *changes.new]}
     assert notes == {3: "rose significantly", 4: "", 9: "alerted as new",
                      10: "split of #4, not alerted", 12: "not alerted (not a theme)"}  # fmt: skip

@@ -6,8 +6,10 @@ import pandas as pd
 import pytest
 
 from talkthemes.errors import InputError, NotReadyError
-from talkthemes.view.metadata import metadata_table
+from talkthemes.view.metadata import MetaTable, metadata_table
 from talkthemes.view.over_time import (
+    default_comparison,
+    full_periods,
     movers_frame,
     period_choices,
     segment_fields,
@@ -42,7 +44,7 @@ def test_segment_frame(version, meta) -> None:
     assert billing["n"].iloc[0] == 3 and billing.loc[11, "share"] == pytest.approx(2 / 3)
     quart = segment_frame(version, meta, "duration_s", n_boot=50)
     labels = sorted(quart["segment"].unique())
-    assert labels[0].startswith("Q1: 100") and labels[-1].startswith("Q4:")
+    assert labels[0].startswith("Q1: 1.66") and labels[-1].startswith("Q4:")  # minutes
     assert quart.groupby("segment")["n"].first().sum() == 6
     assert segment_fields(meta) == ["duration_s", "queue"]
     with pytest.raises(InputError, match="not a field to compare by"):
@@ -59,3 +61,38 @@ def test_movers_frame(version, meta) -> None:
     assert list(mv["theme_id"][:2]) == [11, 12] and "hidden" in mv
     with pytest.raises(InputError, match="two different periods"):
         movers_frame(version, meta, "month", months[0], months[0])
+
+
+def _dated(dates: list[str]) -> MetaTable:
+    ids = [f"t{i}" for i in range(len(dates))]
+    return metadata_table(ids, {t: {"date": d} for t, d in zip(ids, dates, strict=True)})
+
+
+def test_movers_compare_the_last_full_period_with_the_full_ones_before() -> None:
+    # Thursday 7 May to Wednesday 17 June 2026: the first and the last week are cut short.
+    days = pd.date_range("2026-05-07", "2026-06-17", freq="D").strftime("%Y-%m-%d")
+    meta = _dated(list(days))
+    weeks = period_choices(meta, "week")
+    full = full_periods(meta, "week")
+    assert weeks[0] == pd.Timestamp("2026-05-04") and weeks[-1] == pd.Timestamp("2026-06-15")
+    assert full == weeks[1:-1]  # neither cut-short week is full
+    default = default_comparison(meta, "week")
+    assert default.after == pd.Timestamp("2026-06-08")  # the last full week, not the last
+    assert default.before == tuple(full[-5:-1])  # the 4 full weeks before it, pooled
+    assert weeks[0] not in default.before  # the first, short week is never the baseline
+    months = default_comparison(meta, "month")  # no full month: the last against the rest
+    assert full_periods(meta, "month") == []
+    assert months.after == pd.Timestamp("2026-06-01")
+    assert months.before == (pd.Timestamp("2026-05-01"),)
+    two = default_comparison(meta, "week", after=weeks[3], baseline=2)
+    assert two.before == (weeks[1], weeks[2])
+
+
+def test_movers_pool_several_periods(version, meta) -> None:
+    weeks = period_choices(meta, "week")  # 4 May (t0, t1), 11 May (t2), 1 June (t3, t4)
+    mv = movers_frame(version, meta, "week", weeks[:2], weeks[2], n_boot=50)
+    row = mv.set_index("theme_id")
+    assert int(row["n_before"].iloc[0]) == 3 and int(row["n_after"].iloc[0]) == 2
+    assert row.loc[11, "change"] == pytest.approx(-100.0)
+    with pytest.raises(InputError, match="two different periods"):
+        movers_frame(version, meta, "week", weeks[:2], weeks[1])

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import itertools
+import re
 
 from hypothesis import given
 from hypothesis import strategies as st
@@ -70,14 +71,17 @@ def test_segments_html_escapes_every_piece() -> None:
 
 def test_transcript_html_escapes_speakers_and_text() -> None:
     turns = [
-        StoredTurn(0, "<Agent>", "agent", 65.0, None, "Your bill <script>x</script>"),
+        StoredTurn(0, "<AGENT> Dana", "agent", 65.0, None, "Your bill <script>x</script>"),
         StoredTurn(1, "", "customer", None, None, "ok"),
+        StoredTurn(2, "caller", "unknown", None, None, "hm"),
     ]
-    views = turn_views(turns, TermHighlighter(["bill"]))
+    views = turn_views(turns, TermHighlighter(["bill"]), masked=False)
     out = transcript_html(views)
-    assert "&lt;Agent&gt;" in out and "<script>" not in out and "&lt;script&gt;" in out
+    assert "<script>" not in out and "&lt;script&gt;" in out
     assert '<mark class="tt-hit">bill</mark>' in out and "1:05" in out
-    assert ">customer</span>" in out  # a turn without a speaker label shows its role
+    # one spelling per role, whatever the label was (and no name from a label)
+    speakers = re.findall(r'class="tt-speaker"[^>]*>([^<]*)</span>', out)
+    assert speakers == ["Agent", "Customer", "Speaker"] and "Dana" not in out
 
 
 def test_excerpt_picks_the_turn_with_most_terms_and_trims() -> None:
@@ -95,7 +99,7 @@ def test_excerpt_picks_the_turn_with_most_terms_and_trims() -> None:
     assert speaker == "Customer" and "bill" in [s for s, hit in segments if hit]
     assert text.startswith("… ") and text.endswith(" …") and len(text) <= 126
     short = turn_views([StoredTurn(0, "A", "agent", None, None, "a bill")], h)
-    assert excerpt(short) == ("A", [("a ", False), ("bill", True)])
+    assert excerpt(short) == ("Agent", [("a ", False), ("bill", True)])
     assert excerpt([]) == ("", [])
 
 

@@ -1,7 +1,8 @@
 """A small published demo workspace, built once per test session for the viewer tests.
 
 400 invented demo calls plus one hostile transcript (``A-xss-001``: script and image
-tags in every turn, and in its metadata), prepared, swept with NMF at K = 5 and 8 over
+tags in every turn, and in its metadata) and one holding planted personal data
+(``A-pii-001``, :data:`PII`), prepared, swept with NMF at K = 5 and 8 over
 two seeds, K = 5 published, and two themes labelled.
 """
 
@@ -37,6 +38,42 @@ XSS_TEXT = (
 )
 
 
+PII_ID = "A-pii-001"
+# Planted personal data of every kind the viewer, report and exports must mask: a name in
+# a speaker label (Yelvorin), a caller introducing herself (Brisha Tamblecourt), a first
+# name from the list (Margaret), an e-mail address, an account number, a card number, a
+# phone number, a street address with its town, and a postcode.
+PII = (
+    "Yelvorin",
+    "Brisha",
+    "Tamblecourt",
+    "Margaret",
+    "brisha.tamblecourt@example.org",
+    "774215",
+    "4111 1111 1111 1111",
+    "010-4477",
+    "Quillfeather",
+    "Harrowgate",
+    "QF4 9ZT",
+)
+PII_TEXT = (
+    "AGENT Yelvorin: Thank you for calling about the power, you are through to Yelvorin. "
+    "Can I take your name?\n"
+    "Customer: My name is Brisha Tamblecourt and the power went out again tonight, the "
+    "outage map shows no outage for my street and the power has been off for hours.\n"
+    "AGENT Yelvorin: I am sorry about the power cut, the crew is on the way and power should "
+    "be back within two hours. Can I take the account number and the address?\n"
+    "Customer: The account is AC-774215 and the address is 48 Quillfeather Road, Harrowgate "
+    "Vale, QF4 9ZT. My neighbour Margaret has no power either, the outage started at six.\n"
+    "AGENT Yelvorin: I can see the outage report for your area, the fault crew is working "
+    "on the cable and the estimated restoration time is two hours.\n"
+    "Customer: Please e-mail brisha.tamblecourt@example.org or call (555) 010-4477 when the "
+    "power is back. I paid the last bill with card 4111 1111 1111 1111.\n"
+    "AGENT Yelvorin: No, the meter keeps working and the outage does not change the bill, "
+    "please report the fault again if the power is not back in two hours.\n"
+)
+
+
 @dataclass(frozen=True)
 class DemoWorkspace:
     """The session's workspace and what the tests need to know about it."""
@@ -50,11 +87,13 @@ def _add_xss(folder: Path) -> tuple[Path, Path]:
     calls = folder / "xss"
     calls.mkdir(parents=True)
     (calls / f"{XSS_ID}.txt").write_text(XSS_TEXT, encoding="utf-8")
+    (calls / f"{PII_ID}.txt").write_text(PII_TEXT, encoding="utf-8")
     manifest = folder / "xss-manifest.csv"
     with manifest.open("w", newline="", encoding="utf-8") as fh:
         writer = csv.writer(fh)
         writer.writerow(["call_id", "date", "queue", "site", "duration_s", "channel"])
         writer.writerow([XSS_ID, "2026-09-08", "faults", f"Site {IMG}", "240", "phone"])
+        writer.writerow([PII_ID, "2026-09-09", "faults", "Velmora", "300", "phone"])
     return calls, manifest
 
 
@@ -98,6 +137,14 @@ def demo_ws(tmp_path_factory: pytest.TempPathFactory) -> DemoWorkspace:
 def ws_copy(demo_ws: DemoWorkspace, tmp_path: Path) -> Workspace:
     """A private copy of the demo workspace that a test may change."""
     target = tmp_path / "copy"
+    shutil.copytree(demo_ws.ws.root, target, ignore=shutil.ignore_patterns(".lock"))
+    return Workspace(target)
+
+
+@pytest.fixture(scope="session")
+def browser_ws(demo_ws: DemoWorkspace, tmp_path_factory: pytest.TempPathFactory) -> Workspace:
+    """A copy of the demo workspace for the browser tests (they type labels into it)."""
+    target = tmp_path_factory.mktemp("browser") / "ws"
     shutil.copytree(demo_ws.ws.root, target, ignore=shutil.ignore_patterns(".lock"))
     return Workspace(target)
 

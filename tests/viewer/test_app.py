@@ -80,13 +80,20 @@ def test_the_map_is_the_first_section_once_published(demo_ws, monkeypatch) -> No
     layout = theme_layout(version.topic_terms)
     share = retained_share(version.topic_terms, layout.x, layout.y)
     caption = next(c.value for c in at.caption if "keep" in c.value)
-    assert re.findall(r"\d+%", caption) == [f"{share:.0%}"]
+    assert re.findall(r"\d+%", caption)[0] == f"{share:.0%}"
+    # and the links' cut-off it states is the one the links were drawn under
+    from talkthemes.view.theme_map import theme_links
+
+    links, cutoff = theme_links(layout.distances, version.theme_ids)
+    assert f"under {cutoff:.3f} apart" in caption and (links["distance"] < cutoff).all()
 
 
 def test_choose_k_shows_the_picked_cell_and_the_recommendation(demo_ws, monkeypatch) -> None:
     at = run(open_app(demo_ws.ws.root, monkeypatch), "choose_k.py")
     with demo_ws.ws.store() as store:
-        rec = store.get_sweep()["recommendations"]["nmf"]
+        sweep = store.get_sweep()
+    assert sweep is not None and sweep.recommendations is not None
+    rec = sweep.recommendations["nmf"]
     assert f"NMF: K = {rec['k']} recommended" in texts(at)
     for reason in rec["reasons"][:1]:
         assert md_inline(reason) in texts(at)
@@ -126,8 +133,8 @@ def test_label_note_and_hidden_are_saved_at_once_and_shown_everywhere(ws_copy, m
     at.toggle(key=f"cards_hidden_{tid}").set_value(True)
     run(at)
     with ws_copy.store() as store:
-        theme = next(t for t in store.themes(1) if t["theme_id"] == tid)
-    assert (theme["label"], theme["note"], theme["hidden"]) == (
+        theme = next(t for t in store.themes(1) if t.theme_id == tid)
+    assert (theme.label, theme.note, theme.hidden) == (
         "Meter readings",
         "Estimated bills too.",
         True,
@@ -151,6 +158,9 @@ def test_calls_filters_the_list_and_offers_csv(demo_ws, monkeypatch) -> None:
     at = run(open_app(demo_ws.ws.root, monkeypatch), "calls.py")
     everything = at.dataframe[0].value
     assert len(everything) > 0 and everything["share"].is_monotonic_decreasing
+    # readable at a glance: each call's best sentence beside its id
+    assert list(everything.columns[:2]) == ["transcript_id", "best_sentence"]
+    assert (everything["best_sentence"].str.len() > 0).mean() > 0.8
     at.multiselect(key="calls_field_queue").set_value(["billing"])
     run(at)
     billing = at.dataframe[0].value
@@ -167,19 +177,43 @@ def test_calls_filters_the_list_and_offers_csv(demo_ws, monkeypatch) -> None:
 
 
 def test_over_time_controls(demo_ws, monkeypatch) -> None:
+    from talkthemes.view.over_time import default_comparison, full_periods
+
     at = run(open_app(demo_ws.ws.root, monkeypatch), "over_time.py")
+    meta = _shared.metadata(demo_ws.ws, load_version(demo_ws.ws))
+    weekly = default_comparison(meta, "week")
+    # like with like: the last full week against the 4 full weeks before it
+    assert at.selectbox(key="time_after_week").value == weekly.after
+    assert weekly.after == full_periods(meta, "week")[-1] and len(weekly.before) == 4
+    assert at.number_input(key="time_baseline_week").value == 4
     at.radio(key="time_freq").set_value("month")
     run(at)
     at.selectbox(key="time_field").select("duration_s")
     run(at)
     assert len(charts(at)) == 3
-    before = at.selectbox(key="time_before_month")
-    after = at.selectbox(key="time_after_month")
-    assert str(after.value) > str(before.value)
-    before.select(after.value)
+    assert at.selectbox(key="time_field").format_func("duration_s") == "Duration (min)"
+    assert "duration_s" not in texts(at)
+    at.number_input(key="time_baseline_month").set_value(1)
     run(at)
-    assert any("two different periods" in w.value for w in at.warning)
-    assert len(charts(at)) == 2
+    assert any("transcripts) to" in c.value for c in at.caption)
+
+
+def test_cards_say_the_relevance_sentence_once_and_measures_read_as_written(
+    demo_ws, monkeypatch
+) -> None:
+    from talkthemes.app.theme_cards import LAMBDA_HELP
+
+    at = run(open_app(demo_ws.ws.root, monkeypatch), "theme_cards.py")
+    shown = texts(at)
+    assert shown.count(LAMBDA_HELP[:40]) <= 1 and "C_NPMI" in at.metric[2].label
+    assert "left out" in shown  # the counts say who is not in the themes, and why
+    run(at, "choose_k.py")
+    shown = texts(at)
+    assert "c_npmi" not in shown and "Runners-up, and why not" in shown
+    with demo_ws.ws.store() as store:
+        rec = store.get_sweep().recommendations["nmf"]
+    for runner in rec["runners_up"]:  # each reason in full, never cut by a column
+        assert md_inline(runner["why_not"].replace("c_npmi", "C_NPMI")) in shown
 
 
 # --------------------------------------------------------------------------- publishing
@@ -199,7 +233,7 @@ def test_publish_waits_for_nobody_when_the_workspace_is_busy(ws_copy, monkeypatc
         _confirm_publish(at)
     assert any(md_inline("workspace busy: sweep") in e.value for e in at.error)
     with ws_copy.store() as store:
-        assert [v["n"] for v in store.versions()] == [1]
+        assert [v.n for v in store.versions()] == [1]
 
 
 def test_publish_cancel_and_confirm(ws_copy, monkeypatch) -> None:
@@ -214,7 +248,8 @@ def test_publish_cancel_and_confirm(ws_copy, monkeypatch) -> None:
     _confirm_publish(at)
     assert any("Version 2 is now current" in s.value for s in at.success)
     with ws_copy.store() as store:
-        assert store.current_version()["n"] == 2
+        current = store.current_version()
+        assert current is not None and current.n == 2
     assert load_version(ws_copy).k == 8
     run(at, "theme_map.py")
     assert any("Version 2" in m.value for m in at.sidebar.markdown)

@@ -1,146 +1,56 @@
-"""The viewer and the report in a real headless Chromium, driven over the DevTools protocol.
+"""The viewer and the report in Debian's Chromium, driven with Playwright as a user would.
 
-The viewer is started as a user starts it (``python -m talkthemes.serve``, which runs
-:func:`talkthemes.serve.serve`) on a free port of 127.0.0.1; Chromium runs with every
-background network feature off. Each section is loaded, its charts are waited for,
-a screenshot is saved under a temporary folder, and the page must show no exception and
-the demo's theme labels. The report is opened from disk with the network switched off and
-must draw every chart.
+One viewer is served for the module as a user starts it (``python -m talkthemes.serve``)
+on a free port of 127.0.0.1, over the shared demo workspace; Playwright drives the system
+browser (``/usr/bin/chromium``, never a downloaded one). Each test opens a section by its
+address and does what a user does there. Every page must show no exception, no Markdown
+escape left in the text, no raw field name, and log no console error.
 
-Needs Debian's ``chromium`` (``apt-get install chromium``); skipped without it.
+Needs Debian's ``chromium`` and the ``playwright`` package (dev extra); skipped without.
 """
 
 from __future__ import annotations
 
-import base64
-import contextlib
-import json
 import os
+import re
 import shutil
 import signal
 import socket
 import subprocess
 import sys
-import tempfile
 import time
 import urllib.request
 from collections.abc import Iterator
-from pathlib import Path
 from typing import Any
 
 import pytest
+
+os.environ.setdefault("PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD", "1")  # the system browser only
+sync_api = pytest.importorskip("playwright.sync_api")
 
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
 
 pytestmark = [
     pytest.mark.browser,
+    pytest.mark.slow,  # one viewer for the module; about 1.5 min in all
     pytest.mark.skipif(
         CHROMIUM is None, reason="needs Debian's chromium: apt-get install -y chromium"
     ),
 ]
 
-CHROME_FLAGS = [
-    "--headless",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-    "--disable-default-apps",
-    "--disable-extensions",
-    "--window-size=1400,1100",
-    "--remote-debugging-port=0",
-]
+SECTIONS = {
+    "choose-k": "Choose K",
+    "theme-map": "Theme map",
+    "theme-cards": "Theme cards",
+    "calls": "Calls",
+    "over-time": "Over time",
+    "refresh-history": "Refresh history",
+}
+CHART = '[data-testid="stVegaLiteChart"]'
 IDLE = (
-    'document.querySelectorAll(\'[data-testid="stSpinner"], [data-testid="stSkeleton"]\')'
-    ".length === 0"
+    "() => document.querySelectorAll("
+    '\'[data-testid="stSpinner"], [data-testid="stSkeleton"]\').length === 0'
 )
-
-
-class Browser:
-    """A headless Chromium and one page, spoken to over the DevTools protocol."""
-
-    def __init__(self, profile: Path) -> None:
-        from websockets.sync.client import connect
-
-        self.proc = subprocess.Popen(
-            [CHROMIUM, *CHROME_FLAGS, f"--user-data-dir={profile}", "about:blank"],
-            stdout=subprocess.DEVNULL,
-            stderr=subprocess.DEVNULL,
-            start_new_session=True,  # its helper processes share a group we can stop whole
-        )
-        port_file = profile / "DevToolsActivePort"
-        deadline = time.monotonic() + 30
-        while not (port_file.exists() and port_file.read_text().strip()):
-            if time.monotonic() > deadline or self.proc.poll() is not None:
-                self.close()
-                raise RuntimeError("chromium did not open its DevTools port")
-            time.sleep(0.1)
-        port = int(port_file.read_text().split()[0])
-        with urllib.request.urlopen(f"http://127.0.0.1:{port}/json/list", timeout=10) as r:
-            target = next(t for t in json.load(r) if t["type"] == "page")
-        self._stack = contextlib.ExitStack()
-        self.ws = self._stack.enter_context(
-            connect(target["webSocketDebuggerUrl"], max_size=None, open_timeout=20)
-        )
-        self.next_id = 0
-        self.dialogs: list[str] = []
-        self.send("Page.enable")
-
-    def send(self, method: str, **params: Any) -> dict[str, Any]:
-        self.next_id += 1
-        mid = self.next_id
-        self.ws.send(json.dumps({"id": mid, "method": method, "params": params}))
-        while True:
-            msg = json.loads(self.ws.recv(timeout=60))
-            if msg.get("method") == "Page.javascriptDialogOpening":
-                self.dialogs.append(msg["params"].get("message", ""))
-            if msg.get("id") == mid:
-                if "error" in msg:
-                    raise RuntimeError(f"{method}: {msg['error']}")
-                return msg.get("result", {})
-
-    def eval(self, expression: str) -> Any:
-        result = self.send("Runtime.evaluate", expression=expression, returnByValue=True)
-        return result.get("result", {}).get("value")
-
-    def wait(self, expression: str, timeout: float = 90) -> Any:
-        deadline = time.monotonic() + timeout
-        while time.monotonic() < deadline:
-            value = self.eval(expression)
-            if value:
-                return value
-            time.sleep(0.25)
-        raise AssertionError(f"timed out waiting for: {expression}")
-
-    def goto(self, url: str) -> None:
-        self.send("Page.navigate", url=url)
-
-    def screenshot(self, path: Path) -> None:
-        data = self.send("Page.captureScreenshot", format="png")["data"]
-        path.write_bytes(base64.b64decode(data))
-
-    def shown_text(self) -> str:
-        """What a reader sees: page text, chart text (SVG) and the values in input boxes."""
-        return self.eval(
-            "[document.body.innerText,"
-            " ...[...document.querySelectorAll('svg text')].map(t => t.textContent),"
-            " ...[...document.querySelectorAll('input')].map(i => i.value)].join('\\n')"
-        )
-
-    def close(self) -> None:
-        if getattr(self, "_stack", None) is not None:
-            self._stack.close()
-        with contextlib.suppress(ProcessLookupError):
-            os.killpg(self.proc.pid, signal.SIGTERM)  # the browser and its helper processes
-        try:
-            self.proc.wait(timeout=10)
-        except subprocess.TimeoutExpired:
-            with contextlib.suppress(ProcessLookupError):
-                os.killpg(self.proc.pid, signal.SIGKILL)
-            self.proc.wait()
 
 
 def _free_port() -> int:
@@ -150,11 +60,11 @@ def _free_port() -> int:
 
 
 @pytest.fixture(scope="module")
-def viewer(demo_ws) -> Iterator[str]:
-    """The viewer served on a free port; yields its base URL."""
+def viewer(browser_ws) -> Iterator[str]:
+    """The viewer served on a free port over a copy of the demo workspace; its base URL."""
     port = _free_port()
     proc = subprocess.Popen(
-        [sys.executable, "-m", "talkthemes.serve", str(demo_ws.ws.root), str(port)],
+        [sys.executable, "-m", "talkthemes.serve", str(browser_ws.root), str(port)],
         stdout=subprocess.PIPE,
         stderr=subprocess.STDOUT,
         start_new_session=True,
@@ -163,7 +73,7 @@ def viewer(demo_ws) -> Iterator[str]:
     base = f"http://127.0.0.1:{port}"
     try:
         first = proc.stdout.readline()
-        assert f"{base}" in first, first
+        assert base in first, first
         deadline = time.monotonic() + 90
         while True:
             try:
@@ -186,84 +96,262 @@ def viewer(demo_ws) -> Iterator[str]:
 
 
 @pytest.fixture(scope="module")
-def browser() -> Iterator[Browser]:
-    # helper processes may still flush the profile for a moment after the group is stopped
-    with tempfile.TemporaryDirectory(prefix="tt-chromium-", ignore_cleanup_errors=True) as profile:
-        b = Browser(Path(profile))
-        try:
-            yield b
-        finally:
-            b.close()
-
-
-@pytest.fixture(scope="module")
-def shots(tmp_path_factory: pytest.TempPathFactory) -> Path:
-    return tmp_path_factory.mktemp("screenshots")
-
-
-SECTIONS = [
-    ("", "Theme map", 1),
-    ("choose-k", "Choose K", 1),
-    ("theme-cards", "Theme cards", 1),
-    ("calls", "Calls", 0),
-    ("over-time", "Over time", 3),
-]
-
-
-@pytest.mark.parametrize(("path", "title", "n_charts"), SECTIONS)
-def test_each_section_in_chromium(demo_ws, viewer, browser, shots, path, title, n_charts) -> None:
-    browser.goto(f"{viewer}/{path}")
-    browser.wait(
-        f"[...document.querySelectorAll('h1')].some(h => h.innerText.trim() === {title!r})"
-    )
-    charts = "document.querySelectorAll('[data-testid=\"stVegaLiteChart\"] svg.marks').length"
-    ready = f"{IDLE} && {charts} >= {n_charts}"
-    if path == "calls":
-        ready += " && document.querySelector('.tt-transcript') !== null"
-    browser.wait(ready, timeout=120)
-    time.sleep(1.0)  # let the last chart finish drawing
-    browser.screenshot(shots / f"{title.lower().replace(' ', '-')}.png")
-    assert (shots / f"{title.lower().replace(' ', '-')}.png").stat().st_size > 10_000
-    assert browser.eval("document.querySelectorAll('[data-testid=\"stException\"]').length") == 0
-    text = browser.eval("document.body.innerText")
-    assert "Traceback" not in text and "Page not found" not in text
-    assert browser.eval(charts) == n_charts
-    shown = browser.shown_text()
-    labels = list(demo_ws.labelled.values())
-    if path in ("", "over-time"):  # the map's marks and the trend's legend name every theme
-        for label in labels:
-            assert label in shown, label
-    else:  # the selected theme (the largest, labelled first) is named on the page
-        if path != "choose-k":
-            assert labels[0] in shown
-    if path in ("", "theme-cards"):  # a heading shows the label as typed (Markdown escaped)
-        headings = browser.eval("[...document.querySelectorAll('h3')].map(h => h.innerText)")
-        heading = f"Selected: {labels[0]}" if path == "" else labels[0]
-        assert any(h.strip() == heading for h in headings), headings
-    assert not browser.dialogs
-
-
-def test_the_report_draws_every_chart_offline(report_file, browser, shots) -> None:
-    specs = report_file.read_text(encoding="utf-8").count('<div class="chart" id=')
-    browser.send("Network.enable")
-    browser.send(
-        "Network.emulateNetworkConditions",
-        offline=True,
-        latency=0,
-        downloadThroughput=0,
-        uploadThroughput=0,
-    )
-    try:
-        browser.goto(report_file.resolve().as_uri())
-        drawn = browser.wait(
-            f"document.querySelectorAll('.chart svg.marks').length >= {specs} && "
-            "document.querySelectorAll('.chart svg.marks').length",
-            timeout=120,
+def browser() -> Iterator[Any]:
+    with sync_api.sync_playwright() as pw:
+        chromium = pw.chromium.launch(
+            executable_path=CHROMIUM,
+            args=["--no-sandbox", "--disable-gpu", "--disable-background-networking"],
         )
-        browser.screenshot(shots / "report.png")
+        try:
+            yield chromium
+        finally:
+            chromium.close()
+
+
+class Page:
+    """A browser tab that records console errors and dialogs, with a user's helpers."""
+
+    def __init__(self, browser: Any, *, offline: bool = False) -> None:
+        self.context = browser.new_context(viewport={"width": 1400, "height": 1000})
+        if offline:
+            self.context.set_offline(True)
+        self.page = self.context.new_page()
+        self.errors: list[str] = []
+        self.dialogs: list[str] = []
+        self.page.on("console", self._console)
+        self.page.on("pageerror", lambda exc: self.errors.append(f"page error: {exc}"))
+        self.page.on("dialog", lambda d: (self.dialogs.append(d.message), d.dismiss()))
+
+    def _console(self, msg: Any) -> None:
+        if msg.type not in ("error", "warning"):
+            return
+        where = (msg.location or {}).get("url", "")
+        # Streamlit's client looks for its server under the page's own path first
+        # (/calls/_stcore/health), then under the root: an expected 404, not ours.
+        if "/_stcore/" in where or ("Failed to load resource" in msg.text and "_stcore" in where):
+            return
+        if msg.type == "warning" and "Vega" not in msg.text and "WARN" not in msg.text:
+            return
+        self.errors.append(f"{msg.type}: {msg.text} ({where})")
+
+    def open(self, url: str, title: str | None = None) -> None:
+        self.page.goto(url)
+        if title is not None:
+            self.page.locator("h1", has_text=title).first.wait_for(timeout=120_000)
+        self.settle()
+
+    def settle(self, charts: int = 0) -> None:
+        """Wait until no spinner is left and at least ``charts`` charts are drawn."""
+        self.page.wait_for_function(IDLE, timeout=120_000)
+        if charts:
+            self.page.wait_for_function(
+                f"() => document.querySelectorAll('{CHART} svg.marks').length >= {charts}",
+                timeout=120_000,
+            )
+        time.sleep(0.8)  # the last chart's transitions
+        self.page.wait_for_function(IDLE, timeout=120_000)
+
+    def wait_text(self, text: str, timeout: float = 60_000) -> None:
+        """Wait until ``text`` shows anywhere on the page (charts included)."""
+        self.page.wait_for_function(
+            "t => document.body.innerText.includes(t) || [...document.querySelectorAll("
+            "'svg text')].some(e => e.textContent.includes(t))",
+            arg=text,
+            timeout=timeout,
+        )
+
+    def text(self) -> str:
+        """What a reader sees: page text, chart text and the values in input boxes."""
+        return self.page.evaluate(
+            "() => [document.body.innerText,"
+            " ...[...document.querySelectorAll('svg text')].map(t => t.textContent),"
+            " ...[...document.querySelectorAll('input')].map(i => i.value)].join('\\n')"
+        )
+
+    def bar_widths(self, chart: int) -> list[float]:
+        """Widths in pixels of the bars the ``chart``-th chart on the page draws."""
+        return self.page.evaluate(
+            f"""() => {{
+            const chart = document.querySelectorAll('{CHART}')[{chart}];
+            return [...chart.querySelectorAll('path[aria-roledescription="bar"]')]
+                .map(p => p.getBBox().width);
+        }}"""
+        )
+
+    def choose(self, label: str, text: str) -> None:
+        """Pick an option of the select box labelled ``label`` by typing it, as a user does."""
+        box = self.page.locator('[data-testid="stSelectbox"]').filter(has_text=label).first
+        field = box.locator("input").first
+        field.click()
+        field.fill(text)
+        self.page.get_by_role("option").filter(has_text=text).first.click()
+        self.settle()
+
+    def close(self) -> None:
+        self.context.close()
+
+
+@pytest.fixture
+def page(browser) -> Iterator[Page]:
+    tab = Page(browser)
+    try:
+        yield tab
     finally:
-        browser.send("Network.emulateNetworkConditions", offline=False, latency=0,
-                     downloadThroughput=-1, uploadThroughput=-1)  # fmt: skip
+        tab.close()
+
+
+def assert_clean(tab: Page) -> None:
+    """No exception, no leftover Markdown escape, no raw field name, no console error."""
+    text = tab.text()
+    assert tab.page.locator('[data-testid="stException"]').count() == 0
+    assert "Traceback" not in text and "Page not found" not in text
+    assert "\\" not in text, [line for line in text.splitlines() if "\\" in line][:3]
+    assert "duration_s" not in text and "c_npmi" not in text
+    assert not tab.errors, tab.errors
+    assert not tab.dialogs
+
+
+@pytest.mark.parametrize("address", list(SECTIONS))
+def test_each_section_answers_at_its_own_address(viewer, page, address) -> None:
+    page.open(f"{viewer}/{address}", SECTIONS[address])
+    assert page.page.url.rstrip("/").endswith(f"/{address}")
+    headings = page.page.locator("h1").all_inner_texts()
+    assert SECTIONS[address] in [h.strip() for h in headings]
+    assert_clean(page)
+
+
+def test_the_root_address_opens_the_theme_map(viewer, page) -> None:
+    page.open(f"{viewer}/", "Theme map")
+    assert page.page.url.rstrip("/").endswith("/theme-map")
+    assert_clean(page)
+
+
+@pytest.mark.parametrize("period", ["Week", "Month"])
+def test_risers_and_fallers_draw_bars_with_width(viewer, page, period) -> None:
+    page.open(f"{viewer}/over-time", "Over time")
+    page.page.locator('[data-testid="stRadio"] label', has_text=period).first.click()
+    page.settle(charts=3)
+    widths = page.bar_widths(2)
+    assert len(widths) >= 3 and max(widths) > 20, widths
+    assert sum(w > 1 for w in widths) >= len(widths) // 2, widths
+    assert f"The {period.lower()} to look at" in page.text()
+    assert_clean(page)
+
+
+def test_the_report_draws_every_chart_offline(report_file, browser) -> None:
+    specs = report_file.read_text(encoding="utf-8").count('<div class="chart" id=')
+    tab = Page(browser, offline=True)
+    try:
+        tab.page.goto(report_file.resolve().as_uri())
+        tab.page.wait_for_function(
+            f"() => document.querySelectorAll('.chart svg.marks').length >= {specs}",
+            timeout=120_000,
+        )
+        drawn = tab.page.locator(".chart svg.marks").count()
+        text = tab.text()
+    finally:
+        tab.close()
     assert drawn == specs
-    assert "could not be drawn" not in browser.eval("document.body.innerText")
-    assert not browser.dialogs
+    assert "could not be drawn" not in text and "Click a theme" not in text
+    assert not re.search(r"\(cell \)", text)
+    assert not tab.errors, tab.errors
+
+
+def test_planted_personal_data_never_reaches_the_screen(viewer, page, browser_ws) -> None:
+    from tests.viewer.conftest import PII, PII_ID
+
+    from talkthemes.versions.load import load_version
+
+    version = load_version(browser_ws)
+    pos = int(version.lead()[version.doc_ids.index(PII_ID)])
+    page.open(f"{viewer}/calls", "Calls")
+    page.choose("Theme", f"(#{version.theme_ids[pos]})")
+    page.choose("Open a transcript", PII_ID)
+    page.page.locator(".tt-transcript .tt-masked").first.wait_for(timeout=60_000)
+    text = page.text()
+    assert "Brisha" not in text and PII_ID in text  # the planted call is the one open
+    assert not [p for p in PII if p in text]
+    masked = page.page.locator(".tt-transcript .tt-masked").all_inner_texts()
+    assert {"name", "e-mail", "number", "card number", "phone number", "address"} <= set(masked)
+    assert_clean(page)
+
+
+def test_pick_a_theme_on_the_map_and_land_on_its_card(viewer, page, browser_ws) -> None:
+    from talkthemes.versions.load import load_version
+    from talkthemes.view.themes import theme_names
+
+    version = load_version(browser_ws)
+    names = theme_names(version)
+    smallest = int(version.coverage().argmin())  # not the theme selected at first
+    page.open(f"{viewer}/theme-map", "Theme map")
+    page.settle(charts=1)
+    first_line = page.page.locator(f"{CHART} svg text").filter(
+        has_text=names[smallest].split(" · ")[0]
+    )
+    first_line.first.click()
+    page.page.locator("h3", has_text=f"Selected: {names[smallest]}").wait_for(timeout=60_000)
+    page.page.get_by_role("link", name="Open its card").click()
+    page.page.locator("h1", has_text="Theme cards").wait_for(timeout=60_000)
+    page.settle(charts=1)
+    headings = [h.strip() for h in page.page.locator("h3").all_inner_texts()]
+    assert names[smallest] in headings
+    assert page.page.url.rstrip("/").endswith("/theme-cards")
+    assert_clean(page)
+
+
+def test_a_label_typed_on_a_card_shows_in_calls_over_time_and_the_report(
+    viewer, page, browser_ws, tmp_path
+) -> None:
+    from talkthemes.report import write_report
+
+    label = "Outage callbacks & <crews>"
+    page.open(f"{viewer}/theme-cards", "Theme cards")
+    field = page.page.get_by_label("Label", exact=True)
+    field.fill(label)
+    field.press("Enter")
+    page.page.get_by_text("saved", exact=False).first.wait_for(timeout=30_000)
+    page.settle(charts=1)
+    assert label in page.page.locator("h3").all_inner_texts()
+    page.open(f"{viewer}/calls", "Calls")
+    box = page.page.locator('[data-testid="stSelectbox"]').filter(has_text="Theme").first
+    sync_api.expect(box.locator("input").first).to_have_value(
+        re.compile(re.escape(label)), timeout=60_000
+    )  # the theme picked in Calls goes by its new label
+    page.open(f"{viewer}/over-time", "Over time")
+    page.settle(charts=3)
+    page.wait_text(label)
+    assert label in page.page.locator(f"{CHART} svg text").all_text_contents()
+    assert_clean(page)
+    report = write_report(browser_ws, tmp_path / "themes.html")
+    tab = Page(page.context.browser, offline=True)
+    try:
+        tab.page.goto(report.resolve().as_uri())
+        tab.page.locator("h3", has_text=label).first.wait_for(timeout=60_000)
+        assert label in tab.page.locator("article h3").all_inner_texts()
+    finally:
+        tab.close()
+
+
+def test_filter_calls_by_a_metadata_value(viewer, page, browser_ws) -> None:
+    from talkthemes.versions.load import load_version
+    from talkthemes.view.calls import CallFilter, calls_table
+    from talkthemes.view.metadata import load_metadata
+
+    version = load_version(browser_ws)
+    meta = load_metadata(browser_ws, version.doc_ids)
+    pos = int(version.coverage().argmax())
+    everything = len(calls_table(version, meta, pos))
+    billing = len(calls_table(version, meta, pos, CallFilter(categories={"queue": ["billing"]})))
+    assert 0 < billing < everything
+    page.open(f"{viewer}/calls", "Calls")
+    caption = page.page.get_by_text("transcripts match", exact=False).first
+    assert caption.inner_text().startswith(f"{everything:,} transcripts match")
+    queue = page.page.locator('[data-testid="stMultiSelect"]').filter(has_text="Queue").first
+    queue.locator("input").first.click()
+    page.page.get_by_role("option", name="billing", exact=True).click()
+    page.page.keyboard.press("Escape")
+    page.settle()
+    page.page.get_by_text(f"{billing:,} transcripts match", exact=False).first.wait_for(
+        timeout=60_000
+    )
+    assert_clean(page)

@@ -17,6 +17,7 @@ from talkthemes.errors import NotReadyError
 from talkthemes.report import build_report, render_report, write_report
 from talkthemes.versions.load import load_version
 from talkthemes.view.theme_map import theme_layout
+from talkthemes.view.themes import shown_terms
 from talkthemes.workspace import Workspace
 
 
@@ -73,7 +74,9 @@ def test_the_report_has_every_part(demo_ws, page: str) -> None:
     for cid in specs:
         assert f'<div class="chart" id="{cid}"' in page
     with demo_ws.ws.store() as store:
-        rec = store.get_sweep()["recommendations"]["nmf"]
+        sweep = store.get_sweep()
+    assert sweep is not None and sweep.recommendations is not None
+    rec = sweep.recommendations["nmf"]
     assert f"NMF: K = {rec['k']} recommended" in page
     assert all(html.escape(r) in page for r in rec["reasons"])
     assert "Bills &amp; &lt;payments&gt;" in page  # a label, escaped
@@ -84,7 +87,7 @@ def test_the_report_has_every_part(demo_ws, page: str) -> None:
         expected_quotes = min(3, int((version.lead() == pos).sum()))
         assert body.count("<blockquote>") == expected_quotes
         assert '<mark class="tt-hit">' in body or expected_quotes == 0
-        words = ", ".join(t.replace("_", " ") for t in version.top_terms(pos, 15, 0.6))
+        words = ", ".join(t.replace("_", " ") for t in shown_terms(version, pos, 15, 0.6))
         assert words in body
     assert "Hidden as noise" not in page
 
@@ -145,7 +148,7 @@ def test_lambda_changes_the_word_ranking(ws_copy) -> None:
     report = build_report(ws_copy, lam=1.0, excerpts=0)
     body = report.body
     for pos, tid in enumerate(version.theme_ids):
-        words = ", ".join(t.replace("_", " ") for t in version.top_terms(pos, 15, 1.0))
+        words = ", ".join(t.replace("_", " ") for t in shown_terms(version, pos, 15, 1.0))
         assert words in cards_of(body)[tid]
         assert "<blockquote>" not in cards_of(body)[tid]
     assert "λ = 1" in body
@@ -172,3 +175,49 @@ def test_progress_is_told_done_total_and_what(ws_copy, tmp_path: Path) -> None:
     n_charts = len(list((tmp_path / "png").glob("*.png")))
     assert calls[-1][:2] == (n_charts, n_charts)  # the PNGs, counted to the last
     assert all(0 <= done <= total and what for done, total, what in calls)
+
+
+def test_the_footer_names_the_model_and_never_an_empty_cell(demo_ws, page: str) -> None:
+    import dataclasses
+
+    from talkthemes.report.sections import footer
+
+    footer_html = re.search(r"<footer>(.*?)</footer>", page, re.S).group(1)
+    assert "NMF, K = 5" in footer_html and "cell )" not in footer_html
+    version = load_version(demo_ws.ws)
+    bare = dataclasses.replace(version, info={"family": "lda"})
+    assert footer(bare).endswith("from version 1 (LDA, K = 5).</footer>")
+
+
+def test_the_static_map_asks_for_no_click_and_counts_say_who_was_left_out(
+    demo_ws, page: str
+) -> None:
+    from talkthemes.view.counts import call_counts
+
+    subtitle = " ".join(specs_of(page)["theme-map"]["title"]["subtitle"])
+    assert "click" not in subtitle.lower()
+    sentence = call_counts(demo_ws.ws, load_version(demo_ws.ws)).sentence()
+    assert "left out" in sentence and html.escape(sentence) in page
+
+
+def test_planted_personal_data_never_reaches_the_report(ws_copy) -> None:
+    from tests.viewer.conftest import PII, PII_ID
+
+    from talkthemes.config import render_settings
+    from talkthemes.workspace import atomic_write_text
+
+    version = load_version(ws_copy)
+    assert PII_ID in version.doc_ids  # it is in the themes, so its excerpts can be shown
+    page = render_report(build_report(ws_copy, excerpts=1000))  # every call's excerpt
+    pos = version.lead()[version.doc_ids.index(PII_ID)]
+    card = cards_of(page)[version.theme_ids[pos]]
+    assert f"transcript {PII_ID}" in card  # its excerpt is on the card…
+    leaked = [p for p in PII if p in page or html.escape(p) in page]
+    assert not leaked  # …with nothing personal in it
+    assert 'class="tt-masked"' in card
+    # a workspace that allows the original text shows it
+    settings = ws_copy.settings()
+    settings.view.original_text = True
+    atomic_write_text(ws_copy.settings_path, render_settings(settings))
+    original = render_report(build_report(ws_copy, excerpts=1000))
+    assert any(p in original for p in PII)

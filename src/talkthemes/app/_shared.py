@@ -11,13 +11,16 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
+import functools
 import sys
 from pathlib import Path
 from typing import Any
 
 import pandas as pd
 import streamlit as st
+from PIL import Image, ImageDraw
 
+from talkthemes.charts.style import BLUE
 from talkthemes.charts.sweep import sweep_chart
 from talkthemes.charts.terms import term_chart
 from talkthemes.charts.theme_map import theme_map_chart
@@ -26,8 +29,10 @@ from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline
 from talkthemes.versions.load import Version, load_version
 from talkthemes.view.choose_k import load_prep_vocabulary
+from talkthemes.view.counts import CallCounts, call_counts
+from talkthemes.view.evidence import best_sentences
 from talkthemes.view.metadata import MetaTable, load_metadata
-from talkthemes.view.over_time import movers_frame, segment_frame, trend_frame
+from talkthemes.view.over_time import movers_frame, segment_frame, theme_trends, trend_frame
 from talkthemes.view.readiness import Need, NextStep, Readiness
 from talkthemes.view.readiness import readiness as workspace_readiness
 from talkthemes.view.theme_map import ThemeLayout, theme_layout
@@ -48,6 +53,18 @@ def workspace_root() -> Path:
     parser.add_argument("--workspace", default=None)
     args, _ = parser.parse_known_args(sys.argv[1:])
     return resolve_workspace(args.workspace).expanduser().resolve()
+
+
+@functools.cache
+def favicon() -> Image.Image:
+    """The browser-tab icon, drawn here so the page loads nothing from the network."""
+    img = Image.new("RGBA", (64, 64), (0, 0, 0, 0))
+    draw = ImageDraw.Draw(img)
+    draw.rounded_rectangle((2, 6, 62, 50), radius=12, fill=BLUE)
+    draw.polygon([(14, 46), (14, 62), (30, 46)], fill=BLUE)
+    for y, right in ((17, 50), (28, 42), (39, 34)):
+        draw.rounded_rectangle((13, y, right, y + 5), radius=2, fill="#ffffff")
+    return img
 
 
 def workspace() -> Workspace:
@@ -120,12 +137,17 @@ def current_version(ws: Workspace) -> Version:
         record = store.current_version()
         if record is None:  # published meanwhile? gate() runs first, so rare
             raise TalkthemesError("no version published yet: run 'talkthemes publish'")
-        n = int(record["n"])
+        n = record.n
         themes = store.themes(n)
     key = version_key(ws, n)
     with st.spinner(f"Loading version {n} …"):
         version = _version(*key)
     return dataclasses.replace(version, themes=themes)
+
+
+def counts(ws: Workspace, version: Version) -> CallCounts:
+    """Transcripts in the version, stored, and left out by reason (read on every run)."""
+    return call_counts(ws, version)
 
 
 def layout(ws: Workspace, version: Version) -> ThemeLayout:
@@ -145,18 +167,31 @@ def _trend(root: str, n: int, stamp: int, freq: str) -> pd.DataFrame:
     return trend_frame(_version(root, n, stamp), _metadata(root, n, stamp), freq)  # type: ignore[arg-type]
 
 
+@st.cache_data(show_spinner=False, max_entries=4)
+def _theme_trends(root: str, n: int, stamp: int) -> pd.DataFrame:
+    return theme_trends(_version(root, n, stamp), _metadata(root, n, stamp))
+
+
+def trends(ws: Workspace, version: Version) -> pd.DataFrame:
+    """How each theme is moving (last full period against the ones before; cached)."""
+    with st.spinner("Comparing the last full period with the ones before …"):
+        return _theme_trends(*version_key(ws, version.n))
+
+
 @st.cache_data(show_spinner=False, max_entries=16)
 def _segments(root: str, n: int, stamp: int, field: str) -> pd.DataFrame:
     return segment_frame(_version(root, n, stamp), _metadata(root, n, stamp), field)
 
 
 @st.cache_data(show_spinner=False, max_entries=16)
-def _movers(root: str, n: int, stamp: int, freq: str, before: str, after: str) -> pd.DataFrame:
+def _movers(
+    root: str, n: int, stamp: int, freq: str, before: tuple[str, ...], after: str
+) -> pd.DataFrame:
     return movers_frame(
         _version(root, n, stamp),
         _metadata(root, n, stamp),
         freq,  # type: ignore[arg-type]
-        pd.Timestamp(before),
+        [pd.Timestamp(b) for b in before],
         pd.Timestamp(after),
     )
 
@@ -174,12 +209,42 @@ def segments(ws: Workspace, version: Version, field: str) -> pd.DataFrame:
 
 
 def movers(
-    ws: Workspace, version: Version, freq: str, before: pd.Timestamp, after: pd.Timestamp
+    ws: Workspace,
+    version: Version,
+    freq: str,
+    before: tuple[pd.Timestamp, ...],
+    after: pd.Timestamp,
 ) -> pd.DataFrame:
-    """Ranked change of each theme's share between two periods (numbers cached)."""
-    with st.spinner("Comparing the two periods …"):
-        frame = _movers(*version_key(ws, version.n), freq, before.isoformat(), after.isoformat())
+    """Ranked change of each theme's share from the ``before`` periods to ``after``."""
+    with st.spinner("Comparing the periods …"):
+        pool = tuple(pd.Timestamp(b).isoformat() for b in before)
+        frame = _movers(*version_key(ws, version.n), freq, pool, after.isoformat())
         return with_names(frame, version)
+
+
+@st.cache_data(show_spinner=False, max_entries=32)
+def _sentences(
+    root: str,
+    n: int,
+    stamp: int,
+    ids: tuple[str, ...],
+    positions: tuple[int, ...],
+    lam: float,
+    masked: bool,
+) -> list[str]:
+    return best_sentences(
+        Workspace(root), _version(root, n, stamp), ids, positions, lam=lam, masked=masked
+    )
+
+
+def sentences(
+    ws: Workspace, version: Version, ids: list[str], positions: list[int], *, masked: bool
+) -> list[str]:
+    """Each call's best sentence for the theme at ``positions`` (cached per list)."""
+    lam = relevance_lambda(ws)
+    with st.spinner(f"Picking the best sentence of {len(ids):,} calls …"):
+        key = version_key(ws, version.n)
+        return _sentences(*key, tuple(ids), tuple(int(p) for p in positions), lam, masked)
 
 
 @st.cache_resource(show_spinner=False, max_entries=2)
@@ -248,9 +313,9 @@ def show_chart(
 def default_theme(version: Version) -> int:
     """The shown theme that leads the most transcripts (any theme if all are hidden)."""
     cov = version.coverage()
-    shown = [i for i, t in enumerate(version.themes) if not t["hidden"]] or list(range(version.k))
+    shown = [i for i, t in enumerate(version.themes) if not t.hidden] or list(range(version.k))
     best = max(shown, key=lambda i: (cov[i], -i))
-    return int(version.themes[best]["theme_id"])
+    return version.themes[best].theme_id
 
 
 def selected_theme(version: Version) -> int:
@@ -270,7 +335,7 @@ def select_theme(theme_id: int) -> None:
 def theme_picker(version: Version, *, key: str, label: str = "Theme") -> int:
     """A select box of the version's themes, bound to the shared selection."""
     names = dict(zip(version.theme_ids, theme_names(version), strict=True))
-    hidden = {int(t["theme_id"]) for t in version.themes if t["hidden"]}
+    hidden = {t.theme_id for t in version.themes if t.hidden}
     current = selected_theme(version)
     st.session_state[key] = current
 
@@ -302,14 +367,15 @@ def sidebar(ready: Readiness) -> None:
                 show_error(exc)
                 return
             info: dict[str, Any] = version.info
-            labelled = sum(1 for t in version.themes if t["label"])
-            hidden = sum(1 for t in version.themes if t["hidden"])
+            labelled = sum(1 for t in version.themes if t.label)
+            hidden = sum(1 for t in version.themes if t.hidden)
             st.markdown(
                 f"**Version {version.n}** · {str(info.get('family', '')).upper()} "
                 f"K = {version.k}  \n{len(version.doc_ids):,} transcripts  \n"
                 f"{labelled} of {version.k} themes labelled"
                 + (f", {hidden} hidden" if hidden else "")
             )
+            st.caption(md_inline(counts(Workspace(ready.root), version).sentence()))
         elif ready.has_workspace:
             step = ready.next_step
             if step is not None:

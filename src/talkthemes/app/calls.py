@@ -16,16 +16,21 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline, percent
+from talkthemes.versions.load import Version
 from talkthemes.view.calls import CallFilter, calls_csv, calls_table
+from talkthemes.view.evidence import best_sentences
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.transcript import (
     TermHighlighter,
     load_transcript,
+    original_allowed,
     transcript_html,
     version_lemmas,
 )
+from talkthemes.workspace import Workspace
 
 MAX_LISTED = 1000  # rows shown in the table; the CSV export has them all
+MAX_SENTENCES = 200  # rows of the table that show their best sentence
 HIGHLIGHT_TERMS = 20
 OPEN_KEY = "calls_open"
 TABLE_KEY = "calls_table"
@@ -58,7 +63,7 @@ def _filters(meta: MetaTable) -> CallFilter:
         if meta.date_field is not None:
             info = meta.fields[meta.date_field]
             picked = left.date_input(
-                f"Date range ({md_inline(meta.date_field)})",
+                f"Date range ({md_inline(meta.fields[meta.date_field].label)})",
                 value=(info.lo, info.hi),
                 min_value=info.lo,
                 max_value=info.hi,
@@ -75,7 +80,7 @@ def _filters(meta: MetaTable) -> CallFilter:
         for i, info in enumerate(others):
             box = columns[i % 3]
             key = f"calls_field_{info.name}"
-            label = md_inline(info.name)
+            label = md_inline(info.label)
             if info.kind == "category":
                 chosen = box.multiselect(label, info.values, key=key, placeholder="all values")
                 if chosen:
@@ -100,6 +105,26 @@ def _on_table_select(ids: list[str]) -> None:
         st.session_state[OPEN_KEY] = ids[rows[0]]
 
 
+def _with_sentences(
+    ws: Workspace, version: Version, frame: pd.DataFrame, masked: bool
+) -> pd.DataFrame:
+    """The full list with every call's best sentence, as the CSV download writes it."""
+    out = frame.copy()
+    out.insert(
+        1,
+        "best_sentence",
+        best_sentences(
+            ws,
+            version,
+            out["transcript_id"].astype(str).tolist(),
+            [version.position(int(t)) for t in out["lead_theme_id"]],
+            lam=_shared.relevance_lambda(ws),
+            masked=masked,
+        ),
+    )
+    return out
+
+
 def render() -> None:
     """The Calls section."""
     ws = _shared.gate("version")
@@ -110,36 +135,58 @@ def render() -> None:
     pos = version.position(tid)
     flt = _filters(meta)
     try:
-        frame = calls_table(version, meta, pos, flt)
+        frame = calls_table(version, meta, pos, flt, masked=not original_allowed(ws))
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return
     coverage = float(version.coverage()[pos])
     st.caption(
         f"{len(frame):,} transcripts match, most dominated by the theme first. The theme "
-        f"leads {percent(coverage)} of all {len(version.doc_ids):,} transcripts."
+        f"leads {percent(coverage)} of the version's {len(version.doc_ids):,} transcripts. "
+        + md_inline(_shared.counts(ws, version).sentence())
         + (f" The table lists the first {MAX_LISTED:,}." if len(frame) > MAX_LISTED else "")
     )
-    shown = frame.head(MAX_LISTED)
+    shown = frame.head(MAX_LISTED).copy()
     ids = shown["transcript_id"].astype(str).tolist()
+    masked = not original_allowed(ws)
+    head = shown.head(MAX_SENTENCES)
+    picked = _shared.sentences(
+        ws,
+        version,
+        head["transcript_id"].astype(str).tolist(),
+        [version.position(int(t)) for t in head["lead_theme_id"]],
+        masked=masked,
+    )
+    shown.insert(1, "best_sentence", picked + [""] * (len(shown) - len(picked)))
     st.dataframe(
-        shown,
+        shown.drop(columns=["lead_theme_id"]),
         hide_index=True,
         key=TABLE_KEY,
         on_select=lambda: _on_table_select(ids),
         selection_mode="single-row",
         column_config={
             "transcript_id": st.column_config.TextColumn("Transcript"),
+            "best_sentence": st.column_config.TextColumn(
+                "Best sentence",
+                width="large",
+                help="The sentence of the call that holds the most of its lead theme's "
+                "words, the customer's first; personal data masked.",
+            ),
             "share": st.column_config.ProgressColumn(
                 "Share of this theme", format="percent", min_value=0.0, max_value=1.0
             ),
             "lead_theme": st.column_config.TextColumn("Lead theme"),
             "lead_share": st.column_config.NumberColumn("Lead share", format="percent"),
+            **{
+                name: st.column_config.TextColumn(info.label)
+                for name, info in meta.fields.items()
+                if name in shown.columns
+            },
         },
     )
     st.download_button(
         "Download the list (CSV)",
-        data=lambda: calls_csv(frame),
+        data=lambda: calls_csv(_with_sentences(ws, version, frame, masked), meta),
         file_name=f"theme-{tid}-calls.csv",
         mime="text/csv",
         on_click="ignore",
@@ -169,7 +216,11 @@ def render() -> None:
         _shared.show_error(exc)
         return
     row = shown[shown["transcript_id"] == tid_open].iloc[0]
-    facts = [md_inline(f"{k}: {row[k]}") for k in meta.frame.columns if pd.notna(row.get(k))]
+    facts = [
+        md_inline(f"{meta.fields[k].label if k in meta.fields else k}: {row[k]}")
+        for k in meta.frame.columns
+        if pd.notna(row.get(k))
+    ]
     st.caption(
         " · ".join(
             [f"{len(turns)} turns", f"share of this theme {percent(row['share'], 0)}", *facts]

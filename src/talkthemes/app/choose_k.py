@@ -3,14 +3,21 @@ its reasons, the themes of any cell, and publishing a cell as the next version."
 
 from __future__ import annotations
 
-import pandas as pd
 import streamlit as st
 
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError, WorkspaceBusyError
 from talkthemes.text import md_inline
 from talkthemes.versions.publish import publish
-from talkthemes.view.choose_k import SweepView, cell_themes, load_sweep, scalar_columns
+from talkthemes.view.choose_k import (
+    SweepView,
+    cell_themes,
+    load_sweep,
+    measure_name,
+    measure_text,
+    pick_for,
+    scalar_columns,
+)
 from talkthemes.view.readiness import readiness
 from talkthemes.workspace import Workspace
 
@@ -36,14 +43,33 @@ def _on_k() -> None:
     st.session_state[PICK] = (st.session_state[PICK][0], int(st.session_state["choosek_k"]))
 
 
-def _current_pick(sweep: SweepView) -> tuple[str, int]:
-    family, k = st.session_state.get(PICK, (None, None))
-    if family not in sweep.families:
-        family = next((f for f in sweep.families if f in sweep.recommended), sweep.families[0])
-    if k not in sweep.ks(family):
-        k = sweep.recommended.get(family, sweep.ks(family)[0])
-    st.session_state[PICK] = (family, int(k))
-    return family, int(k)
+def _in_use(ws: Workspace) -> tuple[str | None, int | None]:
+    """The current version's family and K (what Choose K opens on), if any."""
+    with ws.store() as store:
+        record = store.current_version()
+    if record is None:
+        return None, None
+    return record.family, record.k
+
+
+def _current_pick(ws: Workspace, sweep: SweepView) -> tuple[str, int]:
+    family, k = st.session_state.get(PICK) or _in_use(ws)
+    family, k = pick_for(sweep, family, k)
+    st.session_state[PICK] = (family, k)
+    return family, k
+
+
+def _runner_line(runner: dict, rec: dict) -> str:
+    """One runner-up as a list item, its reason in full (a table column would cut it)."""
+    facts = []
+    if runner.get("coherence") is not None:
+        measure = measure_name(rec.get("rank_by", "c_npmi"))
+        facts.append(f"coherence ({measure}) {float(runner['coherence']):.3f}")
+    if runner.get("stability") is not None:
+        facts.append(f"stability {float(runner['stability']):.2f}")
+    head = f"K = {int(runner['k'])}" + (f" ({', '.join(facts)})" if facts else "")
+    why = measure_text(str(runner.get("why_not") or "").strip())
+    return f"- **{md_inline(head)}**" + (f": {md_inline(why)}" if why else "")
 
 
 def _recommendations(sweep: SweepView) -> None:
@@ -60,24 +86,14 @@ def _recommendations(sweep: SweepView) -> None:
                     "random seeds often enough.",
                     icon=":material/warning:",
                 )
-            st.caption(md_inline("Rule: " + rec["rule"]))
-            st.markdown("\n".join(f"- {md_inline(r)}" for r in rec.get("reasons", [])))
-            runners = pd.DataFrame(rec.get("runners_up") or [])
-            if not runners.empty:
-                st.caption("Runners-up")
-                cols = [c for c in ("k", "coherence", "stability", "why_not") if c in runners]
-                st.dataframe(
-                    runners[cols],
-                    hide_index=True,
-                    column_config={
-                        "k": st.column_config.NumberColumn("K", format="%d"),
-                        "coherence": st.column_config.NumberColumn(
-                            f"Coherence ({rec.get('rank_by', '')})", format="%.3f"
-                        ),
-                        "stability": st.column_config.NumberColumn("Stability", format="%.2f"),
-                        "why_not": st.column_config.TextColumn("Why not"),
-                    },
-                )
+            st.caption(md_inline("Rule: " + measure_text(rec["rule"])))
+            st.markdown(
+                "\n".join(f"- {md_inline(measure_text(r))}" for r in rec.get("reasons", []))
+            )
+            runners = rec.get("runners_up") or []
+            if runners:
+                st.markdown("**Runners-up, and why not**")
+                st.markdown("\n".join(_runner_line(r, rec) for r in runners))
 
 
 def _run_publish(ws: Workspace, family: str, k: int) -> None:
@@ -87,8 +103,8 @@ def _run_publish(ws: Workspace, family: str, k: int) -> None:
             with st.status(f"Publishing {label} …", expanded=True) as status:
                 bar = st.progress(0.0, text="Starting")
 
-                def step(done: int, total: int, name: str = "") -> None:
-                    bar.progress(min(1.0, done / max(total, 1)), text=name.capitalize())
+                def step(done: int, total: int, what: str = "") -> None:
+                    bar.progress(min(1.0, done / max(total, 1)), text=what.capitalize())
 
                 result = publish(ws, k=k, family=family, progress=step)
                 status.update(
@@ -175,7 +191,7 @@ def render() -> None:
     _recommendations(sweep)
 
     st.divider()
-    family, k = _current_pick(sweep)
+    family, k = _current_pick(ws, sweep)
     st.session_state["choosek_family"] = family
     st.session_state["choosek_k"] = k
     left, right = st.columns(2)

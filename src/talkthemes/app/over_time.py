@@ -10,7 +10,13 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline
-from talkthemes.view.over_time import period_choices, segment_fields
+from talkthemes.view.over_time import (
+    BASELINE_PERIODS,
+    default_comparison,
+    full_periods,
+    period_choices,
+    segment_fields,
+)
 
 FREQ_NAMES = {"week": "Week", "month": "Month"}
 
@@ -52,54 +58,90 @@ def _segments(ws, version, meta, show_hidden: bool) -> None:
         "Compare by",
         fields,
         key="time_field",
+        format_func=lambda f: meta.fields[f].label,
         help="Number fields are cut into four groups of equal size (quartiles).",
     )
+    shown_as = meta.fields[field].label
     frame = _visible(_shared.segments(ws, version, field), show_hidden)
     if frame.empty:
         st.info("Nothing to compare with the themes shown.")
         return
-    _shared.show_chart("segments", frame, field=field)
+    _shared.show_chart("segments", frame, field=shown_as)
     st.caption(
-        f"Each dot is the share of a {md_inline(field)}'s transcripts that the theme leads, "
+        f"Each dot is the share of a {md_inline(shown_as.lower())} group's transcripts that "
+        "the theme leads, "
         "with a "
         "95% bootstrap interval; where intervals do not overlap, the segments really differ."
     )
 
 
+def _the(p: pd.Timestamp, freq: str) -> str:
+    return ("the " if freq == "week" else "") + _period_label(p, freq)
+
+
+def _span_label(periods: tuple[pd.Timestamp, ...], freq: str) -> str:
+    if len(periods) == 1:
+        return _the(periods[0], freq)
+    first, last = _period_label(periods[0], freq), _period_label(periods[-1], freq)
+    return f"the {len(periods)} {freq}s before it ({first} to {last})"
+
+
 def _movers(ws, version, meta, freq: str, show_hidden: bool) -> None:
     st.subheader("Rising and falling themes")
     periods = period_choices(meta, freq)
-    if len(periods) < 2:
+    default = default_comparison(meta, freq)
+    if default is None:
         st.info(f"Movers need transcripts in at least two {freq}s.")
         return
-    labels = {p: _period_label(p, freq) for p in periods}
+    full = set(full_periods(meta, freq))
+    labels = {p: _period_label(p, freq) + ("" if p in full else " (cut short)") for p in periods}
     left, right = st.columns(2)
-    before = left.selectbox(
-        "From", periods, index=0, format_func=labels.get, key=f"time_before_{freq}"
+    after_key, n_key = f"time_after_{freq}", f"time_baseline_{freq}"
+    if st.session_state.get(after_key) not in periods:
+        st.session_state[after_key] = default.after
+    after = left.selectbox(
+        f"The {freq} to look at",
+        periods,
+        format_func=labels.get,
+        key=after_key,
+        help=f"Starts on the last full {freq}. A {freq} the data covers only in part is "
+        "marked “cut short”: its share rests on fewer days' calls.",
     )
-    after = right.selectbox(
-        "To", periods, index=len(periods) - 1, format_func=labels.get, key=f"time_after_{freq}"
+    most = max(1, sum(1 for p in periods if p != after))
+    if st.session_state.get(n_key, 0) not in range(1, most + 1):
+        st.session_state[n_key] = min(BASELINE_PERIODS[freq], most)
+    baseline = right.number_input(
+        f"Compared with how many {freq}s before it",
+        min_value=1,
+        max_value=most,
+        step=1,
+        key=n_key,
+        help=f"Those {freq}s are pooled, so the comparison rests on more calls than one "
+        f"{freq} holds; full {freq}s are used first.",
     )
-    if before == after:
-        st.warning("Pick two different periods.")
+    chosen = default_comparison(meta, freq, after=after, baseline=int(baseline))
+    if chosen is None or not chosen.before:
+        st.warning(f"There is no other {freq} to compare with.")
         return
-    if after < before:
-        before, after = after, before
     try:
-        frame = _visible(_shared.movers(ws, version, freq, before, after), show_hidden)
+        frame = _visible(
+            _shared.movers(ws, version, freq, chosen.before, chosen.after), show_hidden
+        )
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return
     if frame.empty:
         st.info("Nothing to rank with the themes shown.")
         return
-    _shared.show_chart("movers", frame)
+    pool = _span_label(chosen.before, freq)
+    look_at = _the(chosen.after, freq)
+    _shared.show_chart("movers", frame, compared=f"from {pool} to {look_at}", key="time_movers")
     n_before, n_after = int(frame["n_before"].iloc[0]), int(frame["n_after"].iloc[0])
     st.caption(
-        f"Change in the share of transcripts each theme leads, from {labels[before]} "
-        f"({n_before:,} transcripts) to {labels[after]} ({n_after:,} transcripts), in "
-        "percentage points; biggest rise at the top. Faint bars: the 95% interval "
-        "includes no change."
+        f"Change in the share of transcripts each theme leads, from {pool} "
+        f"({n_before:,} transcripts) to {look_at} ({n_after:,} transcripts), in "
+        "percentage points; biggest rise at the top. Black lines are 95% bootstrap "
+        "intervals; faint bars: the interval includes no change."
     )
 
 

@@ -8,9 +8,11 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.charts.theme_map import theme_map_caption
 from talkthemes.text import md_inline, percent
-from talkthemes.view.themes import theme_table
+from talkthemes.view.theme_map import LINK_QUANTILE, LINKS_PER_THEME, theme_links
+from talkthemes.view.themes import boilerplate_advice, map_frame, theme_table
 
 CHART_KEY = "map_chart"
+MAP_WIDTH = 860  # about the width of the page's main column on a laptop
 TABLE_KEY = "map_table"
 
 
@@ -30,20 +32,24 @@ def render() -> None:
     table = theme_table(version, layout, lam=lam)
     selected = _shared.selected_theme(version)
 
+    links, cutoff = theme_links(layout.distances, version.theme_ids)
     st.title("Theme map")
     _shared.show_chart(
         "map",
-        table[["theme_id", "x", "y", "coverage", "name", "hidden"]],
-        selected=selected,
+        map_frame(table, _shared.trends(ws, version)),
+        links,
+        selected,
+        width=MAP_WIDTH,
         key=CHART_KEY,
         on_select=_on_chart_select,
         selection_mode="theme",
     )
     st.caption(
         theme_map_caption(layout.explained)
-        + " Distances come from the Jensen–Shannon distance between the themes' word "
-        "distributions; the axes themselves have no unit. Faint dashed circles are themes "
-        "hidden as noise."
+        + " Closeness is the Jensen–Shannon distance between the themes' word "
+        f"distributions; a line joins a theme to its {LINKS_PER_THEME} closest themes when "
+        f"they are under {cutoff:.3f} apart (the closest {LINK_QUANTILE:.0%} of all pairs). "
+        "Rising and falling compare the last full period with the ones before it."
     )
 
     row = table[table["theme_id"] == _shared.selected_theme(version)].iloc[0]
@@ -56,6 +62,8 @@ def render() -> None:
         help="Its average share across all transcripts.",
     )
     c.metric("Theme id", f"#{int(row['theme_id'])}")
+    if row["boilerplate_like"] and not row["hidden"]:
+        st.warning(md_inline(boilerplate_advice(row)), icon=":material/visibility_off:")
     st.caption(f"Top words: {md_inline(row['top_terms'])}")
     st.page_link("theme_cards.py", label="Open its card", icon=":material/label:")
     st.page_link("calls.py", label="Read the calls it leads", icon=":material/call:")

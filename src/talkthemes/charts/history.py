@@ -5,10 +5,10 @@ from __future__ import annotations
 import altair as alt
 import pandas as pd
 
-from talkthemes.charts.style import BLACK, BLUE, BLUISH_GREEN, INK, LINE_SOFT, inline
+from talkthemes.charts.style import BLACK, BLUE, BLUISH_GREEN, INK, LINE_SOFT, inline, look
 from talkthemes.errors import InputError
 
-__all__ = ["TIMELINE_COLUMNS", "timeline_chart"]
+__all__ = ["TIMELINE_COLUMNS", "time_format", "timeline_chart"]
 
 TIMELINE_COLUMNS = (
     "n",
@@ -50,8 +50,14 @@ def timeline_chart(timeline: pd.DataFrame, *, width: int = 560) -> alt.LayerChar
     df["k"] = df["k"].astype("float64")
     df["new_transcripts"] = df["new_transcripts"].astype("float64")
     df["previous_version"] = df["previous_version"].astype("float64")
+    tick_format = time_format(df["created_at"])
     df["created_at"] = df["created_at"].dt.strftime("%Y-%m-%dT%H:%M:%S")
-    x = alt.X("created_at:T", title="Made at")
+    x = alt.X(
+        "created_at:T",
+        title="Made at",
+        scale=alt.Scale(padding=24, nice=False),
+        axis=alt.Axis(format=tick_format, tickCount=min(6, max(2, len(df))), labelOverlap=True),
+    )
     y = alt.Y(
         "n:Q",
         title="Version",
@@ -95,9 +101,23 @@ def timeline_chart(timeline: pd.DataFrame, *, width: int = 560) -> alt.LayerChar
         label,
         width=width,
         height=max(120, 36 * len(df)),
-        title=alt.TitleParams(
-            "Versions over time",
-            subtitle="Each dot is a version; the ringed one is current.",
-            anchor="start",
-        ),
+        **look("Versions over time", "Each dot is a version; the ringed one is current."),
     )
+
+
+def time_format(stamps: pd.Series) -> str:
+    """A date-time format that tells the ticks of ``stamps``' span apart, and no finer.
+
+    Versions made minutes apart (a demo, a test) read "14:05:09", hours apart "14:05",
+    days or weeks apart "03 Jun", further apart "Jun 2026" — never a bare fraction of a
+    second.
+    """
+    present = pd.to_datetime(stamps).dropna()
+    span = (present.max() - present.min()) if len(present) else pd.Timedelta(0)
+    if span < pd.Timedelta(minutes=10):
+        return "%H:%M:%S"
+    if span < pd.Timedelta(days=2):
+        return "%H:%M"
+    if span < pd.Timedelta(days=300):
+        return "%d %b"
+    return "%b %Y"

@@ -29,6 +29,7 @@ import pandas as pd
 from talkthemes.errors import InputError
 
 __all__ = [
+    "AUTOSIZE",
     "BLACK",
     "BLUE",
     "BLUISH_GREEN",
@@ -101,6 +102,9 @@ FAMILY_NAMES: dict[str, str] = {"lda": "LDA", "nmf": "NMF"}
 MAX_CHART_ROWS = 50_000
 """Largest frame a chart accepts; charts take aggregates, never per-transcript rows."""
 
+AUTOSIZE = alt.AutoSizeParams(type="pad", contains="padding")
+"""Every chart keeps its own size; see :func:`look`."""
+
 INK = "#2b2b2b"
 """Text and the strongest neutral lines."""
 INK_SOFT = "#6b6b6b"
@@ -117,8 +121,16 @@ def look(title: str, subtitle: str) -> dict[str, Any]:
 
     Returned as constructor keywords, not applied with ``.properties``/``.configure``:
     every such call on a layered or concatenated chart makes Altair re-copy all of it.
+
+    The size is fixed (``autosize`` "pad": the plot keeps the width and height the chart
+    function was given and the axes, legends and titles are added around it), written
+    into the spec so every renderer lays the chart out alike. Left unset, the viewer's
+    page would squeeze the whole chart, labels included, into the plot's width (its
+    "fit" default), leaving bars of ranked charts no width at all, and warn that "fit"
+    does not work for concatenated views.
     """
     return {
+        "autosize": AUTOSIZE,
         "title": alt.TitleParams(
             text=title, subtitle=textwrap.wrap(subtitle, width=100), anchor="start", offset=10
         ),

@@ -1,24 +1,35 @@
-"""The theme map: themes placed by how alike their words are, sized by what they lead.
+"""The theme map: named tiles laid out by how alike the themes' words are, linked to their
+nearest themes, each showing the share of transcripts it leads.
 
-The coordinates come from :func:`talkthemes.view.theme_map.theme_layout` (classical MDS on
-Jensen–Shannon distances, docs/methods_metrics.md, "Theme map: Jensen–Shannon distance and
-classical MDS"); this module only draws them.
+The design and its reasons are in docs/viewer.md, "The theme map". In short: every theme
+is a tile of the same size carrying its full name, so names are read, not hunted for,
+and never print over each other; the tiles sit on a grid in the arrangement of the
+similarity layout (:func:`grid_cells`, an optimal assignment of themes to grid cells
+from their classical-MDS coordinates, docs/methods_metrics.md, "Theme map"), and thin
+lines join each theme to its nearest themes when their Jensen–Shannon distance is under
+a cut-off; the share a theme leads is a number and a bar inside its tile; the tile's
+fill says whether the theme is labelled, the bar's colour (and an arrow) whether it is
+rising or falling. Text colours are chosen for a WCAG 2.1 contrast ratio of at least
+4.5:1 on their fills (success criterion 1.4.3).
 """
 
 from __future__ import annotations
 
 import math
+import textwrap
 
 import altair as alt
 import numpy as np
 import pandas as pd
+from scipy.optimize import linear_sum_assignment
 
 from talkthemes.charts.style import (
-    BLACK,
     BLUE,
     INK,
-    ORANGE,
-    SKY_BLUE,
+    INK_SOFT,
+    LINE_SOFT,
+    PAPER,
+    VERMILLION,
     inline,
     look,
     require,
@@ -26,9 +37,35 @@ from talkthemes.charts.style import (
 )
 from talkthemes.errors import InputError
 
-__all__ = ["theme_map_caption", "theme_map_chart"]
+__all__ = [
+    "TILE_STYLES",
+    "contrast_ratio",
+    "grid_cells",
+    "theme_map_caption",
+    "theme_map_chart",
+    "tile_geometry",
+]
 
-_MAP_MAX_AREA = 3200.0  # px² of the circle of the theme with the largest coverage
+# Tile fills by status and the inks written on them (each pair ≥ 4.5:1, tested).
+TILE_STYLES: dict[str, dict[str, str]] = {
+    "labelled": {"fill": "#e4f1fa", "ink": INK, "soft": "#4a4a4a", "edge": "#9cc9e8"},
+    "suggested": {"fill": "#f4f4f2", "ink": INK, "soft": "#4a4a4a", "edge": "#cfcfcb"},
+    "hidden": {"fill": PAPER, "ink": "#6b6b6b", "soft": "#6b6b6b", "edge": "#bdbdbd"},
+}
+"""Fill, ink (name), soft ink (facts) and outline of a tile, by the theme's status."""
+
+BOILERPLATE_INK = "#8a4500"
+"""The ink of the "looks like boilerplate" note (dark orange, ≥ 4.5:1 on every fill)."""
+
+TREND_COLOURS = {"rising": BLUE, "falling": VERMILLION, "steady": INK_SOFT}
+TREND_MARKS = {"rising": "▲", "falling": "▼", "steady": ""}
+
+_GAP_X, _GAP_Y = 24.0, 22.0
+_TILE_H = 90.0
+_PAD = 10.0
+_NAME_PX = 12.5  # font size of the name
+_CHAR_PX = 0.64  # average width of a bold character, in font sizes (sans-serif)
+_LINE_PX = 15.0
 
 
 def theme_map_caption(variance_kept: float) -> str:
@@ -37,89 +74,205 @@ def theme_map_caption(variance_kept: float) -> str:
     Parameters
     ----------
     variance_kept : float
-        Share (0–1) of the distance structure the two map axes keep: the share of the
-        positive eigenvalue mass of the classical MDS (docs/methods_metrics.md, "Theme
-        map").
+        Share (0–1) of the distance structure the two axes of the similarity layout keep:
+        the share of the positive eigenvalue mass of the classical MDS
+        (docs/methods_metrics.md, "Theme map").
 
     Returns
     -------
     str
-        For example "Themes that sit close together use similar words. The two axes keep
-        83% of the differences between themes; sizes show how many transcripts each theme
-        leads."
+        For example "Themes placed near each other use similar words; lines join each
+        theme to its closest themes. The layout keeps 83% of the differences between
+        themes. The bar in each tile is the share of transcripts the theme leads."
     """
     if not (math.isfinite(variance_kept) and 0.0 <= variance_kept <= 1.0):
         raise InputError(f"theme_map_caption: variance_kept must be in 0–1, not {variance_kept}")
     return (
-        "Themes that sit close together use similar words. The two axes keep "
-        f"{variance_kept:.0%} of the differences between themes; sizes show how many "
-        "transcripts each theme leads."
+        "Themes placed near each other use similar words; lines join each theme to its "
+        f"closest themes. The layout keeps {variance_kept:.0%} of the differences between "
+        "themes. The bar in each tile is the share of transcripts the theme leads."
     )
+
+
+def contrast_ratio(foreground: str, background: str) -> float:
+    """WCAG 2.1 contrast ratio of two sRGB colours (``"#rrggbb"``), from 1 to 21.
+
+    (L1 + 0.05) / (L2 + 0.05) with L the relative luminance of the lighter (L1) and the
+    darker (L2) colour; L = 0.2126 R + 0.7152 G + 0.0722 B of the linearised channels
+    (c / 12.92 for c ≤ 0.04045, else ((c + 0.055) / 1.055) ** 2.4).
+
+    References
+    ----------
+    W3C (2018). Web Content Accessibility Guidelines (WCAG) 2.1, definitions of
+    "contrast ratio" and "relative luminance"; success criterion 1.4.3 asks 4.5:1 for
+    text.
+    """
+
+    def luminance(colour: str) -> float:
+        channels = [int(colour.lstrip("#")[i : i + 2], 16) / 255.0 for i in (0, 2, 4)]
+        lin = [c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4 for c in channels]
+        return 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2]
+
+    a, b = luminance(foreground), luminance(background)
+    hi, lo = max(a, b), min(a, b)
+    return (hi + 0.05) / (lo + 0.05)
+
+
+def grid_cells(x: np.ndarray, y: np.ndarray, columns: int) -> tuple[np.ndarray, np.ndarray]:
+    """Put each theme in its own cell of a grid, keeping the similarity layout's arrangement.
+
+    The layout's coordinates are scaled onto a grid of ``columns`` columns and enough rows
+    for every theme with a quarter to spare; themes are then assigned to distinct cells
+    so that the summed squared distance between where a theme lies and the centre of its
+    cell is least (the linear assignment problem, solved exactly: Crouse 2016, as
+    :func:`scipy.optimize.linear_sum_assignment`). Empty rows and columns are dropped.
+
+    Returns
+    -------
+    col, row : ndarray of int
+        Each theme's cell; up on the layout is row 0.
+    """
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    k = x.size
+    if k == 0:
+        return np.zeros(0, int), np.zeros(0, int)
+    columns = max(1, min(int(columns), k))
+    rows = max(1, math.ceil(1.25 * k / columns))
+    while rows * columns < k:
+        rows += 1
+
+    def scaled(v: np.ndarray, n: int) -> np.ndarray:
+        span = float(v.max() - v.min())
+        return (v - v.min()) / span * (n - 1) if span > 0 else np.full(v.shape, (n - 1) / 2)
+
+    px, py = scaled(x, columns), scaled(-y, rows)  # up on the layout is the top row
+    cc, rr = np.meshgrid(np.arange(columns), np.arange(rows))
+    cc, rr = cc.ravel(), rr.ravel()
+    cost = (px[:, None] - cc[None, :]) ** 2 + (py[:, None] - rr[None, :]) ** 2
+    themes, cells = linear_sum_assignment(cost)
+    col, row = np.empty(k, int), np.empty(k, int)
+    col[themes], row[themes] = cc[cells], rr[cells]
+    # close up empty rows and columns, keeping the order
+    col = np.unique(col, return_inverse=True)[1]
+    row = np.unique(row, return_inverse=True)[1]
+    return col, row
+
+
+def tile_geometry(width: int, k: int) -> tuple[int, float]:
+    """Columns and tile width for a map ``width`` pixels wide holding ``k`` themes.
+
+    Tiles are 170–240 px wide: as many columns as fit (at most ``k``), so the map uses
+    the width it is given.
+    """
+    width = max(int(width), 200)
+    columns = max(1, min(k, int((width + _GAP_X) // (170 + _GAP_X))))
+    tile_w = (width - (columns - 1) * _GAP_X) / columns
+    if tile_w > 240 and columns < k:
+        columns += 1
+        tile_w = (width - (columns - 1) * _GAP_X) / columns
+    return columns, min(tile_w, 320.0)
+
+
+def _wrap(name: str, chars: int, lines: int = 2) -> list[str]:
+    """A name in at most ``lines`` lines of ``chars`` characters, "…" when cut."""
+    wrapped = textwrap.wrap(name, width=max(chars, 4), break_long_words=True) or [""]
+    if len(wrapped) > lines:
+        last = " ".join(wrapped[lines - 1 :])
+        wrapped = [*wrapped[: lines - 1], last[: max(chars - 1, 1)].rstrip() + "…"]
+    return wrapped
 
 
 def theme_map_chart(
     themes: pd.DataFrame,
+    links: pd.DataFrame | None = None,
     selected: int | None = None,
     *,
-    width: int = 560,
-    height: int = 440,
+    width: int = 880,
+    interactive: bool = True,
 ) -> alt.LayerChart:
-    """Themes as circles on a 2-D map: close circles use similar words.
+    """Themes as named tiles on the similarity layout, linked to their nearest themes.
 
     Parameters
     ----------
     themes : pandas.DataFrame
         One row per theme. Columns: ``theme_id`` (int), ``x``, ``y`` (classical MDS
         coordinates, docs/methods_metrics.md, "Theme map"), ``coverage`` (share of
-        transcripts the theme leads, 0–1), ``name`` (what to print: the caller passes the
-        theme's label or suggested name), and optionally ``hidden``
-        (bool): hidden themes are drawn faint with a dashed outline, not omitted, so they
-        can be found and shown again.
+        transcripts the theme leads, 0–1), ``name`` (its label or suggested name), and
+        optionally ``labelled`` (bool: a person named it; default False), ``hidden``
+        (bool), ``boilerplate_like`` (bool: suggest hiding it) and ``trend``
+        (``"rising"``, ``"falling"`` or ``"steady"``) with ``change`` (percentage points).
+    links : pandas.DataFrame, optional
+        ``theme_a, theme_b, distance``: the pairs to join
+        (:func:`talkthemes.view.theme_map.theme_links`).
     selected : int, optional
-        Theme id to highlight (orange fill, dark outline); it also initialises the
-        selection.
-    width, height : int
-        Plot size in pixels.
+        Theme id whose tile is outlined (a thick dark border; the fill is unchanged).
+    width : int
+        Width of the map in pixels; tiles and columns follow (:func:`tile_geometry`).
+    interactive : bool
+        Whether clicking a tile selects its theme (the viewer) or not (the report).
 
     Returns
     -------
     altair.LayerChart
-        Circles whose area is proportional to coverage (a linear size scale from 0), each
-        with its name below it; x and y share one unit per pixel so distances are not
-        stretched, and the axes are hidden because only relative distances mean
-        something. A point selection named ``theme`` on ``theme_id`` (click to select,
-        double-click to clear) for ``st.altair_chart(..., on_select="rerun")``. Tooltip:
-        name, coverage as a percentage, theme id.
+        Links under tiles, each tile holding the name (up to two lines), the share it
+        leads as a number and a bar, and the trend arrow. A point selection named
+        ``theme`` on ``theme_id`` when ``interactive``. Positions are in pixels
+        (``scale=None``), so the layout is the same in every renderer.
     """
     require(themes, ("theme_id", "x", "y", "coverage", "name"), "theme_map_chart", "themes")
-    df = themes[["theme_id", "x", "y", "coverage", "name"]].copy()
-    df["hidden"] = themes["hidden"].astype(bool) if "hidden" in themes.columns else False
+    df = themes.copy().reset_index(drop=True)
     for col in ("x", "y", "coverage"):
         require_finite(df, col, "theme_map_chart")
     bad = (df["coverage"] < 0) | (df["coverage"] > 1)
     if bad.any():
-        row = df.index[bad.to_numpy().nonzero()[0][0]]
+        row = themes.index[bad.to_numpy().nonzero()[0][0]]
         raise InputError(
-            f"theme_map_chart: themes row {row!r}: coverage {df.loc[row, 'coverage']} is not "
-            "a share between 0 and 1"
+            f"theme_map_chart: themes row {row!r}: coverage {themes.loc[row, 'coverage']} "
+            "is not a share between 0 and 1"
         )
+    for flag in ("labelled", "hidden", "boilerplate_like"):
+        df[flag] = df[flag].fillna(False).astype(bool) if flag in df else False
+    if "trend" not in df:
+        df["trend"] = "steady"
+    df["trend"] = df["trend"].fillna("steady").astype(str)
+    df["change"] = pd.to_numeric(df.get("change", np.nan), errors="coerce")
     df["theme_id"] = df["theme_id"].astype(int)
     df["name"] = df["name"].astype(str)
+
+    k = len(df)
+    columns, tile_w = tile_geometry(width, k)
+    col, row = grid_cells(df["x"].to_numpy(float), df["y"].to_numpy(float), columns)
+    df["x0"] = col * (tile_w + _GAP_X)
+    df["y0"] = row * (_TILE_H + _GAP_Y)
+    df["x1"], df["y1"] = df["x0"] + tile_w, df["y0"] + _TILE_H
+    df["cx"], df["cy"] = df["x0"] + tile_w / 2, df["y0"] + _TILE_H / 2
+    status = np.where(df["hidden"], "hidden", np.where(df["labelled"], "labelled", "suggested"))
+    df["status"] = status
+    for part in ("fill", "ink", "soft", "edge"):
+        df[part] = [TILE_STYLES[s][part] for s in status]
+    chars = int((tile_w - 2 * _PAD) / (_NAME_PX * _CHAR_PX))
+    lines = [_wrap(n, chars) for n in df["name"]]
+    df["line1"] = [ln[0] for ln in lines]
+    df["line2"] = [ln[1] if len(ln) > 1 else "" for ln in lines]
+    df["tx"] = df["x0"] + _PAD
+    df["ty1"] = df["y0"] + _PAD
+    df["ty2"] = df["ty1"] + _LINE_PX
     max_cov = float(df["coverage"].max()) or 1.0
-    radius = np.sqrt(df["coverage"].to_numpy() / max_cov * _MAP_MAX_AREA / math.pi)
-    margin_px = math.sqrt(_MAP_MAX_AREA / math.pi) + 20.0
-    (x0, x1), (y0, y1), per_px = _equal_aspect(
-        df["x"].to_numpy(float), df["y"].to_numpy(float), width, height, margin_px
-    )
-    df["label_x"], df["label_y"], df["label_align"], df["show_label"] = _place_labels(
-        df["x"].to_numpy(float),
-        df["y"].to_numpy(float),
-        radius,
-        df["name"].tolist(),
-        df["coverage"].to_numpy(float),
-        per_px,
-    )
-    df["status"] = np.where(df["hidden"], "hidden", "shown")
+    df["fy"] = df["ty2"] + _LINE_PX + 4  # the facts, under the name's two lines
+    df["by0"] = df["fy"] + _LINE_PX + 2  # the bar, under the facts
+    df["by1"] = df["by0"] + 6
+    df["bx1"] = df["tx"] + np.maximum((tile_w - 2 * _PAD) * df["coverage"] / max_cov, 1.0)
+    df["bar"] = [TREND_COLOURS.get(t, INK_SOFT) for t in df["trend"]]
+    df["fact"] = [_fact(r) for r in df.itertuples()]
+    df["note"] = np.where(df["boilerplate_like"] & ~df["hidden"], "boilerplate? hide", "")
+    df["note_ink"] = BOILERPLATE_INK
+    df["sel"] = df["theme_id"] == (int(selected) if selected is not None else -1)
+    df["tooltip_status"] = [
+        {"labelled": "labelled", "suggested": "suggested name", "hidden": "hidden as noise"}[s]
+        for s in status
+    ]
+    height = float(df["y1"].max()) if k else _TILE_H
+    map_width = float(df["x1"].max()) if k else tile_w
 
     theme = alt.selection_point(
         name="theme",
@@ -128,133 +281,163 @@ def theme_map_chart(
         clear="dblclick",
         value=[{"theme_id": int(selected)}] if selected is not None else alt.Undefined,
     )
-    x = alt.X("x:Q", axis=None, scale=alt.Scale(domain=[x0, x1], nice=False, zero=False))
-    y = alt.Y("y:Q", axis=None, scale=alt.Scale(domain=[y0, y1], nice=False, zero=False))
     tooltip = [
         alt.Tooltip("name:N", title="Theme"),
         alt.Tooltip("coverage:Q", title="Leads (share of transcripts)", format=".1%"),
+        alt.Tooltip("fact:N", title="Trend"),
+        alt.Tooltip("tooltip_status:N", title="Name"),
         alt.Tooltip("theme_id:Q", title="Theme id", format="d"),
-        alt.Tooltip("status:N", title="Shown or hidden"),
     ]
-    base = alt.Chart(inline(df, "theme_map_chart"))
-    circles = (
-        base.mark_circle(strokeWidth=1.2)
-        .encode(
-            x=x,
-            y=y,
-            size=alt.Size(
-                "coverage:Q",
-                scale=alt.Scale(domain=[0.0, max_cov], range=[0.0, _MAP_MAX_AREA], zero=True),
-                legend=alt.Legend(
-                    title="Share of transcripts it leads",
-                    format=".0%",
-                    orient="bottom",
-                    direction="horizontal",
-                    symbolFillColor=SKY_BLUE,
-                    symbolStrokeColor=BLUE,
-                    symbolOpacity=0.7,
-                ),
-            ),
-            fill=alt.when(theme, empty=False)
-            .then(alt.value(ORANGE))
-            .otherwise(alt.value(SKY_BLUE)),
-            stroke=alt.when(theme, empty=False).then(alt.value(BLACK)).otherwise(alt.value(BLUE)),
-            strokeWidth=alt.when(theme, empty=False).then(alt.value(2.5)).otherwise(alt.value(1)),
-            strokeDash=alt.when("datum.hidden").then(alt.value([3, 3])).otherwise(alt.value([])),
-            fillOpacity=alt.when("datum.hidden").then(alt.value(0.12)).otherwise(alt.value(0.6)),
-            tooltip=tooltip,
-            order=alt.Order("coverage:Q", sort="descending"),
+    base = alt.Chart(inline(_tile_columns(df), "theme_map_chart"))
+    px = {"scale": None, "axis": None}
+    layers: list[alt.Chart] = []
+    link_rows = _link_rows(df, links)
+    if not link_rows.empty:
+        layers.append(
+            alt.Chart(inline(link_rows, "theme_map_chart"))
+            .mark_rule(color=LINE_SOFT, strokeCap="round")
+            .encode(
+                x=alt.X("ax:Q", **px),
+                y=alt.Y("ay:Q", **px),
+                x2="bx:Q",
+                y2="by:Q",
+                strokeWidth=alt.StrokeWidth("weight:Q", scale=None),
+                tooltip=[
+                    alt.Tooltip("pair:N", title="Close themes"),
+                    alt.Tooltip("distance:Q", title="Jensen–Shannon distance", format=".3f"),
+                ],
+            )
         )
-        .add_params(theme)
+    tiles = base.mark_rect(cornerRadius=6).encode(
+        x=alt.X("x0:Q", **px),
+        x2="x1:Q",
+        y=alt.Y("y0:Q", **px),
+        y2="y1:Q",
+        fill=alt.Fill("fill:N", scale=None),
+        stroke=alt.when("datum.sel")
+        .then(alt.value(INK))
+        .otherwise(alt.Stroke("edge:N", scale=None)),
+        strokeWidth=alt.when("datum.sel").then(alt.value(3.0)).otherwise(alt.value(1.0)),
+        tooltip=tooltip,
     )
-    label_y = alt.Y(
-        "label_y:Q", axis=None, scale=alt.Scale(domain=[y0, y1], nice=False, zero=False)
-    )
-    label_x = alt.X(
-        "label_x:Q", axis=None, scale=alt.Scale(domain=[x0, x1], nice=False, zero=False)
-    )
-    label_layers = [
-        base.transform_filter(f"datum.show_label && datum.label_align == '{al}'")
-        .mark_text(baseline="top", align=al, fontSize=11, limit=_LABEL_MAX_PX, color=INK)
+    if interactive:
+        tiles = tiles.add_params(theme)
+    layers.append(tiles)
+    # hidden themes: a dashed outline drawn over their tile (rect marks take no dash
+    # encoding, only a fixed dash)
+    layers.append(
+        base.transform_filter("datum.hidden && !datum.sel")
+        .mark_rect(cornerRadius=6, filled=False, strokeDash=[4, 3], strokeWidth=1.2)
         .encode(
-            x=label_x,
-            y=label_y,
-            text="name:N",
-            opacity=alt.when("datum.hidden").then(alt.value(0.4)).otherwise(alt.value(1.0)),
+            x=alt.X("x0:Q", **px),
+            x2="x1:Q",
+            y=alt.Y("y0:Q", **px),
+            y2="y1:Q",
+            stroke=alt.value(INK_SOFT),
+        )
+    )
+    for line, y_field in (("line1", "ty1"), ("line2", "ty2")):
+        layers.append(
+            base.mark_text(
+                align="left",
+                baseline="top",
+                fontSize=_NAME_PX,
+                fontWeight=600,
+                limit=tile_w - 2 * _PAD,
+            ).encode(
+                x=alt.X("tx:Q", **px),
+                y=alt.Y(f"{y_field}:Q", **px),
+                text=f"{line}:N",
+                color=alt.Color("ink:N", scale=None),
+                tooltip=tooltip,
+            )
+        )
+    layers.append(
+        base.mark_rect(cornerRadius=2).encode(
+            x=alt.X("tx:Q", **px),
+            x2="bx1:Q",
+            y=alt.Y("by0:Q", **px),
+            y2="by1:Q",
+            fill=alt.Fill("bar:N", scale=None),
             tooltip=tooltip,
         )
-        for al in ("center", "left", "right")
-    ]
+    )
+    layers.append(
+        base.mark_text(align="left", baseline="top", fontSize=11, limit=tile_w - 2 * _PAD).encode(
+            x=alt.X("tx:Q", **px),
+            y=alt.Y("fy:Q", **px),
+            text="fact:N",
+            color=alt.Color("soft:N", scale=None),
+            tooltip=tooltip,
+        )
+    )
+    layers.append(
+        base.transform_filter("datum.note != ''")
+        .mark_text(align="right", baseline="bottom", fontSize=10.5, fontStyle="italic")
+        .encode(
+            x=alt.X("nx:Q", **px),
+            y=alt.Y("ny:Q", **px),
+            text="note:N",
+            color=alt.Color("note_ink:N", scale=None),
+        )
+    )
+    subtitle = (
+        "Near tiles use similar words; lines join close themes. Blue tiles are labelled, "
+        "grey ones carry a suggested name, dashed ones are hidden as noise; the bar and "
+        "number give the share of transcripts each theme leads (▲ rising, ▼ falling)."
+    )
+    if interactive:
+        subtitle += " Click a tile to select its theme."
     return alt.layer(
-        circles,
-        *label_layers,
-        width=width,
+        *layers,
+        width=map_width,
         height=height,
-        **look(
-            "Theme map",
-            "Close circles use similar words; larger circles lead more transcripts. "
-            "Click a theme to select it.",
-        ),
+        **look("Theme map", subtitle),
     )
 
 
-_LABEL_MAX_PX = 170.0
-_LABEL_CHAR_PX = 6.0  # average width of an 11 px sans-serif character
-_LABEL_HEIGHT_PX = 13.0
+def _fact(row: object) -> str:
+    cov = float(getattr(row, "coverage"))  # noqa: B009
+    trend = str(getattr(row, "trend"))  # noqa: B009
+    change = getattr(row, "change")  # noqa: B009
+    text = f"leads {cov:.1%}"
+    mark = TREND_MARKS.get(trend, "")
+    if mark and change is not None and np.isfinite(change):
+        text += f" {mark} {change:+.1f} pp"
+    return text
 
 
-def _place_labels(
-    x: np.ndarray,
-    y: np.ndarray,
-    radius_px: np.ndarray,
-    names: list[str],
-    coverage: np.ndarray,
-    per_px: float,
-) -> tuple[np.ndarray, np.ndarray, list[str], np.ndarray]:
-    """Greedy label placement so names do not print over each other.
-
-    Themes are taken from the largest coverage down; each label tries below its circle,
-    then above, right and left, and is left out (the tooltip and the table still name the
-    theme) when every spot overlaps a label already placed. Positions are in data units;
-    boxes are estimated in pixels from the name's length.
-    """
-    placed: list[tuple[float, float, float, float]] = []
-    n = len(names)
-    lx, ly = np.array(x, dtype=float), np.array(y, dtype=float)
-    align = ["center"] * n
-    show = np.zeros(n, dtype=bool)
-    for i in np.argsort(-coverage, kind="stable"):
-        w = min(_LABEL_MAX_PX, _LABEL_CHAR_PX * len(names[i]) + 4.0)
-        h = _LABEL_HEIGHT_PX
-        cx, cy, r = x[i] / per_px, -y[i] / per_px, radius_px[i] + 3.0  # pixel space, y down
-        spots = [
-            (cx, cy + r, "center", (cx - w / 2, cy + r, cx + w / 2, cy + r + h)),
-            (cx, cy - r - h, "center", (cx - w / 2, cy - r - h, cx + w / 2, cy - r)),
-            (cx + r, cy - h / 2, "left", (cx + r, cy - h / 2, cx + r + w, cy + h / 2)),
-            (cx - r, cy - h / 2, "right", (cx - r - w, cy - h / 2, cx - r, cy + h / 2)),
-        ]
-        for px, py, al, box in spots:
-            if all(
-                box[2] <= b[0] or box[0] >= b[2] or box[3] <= b[1] or box[1] >= b[3] for b in placed
-            ):
-                placed.append(box)
-                lx[i], ly[i], align[i], show[i] = px * per_px, -py * per_px, al, True
-                break
-    return lx, ly, align, show
+def _tile_columns(df: pd.DataFrame) -> pd.DataFrame:
+    out = df.copy()
+    out["nx"] = out["x1"] - _PAD
+    out["ny"] = out["y1"] - 4
+    keep = [c for c in out.columns if c not in ("x", "y")]
+    return out[keep]
 
 
-def _equal_aspect(
-    x: np.ndarray, y: np.ndarray, width: int, height: int, margin_px: float
-) -> tuple[tuple[float, float], tuple[float, float], float]:
-    """Domains giving x and y the same data units per pixel, with a pixel margin."""
-    span_x = float(x.max() - x.min()) if x.size else 0.0
-    span_y = float(y.max() - y.min()) if y.size else 0.0
-    usable_w = max(width - 2 * margin_px, 1.0)
-    usable_h = max(height - 2 * margin_px, 1.0)
-    per_px = max(span_x / usable_w, span_y / usable_h)
-    if per_px <= 0.0:
-        per_px = 1.0 / min(usable_w, usable_h)
-    cx = float(x.min() + x.max()) / 2.0 if x.size else 0.0
-    cy = float(y.min() + y.max()) / 2.0 if y.size else 0.0
-    half_w, half_h = width / 2.0 * per_px, height / 2.0 * per_px
-    return (cx - half_w, cx + half_w), (cy - half_h, cy + half_h), per_px
+def _link_rows(df: pd.DataFrame, links: pd.DataFrame | None) -> pd.DataFrame:
+    cols = ["ax", "ay", "bx", "by", "distance", "weight", "pair"]
+    if links is None or links.empty:
+        return pd.DataFrame(columns=cols)
+    require(links, ("theme_a", "theme_b", "distance"), "theme_map_chart", "links")
+    where = df.set_index("theme_id")
+    rows = []
+    d = links["distance"].astype(float)
+    lo, hi = float(d.min()), float(d.max())
+    for a, b, dist in zip(links["theme_a"], links["theme_b"], d, strict=True):
+        if int(a) not in where.index or int(b) not in where.index:
+            raise InputError(f"theme_map_chart: link {a}–{b} names a theme not on the map")
+        ta, tb = where.loc[int(a)], where.loc[int(b)]
+        closeness = 1.0 if hi == lo else (hi - dist) / (hi - lo)
+        rows.append(
+            {
+                "ax": ta["cx"],
+                "ay": ta["cy"],
+                "bx": tb["cx"],
+                "by": tb["cy"],
+                "distance": dist,
+                "weight": 1.5 + 2.5 * closeness,
+                "pair": f"{ta['name']} ↔ {tb['name']}",
+            }
+        )
+    return pd.DataFrame(rows, columns=cols)

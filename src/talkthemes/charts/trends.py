@@ -240,7 +240,9 @@ def segment_chart(seg: pd.DataFrame, *, field: str = "segment", width: int = 460
     )
 
 
-def movers_chart(movers: pd.DataFrame, *, width: int = 420) -> alt.LayerChart:
+def movers_chart(
+    movers: pd.DataFrame, *, width: int = 420, compared: str = "from the first period to the second"
+) -> alt.LayerChart:
     """The themes that rose or fell most between two periods, as a diverging ranked chart.
 
     Parameters
@@ -252,6 +254,9 @@ def movers_chart(movers: pd.DataFrame, *, width: int = 420) -> alt.LayerChart:
         percentage points).
     width : int
         Plot width in pixels; the height follows the number of themes.
+    compared : str
+        What is compared with what, for the subtitle (e.g. "from the 4 weeks before to
+        the week of 28 Sep 2026").
 
     Returns
     -------
@@ -334,9 +339,8 @@ def movers_chart(movers: pd.DataFrame, *, width: int = 420) -> alt.LayerChart:
         height=max(60, 26 * len(df)),
         **look(
             "Themes that rose or fell the most",
-            "Change in the share of transcripts each theme leads, from the first period to "
-            "the second; black lines are 95% bootstrap intervals, faint bars may be no change "
-            "at all.",
+            f"Change in the share of transcripts each theme leads, {compared}; black lines "
+            "are 95% bootstrap intervals, faint bars may be no change at all.",
         ),
     )
 

@@ -1,6 +1,8 @@
 """The refresh's alert step: what the alert judgements need from the store and the models,
 and three example sentences per alert.
 
+* :func:`alert_rules` — the thresholds: the ``[refresh] alert_*`` settings, each of which a
+  caller may override for one run (``Workspace.refresh(alerts=...)``);
 * :func:`previous_leads` — each transcript's lead theme under the previous version: read
   from its shares for the transcripts it was trained on, inferred with its saved model
   (:class:`talkthemes.assign.ShareModel`, on text prepared the version's way) for the others;
@@ -22,7 +24,8 @@ import numpy as np
 import scipy.sparse as sp
 
 from talkthemes.assign import ShareModel
-from talkthemes.errors import NotReadyError
+from talkthemes.config import RefreshSettings, settings_from_dict
+from talkthemes.errors import ConfigError, NotReadyError
 from talkthemes.prepare.frozen import PrepApplier, PrepSpec
 from talkthemes.prepare.scrub import scrub
 from talkthemes.store import Store
@@ -34,7 +37,9 @@ from talkthemes.versions.load import Version
 from talkthemes.workspace import Workspace
 
 __all__ = [
+    "ALERT_SETTINGS",
     "alert_examples",
+    "alert_rules",
     "alerts_of",
     "best_sentences",
     "not_a_theme_ids",
@@ -52,6 +57,44 @@ WIDTH = 240
 _SENTENCE_END = re.compile(r"(?<=[.!?])\s+")
 
 log = logging.getLogger(__name__)
+
+#: The names an alert setting goes by in ``alerts=`` overrides: its ``[refresh]`` name
+#: without the ``alert_`` prefix (``new_min_calls`` for ``alert_new_min_calls``).
+ALERT_SETTINGS = tuple(
+    name.removeprefix("alert_")
+    for name in RefreshSettings.model_fields
+    if name.startswith("alert_")
+)
+
+
+def alert_rules(
+    settings: RefreshSettings, overrides: Mapping[str, Any] | None = None
+) -> AlertRules:
+    """The alert thresholds of one run: ``[refresh] alert_*`` settings, with overrides.
+
+    Parameters
+    ----------
+    settings : RefreshSettings
+        The workspace's ``[refresh]`` settings.
+    overrides : mapping, optional
+        Setting name without its ``alert_`` prefix (:data:`ALERT_SETTINGS`) → value, for
+        this run only; each value is checked like the setting in ``talkthemes.toml``.
+
+    Raises
+    ------
+    ConfigError
+        An unknown name (the message lists the known ones) or a value not allowed.
+    """
+    if not overrides:
+        return AlertRules.from_settings(settings)
+    unknown = sorted(str(k) for k in overrides if k not in ALERT_SETTINGS)
+    if unknown:
+        raise ConfigError(
+            f"alert settings: unknown {', '.join(unknown)} (known: {', '.join(ALERT_SETTINGS)})"
+        )
+    merged = {**settings.model_dump(), **{f"alert_{k}": v for k, v in overrides.items()}}
+    checked = settings_from_dict({"refresh": merged}, source="alert settings")
+    return AlertRules.from_settings(checked.refresh)
 
 
 def previous_leads(
@@ -107,7 +150,7 @@ def term_counts(counts: Any, is_new: np.ndarray) -> tuple[np.ndarray, np.ndarray
 def not_a_theme_ids(store: Store, version: int) -> set[int]:
     """Theme ids of a version marked "not a theme" (today: hidden as noise with
     ``talkthemes label --hide``, kept per theme id, so carried themes keep it)."""
-    return {int(t["theme_id"]) for t in store.themes(version) if t["hidden"]}
+    return {t.theme_id for t in store.themes(version) if t.hidden}
 
 
 def split_sentences(text: str) -> list[str]:

@@ -47,7 +47,7 @@ from __future__ import annotations
 import logging
 import os
 import time
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -59,6 +59,7 @@ from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.frozen import PrepSpec, build_frozen_prep, load_prep_spec
 from talkthemes.prepare.run import run_prepare
 from talkthemes.progress import Progress, report
+from talkthemes.refresh.alert_step import alert_rules
 from talkthemes.refresh.calibration import calibration_fits
 from talkthemes.refresh.coherence import coherence_check
 from talkthemes.refresh.drift_step import DriftPng, drift_files, drift_of, theme_plan
@@ -232,6 +233,7 @@ def refresh(
     resweep: bool = False,
     alert_on_new: bool = False,
     alert_on_rise: bool = False,
+    alerts: Mapping[str, Any] | None = None,
     progress: Progress | None = None,
     drift_png: DriftPng | None = None,
 ) -> RefreshResult:
@@ -251,6 +253,11 @@ def refresh(
         evidence held; docs/methods_alerts.md).
     alert_on_rise : bool
         Make :attr:`RefreshResult.exit_code` 4 when a carried theme rose significantly.
+    alerts : mapping, optional
+        Alert thresholds for this run, overriding the ``[refresh] alert_*`` settings: each
+        named without its ``alert_`` prefix (``{"new_min_calls": 20}``;
+        :func:`talkthemes.refresh.alert_step.alert_rules`). The drift report records the
+        thresholds used.
     progress : Progress, optional
         ``progress(done, total, what)``.
     drift_png : callable, optional
@@ -265,8 +272,11 @@ def refresh(
     ------
     NotReadyError
         When no version is published yet.
+    ConfigError
+        An alert override with an unknown name or a value not allowed (nothing is done).
     """
     t0 = time.perf_counter()
+    rules = alert_rules(ws.settings().refresh, alerts)
 
     def step(i: int, what: str) -> None:
         log.info("refresh: %s", what)
@@ -295,8 +305,9 @@ def refresh(
     )
     try:
         _run(
-            ws, result, current, spec, paths, list(manifests), resweep, step, refresh_id, drift_png
-        )
+            ws, result, current, spec, paths, list(manifests), resweep, rules, step, refresh_id,
+            drift_png,
+        )  # fmt: skip
     except BaseException as exc:
         with ws.store() as store:
             store.finish_refresh(
@@ -315,6 +326,7 @@ def _run(
     paths: list[Path],
     manifests: list[Path],
     resweep: bool,
+    rules: AlertRules,
     step: Callable[[int, str], None],
     refresh_id: int,
     drift_png: DriftPng | None,
@@ -351,7 +363,7 @@ def _run(
     else:
         run_prepare(ws)
         prep, prep_folder = load_current_prep(ws)
-        prep_hash = prep["hash"]
+        prep_hash = prep.hash
     corpus = PreparedCorpus.load(prep_folder)
     counts = corpus.counts.tocsr()
     _checkpoint("prepared")
@@ -408,8 +420,7 @@ def _run(
     # 7. write
     step(6, "judging alerts, writing the version and its drift report")
     drift = drift_of(
-        ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus, spec,
-        AlertRules.from_settings(rs),
+        ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus, spec, rules
     )  # fmt: skip
     alerts = drift["alerts"]
     plan = theme_plan(drift)

@@ -11,7 +11,9 @@ from talkthemes.progress import report as tell
 from talkthemes.report import sections
 from talkthemes.report.page import Report, render_report
 from talkthemes.versions.load import load_version
+from talkthemes.view.counts import call_counts
 from talkthemes.view.metadata import load_metadata
+from talkthemes.view.over_time import theme_trends
 from talkthemes.view.readiness import readiness
 from talkthemes.view.theme_map import theme_layout
 from talkthemes.view.themes import theme_table
@@ -57,11 +59,11 @@ def build_report(
 
     tell(progress, 1, 5, "the sweep")
     body = [
-        sections.header(report, version, meta, table),
+        sections.header(report, version, meta, table, call_counts(ws, version)),
         sections.sweep_section(ws, version.info.get("sweep_id"), report),
     ]
     tell(progress, 2, 5, "the theme map")
-    body.append(sections.map_section(table, layout, report))
+    body.append(sections.map_section(table, layout, report, theme_trends(version, meta)))
     tell(progress, 3, 5, "the theme cards")
     body.append(
         sections.themes_section(

@@ -46,6 +46,7 @@ th{font-weight:500;color:#6b6b6b}
 .facts{display:flex;gap:28px;margin:6px 0 4px}
 .fact b{display:block;font-size:22px;font-weight:400}
 .fact span{color:#6b6b6b;font-size:12px}
+.suggest{color:#8a4500;background:#fff6e5;border-radius:6px;padding:6px 12px;font-size:13px}
 .note{background:#f3f5f7;border-radius:6px;padding:8px 12px;white-space:pre-wrap}
 .terms{font-size:13px;color:#6b6b6b}
 blockquote{margin:8px 0;padding:6px 12px;border-left:3px solid #56B4E9;background:#fafbfc}

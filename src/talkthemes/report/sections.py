@@ -24,10 +24,12 @@ from talkthemes.report.page import Report, chart_div
 from talkthemes.text import html_text, percent
 from talkthemes.versions.load import Version
 from talkthemes.view.calls import CallFilter, calls_table
-from talkthemes.view.choose_k import load_sweep, scalar_columns
+from talkthemes.view.choose_k import load_sweep, measure_text, scalar_columns
+from talkthemes.view.counts import CallCounts
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.over_time import trend_frame
-from talkthemes.view.theme_map import ThemeLayout
+from talkthemes.view.theme_map import ThemeLayout, theme_links
+from talkthemes.view.themes import boilerplate_advice, map_frame, term_rows
 from talkthemes.view.transcript import (
     TermHighlighter,
     excerpt,
@@ -48,9 +50,18 @@ __all__ = [
 
 log = logging.getLogger(__name__)
 
+MAP_WIDTH = 940  # the report's text column (984 px) less the chart's padding
 
-def header(report: Report, version: Version, meta: MetaTable, table: pd.DataFrame) -> str:
-    """Title, what the version is, how many themes are labelled, and the page's contents."""
+
+def header(
+    report: Report,
+    version: Version,
+    meta: MetaTable,
+    table: pd.DataFrame,
+    counts: CallCounts | None = None,
+) -> str:
+    """Title, what the version is, how many themes are labelled, how many transcripts were
+    left out and why, and the page's contents."""
     info = version.info
     family = str(info.get("family"))
     parts = [
@@ -66,6 +77,8 @@ def header(report: Report, version: Version, meta: MetaTable, table: pd.DataFram
         + (f", {int(table['hidden'].sum())} hidden as noise" if table["hidden"].any() else "")
         + ".</p>"
     )
+    if counts is not None:
+        parts.append(f'<p class="caption">{html_text(counts.sentence())}</p>')
     parts.append(
         '<nav><a href="#choose-k">Choosing K</a><a href="#map">Theme map</a>'
         '<a href="#themes">Themes</a><a href="#over-time">Over time</a></nav></header>'
@@ -108,14 +121,17 @@ def sweep_section(ws: Workspace, sweep_id: int | None, report: Report) -> str:
                 '<p class="weak">A weak recommendation: no K gave themes that come back '
                 "with other random seeds often enough.</p>"
             )
-        parts.append(f'<p class="caption">Rule: {html_text(rec.get("rule", ""))}</p><ul>')
-        parts.extend(f"<li>{html_text(r)}</li>" for r in rec.get("reasons", []))
+        parts.append(
+            f'<p class="caption">Rule: {html_text(measure_text(rec.get("rule", "")))}</p><ul>'
+        )
+        parts.extend(f"<li>{html_text(measure_text(r))}</li>" for r in rec.get("reasons", []))
         parts.append("</ul>")
         runners = rec.get("runners_up") or []
         if runners:
             parts.append("<table><tr><th>Runner-up K</th><th>Why not</th></tr>")
             parts.extend(
-                f"<tr><td>{int(r['k'])}</td><td>{html_text(r.get('why_not', ''))}</td></tr>"
+                f"<tr><td>{int(r['k'])}</td>"
+                f"<td>{html_text(measure_text(r.get('why_not', '')))}</td></tr>"
                 for r in runners
             )
             parts.append("</table>")
@@ -124,10 +140,16 @@ def sweep_section(ws: Workspace, sweep_id: int | None, report: Report) -> str:
     return "".join(parts)
 
 
-def map_section(table: pd.DataFrame, layout: ThemeLayout, report: Report) -> str:
+def map_section(
+    table: pd.DataFrame,
+    layout: ThemeLayout,
+    report: Report,
+    trends: pd.DataFrame | None = None,
+) -> str:
     """The theme map and its caption (the share of the differences the map keeps)."""
+    links, cutoff = theme_links(layout.distances, table["theme_id"].astype(int).tolist())
     report.charts["theme-map"] = theme_map_chart(
-        table[["theme_id", "x", "y", "coverage", "name", "hidden"]]
+        map_frame(table, trends), links, width=MAP_WIDTH, interactive=False
     )
     return (
         '<section id="map"><h2>Theme map</h2>'
@@ -135,7 +157,8 @@ def map_section(table: pd.DataFrame, layout: ThemeLayout, report: Report) -> str
             "theme-map",
             theme_map_caption(layout.explained)
             + " Closeness is the Jensen–Shannon distance between the themes' word "
-            "distributions; the axes have no unit.",
+            f"distributions; a line joins a theme to its closest themes under {cutoff:.3f} "
+            "apart. Rising and falling compare the last full period with the ones before.",
         )
         + "</section>"
     )
@@ -153,7 +176,7 @@ def _card(
     report: Report,
 ) -> str:
     pos, tid = int(row["position"]), int(row["theme_id"])
-    terms = version.term_table(pos, n=15, lam=lam)
+    terms = term_rows(version, pos, n=15, lam=lam)
     chart_id = f"theme-{tid}-terms"
     report.charts[chart_id] = term_chart(terms, str(row["name"]), width=520)
     coherence = (version.info.get("coherence") or {}).get("c_npmi")
@@ -175,6 +198,8 @@ def _card(
         )
         + "</div>",
     ]
+    if row.get("boilerplate_like") and not row["hidden"]:
+        parts.append(f'<p class="suggest">{html_text(boilerplate_advice(row))}</p>')
     if row["note"]:
         parts.append(f'<div class="note">{html_text(row["note"])}</div>')
     parts.append(
@@ -286,9 +311,20 @@ def trend_section(version: Version, meta: MetaTable, report: Report) -> str:
 
 
 def footer(version: Version) -> str:
-    """Which talkthemes made the report, when, and from which version and sweep cell."""
+    """Which talkthemes made the report, when, and from which version (and model)."""
+    info = version.info
+    model = [
+        str(FAMILY_NAMES.get(str(info.get("family")), info.get("family") or "")).strip(),
+        f"K = {version.k}",
+    ]
+    if info.get("seed") is not None:
+        model.append(f"seed {info['seed']}")
+    cell = str(info.get("cell") or "").strip()
+    if cell:
+        model.append(f"cell {cell}")
+    described = ", ".join(m for m in model if m)
     return (
         f"<footer>Made by talkthemes {html_text(__version__)} on "
         f"{dt.date.today():%d %B %Y} from version {version.n} "
-        f"(cell {html_text(version.info.get('cell', ''))}).</footer>"
+        f"({html_text(described)}).</footer>"
     )

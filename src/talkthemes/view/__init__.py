@@ -9,8 +9,10 @@ below (versions, trends, metrics) and the pages only arrange it. One module per 
 * :mod:`.theme_map` — where the map places each theme (classical MDS on Jensen–Shannon
   distances);
 * :mod:`.themes` — the theme table and the themes' names;
-* :mod:`.metadata` — the transcripts' metadata and each field's kind;
+* :mod:`.metadata` — the transcripts' metadata, each field's kind and readable name;
+* :mod:`.counts` — transcripts shown, stored, and left out by reason;
 * :mod:`.calls` — a theme's transcripts, filtered, and the list as CSV;
+* :mod:`.evidence` — each call's best sentence;
 * :mod:`.transcript` — terms highlighted in the original text, turns, HTML, excerpts;
 * :mod:`.over_time` — shares per period and per segment, and the movers;
 * :mod:`.history` — the versions' timeline and what each refresh changed.

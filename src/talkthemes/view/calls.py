@@ -10,12 +10,13 @@ import numpy as np
 import pandas as pd
 
 from talkthemes.errors import InputError
+from talkthemes.privacy import mask_value
 from talkthemes.text import csv_frame
 from talkthemes.versions.load import Version
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.themes import theme_names
 
-__all__ = ["CallFilter", "calls_csv", "calls_table"]
+__all__ = ["CSV_HEADERS", "CallFilter", "calls_csv", "calls_table"]
 
 
 @dataclass
@@ -87,7 +88,12 @@ def _field_mask(meta: MetaTable, flt: CallFilter) -> np.ndarray:
 
 
 def calls_table(
-    version: Version, meta: MetaTable, position: int, flt: CallFilter | None = None
+    version: Version,
+    meta: MetaTable,
+    position: int,
+    flt: CallFilter | None = None,
+    *,
+    masked: bool = True,
 ) -> pd.DataFrame:
     """The transcripts of a theme, most dominated first.
 
@@ -99,12 +105,16 @@ def calls_table(
     position : int
         The theme's row in the version.
     flt : CallFilter, optional
+    masked : bool
+        Mask personal data in free-text metadata fields (:func:`talkthemes.privacy.
+        mask_value`); pass False only where the workspace allows the original text.
 
     Returns
     -------
     DataFrame
         ``transcript_id, share`` (the theme's share, 0–1), ``lead_theme`` (name of the
-        transcript's lead theme), ``lead_share``, then one column per metadata field;
+        transcript's lead theme), ``lead_theme_id``, ``lead_share``, then one column per
+        metadata field;
         sorted by share (descending), then id.
     """
     flt = flt or CallFilter()
@@ -130,20 +140,41 @@ def calls_table(
             "transcript_id": np.asarray(version.doc_ids, dtype=object)[rows],
             "share": shares[rows],
             "lead_theme": names[lead[rows]],
+            "lead_theme_id": np.asarray(version.theme_ids, dtype=np.int64)[lead[rows]],
             "lead_share": np.asarray(version.lead_share(), dtype=np.float64)[rows],
         }
     )
     extra = meta.frame.iloc[rows].reset_index(drop=True)
+    if masked:
+        for name, info in meta.fields.items():
+            if info.kind == "text" and name in extra:
+                extra[name] = extra[name].map(lambda v: None if v is None else mask_value(str(v)))
     return pd.concat([out, extra], axis=1)
 
 
-def calls_csv(frame: pd.DataFrame) -> bytes:
+#: The Calls list's own columns, as the CSV names them.
+CSV_HEADERS = {
+    "transcript_id": "Transcript",
+    "best_sentence": "Best sentence",
+    "share": "Share of this theme",
+    "lead_theme": "Lead theme",
+    "lead_theme_id": "Lead theme id",
+    "lead_share": "Lead share",
+}
+
+
+def calls_csv(frame: pd.DataFrame, meta: MetaTable | None = None) -> bytes:
     """The calls list as UTF-8 CSV, safe to open in a spreadsheet.
 
-    Text cells and column names that a spreadsheet would run as a formula (starting with
-    ``=``, ``+``, ``-``, ``@``, tab or carriage return) get a leading apostrophe
-    (:func:`talkthemes.text.csv_frame`); numbers are unchanged.
+    Columns are named as on screen (:data:`CSV_HEADERS`, and each metadata field's label
+    when ``meta`` is given, e.g. "Duration (min)" for ``duration_s``, whose values are
+    minutes). Text cells and column names that a spreadsheet would run as a formula
+    (starting with ``=``, ``+``, ``-``, ``@``, tab or carriage return) get a leading
+    apostrophe (:func:`talkthemes.text.csv_frame`); numbers are unchanged.
     """
+    names = dict(CSV_HEADERS)
+    if meta is not None:
+        names.update({f: info.label for f, info in meta.fields.items() if f not in names})
     buf = io.StringIO()
-    csv_frame(frame).to_csv(buf, index=False)
+    csv_frame(frame.rename(columns=names)).to_csv(buf, index=False)
     return buf.getvalue().encode("utf-8")

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -17,13 +18,57 @@ from talkthemes.versions.publish import pick_cell
 from talkthemes.workspace import Workspace
 
 __all__ = [
+    "MEASURE_NAMES",
     "CellThemes",
     "SweepView",
     "cell_themes",
     "load_prep_vocabulary",
     "load_sweep",
+    "measure_name",
+    "measure_text",
+    "pick_for",
     "scalar_columns",
 ]
+
+
+#: How each measure is written on screen (the names used in the literature).
+MEASURE_NAMES: dict[str, str] = {
+    "c_npmi": "C_NPMI",
+    "c_v": "C_V",
+    "c_uci": "C_UCI",
+    "u_mass": "U_Mass",
+    "diversity": "diversity",
+    "stability": "stability",
+    "perplexity": "held-out perplexity",
+    "reconstruction_error": "reconstruction error",
+}
+
+
+def measure_name(key: str) -> str:
+    """A measure's key (``c_npmi``) as users read it (``C_NPMI``)."""
+    return MEASURE_NAMES.get(str(key).strip().lower(), str(key))
+
+
+_MEASURE_KEYS = re.compile(r"\b(" + "|".join(k for k in MEASURE_NAMES if "_" in k) + r")\b")
+
+
+def measure_text(text: str) -> str:
+    """``text`` with measure keys (``c_npmi``) written as users read them (``C_NPMI``)."""
+    return _MEASURE_KEYS.sub(lambda m: MEASURE_NAMES[m.group(1)], str(text))
+
+
+def pick_for(sweep: SweepView, family: str | None, k: int | None) -> tuple[str, int]:
+    """The (family, K) Choose K opens on: the given one when the sweep has it.
+
+    Pass the current version's family and K: Choose K then opens on the model in use;
+    a family the sweep lacks falls back to a recommended family, a K it lacks to that
+    family's recommended K.
+    """
+    if family not in sweep.families:
+        family = next((f for f in sweep.families if f in sweep.recommended), sweep.families[0])
+    if k not in sweep.ks(family):
+        k = sweep.recommended.get(family, sweep.ks(family)[0])
+    return str(family), int(k)  # type: ignore[arg-type]
 
 
 @dataclass
@@ -83,10 +128,10 @@ def load_sweep(ws: Workspace, sweep_id: int | None = None) -> SweepView:
         record = store.get_sweep(sweep_id)
         if record is None:
             raise NotReadyError("no sweep yet: run 'talkthemes sweep' first")
-        raw = pd.DataFrame(store.cells(int(record["id"])))
+        raw = pd.DataFrame([c.row() for c in store.cells(record.id)])
     if raw.empty:
-        raise NotReadyError(f"sweep {record['id']} has no finished cell yet")
-    folder = ws.sweeps_dir / str(record["id"])
+        raise NotReadyError(f"sweep {record.id} has no finished cell yet")
+    folder = ws.sweeps_dir / str(record.id)
     path = folder / "cells.parquet"
     if path.exists():
         scored = pd.read_parquet(path)
@@ -95,13 +140,13 @@ def load_sweep(ws: Workspace, sweep_id: int | None = None) -> SweepView:
         cells = raw
     cells = cells.sort_values(["family", "k", "seed"]).reset_index(drop=True)
     return SweepView(
-        sweep_id=int(record["id"]),
-        prep_hash=str(record["prep_hash"]),
+        sweep_id=record.id,
+        prep_hash=record.prep_hash,
         folder=folder,
         cells=cells,
-        recommendations=dict(record.get("recommendations") or {}),
+        recommendations=dict(record.recommendations or {}),
         scored=path.exists(),
-        created_at=str(record.get("created_at", "")),
+        created_at=record.created_at,
     )
 
 

@@ -2,7 +2,7 @@
 
 Inputs are what the store and a version's ``drift.json`` hold
 (:meth:`talkthemes.store.Store.versions`, :meth:`~talkthemes.store.Store.themes`,
-:meth:`~talkthemes.store.Store.retired_themes`, :func:`talkthemes.versions.drift.drift_report`);
+:meth:`~talkthemes.store.Store.retired_themes`, :func:`talkthemes.drift.drift_report`);
 outputs are plain frames and dataclasses the page shows (the timeline is drawn by
 :func:`talkthemes.charts.timeline_chart`). Only :func:`load_drift` reads a file. Theme names
 are the labels as they are now, or three top terms, so a label edited after a refresh shows
@@ -19,6 +19,8 @@ from typing import Any
 import pandas as pd
 
 from talkthemes.errors import InputError
+from talkthemes.privacy import mask_text
+from talkthemes.store.records import RetiredTheme, ThemeRecord, VersionRecord
 from talkthemes.versions.naming import theme_name
 from talkthemes.workspace import Workspace
 
@@ -48,15 +50,13 @@ TIMELINE_COLUMNS = [
 ]
 
 
-def versions_timeline(versions: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
+def versions_timeline(versions: Sequence[VersionRecord]) -> pd.DataFrame:
     """One row per version, oldest first, for the timeline.
 
     Parameters
     ----------
-    versions : sequence of mapping
-        As :meth:`talkthemes.store.Store.versions` returns them (``n``, ``created_at``,
-        ``current`` and the version's info, with a ``refresh`` block when a refresh made
-        it).
+    versions : sequence of VersionRecord
+        As :meth:`talkthemes.store.Store.versions` returns them.
 
     Returns
     -------
@@ -72,26 +72,25 @@ def versions_timeline(versions: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
     """
     rows = []
     for v in versions:
-        refresh = v.get("refresh") or {}
+        refresh = v.refresh
         try:
-            created = pd.Timestamp(str(v["created_at"]))
-        except (KeyError, ValueError) as exc:
+            created = pd.Timestamp(v.created_at)
+        except ValueError as exc:
             raise InputError(
-                f"version {v.get('n')!r}: created_at {v.get('created_at')!r} is not an ISO "
-                "date-time"
+                f"version {v.n!r}: created_at {v.created_at!r} is not an ISO date-time"
             ) from exc
         if created.tzinfo is not None:
             created = created.tz_convert(None)
         rows.append(
             {
-                "n": int(v["n"]),
+                "n": v.n,
                 "created_at": created,
-                "current": bool(v.get("current", False)),
-                "kind": "refresh" if refresh else "publish",
-                "family": str(v.get("family", "")).upper(),
-                "k": int(v["k"]) if v.get("k") is not None else pd.NA,
-                "previous_version": refresh.get("previous_version", pd.NA),
-                "new_transcripts": refresh.get("new_transcripts", pd.NA),
+                "current": v.current,
+                "kind": "publish" if refresh is None else "refresh",
+                "family": (v.family or "").upper(),
+                "k": pd.NA if v.k is None else v.k,
+                "previous_version": _or_na(None if refresh is None else refresh.previous_version),
+                "new_transcripts": _or_na(None if refresh is None else refresh.new_transcripts),
             }
         )
     frame = pd.DataFrame(rows, columns=TIMELINE_COLUMNS)
@@ -147,8 +146,15 @@ class VersionChanges:
         return [t for t in [*self.carried, *self.new] if t.flags]
 
 
-def _alert_note(info: Mapping[str, Any]) -> str:
-    """What the refresh's alerts said of a theme, in words ("" when nothing)."""
+def _or_na(value: Any) -> Any:
+    return pd.NA if value is None else value
+
+
+def _alert_note(theme: ThemeRecord) -> str:
+    """What the refresh's alerts said of a theme, in words ("" when nothing): read from
+    the keys the refresh recorded in the theme's document (``verdict``, ``split_of``,
+    ``alert``, ``change``), which have no record field of their own."""
+    info = theme.info
     verdict = info.get("verdict")
     if verdict == "new":
         return "alerted as new"
@@ -161,17 +167,17 @@ def _alert_note(info: Mapping[str, Any]) -> str:
     return ""
 
 
-def _flags(info: Mapping[str, Any]) -> list[str]:
+def _flags(theme: ThemeRecord) -> list[str]:
     out = []
-    if info.get("possible_split_of"):
+    if theme.possible_split_of:
         out.append(
             "possibly split from previous theme "
-            + ", ".join(f"#{int(i)}" for i in info["possible_split_of"])
+            + ", ".join(f"#{i}" for i in theme.possible_split_of)
         )
-    if info.get("possible_merge_of"):
+    if theme.possible_merge_of:
         out.append(
             "possibly a merge of previous themes "
-            + ", ".join(f"#{int(i)}" for i in info["possible_merge_of"])
+            + ", ".join(f"#{i}" for i in theme.possible_merge_of)
         )
     return out
 
@@ -183,24 +189,21 @@ def _name(label: str, terms: Sequence[str] | None, theme_id: int) -> str:
 
 
 def version_changes(
-    themes: Sequence[Mapping[str, Any]],
-    retired: Sequence[Mapping[str, Any]],
+    themes: Sequence[ThemeRecord],
+    retired: Sequence[RetiredTheme],
     top_terms: Mapping[int, Sequence[str]],
 ) -> VersionChanges:
     """Split a version's themes into carried, new and retired, with names and details.
 
     Parameters
     ----------
-    themes : sequence of mapping
-        :meth:`talkthemes.store.Store.themes` of the version (``theme_id``, ``status``,
-        ``label``, ``info`` with ``distance``, ``nearest_previous``,
-        ``possible_split_of``, ``possible_merge_of``).
-    retired : sequence of mapping
-        :meth:`talkthemes.store.Store.retired_themes` of the version (``theme_id``,
-        ``label``, ``info`` with ``top_terms``, ``coverage_before``, ``nearest_new``).
+    themes : sequence of ThemeRecord
+        :meth:`talkthemes.store.Store.themes` of the version.
+    retired : sequence of RetiredTheme
+        :meth:`talkthemes.store.Store.retired_themes` of the version.
     top_terms : mapping of int to sequence of str
         Theme id → top terms, most probable first (from the drift report or the
-        version); a retired theme's own ``info["top_terms"]`` is used when missing here.
+        version); a retired theme's own recorded top terms are used when missing here.
 
     Returns
     -------
@@ -209,41 +212,37 @@ def version_changes(
     """
     carried, new, gone = [], [], []
     for t in themes:
-        tid = int(t["theme_id"])
-        info = t.get("info") or {}
-        name = _name(t.get("label", ""), top_terms.get(tid), tid)
-        if t["status"] == "carried":
-            dist = info.get("distance")
+        tid = t.theme_id
+        name = _name(t.label, top_terms.get(tid), tid)
+        if t.status == "carried":
+            dist = t.distance
             detail = (
-                f"kept its id; its words moved by {float(dist):.3f} (Jensen–Shannon distance)"
+                f"kept its id; its words moved by {dist:.3f} (Jensen–Shannon distance)"
                 if dist is not None
                 else "kept its id"
             )
-            carried.append(
-                ThemeChange(tid, name, "carried", detail, _flags(info), _alert_note(info))
-            )
-        elif t["status"] == "new":
-            near = info.get("nearest_previous")
+            carried.append(ThemeChange(tid, name, "carried", detail, _flags(t), _alert_note(t)))
+        elif t.status == "new":
+            near = t.nearest_previous
             detail = (
-                f"closest previous theme #{int(near['theme_id'])} "
-                f"({near.get('name', '')}) at distance {float(near['distance']):.3f}"
-                if near
+                f"closest previous theme #{near.theme_id} ({near.name}) at distance "
+                f"{near.distance:.3f}"
+                if near is not None
                 else "no previous version to compare with"
             )
-            new.append(ThemeChange(tid, name, "new", detail, _flags(info), _alert_note(info)))
+            new.append(ThemeChange(tid, name, "new", detail, _flags(t), _alert_note(t)))
         else:
-            raise InputError(f"theme {tid}: status {t['status']!r} is not 'carried' or 'new'")
+            raise InputError(f"theme {tid}: status {t.status!r} is not 'carried' or 'new'")
     for r in retired:
-        tid = int(r["theme_id"])
-        info = r.get("info") or {}
-        terms = top_terms.get(tid) or info.get("top_terms")
-        near = info.get("nearest_new")
+        tid = r.theme_id
+        terms = top_terms.get(tid) or r.top_terms
+        near = r.nearest_new
         detail = (
-            f"closest new theme #{int(near['theme_id'])} at distance {float(near['distance']):.3f}"
-            if near
+            f"closest new theme #{near.theme_id} at distance {near.distance:.3f}"
+            if near is not None
             else "no close theme in this version"
         )
-        gone.append(ThemeChange(tid, _name(r.get("label", ""), terms, tid), "retired", detail))
+        gone.append(ThemeChange(tid, _name(r.label, terms, tid), "retired", detail))
 
     def order(items: list[ThemeChange]) -> list[ThemeChange]:
         return sorted(items, key=lambda c: c.theme_id)
@@ -262,23 +261,26 @@ def report_top_terms(report: Mapping[str, Any] | None) -> dict[int, list[str]]:
 
 
 def new_theme_examples(
-    report: Mapping[str, Any], labels: Mapping[int, str] | None = None
+    report: Mapping[str, Any], labels: Mapping[int, str] | None = None, *, masked: bool = True
 ) -> pd.DataFrame:
     """The new transcripts that best show each new theme, from a drift report.
 
     Parameters
     ----------
     report : mapping
-        A drift report (:func:`talkthemes.versions.drift.drift_report`).
+        A drift report (:func:`talkthemes.drift.drift_report`).
     labels : mapping of int to str, optional
         Current labels by theme id (the report's names are those at refresh time).
+    masked : bool
+        Mask personal data in the excerpts (:func:`talkthemes.privacy.mask_text`); pass
+        False only where the workspace allows the original text.
 
     Returns
     -------
     DataFrame
         ``theme_id, theme, transcript_id, share, excerpt``: one row per example, new
-        themes in id order, examples by decreasing share. Text is returned as is (the
-        page escapes it).
+        themes in id order, examples by decreasing share. Text is not escaped (the page
+        escapes it).
     """
     labels = labels or {}
     rows = []
@@ -294,7 +296,9 @@ def new_theme_examples(
                     "theme": name,
                     "transcript_id": str(e["transcript_id"]),
                     "share": float(e["share"]),
-                    "excerpt": str(e.get("excerpt", "")),
+                    "excerpt": mask_text(str(e.get("excerpt", "")))
+                    if masked
+                    else str(e.get("excerpt", "")),
                 }
             )
     return pd.DataFrame(rows, columns=["theme_id", "theme", "transcript_id", "share", "excerpt"])
@@ -360,7 +364,12 @@ def _share(x: Any) -> str:
 
 
 def _card(
-    kind: str, t: Mapping[str, Any], name: str, evidence: list[tuple[bool, str]]
+    kind: str,
+    t: Mapping[str, Any],
+    name: str,
+    evidence: list[tuple[bool, str]],
+    *,
+    masked: bool,
 ) -> AlertCard:
     g = t.get("growth") or {}
     enough = min(int(g.get("calls_new", 0)), int(g.get("calls_earlier", 0))) >= 5
@@ -383,12 +392,21 @@ def _card(
         ),
         top_terms=list(t.get("top_terms") or []),
         evidence=evidence,
-        examples=[(str(e["transcript_id"]), str(e["sentence"])) for e in t.get("examples") or []],
+        examples=[
+            (
+                str(e["transcript_id"]),
+                mask_text(str(e["sentence"])) if masked else str(e["sentence"]),
+            )
+            for e in t.get("examples") or []
+        ],
     )
 
 
 def alert_cards(
-    report: Mapping[str, Any] | None, labels: Mapping[int, str] | None = None
+    report: Mapping[str, Any] | None,
+    labels: Mapping[int, str] | None = None,
+    *,
+    masked: bool = True,
 ) -> list[AlertCard]:
     """The alerts of a drift report, each explained: new themes alerted, then risers, then
     fallers (empty for a report written before alerts existed).
@@ -399,6 +417,10 @@ def alert_cards(
         A drift report with an ``alerts`` block (:func:`talkthemes.versions.alerts.with_alerts`).
     labels : mapping of int to str, optional
         Current labels by theme id.
+    masked : bool
+        Mask personal data in the example sentences (:func:`talkthemes.privacy.mask_text`;
+        they were scrubbed when the refresh wrote them, this also masks names and
+        addresses); pass False only where the workspace allows the original text.
     """
     block = (report or {}).get("alerts")
     if not block:
@@ -410,7 +432,7 @@ def alert_cards(
             tid = int(t["theme_id"])
             evidence = [(bool(e["held"]), str(e["text"])) for e in t.get("evidence", [])]
             name = _name(labels.get(tid, ""), t.get("top_terms"), tid)
-            cards.append(_card("new", t, name, evidence))
+            cards.append(_card("new", t, name, evidence, masked=masked))
     rules = block.get("rules") or {}
     by_id = {int(t["theme_id"]): t for t in block.get("changes", [])}
     for kind, ids in (("riser", block.get("rise", [])), ("faller", block.get("fall", []))):
@@ -430,5 +452,5 @@ def alert_cards(
                     (True, "counted with its split themes " + ", ".join(map(str, t["includes"])))
                 )
             name = _name(labels.get(int(tid), ""), t.get("top_terms"), int(tid))
-            cards.append(_card(kind, t, name, evidence))
+            cards.append(_card(kind, t, name, evidence, masked=masked))
     return cards

@@ -6,6 +6,7 @@ or free text; the Calls filters and the segment comparison offer what suits each
 
 from __future__ import annotations
 
+import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
@@ -15,10 +16,52 @@ import pandas as pd
 
 from talkthemes.workspace import Workspace
 
-__all__ = ["MAX_CATEGORIES", "FieldInfo", "MetaTable", "load_metadata", "metadata_table"]
+__all__ = [
+    "MAX_CATEGORIES",
+    "FieldInfo",
+    "MetaTable",
+    "field_label",
+    "load_metadata",
+    "metadata_table",
+    "seconds_field",
+]
 
 #: Most distinct values a text field may have to be offered as a pick list / segment.
 MAX_CATEGORIES = 30
+
+
+_SECONDS = re.compile(r"^(?P<base>.+?)[ _-]?(?:s|sec|secs|seconds)$", re.IGNORECASE)
+_MINUTES = re.compile(r"^(?P<base>.+?)[ _-]?(?:min|mins|minutes)$", re.IGNORECASE)
+_WORDS = re.compile(r"[ _\-]+")
+
+
+def seconds_field(name: str) -> bool:
+    """Whether a field's name says its numbers are seconds (``duration_s``, ``hold_secs``)."""
+    return _SECONDS.match(name) is not None and "_" in name.rstrip("_")
+
+
+def field_label(name: str) -> str:
+    """How a metadata field is named on screen.
+
+    Underscores and dashes become spaces and the first letter is capitalised; a field of
+    seconds (:func:`seconds_field`) is shown in minutes, so ``duration_s`` reads
+    "Duration (min)" (its values are converted by :func:`metadata_table`), and
+    ``wait_min`` reads "Wait (min)".
+
+    Examples
+    --------
+    >>> field_label("duration_s"), field_label("queue"), field_label("call_reason")
+    ('Duration (min)', 'Queue', 'Call reason')
+    """
+    text = str(name).strip()
+    unit = ""
+    for pattern in (_SECONDS, _MINUTES):
+        m = pattern.match(text)
+        if m is not None and (pattern is _MINUTES or seconds_field(text)):
+            text, unit = m.group("base"), " (min)"
+            break
+    words = _WORDS.sub(" ", text).strip() or str(name)
+    return words[:1].upper() + words[1:] + unit
 
 
 @dataclass(frozen=True)
@@ -27,7 +70,8 @@ class FieldInfo:
 
     ``kind`` is ``"date"``, ``"number"``, ``"category"`` (at most :data:`MAX_CATEGORIES`
     distinct values) or ``"text"``. ``values`` lists the categories (most frequent
-    first); ``lo``/``hi`` bound numbers and dates.
+    first); ``lo``/``hi`` bound numbers and dates (in the shown unit: minutes for a field
+    of seconds). ``label`` is the name shown on screen (:func:`field_label`).
     """
 
     name: str
@@ -36,6 +80,11 @@ class FieldInfo:
     lo: Any = None
     hi: Any = None
     missing: int = 0
+    label: str = ""
+
+    def __post_init__(self) -> None:
+        if not self.label:
+            object.__setattr__(self, "label", field_label(self.name))
 
 
 @dataclass(eq=False)
@@ -63,7 +112,11 @@ class MetaTable:
 
 
 def metadata_table(doc_ids: Sequence[str], metadata: Mapping[str, Mapping[str, str]]) -> MetaTable:
-    """Build a :class:`MetaTable` from ``{transcript id: {field: value}}``."""
+    """Build a :class:`MetaTable` from ``{transcript id: {field: value}}``.
+
+    A number field of seconds (:func:`seconds_field`, e.g. ``duration_s``) is converted to
+    minutes (one decimal in ``frame``), matching its label "Duration (min)".
+    """
     frame = pd.DataFrame.from_dict(dict(metadata), orient="index")
     frame = frame.reindex(list(doc_ids)).reset_index(drop=True)
     frame = frame.reindex(sorted(frame.columns), axis=1).astype(object)
@@ -80,6 +133,9 @@ def metadata_table(doc_ids: Sequence[str], metadata: Mapping[str, Mapping[str, s
         as_num = pd.to_numeric(present, errors="coerce")
         if as_num.notna().all():
             values = pd.to_numeric(col, errors="coerce").to_numpy(dtype=np.float64)
+            if seconds_field(name):
+                values = values / 60.0
+                frame[name] = [None if np.isnan(v) else f"{v:.1f}" for v in values]
             numbers[name] = values
             fields[name] = FieldInfo(
                 name,

@@ -41,18 +41,23 @@ import numpy as np
 
 from talkthemes.errors import InputError, TalkthemesError
 from talkthemes.prepare.lexicon import load_lemma_table
+from talkthemes.privacy import html_pieces, masker_for, plain
 from talkthemes.text import html_text
 from talkthemes.versions.load import Version
 from talkthemes.workspace import Workspace
 
 __all__ = [
+    "ROLE_NAMES",
     "Segment",
     "TermHighlighter",
     "TurnView",
     "excerpt",
     "lemma_table",
     "load_transcript",
+    "original_allowed",
+    "role_name",
     "segments_html",
+    "segments_text",
     "transcript_html",
     "turn_views",
     "version_lang",
@@ -63,6 +68,15 @@ log = logging.getLogger(__name__)
 
 Segment = tuple[str, bool]
 """A piece of original text and whether it is highlighted."""
+
+#: How each role is written on every screen, whatever the transcript's own speaker labels
+#: were ("AGENT", "agent 2", a person's name): one spelling, and no name on screen.
+ROLE_NAMES: dict[str, str] = {"agent": "Agent", "customer": "Customer", "unknown": "Speaker"}
+
+
+def role_name(role: str) -> str:
+    """The name a turn's speaker is shown by: its role (``"Agent"``, ``"Customer"``)."""
+    return ROLE_NAMES.get(str(role).strip().lower(), ROLE_NAMES["unknown"])
 
 
 # --------------------------------------------------------------------------- lemmas
@@ -77,7 +91,7 @@ def lemma_table(lang: str) -> dict[str, str]:
     """The lookup lemma table the prepare step uses for ``lang`` (word as written → lemma).
 
     This is the one place the viewer and the report ask the prepare step for its lemmas
-    (spaCy's lookup table, :func:`talkthemes.prepare.lexicon.load_lemma_table`). The table
+    (spaCy's lookup table, :func:`talkthemes.prepare.lemmas.load_lemma_table`). The table
     is read once per process and shared; do not change it.
 
     Returns
@@ -262,16 +276,42 @@ class TurnView:
         return sum(1 for _, h in self.segments if h)
 
 
-def turn_views(turns: Iterable[Any], highlighter: TermHighlighter) -> list[TurnView]:
-    """Cut stored turns (:class:`talkthemes.store.StoredTurn`) into highlighted segments."""
+def turn_views(
+    turns: Iterable[Any], highlighter: TermHighlighter, *, masked: bool = True
+) -> list[TurnView]:
+    """Cut stored turns (:class:`talkthemes.store.StoredTurn`) into highlighted segments.
+
+    With ``masked`` (the default) personal data is masked first
+    (:func:`talkthemes.privacy.masker_for`, which learns the names in the speaker labels
+    and turns of the transcript): the segments then hold placeholders, which
+    :func:`segments_html` and :func:`segments_text` show as "[name]", "[e-mail]"…
+    """
+    turns = list(turns)
+    masker = masker_for(turns) if masked else None
     return [
-        TurnView(int(t.seq), str(t.speaker), str(t.role), t.start, highlighter.segments(t.text))
+        TurnView(
+            int(t.seq),
+            str(t.speaker),
+            str(t.role),
+            t.start,
+            highlighter.segments(masker.mask(t.text) if masker is not None else t.text),
+        )
         for t in turns
     ]
 
 
-def load_transcript(ws: Workspace, tid: str, highlighter: TermHighlighter) -> list[TurnView]:
+def original_allowed(ws: Workspace) -> bool:
+    """Whether the workspace allows the original text (``[view] original_text``)."""
+    return bool(ws.settings().view.original_text)
+
+
+def load_transcript(
+    ws: Workspace, tid: str, highlighter: TermHighlighter, *, masked: bool | None = None
+) -> list[TurnView]:
     """A stored transcript's turns with the highlighter's terms marked.
+
+    Personal data is masked unless ``masked`` is False or, when it is None (the
+    default), the workspace allows the original text (:func:`original_allowed`).
 
     Raises
     ------
@@ -282,20 +322,40 @@ def load_transcript(ws: Workspace, tid: str, highlighter: TermHighlighter) -> li
         turns = store.get_turns(tid)
     if not turns:
         raise InputError(f"there is no transcript {tid!r} in the workspace")
-    return turn_views(turns, highlighter)
+    if masked is None:
+        masked = not original_allowed(ws)
+    return turn_views(turns, highlighter, masked=masked)
+
+
+def _piece_html(text: str) -> str:
+    return "".join(
+        html_text(piece)
+        if kind is None
+        else f'<span class="tt-masked" title="masked: {html_text(piece)}" '
+        f'style="{_MASKED_STYLE}">{html_text(piece)}</span>'
+        for piece, kind in html_pieces(text)
+    )
+
+
+_MASKED_STYLE = "background:#ececec;color:#4a4a4a;border-radius:3px;padding:0 3px;font-size:0.85em"
 
 
 def segments_html(segments: Iterable[Segment], *, mark_class: str = "tt-hit") -> str:
     """HTML for segments, built only from :func:`talkthemes.text.html_text`-escaped pieces.
 
-    Highlighted pieces are wrapped in ``<mark class="...">``; nothing of the text is ever
-    interpreted as markup.
+    Highlighted pieces are wrapped in ``<mark class="...">``; masked personal data shows
+    as a grey "name", "e-mail"… tag; nothing of the text is ever interpreted as markup.
     """
     cls = html_text(mark_class)
     return "".join(
-        f'<mark class="{cls}">{html_text(text)}</mark>' if hit else html_text(text)
+        f'<mark class="{cls}">{_piece_html(text)}</mark>' if hit else _piece_html(text)
         for text, hit in segments
     )
+
+
+def segments_text(segments: Iterable[Segment]) -> str:
+    """Segments as plain text, masked data written as "[name]", "[e-mail]"…"""
+    return plain("".join(text for text, _ in segments))
 
 
 def _clock(seconds: float | None) -> str:
@@ -326,7 +386,7 @@ def transcript_html(turns: Sequence[TurnView]) -> str:
         parts.append(
             '<div class="tt-turn" style="margin:0 0 0.6rem 0">'
             f'<span class="tt-speaker" style="font-weight:600;color:{colour}">'
-            f"{html_text(t.speaker or t.role)}</span>"
+            f"{html_text(role_name(t.role))}</span>"
             + (
                 f' <span style="color:#6b6b6b;font-size:0.8rem">{html_text(when)}</span>'
                 if when
@@ -344,6 +404,7 @@ def excerpt(turns: Sequence[TurnView], *, max_chars: int = 280) -> tuple[str, li
     Returns
     -------
     speaker : str
+        The turn's role name (:func:`role_name`).
     segments : list of Segment
         At most about ``max_chars`` characters, with "…" where text was cut.
     """
@@ -352,7 +413,7 @@ def excerpt(turns: Sequence[TurnView], *, max_chars: int = 280) -> tuple[str, li
     best = max(turns, key=lambda t: (t.hits, -t.seq))
     text = "".join(s for s, _ in best.segments)
     if len(text) <= max_chars:
-        return best.speaker or best.role, list(best.segments)
+        return role_name(best.role), list(best.segments)
     first = 0
     pos = 0
     for s, hit in best.segments:
@@ -377,4 +438,4 @@ def excerpt(turns: Sequence[TurnView], *, max_chars: int = 280) -> tuple[str, li
         pos += len(s)
     if end < len(text):
         out.append((" …", False))
-    return best.speaker or best.role, out
+    return role_name(best.role), out
