@@ -4,10 +4,12 @@ from __future__ import annotations
 
 import dataclasses
 
+import numpy as np
 import pandas as pd
 import pytest
-from tests.view.data import SHARES
+from tests.view.data import SHARES, make_version
 
+from talkthemes.charts.terms import term_chart
 from talkthemes.versions.load import Version
 from talkthemes.view.theme_map import theme_layout
 from talkthemes.view.themes import theme_names, theme_table, with_names
@@ -33,3 +35,16 @@ def test_with_names_refreshes_labels_and_hidden(version: Version) -> None:
     out = with_names(frame, version)
     assert list(out["name"]) == [theme_names(version)[2], "Bills"]
     assert list(out["hidden"]) == [True, False]
+
+
+def test_a_sparse_nmf_theme_lists_only_the_words_it_weighs_and_its_chart_draws() -> None:
+    """An NMF theme with two nonzero words once gave the report zero weights on a log axis."""
+    phi = np.zeros((3, 6))
+    phi[0, [0, 1]] = [0.7, 0.3]
+    phi[1, 2:] = 0.25
+    phi[2, :] = 1 / 6
+    version = make_version(SHARES, topic_terms=phi)
+    table = version.term_table(0, n=15)
+    assert table["term"].tolist() == ["bill", "pay"] and (table["weight"] > 0).all()
+    spec = term_chart(table, "bill · pay").to_dict()
+    assert spec["layer"]  # drawn, no InputError about non-positive weights
