@@ -418,6 +418,73 @@ class RefreshSettings(_Section):
             "other version is flagged as a possible split or merge."
         ),
     )
+    # alerts (docs/methods_alerts.md)
+    alert_new_min_calls: int = Field(
+        10, ge=1, description="A new theme alerts only if it leads at least this many new calls."
+    )
+    alert_new_min_share: float = Field(
+        0.03,
+        ge=0,
+        le=1,
+        description="A new theme alerts only if it leads at least this share of the new calls.",
+    )
+    alert_split_lead_share: float = Field(
+        0.5,
+        gt=0,
+        le=1,
+        description=(
+            "A new theme is a split of an old one when at least this share of its calls had "
+            "that old theme as lead under the previous version (and the terms overlap)."
+        ),
+    )
+    alert_split_term_overlap: float = Field(
+        0.3,
+        ge=0,
+        le=1,
+        description=(
+            "A new theme is a split of an old one when at least this share of its 10 top "
+            "terms are the old theme's (and most of its calls were the old theme's)."
+        ),
+    )
+    alert_novel_term_ratio: float = Field(
+        3.0,
+        gt=1,
+        description=(
+            "A term is new when its rate in the new calls is at least this many times its "
+            "rate in the earlier ones (and its log-likelihood ratio is high enough)."
+        ),
+    )
+    alert_novel_term_llr: float = Field(
+        10.83,
+        ge=0,
+        description=(
+            "A term is new only if Dunning's log-likelihood ratio G² of its counts in the new "
+            "and earlier calls is at least this (10.83: p < 0.001)."
+        ),
+    )
+    alert_novel_min_score: float = Field(
+        0.3,
+        ge=0,
+        le=1,
+        description="A new theme alerts only if this share of its top-term weight is on new terms.",
+    )
+    alert_change_fdr: float = Field(
+        0.01,
+        gt=0,
+        lt=1,
+        description=(
+            "Risers and fallers: Benjamini–Hochberg false discovery rate over the carried "
+            "themes tested."
+        ),
+    )
+    alert_change_min_ratio: float = Field(
+        1.25,
+        ge=1,
+        description=(
+            "Risers and fallers: the share in the new calls must be at least this many "
+            "times the earlier share (or at most its inverse)."
+        ),
+    )
 
 
 class ViewSettings(_Section):

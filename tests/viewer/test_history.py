@@ -15,6 +15,7 @@ from talkthemes.charts.history import timeline_chart
 from talkthemes.errors import InputError
 from talkthemes.text import md_inline
 from talkthemes.view.history import (
+    alert_cards,
     load_drift,
     new_theme_examples,
     report_top_terms,
@@ -196,6 +197,12 @@ def test_page_shows_the_timeline_the_changes_and_a_new_theme(refreshed, monkeypa
     assert md_inline(new["examples"][0]["transcript_id"]) in text
     assert md_inline(LABEL) in text and LABEL not in text  # escaped, never raw
     assert "Version 2" in text and "Refreshed from version 1." in text
+    # the alert explains itself: evidence and example sentences, escaped
+    assert "Alerts" in [s.value for s in at.subheader]
+    card = alert_cards(report)[0]
+    assert card.kind == "new" and f"New theme \\#{card.theme_id}: " in text
+    assert all(f"✓ {md_inline(t)}" in text for _, t in card.evidence)
+    assert card.examples and all(md_inline(s) in text for _, s in card.examples)
     at.selectbox(key="history_version").select(1)
     at.run()
     assert not at.exception, [e.value for e in at.exception]

@@ -11,7 +11,7 @@ in each docstring.
 from __future__ import annotations
 
 import os
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from contextlib import nullcontext
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -312,6 +312,8 @@ class WritingMixin(WorkspaceBase):
         manifests: PathsLike = (),
         resweep: bool = False,
         alert_on_new: bool = False,
+        alert_on_rise: bool = False,
+        alerts: Mapping[str, Any] | None = None,
         wait: bool = False,
         on_wait: OnWait | None = None,
         progress: Progress | None = None,
@@ -329,7 +331,18 @@ class WritingMixin(WorkspaceBase):
         resweep : bool
             Choose K again with the ``[sweep]`` grid.
         alert_on_new : bool
-            Make the result's ``exit_code`` 4 when a new theme appears.
+            Make the result's ``exit_code`` 4 when a new theme is alerted: it leads enough
+            new transcripts, is not a split of an old theme, its words are new, and it is
+            not marked not a theme (docs/methods_alerts.md).
+        alert_on_rise : bool
+            Make the result's ``exit_code`` 4 when a carried theme's share of the new
+            transcripts rose significantly (two-proportion test, Benjamini–Hochberg).
+        alerts : mapping, optional
+            Alert thresholds for this run only, overriding the ``[refresh] alert_*``
+            settings; each named without its ``alert_`` prefix, e.g.
+            ``{"new_min_calls": 20, "change_fdr": 0.05}`` (the names are
+            ``talkthemes.refresh.alert_step.ALERT_SETTINGS``). Checked like the settings
+            file before anything is done.
         wait, on_wait
             See :meth:`hold`.
         progress : Progress, optional
@@ -340,12 +353,15 @@ class WritingMixin(WorkspaceBase):
         Returns
         -------
         RefreshResult
-            ``status`` ``published`` or ``nothing_new``; carried, new and retired themes.
+            ``status`` ``published`` or ``nothing_new``; carried, new and retired themes;
+            each new theme's verdict and evidence; ``risers`` and ``fallers``.
 
         Raises
         ------
         NotReadyError
             When no version is published yet.
+        ConfigError
+            An ``alerts`` name unknown or a value not allowed.
         """
         with self.hold("refresh", wait=wait, on_wait=on_wait):
             return refresh_run.refresh(
@@ -354,6 +370,8 @@ class WritingMixin(WorkspaceBase):
                 manifests=as_paths(manifests),
                 resweep=resweep,
                 alert_on_new=alert_on_new,
+                alert_on_rise=alert_on_rise,
+                alerts=alerts,
                 progress=progress,
                 **options,
             )

@@ -17,7 +17,9 @@ from talkthemes.store.records import VersionRecord
 from talkthemes.text import md_inline, percent
 from talkthemes.versions.drift import drift_frame
 from talkthemes.view.history import (
+    AlertCard,
     ThemeChange,
+    alert_cards,
     load_drift,
     new_theme_examples,
     report_top_terms,
@@ -72,8 +74,50 @@ def _theme_list(items: list[ThemeChange], status: str) -> None:
         line = f"- **{md_inline(t.name)}** \\#{t.theme_id}: {md_inline(t.detail)}"
         if t.flags:
             line += " · " + md_inline("; ".join(t.flags))
+        if t.alert:
+            line += " · *" + md_inline(t.alert) + "*"
         lines.append(line)
     st.markdown("\n".join(lines))
+
+
+ALERT_TITLE = {"new": "New theme", "riser": "Riser", "faller": "Faller"}
+
+
+def _alert_card(card: AlertCard) -> None:
+    with st.container(border=True):
+        st.markdown(
+            f"**{ALERT_TITLE[card.kind]} \\#{card.theme_id}: {md_inline(card.name)}**  \n"
+            f"{md_inline(card.size[:1].upper() + card.size[1:])}; {md_inline(card.growth)}.  \n"
+            f"Top terms: {md_inline(', '.join(card.top_terms[:8]))}"
+        )
+        st.markdown(
+            "\n".join(f"- {'✓' if held else '✗'} {md_inline(text)}" for held, text in card.evidence)
+        )
+        if card.examples:
+            st.markdown(
+                "\n".join(f"> “{md_inline(s)}” ({md_inline(t)})  " for t, s in card.examples)
+            )
+
+
+def _alerts(report: dict[str, Any], labels: dict[int, str], *, masked: bool) -> None:
+    cards = alert_cards(report, labels, masked=masked)
+    if "alerts" not in report:
+        return
+    st.subheader("Alerts")
+    if not cards:
+        st.caption(
+            "No alert: no new theme passed every test, and no carried theme's share of the "
+            "new transcripts changed significantly."
+        )
+        return
+    st.caption(
+        "Each alert with the evidence that held and three sentences from new transcripts"
+        + (" (personal data masked)" if masked else "")
+        + ". A new theme alerts only when it is large enough, not a split of an old theme, "
+        "its words are new, and it is not marked not a theme."
+    )
+    for card in cards:
+        _alert_card(card)
 
 
 def _examples(report: dict[str, Any], labels: dict[int, str], *, masked: bool) -> None:
@@ -149,7 +193,9 @@ def _version_details(ws: Workspace, record: VersionRecord) -> None:
             "theme leads before (ring) and after (dot) the refresh."
         )
         labels = {t.theme_id: t.label for t in themes}
-        _examples(report, labels, masked=not original_allowed(ws))
+        masked = not original_allowed(ws)
+        _alerts(report, labels, masked=masked)
+        _examples(report, labels, masked=masked)
 
 
 def _refresh_log(ws: Workspace) -> None:

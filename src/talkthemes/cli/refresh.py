@@ -1,9 +1,10 @@
 """``refresh`` and ``assign``: bring new transcripts to the published themes.
 
 Exit codes of ``refresh``: 0 published, or nothing new to do; 3 done, but some inputs were
-rejected; 4 ``--alert-on-new`` was given and a new theme appeared (4 wins over 3: the
-JSON document still lists the rejects); 2 usage or settings error, or the workspace is busy;
-1 anything unexpected. ``assign``: 0 done; 3 some inputs rejected; 2 usage (no transcript
+rejected; 4 ``--alert-on-new`` was given and a new theme was alerted (every piece of
+evidence held), or ``--alert-on-rise`` and a carried theme rose significantly (4 wins over
+3: the JSON document still lists the rejects); 2 usage or settings error, or the workspace
+is busy; 1 anything unexpected. ``assign``: 0 done; 3 some inputs rejected; 2 usage (no transcript
 found, every path missing, an unwritable ``--out``); 1 unexpected.
 
 The work happens in :class:`talkthemes.Workspace`, which imports numpy, scipy, gensim and
@@ -57,7 +58,19 @@ def refresh(
     ] = False,
     alert_on_new: Annotated[
         bool,
-        typer.Option("--alert-on-new", help="Exit with code 4 when a new theme appears."),
+        typer.Option(
+            "--alert-on-new",
+            help="Exit with code 4 when a new theme is alerted (enough calls, not a split, "
+            "new words, not marked not a theme).",
+        ),
+    ] = False,
+    alert_on_rise: Annotated[
+        bool,
+        typer.Option(
+            "--alert-on-rise",
+            help="Exit with code 4 when a carried theme's share of the new calls rose "
+            "significantly.",
+        ),
     ] = False,
     workspace: WorkspaceOpt = None,
     wait: WaitOpt = False,
@@ -71,6 +84,7 @@ def refresh(
             manifests=manifest or [],
             resweep=resweep,
             alert_on_new=alert_on_new,
+            alert_on_rise=alert_on_rise,
             wait=wait,
             on_wait=waiting,
             progress=update,
@@ -109,8 +123,7 @@ def print_refresh(result: Any) -> None:
     )
     if result.resweep:
         say(f"K was chosen again: {result.resweep_reason}.", console=out)
-    for t in result.new_themes:
-        say(f"  new theme {t['theme_id']}: ", ", ".join(t["top_terms"][:8]), console=out)
+    print_alerts(result)
     for t in result.retired_themes:
         say(f"  retired theme {t['theme_id']}: ", t["name"], console=out)
     lost = (result.curation or {}).get("not_carried") or []
@@ -124,6 +137,55 @@ def print_refresh(result: Any) -> None:
         )
     if result.drift_files:
         say(f"Drift report: {result.drift_files[1]}")
+
+
+def _percent(x: float | None) -> str:
+    return "–" if x is None else f"{100 * x:.1f}%"
+
+
+def _examples(entry: dict[str, Any]) -> None:
+    for e in entry.get("examples") or []:
+        say("      “", e["sentence"], "” (", e["transcript_id"], ")", console=out)
+
+
+def print_alerts(result: Any) -> None:
+    """Each alert explained: size, growth, top terms, the evidence, example sentences; then
+    the new themes not alerted, with the evidence that failed."""
+    for t in result.new_themes:
+        g = t.get("growth") or {}
+        if t.get("alert"):
+            say(("ALERT", "bold"), f" new theme {t['theme_id']}: ", t.get("name", ""), console=out)
+            say(
+                f"    leads {g.get('calls_new', 0):,} of {g.get('new_transcripts', 0):,} new "
+                f"calls ({_percent(g.get('share_new'))}; earlier "
+                f"{_percent(g.get('share_earlier'))})",
+                console=out,
+            )
+            say("    top terms: ", ", ".join(t["top_terms"][:8]), console=out)
+            for e in t.get("evidence") or []:
+                say("    ✓ " if e["held"] else "    ✗ ", e["text"], console=out)
+            _examples(t)
+        else:
+            failed = [e["text"] for e in t.get("evidence") or [] if not e["held"]]
+            say(
+                f"  new theme {t['theme_id']}: ",
+                ", ".join(t["top_terms"][:8]),
+                f" — not alerted ({str(t.get('verdict', '')).replace('_', ' ')}): ",
+                "; ".join(failed),
+                console=out,
+            )
+    for kind, items in (("riser", result.risers), ("faller", result.fallers)):
+        for t in items:
+            label = ("ALERT", "bold") if kind == "riser" else ("note", "bold")
+            say(label, f" {kind} theme {t['theme_id']}: ", t.get("name", ""), console=out)
+            say("    ", t["text"], console=out)
+            if t.get("includes"):
+                say(
+                    "    counted with its split themes " + ", ".join(map(str, t["includes"])),
+                    console=out,
+                )
+            say("    top terms: ", ", ".join(t["top_terms"][:8]), console=out)
+            _examples(t)
 
 
 def assign(

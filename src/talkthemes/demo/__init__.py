@@ -19,7 +19,10 @@ The package is split by responsibility:
   manifest and the answer key ``truth.csv`` outside the folder that gets ingested;
 - :mod:`~talkthemes.demo.planted`: planted corpora with a known answer for the quality
   harness (a different invented scenario), and :mod:`~talkthemes.demo.harness`, which runs
-  them through the product and scores the themes (``bench/quality.py``).
+  them through the product and scores the themes (``bench/quality.py``);
+  :mod:`~talkthemes.demo.alert_harness` publishes a planted history and refreshes it with
+  a next batch (nothing new, a new reason, a rise, both) to score the alerts
+  (``bench/alerts.py``).
 
 One ``random.Random(seed)`` stream composes the demo calls, so a (size, seed) pair always
 gives the same corpus.

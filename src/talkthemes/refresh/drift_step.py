@@ -1,7 +1,8 @@
 """The refresh's drift step: the report of what moved, the theme plan, the drift files.
 
 The report compares the new version's themes with the current version's
-(:func:`talkthemes.versions.drift.drift_report`); the plan says which rows carry which theme
+(:func:`talkthemes.versions.drift.drift_report`) with its alerts
+(:func:`talkthemes.refresh.alert_step.alerts_of`); the plan says which rows carry which theme
 id and which themes retire (:class:`talkthemes.versions.write.ThemePlan`); the files are
 ``drift.json``, ``drift.md`` (:mod:`talkthemes.versions.drift_markdown`) and ``drift.png``.
 """
@@ -17,7 +18,10 @@ from typing import Any
 import numpy as np
 
 from talkthemes.prepare.corpus import PreparedCorpus
+from talkthemes.prepare.frozen import PrepSpec
 from talkthemes.prepare.scrub import scrub
+from talkthemes.refresh.alert_step import alerts_of
+from talkthemes.versions.alerts import AlertRules, with_alerts
 from talkthemes.versions.align import Alignment, Calibration
 from talkthemes.versions.curation import curation_markdown
 from talkthemes.versions.drift import ThemeSide, best_examples, drift_frame, drift_report
@@ -53,8 +57,11 @@ def drift_of(
     theme_ids: list[int],
     new_ids: Sequence[str],
     corpus: PreparedCorpus,
+    previous_spec: PrepSpec,
+    rules: AlertRules,
 ) -> dict[str, Any]:
-    """The drift report of the new version (its number is filled in when it is written)."""
+    """The drift report of the new version (its number is filled in when it is written),
+    with its ``alerts`` block (:func:`talkthemes.refresh.alert_step.alerts_of`)."""
     with ws.store() as store:
         labels = {t.theme_id: t.label for t in store.themes(current.n)}
     old_side = ThemeSide(
@@ -86,7 +93,7 @@ def drift_of(
     scrub_on = bool(fitted.info["prepare_settings"].get("scrub", True))
     with ws.store() as store:
         snippets = {t: excerpt(turns, scrub_on) for t, turns in store.turns_for(wanted)}
-    return drift_report(
+    report = drift_report(
         old_side,
         new_side,
         alignment,
@@ -99,12 +106,18 @@ def drift_of(
         snippets=snippets,
         created_at=dt.datetime.now().astimezone().isoformat(timespec="seconds"),
     )
+    alerts = alerts_of(
+        ws, current, previous_spec, fitted, alignment, (old_side, new_side), is_new,
+        corpus.counts, rules,
+    )  # fmt: skip
+    return with_alerts(report, alerts)
 
 
 def theme_plan(report: dict[str, Any]) -> ThemePlan:
     """Theme ids, statuses and what each theme row and each retired theme records."""
     prev = report["previous_version"]
-    keys = ("distance", "nearest_previous", "possible_split_of", "possible_merge_of")
+    keys = ("distance", "nearest_previous", "possible_split_of", "possible_merge_of",
+            "verdict", "alert", "split_of", "change")  # fmt: skip
     info = [
         {"previous_version": prev, **{k: t[k] for k in keys if t.get(k) is not None}}
         for t in report["themes"]

@@ -26,7 +26,10 @@ One run (the caller holds the workspace lock):
    near-ties are flagged as possible splits and merges. Themes are aligned as fitted
    (merged themes apart), so merges carry by id like labels; the drift report lists the
    curated themes it could not carry (:mod:`talkthemes.versions.curation`).
-7. **write** the version in full — with ``drift.json``, ``drift.md`` and ``drift.png``
+7. **judge the alerts** (:mod:`talkthemes.refresh.alert_step`, docs/methods_alerts.md):
+   which new themes are really new (mass, not a split, new words, not marked not a theme),
+   which carried themes rose or fell significantly; each with three example sentences;
+   then **write** the version in full — with ``drift.json``, ``drift.md`` and ``drift.png``
    (:mod:`talkthemes.refresh.drift_step`) — and make it current in one transaction together with the
    refresh's log row (:func:`~talkthemes.versions.write.write_version`); then old versions
    beyond ``[refresh] keep_versions`` are removed (never the current one).
@@ -46,7 +49,7 @@ from __future__ import annotations
 import logging
 import os
 import time
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -58,10 +61,12 @@ from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.frozen import PrepSpec, build_frozen_prep, load_prep_spec
 from talkthemes.prepare.run import run_prepare
 from talkthemes.progress import Progress, report
+from talkthemes.refresh.alert_step import alert_rules
 from talkthemes.refresh.calibration import calibration_fits
 from talkthemes.refresh.coherence import coherence_check
 from talkthemes.refresh.drift_step import DriftPng, drift_files, drift_of, theme_plan
 from talkthemes.sweep.run import load_current_prep, run_sweep
+from talkthemes.versions.alerts import AlertRules
 from talkthemes.versions.align import align_themes, calibrate_threshold
 from talkthemes.versions.curation import curation_of
 from talkthemes.versions.fit import fit_version
@@ -115,7 +120,13 @@ class RefreshResult:
     counts : dict
         Themes ``carried``, ``new`` and ``retired``.
     new_themes : list of dict
-        ``theme_id`` and ``top_terms`` of each new theme.
+        Each new theme: ``theme_id``, ``top_terms``, ``verdict`` (``new`` when alerted;
+        else ``split``, ``small``, ``familiar`` or ``not_a_theme``), ``alert``,
+        ``split_of``, ``growth``, ``evidence`` and, when alerted, ``examples``
+        (:func:`talkthemes.versions.alerts.judge_new_themes`).
+    risers, fallers : list of dict
+        Carried themes whose share of the new transcripts rose (fell) significantly
+        (:func:`talkthemes.versions.alerts.judge_changes`), with their ``examples``.
     """
 
     status: str
@@ -124,6 +135,7 @@ class RefreshResult:
     new_transcripts: int = 0
     ingest: dict[str, Any] | None = None
     alert_on_new: bool = False
+    alert_on_rise: bool = False
     family: str | None = None
     k: int | None = None
     resweep: bool = False
@@ -133,6 +145,8 @@ class RefreshResult:
     counts: dict[str, int] = field(default_factory=dict)
     new_themes: list[dict[str, Any]] = field(default_factory=list)
     retired_themes: list[dict[str, Any]] = field(default_factory=list)
+    risers: list[dict[str, Any]] = field(default_factory=list)
+    fallers: list[dict[str, Any]] = field(default_factory=list)
     drift_files: list[str] = field(default_factory=list)
     curation: dict[str, Any] | None = None
     seconds: float = 0.0
@@ -143,10 +157,16 @@ class RefreshResult:
         return len((self.ingest or {}).get("rejects", []))
 
     @property
+    def alerted_new(self) -> list[int]:
+        """Ids of the new themes alerted (every piece of evidence held)."""
+        return [int(t["theme_id"]) for t in self.new_themes if t.get("alert")]
+
+    @property
     def exit_code(self) -> int:
-        """4 when asked to alert and a new theme appeared; else 3 when some inputs were
-        rejected; else 0 (published, or nothing new to do)."""
-        if self.alert_on_new and self.counts.get("new", 0) > 0:
+        """4 when asked to alert (``alert_on_new``, ``alert_on_rise``) and such an alert
+        occurred; else 3 when some inputs were rejected; else 0 (published, or nothing new
+        to do)."""
+        if (self.alert_on_new and self.alerted_new) or (self.alert_on_rise and self.risers):
             return 4
         return 3 if self.rejected else 0
 
@@ -164,32 +184,20 @@ class RefreshResult:
             "coherence_check": self.coherence,
             "threshold": self.threshold,
             "counts": self.counts,
+            "alerts": {
+                "new": self.alerted_new,
+                "rise": [int(t["theme_id"]) for t in self.risers],
+                "fall": [int(t["theme_id"]) for t in self.fallers],
+            },
             "new_themes": self.new_themes,
+            "risers": self.risers,
+            "fallers": self.fallers,
             "retired_themes": self.retired_themes,
             "drift_files": self.drift_files,
             "curation": self.curation,
             "seconds": round(self.seconds, 2),
             "ingest": self.ingest,
         }
-
-
-# -- inputs -------------------------------------------------------------------------------
-def _ingest_paths(ws: Workspace, paths: Sequence[Path] | None) -> list[Path]:
-    if paths:
-        return [Path(p) for p in paths]
-    inbox = ws.settings().refresh.inbox.strip()
-    if not inbox:
-        return []
-    folder = Path(inbox).expanduser()
-    if not folder.is_absolute():
-        folder = ws.root / folder
-    if not folder.is_dir():
-        raise InputError(f"[refresh] inbox = {inbox!r}: {folder} is not a folder")
-    return [folder]
-
-
-def _known_ids(version: Any, spec: Any) -> set[str]:
-    return set(version.doc_ids) | {t for t, _ in spec.excluded}
 
 
 # -- inputs -------------------------------------------------------------------------------
@@ -229,6 +237,8 @@ def refresh(
     manifests: Sequence[Path] = (),
     resweep: bool = False,
     alert_on_new: bool = False,
+    alert_on_rise: bool = False,
+    alerts: Mapping[str, Any] | None = None,
     progress: Progress | None = None,
     drift_png: DriftPng | None = None,
 ) -> RefreshResult:
@@ -244,7 +254,15 @@ def refresh(
     resweep : bool
         Choose K again with the ``[sweep]`` grid.
     alert_on_new : bool
-        Make :attr:`RefreshResult.exit_code` 4 when a new theme appears.
+        Make :attr:`RefreshResult.exit_code` 4 when a new theme is alerted (every piece of
+        evidence held; docs/methods_alerts.md).
+    alert_on_rise : bool
+        Make :attr:`RefreshResult.exit_code` 4 when a carried theme rose significantly.
+    alerts : mapping, optional
+        Alert thresholds for this run, overriding the ``[refresh] alert_*`` settings: each
+        named without its ``alert_`` prefix (``{"new_min_calls": 20}``;
+        :func:`talkthemes.refresh.alert_step.alert_rules`). The drift report records the
+        thresholds used.
     progress : Progress, optional
         ``progress(done, total, what)``.
     drift_png : callable, optional
@@ -259,8 +277,11 @@ def refresh(
     ------
     NotReadyError
         When no version is published yet.
+    ConfigError
+        An alert override with an unknown name or a value not allowed (nothing is done).
     """
     t0 = time.perf_counter()
+    rules = alert_rules(ws.settings().refresh, alerts)
 
     def step(i: int, what: str) -> None:
         log.info("refresh: %s", what)
@@ -283,13 +304,15 @@ def refresh(
         status="running",
         previous_version=current.n,
         alert_on_new=alert_on_new,
+        alert_on_rise=alert_on_rise,
         family=str(current.info["family"]),
         k=current.k,
     )
     try:
         _run(
-            ws, result, current, spec, paths, list(manifests), resweep, step, refresh_id, drift_png
-        )
+            ws, result, current, spec, paths, list(manifests), resweep, rules, step, refresh_id,
+            drift_png,
+        )  # fmt: skip
     except BaseException as exc:
         with ws.store() as store:
             store.finish_refresh(
@@ -308,6 +331,7 @@ def _run(
     paths: list[Path],
     manifests: list[Path],
     resweep: bool,
+    rules: AlertRules,
     step: Callable[[int, str], None],
     refresh_id: int,
     drift_png: DriftPng | None,
@@ -399,9 +423,12 @@ def _run(
         int(current.theme_ids[i]) if i >= 0 else next(fresh) for i in alignment.matched_old.tolist()
     ]
     # 7. write
-    step(6, "writing the version and its drift report")
-    drift = drift_of(ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus)
+    step(6, "judging alerts, writing the version and its drift report")
+    drift = drift_of(
+        ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus, spec, rules
+    )  # fmt: skip
     drift["curation"] = curation_of(ws, current.theme_ids, theme_ids, drift["retired"])
+    alerts = drift["alerts"]
     plan = theme_plan(drift)
 
     summary = {
@@ -409,6 +436,7 @@ def _run(
         "counts": drift["counts"],
         "new_theme_ids": [t["theme_id"] for t in drift["themes"] if t["status"] == "new"],
         "retired_theme_ids": [t["theme_id"] for t in drift["retired"]],
+        "alerts": {k: alerts[k] for k in ("new", "rise", "fall")},
         "resweep": result.resweep,
         "resweep_reason": result.resweep_reason,
         "same_theme_cutoff": calibration.threshold,
@@ -443,11 +471,9 @@ def _run(
     result.status = "published"
     result.version = n
     result.counts = drift["counts"]
-    result.new_themes = [
-        {"theme_id": t["theme_id"], "top_terms": t["top_terms"]}
-        for t in drift["themes"]
-        if t["status"] == "new"
-    ]
+    result.new_themes = list(alerts["new_themes"])
+    result.risers = [t for t in alerts["changes"] if t["alert"] and t["direction"] == "rise"]
+    result.fallers = [t for t in alerts["changes"] if t["alert"] and t["direction"] == "fall"]
     result.retired_themes = [
         {"theme_id": t["theme_id"], "name": t["name"]} for t in drift["retired"]
     ]

@@ -17,7 +17,10 @@
 - :mod:`~talkthemes.versions.call_terms` — a call's terms as a version counted them;
 - :mod:`~talkthemes.versions.align`, :mod:`~talkthemes.versions.drift` and
   :mod:`~talkthemes.versions.drift_markdown` — theme identity across versions and the
-  drift report of a refresh.
+  drift report of a refresh;
+- :mod:`~talkthemes.versions.alerts`, :mod:`~talkthemes.versions.alert_stats` and
+  :mod:`~talkthemes.versions.alerts_markdown` — a refresh's alerts: new themes that are
+  really new, risers and fallers, each explained.
 
 Only the newest ``[refresh] keep_versions`` versions are kept, and always the current one.
 """

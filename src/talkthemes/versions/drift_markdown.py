@@ -12,6 +12,7 @@ from collections.abc import Mapping, Sequence
 from typing import Any
 
 from talkthemes.text import md_inline, percent
+from talkthemes.versions.alerts_markdown import alert_lines, verdict_line
 
 __all__ = ["render_markdown"]
 
@@ -52,6 +53,7 @@ def render_markdown(report: Mapping[str, Any]) -> str:
             "are less certain."
         )
     lines.append("")
+    lines += alert_lines(r)
     new = [t for t in r["themes"] if t["status"] == "new"]
     lines += ["## New themes", ""]
     if not new:
@@ -80,6 +82,9 @@ def render_markdown(report: Mapping[str, Any]) -> str:
                 + ", ".join(map(str, t["possible_split_of"]))
                 + "."
             )
+        verdict = verdict_line(t)
+        if verdict:
+            lines.append(verdict)
         lines.append("")
         if t["examples"]:
             lines += ["New transcripts that show it best:", "", "| transcript | share | excerpt |"]
@@ -107,6 +112,8 @@ def render_markdown(report: Mapping[str, Any]) -> str:
         ]
         for t in carried:
             flags = []
+            if t.get("alert") and t.get("change") in ("rise", "fall"):
+                flags.append("riser" if t["change"] == "rise" else "faller")
             if t.get("possible_split_of"):
                 flags.append("possible split of " + ", ".join(map(str, t["possible_split_of"])))
             if t.get("possible_merge_of"):

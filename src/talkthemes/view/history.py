@@ -26,8 +26,10 @@ from talkthemes.workspace import Workspace
 
 __all__ = [
     "TIMELINE_COLUMNS",
+    "AlertCard",
     "ThemeChange",
     "VersionChanges",
+    "alert_cards",
     "load_drift",
     "new_theme_examples",
     "report_top_terms",
@@ -113,6 +115,9 @@ class ThemeChange:
         One plain sentence: what it continues, how far it moved, its closest match.
     flags : list of str
         Possible split or merge, in words.
+    alert : str
+        What the refresh's alerts said of it ("alerted as new", "split of #3, not
+        alerted", "rose significantly", …); "" when nothing.
     """
 
     theme_id: int
@@ -120,6 +125,7 @@ class ThemeChange:
     status: str
     detail: str
     flags: list[str] = field(default_factory=list)
+    alert: str = ""
 
 
 @dataclass(frozen=True)
@@ -142,6 +148,23 @@ class VersionChanges:
 
 def _or_na(value: Any) -> Any:
     return pd.NA if value is None else value
+
+
+def _alert_note(theme: ThemeRecord) -> str:
+    """What the refresh's alerts said of a theme, in words ("" when nothing): read from
+    the keys the refresh recorded in the theme's document (``verdict``, ``split_of``,
+    ``alert``, ``change``), which have no record field of their own."""
+    info = theme.info
+    verdict = info.get("verdict")
+    if verdict == "new":
+        return "alerted as new"
+    if verdict == "split" and info.get("split_of") is not None:
+        return f"split of #{int(info['split_of'])}, not alerted"
+    if verdict:
+        return "not alerted (" + str(verdict).replace("_", " ") + ")"
+    if info.get("alert") and info.get("change") in ("rise", "fall"):
+        return "rose significantly" if info["change"] == "rise" else "fell significantly"
+    return ""
 
 
 def _flags(theme: ThemeRecord) -> list[str]:
@@ -198,7 +221,7 @@ def version_changes(
                 if dist is not None
                 else "kept its id"
             )
-            carried.append(ThemeChange(tid, name, "carried", detail, _flags(t)))
+            carried.append(ThemeChange(tid, name, "carried", detail, _flags(t), _alert_note(t)))
         elif t.status == "new":
             near = t.nearest_previous
             detail = (
@@ -207,7 +230,7 @@ def version_changes(
                 if near is not None
                 else "no previous version to compare with"
             )
-            new.append(ThemeChange(tid, name, "new", detail, _flags(t)))
+            new.append(ThemeChange(tid, name, "new", detail, _flags(t), _alert_note(t)))
         else:
             raise InputError(f"theme {tid}: status {t.status!r} is not 'carried' or 'new'")
     for r in retired:
@@ -302,3 +325,132 @@ def load_drift(ws: Workspace, n: int) -> dict[str, Any] | None:
     if missing:
         raise InputError(f"{path}: the drift report lacks {', '.join(missing)}")
     return report
+
+
+@dataclass(frozen=True)
+class AlertCard:
+    """One alert of a refresh, explained (from the drift report's ``alerts`` block).
+
+    Attributes
+    ----------
+    kind : str
+        ``new``, ``riser`` or ``faller``.
+    theme_id : int
+    name : str
+        Its label as it is now, or its three top terms.
+    size : str
+        Transcripts it leads among the new ones, in words.
+    growth : str
+        Its share of new against earlier transcripts, the ratio and its interval.
+    top_terms : list of str
+    evidence : list of (bool, str)
+        Each piece of evidence: whether it held, and what it says.
+    examples : list of (str, str)
+        ``(transcript id, sentence)``, scrubbed when the prep scrubs.
+    """
+
+    kind: str
+    theme_id: int
+    name: str
+    size: str
+    growth: str
+    top_terms: list[str]
+    evidence: list[tuple[bool, str]]
+    examples: list[tuple[str, str]]
+
+
+def _share(x: Any) -> str:
+    return "–" if x is None else f"{100 * float(x):.1f}%"
+
+
+def _card(
+    kind: str,
+    t: Mapping[str, Any],
+    name: str,
+    evidence: list[tuple[bool, str]],
+    *,
+    masked: bool,
+) -> AlertCard:
+    g = t.get("growth") or {}
+    enough = min(int(g.get("calls_new", 0)), int(g.get("calls_earlier", 0))) >= 5
+    ratio = (
+        f" (×{g['ratio']:.2f}, 95% interval {g['ratio_lo']:.2f}–{g['ratio_hi']:.2f})"
+        if g.get("ratio") is not None and enough
+        else ""
+    )
+    return AlertCard(
+        kind=kind,
+        theme_id=int(t["theme_id"]),
+        name=name,
+        size=(
+            f"leads {int(g.get('calls_new', 0)):,} of {int(g.get('new_transcripts', 0)):,} new "
+            f"transcripts ({_share(g.get('share_new'))})"
+        ),
+        growth=(
+            f"{_share(g.get('share_new'))} of new transcripts against "
+            f"{_share(g.get('share_earlier'))} of earlier ones{ratio}"
+        ),
+        top_terms=list(t.get("top_terms") or []),
+        evidence=evidence,
+        examples=[
+            (
+                str(e["transcript_id"]),
+                mask_text(str(e["sentence"])) if masked else str(e["sentence"]),
+            )
+            for e in t.get("examples") or []
+        ],
+    )
+
+
+def alert_cards(
+    report: Mapping[str, Any] | None,
+    labels: Mapping[int, str] | None = None,
+    *,
+    masked: bool = True,
+) -> list[AlertCard]:
+    """The alerts of a drift report, each explained: new themes alerted, then risers, then
+    fallers (empty for a report written before alerts existed).
+
+    Parameters
+    ----------
+    report : mapping or None
+        A drift report with an ``alerts`` block (:func:`talkthemes.versions.alerts.with_alerts`).
+    labels : mapping of int to str, optional
+        Current labels by theme id.
+    masked : bool
+        Mask personal data in the example sentences (:func:`talkthemes.privacy.mask_text`;
+        they were scrubbed when the refresh wrote them, this also masks names and
+        addresses); pass False only where the workspace allows the original text.
+    """
+    block = (report or {}).get("alerts")
+    if not block:
+        return []
+    labels = labels or {}
+    cards = []
+    for t in block.get("new_themes", []):
+        if t.get("alert"):
+            tid = int(t["theme_id"])
+            evidence = [(bool(e["held"]), str(e["text"])) for e in t.get("evidence", [])]
+            name = _name(labels.get(tid, ""), t.get("top_terms"), tid)
+            cards.append(_card("new", t, name, evidence, masked=masked))
+    rules = block.get("rules") or {}
+    by_id = {int(t["theme_id"]): t for t in block.get("changes", [])}
+    for kind, ids in (("riser", block.get("rise", [])), ("faller", block.get("fall", []))):
+        for tid in ids:
+            t = by_id[int(tid)]
+            text = str(t.get("text", ""))
+            evidence = [
+                (True, text),
+                (
+                    True,
+                    f"significant at a false discovery rate of {rules.get('change_fdr', '–')} "
+                    f"and beyond ×{rules.get('change_min_ratio', '–')} (or its inverse)",
+                ),
+            ]
+            if t.get("includes"):
+                evidence.append(
+                    (True, "counted with its split themes " + ", ".join(map(str, t["includes"])))
+                )
+            name = _name(labels.get(int(tid), ""), t.get("top_terms"), int(tid))
+            cards.append(_card(kind, t, name, evidence, masked=masked))
+    return cards

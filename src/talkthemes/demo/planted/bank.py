@@ -74,6 +74,20 @@ class PlantedSpec:
         Reason ``i`` (0-based, bank order) has weight ``(i + 1) ** -imbalance``; 0 = equal.
     words : int
         Median length of a regular call in words.
+    weights : tuple of float, optional
+        One weight per reason (bank order), replacing the ``imbalance`` weights: a batch in
+        which one reason rises, or a reason the earlier batches never had appears.
+    first_day : datetime.date
+        The first day calls are spread over (2027-02-01 by default).
+    days : int
+        Number of days, from ``first_day`` (89 by default: February to April 2027).
+    prefix : str
+        Call ids are ``<prefix>-00001``, …; batches of one scenario use distinct prefixes
+        so their ids never collide.
+    exact : bool
+        Draw kinds and lead reasons from a shuffled deck holding exactly ``round(short ×
+        calls)`` short calls and each reason's share of the rest (largest remainders),
+        instead of independently per call: a planted share is then met exactly.
     """
 
     reasons: int = 6
@@ -86,6 +100,11 @@ class PlantedSpec:
     noise: float = 0.0
     imbalance: float = 0.3
     words: int = 260
+    weights: tuple[float, ...] | None = None
+    first_day: dt.date = FIRST_DAY
+    days: int = DAYS
+    prefix: str = "AV"
+    exact: bool = False
 
     def __post_init__(self) -> None:
         if not 2 <= self.reasons <= MAX_REASONS:
@@ -98,6 +117,23 @@ class PlantedSpec:
                 raise InputError(f"{name} must be a share between 0 and 1, got {value}")
         if self.imbalance < 0 or self.words < 40:
             raise InputError("imbalance must be ≥ 0 and words ≥ 40")
+        if self.weights is not None and (
+            len(self.weights) != self.reasons or not all(w > 0 for w in self.weights)
+        ):
+            raise InputError(
+                f"weights must be {self.reasons} positive numbers (one per reason), "
+                f"got {self.weights}"
+            )
+        if self.days < 1:
+            raise InputError(f"days must be at least 1, got {self.days}")
+        if not self.prefix.replace("_", "").isalnum():
+            raise InputError(f"prefix must be letters, digits and '_', got {self.prefix!r}")
+
+    def reason_weights(self) -> tuple[float, ...]:
+        """The weight of each reason: :attr:`weights`, or ``(i + 1) ** -imbalance``."""
+        if self.weights is not None:
+            return tuple(float(w) for w in self.weights)
+        return tuple((i + 1) ** -self.imbalance for i in range(self.reasons))
 
 
 @dataclass(frozen=True, slots=True)

@@ -15,8 +15,6 @@ from random import Random
 
 from talkthemes.demo.builder import Deck
 from talkthemes.demo.planted.bank import (
-    DAYS,
-    FIRST_DAY,
     SHORT_KINDS,
     PlantedCall,
     PlantedSpec,
@@ -223,8 +221,10 @@ def _noisy(text: str, rng: Random, rate: float, homophones: dict[str, str]) -> s
     return " ".join(out)
 
 
-def _choose(rng: Random, keys: list[str], cum: list[float], spec: PlantedSpec) -> tuple[str, ...]:
-    first = rng.choices(keys, cum_weights=cum)[0]
+def _choose(
+    rng: Random, keys: list[str], cum: list[float], spec: PlantedSpec, first: str = ""
+) -> tuple[str, ...]:
+    first = first or rng.choices(keys, cum_weights=cum)[0]
     if rng.random() >= spec.secondary:
         return (first,)
     related = [k for k in load_bank()["reasons"][first]["related"] if k in keys]
@@ -234,6 +234,23 @@ def _choose(rng: Random, keys: list[str], cum: list[float], spec: PlantedSpec) -
         second = rng.choices(keys, cum_weights=cum)[0]
         if second != first:
             return first, second
+
+
+def _quota_deck(rng: Random, keys: list[str], spec: PlantedSpec) -> list[str]:
+    """Kind and lead reason of every call when :attr:`PlantedSpec.exact`: ``round(short ×
+    calls)`` short calls (``""``), the rest split over the reasons in proportion to their
+    weights (largest remainders), in a random order."""
+    n_short = round(spec.short * spec.calls)
+    n_regular = spec.calls - n_short
+    weights = spec.reason_weights()
+    quotas = [n_regular * w / sum(weights) for w in weights]
+    counts = [math.floor(q) for q in quotas]
+    by_remainder = sorted(range(len(keys)), key=lambda i: (counts[i] - quotas[i], i))
+    for i in by_remainder[: n_regular - sum(counts)]:
+        counts[i] += 1
+    deck = [""] * n_short + [k for k, n in zip(keys, counts, strict=True) for _ in range(n)]
+    rng.shuffle(deck)
+    return deck
 
 
 def iter_planted_calls(spec: PlantedSpec) -> Iterator[PlantedCall]:
@@ -250,21 +267,25 @@ def iter_planted_calls(spec: PlantedSpec) -> Iterator[PlantedCall]:
     """
     rng, bank = Random(spec.seed), load_bank()
     keys = list(planted_reasons(spec.reasons))
-    cum = list(itertools.accumulate((i + 1) ** -spec.imbalance for i in range(len(keys))))
-    days = [FIRST_DAY + dt.timedelta(days=i) for i in range(DAYS)]
+    cum = list(itertools.accumulate(spec.reason_weights()))
+    days = [spec.first_day + dt.timedelta(days=i) for i in range(spec.days)]
     day_cum = list(itertools.accumulate(_WEEKDAY_WEIGHT[d.weekday()] for d in days))
     seen: set[str] = set()
-    for i, day in enumerate(sorted(rng.choices(days, cum_weights=day_cum, k=spec.calls))):
+    dates = sorted(rng.choices(days, cum_weights=day_cum, k=spec.calls))
+    deck = _quota_deck(rng, keys, spec) if spec.exact else None
+    for i, day in enumerate(dates):
         for _ in range(100):
             agent = pick(rng, bank["agents"])
             memo = {"agent": agent, "customer": pick(rng, bank["customers"]),
                     "company": bank["company"]}  # fmt: skip
             c = _Call(rng, spec, memo)
             reasons: tuple[str, ...] = ()
-            if rng.random() < spec.short:
+            short = rng.random() < spec.short if deck is None else deck[i] == ""
+            if short:
                 kind, detail = "short", _short(c)
             else:
-                kind, detail, reasons = "regular", "", _choose(rng, keys, cum, spec)
+                first = "" if deck is None else deck[i]
+                kind, detail, reasons = "regular", "", _choose(rng, keys, cum, spec, first)
                 _regular(c, reasons)
             turns = tuple((role, text) for role, text in c.turns)
             if spec.noise:
@@ -277,7 +298,7 @@ def iter_planted_calls(spec: PlantedSpec) -> Iterator[PlantedCall]:
                 break
         seen.add(key)
         yield PlantedCall(
-            call_id=f"AV-{i + 1:05d}", date=day, kind=kind, detail=detail,
+            call_id=f"{spec.prefix}-{i + 1:05d}", date=day, kind=kind, detail=detail,
             reason=reasons[0] if reasons else "", secondary=reasons[1] if len(reasons) > 1 else "",
             turns=turns,
         )  # fmt: skip

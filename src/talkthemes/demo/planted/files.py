@@ -111,7 +111,7 @@ def write_planted(out_dir: Path, spec: PlantedSpec) -> PlantedFiles:
     atomic_write_text(out_dir / "truth.csv", _csv_text(truth))
     info = {"generator": "talkthemes.demo.planted", "spec": asdict(spec),
             "reasons": planted_reasons(spec.reasons), "counts": counts}  # fmt: skip
-    atomic_write_text(out_dir / "planted.json", json.dumps(info, indent=2) + "\n")
+    atomic_write_text(out_dir / "planted.json", json.dumps(info, indent=2, default=str) + "\n")
     root = out_dir / "exports"
     return PlantedFiles(out_dir, root, root / "manifest.csv", out_dir / "truth.csv", counts)
 
