@@ -37,8 +37,6 @@ from __future__ import annotations
 
 import difflib
 import functools
-import importlib
-import pkgutil
 import re
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
@@ -46,6 +44,7 @@ from dataclasses import dataclass
 from talkthemes.errors import TalkthemesError
 from talkthemes.prepare.lexicon import load_lemma_table
 from talkthemes.prepare.scrub import SCRUB_KINDS, scrub
+from talkthemes.text.names import MONTHS_DAYS, ROLE_WORDS, first_names
 
 __all__ = [
     "KINDS",
@@ -111,95 +110,8 @@ def html_pieces(masked: str) -> list[tuple[str, str | None]]:
 
 
 # --------------------------------------------------------------------------- word lists
-
-_MONTHS_DAYS = frozenset(
-    [
-        "january",
-        "february",
-        "march",
-        "april",
-        "may",
-        "june",
-        "july",
-        "august",
-        "september",
-        "october",
-        "november",
-        "december",
-        "monday",
-        "tuesday",
-        "wednesday",
-        "thursday",
-        "friday",
-        "saturday",
-        "sunday",
-    ]
-)
-_ROLE_WORDS = frozenset(
-    [
-        "agent",
-        "customer",
-        "caller",
-        "client",
-        "speaker",
-        "rep",
-        "representative",
-        "advisor",
-        "adviser",
-        "operator",
-        "interviewer",
-        "interviewee",
-        "host",
-        "guest",
-        "user",
-        "support",
-        "staff",
-        "unknown",
-        "system",
-        "bot",
-        "ivr",
-        "mr",
-        "mrs",
-        "ms",
-        "miss",
-        "dr",
-        "sir",
-        "madam",
-    ]
-)
-
-
-@functools.cache
-def first_names() -> frozenset[str]:
-    """First names in Latin script from the ``faker`` package's person providers (MIT).
-
-    Read once per process. Only names of three letters or more, written with letters
-    only, are kept.
-    """
-    # Deferred on purpose: faker's person providers are some eighty modules, read only
-    # when text is masked for the first time in a process.
-    import faker.providers.person as people
-
-    names: set[str] = set()
-    for info in pkgutil.iter_modules(people.__path__):
-        try:
-            module = importlib.import_module(f"{people.__name__}.{info.name}")
-        except ImportError:  # pragma: no cover - a provider needing an optional package
-            continue
-        provider = getattr(module, "Provider", None)
-        for attr in ("first_names", "first_names_male", "first_names_female"):
-            value = None
-            for cls in getattr(provider, "__mro__", ()):
-                if attr in vars(cls):
-                    value = vars(cls)[attr]
-                    break
-            if isinstance(value, (dict, list, tuple)):
-                names.update(n for n in value if isinstance(n, str))
-    return frozenset(
-        n
-        for n in names
-        if len(n) >= 3 and n.isalpha() and n[0].isupper() and all(ord(c) < 0x250 for c in n)
-    )
+# The first-name list, role words and month and day names live in talkthemes.text.names
+# (the preparation chain reads them too).
 
 
 @functools.cache
@@ -208,7 +120,7 @@ def stop_words() -> frozenset[str]:
     cue ("it's Monday")."""
     from spacy.lang.en.stop_words import STOP_WORDS  # the chain's stop words (English)
 
-    return frozenset(STOP_WORDS) | _MONTHS_DAYS
+    return frozenset(STOP_WORDS) | MONTHS_DAYS
 
 
 @functools.cache
@@ -386,7 +298,7 @@ class Masker:
         """Learn the person-name words of a speaker label or a found name."""
         for word in re.findall(r"[^\W\d_][\w'’\-]*", str(label)):
             low = word.lower()
-            if len(word) >= 2 and low not in _ROLE_WORDS and low not in self.everyday:
+            if len(word) >= 2 and low not in ROLE_WORDS and low not in self.everyday:
                 self.known.add(low)
 
     def _cued(self, text: str) -> list[re.Match[str]]:
@@ -398,7 +310,7 @@ class Masker:
 
     def _cue_ok(self, word: str) -> bool:
         low = word.lower()
-        return low not in self.stop and low not in _ROLE_WORDS and low not in _NOT_AFTER_CUE
+        return low not in self.stop and low not in ROLE_WORDS and low not in _NOT_AFTER_CUE
 
     def learn(self, text: str) -> None:
         """Learn the names a cue marks in ``text`` (so later turns mask them too)."""

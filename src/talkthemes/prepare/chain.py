@@ -41,6 +41,7 @@ from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, loa
 from talkthemes.prepare.headwords import Headwords, load_lemma_index, load_lemma_rules
 from talkthemes.prepare.lemmas import FastLemmatizer
 from talkthemes.prepare.lexicon import load_lemma_table, spacy_stop_words
+from talkthemes.prepare.names import NameLexicon, label_names
 from talkthemes.prepare.pipeline import SpacyLemmatizer
 from talkthemes.prepare.roles import select_turns
 from talkthemes.prepare.scrub import scrub
@@ -97,6 +98,9 @@ class TranscriptProcessor:
         ``[prepare] scrub``.
     boilerplate_min_share : float
         Used only to decide which sentence texts a batch reports with their keys.
+
+    The names step (:mod:`.names`) is on when the encoder has a name lexicon; it reads the
+    speaker labels of turns given as ``(role, text, speaker)``.
     """
 
     def __init__(
@@ -112,13 +116,33 @@ class TranscriptProcessor:
         self.scrub = scrub
         self.boilerplate_min_share = boilerplate_min_share
         self._reported: set[int] = set()  # keys whose text this process already reported
+        self._labels: dict[str, frozenset[str]] = {}  # speaker label -> names in it
 
     @property
     def lang(self) -> str:
         return self.encoder.lang
 
+    def labels(self, turns: Sequence[tuple[str, ...]]) -> frozenset[str]:
+        """The names in a transcript's speaker labels (empty when the names step is off or
+        the turns carry no labels)."""
+        lexicon = self.encoder.person_names
+        if lexicon is None:
+            return frozenset()
+        out: set[str] = set()
+        cache = self._labels
+        for turn in turns:
+            if len(turn) > 2 and turn[2]:
+                label = turn[2]
+                found = cache.get(label)
+                if found is None:
+                    found = label_names(label, lexicon)
+                    if len(cache) < 100_000:
+                        cache[label] = found
+                out |= found
+        return frozenset(out)
+
     def text(
-        self, turns: Sequence[tuple[str, str]], counts: dict[str, int] | None = None
+        self, turns: Sequence[tuple[str, ...]], counts: dict[str, int] | None = None
     ) -> tuple[str, int, int, int]:
         """Roles and scrub for one transcript.
 
@@ -147,17 +171,19 @@ class TranscriptProcessor:
         roles_removed: list[int] = []
         scrub_removed: list[int] = []
         texts: list[str] = []
+        labels: list[frozenset[str]] = []
         counts: dict[str, int] = {}
         turns = dropped = 0
         for tid, tturns in batch:
             text, n_dropped, r_removed, s_removed = self.text(tturns, counts)
             tids.append(tid)
             texts.append(text)
+            labels.append(self.labels(tturns))
             roles_removed.append(r_removed)
             scrub_removed.append(s_removed)
             turns += len(tturns)
             dropped += n_dropped
-        enc = self.encoder.encode(texts)
+        enc = self.encoder.encode(texts, labels)
         codes = enc.codes
         lengths = np.asarray(enc.lengths, dtype=np.int64)
         keys = np.asarray(enc.keys, dtype=np.int64)
@@ -197,6 +223,8 @@ class TranscriptProcessor:
             key_texts=self._repeated_texts(texts, sent_doc, keys),
             word_counts=enc.counts,
             names=enc.names,
+            person_found=enc.person.found if enc.person else {},
+            person_named=enc.person.named if enc.person else {},
         )
 
     def find_texts(self, keys: set[int], source: Callable[[], Iterable[Batch]]) -> dict[int, str]:
@@ -268,11 +296,21 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
         When the language has no lemma table, or the configured pipeline is not installed.
     """
     lang = settings.lang
+    fillers = load_fillers(lang) if settings.fillers else frozenset()
     token_filter = TokenFilter.build(
         min_length=settings.min_token_length,
         stop_words=spacy_stop_words(lang),
-        fillers=load_fillers(lang) if settings.fillers else (),
+        fillers=fillers,
         user_stop_words=settings.extra_stop_words,
+    )
+    person_names = (
+        NameLexicon.build(
+            lang,
+            fillers=[*load_fillers(lang), *settings.extra_stop_words],
+            not_names=settings.not_names,
+        )
+        if settings.drop_names
+        else None
     )
     encoder: FastLemmatizer | SpacyLemmatizer
     if settings.pipeline:
@@ -285,6 +323,7 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
             min_words=settings.boilerplate_min_words,
             names=settings.names,
             exceptions=settings.lemma_exceptions,
+            person_names=person_names,
         )
     else:
         table = load_lemma_table(lang)
@@ -302,6 +341,7 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
                 lang=lang,
                 ratio=settings.lemma_keep_ratio,
             ),
+            person_names=person_names,
         )
     return TranscriptProcessor(
         encoder,

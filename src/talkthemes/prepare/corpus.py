@@ -57,7 +57,7 @@ def library_versions() -> dict[str, str]:
     from importlib.metadata import PackageNotFoundError, version
 
     out = {}
-    for name in ("spacy", "spacy-lookups-data", "gensim"):
+    for name in ("spacy", "spacy-lookups-data", "gensim", "faker"):
         try:
             out[name] = version(name)
         except PackageNotFoundError:  # pragma: no cover - all are dependencies

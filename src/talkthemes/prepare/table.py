@@ -47,6 +47,8 @@ class TokenTable:
         Transcripts left without text by each step so far, in step order.
     report : dict
         The ``--explain`` sections written so far.
+    saved : dict
+        What the corpus steps decided that the prep saves (``prep.json``), by step.
     """
 
     tids: list[str]
@@ -60,6 +62,7 @@ class TokenTable:
     sent_kept: NDArray[np.int64]
     emptied: dict[str, NDArray[np.bool_]] = field(default_factory=dict)
     report: dict[str, Any] = field(default_factory=dict)
+    saved: dict[str, Any] = field(default_factory=dict)
 
     @property
     def n_docs(self) -> int:

@@ -1,0 +1,508 @@
+"""Step 4a, names: keep people's names out of the vocabulary (``[prepare] drop_names``).
+
+Agents introduce themselves, callers give their names, both address each other; without this
+step those names become terms (``priya``, ``power_dmitri``) and even themes. The step runs
+with the lemmas, on the token stream of each batch (:func:`mark_names`, vectorised like the
+rest of the fast path), and finishes in the corpus phase (:mod:`.names_corpus`), before
+headwords, boilerplate and phrases. A removed name leaves a gap: the words on either side are
+not adjacent for the phrases step.
+
+Where names come from
+    * **Speaker labels** of the transcript: the words of ``Agent (Priya)``, ``Priya:``,
+      ``Dana (customer)`` that are not role words (``agent``, ``caller`` …), stop words or
+      ordinary words (an ordinary word counts when it is also in the first-name list:
+      ``Agent Grace``) — :func:`label_names`.
+    * **Cues** in the text: a word introduced by "my name is / my name's …", "… speaking",
+      "this is … speaking", "you're through to …", "speaking with …"; a word after "it's",
+      "this is", "I'm"; a word addressed after "thanks", "thank you", "hi", "hello", "bye",
+      "sorry" …; and the answer to a name question ("can I take your name?" → "Um, Dana.").
+    * **The first-name list** (:func:`talkthemes.text.names.first_names`, from the ``faker``
+      package) for names that no label or cue gives away.
+
+What is ordinary
+    A word is *ordinary* when the lexicon of the language holds it: spaCy's stop words, the
+    words of its lookup lemma table (both sides), the verbs, adjectives and adverbs of its
+    lemma index, the shipped fillers, and (English) month and day names. ``bill``, ``will``,
+    ``grace``, ``mark``, ``june`` are ordinary; ``priya`` is not.
+
+The rule, token by token (a *cased* transcript has some word written with a capital; text
+from speech recognisers is often all lower case)
+    1. A word at a cue is removed (strong cues accept a capitalised word, a first name or a
+       word that is not ordinary; "it's …" and greetings need more evidence, see
+       :func:`mark_names`), and so is a capitalised surname right after it.
+    2. A name of the transcript (from its labels or cues) is removed where it is written
+       with a capital; written otherwise it is *suspect*.
+    3. A first name that is not ordinary is suspect where it is written with a capital or
+       the transcript is not cased; in lower case in a cased transcript it is used as a
+       word and counts as such.
+    4. Any other capitalised word that does not start a sentence (the names rule of the
+       lemma step) is *capitalised*: removed when the corpus knows it as a name — given by
+       a label or a cue in at least :data:`MIN_NAMED_TRANSCRIPTS` transcripts.
+    5. The corpus decides the suspects: a suspect is kept only where the corpus uses the
+       word as a word, in at least ``vocab_min_docs`` transcripts outside rules 1–3.
+    ``[prepare] not_names`` lists words never taken for names.
+
+So in all-lower-case text only label names, cue names and first names that are not ordinary
+words are removed, and an ordinary word survives in lower-case use unless it is a name of
+that very transcript and the corpus never uses it as a word.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from functools import cache
+
+import numpy as np
+from numpy.typing import NDArray
+
+from talkthemes.errors import TalkthemesError
+from talkthemes.prepare.headwords import ALL_CAPS_MIN_WORDS, NOUNS_CAPITALISED, lemma_index_by_pos
+from talkthemes.prepare.lexicon import load_lemma_table, spacy_stop_words
+from talkthemes.text.names import MONTHS_DAYS, ROLE_WORDS, first_names
+
+__all__ = [
+    "CAPITAL",
+    "CUE",
+    "KNOWN",
+    "MIN_NAMED_TRANSCRIPTS",
+    "NAME_MARK",
+    "SUSPECT",
+    "NameLexicon",
+    "NameMarks",
+    "all_caps",
+    "label_names",
+    "mark_names",
+    "name_type",
+    "parse_name_type",
+    "rule_positions",
+    "title_case",
+]
+
+#: A word must be given as a name (by a label or a cue) in at least this many transcripts
+#: before its capitalised uses elsewhere are removed (rule 4).
+MIN_NAMED_TRANSCRIPTS = 2
+
+#: What :func:`mark_names` does with a token.
+NONE, CUE, KNOWN, SUSPECT, CAPITAL = 0, 1, 2, 3, 4
+
+#: Starts the term of a suspect or capitalised token: ``NAME_MARK + kind + word + NAME_MARK
+#: + term`` (kind ``s`` or ``c``); the corpus phase resolves it to ``term`` or drops it.
+NAME_MARK = "\x1e"
+
+# Words that introduce, address or ask for a name, by class (lower-case, as the word
+# pattern splits them: "name's" is "name" + "s", "you're" is "you" + "re").
+_CLASSES: dict[str, int] = {}
+(
+    _MY,
+    _NAME,
+    _IS,
+    _S,
+    _THE,
+    _THIS,
+    _IT,
+    _I,
+    _M,
+    _AM,
+    _YOU,
+    _RE,
+    _ARE,
+    _THROUGH,
+    _TO,
+    _WITH,
+    _SPEAKING,
+    _AFTER,  # here, from, calling: "it's Dana here"
+    _GREET,  # thanks, cheers, hi, hello …
+    _THANK,
+    _YOUR,
+    _WHO,
+    _CALLING,
+    _SKIP,  # words an answer to "your name?" may start with: um, yeah, oh, sorry …
+) = range(1, 25)
+for _words, _class in (
+    ("my", _MY),
+    ("name", _NAME),
+    ("is", _IS),
+    ("s", _S),
+    ("the", _THE),
+    ("this", _THIS),
+    ("it", _IT),
+    ("i", _I),
+    ("m", _M),
+    ("am", _AM),
+    ("you", _YOU),
+    ("re", _RE),
+    ("are", _ARE),
+    ("through", _THROUGH),
+    ("to", _TO),
+    ("with", _WITH),
+    ("speaking", _SPEAKING),
+    ("here from", _AFTER),
+    ("thanks cheers hi hello hey bye goodbye morning afternoon evening sorry dear", _GREET),
+    ("thank", _THANK),
+    ("your", _YOUR),
+    ("who", _WHO),
+    ("calling", _CALLING),
+    ("um uh erm er oh yeah yes yep so well right okay ok hello hi", _SKIP),
+):
+    for _w in _words.split():
+        _CLASSES.setdefault(_w, _class)
+# words an answer may start with besides _SKIP ("Yeah, it's Dana", "My name's Dana")
+_ANSWER_SKIP = frozenset({_SKIP, _GREET, _IT, _S, _IS, _MY, _NAME, _I, _M, _AM, _THIS})
+
+# Replies that follow a cue word but are never names ("Thanks, great.", "It's fine.").
+_REPLIES = frozenset(
+    "sorry fine okay ok great right here there done true yes yeah no nope sure well good "
+    "perfect lovely brilliant thanks cheers bye hello hi hey mm hmm uh um oh ah".split()
+)
+_LABEL_WORD = re.compile(r"[^\W\d_]+")
+
+
+@dataclass(frozen=True)
+class NameLexicon:
+    """The word lists the step decides with.
+
+    Attributes
+    ----------
+    first : frozenset of str
+        First names, lower-cased (:func:`~talkthemes.text.names.first_names`).
+    ordinary : frozenset of str
+        The ordinary words of the language (see the module notes), lower-cased.
+    never : frozenset of str
+        Words never taken for names: stop words, fillers, role words, replies, month and
+        day names, and ``[prepare] not_names``.
+    capitals : bool
+        Whether a capital tells a name (not in languages that capitalise every noun).
+    """
+
+    first: frozenset[str]
+    ordinary: frozenset[str]
+    never: frozenset[str]
+    capitals: bool = True
+    classes: dict[str, int] = field(default_factory=lambda: dict(_CLASSES), repr=False)
+
+    @classmethod
+    def build(
+        cls, lang: str, *, fillers: Iterable[str] = (), not_names: Iterable[str] = ()
+    ) -> NameLexicon:
+        """The lexicon of a language (see the module notes).
+
+        Parameters
+        ----------
+        lang : str
+            spaCy language code.
+        fillers : iterable of str
+            The chain's fillers list (ordinary words, never names).
+        not_names : iterable of str
+            ``[prepare] not_names``.
+        """
+        stop = spacy_stop_words(lang)
+        fill = frozenset(w.lower() for w in fillers)
+        ordinary = set(stop) | fill | _table_words(lang)
+        by_pos = lemma_index_by_pos(lang)
+        for pos in ("verb", "adj", "adv"):
+            ordinary |= by_pos.get(pos, frozenset())
+        if lang == "en":
+            ordinary |= MONTHS_DAYS
+        never = (
+            stop
+            | fill
+            | ROLE_WORDS
+            | _REPLIES
+            | (MONTHS_DAYS if lang == "en" else frozenset())
+            | frozenset(w.strip().lower() for w in not_names)
+        )
+        return cls(
+            first=_first_lower(),
+            ordinary=frozenset(ordinary),
+            never=frozenset(never),
+            capitals=lang not in NOUNS_CAPITALISED,
+        )
+
+    def nameable(self, lower: str) -> bool:
+        """Whether a word (lower-cased) can be a name at all."""
+        return len(lower) >= 2 and lower.isalpha() and lower not in self.never
+
+    def word_class(self, lower: str) -> int:
+        """The cue class of a word (0: none)."""
+        return self.classes.get(lower, 0)
+
+
+@cache
+def _first_lower() -> frozenset[str]:
+    return frozenset(n.lower() for n in first_names())
+
+
+@cache
+def _table_words(lang: str) -> frozenset[str]:
+    try:
+        table = load_lemma_table(lang)
+    except TalkthemesError:  # no lookup table for the language: stop words and index only
+        return frozenset()
+    return frozenset({k.lower() for k in table} | {v.lower() for v in table.values()})
+
+
+def title_case(word: str) -> bool:
+    """Whether a word is written with a capital and not all in capitals (``Priya``, not
+    ``PRIYA`` nor the pronoun ``I``)."""
+    return word[:1].isupper() and not word.isupper()
+
+
+def all_caps(word: str) -> bool:
+    """Whether a word of two letters or more is written all in capitals (``AC``)."""
+    return len(word) > 1 and word.isupper()
+
+
+def rule_positions(
+    cap: NDArray[np.bool_],
+    first: NDArray[np.bool_],
+    starts: NDArray[np.int64],
+    lengths: NDArray[np.int64],
+) -> NDArray[np.int64]:
+    """Positions of the capitalised words the names rule of the lemma step takes for names
+    (:func:`~talkthemes.prepare.headwords.name_flags` over every sentence at once).
+
+    Parameters
+    ----------
+    cap : ndarray of bool, one per word
+        Capitalised words.
+    first : ndarray of bool
+        First words of their sentences.
+    starts, lengths : ndarray of int64
+        Position of each sentence's first word, and its number of words.
+    """
+    at = np.flatnonzero(cap)
+    if at.size == 0:
+        return at
+    sentence = np.searchsorted(starts, at, side="right") - 1
+    all_caps = (np.bincount(sentence, minlength=lengths.size) == lengths) & (
+        lengths >= ALL_CAPS_MIN_WORDS
+    )
+    # a sentence's first word is a name only when the next word is a capitalised one
+    after = np.minimum(at + 1, cap.size - 1)
+    next_cap = (at + 1 < cap.size) & cap[after] & ~first[after]
+    return at[(~first[at] | next_cap) & ~all_caps[sentence]]
+
+
+def label_names(label: str, lexicon: NameLexicon) -> frozenset[str]:
+    """The names (lower-cased) in a speaker label: ``"Agent (Priya)"`` → ``{"priya"}``.
+
+    A word of the label is a name when it can be one (:meth:`NameLexicon.nameable`: not a
+    role word, stop word or reply) and is not an ordinary word, or is one that is also a
+    first name (``Agent Grace``; but not ``Customer Service``).
+    """
+    out = set()
+    for word in _LABEL_WORD.findall(label):
+        low = word.lower()
+        if lexicon.nameable(low) and (low not in lexicon.ordinary or low in lexicon.first):
+            out.add(low)
+    return frozenset(out)
+
+
+def name_type(kind: str, word: str, term: str) -> str:
+    """The term string of a suspect (``kind = "s"``) or capitalised (``"c"``) token."""
+    return f"{NAME_MARK}{kind}{word}{NAME_MARK}{term}"
+
+
+def parse_name_type(t: str) -> tuple[str, str, str] | None:
+    """``(kind, word, term)`` of a term made by :func:`name_type`, else None."""
+    if not t.startswith(NAME_MARK):
+        return None
+    head, _, term = t[1:].partition(NAME_MARK)
+    return head[:1], head[1:], term
+
+
+@dataclass
+class NameMarks:
+    """What :func:`mark_names` found in a batch.
+
+    Attributes
+    ----------
+    action : ndarray of int8, one per token
+        :data:`NONE`, :data:`CUE` (removed at a cue), :data:`KNOWN` (a name of the
+        transcript, capitalised: removed), :data:`SUSPECT` or :data:`CAPITAL`.
+    named : list of set of int
+        Per transcript, the lower-case ids of its names (labels and cues).
+    """
+
+    action: NDArray[np.int8]
+    named: list[set[int]]
+
+
+def _shift(values: NDArray[np.int64], k: int, group: NDArray[np.int64]) -> NDArray[np.int64]:
+    """``values[i - k]`` where token ``i - k`` is in the same group as ``i`` (else 0);
+    negative ``k`` looks ahead."""
+    n = values.size
+    out = np.zeros(n, dtype=values.dtype)
+    if abs(k) >= n:
+        return out
+    if k > 0:
+        same = group[k:] == group[:-k]
+        out[k:] = np.where(same, values[:-k], 0)
+    else:
+        k = -k
+        same = group[:-k] == group[k:]
+        out[:-k] = np.where(same, values[k:], 0)
+    return out
+
+
+def mark_names(
+    *,
+    cls: NDArray[np.int64],
+    low: NDArray[np.int64],
+    title: NDArray[np.bool_],
+    upper: NDArray[np.bool_],
+    nameable: NDArray[np.bool_],
+    first: NDArray[np.bool_],
+    ordinary: NDArray[np.bool_],
+    flagged: NDArray[np.bool_],
+    sent: NDArray[np.int64],
+    line: NDArray[np.int64],
+    doc: NDArray[np.int64],
+    n_docs: int,
+    labels: Sequence[Iterable[int]] = (),
+    capitals: bool = True,
+) -> NameMarks:
+    """Decide, token by token, what the names step does (rules 1–4 of the module notes).
+
+    Parameters
+    ----------
+    cls, low : ndarray of int64, one per token
+        Cue class (:meth:`NameLexicon.word_class`) and an id of the lower-cased word.
+    title : ndarray of bool
+        Written with a capital and not all in capitals ("Priya", not "PRIYA" or "I").
+    upper : ndarray of bool
+        Written all in capitals, two letters or more: in a cased transcript an acronym
+        ("AC"), never a name.
+    nameable, first, ordinary : ndarray of bool
+        :meth:`NameLexicon.nameable`, in the first-name list, an ordinary word.
+    flagged : ndarray of bool
+        Capitalised words that do not start a sentence (the names rule of the lemma step).
+    sent, line, doc : ndarray of int64
+        Sentence, line (turn) and transcript (0-based) of each token.
+    n_docs : int
+    labels : sequence of iterable of int
+        Per transcript, the lower-case ids of its label names.
+    capitals : bool
+        False for languages that capitalise every noun: no word counts as capitalised.
+
+    Returns
+    -------
+    NameMarks
+    """
+    n = cls.size
+    action = np.zeros(n, dtype=np.int8)
+    named: list[set[int]] = [set(ids) for ids in labels] or [set() for _ in range(n_docs)]
+    while len(named) < n_docs:
+        named.append(set())
+    if n == 0:
+        return NameMarks(action, named)
+    if not capitals:
+        title = np.zeros(n, dtype=bool)
+        flagged = title
+    cased = np.bincount(doc[title], minlength=n_docs) > 0
+    nameable = nameable & ~(upper & cased[doc])
+    p1, p2, p3 = (_shift(cls, k, sent) for k in (1, 2, 3))
+    nx = _shift(cls, -1, sent)
+    last = _shift(np.ones(n, dtype=np.int64), -1, sent) == 0
+    start = _shift(np.ones(n, dtype=np.int64), 1, sent) == 0
+    after = last | (nx == _AFTER) | (nx == _SPEAKING) | (nx == _CALLING)
+    likely = first | ~ordinary
+    # "my name is …", "… speaking": a capitalised word is enough
+    introduced = (
+        ((p3 == _MY) & (p2 == _NAME) & ((p1 == _IS) | (p1 == _S)))
+        | ((p3 == _THE) & (p2 == _NAME) & (p1 == _S))
+        | ((nx == _SPEAKING) & (start | ((p2 == _THIS) & (p1 == _IS)) | title))
+    )
+    # "you're through to …", "speaking with …": also said of teams ("through to Billing")
+    reached = ((p2 == _THROUGH) & (p1 == _TO) & ((p3 == _RE) | (p3 == _ARE))) | (
+        (p2 == _SPEAKING) & ((p1 == _TO) | (p1 == _WITH))
+    )
+    # "it's …", "this is …", "I'm …": also said of anything ("it's fine", "I'm calling")
+    said = (
+        ((p2 == _THIS) & (p1 == _IS))
+        | ((p2 == _IT) & ((p1 == _S) | (p1 == _IS)))
+        | ((p2 == _I) & ((p1 == _M) | (p1 == _AM)))
+    )
+    # "thanks …", "hi …", "thank you …": a name only when it ends the sentence or is a
+    # first name ("Good morning, Tallowmere, this is …" is not)
+    greeted = (p1 == _GREET) | ((p2 == _THANK) & (p1 == _YOU))
+    accept = nameable & (
+        (introduced & (likely | title))
+        | (reached & (first | (likely & (after | ~title))))
+        | (said & ((title & first) | (likely & after)))
+        | (greeted & ((title & (first | last)) | (~title & first & ~ordinary)))
+    )
+    accept |= _answers(cls, sent, line, doc, nameable & likely)
+    at = np.flatnonzero(accept)
+    # a capitalised word right after a name found at a cue is a surname
+    nxt = at + 1
+    nxt = nxt[nxt < n]
+    nxt = nxt[(sent[nxt] == sent[nxt - 1]) & title[nxt] & nameable[nxt]]
+    cued = np.union1d(at, nxt)
+    action[cued] = CUE
+    for d, w in zip(doc[cued].tolist(), low[cued].tolist(), strict=True):
+        named[d].add(w)
+    # names of the transcript elsewhere in it
+    base = int(low.max()) + 1 if n else 1
+    wanted = np.asarray(
+        sorted(d * base + w for d, ws in enumerate(named) for w in ws if w < base), dtype=np.int64
+    )
+    known = np.zeros(n, dtype=bool)
+    if wanted.size:
+        known = np.isin(doc * base + low, wanted) & (action == NONE)
+    action[known & title] = KNOWN
+    action[known & ~title] = SUSPECT
+    # first names that are not ordinary words
+    candidate = (action == NONE) & nameable & first & ~ordinary
+    action[candidate & (title | ~cased[doc])] = SUSPECT
+    # any other capitalised word inside a sentence
+    action[(action == NONE) & flagged & title & nameable] = CAPITAL
+    return NameMarks(action, named)
+
+
+def _answers(
+    cls: NDArray[np.int64],
+    sent: NDArray[np.int64],
+    line: NDArray[np.int64],
+    doc: NDArray[np.int64],
+    likely: NDArray[np.bool_],
+) -> NDArray[np.bool_]:
+    """Answers to a name question: the first sentence of the next line, after words such as
+    "um", "yeah", "it's", when one or two words are left (a name and a surname)."""
+    n = cls.size
+    out = np.zeros(n, dtype=bool)
+    n1, n2, n3 = (_shift(cls, -k, sent) for k in (1, 2, 3))
+    # "your name", "who's calling", "who is this", "who am I speaking with"
+    question = ((_shift(cls, 1, sent) == _YOUR) & (cls == _NAME)) | (
+        (cls == _WHO)
+        & (
+            (((n1 == _S) | (n1 == _IS)) & ((n2 == _CALLING) | (n2 == _THIS)))
+            | ((n1 == _AM) & (n3 == _SPEAKING))
+        )
+    )
+    asked = np.flatnonzero(question)
+    if asked.size == 0:
+        return out
+    line_start = np.flatnonzero(np.r_[True, line[1:] != line[:-1]])
+    for q in asked.tolist():
+        k = int(np.searchsorted(line_start, q, side="right"))
+        if k >= line_start.size:
+            continue
+        i = int(line_start[k])
+        if doc[i] != doc[q] or line[i] != line[q] + 1:
+            continue
+        s = sent[i]
+        j = i
+        while j < n and sent[j] == s and cls[j] in _ANSWER_SKIP:
+            j += 1
+        if j >= n or sent[j] != s:
+            continue
+        end = j
+        while end < n and sent[end] == s:
+            end += 1
+        if end - j <= 2 and likely[j]:
+            out[j] = True
+    return out
+
