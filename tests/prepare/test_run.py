@@ -156,6 +156,7 @@ def test_explain_outputs(filled: Workspace):
     assert [r["step"] for r in rows] == [
         "roles",
         "scrub",
+        "names",
         "boilerplate",
         "lemmas",
         "filter",

@@ -132,8 +132,10 @@ def prepare(
     ws = open_workspace(workspace)
     with lock(ws, "prepare", wait), progress_bar("prepare", enabled=not as_json) as update:
         result = run_prepare(ws, force=force, progress=update)
+    # names removed by the chain are people's data: shown only where the workspace allows
+    original = ws.settings().view.original_text
     if as_json:
-        emit_json(explain_json(result))
+        emit_json(explain_json(result, original_text=original))
         return
     s = result.summary
     if result.cached:
@@ -144,5 +146,5 @@ def prepare(
         console=out,
     )
     if explain:
-        render_explain(out, result.explain)
+        render_explain(out, result.explain, original_text=original)
     say("Next: talkthemes sweep")

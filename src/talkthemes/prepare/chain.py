@@ -73,6 +73,8 @@ _MIN_BATCHES_PER_WORKER = 2
 #: not adjacent (see :data:`talkthemes.prepare.words.GAP`).
 _SCRUB_MARK = f" {GAP} "
 
+_NO_NAMES: frozenset[str] = frozenset()
+
 #: Fewer terms than this left after the vocabulary step stops the chain.
 MIN_TERMS = 50
 #: Fewer usable transcripts than this stops the chain.
@@ -126,20 +128,22 @@ class TranscriptProcessor:
         """The names in a transcript's speaker labels (empty when the names step is off or
         the turns carry no labels)."""
         lexicon = self.encoder.person_names
-        if lexicon is None:
-            return frozenset()
-        out: set[str] = set()
+        if lexicon is None or not turns or len(turns[0]) < 3:
+            return _NO_NAMES
         cache = self._labels
-        for turn in turns:
-            if len(turn) > 2 and turn[2]:
-                label = turn[2]
-                found = cache.get(label)
-                if found is None:
-                    found = label_names(label, lexicon)
+        found = [cache.get(label) for label in {turn[2] for turn in turns}]
+        if None in found:
+            found = []
+            for label in {turn[2] for turn in turns}:
+                names = cache.get(label)
+                if names is None:
+                    names = label_names(label or "", lexicon)
                     if len(cache) < 100_000:
-                        cache[label] = found
-                out |= found
-        return frozenset(out)
+                        cache[label] = names
+                found.append(names)
+        if len(found) == 1:
+            return found[0]  # type: ignore[return-value]
+        return frozenset().union(*found)  # type: ignore[arg-type]
 
     def text(
         self, turns: Sequence[tuple[str, ...]], counts: dict[str, int] | None = None

@@ -19,15 +19,14 @@ from numpy.typing import NDArray
 from talkthemes.prepare.boilerplate import sentence_key
 from talkthemes.prepare.filter import KEEP, NAME, TokenFilter
 from talkthemes.prepare.headwords import NOUNS_CAPITALISED, PROVISIONAL, Headwords
-from talkthemes.prepare.names import (
+from talkthemes.prepare.names import NameLexicon, name_type, parse_name_type
+from talkthemes.prepare.names_mark import (
     CAPITAL,
     CUE,
     KNOWN,
     SUSPECT,
-    NameLexicon,
+    NameColumns,
     mark_names,
-    name_type,
-    parse_name_type,
 )
 
 __all__ = [
@@ -203,6 +202,7 @@ class Encoder(ABC):
         self._low_ids: dict[str, int] = {}
         self.lows: list[str] = []
         self._name_codes: dict[tuple[int, int, int], int] = {}
+        self._label_cache: dict[frozenset[str], tuple[int, ...]] = {}
 
     def low_id(self, lower: str) -> int:
         """An id of a lower-cased word (for the names step)."""
@@ -215,51 +215,63 @@ class Encoder(ABC):
     def find_names(
         self,
         codes: NDArray[np.int64],
+        word: NDArray[np.int64],
+        cols: NameColumns,
         *,
         labels: Sequence[Iterable[str]] | None,
-        low: NDArray[np.int64],
         doc: NDArray[np.int64],
         n_docs: int,
-        **columns: Any,
+        **where: Any,
     ) -> PersonNames:
         """Run the names step over a batch's tokens and change their codes in place.
 
         Names removed get code ``-NAME``; suspect and capitalised tokens (that the filter
         keeps) get a provisional name term (:func:`~talkthemes.prepare.names.name_type`)
-        for the corpus to decide. ``columns`` are the other arrays
-        :func:`~talkthemes.prepare.names.mark_names` takes.
+        for the corpus to decide. ``word``, ``cols`` and ``where`` (``flagged``, ``sent``,
+        ``line``) are as :func:`~talkthemes.prepare.names_mark.mark_names` takes them.
         """
         lex = self.person_names
         assert lex is not None
-        label_ids = [{self.low_id(w) for w in ws} for ws in labels] if labels else []
+        label_ids = [self._label_ids(ws) for ws in labels] if labels else []
+        label_ids += [()] * (n_docs - len(label_ids))
         marks = mark_names(
-            low=low,
-            doc=doc,
-            n_docs=n_docs,
-            labels=label_ids,
-            capitals=lex.capitals,
-            **columns,
+            word, cols, doc=doc, n_docs=n_docs, labels=label_ids, capitals=lex.capitals, **where
         )
         action = marks.action
-        kept = codes >= 0
+        touched = np.flatnonzero(action)
+        act = action[touched]
+        kept = codes[touched] >= 0
+        low = cols.low[word[touched]]
         out = PersonNames()
-        for source, act in (("cue", CUE), ("known", KNOWN)):
-            hit = (action == act) & kept
+        for source, kind in (("cue", CUE), ("known", KNOWN)):
+            hit = (act == kind) & kept
             if hit.any():
                 ids, counts = np.unique(low[hit], return_counts=True)
                 for w, c in zip(ids.tolist(), counts.tolist(), strict=True):
                     out.found[(source, self.lows[w])] = c
-                codes[hit] = -NAME
-        for act, kind in ((SUSPECT, "s"), (CAPITAL, "c")):
-            at = np.flatnonzero((action == act) & kept)
-            if at.size:
-                pairs = zip(low[at].tolist(), codes[at].tolist(), strict=True)
-                codes[at] = [self._name_code(kind, w, c) for w, c in pairs]
-        for ws in marks.named:
-            for w in ws:
-                word = self.lows[w]
-                out.named[word] = out.named.get(word, 0) + 1
+                codes[touched[hit]] = -NAME
+        for kind, tag in ((SUSPECT, "s"), (CAPITAL, "c")):
+            hit = touched[(act == kind) & kept]
+            if hit.size:
+                # one provisional code per distinct (word, code) pair
+                keys, inverse = np.unique(
+                    (cols.low[word[hit]] << 32) | codes[hit], return_inverse=True
+                )
+                new = [self._name_code(tag, k >> 32, k & 0xFFFFFFFF) for k in keys.tolist()]
+                codes[hit] = np.asarray(new, dtype=np.int64)[inverse.ravel()]
+        if marks.named.size:
+            ids, counts = np.unique(marks.named[:, 1], return_counts=True)
+            out.named = {
+                self.lows[w]: c for w, c in zip(ids.tolist(), counts.tolist(), strict=True)
+            }
         return out
+
+    def _label_ids(self, names: Iterable[str]) -> tuple[int, ...]:
+        key = names if isinstance(names, frozenset) else frozenset(names)
+        found = self._label_cache.get(key)
+        if found is None:
+            found = self._label_cache[key] = tuple(self.low_id(w) for w in key)
+        return found
 
     def _name_code(self, kind: str, low: int, code: int) -> int:
         """The code of a suspect or capitalised token whose own code is ``code``."""

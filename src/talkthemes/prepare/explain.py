@@ -14,6 +14,15 @@ The report, by key:
 ``scrub``
     ``removed`` (count per kind: email, url, phone, card, number, tag), ``words_removed``,
     ``emptied``.
+``names``
+    ``enabled``, ``removed`` (tokens per way they were found: ``cue``, ``known``,
+    ``suspect``, ``capitalised``), ``tokens_removed``, ``distinct``, ``named`` (words
+    given as names in enough transcripts), ``min_docs``, ``top`` (the names removed most:
+    ``name``, ``count``), ``kept_as_words`` (suspects the corpus uses as words: ``word``,
+    ``transcripts``), ``ordinary`` (first names kept as ordinary words: ``word``,
+    ``count``), ``emptied``; see :mod:`talkthemes.prepare.names`. Names are people's
+    data: the terminal and ``--json`` show them masked (``p····``) unless ``[view]
+    original_text`` is on; ``explain.json`` keeps them.
 ``boilerplate``
     ``sentences`` (each ``sentence``, ``transcripts``, ``share``), ``sentences_removed``,
     ``words_removed``, ``emptied``.
@@ -45,11 +54,33 @@ if TYPE_CHECKING:  # pragma: no cover
 
     from talkthemes.prepare.run import PrepareResult
 
-__all__ = ["explain_json", "explain_rows", "render_explain"]
+__all__ = ["explain_json", "explain_rows", "mask_name", "render_explain"]
+
+#: How each way of finding a name reads in the step row.
+_NAME_SOURCES = {
+    "cue": "at cues",
+    "known": "names of the call",
+    "suspect": "suspects",
+    "capitalised": "capitalised",
+}
 
 
 def _n(value: Any) -> str:
     return f"{int(value):,}"
+
+
+def mask_name(name: str) -> str:
+    """A person's name as ``--explain`` shows it by default: its first letter, then a dot
+    per letter (``priya`` → ``p····``)."""
+    return name[:1] + "·" * (len(name) - 1)
+
+
+def _masked_explain(explain: dict[str, Any]) -> dict[str, Any]:
+    names = explain.get("names")
+    if not names or not names.get("top"):
+        return explain
+    masked = {**names, "top": [{**t, "name": mask_name(t["name"])} for t in names["top"]]}
+    return {**explain, "names": masked}
 
 
 def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
@@ -87,6 +118,9 @@ def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
             "details": (kinds or "nothing found") if s["enabled"] else "off",
         }
     )
+    names = explain.get("names")
+    if names is not None:
+        rows.append(_names_row(names))
     b = explain["boilerplate"]
     rows.append(
         {
@@ -161,12 +195,32 @@ def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
     return rows
 
 
-def explain_json(result: PrepareResult) -> dict[str, Any]:
+def _names_row(names: dict[str, Any]) -> dict[str, str]:
+    if not names.get("enabled"):
+        return {"step": "names", "removed": "0 tokens", "emptied": "0", "details": "off"}
+    found = ", ".join(
+        f"{_NAME_SOURCES.get(k, k)} {_n(v)}" for k, v in names.get("removed", {}).items() if v
+    )
+    kept = len(names.get("kept_as_words", []))
+    return {
+        "step": "names",
+        "removed": f"{_n(names['tokens_removed'])} tokens",
+        "emptied": _n(names.get("emptied", 0)),
+        "details": f"{_n(names.get('distinct', 0))} names"
+        + (f" ({found})" if found else "")
+        + f"; {_n(kept)} kept where used as words",
+    }
+
+
+def explain_json(result: PrepareResult, *, original_text: bool = False) -> dict[str, Any]:
     """The JSON document ``prepare --json`` prints.
 
     Parameters
     ----------
     result : PrepareResult
+    original_text : bool
+        Show the names the names step removed (``[view] original_text``); masked otherwise
+        (:func:`mask_name`).
 
     Returns
     -------
@@ -178,11 +232,17 @@ def explain_json(result: PrepareResult) -> dict[str, Any]:
         "cached": result.cached,
         "path": str(result.path),
         "summary": result.summary,
-        "explain": result.explain,
+        "explain": result.explain if original_text else _masked_explain(result.explain),
     }
 
 
-def render_explain(console: Console, explain: dict[str, Any], *, max_excluded: int = 20) -> None:
+def render_explain(
+    console: Console,
+    explain: dict[str, Any],
+    *,
+    max_excluded: int = 20,
+    original_text: bool = False,
+) -> None:
     """Print the report as tables.
 
     Parameters
@@ -192,6 +252,8 @@ def render_explain(console: Console, explain: dict[str, Any], *, max_excluded: i
         The chain's report.
     max_excluded : int
         Excluded transcripts listed by id (the rest are counted).
+    original_text : bool
+        Show the names the names step removed (``[view] original_text``); masked otherwise.
     """
     from rich.markup import escape
     from rich.table import Table
@@ -219,6 +281,7 @@ def render_explain(console: Console, explain: dict[str, Any], *, max_excluded: i
             table.add_row(escape(s["sentence"]), _n(s["transcripts"]), f"{s['share']:.1%}")
         console.print(table)
 
+    _render_names(console, explain.get("names") or {}, original_text)
     _render_lemmas(console, explain["lemmas"])
 
     top = explain["phrases"].get("top", [])
@@ -287,4 +350,37 @@ def _render_lemmas(console: Console, lem: dict[str, Any]) -> None:
         table.add_column("count", justify="right")
         for n in names["top"]:
             table.add_row(escape(n["name"]), escape(n["table"]), _n(n["count"]))
+        console.print(table)
+
+
+def _render_names(console: Console, names: dict[str, Any], original_text: bool) -> None:
+    """The names step: the names removed (masked unless allowed), the words it left alone."""
+    from rich.markup import escape
+    from rich.table import Table
+
+    if names.get("top"):
+        how = "" if original_text else " (masked: [view] original_text = true shows them)"
+        table = Table(title=f"people's names removed, most frequent{escape(how)}")
+        table.add_column("name")
+        table.add_column("tokens", justify="right")
+        for t in names["top"]:
+            shown = t["name"] if original_text else mask_name(t["name"])
+            table.add_row(escape(shown), _n(t["count"]))
+        console.print(table)
+    if names.get("kept_as_words"):
+        table = Table(
+            title=f"names kept where used as words (in ≥ {names.get('min_docs', 0)} "
+            "transcripts outside names)"
+        )
+        table.add_column("word")
+        table.add_column("transcripts", justify="right")
+        for t in names["kept_as_words"]:
+            table.add_row(escape(t["word"]), _n(t["transcripts"]))
+        console.print(table)
+    if names.get("ordinary"):
+        table = Table(title="first names kept as ordinary words")
+        table.add_column("word")
+        table.add_column("tokens", justify="right")
+        for t in names["ordinary"]:
+            table.add_row(escape(t["word"]), _n(t["count"]))
         console.print(table)

@@ -40,6 +40,7 @@ from talkthemes.prepare.encoding import (
 from talkthemes.prepare.filter import NON_ALPHA, TokenFilter
 from talkthemes.prepare.headwords import Headwords, capitalised
 from talkthemes.prepare.names import NameLexicon, all_caps, rule_positions, title_case
+from talkthemes.prepare.names_mark import NameColumns
 from talkthemes.prepare.words import (
     CUT,
     DOC_SEP,
@@ -252,9 +253,9 @@ class FastLemmatizer(Encoder):
             ]
         arr = np.fromiter(sids, dtype=np.int64, count=len(sids))
         columns = self._tables()
-        kind_of, code_of, name_code_of, value_of, soft_of, cap_of, counted_of, renamed_of = (
-            columns[:8]
-        )
+        kind_of, code_of, name_code_of, value_of, soft_of, cap_of, counted_of, renamed_of = columns[
+            :8
+        ]
         kind = kind_of[arr]
         is_doc = kind == KIND_DOC
         doc = np.cumsum(is_doc)
@@ -279,22 +280,19 @@ class FastLemmatizer(Encoder):
         codes[cut_word] = -NON_ALPHA
         person: PersonNames | None = None
         if self.person_names is not None:
-            title_of, upper_of, low_of, cls_of, nameable_of, first_of, ordinary_of = columns[8:]
             nl = self._sid.get("\n", -1)
-            line = np.cumsum(is_doc | (arr == nl))[at]
-            title = title_of[word]
+            title_of = columns[8]
+            if self.names:  # the names rule's positions, title-case ones
+                flagged = named[title_of[word[named]]]
+            else:
+                flagged = rule_positions(title_of[word], first, starts, lengths)
             person = self.find_names(
                 codes,
-                cls=cls_of[word],
-                low=low_of[word],
-                title=title,
-                upper=upper_of[word],
-                nameable=nameable_of[word],
-                first=first_of[word],
-                ordinary=ordinary_of[word],
-                flagged=self._flags(title, first, starts, lengths),
+                word,
+                NameColumns(*columns[8:]),
+                flagged=flagged,
                 sent=sent,
-                line=line,
+                line=np.cumsum(is_doc | (arr == nl))[at],
                 doc=doc[at],
                 n_docs=len(texts),
                 labels=labels,
@@ -339,16 +337,3 @@ class FastLemmatizer(Encoder):
         every sentence at once; only the capitalised words are looked at)."""
         cap = cap_of[word] if self.names else np.zeros(0, dtype=bool)
         return rule_positions(cap, first, starts, lengths)
-
-    @staticmethod
-    def _flags(
-        title: NDArray[np.bool_],
-        first: NDArray[np.bool_],
-        starts: NDArray[np.int64],
-        lengths: NDArray[np.int64],
-    ) -> NDArray[np.bool_]:
-        """The names rule over title-case words, as a mask (for the names step)."""
-        out = np.zeros(title.size, dtype=bool)
-        out[rule_positions(title, first, starts, lengths)] = True
-        return out
-

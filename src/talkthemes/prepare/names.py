@@ -50,7 +50,7 @@ that very transcript and the corpus never uses it as a word.
 from __future__ import annotations
 
 import re
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from functools import cache
 
@@ -60,6 +60,7 @@ from numpy.typing import NDArray
 from talkthemes.errors import TalkthemesError
 from talkthemes.prepare.headwords import ALL_CAPS_MIN_WORDS, NOUNS_CAPITALISED, lemma_index_by_pos
 from talkthemes.prepare.lexicon import load_lemma_table, spacy_stop_words
+from talkthemes.prepare.names_mark import CAPITAL, CLASSES, CUE, KNOWN, SUSPECT
 from talkthemes.text.names import MONTHS_DAYS, ROLE_WORDS, first_names
 
 __all__ = [
@@ -70,10 +71,8 @@ __all__ = [
     "NAME_MARK",
     "SUSPECT",
     "NameLexicon",
-    "NameMarks",
     "all_caps",
     "label_names",
-    "mark_names",
     "name_type",
     "parse_name_type",
     "rule_positions",
@@ -84,77 +83,46 @@ __all__ = [
 #: before its capitalised uses elsewhere are removed (rule 4).
 MIN_NAMED_TRANSCRIPTS = 2
 
-#: What :func:`mark_names` does with a token.
-NONE, CUE, KNOWN, SUSPECT, CAPITAL = 0, 1, 2, 3, 4
-
 #: Starts the term of a suspect or capitalised token: ``NAME_MARK + kind + word + NAME_MARK
 #: + term`` (kind ``s`` or ``c``); the corpus phase resolves it to ``term`` or drops it.
 NAME_MARK = "\x1e"
 
-# Words that introduce, address or ask for a name, by class (lower-case, as the word
-# pattern splits them: "name's" is "name" + "s", "you're" is "you" + "re").
-_CLASSES: dict[str, int] = {}
-(
-    _MY,
-    _NAME,
-    _IS,
-    _S,
-    _THE,
-    _THIS,
-    _IT,
-    _I,
-    _M,
-    _AM,
-    _YOU,
-    _RE,
-    _ARE,
-    _THROUGH,
-    _TO,
-    _WITH,
-    _SPEAKING,
-    _AFTER,  # here, from, calling: "it's Dana here"
-    _GREET,  # thanks, cheers, hi, hello …
-    _THANK,
-    _YOUR,
-    _WHO,
-    _CALLING,
-    _SKIP,  # words an answer to "your name?" may start with: um, yeah, oh, sorry …
-) = range(1, 25)
-for _words, _class in (
-    ("my", _MY),
-    ("name", _NAME),
-    ("is", _IS),
-    ("s", _S),
-    ("the", _THE),
-    ("this", _THIS),
-    ("it", _IT),
-    ("i", _I),
-    ("m", _M),
-    ("am", _AM),
-    ("you", _YOU),
-    ("re", _RE),
-    ("are", _ARE),
-    ("through", _THROUGH),
-    ("to", _TO),
-    ("with", _WITH),
-    ("speaking", _SPEAKING),
-    ("here from", _AFTER),
-    ("thanks cheers hi hello hey bye goodbye morning afternoon evening sorry dear", _GREET),
-    ("thank", _THANK),
-    ("your", _YOUR),
-    ("who", _WHO),
-    ("calling", _CALLING),
-    ("um uh erm er oh yeah yes yep so well right okay ok hello hi", _SKIP),
-):
-    for _w in _words.split():
-        _CLASSES.setdefault(_w, _class)
-# words an answer may start with besides _SKIP ("Yeah, it's Dana", "My name's Dana")
-_ANSWER_SKIP = frozenset({_SKIP, _GREET, _IT, _S, _IS, _MY, _NAME, _I, _M, _AM, _THIS})
-
 # Replies that follow a cue word but are never names ("Thanks, great.", "It's fine.").
 _REPLIES = frozenset(
-    "sorry fine okay ok great right here there done true yes yeah no nope sure well good "
-    "perfect lovely brilliant thanks cheers bye hello hi hey mm hmm uh um oh ah".split()
+    [
+        "sorry",
+        "fine",
+        "okay",
+        "ok",
+        "great",
+        "right",
+        "here",
+        "there",
+        "done",
+        "true",
+        "yes",
+        "yeah",
+        "no",
+        "nope",
+        "sure",
+        "well",
+        "good",
+        "perfect",
+        "lovely",
+        "brilliant",
+        "thanks",
+        "cheers",
+        "bye",
+        "hello",
+        "hi",
+        "hey",
+        "mm",
+        "hmm",
+        "uh",
+        "um",
+        "oh",
+        "ah",
+    ]
 )
 _LABEL_WORD = re.compile(r"[^\W\d_]+")
 
@@ -180,7 +148,7 @@ class NameLexicon:
     ordinary: frozenset[str]
     never: frozenset[str]
     capitals: bool = True
-    classes: dict[str, int] = field(default_factory=lambda: dict(_CLASSES), repr=False)
+    classes: dict[str, int] = field(default_factory=lambda: dict(CLASSES), repr=False)
 
     @classmethod
     def build(
@@ -311,198 +279,3 @@ def parse_name_type(t: str) -> tuple[str, str, str] | None:
         return None
     head, _, term = t[1:].partition(NAME_MARK)
     return head[:1], head[1:], term
-
-
-@dataclass
-class NameMarks:
-    """What :func:`mark_names` found in a batch.
-
-    Attributes
-    ----------
-    action : ndarray of int8, one per token
-        :data:`NONE`, :data:`CUE` (removed at a cue), :data:`KNOWN` (a name of the
-        transcript, capitalised: removed), :data:`SUSPECT` or :data:`CAPITAL`.
-    named : list of set of int
-        Per transcript, the lower-case ids of its names (labels and cues).
-    """
-
-    action: NDArray[np.int8]
-    named: list[set[int]]
-
-
-def _shift(values: NDArray[np.int64], k: int, group: NDArray[np.int64]) -> NDArray[np.int64]:
-    """``values[i - k]`` where token ``i - k`` is in the same group as ``i`` (else 0);
-    negative ``k`` looks ahead."""
-    n = values.size
-    out = np.zeros(n, dtype=values.dtype)
-    if abs(k) >= n:
-        return out
-    if k > 0:
-        same = group[k:] == group[:-k]
-        out[k:] = np.where(same, values[:-k], 0)
-    else:
-        k = -k
-        same = group[:-k] == group[k:]
-        out[:-k] = np.where(same, values[k:], 0)
-    return out
-
-
-def mark_names(
-    *,
-    cls: NDArray[np.int64],
-    low: NDArray[np.int64],
-    title: NDArray[np.bool_],
-    upper: NDArray[np.bool_],
-    nameable: NDArray[np.bool_],
-    first: NDArray[np.bool_],
-    ordinary: NDArray[np.bool_],
-    flagged: NDArray[np.bool_],
-    sent: NDArray[np.int64],
-    line: NDArray[np.int64],
-    doc: NDArray[np.int64],
-    n_docs: int,
-    labels: Sequence[Iterable[int]] = (),
-    capitals: bool = True,
-) -> NameMarks:
-    """Decide, token by token, what the names step does (rules 1–4 of the module notes).
-
-    Parameters
-    ----------
-    cls, low : ndarray of int64, one per token
-        Cue class (:meth:`NameLexicon.word_class`) and an id of the lower-cased word.
-    title : ndarray of bool
-        Written with a capital and not all in capitals ("Priya", not "PRIYA" or "I").
-    upper : ndarray of bool
-        Written all in capitals, two letters or more: in a cased transcript an acronym
-        ("AC"), never a name.
-    nameable, first, ordinary : ndarray of bool
-        :meth:`NameLexicon.nameable`, in the first-name list, an ordinary word.
-    flagged : ndarray of bool
-        Capitalised words that do not start a sentence (the names rule of the lemma step).
-    sent, line, doc : ndarray of int64
-        Sentence, line (turn) and transcript (0-based) of each token.
-    n_docs : int
-    labels : sequence of iterable of int
-        Per transcript, the lower-case ids of its label names.
-    capitals : bool
-        False for languages that capitalise every noun: no word counts as capitalised.
-
-    Returns
-    -------
-    NameMarks
-    """
-    n = cls.size
-    action = np.zeros(n, dtype=np.int8)
-    named: list[set[int]] = [set(ids) for ids in labels] or [set() for _ in range(n_docs)]
-    while len(named) < n_docs:
-        named.append(set())
-    if n == 0:
-        return NameMarks(action, named)
-    if not capitals:
-        title = np.zeros(n, dtype=bool)
-        flagged = title
-    cased = np.bincount(doc[title], minlength=n_docs) > 0
-    nameable = nameable & ~(upper & cased[doc])
-    p1, p2, p3 = (_shift(cls, k, sent) for k in (1, 2, 3))
-    nx = _shift(cls, -1, sent)
-    last = _shift(np.ones(n, dtype=np.int64), -1, sent) == 0
-    start = _shift(np.ones(n, dtype=np.int64), 1, sent) == 0
-    after = last | (nx == _AFTER) | (nx == _SPEAKING) | (nx == _CALLING)
-    likely = first | ~ordinary
-    # "my name is …", "… speaking": a capitalised word is enough
-    introduced = (
-        ((p3 == _MY) & (p2 == _NAME) & ((p1 == _IS) | (p1 == _S)))
-        | ((p3 == _THE) & (p2 == _NAME) & (p1 == _S))
-        | ((nx == _SPEAKING) & (start | ((p2 == _THIS) & (p1 == _IS)) | title))
-    )
-    # "you're through to …", "speaking with …": also said of teams ("through to Billing")
-    reached = ((p2 == _THROUGH) & (p1 == _TO) & ((p3 == _RE) | (p3 == _ARE))) | (
-        (p2 == _SPEAKING) & ((p1 == _TO) | (p1 == _WITH))
-    )
-    # "it's …", "this is …", "I'm …": also said of anything ("it's fine", "I'm calling")
-    said = (
-        ((p2 == _THIS) & (p1 == _IS))
-        | ((p2 == _IT) & ((p1 == _S) | (p1 == _IS)))
-        | ((p2 == _I) & ((p1 == _M) | (p1 == _AM)))
-    )
-    # "thanks …", "hi …", "thank you …": a name only when it ends the sentence or is a
-    # first name ("Good morning, Tallowmere, this is …" is not)
-    greeted = (p1 == _GREET) | ((p2 == _THANK) & (p1 == _YOU))
-    accept = nameable & (
-        (introduced & (likely | title))
-        | (reached & (first | (likely & (after | ~title))))
-        | (said & ((title & first) | (likely & after)))
-        | (greeted & ((title & (first | last)) | (~title & first & ~ordinary)))
-    )
-    accept |= _answers(cls, sent, line, doc, nameable & likely)
-    at = np.flatnonzero(accept)
-    # a capitalised word right after a name found at a cue is a surname
-    nxt = at + 1
-    nxt = nxt[nxt < n]
-    nxt = nxt[(sent[nxt] == sent[nxt - 1]) & title[nxt] & nameable[nxt]]
-    cued = np.union1d(at, nxt)
-    action[cued] = CUE
-    for d, w in zip(doc[cued].tolist(), low[cued].tolist(), strict=True):
-        named[d].add(w)
-    # names of the transcript elsewhere in it
-    base = int(low.max()) + 1 if n else 1
-    wanted = np.asarray(
-        sorted(d * base + w for d, ws in enumerate(named) for w in ws if w < base), dtype=np.int64
-    )
-    known = np.zeros(n, dtype=bool)
-    if wanted.size:
-        known = np.isin(doc * base + low, wanted) & (action == NONE)
-    action[known & title] = KNOWN
-    action[known & ~title] = SUSPECT
-    # first names that are not ordinary words
-    candidate = (action == NONE) & nameable & first & ~ordinary
-    action[candidate & (title | ~cased[doc])] = SUSPECT
-    # any other capitalised word inside a sentence
-    action[(action == NONE) & flagged & title & nameable] = CAPITAL
-    return NameMarks(action, named)
-
-
-def _answers(
-    cls: NDArray[np.int64],
-    sent: NDArray[np.int64],
-    line: NDArray[np.int64],
-    doc: NDArray[np.int64],
-    likely: NDArray[np.bool_],
-) -> NDArray[np.bool_]:
-    """Answers to a name question: the first sentence of the next line, after words such as
-    "um", "yeah", "it's", when one or two words are left (a name and a surname)."""
-    n = cls.size
-    out = np.zeros(n, dtype=bool)
-    n1, n2, n3 = (_shift(cls, -k, sent) for k in (1, 2, 3))
-    # "your name", "who's calling", "who is this", "who am I speaking with"
-    question = ((_shift(cls, 1, sent) == _YOUR) & (cls == _NAME)) | (
-        (cls == _WHO)
-        & (
-            (((n1 == _S) | (n1 == _IS)) & ((n2 == _CALLING) | (n2 == _THIS)))
-            | ((n1 == _AM) & (n3 == _SPEAKING))
-        )
-    )
-    asked = np.flatnonzero(question)
-    if asked.size == 0:
-        return out
-    line_start = np.flatnonzero(np.r_[True, line[1:] != line[:-1]])
-    for q in asked.tolist():
-        k = int(np.searchsorted(line_start, q, side="right"))
-        if k >= line_start.size:
-            continue
-        i = int(line_start[k])
-        if doc[i] != doc[q] or line[i] != line[q] + 1:
-            continue
-        s = sent[i]
-        j = i
-        while j < n and sent[j] == s and cls[j] in _ANSWER_SKIP:
-            j += 1
-        if j >= n or sent[j] != s:
-            continue
-        end = j
-        while end < n and sent[end] == s:
-            end += 1
-        if end - j <= 2 and likely[j]:
-            out[j] = True
-    return out
-

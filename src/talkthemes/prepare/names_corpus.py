@@ -116,7 +116,7 @@ def resolve_names(
         at = np.flatnonzero(drop)
         sentence = np.searchsorted(np.cumsum(sent_kept), at, side="right")
         lost = np.bincount(sentence, minlength=sent_kept.size)
-        if sent_stats is not None and NAME < sent_stats.shape[1]:
+        if sent_stats is not None and sent_stats.shape[1] > NAME:
             sent_stats[:, NAME] += lost.astype(sent_stats.dtype)
         # a removed name parts its neighbours: the next kept token starts a run
         seen = np.cumsum(drop)
@@ -191,8 +191,8 @@ def names_step(
     )
     after = table.per_doc(table.sent_kept)
     direct = table.per_doc(table.sent_stats[:, NAME]) if table.sent_stats.size else after * 0
-    table.emptied["names"] = (after == 0) & ((before > after) | (direct > 0)) & (
-        table.per_doc(table.sent_words) > 0
+    table.emptied["names"] = (
+        (after == 0) & ((before > after) | (direct > 0)) & (table.per_doc(table.sent_words) > 0)
     )
     by_word: dict[str, int] = {}
     per_source = {"cue": 0, "known": 0, "suspect": 0, "capitalised": 0}
@@ -246,9 +246,7 @@ def in_use_terms(info: Mapping[str, Any]) -> frozenset[str]:
     return frozenset(str(t) for t in names.get("in_use", ()))
 
 
-def frozen_keep(
-    in_use: Iterable[str], named: Iterable[str]
-) -> Callable[[str, str, str], bool]:
+def frozen_keep(in_use: Iterable[str], named: Iterable[str]) -> Callable[[str, str, str], bool]:
     """The decision of a saved prep, for :func:`resolve_names` (see the module notes)."""
     use = frozenset(in_use)
     hashes = frozenset(named)

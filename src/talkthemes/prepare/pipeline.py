@@ -20,6 +20,7 @@ from talkthemes.prepare.encoding import Encoded, Encoder, PersonNames, kept_brea
 from talkthemes.prepare.filter import NAME, NON_ALPHA, POS, TokenFilter
 from talkthemes.prepare.headwords import name_flags
 from talkthemes.prepare.names import NameLexicon, all_caps, rule_positions, title_case
+from talkthemes.prepare.names_mark import NameColumns
 from talkthemes.prepare.words import GAP, words
 
 __all__ = ["SpacyLemmatizer"]
@@ -287,23 +288,23 @@ class SpacyLemmatizer(Encoder):
         first = np.ones(sentence.size, dtype=bool)
         first[1:] = sentence[1:] != sentence[:-1]
         starts = np.flatnonzero(first)
-        flagged = np.zeros(sentence.size, dtype=bool)
-        flagged[rule_positions(title, first, starts, np.diff(np.append(starts, first.size)))] = (
-            True
-        )
-        return self.find_names(
-            codes,
-            labels=labels,
-            low=np.asarray([self.low_id(w) for w in lowers], dtype=np.int64),
-            doc=sent_doc[sentence],
-            n_docs=n_docs,
-            cls=np.asarray([lex.word_class(w) for w in lowers], dtype=np.int64),
+        cols = NameColumns(
             title=title,
             upper=np.asarray(uppers, dtype=bool),
+            low=np.asarray([self.low_id(w) for w in lowers], dtype=np.int64),
+            cls=np.asarray([lex.word_class(w) for w in lowers], dtype=np.int64),
             nameable=np.asarray([lex.nameable(w) for w in lowers], dtype=bool),
             first=np.asarray([w in lex.first for w in lowers], dtype=bool),
             ordinary=np.asarray([w in lex.ordinary for w in lowers], dtype=bool),
-            flagged=flagged,
+        )
+        return self.find_names(
+            codes,
+            np.arange(sentence.size, dtype=np.int64),
+            cols,
+            labels=labels,
+            doc=sent_doc[sentence],
+            n_docs=n_docs,
+            flagged=rule_positions(title, first, starts, np.diff(np.append(starts, first.size))),
             sent=sentence,
             line=sentence,
         )
