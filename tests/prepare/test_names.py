@@ -17,6 +17,8 @@ import pytest
 from rich.console import Console
 
 from talkthemes.config import PrepareSettings
+from talkthemes.demo.calls import iter_demo_calls
+from talkthemes.demo.scenario import load_scenario
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.corpus import OOV
 from talkthemes.prepare.explain import explain_json, explain_rows, mask_name, render_explain
@@ -278,3 +280,40 @@ def test_no_names_step_when_off():
     row = next(r for r in explain_rows(explain) if r["step"] == "names")
     assert row["details"] == "off"
     assert np.all(corpus.counts.data > 0)
+
+
+# -- the invented demo corpus --------------------------------------------------------------
+def _demo(n: int, **settings) -> tuple[set[str], list[str]]:
+    """The scenario's agent and caller first names, and the vocabulary of ``n`` demo calls."""
+    scenario = load_scenario()
+    people = {p.lower() for site in scenario["sites"].values() for p in site}
+    people |= {p.lower() for p in scenario["customers"]}
+    calls = [
+        (c.call_id, [(t.role, t.text, t.speaker) for t in c.turns])
+        for c in iter_demo_calls(n, seed=7)
+    ]
+    corpus, _ = prepare_corpus(
+        source_of(calls, 500), PrepareSettings(n_process=1, **settings), total=len(calls)
+    )
+    return people, corpus.vocabulary
+
+
+def _named_terms(people: set[str], vocabulary: list[str]) -> list[str]:
+    return [t for t in vocabulary if _parts(t) & people]
+
+
+def test_no_agent_or_caller_name_in_a_small_demo_vocabulary():
+    people, before = _demo(300, drop_names=False)
+    assert len(_named_terms(people, before)) >= 20  # agents' names, "rafael_speak", ...
+    people, after = _demo(300)
+    assert _named_terms(people, after) == []
+    assert len(set(before) - set(after)) >= 20
+
+
+@pytest.mark.slow
+def test_no_agent_or_caller_name_in_the_demo_vocabulary_at_1500_calls():
+    people, vocabulary = _demo(1500)
+    assert len(people) == 116
+    assert _named_terms(people, vocabulary) == []
+    # the ordinary words that are also first names stay
+    assert {"line", "link", "mark", "june", "price", "summer"} <= set(vocabulary)

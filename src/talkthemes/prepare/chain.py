@@ -3,19 +3,19 @@
 The chain runs in two phases.
 
 **Per transcript** (streamed, in worker processes when ``n_process`` > 1, see
-:mod:`.workers`). Every step here
-is a function of one transcript's text: roles (:mod:`.roles`) → scrub (:mod:`.scrub`) →
-sentences (:mod:`.boilerplate`) → words, lemmas and the filter rule (:mod:`.lemmas`,
-:mod:`.filter`). A batch of transcripts becomes a :class:`BatchResult`: integer arrays only
-(kept term ids per sentence, a boilerplate key and step counts per sentence; see
-:mod:`.collect`), so the main process never holds transcripts as objects beyond the batch
-being read.
+:mod:`.workers`). Every step here is a function of one transcript's text: roles
+(:mod:`.roles`) → scrub (:mod:`.scrub`) → sentences (:mod:`.boilerplate`) → words, lemmas
+and the filter rule (:mod:`.lemmas`, :mod:`.filter`), with the names step (:mod:`.names`)
+reading the speaker labels and marking the tokens that are people's names. A batch of
+transcripts becomes a :class:`BatchResult`: integer arrays only (kept term ids per
+sentence, a boilerplate key and step counts per sentence; see :mod:`.collect`), so the main
+process never holds transcripts as objects beyond the batch being read.
 
 **Over the corpus** (numpy, in the main process; :mod:`.assemble`). Each step takes the
-token table and returns a smaller one: lemma decisions (:mod:`.headwords`) → boilerplate
-(drop sentences whose key is frequent; the keys were counted in the first phase, so no
-second read is needed) → phrases (:mod:`.phrases`) → vocabulary and minimum length
-(:mod:`.vocabulary`).
+token table and returns a smaller one: name decisions (:mod:`.names_corpus`) → lemma
+decisions (:mod:`.headwords`) → boilerplate (drop sentences whose key is frequent; the keys
+were counted in the first phase, so no second read is needed) → phrases (:mod:`.phrases`)
+→ vocabulary and minimum length (:mod:`.vocabulary`).
 
 :func:`prepare_corpus` runs both phases over any source of batches — the store, or the demo
 generator in ``bench/prepare.py`` — and returns the :class:`PreparedCorpus` with the data

@@ -53,7 +53,8 @@ FILES = (
 
 
 def library_versions() -> dict[str, str]:
-    """Versions of the libraries whose data or behaviour shape a prep."""
+    """Versions of the libraries whose data or behaviour shape a prep (faker: the
+    first-name list of the names step)."""
     from importlib.metadata import PackageNotFoundError, version
 
     out = {}

@@ -1,4 +1,4 @@
-"""Step 4a, names: keep people's names out of the vocabulary (``[prepare] drop_names``).
+"""Step 2b, names: keep people's names out of the vocabulary (``[prepare] drop_names``).
 
 Agents introduce themselves, callers give their names, both address each other; without this
 step those names become terms (``priya``, ``power_dmitri``) and even themes. The step runs

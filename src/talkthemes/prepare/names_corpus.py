@@ -1,4 +1,4 @@
-"""Step 4a, names, over the corpus: decide the suspect and capitalised tokens.
+"""Step 2b, names, over the corpus: decide the suspect and capitalised tokens.
 
 The per-transcript phase (:func:`talkthemes.prepare.names.mark_names`) removes the names it is
 sure of and gives the others a provisional term (:func:`~talkthemes.prepare.names.name_type`).

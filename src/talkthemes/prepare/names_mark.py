@@ -1,4 +1,4 @@
-"""Step 4a, names, per batch: which tokens are names (rules 1–4 of :mod:`.names`).
+"""Step 2b, names, per batch: which tokens are names (rules 1–4 of :mod:`.names`).
 
 :func:`mark_names` works on a batch's token stream with numpy. Every rule needs a word that
 could be a name (not a stop word, filler, role word or reply; and a first name, a word the

@@ -3,7 +3,8 @@
 The prep hash covers everything that can change the result: the ``[prepare]`` settings
 (except ``batch_size`` and ``n_process``, which only change how fast it runs), the set of
 stored transcripts (:meth:`Store.corpus_fingerprint`), the versions of spaCy,
-spacy-lookups-data and gensim, the shipped fillers list of the language, and
+spacy-lookups-data, gensim and faker (:func:`library_versions`), the shipped fillers list of
+the language, and
 :data:`CHAIN_VERSION`. When ``prepared/<hash>/`` already exists, the run returns it at once
 (``cached = True``) without reading a transcript.
 """
