@@ -86,7 +86,7 @@ _EN_SUFFIXES = ("s", "es", "ed", "d", "ing", "er", "est", "r", "st")
 def load_lemma_index(lang: str) -> frozenset[str]:
     """The base forms of spaCy's ``lemma_index`` table, every part of speech (empty when
     spacy-lookups-data ships none for the language)."""
-    return frozenset(w for words in lemma_index_by_pos(lang).values() for w in words)
+    return frozenset().union(*lemma_index_by_pos(lang).values())
 
 
 @cache

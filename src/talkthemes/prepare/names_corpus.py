@@ -83,7 +83,7 @@ def resolve_names(
     removed : dict of (str, str) to int
         Tokens removed per ``(kind, word)``.
     """
-    tokens = np.asarray(tokens, dtype=np.int64)
+    tokens = np.asarray(tokens)
     sent_kept = np.asarray(sent_kept, dtype=np.int64)
     parsed = [parse_name_type(t) for t in types]
     if not any(parsed):
@@ -91,12 +91,14 @@ def resolve_names(
     out_types = [t for t, p in zip(types, parsed, strict=True) if p is None]
     index = {t: i for i, t in enumerate(out_types)}
     remap = np.full(len(types), -1, dtype=np.int64)
+    provisional = np.zeros(len(types), dtype=bool)
     gone = np.zeros(len(types), dtype=bool)
     words: dict[int, tuple[str, str]] = {}
     for i, (t, p) in enumerate(zip(types, parsed, strict=True)):
         if p is None:
             remap[i] = index[t]
             continue
+        provisional[i] = True
         kind, word, term = p
         if keep(kind, word, term):
             j = index.get(term)
@@ -107,25 +109,30 @@ def resolve_names(
         else:
             gone[i] = True
             words[i] = (kind, word)
-    drop = gone[tokens]
+    # only the provisional tokens need work (a small share of the stream)
+    at = np.flatnonzero(provisional[tokens])
+    drop = at[gone[tokens[at]]]
     removed: dict[tuple[str, str], int] = {}
-    if drop.any():
+    breaks = np.asarray(breaks, dtype=bool)
+    if drop.size:
         counts = np.bincount(tokens[drop], minlength=len(types))
         for i in np.flatnonzero(counts).tolist():
             removed[words[i]] = removed.get(words[i], 0) + int(counts[i])
-        at = np.flatnonzero(drop)
-        sentence = np.searchsorted(np.cumsum(sent_kept), at, side="right")
+        sentence = np.searchsorted(np.cumsum(sent_kept), drop, side="right")
         lost = np.bincount(sentence, minlength=sent_kept.size)
         if sent_stats is not None and sent_stats.shape[1] > NAME:
             sent_stats[:, NAME] += lost.astype(sent_stats.dtype)
-        # a removed name parts its neighbours: the next kept token starts a run
-        seen = np.cumsum(drop)
-        kept = np.flatnonzero(~drop)
-        before = seen[kept]
-        previous = np.concatenate([[0], before[:-1]])
-        breaks = np.asarray(breaks)[kept] | (before != previous)
+        keep_mask = np.ones(tokens.size, dtype=bool)
+        keep_mask[drop] = False
+        # a removed name parts its neighbours: the token after a run of removed ones starts
+        # a run (its place in the new stream: its old place less the tokens removed before)
+        last = np.ones(drop.size, dtype=bool)
+        last[:-1] = drop[1:] != drop[:-1] + 1
+        last &= drop + 1 < tokens.size
+        breaks = breaks[keep_mask]
+        breaks[(drop - np.arange(drop.size))[last]] = True
         sent_kept = sent_kept - lost
-        tokens = tokens[kept]
+        tokens = tokens[keep_mask]
     return out_types, remap[tokens].astype(np.int32), breaks, sent_kept, removed
 
 
@@ -133,12 +140,12 @@ def _doc_freq(table: TokenTable, ids: NDArray[np.int64]) -> NDArray[np.int64]:
     """Transcripts in which each of the term ids ``ids`` occurs."""
     if ids.size == 0 or table.tokens.size == 0:
         return np.zeros(ids.size, dtype=np.int64)
-    sent_of_doc = np.repeat(table.sent_doc, table.sent_kept)
     want = np.full(len(table.types), -1, dtype=np.int64)
     want[ids] = np.arange(ids.size)
     slot = want[table.tokens]
-    hit = slot >= 0
-    pairs = np.unique(sent_of_doc[hit] * ids.size + slot[hit])
+    hit = np.flatnonzero(slot >= 0)
+    doc = np.searchsorted(np.cumsum(table.per_doc(table.sent_kept)), hit, side="right")
+    pairs = np.unique(doc * ids.size + slot[hit])
     return np.bincount(pairs % ids.size, minlength=ids.size).astype(np.int64)
 
 
