@@ -49,7 +49,7 @@ def setup(root: Path, train: int, family: str, k: int) -> float:
         run_prepare(ws)
         prep, folder = load_current_prep(ws)
         corpus = PreparedCorpus.load(folder)
-        fitted = fit_version(ws, corpus, family=family, k=k, seed=0, prep_hash=prep["hash"])
+        fitted = fit_version(ws, corpus, family=family, k=k, seed=0, prep_hash=prep.hash)
         write_version(ws, fitted)
     return time.perf_counter() - t0
 

@@ -103,7 +103,7 @@ def main() -> None:
         train, _ = split_rows(corpus.doc_ids, ws.settings().sweep.heldout_share)
         with ws.store() as store:
             raw = store.cells(res.sweep_id)
-        tops = [np.asarray(c["top_terms"])[:, :10] for c in raw]
+        tops = [np.asarray(c.top_terms)[:, :10] for c in raw]
         t = time.perf_counter()
         ref = build_reference(
             corpus.tokens,

@@ -10,6 +10,14 @@ import pytest
 from talkthemes.errors import StoreError
 from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.store import SCHEMA_VERSION, Store
+from talkthemes.store.records import (
+    LabelRecord,
+    LikelyReexports,
+    MetadataField,
+    ReexportPair,
+    Stages,
+    ThemeRecord,
+)
 
 
 def _t(tid: str, *texts: str, fmt: str = "txt", **meta: str) -> Transcript:
@@ -69,7 +77,8 @@ def test_same_long_text_under_another_id_is_a_likely_reexport(store: Store) -> N
     assert [t.tid for t in again.unchanged] == ["a"]
     assert store.count_transcripts() == 1
     s = store.summary()
-    assert s["likely_reexports"] == {
+    assert s.likely_reexports == LikelyReexports(1, 1, 0, (ReexportPair("b", "a", False),))
+    assert s.to_json()["likely_reexports"] == {
         "count": 1,
         "skipped": 1,
         "kept": 0,
@@ -89,7 +98,7 @@ def test_short_same_text_under_other_ids_is_stored_for_each_call(store: Store) -
     ]
     assert "short text (2 words < 25)" in matches[0].reason
     s = store.summary()
-    assert s["same_text_pairs"] == 6 and s["likely_reexports"]["count"] == 0
+    assert s.same_text_pairs == 6 and s.likely_reexports.count == 0
 
 
 def test_reexport_rule_keep_and_metadata_conflicts(store: Store) -> None:
@@ -114,17 +123,17 @@ def test_reexport_rule_keep_and_metadata_conflicts(store: Store) -> None:
     out = store.add_transcripts([_t("d", LONG)], None, rule=ReexportRule(action="keep"))
     assert [t.tid for t in out.added] == ["d"]
     assert [(x.original, x.kind) for x in out.same_text] == [("a", "reexport_kept")]
-    assert store.summary()["likely_reexports"]["count"] == 2
+    assert store.summary().likely_reexports.count == 2
 
 
 def test_interrupted_ingest_runs_until_a_later_run_finishes(store: Store) -> None:
     killed = store.start_ingest_run(["a"])  # never finished: the process was killed
-    assert store.summary()["interrupted_ingest_runs"] == 1
+    assert store.summary().interrupted_ingest_runs == 1
     rerun = store.start_ingest_run(["a"])
     status = dict(store._conn.execute("SELECT id, status FROM ingest_runs"))
     assert status == {killed: "interrupted", rerun: "running"}
     store.finish_ingest_run(rerun, added=1, unchanged=0, duplicate=0, rejected=0)
-    assert store.summary()["interrupted_ingest_runs"] == 0
+    assert store.summary().interrupted_ingest_runs == 0
 
 
 def test_same_id_with_other_text_is_rejected_and_stored_text_kept(store: Store) -> None:
@@ -195,25 +204,33 @@ def test_summary_counts(store: Store) -> None:
         }
     )
     s = store.summary()
-    assert s["transcripts"] == 3
-    assert s["words"] == 7
-    assert s["by_format"] == {"txt": 2, "vtt": 1}
-    assert s["turns_by_role"] == {"agent": 3, "customer": 1}
-    assert s["by_month"] == {"2026-05": 1, "2026-06": 1}
-    assert s["date_range"] == ["2026-05-03", "2026-06-10"]
-    assert s["metadata_fields"]["queue"] == {"transcripts": 2, "distinct": 1, "top": {"billing": 2}}
-    assert s["manifest_rows_without_transcript"] == 1
+    assert s.transcripts == 3
+    assert s.words == 7
+    assert s.by_format == {"txt": 2, "vtt": 1}
+    assert s.turns_by_role == {"agent": 3, "customer": 1}
+    assert s.by_month == {"2026-05": 1, "2026-06": 1}
+    assert s.date_range == ("2026-05-03", "2026-06-10")
+    assert s.metadata_fields["queue"] == MetadataField(2, 1, {"billing": 2})
+    assert s.manifest_rows_without_transcript == 1
+    doc = s.to_json()
+    assert doc["date_range"] == ["2026-05-03", "2026-06-10"]
+    queue = {"transcripts": 2, "distinct": 1, "top": {"billing": 2}}
+    assert doc["metadata_fields"]["queue"] == queue
 
 
 def test_prep_record_switches_current(store: Store) -> None:
     assert store.current_prep() is None
-    assert store.stages() == {"prepared": None, "swept": None, "published": None}
+    assert store.stages() == Stages(None, None, None)
+    assert store.stages().to_json() == {"prepared": None, "swept": None, "published": None}
     store.record_prep("h1", {"n_docs": 3})
-    store.record_prep("h2", {"n_docs": 4})
+    store.record_prep("h2", {"n_docs": 4, "path": "prepared/h2"})
     cur = store.current_prep()
-    assert cur is not None and cur["hash"] == "h2" and cur["n_docs"] == 4
-    assert store.get_prep("h1")["n_docs"] == 3
-    assert store.stages()["prepared"]["hash"] == "h2"
+    assert cur is not None and cur.hash == "h2" and cur.info["n_docs"] == 4
+    assert cur.path == "prepared/h2" and cur.frozen_from is None
+    h1 = store.get_prep("h1")
+    assert h1 is not None and h1.info == {"n_docs": 3} and h1.path is None
+    prepared = store.stages().prepared
+    assert prepared is not None and (prepared.hash, prepared.at) == ("h2", cur.created_at)
 
 
 def test_failed_batch_leaves_store_unchanged(store: Store) -> None:
@@ -271,8 +288,8 @@ def test_migration_from_version_1_keeps_data(
             )
         ]
         summary = new.summary()
-        assert summary["turns_by_role"] == {"agent": 2, "customer": 1}
-        assert summary["transcripts_with_role"] == {"agent": 1, "customer": 1}
+        assert summary.turns_by_role == {"agent": 2, "customer": 1}
+        assert summary.transcripts_with_role == {"agent": 1, "customer": 1}
         assert new.integrity_problems() == []
         assert new.next_version_number() == 1
 
@@ -282,15 +299,21 @@ def test_sweep_cells_resume_records(store: Store) -> None:
     sid = store.start_sweep("p1", {"grid_key": "g1"})
     store.add_cell(sid, "lda-k005-s0", "lda", 5, 0, {"c_npmi": 0.1})
     store.add_cell(sid, "lda-k005-s0", "lda", 5, 0, {"c_npmi": 0.2})  # re-run replaces
-    assert store.find_sweep("p1", "g1")["status"] == "running"
+    found = store.find_sweep("p1", "g1")
+    assert found is not None and (found.id, found.status, found.grid_key) == (sid, "running", "g1")
     assert store.find_sweep("p1", "other") is None
-    assert store.cells(sid) == [
-        {"cell": "lda-k005-s0", "family": "lda", "k": 5, "seed": 0, "c_npmi": 0.2}
-    ]
-    store.finish_sweep(sid, {"grid_key": "g1", "recommendation": {"lda": 5}})
+    (cell,) = store.cells(sid)
+    assert (cell.sweep_id, cell.cell, cell.family, cell.k, cell.seed) == (
+        sid, "lda-k005-s0", "lda", 5, 0,
+    )  # fmt: skip
+    assert cell.metrics == {"c_npmi": 0.2} and cell.fit_seconds is None
+    assert cell.row() == {"cell": "lda-k005-s0", "family": "lda", "k": 5, "seed": 0, "c_npmi": 0.2}
+    store.finish_sweep(sid, {"grid_key": "g1", "recommendations": {"lda": {"k": 5}}})
     got = store.get_sweep(sid)
-    assert got["status"] == "done" and got["recommendation"] == {"lda": 5}
-    assert store.stages()["swept"]["id"] == sid
+    assert got is not None and got.status == "done" and got.finished_at
+    assert got.recommendations == {"lda": {"k": 5}}
+    swept = store.stages().swept
+    assert swept is not None and (swept.id, swept.status) == (sid, "done")
 
 
 def test_versions_themes_and_labels(store: Store) -> None:
@@ -301,18 +324,18 @@ def test_versions_themes_and_labels(store: Store) -> None:
         1, {"k": 3}, [{"theme_id": t, "position": i, "status": "new"} for i, t in enumerate(ids)]
     )
     store.set_label(2, label="Payment plans", note="arrears too")
-    store.set_label(2, hidden=True)
+    row = store.set_label(2, hidden=True)
+    assert row == LabelRecord(2, "Payment plans", "arrears too", True)
+    assert row.to_json() == {
+        "theme_id": 2, "label": "Payment plans", "note": "arrears too", "hidden": True,
+    }  # fmt: skip
     themes = store.themes(1)
-    assert [t["theme_id"] for t in themes] == [1, 2, 3]
-    assert themes[1] | {"info": {}} == {
-        "theme_id": 2,
-        "position": 1,
-        "status": "new",
-        "info": {},
-        "label": "Payment plans",
-        "note": "arrears too",
-        "hidden": True,
-    }
+    assert [t.theme_id for t in themes] == [1, 2, 3]
+    assert themes[1] == ThemeRecord(
+        theme_id=2, position=1, status="new", label="Payment plans", note="arrears too",
+        hidden=True,
+    )  # fmt: skip
+    assert themes[0].label == "" and themes[0].hidden is False
     with pytest.raises(StoreError, match="no theme 99"):
         store.set_label(99, label="x")
     store.add_version(
@@ -320,11 +343,12 @@ def test_versions_themes_and_labels(store: Store) -> None:
         {"k": 3},
         [{"theme_id": t, "position": i, "status": "carried"} for i, t in enumerate(ids)],
     )
-    assert store.current_version()["n"] == 2
-    assert store.themes(2)[1]["label"] == "Payment plans"  # labels follow the theme id
+    current = store.current_version()
+    assert current is not None and (current.n, current.k, current.current) == (2, 3, True)
+    assert store.themes(2)[1].label == "Payment plans"  # labels follow the theme id
     store.set_current_version(1)
-    assert store.current_version()["n"] == 1
-    assert [v["current"] for v in store.versions()] == [True, False]
+    assert store.current_version() == store.versions()[0]
+    assert [(v.n, v.current) for v in store.versions()] == [(1, True), (2, False)]
     with pytest.raises(StoreError, match="no version 7"):
         store.set_current_version(7)
 
@@ -355,4 +379,4 @@ def test_migration_to_identity_first_keeps_rows_and_allows_same_text(
         assert new.transcript_ids() == ["a", "b", "c"]
         # the turn sets still belong to their rows, and deleting cascades as before
         assert new._conn.execute("PRAGMA foreign_keys").fetchone()[0] == 1
-        assert new.summary()["same_text_pairs"] == 1
+        assert new.summary().same_text_pairs == 1

@@ -121,7 +121,8 @@ def test_interrupted_sweep_resumes_finished_cells(bars_ws: Workspace) -> None:
     assert res.reused_cells == 1
     assert seen[0] == "resuming" and "nmf-k006-s1" in seen
     with bars_ws.store() as store:
-        assert store.get_sweep(res.sweep_id)["status"] == "done"
+        record = store.get_sweep(res.sweep_id)
+        assert record is not None and record.status == "done"
 
 
 def test_publish_themes_label_export(bars_ws: Workspace, tmp_path: Path) -> None:

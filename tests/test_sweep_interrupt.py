@@ -100,7 +100,8 @@ def test_a_killed_sweep_shows_as_interrupted_until_the_same_grid_finishes(
         res = run_sweep(bars, k="4,5,6", families=["nmf"], seeds=2, workers=1)
     assert res.sweep_id == unfinished["id"] and res.reused_cells == 1
     with bars.store() as store:
-        assert store.get_sweep(res.sweep_id)["status"] == "done"
+        done = store.get_sweep(res.sweep_id)
+        assert done is not None and done.status == "done"
     doc, text = _status(bars)
     assert doc["unfinished_sweeps"] == [] and doc["stages"]["swept"]["status"] == "done"
     assert "did not finish" not in text
@@ -117,11 +118,11 @@ def test_ctrl_c_marks_the_record_at_once_and_a_rerun_clears_it(bars: Workspace) 
         )
     with bars.store() as store:
         record = store.get_sweep()
-    assert record["status"] == "interrupted"  # the record itself says so
+    assert record is not None and record.status == "interrupted"  # the record itself says so
     doc, _ = _status(bars)
-    assert [u["id"] for u in doc["unfinished_sweeps"]] == [record["id"]]
+    assert [u["id"] for u in doc["unfinished_sweeps"]] == [record.id]
     # a forced new run of the same cells also clears the notice of the old record
     res = run_sweep(bars, k="4,5", families=["nmf"], seeds=1, workers=1, force=True)
-    assert res.sweep_id != record["id"]
+    assert res.sweep_id != record.id
     doc, _ = _status(bars)
     assert doc["unfinished_sweeps"] == []

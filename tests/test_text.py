@@ -8,7 +8,7 @@ import io
 import re
 
 import pandas as pd
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 from markdown_it import MarkdownIt
 
@@ -24,6 +24,8 @@ def _rendered_text(markdown: str) -> str:
 
 
 @settings(max_examples=300, deadline=None)
+@example("&ap;")
+@example("&amp; &#35; &lt;b&gt;")
 @given(st.text(alphabet=st.characters(blacklist_categories=("Cs", "Cc")), max_size=60))
 def test_markdown_renders_the_literal_text(text: str) -> None:
     one_line = " ".join(text.split())

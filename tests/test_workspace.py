@@ -1,4 +1,4 @@
-"""Workspace: init, the single-writer lock, atomic writes."""
+"""WorkspaceDir: init, the single-writer lock, atomic writes."""
 
 from __future__ import annotations
 
@@ -60,8 +60,8 @@ def test_lock_held_by_another_process_and_released_when_it_dies(ws: Workspace) -
     code = textwrap.dedent(
         f"""
         import sys, time
-        from talkthemes.workspace import Workspace
-        with Workspace({str(ws.root)!r}).lock("refresh"):
+        from talkthemes.workspace import WorkspaceDir
+        with WorkspaceDir({str(ws.root)!r}).lock("refresh"):
             print("locked", flush=True)
             time.sleep(60)
         """

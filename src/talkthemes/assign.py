@@ -40,6 +40,7 @@ __all__ = [
     "ShareModel",
     "assign",
     "assign_frame",
+    "assign_items",
     "folder_manifests",
     "read_transcripts",
 ]
@@ -248,6 +249,45 @@ def _batches(
         yield batch
 
 
+def assign_items(
+    items: Iterable[Transcript | Reject | Warning_],
+    version: Version,
+    applier: PrepApplier,
+    model: ShareModel,
+    *,
+    batch_size: int = 250,
+    progress: Progress | None = None,
+) -> tuple[pd.DataFrame, list[Reject], list[Warning_]]:
+    """The assignment table (:func:`assign_frame`) of the transcripts among ``items``.
+
+    Transcripts are prepared and inferred ``batch_size`` at a time, in order; rejects and
+    warnings among ``items`` are collected, not raised.
+
+    Returns
+    -------
+    frame : DataFrame
+        One row per transcript (no rows when there was none).
+    rejects : list of Reject
+    warnings : list of Warning_
+    """
+    labels = [t.label for t in version.themes]
+    rejects: list[Reject] = []
+    warnings: list[Warning_] = []
+    frames = []
+    done = 0
+    for batch in _batches(items, batch_size, rejects, warnings):
+        applied = applier.apply(batch)
+        frames.append(
+            assign_frame(applied, model.shares(applied.counts), version.theme_ids, labels)
+        )
+        done += len(applied.doc_ids)
+        report(progress, done, 0, applied.doc_ids[-1] if applied.doc_ids else "")
+    if not frames:
+        empty = AppliedBatch.concat([], version.topic_terms.shape[1])
+        frames.append(assign_frame(empty, np.zeros((0, version.k)), version.theme_ids, labels))
+    return pd.concat(frames, ignore_index=True), rejects, warnings
+
+
 def assign(
     ws: Workspace,
     paths: Sequence[Path],
@@ -298,32 +338,21 @@ def assign(
     v = load_version(ws, version)
     applier = PrepApplier(load_prep_spec(ws, v))
     model = ShareModel.from_version(v)
-    labels = [t["label"] for t in v.themes]
     settings = ws.settings().ingest
     in_folders = folder_manifests(paths)
     stored = None
     if store:
         stored = ingest(ws, list(paths), manifests=[*manifests, *in_folders]).to_json()
-    rejects: list[Reject] = []
-    warnings: list[Warning_] = []
-    frames = []
-    done = 0
     items = read_transcripts(paths, settings, skip=[*manifests, *in_folders])
-    for batch in _batches(items, batch_size, rejects, warnings):
-        applied = applier.apply(batch)
-        frames.append(assign_frame(applied, model.shares(applied.counts), v.theme_ids, labels))
-        done += len(applied.doc_ids)
-        report(progress, done, 0, applied.doc_ids[-1] if applied.doc_ids else "")
-    if not frames:
-        if not rejects:
-            raise InputError(
-                "no transcripts found in "
-                + ", ".join(str(p) for p in paths)
-                + " (read: .txt, .vtt, .csv, .jsonl, .parquet)"
-            )
-        empty = AppliedBatch.concat([], v.topic_terms.shape[1])
-        frames.append(assign_frame(empty, np.zeros((0, v.k)), v.theme_ids, labels))
-    frame = pd.concat(frames, ignore_index=True)
+    frame, rejects, warnings = assign_items(
+        items, v, applier, model, batch_size=batch_size, progress=progress
+    )
+    if frame.empty and not rejects:
+        raise InputError(
+            "no transcripts found in "
+            + ", ".join(str(p) for p in paths)
+            + " (read: .txt, .vtt, .csv, .jsonl, .parquet)"
+        )
     write_table(frame, out)
     seconds = time.perf_counter() - t0
     assigned = int(frame["lead_theme_id"].notna().sum())

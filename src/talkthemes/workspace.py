@@ -1,8 +1,9 @@
 """The workspace folder: its paths, the single-writer lock and atomic writes.
 
 A workspace holds ``talkthemes.toml``, the SQLite store and the artifacts of every stage
-(see DESIGN.md). Commands that change it (ingest, prepare, sweep, publish, refresh) hold
-the lock for their whole run, so there is one writer at a time; readers never lock.
+(see docs/operations.md, "Backing up a workspace"). Commands that change it (ingest,
+prepare, sweep, publish, refresh) hold the lock for their whole run, so there is one writer
+at a time; readers never lock.
 """
 
 from __future__ import annotations
@@ -24,6 +25,7 @@ from talkthemes.errors import InputError, NotReadyError, WorkspaceBusyError
 __all__ = [
     "DEFAULT_WORKSPACE",
     "Workspace",
+    "WorkspaceDir",
     "atomic_dir",
     "atomic_write_bytes",
     "atomic_write_text",
@@ -98,7 +100,10 @@ def atomic_dir(final: Path) -> Iterator[Path]:
 
 
 class Workspace:
-    """A workspace folder.
+    """A workspace folder: its paths, settings file, store and writer lock.
+
+    This is the layer under the public API: domain functions take it. Scripts and notebooks
+    use :class:`talkthemes.Workspace`, which wraps it and takes the lock for them.
 
     Parameters
     ----------
@@ -252,3 +257,8 @@ class Workspace:
         pid = info.get("pid")
         who = f" (pid {pid})" if pid else ""
         return f"workspace busy: {command} since {since}{who}"
+
+
+#: The folder class's name once the public API (``talkthemes.Workspace``) is merged everywhere;
+#: transitional: the API package already uses it, the rest of the code follows after the merge.
+WorkspaceDir = Workspace

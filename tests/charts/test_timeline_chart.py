@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import dataclasses
+
 import pandas as pd
 import pytest
 import tests.charts.spec as vl
@@ -9,26 +11,27 @@ import tests.charts.spec as vl
 from talkthemes.charts.history import timeline_chart
 from talkthemes.charts.style import BLACK, BLUE, BLUISH_GREEN
 from talkthemes.errors import InputError
+from talkthemes.store.records import VersionRecord, VersionRefresh
 from talkthemes.view.history import versions_timeline
 
 VERSIONS = [
-    {"n": 1, "created_at": "2026-05-01T09:00:00", "current": False, "family": "nmf", "k": 8},
-    {
-        "n": 2,
-        "created_at": "2026-06-01T09:00:00+00:00",
-        "current": False,
-        "family": "nmf",
-        "k": 8,
-        "refresh": {"previous_version": 1, "new_transcripts": 120},
-    },
-    {
-        "n": 3,
-        "created_at": "2026-07-01T09:00:00",
-        "current": True,
-        "family": "nmf",
-        "k": 9,
-        "refresh": {"previous_version": 2, "new_transcripts": 80},
-    },
+    VersionRecord(n=1, created_at="2026-05-01T09:00:00", current=False, family="nmf", k=8),
+    VersionRecord(
+        n=2,
+        created_at="2026-06-01T09:00:00+00:00",
+        current=False,
+        family="nmf",
+        k=8,
+        refresh=VersionRefresh(previous_version=1, new_transcripts=120),
+    ),
+    VersionRecord(
+        n=3,
+        created_at="2026-07-01T09:00:00",
+        current=True,
+        family="nmf",
+        k=9,
+        refresh=VersionRefresh(previous_version=2, new_transcripts=80),
+    ),
 ]
 
 
@@ -68,8 +71,8 @@ def test_ticks_read_as_times_whatever_the_span() -> None:
     assert time_format(stamps("2026-05-01 09:00", "2026-05-01 17:30")) == "%H:%M"
     assert time_format(stamps("2026-05-01", "2026-06-20")) == "%d %b"
     assert time_format(stamps("2025-05-01", "2026-06-20")) == "%b %Y"
-    close = [dict(v, created_at=f"2026-05-01T09:00:{10 + 20 * i:02d}") for i, v in
-             enumerate(VERSIONS)]  # fmt: skip
+    close = [dataclasses.replace(v, created_at=f"2026-05-01T09:00:{10 + 20 * i:02d}")
+             for i, v in enumerate(VERSIONS)]  # fmt: skip
     spec = timeline_chart(versions_timeline(close)).to_dict()
     axis = vl.by_mark(spec, "line")[0]["encoding"]["x"]["axis"]
     assert axis["format"] == "%H:%M:%S" and spec["autosize"]["type"] == "pad"

@@ -68,7 +68,7 @@ def published_root(tmp_path_factory: pytest.TempPathFactory) -> Path:
         install_prep(ws, vocabulary, _tokens(36))
         prep, folder = load_current_prep(ws)
         fitted = fit_version(
-            ws, PreparedCorpus.load(folder), family="nmf", k=3, seed=0, prep_hash=prep["hash"]
+            ws, PreparedCorpus.load(folder), family="nmf", k=3, seed=0, prep_hash=prep.hash
         )
         write_version(ws, fitted)
     return ws.root

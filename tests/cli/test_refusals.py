@@ -25,7 +25,7 @@ def run(*args: str) -> tuple[int, str, str]:
 
 def versions(ws: Workspace) -> list[int]:
     with ws.store() as store:
-        return [int(v["n"]) for v in store.versions()]
+        return [v.n for v in store.versions()]
 
 
 # -- outputs that cannot be written ----------------------------------------------------------
@@ -125,8 +125,9 @@ def test_label_before_anything_is_published(tmp_path: Path) -> None:
 def swept(published: Workspace) -> Workspace:
     """The published workspace with one recorded sweep of two NMF cells (K = 3 and 4)."""
     with published.store() as store:
-        prep = store.stages()["prepared"]["hash"]
-        sid = store.start_sweep(prep, {})
+        prepared = store.stages().prepared
+        assert prepared is not None
+        sid = store.start_sweep(prepared.hash, {})
         for k in (3, 4):
             store.add_cell(sid, f"nmf-k{k:03d}-s0", "nmf", k, 0, {"c_npmi": 0.1})
         store.finish_sweep(sid, {})

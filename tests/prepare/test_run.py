@@ -81,9 +81,9 @@ def test_first_run_writes_the_prep_and_records_it(filled: Workspace):
         assert (result.path / name).is_file()
     with filled.store() as store:
         current = store.current_prep()
-    assert current["hash"] == result.prep_hash
-    assert current["path"] == f"prepared/{result.prep_hash}"
-    assert current["counts"]["transcripts"] == 45
+    assert current is not None and current.hash == result.prep_hash
+    assert current.path == f"prepared/{result.prep_hash}"
+    assert current.counts["transcripts"] == 45
     corpus = load_current(filled)
     corpus.validate()
     assert corpus.n_docs == 45 and corpus.n_terms >= 50
@@ -146,7 +146,8 @@ def test_failed_run_leaves_the_previous_prep_current(filled: Workspace):
     with pytest.raises(InputError, match="vocab_min_docs"):
         run_prepare(filled)
     with filled.store() as store:
-        assert store.current_prep()["hash"] == first.prep_hash
+        current = store.current_prep()
+        assert current is not None and current.hash == first.prep_hash
     assert [p.name for p in filled.prepared_dir.iterdir()] == [first.prep_hash]
 
 

@@ -46,7 +46,7 @@ def published_root(tmp_path_factory: pytest.TempPathFactory, demo_files: DemoFil
         run_prepare(ws)
         prep, folder = load_current_prep(ws)
         corpus = PreparedCorpus.load(folder)
-        fitted = fit_version(ws, corpus, family=FAMILY, k=K, seed=0, prep_hash=prep["hash"])
+        fitted = fit_version(ws, corpus, family=FAMILY, k=K, seed=0, prep_hash=prep.hash)
         write_version(ws, fitted)
     return ws.root
 

@@ -236,7 +236,7 @@ def test_lda_shares_from_saved_state_match_the_fitted_model(
     model = make_model("lda", 6, 4, ws.settings().sweep).fit(corpus.counts.tocsr())
     with ws.lock("publish"):
         fitted = fit_version(
-            ws, corpus, family="lda", k=6, seed=4, prep_hash=prep["hash"], model=model
+            ws, corpus, family="lda", k=6, seed=4, prep_hash=prep.hash, model=model
         )
         n = write_version(ws, fitted)
     v = load_version(ws, n)
@@ -277,7 +277,8 @@ def test_frozen_prep_of_the_same_store_is_the_prep_itself(published: Workspace) 
     assert frozen.info["phrases"] == original.info["phrases"]
     with ws.store() as store:
         current = store.current_prep()
-    assert current["hash"] == prep_hash and current["frozen_from"]["version"] == v.n
+    assert current is not None and current.frozen_from is not None
+    assert current.hash == prep_hash and current.frozen_from["version"] == v.n
     stamp = (folder / "counts.npz").stat().st_mtime_ns
     with ws.lock("test"):
         assert build_frozen_prep(ws, v, load_prep_spec(ws, v)) == (prep_hash, folder)

@@ -28,8 +28,8 @@ runner = CliRunner()
 def _snapshot(ws: Workspace) -> dict:
     """Everything a refresh could change, except the logs of runs."""
     with ws.store() as store:
-        versions = [(v["n"], v["current"], json.dumps(v, sort_keys=True)) for v in store.versions()]
-        themes = {n: store.themes(n) for n, _, _ in versions}
+        versions = store.versions()
+        themes = {v.n: store.themes(v.n) for v in versions}
         prep = store.current_prep()
         count = store.count_transcripts()
     files = sorted(
@@ -87,17 +87,17 @@ def test_refresh_finds_the_new_theme_keeps_labels_and_reports_drift(
     assert len(meta) == 3  # the inbox's manifest was applied
     old_ids = set(before.theme_ids)
     for t in themes:
-        if t["status"] == "carried":
-            assert t["theme_id"] in old_ids
-            assert (t["label"], t["note"]) == (f"label {t['theme_id']}", f"note {t['theme_id']}")
-            assert 0 <= t["info"]["distance"] <= cut["threshold"]
+        if t.status == "carried":
+            assert t.theme_id in old_ids
+            assert (t.label, t.note) == (f"label {t.theme_id}", f"note {t.theme_id}")
+            assert t.distance is not None and 0 <= t.distance <= cut["threshold"]
         else:
-            assert t["status"] == "new" and t["theme_id"] > max(old_ids) and t["label"] == ""
-    carried = {t["theme_id"] for t in themes if t["status"] == "carried"}
-    assert {r["theme_id"] for r in retired} == old_ids - carried
-    assert all(r["label"] == f"label {r['theme_id']}" for r in retired)  # kept with the id
-    assert log[0]["status"] == "published" and log[0]["version"] == 2
-    assert log[0]["counts"] == doc["counts"]
+            assert t.status == "new" and t.theme_id > max(old_ids) and t.label == ""
+    carried = {t.theme_id for t in themes if t.status == "carried"}
+    assert {r.theme_id for r in retired} == old_ids - carried
+    assert all(r.label == f"label {r.theme_id}" for r in retired)  # kept with the id
+    assert log[0].status == "published" and log[0].version == 2
+    assert log[0].counts == doc["counts"]
 
     folder = ws.versions_dir / "2"
     drift = json.loads((folder / "drift.json").read_text())
@@ -151,8 +151,9 @@ def test_frozen_vocabulary_keeps_the_versions_terms_and_rejects_give_exit_3(
     assert after.vocabulary == before.vocabulary
     with ws.store() as store:
         prep = store.current_prep()
-    assert prep["frozen_from"] == {"version": 1, "prep_hash": before.info["prep_hash"]}
-    assert after.info["prep_hash"] == prep["hash"] != before.info["prep_hash"]
+    assert prep is not None
+    assert prep.frozen_from == {"version": 1, "prep_hash": before.info["prep_hash"]}
+    assert after.info["prep_hash"] == prep.hash != before.info["prep_hash"]
     # every earlier training transcript is still there, with the same counts as before
     n_old = len(before.doc_ids)
     assert after.doc_ids[:n_old] == before.doc_ids
@@ -173,8 +174,9 @@ def test_resweep_runs_the_grid_and_publishes_its_recommendation(
     assert doc["resweep"] is True and doc["resweep_reason"] == "asked for (--resweep)"
     with ws.store() as store:
         sweep = store.get_sweep()
-        recommended = sweep["recommendations"]["nmf"]["k"]
-    assert sweep["status"] == "done" and doc["k"] == recommended
+    assert sweep is not None and sweep.recommendations is not None
+    recommended = sweep.recommendations["nmf"]["k"]
+    assert sweep.status == "done" and doc["k"] == recommended
     v = load_version(ws)
     assert v.k == recommended and v.info["cell"].startswith(f"nmf-k{recommended:03d}-")
     assert doc["coherence_check"] is None  # not needed: K was re-chosen anyway
@@ -278,9 +280,9 @@ def test_labels_survive_two_refreshes_and_rollback(
     assert second.status == "published" and second.version == 3
     v3 = load_version(ws)
     with ws.store() as store:
-        v3_themes = {t["theme_id"]: t for t in store.themes(3)}
-    assert price in v3_themes and v3_themes[price]["label"] == "Price change"
-    assert v3_themes[price]["status"] == "carried"
+        v3_themes = {t.theme_id: t for t in store.themes(3)}
+    assert price in v3_themes and v3_themes[price].label == "Price change"
+    assert v3_themes[price].status == "carried"
     res = runner.invoke(cli.app, ["publish", "--version", "2", "-w", str(ws.root)])
     assert res.exit_code == 0, res.stderr
     assert load_version(ws).n == 2 and load_version(ws).theme_ids == v2.theme_ids

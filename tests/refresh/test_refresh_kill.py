@@ -74,7 +74,8 @@ def _check_consistent(ws: Workspace, current: int) -> None:
     and the lock is free."""
     with ws.store() as store:
         assert store.integrity_problems() == []
-        assert store.current_version()["n"] == current
+        record = store.current_version()
+        assert record is not None and record.n == current
         numbers = store.version_numbers()
         themes = {n: store.themes(n) for n in numbers}
     for n in numbers:
@@ -106,7 +107,7 @@ def test_refresh_killed_at_every_stage_loses_nothing(
         _check_consistent(ws, current=1)
         assert load_version(ws).theme_ids == v1.theme_ids
         with ws.store() as store:
-            assert store.refreshes()[0]["status"] == "running"  # until the next run starts
+            assert store.refreshes()[0].status == "running"  # until the next run starts
 
     # killed after the commit: the new version is current and whole (pruning not done yet)
     proc = _start(ws, demo_files.inbox, "version-current")
@@ -115,8 +116,8 @@ def test_refresh_killed_at_every_stage_loses_nothing(
     _check_consistent(ws, current=2)
     with ws.store() as store:
         log = store.refreshes()
-    assert log[0]["status"] == "published" and log[0]["version"] == 2
-    assert [r["status"] for r in log[1:]] == ["interrupted"] * 4
+    assert log[0].status == "published" and log[0].version == 2
+    assert [r.status for r in log[1:]] == ["interrupted"] * 4
     # leftovers of the killed runs (temporary version folders) are gone
     assert not [p for p in ws.versions_dir.iterdir() if p.name.startswith(".")]
 

@@ -40,6 +40,12 @@ def ws(tmp_path: Path) -> Workspace:
     return w
 
 
+def _current(store: Store) -> int | None:
+    """The current version's number."""
+    record = store.current_version()
+    return None if record is None else record.n
+
+
 def _keep(ws: Workspace, n: int) -> None:
     data = ws.settings().model_dump()
     data["refresh"]["keep_versions"] = n
@@ -52,7 +58,7 @@ def test_theme_plan_is_written_in_full_and_current_in_one_go(
     fit = fitted[1]
     first = write_version(ws, fit)
     v1 = load_version(ws, first)
-    assert [t["status"] for t in v1.themes] == ["new"] * 4 and v1.theme_ids == [1, 2, 3, 4]
+    assert [t.status for t in v1.themes] == ["new"] * 4 and v1.theme_ids == [1, 2, 3, 4]
     assert (v1.folder / "prep.json").is_file() and (v1.folder / "model" / "params.json").is_file()
     with ws.store() as store:
         store.set_label(2, label="Two")
@@ -70,8 +76,8 @@ def test_theme_plan_is_written_in_full_and_current_in_one_go(
 
     def checkpoint(stage: str) -> None:
         with ws.store() as store:
-            current = store.current_version()["n"]
-        seen.append(f"{stage} current={current}")
+            current = store.current_version()
+        seen.append(f"{stage} current={None if current is None else current.n}")
 
     n = write_version(ws, fit, plan=plan, extra_info={"note": "hi"}, extra_files=extra,
                       checkpoint=checkpoint)  # fmt: skip
@@ -83,14 +89,15 @@ def test_theme_plan_is_written_in_full_and_current_in_one_go(
     ]
     v2 = load_version(ws, n)
     assert v2.theme_ids == [2, 5, 1, 6]
-    assert [t["status"] for t in v2.themes] == ["carried", "new", "carried", "new"]
-    assert v2.themes[0]["label"] == "Two" and v2.themes[0]["info"] == {"distance": 0.1}
+    assert [t.status for t in v2.themes] == ["carried", "new", "carried", "new"]
+    assert v2.themes[0].label == "Two" and v2.themes[0].distance == 0.1
+    assert v2.themes[0].info == {"distance": 0.1} and v2.themes[1].distance is None
     assert (v2.folder / "extra.txt").read_text() == "x"
     info = json.loads((v2.folder / "version.json").read_text())
     assert info["note"] == "hi" and info["retired_theme_ids"] == [3, 4]
     with ws.store() as store:
         retired = store.retired_themes(n)
-        assert [(r["theme_id"], r["info"]) for r in retired] == [(3, {"why": "gone"}), (4, {})]
+        assert [(r.theme_id, r.info) for r in retired] == [(3, {"why": "gone"}), (4, {})]
         assert store.reserve_theme_ids(1) == [7]  # ids are never handed out twice
     with pytest.raises(InputError, match="4 themes"):
         write_version(ws, fit, plan=ThemePlan([None], ["new"], [{}]))
@@ -107,7 +114,7 @@ def test_a_failure_while_writing_leaves_the_previous_version(
     with pytest.raises(RuntimeError, match="disk full"):
         write_version(ws, fitted[1], extra_files=boom)
     with ws.store() as store:
-        assert store.current_version()["n"] == 1 and store.version_numbers() == [1]
+        assert _current(store) == 1 and store.version_numbers() == [1]
     assert sorted(p.name for p in ws.versions_dir.iterdir()) == ["1"]
 
 
@@ -132,7 +139,7 @@ def test_keep_the_last_n_versions_and_never_the_current(
     assert prune_versions(ws, 1) == []  # keeps 4 (newest) and 3 (current)
     with ws.store() as store:
         assert store.version_numbers() == [3, 4]
-        assert store.current_version()["n"] == 3
+        assert _current(store) == 3
         with pytest.raises(StoreError, match="no version 2"):
             store.set_current_version(2)
         with pytest.raises(StoreError, match="current"):
@@ -160,7 +167,7 @@ def test_refresh_log_and_publish_in_one_transaction(tmp_path: Path) -> None:
         first = store.start_refresh(None, {"paths": ["a"]})
         second = store.start_refresh(None, {"paths": ["b"]})
         log = store.refreshes()
-        assert [(r["id"], r["status"]) for r in log] == [
+        assert [(r.id, r.status) for r in log] == [
             (second, "running"),
             (first, "interrupted"),
         ]
@@ -173,13 +180,14 @@ def test_refresh_log_and_publish_in_one_transaction(tmp_path: Path) -> None:
             refresh_info={"counts": {"new": 2}},
         )  # fmt: skip
         log = store.refreshes(limit=2)
-        assert [(r["status"], r["version"]) for r in log] == [
+        assert [(r.status, r.version) for r in log] == [
             ("published", 1),
             ("nothing_new", None),
         ]
-        assert log[0]["counts"] == {"new": 2} and log[0]["finished_at"]
-        assert store.current_version()["n"] == 1
-        assert store.retired_themes(1)[0]["theme_id"] == 99
+        assert log[0].counts == {"new": 2} and log[0].finished_at
+        assert log[1].new_transcripts == 0 and log[0].previous_version is None
+        assert _current(store) == 1
+        assert store.retired_themes(1)[0].theme_id == 99
         # a failing publish changes nothing: the refresh row stays running
         fourth = store.start_refresh(1, {})
         with pytest.raises(Exception, match="UNIQUE"):
@@ -188,8 +196,8 @@ def test_refresh_log_and_publish_in_one_transaction(tmp_path: Path) -> None:
                         {"theme_id": 1, "position": 1, "status": "carried"}],
                 refresh_id=fourth,
             )  # fmt: skip
-        assert store.current_version()["n"] == 1 and store.version_numbers() == [1]
-        assert store.refreshes(limit=1)[0]["status"] == "running"
+        assert _current(store) == 1 and store.version_numbers() == [1]
+        assert store.refreshes(limit=1)[0].status == "running"
         assert store.integrity_problems() == []
 
 
@@ -221,7 +229,7 @@ def test_migration_to_the_refresh_log_keeps_versions(
     monkeypatch.undo()
     with Store.open(path) as new:
         assert new.schema_version() == SCHEMA_VERSION >= 3
-        assert new.current_version()["n"] == 1 and new.refreshes() == []
+        assert _current(new) == 1 and new.refreshes() == []
         new.start_refresh(1, {})
         assert new.retired_themes(1) == []
 

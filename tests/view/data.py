@@ -11,6 +11,7 @@ from pathlib import Path
 
 import numpy as np
 
+from talkthemes.store.records import ThemeRecord
 from talkthemes.versions.load import Version
 
 
@@ -32,14 +33,13 @@ def make_version(
             topic_terms[i, (2 * i + 1) % len(vocabulary)] = 0.5
         topic_terms /= topic_terms.sum(axis=1, keepdims=True)
     themes = [
-        {
-            "theme_id": 11 + i,
-            "position": i,
-            "status": "new",
-            "label": (labels or [""] * k)[i],
-            "note": "",
-            "hidden": (hidden or [False] * k)[i],
-        }
+        ThemeRecord(
+            theme_id=11 + i,
+            position=i,
+            status="new",
+            label=(labels or [""] * k)[i],
+            hidden=(hidden or [False] * k)[i],
+        )
         for i in range(k)
     ]
     return Version(

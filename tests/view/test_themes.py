@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import dataclasses
+
 import pandas as pd
 import pytest
 from tests.view.data import SHARES
@@ -21,13 +23,13 @@ def test_theme_table_and_names(version: Version) -> None:
     assert table["name"][1] == "power · outage · bill"  # three top terms until labelled
     assert table["top_terms"][1].startswith("power, outage")
     assert theme_names(version) == list(table["name"])
-    version.themes[1]["label"] = "Power cuts"
+    version.themes[1] = dataclasses.replace(version.themes[1], label="Power cuts")
     assert theme_names(version)[1] == "Power cuts"  # labels are read each time
 
 
 def test_with_names_refreshes_labels_and_hidden(version: Version) -> None:
     frame = pd.DataFrame({"theme_id": [13, 11], "name": ["old", "old"], "share": [0.1, 0.2]})
-    version.themes[2]["hidden"] = True
+    version.themes[2] = dataclasses.replace(version.themes[2], hidden=True)
     out = with_names(frame, version)
     assert list(out["name"]) == [theme_names(version)[2], "Bills"]
     assert list(out["hidden"]) == [True, False]

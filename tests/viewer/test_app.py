@@ -91,7 +91,9 @@ def test_the_map_is_the_first_section_once_published(demo_ws, monkeypatch) -> No
 def test_choose_k_shows_the_picked_cell_and_the_recommendation(demo_ws, monkeypatch) -> None:
     at = run(open_app(demo_ws.ws.root, monkeypatch), "choose_k.py")
     with demo_ws.ws.store() as store:
-        rec = store.get_sweep()["recommendations"]["nmf"]
+        sweep = store.get_sweep()
+    assert sweep is not None and sweep.recommendations is not None
+    rec = sweep.recommendations["nmf"]
     assert f"NMF: K = {rec['k']} recommended" in texts(at)
     for reason in rec["reasons"][:1]:
         assert md_inline(reason) in texts(at)
@@ -131,8 +133,8 @@ def test_label_note_and_hidden_are_saved_at_once_and_shown_everywhere(ws_copy, m
     at.toggle(key=f"cards_hidden_{tid}").set_value(True)
     run(at)
     with ws_copy.store() as store:
-        theme = next(t for t in store.themes(1) if t["theme_id"] == tid)
-    assert (theme["label"], theme["note"], theme["hidden"]) == (
+        theme = next(t for t in store.themes(1) if t.theme_id == tid)
+    assert (theme.label, theme.note, theme.hidden) == (
         "Meter readings",
         "Estimated bills too.",
         True,
@@ -209,7 +211,7 @@ def test_cards_say_the_relevance_sentence_once_and_measures_read_as_written(
     shown = texts(at)
     assert "c_npmi" not in shown and "Runners-up, and why not" in shown
     with demo_ws.ws.store() as store:
-        rec = store.get_sweep()["recommendations"]["nmf"]
+        rec = store.get_sweep().recommendations["nmf"]
     for runner in rec["runners_up"]:  # each reason in full, never cut by a column
         assert md_inline(runner["why_not"].replace("c_npmi", "C_NPMI")) in shown
 
@@ -231,7 +233,7 @@ def test_publish_waits_for_nobody_when_the_workspace_is_busy(ws_copy, monkeypatc
         _confirm_publish(at)
     assert any(md_inline("workspace busy: sweep") in e.value for e in at.error)
     with ws_copy.store() as store:
-        assert [v["n"] for v in store.versions()] == [1]
+        assert [v.n for v in store.versions()] == [1]
 
 
 def test_publish_cancel_and_confirm(ws_copy, monkeypatch) -> None:
@@ -246,7 +248,8 @@ def test_publish_cancel_and_confirm(ws_copy, monkeypatch) -> None:
     _confirm_publish(at)
     assert any("Version 2 is now current" in s.value for s in at.success)
     with ws_copy.store() as store:
-        assert store.current_version()["n"] == 2
+        current = store.current_version()
+        assert current is not None and current.n == 2
     assert load_version(ws_copy).k == 8
     run(at, "theme_map.py")
     assert any("Version 2" in m.value for m in at.sidebar.markdown)

@@ -53,7 +53,7 @@ def refreshed(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
         run_prepare(ws)
         prep, folder = load_current_prep(ws)
         fitted = fit_version(
-            ws, PreparedCorpus.load(folder), family=FAMILY, k=K, seed=0, prep_hash=prep["hash"]
+            ws, PreparedCorpus.load(folder), family=FAMILY, k=K, seed=0, prep_hash=prep.hash
         )
         write_version(ws, fitted)
         v1 = load_version(ws)
@@ -84,7 +84,7 @@ def single(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
         run_prepare(ws)
         prep, folder = load_current_prep(ws)
         fitted = fit_version(
-            ws, PreparedCorpus.load(folder), family="nmf", k=4, seed=0, prep_hash=prep["hash"]
+            ws, PreparedCorpus.load(folder), family="nmf", k=4, seed=0, prep_hash=prep.hash
         )
         write_version(ws, fitted)
     return ws
@@ -122,7 +122,9 @@ def test_timeline_marks_the_current_version_and_how_each_was_made(refreshed) -> 
     assert frame["kind"].tolist() == ["publish", "refresh"]
     assert frame["family"].tolist() == ["NMF", "NMF"]
     assert frame.loc[1, "previous_version"] == 1
-    assert frame.loc[1, "new_transcripts"] == versions[1]["refresh"]["new_transcripts"] > 0
+    refresh = versions[1].refresh
+    assert refresh is not None and refresh.previous_version == 1
+    assert frame.loc[1, "new_transcripts"] == refresh.new_transcripts > 0
     assert pd.isna(frame.loc[0, "new_transcripts"])
     assert frame["created_at"].is_monotonic_increasing
     spec = timeline_chart(frame).to_dict()
@@ -135,7 +137,7 @@ def test_changes_split_carried_new_and_retired_as_the_store_and_report_say(refre
     with refreshed.store() as store:
         themes = store.themes(2)
         retired = store.retired_themes(2)
-        previous = {t["theme_id"] for t in store.themes(1)}
+        previous = {t.theme_id for t in store.themes(1)}
     changes = version_changes(themes, retired, report_top_terms(report))
     by_status = {
         s: {t["theme_id"] for t in report["themes"] if t["status"] == s} for s in ("carried", "new")
@@ -147,7 +149,7 @@ def test_changes_split_carried_new_and_retired_as_the_store_and_report_say(refre
     assert changes.ids("retired") <= previous
     assert len(changes.carried) + len(changes.new) == K
     names = {t.theme_id: t.name for t in [*changes.carried, *changes.new]}
-    labelled = next(t["theme_id"] for t in themes if t["label"] == LABEL)
+    labelled = next(t.theme_id for t in themes if t.label == LABEL)
     assert names[labelled] == LABEL  # carried with its label
     for t in changes.new:
         top = next(r["top_terms"] for r in report["themes"] if r["theme_id"] == t.theme_id)

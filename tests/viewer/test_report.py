@@ -74,7 +74,9 @@ def test_the_report_has_every_part(demo_ws, page: str) -> None:
     for cid in specs:
         assert f'<div class="chart" id="{cid}"' in page
     with demo_ws.ws.store() as store:
-        rec = store.get_sweep()["recommendations"]["nmf"]
+        sweep = store.get_sweep()
+    assert sweep is not None and sweep.recommendations is not None
+    rec = sweep.recommendations["nmf"]
     assert f"NMF: K = {rec['k']} recommended" in page
     assert all(html.escape(r) in page for r in rec["reasons"])
     assert "Bills &amp; &lt;payments&gt;" in page  # a label, escaped

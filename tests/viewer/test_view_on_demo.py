@@ -27,7 +27,8 @@ def test_load_sweep_and_cell_themes(demo_ws) -> None:
     assert len(sweep.cells) == 4 and {"c_npmi", "stability", "top_terms"} <= set(sweep.cells)
     with demo_ws.ws.store() as store:
         record = store.get_sweep()
-    assert sweep.recommended == {"nmf": record["recommendations"]["nmf"]["k"]}
+    assert record is not None and record.recommendations is not None
+    assert sweep.recommended == {"nmf": record.recommendations["nmf"]["k"]}
     cell = cell_themes(demo_ws.ws, sweep, "nmf", 8, n_terms=4)
     assert cell.k == 8 and cell.cell.startswith("nmf-k008-s") and len(cell.frame) == 8
     assert list(cell.frame["theme"]) == list(range(1, 9))

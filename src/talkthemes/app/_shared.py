@@ -137,7 +137,7 @@ def current_version(ws: Workspace) -> Version:
         record = store.current_version()
         if record is None:  # published meanwhile? gate() runs first, so rare
             raise TalkthemesError("no version published yet: run 'talkthemes publish'")
-        n = int(record["n"])
+        n = record.n
         themes = store.themes(n)
     key = version_key(ws, n)
     with st.spinner(f"Loading version {n} …"):
@@ -313,9 +313,9 @@ def show_chart(
 def default_theme(version: Version) -> int:
     """The shown theme that leads the most transcripts (any theme if all are hidden)."""
     cov = version.coverage()
-    shown = [i for i, t in enumerate(version.themes) if not t["hidden"]] or list(range(version.k))
+    shown = [i for i, t in enumerate(version.themes) if not t.hidden] or list(range(version.k))
     best = max(shown, key=lambda i: (cov[i], -i))
-    return int(version.themes[best]["theme_id"])
+    return version.themes[best].theme_id
 
 
 def selected_theme(version: Version) -> int:
@@ -335,7 +335,7 @@ def select_theme(theme_id: int) -> None:
 def theme_picker(version: Version, *, key: str, label: str = "Theme") -> int:
     """A select box of the version's themes, bound to the shared selection."""
     names = dict(zip(version.theme_ids, theme_names(version), strict=True))
-    hidden = {int(t["theme_id"]) for t in version.themes if t["hidden"]}
+    hidden = {t.theme_id for t in version.themes if t.hidden}
     current = selected_theme(version)
     st.session_state[key] = current
 
@@ -367,8 +367,8 @@ def sidebar(ready: Readiness) -> None:
                 show_error(exc)
                 return
             info: dict[str, Any] = version.info
-            labelled = sum(1 for t in version.themes if t["label"])
-            hidden = sum(1 for t in version.themes if t["hidden"])
+            labelled = sum(1 for t in version.themes if t.label)
+            hidden = sum(1 for t in version.themes if t.hidden)
             st.markdown(
                 f"**Version {version.n}** · {str(info.get('family', '')).upper()} "
                 f"K = {version.k}  \n{len(version.doc_ids):,} transcripts  \n"

@@ -49,9 +49,7 @@ def _in_use(ws: Workspace) -> tuple[str | None, int | None]:
         record = store.current_version()
     if record is None:
         return None, None
-    family = record.get("family")
-    k = record.get("k")
-    return (str(family) if family else None), (int(k) if k is not None else None)
+    return record.family, record.k
 
 
 def _current_pick(ws: Workspace, sweep: SweepView) -> tuple[str, int]:

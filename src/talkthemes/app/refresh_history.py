@@ -13,6 +13,7 @@ from talkthemes.app import _shared
 from talkthemes.charts.drift import drift_chart
 from talkthemes.charts.history import timeline_chart
 from talkthemes.errors import TalkthemesError
+from talkthemes.store.records import VersionRecord
 from talkthemes.text import md_inline, percent
 from talkthemes.versions.drift import drift_frame
 from talkthemes.view.history import (
@@ -96,15 +97,15 @@ def _examples(report: dict[str, Any], labels: dict[int, str], *, masked: bool) -
         )
 
 
-def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
-    n = int(record["n"])
+def _version_details(ws: Workspace, record: VersionRecord) -> None:
+    n = record.n
     with ws.store() as store:
         themes = store.themes(n)
         retired = store.retired_themes(n)
-    refresh = record.get("refresh") or {}
+    refresh = record.refresh
     report = _drift(*_shared.version_key(ws, n))
     st.subheader(f"Version {n}")
-    if not refresh:
+    if refresh is None:
         st.markdown(
             f"Published directly (not by a refresh): its {len(themes)} themes are the first "
             "of their line, so none is carried over."
@@ -112,12 +113,12 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
     else:
         a, b, c, d = st.columns(4)
         counts = (report or {}).get("counts") or {}
-        a.metric("New transcripts", f"{int(refresh.get('new_transcripts', 0)):,}")
-        b.metric("Carried", counts.get("carried", sum(t["status"] == "carried" for t in themes)))
-        c.metric("New", counts.get("new", sum(t["status"] == "new" for t in themes)))
+        a.metric("New transcripts", f"{refresh.new_transcripts or 0:,}")
+        b.metric("Carried", counts.get("carried", sum(t.status == "carried" for t in themes)))
+        c.metric("New", counts.get("new", sum(t.status == "new" for t in themes)))
         d.metric("Retired", counts.get("retired", len(retired)))
-        prev = refresh.get("previous_version")
-        reason = refresh.get("resweep_reason")
+        prev = refresh.previous_version
+        reason = refresh.resweep_reason
         st.caption(
             f"Refreshed from version {prev}."
             + (f" K was chosen again: {md_inline(reason)}." if reason else "")
@@ -128,7 +129,7 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
     for col, status in zip(cols, ("new", "carried", "retired"), strict=True):
         with col:
             _theme_list(getattr(changes, status), status)
-    if refresh:
+    if refresh is not None:
         if changes.flagged:
             st.warning(
                 "Possible splits or merges: "
@@ -147,7 +148,7 @@ def _version_details(ws: Workspace, record: dict[str, Any]) -> None:
             "its word distributions before and after). Right: the share of transcripts each "
             "theme leads before (ring) and after (dot) the refresh."
         )
-        labels = {int(t["theme_id"]): t["label"] for t in themes}
+        labels = {t.theme_id: t.label for t in themes}
         _examples(report, labels, masked=not original_allowed(ws))
 
 
@@ -160,12 +161,12 @@ def _refresh_log(ws: Workspace) -> None:
     frame = pd.DataFrame(
         [
             {
-                "id": r["id"],
-                "started_at": r["started_at"],
-                "status": r["status"],
-                "previous_version": r["previous_version"],
-                "version": r["version"],
-                "new_transcripts": r.get("new_transcripts"),
+                "id": r.id,
+                "started_at": r.started_at,
+                "status": r.status,
+                "previous_version": r.previous_version,
+                "version": r.version,
+                "new_transcripts": r.new_transcripts,
             }
             for r in log
         ]
@@ -214,7 +215,7 @@ def render() -> None:
     current = [int(n) for n, cur in zip(timeline["n"], timeline["current"], strict=True) if cur]
     if st.session_state.get(PICK) not in numbers:
         st.session_state[PICK] = current[0] if current else numbers[-1]
-    by_n = {int(v["n"]): v for v in versions}
+    by_n = {v.n: v for v in versions}
     picked = st.selectbox(
         "Version",
         numbers,
@@ -222,7 +223,7 @@ def render() -> None:
         format_func=lambda n: (
             f"Version {n}"
             + (" · current" if n in current else "")
-            + (" · refresh" if by_n[n].get("refresh") else " · published")
+            + (" · refresh" if by_n[n].refresh is not None else " · published")
         ),
     )
     try:

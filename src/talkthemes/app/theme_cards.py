@@ -8,6 +8,7 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.metrics.prominence import boilerplate_like
+from talkthemes.store.records import ThemeRecord
 from talkthemes.text import md_inline, percent
 from talkthemes.view.themes import boilerplate_advice, term_rows, theme_names
 from talkthemes.workspace import Workspace
@@ -38,12 +39,13 @@ def _save(root: str, theme_id: int, what: str) -> None:
     st.toast(f"{words} of theme #{theme_id} saved.", icon=":material/check:")
 
 
-def _editor(ws: Workspace, theme: dict) -> None:
-    tid = int(theme["theme_id"])
-    for what in ("label", "note", "hidden"):
+def _editor(ws: Workspace, theme: ThemeRecord) -> None:
+    tid = theme.theme_id
+    saved = {"label": theme.label, "note": theme.note, "hidden": theme.hidden}
+    for what, value in saved.items():
         key = _field_key(what, tid)
         if key not in st.session_state:
-            st.session_state[key] = theme[what]
+            st.session_state[key] = value
     st.text_input(
         "Label",
         key=_field_key("label", tid),
@@ -97,15 +99,12 @@ def render() -> None:
             help="How often its top words occur together in the transcripts (−1 to 1).",
         )
     st.caption(
-        f"Theme #{tid} · {md_inline(theme['status'])} in version {version.n} · "
+        f"Theme #{tid} · {md_inline(theme.status)} in version {version.n} · "
         f"leads {int((version.lead() == pos).sum()):,} of the version's "
         f"{len(version.doc_ids):,} transcripts. "
         + md_inline(_shared.counts(ws, version).sentence())
     )
-    if (
-        bool(boilerplate_like(version.coverage(), version.mean_share())[pos])
-        and not theme["hidden"]
-    ):
+    if bool(boilerplate_like(version.coverage(), version.mean_share())[pos]) and not theme.hidden:
         row = {"mean_share": mean, "coverage": cov}
         st.warning(md_inline(boilerplate_advice(row)), icon=":material/visibility_off:")
 

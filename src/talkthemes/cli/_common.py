@@ -27,21 +27,15 @@ from typing import Annotated, Any
 
 import typer
 from rich.console import Console
-from rich.progress import (
-    BarColumn,
-    MofNCompleteColumn,
-    TextColumn,
-    TimeElapsedColumn,
-    TimeRemainingColumn,
-)
-from rich.progress import Progress as RichProgress
 from rich.text import Text
 from typer.core import TyperGroup
 
+from talkthemes import Workspace
+from talkthemes.api.progress import rich_progress
 from talkthemes.errors import InputError, NotReadyError, TalkthemesError
 from talkthemes.progress import Progress, silent
 from talkthemes.text import terminal_text
-from talkthemes.workspace import Workspace, resolve_workspace
+from talkthemes.workspace import resolve_workspace
 
 __all__ = [
     "JsonOpt",
@@ -58,6 +52,7 @@ __all__ = [
     "out",
     "progress_bar",
     "say",
+    "waiting",
     "writing",
 ]
 
@@ -179,9 +174,16 @@ def cell(value: Any, style: str = "") -> Text:
     return Text(terminal_text(value).replace("\t", " "), style=style)
 
 
+def _json_value(value: Any) -> Any:
+    """The JSON form of a value ``json`` does not know: its ``to_json()`` (a store record,
+    a result), else its text (a path)."""
+    to_json = getattr(value, "to_json", None)
+    return to_json() if callable(to_json) else str(value)
+
+
 def emit_json(doc: Any) -> None:
     """Print ``doc`` as the command's one JSON document on stdout."""
-    sys.stdout.write(json.dumps(doc, indent=2, ensure_ascii=False, default=str) + "\n")
+    sys.stdout.write(json.dumps(doc, indent=2, ensure_ascii=False, default=_json_value) + "\n")
     sys.stdout.flush()
 
 
@@ -190,29 +192,14 @@ def emit_json(doc: Any) -> None:
 def progress_bar(label: str, *, enabled: bool = True) -> Iterator[Progress]:
     """A rich progress bar on stderr, yielded as a :class:`talkthemes.progress.Progress`.
 
-    ``progress(done, total, what)``: a total of 0 shows a bar without an end (``3/?``);
-    ``what`` (often a file name) is shown literally, shortened from the left to 40
-    characters.
+    :func:`talkthemes.api.progress.rich_progress`: a total of 0 shows a bar without an end
+    (``3/?``); ``what`` (often a file name) is shown literally, shortened from the left to
+    40 characters; the bar appears at the first report.
     """
     if not enabled:
         yield silent
         return
-    columns = (
-        TextColumn("[bold]{task.description}"),
-        BarColumn(),
-        MofNCompleteColumn(),
-        TimeElapsedColumn(),
-        TimeRemainingColumn(),
-        TextColumn("{task.fields[what]}", style="dim", markup=False),
-    )
-    with RichProgress(*columns, console=err, transient=False) as bar:
-        task = bar.add_task(label, total=None, what="")
-
-        def update(done: int, total: int, what: str = "") -> None:
-            shown = terminal_text(what)
-            shown = shown if len(shown) <= 40 else "…" + shown[-39:]
-            bar.update(task, completed=done, total=total or None, what=shown)
-
+    with rich_progress(label, console=err) as update:
         yield update
 
 
@@ -223,7 +210,8 @@ def open_workspace(
     """The workspace named by ``--workspace`` (or the environment, or the default).
 
     Only ``init`` creates a workspace, or a command given its ``--create`` flag: a mistyped
-    path is refused instead of becoming a new, empty workspace.
+    path is refused instead of becoming a new, empty workspace
+    (:meth:`talkthemes.Workspace.open`).
 
     Parameters
     ----------
@@ -239,19 +227,26 @@ def open_workspace(
     NotReadyError
         When there is no workspace at that path and ``create`` is false (exit 2).
     """
-    ws = Workspace(resolve_workspace(path))
-    if ws.exists():
-        return ws
-    if create:
-        ws.init()
-        return ws
-    hint = f", or give {create_flag}" if create_flag else ""
-    raise NotReadyError(f"no workspace at {ws.root}: run 'talkthemes init {ws.root}' first{hint}")
+    root = resolve_workspace(path)
+    try:
+        return Workspace.open(root)
+    except NotReadyError as exc:
+        if create:
+            return Workspace.create(root)
+        if create_flag:
+            raise NotReadyError(f"{exc}, or give {create_flag}") from None
+        raise
+
+
+def waiting(message: str) -> None:
+    """What a writer says when it starts waiting for the workspace (``--wait``)."""
+    say(message, "; waiting…")
 
 
 def lock(ws: Workspace, command: str, wait: bool) -> Any:
-    """The workspace's writer lock for ``command``; with ``wait``, say so and wait."""
-    return ws.lock(command, wait=wait, on_wait=lambda message: say(message, "; waiting…"))
+    """The workspace's writer lock for ``command``, held across several API calls; with
+    ``wait``, say so and wait (the API's writer methods take it themselves)."""
+    return ws.hold(command, wait=wait, on_wait=waiting)
 
 
 # -- output files -----------------------------------------------------------------------------

@@ -1,5 +1,4 @@
-"""Tables and look-ups that several command groups share: the themes table, the sweep
-table and the sweep's recommended cell.
+"""Tables that several command groups share: the themes table and the sweep table.
 
 Both tables fit the console they are printed on (80 columns and wider): numbers are never
 cut, a theme's terms stay on one line (shortened with ``…`` at the end), and a sweep's
@@ -20,9 +19,7 @@ from rich.table import Table
 from rich.text import Text
 
 from talkthemes.cli._common import cell, line, out, say
-from talkthemes.errors import ConfigError
 from talkthemes.text import percent
-from talkthemes.workspace import Workspace
 
 __all__ = [
     "SweepTable",
@@ -30,7 +27,6 @@ __all__ = [
     "fmt_metric",
     "print_sweep",
     "recommendation_lines",
-    "recommended_cell",
 ]
 
 #: Columns between two cells (one space of padding and the separator).
@@ -221,35 +217,3 @@ def print_sweep(result: Any) -> None:
         out.print(renderable)
     for f in result.failed:
         say(("cell failed", "red"), f": {f['cell']}: {f['error']}")
-
-
-# -- the sweep's recommendation ---------------------------------------------------------------
-def recommended_cell(ws: Workspace, family: str | None) -> tuple[str, int]:
-    """(family, K) of the latest finished sweep's recommendation (best family if none given).
-
-    Raises
-    ------
-    ConfigError
-        When no sweep has a recommendation, or none for ``family``.
-    """
-    # deferred: pandas and the recommendation rule (scikit-learn, scipy) are heavy, and
-    # `talkthemes --help` imports every command module
-    import pandas as pd
-
-    from talkthemes.sweep.recommend import Recommendation, best_family
-
-    with ws.store() as store:
-        sweep = next(
-            (s for s in map(store.get_sweep, store.sweep_ids()) if s and s.get("recommendations")),
-            None,
-        )
-        cells = pd.DataFrame(store.cells(sweep["id"])) if sweep else pd.DataFrame()
-    if sweep is None:
-        raise ConfigError("no finished sweep with a recommendation: run 'talkthemes sweep'")
-    recs = {f: Recommendation(**r) for f, r in sweep["recommendations"].items()}
-    if family is None:
-        scored = ws.sweeps_dir / str(sweep["id"]) / "cells.parquet"
-        family = best_family(recs, pd.read_parquet(scored) if scored.exists() else cells)
-    if family not in recs:
-        raise ConfigError(f"the sweep has no recommendation for --family {family}")
-    return family, recs[family].k

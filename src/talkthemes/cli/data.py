@@ -1,12 +1,13 @@
 """``ingest`` and ``prepare``: read transcripts into the store, and prepare them for models.
 
-The library modules behind these commands are imported inside them on purpose: they pull
-in numpy, pandas, spaCy and multiprocessing, and ``talkthemes --help`` imports every
-command module.
+The work happens in :class:`talkthemes.Workspace`. The modules that show what ``prepare``
+did are imported inside the commands on purpose: they pull in spaCy, numpy and scipy, and
+``talkthemes --help`` imports every command module.
 """
 
 from __future__ import annotations
 
+from contextlib import nullcontext
 from pathlib import Path
 from typing import Annotated, Any
 
@@ -20,11 +21,11 @@ from talkthemes.cli._common import (
     cell,
     check_output,
     emit_json,
-    lock,
     open_workspace,
     out,
     progress_bar,
     say,
+    waiting,
     writing,
 )
 
@@ -63,20 +64,22 @@ def ingest(
     as_json: JsonOpt = False,
 ) -> None:
     """Read transcripts (txt, vtt, csv, jsonl, parquet) and metadata manifests into the store."""
-    # deferred: the ingest run starts worker processes and opens the store (see module doc)
-    from talkthemes.ingest.run import ingest as run_ingest
-    from talkthemes.ingest.run import write_rejects_csv
-
     if rejects is not None:
         check_output(rejects, "--rejects")
     ws = open_workspace(workspace, create=create, create_flag="--create")
-    with lock(ws, "ingest", wait), progress_bar("ingest", enabled=not as_json) as update:
-        report = run_ingest(
-            ws, paths, manifests=manifest or [], update_metadata=update_metadata, progress=update
+    with (
+        writing(rejects, "--rejects") if rejects is not None else nullcontext(),
+        progress_bar("ingest", enabled=not as_json) as update,
+    ):
+        report = ws.ingest(
+            paths,
+            manifests=manifest or [],
+            update_metadata=update_metadata,
+            rejects_csv=rejects,
+            wait=wait,
+            on_wait=waiting,
+            progress=update,
         )
-    if rejects is not None:
-        with writing(rejects, "--rejects"):
-            write_rejects_csv(rejects, report.rejects)
     if as_json:
         emit_json(report.to_json())
     else:
@@ -125,13 +128,12 @@ def prepare(
     as_json: JsonOpt = False,
 ) -> None:
     """Run the preprocessing chain (the prepare settings) into a cached prepared corpus."""
-    # deferred: the chain loads spaCy, numpy and scipy (see module doc)
+    # deferred: showing what the chain did imports the chain (see module doc)
     from talkthemes.prepare.explain import explain_json, render_explain
-    from talkthemes.prepare.run import run_prepare
 
     ws = open_workspace(workspace)
-    with lock(ws, "prepare", wait), progress_bar("prepare", enabled=not as_json) as update:
-        result = run_prepare(ws, force=force, progress=update)
+    with progress_bar("prepare", enabled=not as_json) as update:
+        result = ws.prepare(force=force, wait=wait, on_wait=waiting, progress=update)
     # names removed by the chain are people's data: shown only where the workspace allows
     original = ws.settings().view.original_text
     if as_json:

@@ -1,8 +1,9 @@
 """``view``, ``report`` and ``demo``: the viewer, the offline HTML report, the guided demo.
 
-The library modules behind these commands are imported inside them on purpose: they pull
-in Streamlit, Altair, pandas and the whole pipeline, and ``talkthemes --help`` imports
-every command module.
+The work happens in :class:`talkthemes.Workspace`. The faces these commands start (the
+viewer's server, the report, the demo's corpus writer) are imported inside them on purpose:
+they pull in Streamlit, Altair and pandas, and ``talkthemes --help`` imports every command
+module.
 """
 
 from __future__ import annotations
@@ -12,6 +13,7 @@ from typing import Annotated, Any, NoReturn
 
 import typer
 
+from talkthemes import Workspace
 from talkthemes.cli._common import (
     JsonOpt,
     WorkspaceOpt,
@@ -22,8 +24,7 @@ from talkthemes.cli._common import (
     progress_bar,
     say,
 )
-from talkthemes.cli._shared import ThemesTable, print_sweep, recommended_cell
-from talkthemes.workspace import Workspace, resolve_workspace
+from talkthemes.cli._shared import ThemesTable, print_sweep
 
 __all__ = ["demo", "report", "view"]
 
@@ -76,7 +77,9 @@ def report(
         check_output(png, "--png", folder=True)
     ws = open_workspace(workspace)
     with progress_bar("report", enabled=not as_json) as update:
-        path = write_report(ws, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=update)
+        path = write_report(
+            ws.folder, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=update
+        )
     if as_json:
         emit_json({"out": str(path), "png_dir": None if png is None else str(png)})
     else:
@@ -104,21 +107,19 @@ def demo(
     as_json: JsonOpt = False,
 ) -> None:
     """Generate the invented demo corpus and run the whole pipeline on it, then view it."""
-    ws = Workspace(resolve_workspace(workspace))
-    ws.init()  # the demo builds its own workspace
-    with ws.store() as store:
-        existing = store.current_version()
+    ws = Workspace.create(workspace)  # the demo builds its own workspace
+    existing = ws.current_version()
     if existing is not None:  # a second run keeps the versions, labels and notes made so far
         say(
-            f"{ws.root} already holds the demo (version {existing['n']} is current); "
+            f"{ws.root} already holds the demo (version {existing} is current); "
             "delete the folder to build it again."
         )
         if as_json:
-            emit_json({"workspace": str(ws.root), "existing_version": existing["n"]})
+            emit_json({"workspace": str(ws.root), "existing_version": existing})
         elif serve:
             _serve(ws, host, port)
         return
-    with ws.lock("demo"):
+    with ws.hold("demo"):
         doc, themes = _run_demo(
             ws, size=size, seed=seed, k=k, seeds=seeds, refresh=refresh, quiet=as_json
         )
@@ -150,43 +151,39 @@ def demo(
 def _run_demo(
     ws: Workspace, *, size: int, seed: int, k: str, seeds: int, refresh: bool, quiet: bool
 ) -> tuple[dict[str, Any], list[dict[str, Any]]]:
-    """Write the invented corpus into the workspace and run every stage on it.
+    """Write the invented corpus into the workspace and run every stage on it (the caller
+    holds the workspace, so each stage uses that lock).
 
     Returns the JSON document of the run and the published version's themes.
     """
-    # deferred: the whole pipeline (see the module docstring)
+    # deferred: the demo's generator is only needed here (see the module docstring)
     from talkthemes.demo.writer import write_demo
-    from talkthemes.ingest.run import ingest as run_ingest
-    from talkthemes.prepare.run import run_prepare
-    from talkthemes.sweep.run import run_sweep
-    from talkthemes.versions.publish import publish as run_publish
 
     source = ws.root / "demo-source"
     say(f"Writing {size:,} invented calls to {source} …")
     files = write_demo(source, size=size, seed=seed, hold_back_last_month=refresh)
     doc: dict[str, Any] = {"workspace": str(ws.root)}
     with progress_bar("ingest", enabled=not quiet) as update:
-        report = run_ingest(ws, [files.exports], manifests=[files.manifest], progress=update)
+        report = ws.ingest([files.exports], manifests=[files.manifest], progress=update)
     doc["ingest"] = report.to_json()["totals"]
     with progress_bar("prepare", enabled=not quiet) as update:
-        prep = run_prepare(ws, progress=update)
+        prep = ws.prepare(progress=update)
     doc["prep"] = prep.summary
     with progress_bar("sweep cells", enabled=not quiet) as update:
-        result = run_sweep(ws, k=k, seeds=seeds, progress=update)
+        result = ws.sweep(k=k, seeds=seeds, progress=update)
     if not quiet:
         print_sweep(result)
-    family, best_k = recommended_cell(ws, None)
+    best = ws.recommendation()
+    family, best_k = best.family, best.k
     with progress_bar("publish", enabled=not quiet) as update:
-        published = run_publish(ws, k=best_k, family=family, progress=update)
+        published = ws.publish(k=best_k, family=family, progress=update)
     doc["published"] = {"version": published.version, "family": family, "k": best_k}
     if refresh and files.inbox is not None:
-        from talkthemes.refresh.run import refresh as run_refresh
-
         if not quiet:
             say(f"Published version {published.version}: {family} K={best_k}.", console=out)
             out.print(ThemesTable(published.themes))
             say("Now the held-back last month arrives: refreshing …")
         with progress_bar("refresh", enabled=not quiet) as update:
-            refreshed = run_refresh(ws, ingest_paths=[files.inbox], progress=update)
+            refreshed = ws.refresh(ingest=[files.inbox], progress=update)
         doc["refresh"] = refreshed.to_json()
     return doc, published.themes

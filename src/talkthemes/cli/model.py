@@ -1,8 +1,8 @@
 """``sweep`` and ``publish``: fit models over a grid of topic counts, and publish one.
 
-The library modules behind these commands are imported inside them on purpose: they pull
-in Dask, gensim, scikit-learn, pandas and Altair, and ``talkthemes --help`` imports every
-command module.
+The work happens in :class:`talkthemes.Workspace`. The chart modules are imported inside
+``sweep`` on purpose: they pull in Altair and pandas, and ``talkthemes --help`` imports
+every command module.
 """
 
 from __future__ import annotations
@@ -12,22 +12,22 @@ from typing import Annotated
 
 import typer
 
+from talkthemes import Workspace
 from talkthemes.cli._common import (
     JsonOpt,
     WaitOpt,
     WorkspaceOpt,
     check_output,
     emit_json,
-    lock,
     open_workspace,
     out,
     progress_bar,
     say,
+    waiting,
     writing,
 )
-from talkthemes.cli._shared import ThemesTable, print_sweep, recommended_cell
+from talkthemes.cli._shared import ThemesTable, print_sweep
 from talkthemes.errors import ConfigError
-from talkthemes.workspace import Workspace
 
 __all__ = ["publish", "sweep"]
 
@@ -52,22 +52,20 @@ def sweep(
     as_json: JsonOpt = False,
 ) -> None:
     """Fit LDA and NMF over a grid of topic counts and seeds; score them; recommend K."""
-    # deferred: Dask, gensim and scikit-learn (see module doc)
-    from talkthemes.sweep.run import run_sweep
-
     if chart is not None:
         check_output(chart, "--chart")
     ws = open_workspace(workspace)
     families = [f.strip() for f in family.split(",") if f.strip()] if family else None
-    with lock(ws, "sweep", wait), progress_bar("sweep cells", enabled=not as_json) as update:
-        result = run_sweep(
-            ws,
+    with progress_bar("sweep cells", enabled=not as_json) as update:
+        result = ws.sweep(
             k=k,
             families=families,
             seeds=seeds,
             scheduler=scheduler,
             workers=workers,
             force=force,
+            wait=wait,
+            on_wait=waiting,
             progress=update,
         )
     if chart is not None:
@@ -106,19 +104,20 @@ def publish(
     """Publish a sweep cell as the next version (final model on all eligible transcripts)."""
     _check_choice(k=k, family=family, cell=cell, version=version, recommended=recommended)
     ws = open_workspace(workspace)
-    with lock(ws, "publish", wait):
-        if version is not None:
-            _make_current(ws, version, as_json=as_json)
-            return
-        if recommended:
-            family, k = recommended_cell(ws, family)
-        if cell is not None and (k is not None or family is not None):
-            _check_cell(ws, cell, k=k, family=family)
-        # deferred: fitting and scoring the model (see module doc)
-        from talkthemes.versions.publish import publish as run_publish
-
-        with progress_bar("publish", enabled=not as_json) as update:
-            result = run_publish(ws, k=k, family=family, cell=cell, force=force, progress=update)
+    if version is not None:
+        _make_current(ws, version, wait=wait, as_json=as_json)
+        return
+    with progress_bar("publish", enabled=not as_json) as update:
+        result = ws.publish(
+            k=k,
+            family=family,
+            cell=cell,
+            recommended=recommended,
+            force=force,
+            wait=wait,
+            on_wait=waiting,
+            progress=update,
+        )
     if as_json:
         emit_json(result.to_json())
         return
@@ -142,41 +141,9 @@ def _check_choice(
         raise ConfigError("--recommended chooses K itself: give it without --k and --cell")
 
 
-def _check_cell(ws: Workspace, cell: str, *, k: int | None, family: str | None) -> None:
-    """Refuse ``--k``/``--family`` that disagree with the cell ``--cell`` names."""
-    with ws.store() as store:
-        found = next(
-            (c for sid in store.sweep_ids() for c in store.cells(sid) if c["cell"] == cell),
-            None,
-        )
-    if found is None:
-        return  # the publish step names the unknown cell
-    if k is not None and int(found["k"]) != k:
-        raise ConfigError(
-            f"--cell {cell} has K={found['k']}, not --k {k}: give --cell alone, "
-            "or --k with --family"
-        )
-    if family is not None and found["family"] != family:
-        raise ConfigError(
-            f"--cell {cell} is {found['family']}, not --family {family}: give --cell alone, "
-            "or --k with --family"
-        )
-
-
-def _make_current(ws: Workspace, version: int, *, as_json: bool) -> None:
+def _make_current(ws: Workspace, version: int, *, wait: bool, as_json: bool) -> None:
     """``publish --version N``: make a kept version current again."""
-    # deferred: loading a version reads numpy arrays (see module doc)
-    from talkthemes.versions.load import load_version
-
-    with ws.store() as store:
-        known = [v["n"] for v in store.versions()]
-        if version not in known:
-            raise ConfigError(
-                f"--version {version}: no such version (kept: "
-                f"{', '.join(map(str, known)) or 'none'})"
-            )
-        store.set_current_version(version)
-    v = load_version(ws, version)
+    v = ws.make_current(version, wait=wait, on_wait=waiting)
     if as_json:
         emit_json({"version": v.n, "themes": v.summary(lam=ws.settings().view.relevance_lambda)})
     else:

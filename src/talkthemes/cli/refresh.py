@@ -6,13 +6,13 @@ JSON document still lists the rejects); 2 usage or settings error, or the worksp
 1 anything unexpected. ``assign``: 0 done; 3 some inputs rejected; 2 usage (no transcript
 found, every path missing, an unwritable ``--out``); 1 unexpected.
 
-The library modules behind these commands are imported inside them on purpose: they pull
-in numpy, scipy, gensim and pandas, and ``talkthemes --help`` imports every command module.
+The work happens in :class:`talkthemes.Workspace`, which imports numpy, scipy, gensim and
+pandas only when a command first needs them (``talkthemes --help`` imports every command
+module).
 """
 
 from __future__ import annotations
 
-from contextlib import nullcontext
 from pathlib import Path
 from typing import Annotated, Any
 
@@ -24,11 +24,11 @@ from talkthemes.cli._common import (
     WorkspaceOpt,
     check_output,
     emit_json,
-    lock,
     open_workspace,
     out,
     progress_bar,
     say,
+    waiting,
 )
 from talkthemes.errors import ConfigError, InputError
 
@@ -64,17 +64,15 @@ def refresh(
     as_json: JsonOpt = False,
 ) -> None:
     """Ingest new transcripts, retrain, keep theme ids and labels, report drift, publish."""
-    # deferred: see the module docstring
-    from talkthemes.refresh.run import refresh as run_refresh
-
     ws = open_workspace(workspace)
-    with lock(ws, "refresh", wait), progress_bar("refresh", enabled=not as_json) as update:
-        result = run_refresh(
-            ws,
-            ingest_paths=ingest or None,
+    with progress_bar("refresh", enabled=not as_json) as update:
+        result = ws.refresh(
+            ingest=ingest or None,
             manifests=manifest or [],
             resweep=resweep,
             alert_on_new=alert_on_new,
+            wait=wait,
+            on_wait=waiting,
             progress=update,
         )
     if as_json:
@@ -139,9 +137,6 @@ def assign(
     as_json: JsonOpt = False,
 ) -> None:
     """Theme shares of new transcripts under the current version, to CSV or Parquet."""
-    # deferred: see the module docstring
-    from talkthemes.assign import assign as run_assign
-
     ws = open_workspace(workspace)
     if manifest and not store:
         raise ConfigError("--manifest applies only with --store")
@@ -152,15 +147,15 @@ def assign(
             + (": no such file or folder" if len(paths) == 1 else ": none of them exists")
         )
     check_output(out_path, "--out")
-    held: Any = lock(ws, "assign", wait) if store else nullcontext()
-    with held, progress_bar("assign", enabled=not as_json) as update:
-        result = run_assign(
-            ws,
+    with progress_bar("assign", enabled=not as_json) as update:
+        result = ws.assign_files(
             paths,
             out=out_path,
             store=store,
             manifests=manifest or [],
             version=version,
+            wait=wait,
+            on_wait=waiting,
             progress=update,
         )
     if as_json:

@@ -1,12 +1,11 @@
 """``themes``, ``label`` and ``export``: read a version's themes, name them, export shares.
 
-The version module is imported inside the commands on purpose: it pulls in numpy, pandas
-and Altair, and ``talkthemes --help`` imports every command module.
+The work happens in :class:`talkthemes.Workspace`, which imports numpy and pandas only when
+a command first needs them (``talkthemes --help`` imports every command module).
 """
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from pathlib import Path
 from typing import Annotated
 
@@ -23,9 +22,9 @@ from talkthemes.cli._common import (
     writing,
 )
 from talkthemes.cli._shared import ThemesTable
-from talkthemes.errors import ConfigError, InputError, NotReadyError
+from talkthemes.errors import ConfigError
 
-__all__ = ["export", "id_ranges", "label", "themes"]
+__all__ = ["export", "label", "themes"]
 
 
 def themes(
@@ -46,11 +45,8 @@ def themes(
     as_json: JsonOpt = False,
 ) -> None:
     """The current version's themes: label, coverage, mean share, top terms, coherence."""
-    # deferred: see the module docstring
-    from talkthemes.versions.load import load_version
-
     ws = open_workspace(workspace)
-    v = load_version(ws, version)
+    v = ws.version(version)
     lam = ws.settings().view.relevance_lambda if lam is None else lam
     summary = v.summary(lam=lam, n_terms=terms)
     if as_json:
@@ -79,38 +75,16 @@ def label(
     ws = open_workspace(workspace)
     if text is None and note is None and hide is None:
         raise ConfigError("give a label text, --note, --hide or --show")
-    with ws.store() as store:
-        current = store.current_version()
-        if current is None:
-            raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-        n = int(current["n"])
-        ids = [int(t["theme_id"]) for t in store.themes(n)]
-        if theme_id not in ids:
-            raise InputError(
-                f"there is no theme {theme_id} in version {n} (its theme ids: {id_ranges(ids)}; "
-                "see 'talkthemes themes')"
-            )
-        row = store.set_label(theme_id, label=text, note=note, hidden=hide)
+    row = ws.label(theme_id, text, note=note, hidden=hide)
     if as_json:
-        emit_json(row)
+        emit_json(row.to_json())
         return
-    parts = [f"Theme {theme_id}: label “", row["label"] or "", "”"]
-    if row["note"]:
-        parts += [", note “", row["note"], "”"]
-    if row["hidden"]:
+    parts = [f"Theme {theme_id}: label “", row.label, "”"]
+    if row.note:
+        parts += [", note “", row.note, "”"]
+    if row.hidden:
         parts.append(", hidden")
     say(*parts)
-
-
-def id_ranges(ids: Sequence[int]) -> str:
-    """``[1, 2, 3, 7, 9, 10]`` → ``"1–3, 7, 9–10"``."""
-    runs: list[list[int]] = []
-    for i in sorted(set(ids)):
-        if runs and i == runs[-1][1] + 1:
-            runs[-1][1] = i
-        else:
-            runs.append([i, i])
-    return ", ".join(str(a) if a == b else f"{a}–{b}" for a, b in runs) or "none"
 
 
 def export(
@@ -122,16 +96,11 @@ def export(
     as_json: JsonOpt = False,
 ) -> None:
     """Write every transcript's lead theme, lead share and share per theme to CSV or Parquet."""
-    # deferred: see the module docstring
-    from talkthemes.versions.export import export_shares, write_table
-    from talkthemes.versions.load import load_version
-
     check_output(out_path, "--out")
     ws = open_workspace(workspace)
-    frame = export_shares(load_version(ws, version))
     with writing(out_path, "--out"):
-        write_table(frame, out_path)
+        result = ws.export(out_path, version=version)
     if as_json:
-        emit_json({"out": str(out_path), "rows": len(frame), "columns": list(frame.columns)})
+        emit_json(result.to_json())
     else:
-        say(f"Wrote {len(frame):,} transcripts to {out_path}.")
+        say(f"Wrote {result.rows:,} transcripts to {out_path}.")

@@ -9,6 +9,7 @@ import typer
 from rich.table import Table
 from rich.text import Text
 
+from talkthemes import Workspace
 from talkthemes.cli._common import (
     JsonOpt,
     WorkspaceOpt,
@@ -18,9 +19,8 @@ from talkthemes.cli._common import (
     out,
     say,
 )
-from talkthemes.workspace import Workspace, resolve_workspace
 
-__all__ = ["init", "status", "status_data"]
+__all__ = ["init", "status"]
 
 
 def init(
@@ -31,39 +31,19 @@ def init(
     as_json: JsonOpt = False,
 ) -> None:
     """Create a workspace: a commented talkthemes.toml with every default and an empty store."""
-    ws = Workspace(folder if folder else resolve_workspace(workspace))
-    created = ws.init()
+    ws = Workspace.create(folder if folder else workspace)
     if as_json:
-        emit_json({"workspace": str(ws.root), "created": created})
-    elif created:
-        say("Workspace ready at ", (str(ws.root), "bold"), f" (settings: {ws.settings_path.name}).")
+        emit_json({"workspace": str(ws.root), "created": ws.created})
+    elif ws.created:
+        settings = ws.folder.settings_path.name
+        say("Workspace ready at ", (str(ws.root), "bold"), f" (settings: {settings}).")
     else:
         say(f"Workspace {ws.root} already exists; nothing changed.")
 
 
-def status_data(ws: Workspace) -> dict[str, Any]:
-    """Everything ``status`` shows, as a JSON-ready dict."""
-    # deferred: the sweep package pulls in Dask and the models (see module doc)
-    from talkthemes.sweep.state import sweep_overview
-
-    ws.require()
-    with ws.store() as store:
-        summary = store.summary()
-        stages = store.stages()
-    sweeps = sweep_overview(ws)
-    if stages["swept"] and sweeps["latest"]:  # 'running' of a killed sweep reads interrupted
-        stages["swept"]["status"] = sweeps["latest"]["status"]
-    return {
-        "workspace": str(ws.root),
-        **summary,
-        "stages": stages,
-        "unfinished_sweeps": sweeps["unfinished"],
-    }
-
-
 def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
     """What the workspace holds: counts by role, format, month and metadata; stage of each step."""
-    data = status_data(open_workspace(workspace))
+    data = open_workspace(workspace).status().to_json()
     if as_json:
         emit_json(data)
         return

@@ -277,7 +277,7 @@ def sweep_and_score(
     with ws.lock("quality"):
         result = run_sweep(ws, k=grid, families=list(families), seeds=seeds, workers=workers)
     with ws.store() as store:  # the stored cells keep their top terms, as publish reads them
-        stored = pd.DataFrame(store.cells(result.sweep_id))
+        stored = pd.DataFrame([c.row() for c in store.cells(result.sweep_id)])
     agreement = seed_agreement(stored, ws.settings().sweep.stability_topn)
     cells = result.cells
     rows = []

@@ -166,7 +166,7 @@ def run_prepare(
             except (OSError, ValueError) as exc:
                 raise StoreError(f"{final}: cannot read the cached prep: {exc}") from None
             current = store.current_prep()
-            if current is None or current.get("hash") != prep_hash:
+            if current is None or current.hash != prep_hash:
                 store.record_prep(prep_hash, _db_info(info, final.relative_to(workspace.root)))
             logger.info("prep %s is up to date", prep_hash)
             return PrepareResult(prep_hash, final, info.get("counts", {}), True, explain)
@@ -214,7 +214,7 @@ def load_current(workspace: Workspace, *, mmap: bool = True) -> PreparedCorpus:
         current = store.current_prep()
     if current is None:
         raise NotReadyError("nothing prepared yet: run 'talkthemes prepare' first")
-    folder = Path(current.get("path") or workspace.prepared_dir / current["hash"])
+    folder = Path(current.path or workspace.prepared_dir / current.hash)
     if not folder.is_absolute():
         folder = workspace.root / folder
     return PreparedCorpus.load(folder, mmap=mmap)

@@ -55,10 +55,10 @@ def drift_of(
 ) -> dict[str, Any]:
     """The drift report of the new version (its number is filled in when it is written)."""
     with ws.store() as store:
-        labels = {t["theme_id"]: t["label"] for t in store.themes(current.n)}
+        labels = {t.theme_id: t.label for t in store.themes(current.n)}
     old_side = ThemeSide(
         current.theme_ids,
-        [t["label"] for t in current.themes],
+        [t.label for t in current.themes],
         np.asarray(current.topic_terms),
         current.vocabulary,
         current.coverage(),

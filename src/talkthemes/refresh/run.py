@@ -339,7 +339,7 @@ def _run(
     else:
         run_prepare(ws)
         prep, prep_folder = load_current_prep(ws)
-        prep_hash = prep["hash"]
+        prep_hash = prep.hash
     corpus = PreparedCorpus.load(prep_folder)
     counts = corpus.counts.tocsr()
     _checkpoint("prepared")

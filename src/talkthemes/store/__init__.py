@@ -2,10 +2,10 @@
 
 SQLite in WAL mode (readers never block the single writer), with a schema version and
 forward-only migrations (:mod:`talkthemes.store.schema`). Callers see plain Python values
-and dataclasses, never SQL, so a server database could replace SQLite later without
-touching them. :class:`Store` is composed of one mixin per group of tables:
-:mod:`~talkthemes.store.runs` (ingest runs, rejects, same-text pairs, the summary),
-:mod:`~talkthemes.store.transcripts` (transcripts, turns, metadata),
+and the frozen records of :mod:`talkthemes.store.records`, never SQL, so a server database
+could replace SQLite later without touching them. :class:`Store` is composed of one mixin
+per group of tables: :mod:`~talkthemes.store.runs` (ingest runs, rejects, same-text
+pairs, the summary), :mod:`~talkthemes.store.transcripts` (transcripts, turns, metadata),
 :mod:`~talkthemes.store.sweeps` (preps, sweeps, cells), :mod:`~talkthemes.store.versions`
 (versions, themes, labels, retired themes) and :mod:`~talkthemes.store.refreshes`.
 """
@@ -17,12 +17,13 @@ from pathlib import Path
 
 from talkthemes.errors import StoreError
 from talkthemes.store._base import now_iso
+from talkthemes.store.records import StoredTurn, TextMatch
 from talkthemes.store.refreshes import RefreshesMixin
-from talkthemes.store.runs import IngestRunsMixin, TextMatch
+from talkthemes.store.runs import IngestRunsMixin
 from talkthemes.store.schema import _MIGRATIONS, SCHEMA_VERSION, check_version, connect, migrate
 from talkthemes.store.schema import read_schema_version as _read_schema_version
 from talkthemes.store.sweeps import SweepsMixin
-from talkthemes.store.transcripts import AddOutcome, StoredTurn, TranscriptsMixin
+from talkthemes.store.transcripts import AddOutcome, TranscriptsMixin
 from talkthemes.store.versions import VersionsMixin
 
 __all__ = ["SCHEMA_VERSION", "AddOutcome", "Store", "StoredTurn", "TextMatch", "now_iso"]

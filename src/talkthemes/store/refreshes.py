@@ -6,6 +6,7 @@ import json
 from typing import Any
 
 from talkthemes.store._base import StoreBase, now_iso
+from talkthemes.store.records import RefreshRecord
 
 __all__ = ["RefreshesMixin"]
 
@@ -37,9 +38,8 @@ class RefreshesMixin(StoreBase):
                 (status, now_iso(), json.dumps(info), refresh_id),
             )
 
-    def refreshes(self, limit: int | None = None) -> list[dict[str, Any]]:
-        """The refresh log, newest first (``id, started_at, finished_at, status,
-        previous_version, version`` and the summary)."""
+    def refreshes(self, limit: int | None = None) -> list[RefreshRecord]:
+        """The refresh log, newest first."""
         sql = (
             "SELECT id, started_at, finished_at, status, previous_version, version, info "
             "FROM refreshes ORDER BY id DESC"
@@ -48,17 +48,4 @@ class RefreshesMixin(StoreBase):
         if limit is not None:
             sql += " LIMIT ?"
             params = (int(limit),)
-        return [
-            {
-                **json.loads(info),
-                "id": rid,
-                "started_at": started,
-                "finished_at": finished,
-                "status": status,
-                "previous_version": prev,
-                "version": version,
-            }
-            for rid, started, finished, status, prev, version, info in self._conn.execute(
-                sql, params
-            )
-        ]
+        return [RefreshRecord.from_row(*row) for row in self._conn.execute(sql, params)]

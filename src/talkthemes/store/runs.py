@@ -4,41 +4,23 @@ from __future__ import annotations
 
 import json
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass
-from typing import Any
 
 from talkthemes.ingest.identity import KEPT, SAME_TEXT, SKIPPED
 from talkthemes.ingest.model import ROLES, Reject
 from talkthemes.store._base import StoreBase, now_iso
+from talkthemes.store.records import (
+    LikelyReexports,
+    MetadataField,
+    ReadOnlyDict,
+    ReexportPair,
+    StoreSummary,
+    TextMatch,
+)
 
-__all__ = ["IngestRunsMixin", "TextMatch"]
+__all__ = ["IngestRunsMixin"]
 
 #: Same-text pairs listed in the summary.
 SUMMARY_PAIRS = 5
-
-
-@dataclass(frozen=True, slots=True)
-class TextMatch:
-    """A call whose text equals a stored call's under another id.
-
-    Attributes
-    ----------
-    tid, source : str
-        The call and where it came from.
-    original : str
-        The id of the stored call with the same text.
-    kind : str
-        ``reexport_skipped``, ``reexport_kept`` (a likely re-export) or ``same_text`` (two
-        calls, both stored); see :mod:`talkthemes.ingest.identity`.
-    reason : str
-        Why (short text, which metadata differs, or "likely re-export").
-    """
-
-    tid: str
-    source: str
-    original: str
-    kind: str
-    reason: str
 
 
 class IngestRunsMixin(StoreBase):
@@ -94,29 +76,26 @@ class IngestRunsMixin(StoreBase):
             sql += f" LIMIT {int(limit)}"
         return [TextMatch(*row) for row in self._conn.execute(sql)]
 
-    def _same_text_summary(self) -> dict[str, Any]:
+    def _same_text_counts(self) -> tuple[LikelyReexports, int]:
+        """Likely re-exports (with the first few pairs), and pairs of calls with the same
+        text."""
         counts = dict(self._conn.execute("SELECT kind, COUNT(*) FROM text_matches GROUP BY kind"))
-        first = [
-            {"id": tid, "same_text_as": orig, "kept": kind == KEPT}
+        first = tuple(
+            ReexportPair(tid, orig, kind == KEPT)
             for tid, orig, kind in self._conn.execute(
                 "SELECT tid, original, kind FROM text_matches WHERE kind IN (?, ?) "
                 "ORDER BY rowid LIMIT ?",
                 (SKIPPED, KEPT, SUMMARY_PAIRS),
             )
-        ]
+        )
         skipped, kept = int(counts.get(SKIPPED, 0)), int(counts.get(KEPT, 0))
-        return {
-            "likely_reexports": {
-                "count": skipped + kept,
-                "skipped": skipped,
-                "kept": kept,
-                "first": first,
-            },
-            "same_text_pairs": int(counts.get(SAME_TEXT, 0)),
-        }
+        return (
+            LikelyReexports(count=skipped + kept, skipped=skipped, kept=kept, first=first),
+            int(counts.get(SAME_TEXT, 0)),
+        )
 
     # -- summaries -----------------------------------------------------------------
-    def summary(self) -> dict[str, Any]:
+    def summary(self) -> StoreSummary:
         """Counts for ``status``: by format, role, month and metadata field; date range;
         unfinished ingest runs; likely re-exports (count and the first few pairs)."""
         c = self._conn
@@ -144,7 +123,7 @@ class IngestRunsMixin(StoreBase):
             )
         )
         first, last = c.execute(f"SELECT MIN(value), MAX(value) FROM ({dated})").fetchone()
-        fields: dict[str, dict[str, Any]] = {}
+        fields: dict[str, MetadataField] = {}
         for key, count, distinct in c.execute(
             "SELECT m.key, COUNT(*), COUNT(DISTINCT m.value) FROM metadata m "
             "JOIN transcripts t ON t.tid = m.tid GROUP BY m.key ORDER BY m.key"
@@ -154,11 +133,7 @@ class IngestRunsMixin(StoreBase):
                 "WHERE m.key = ? GROUP BY m.value ORDER BY n DESC, m.value LIMIT 5",
                 (key,),
             ).fetchall()
-            fields[key] = {
-                "transcripts": count,
-                "distinct": distinct,
-                "top": {v: k for v, k in top},
-            }
+            fields[key] = MetadataField(count, distinct, ReadOnlyDict(top))
         unmatched = c.execute(
             "SELECT COUNT(DISTINCT tid) FROM metadata "
             "WHERE tid NOT IN (SELECT tid FROM transcripts)"
@@ -170,21 +145,23 @@ class IngestRunsMixin(StoreBase):
             "AND id > (SELECT COALESCE(MAX(id), 0) FROM ingest_runs WHERE status = 'done')"
         ).fetchone()
         rejects = c.execute("SELECT COUNT(*) FROM rejects").fetchone()[0]
-        return {
-            "transcripts": int(n),
-            "words": int(words),
-            "by_format": by_format,
-            "turns_by_role": turns_by_role,
-            "transcripts_with_role": transcripts_by_role,
-            "by_month": by_month,
-            "date_range": [first, last] if first else None,
-            "metadata_fields": fields,
-            "manifest_rows_without_transcript": int(unmatched),
-            "ingest_runs": int(runs[0] or 0),
-            "interrupted_ingest_runs": int(unfinished),
-            "rejected_inputs": int(rejects),
-            **self._same_text_summary(),
-        }
+        reexports, same_text = self._same_text_counts()
+        return StoreSummary(
+            transcripts=int(n),
+            words=int(words),
+            by_format=ReadOnlyDict(by_format),
+            turns_by_role=ReadOnlyDict(turns_by_role),
+            transcripts_with_role=ReadOnlyDict(transcripts_by_role),
+            by_month=ReadOnlyDict(by_month),
+            date_range=(first, last) if first else None,
+            metadata_fields=ReadOnlyDict(fields),
+            manifest_rows_without_transcript=int(unmatched),
+            ingest_runs=int(runs[0] or 0),
+            interrupted_ingest_runs=int(unfinished),
+            rejected_inputs=int(rejects),
+            likely_reexports=reexports,
+            same_text_pairs=same_text,
+        )
 
 
 _INSERT_MATCH = (

@@ -6,6 +6,15 @@ import json
 from typing import Any
 
 from talkthemes.store._base import StoreBase, now_iso
+from talkthemes.store.records import (
+    CellRecord,
+    PreparedStage,
+    PrepRecord,
+    PublishedStage,
+    Stages,
+    SweepRecord,
+    SweptStage,
+)
 
 __all__ = ["SweepsMixin"]
 
@@ -24,19 +33,14 @@ class SweepsMixin(StoreBase):
                 (prep_hash, now_iso(), json.dumps(info)),
             )
 
-    def current_prep(self) -> dict[str, Any] | None:
-        """The current prep's info (with ``hash`` and ``created_at``), or None."""
+    def current_prep(self) -> PrepRecord | None:
+        """The current prep's record, or None."""
         row = self._conn.execute(
             "SELECT hash, created_at, info FROM preps WHERE current = 1"
         ).fetchone()
-        if row is None:
-            return None
-        info = json.loads(row[2])
-        info.setdefault("hash", row[0])
-        info.setdefault("created_at", row[1])
-        return info
+        return None if row is None else PrepRecord.from_row(*row)
 
-    def stages(self) -> dict[str, Any]:
+    def stages(self) -> Stages:
         """Where each later stage stands: current prep, latest sweep, current version."""
         prep = self.current_prep()
         sweep = self._conn.execute(
@@ -45,37 +49,23 @@ class SweepsMixin(StoreBase):
         version = self._conn.execute(
             "SELECT n, created_at FROM versions WHERE current = 1"
         ).fetchone()
-        return {
-            "prepared": None if prep is None else {"hash": prep["hash"], "at": prep["created_at"]},
-            "swept": None
-            if sweep is None
-            else {"id": sweep[0], "at": sweep[1], "status": sweep[2]},
-            "published": None if version is None else {"version": version[0], "at": version[1]},
-        }
+        return Stages(
+            prepared=None if prep is None else PreparedStage(prep.hash, prep.created_at),
+            swept=None if sweep is None else SweptStage(int(sweep[0]), sweep[1], sweep[2]),
+            published=None if version is None else PublishedStage(int(version[0]), version[1]),
+        )
 
     # -- sweeps and cells ------------------------------------------------------------
     _SWEEP_SELECT = "SELECT id, prep_hash, created_at, finished_at, status, info FROM sweeps "
 
-    @staticmethod
-    def _sweep_record(row: tuple[Any, ...]) -> dict[str, Any]:
-        """A sweeps row as one dict: its info, with the columns taking precedence."""
-        sid, prep, created, finished, status, info = row
-        return {
-            **json.loads(info),
-            "id": sid,
-            "prep_hash": prep,
-            "created_at": created,
-            "finished_at": finished,
-            "status": status,
-        }
-
-    def find_sweep(self, prep_hash: str, grid_key: str) -> dict[str, Any] | None:
-        """The latest sweep of this prep with this grid (``info['grid_key']``), or None."""
+    def find_sweep(self, prep_hash: str, grid_key: str) -> SweepRecord | None:
+        """The latest sweep of this prep with this grid (:attr:`SweepRecord.grid_key`), or
+        None."""
         for row in self._conn.execute(
             self._SWEEP_SELECT + "WHERE prep_hash = ? ORDER BY id DESC", (prep_hash,)
         ):
-            record = self._sweep_record(row)
-            if record.get("grid_key") == grid_key:
+            record = SweepRecord.from_row(*row)
+            if record.grid_key == grid_key:
                 return record
         return None
 
@@ -121,13 +111,13 @@ class SweepsMixin(StoreBase):
             c.execute("UPDATE sweeps SET status='interrupted' WHERE status='running'")
         return ids
 
-    def get_sweep(self, sweep_id: int | None = None) -> dict[str, Any] | None:
+    def get_sweep(self, sweep_id: int | None = None) -> SweepRecord | None:
         """A sweep by id, or the latest one; None when there is none."""
         if sweep_id is None:
             row = self._conn.execute(self._SWEEP_SELECT + "ORDER BY id DESC LIMIT 1").fetchone()
         else:
             row = self._conn.execute(self._SWEEP_SELECT + "WHERE id = ?", (sweep_id,)).fetchone()
-        return None if row is None else self._sweep_record(row)
+        return None if row is None else SweepRecord.from_row(*row)
 
     def sweep_ids(self, prep_hash: str | None = None) -> list[int]:
         """Ids of sweeps (of one prep, or all), newest first."""
@@ -151,25 +141,20 @@ class SweepsMixin(StoreBase):
                 (sweep_id, cell, family, k, seed, now_iso(), json.dumps(metrics)),
             )
 
-    def cells(self, sweep_id: int) -> list[dict[str, Any]]:
-        """Every finished cell of a sweep: ``cell, family, k, seed`` and its metrics."""
+    def cells(self, sweep_id: int) -> list[CellRecord]:
+        """Every finished cell of a sweep, by family, K and seed."""
         return [
-            {"cell": cell, "family": fam, "k": k, "seed": seed, **json.loads(m)}
-            for cell, fam, k, seed, m in self._conn.execute(
-                "SELECT cell, family, k, seed, metrics FROM cells WHERE sweep_id = ? "
-                "ORDER BY family, k, seed",
+            CellRecord.from_row(*row)
+            for row in self._conn.execute(
+                "SELECT sweep_id, cell, family, k, seed, finished_at, metrics FROM cells "
+                "WHERE sweep_id = ? ORDER BY family, k, seed",
                 (sweep_id,),
             )
         ]
 
-    def get_prep(self, prep_hash: str) -> dict[str, Any] | None:
-        """A recorded prep's info by hash, or None."""
+    def get_prep(self, prep_hash: str) -> PrepRecord | None:
+        """A recorded prep by hash, or None."""
         row = self._conn.execute(
             "SELECT hash, created_at, info FROM preps WHERE hash = ?", (prep_hash,)
         ).fetchone()
-        if row is None:
-            return None
-        info = json.loads(row[2])
-        info.setdefault("hash", row[0])
-        info.setdefault("created_at", row[1])
-        return info
+        return None if row is None else PrepRecord.from_row(*row)

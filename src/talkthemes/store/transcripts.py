@@ -10,23 +10,11 @@ from dataclasses import dataclass, field
 from talkthemes.ingest.identity import SAME_TEXT, SKIPPED, ReexportRule
 from talkthemes.ingest.model import Reject, Transcript
 from talkthemes.store._base import PARAM_CHUNK, StoreBase, chunks, now_iso
-from talkthemes.store.runs import TextMatch
+from talkthemes.store.records import StoredTurn, TextMatch
 
 DEFAULT_RULE = ReexportRule()
 
-__all__ = ["DEFAULT_RULE", "AddOutcome", "StoredTurn", "TranscriptsMixin"]
-
-
-@dataclass(frozen=True, slots=True)
-class StoredTurn:
-    """A turn as stored: position, speaker label, role, times and text."""
-
-    seq: int
-    speaker: str
-    role: str
-    start: float | None
-    end: float | None
-    text: str
+__all__ = ["DEFAULT_RULE", "AddOutcome", "TranscriptsMixin"]
 
 
 @dataclass(slots=True)

@@ -8,6 +8,7 @@ from typing import Any
 
 from talkthemes.errors import StoreError
 from talkthemes.store._base import StoreBase, now_iso
+from talkthemes.store.records import LabelRecord, RetiredTheme, ThemeRecord, VersionRecord
 
 __all__ = ["VersionsMixin"]
 
@@ -43,37 +44,27 @@ class VersionsMixin(StoreBase):
             c.execute("UPDATE versions SET current = 0 WHERE current = 1")
             c.execute("UPDATE versions SET current = 1 WHERE n = ?", (n,))
 
-    def current_version(self) -> dict[str, Any] | None:
-        """The current version's record (``n``, ``created_at`` and its info), or None."""
+    def current_version(self) -> VersionRecord | None:
+        """The current version's record, or None."""
         row = self._conn.execute(
-            "SELECT n, created_at, info FROM versions WHERE current = 1"
+            "SELECT n, created_at, current, info FROM versions WHERE current = 1"
         ).fetchone()
-        if row is None:
-            return None
-        return {"n": row[0], "created_at": row[1], **json.loads(row[2])}
+        return None if row is None else VersionRecord.from_row(*row)
 
-    def versions(self) -> list[dict[str, Any]]:
+    def versions(self) -> list[VersionRecord]:
         """Every recorded version, oldest first."""
         return [
-            {"n": n, "created_at": c, "current": bool(cur), **json.loads(info)}
-            for n, c, cur, info in self._conn.execute(
+            VersionRecord.from_row(*row)
+            for row in self._conn.execute(
                 "SELECT n, created_at, current, info FROM versions ORDER BY n"
             )
         ]
 
-    def themes(self, version: int) -> list[dict[str, Any]]:
+    def themes(self, version: int) -> list[ThemeRecord]:
         """Themes of a version, by position, with their label, note and hidden flag."""
         return [
-            {
-                "theme_id": tid,
-                "position": pos,
-                "status": status,
-                "info": json.loads(info),
-                "label": label or "",
-                "note": note or "",
-                "hidden": bool(hidden),
-            }
-            for tid, pos, status, info, label, note, hidden in self._conn.execute(
+            ThemeRecord.from_row(*row)
+            for row in self._conn.execute(
                 "SELECT t.theme_id, t.position, t.status, t.info, l.label, l.note, l.hidden "
                 "FROM themes t LEFT JOIN labels l ON l.theme_id = t.theme_id "
                 "WHERE t.version = ? ORDER BY t.position",
@@ -88,7 +79,7 @@ class VersionsMixin(StoreBase):
         label: str | None = None,
         note: str | None = None,
         hidden: bool | None = None,
-    ) -> dict[str, Any]:
+    ) -> LabelRecord:
         """Set a theme's label, note or hidden flag (``None`` leaves a field as it is).
 
         Raises
@@ -122,7 +113,7 @@ class VersionsMixin(StoreBase):
             row = c.execute(
                 "SELECT label, note, hidden FROM labels WHERE theme_id = ?", (theme_id,)
             ).fetchone()
-        return {"theme_id": theme_id, "label": row[0], "note": row[1], "hidden": bool(row[2])}
+        return LabelRecord(int(theme_id), row[0], row[1], bool(row[2]))
 
     # -- publishing with retired themes, pruning, the refresh log ----------------------
     def publish_version(
@@ -167,17 +158,11 @@ class VersionsMixin(StoreBase):
                     (now_iso(), n, json.dumps(refresh_info or {}), refresh_id),
                 )
 
-    def retired_themes(self, version: int) -> list[dict[str, Any]]:
+    def retired_themes(self, version: int) -> list[RetiredTheme]:
         """Themes that version ``version`` retired, with their label, note and hidden flag."""
         return [
-            {
-                "theme_id": tid,
-                "info": json.loads(info),
-                "label": label or "",
-                "note": note or "",
-                "hidden": bool(hidden),
-            }
-            for tid, info, label, note, hidden in self._conn.execute(
+            RetiredTheme.from_row(*row)
+            for row in self._conn.execute(
                 "SELECT r.theme_id, r.info, l.label, l.note, l.hidden FROM retired_themes r "
                 "LEFT JOIN labels l ON l.theme_id = r.theme_id WHERE r.version = ? "
                 "ORDER BY r.theme_id",

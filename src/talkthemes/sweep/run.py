@@ -30,6 +30,7 @@ from talkthemes.config import SweepSettings, settings_from_dict
 from talkthemes.errors import ConfigError, NotReadyError
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.progress import Progress, report
+from talkthemes.store.records import PrepRecord, SweepRecord
 from talkthemes.sweep.cell import fit_cell
 from talkthemes.sweep.grid import CellSpec, build_cells, grid_key, parse_k
 from talkthemes.sweep.limits import PrepSize, check_k, check_memory
@@ -42,8 +43,6 @@ from talkthemes.workspace import Workspace
 __all__ = ["SweepResult", "load_current_prep", "run_sweep", "sweep_settings"]
 
 log = logging.getLogger(__name__)
-
-_SWEEP_COLUMNS = ("id", "prep_hash", "created_at", "finished_at", "status")
 
 PAUSE_ENV = "TALKTHEMES_TEST_PAUSE_AT"
 PAUSE_SECONDS_ENV = "TALKTHEMES_TEST_PAUSE_SECONDS"
@@ -58,13 +57,13 @@ def _checkpoint(stage: str) -> None:
         time.sleep(seconds)
 
 
-def load_current_prep(ws: Workspace) -> tuple[dict[str, Any], Path]:
+def load_current_prep(ws: Workspace) -> tuple[PrepRecord, Path]:
     """The current prep's record and folder, or :class:`NotReadyError` naming the command."""
     with ws.store() as store:
         prep = store.current_prep()
     if prep is None:
         raise NotReadyError("nothing prepared yet: run 'talkthemes prepare' first")
-    folder = ws.prepared_dir / prep["hash"]
+    folder = ws.prepared_dir / prep.hash
     if not folder.exists():
         raise NotReadyError(
             f"the current prep's folder {folder} is missing: run 'talkthemes prepare' again"
@@ -74,7 +73,27 @@ def load_current_prep(ws: Workspace) -> tuple[dict[str, Any], Path]:
 
 @dataclass
 class SweepResult:
-    """A finished sweep: its cells' metrics and the recommendation per family."""
+    """A finished sweep: its cells' metrics and the recommendation per family.
+
+    Attributes
+    ----------
+    sweep_id : int
+    folder : Path
+        ``sweeps/<id>/``.
+    cells : DataFrame
+        One row per fitted cell: ``cell``, ``family``, ``k``, ``seed`` and its metrics
+        (coherence measures, stability, diversity, held-out fit, fit seconds).
+    recommendations : dict of str to Recommendation
+        Per family; also read as :attr:`recommendation`.
+    reused_cells : int
+        Cells taken from an earlier run of the same grid.
+    cached : bool
+        True when the whole sweep was already done and is returned as it was.
+    failed : list of dict
+        Cells that failed: ``cell`` and ``error``.
+    rank_by : str
+        The coherence measure the recommendation ranked by.
+    """
 
     sweep_id: int
     folder: Path
@@ -84,6 +103,11 @@ class SweepResult:
     cached: bool = False
     failed: list[dict[str, str]] = field(default_factory=list)
     rank_by: str = "c_npmi"
+
+    @property
+    def recommendation(self) -> dict[str, Recommendation]:
+        """The recommended K per family (the public API's name for ``recommendations``)."""
+        return self.recommendations
 
     def to_json(self) -> dict[str, Any]:
         """A JSON-ready dict (per-topic score lists left out)."""
@@ -204,16 +228,16 @@ def run_sweep(
     corpus = PreparedCorpus.load(prep_folder)
     size = PrepSize.of(corpus, settings)
     check_k(ks, size, settings)
-    key = grid_key(prep["hash"], specs, settings)
+    key = grid_key(prep.hash, specs, settings)
 
     with ws.store() as store:
         store.mark_sweeps_interrupted()  # the caller holds the lock: none of them runs
-        found = None if force else store.find_sweep(prep["hash"], key)
-        if found is not None and found["status"] == "done":
-            cached = _load_finished(ws.sweeps_dir / str(found["id"]), found)
+        found = None if force else store.find_sweep(prep.hash, key)
+        if found is not None and found.status == "done":
+            cached = _load_finished(ws.sweeps_dir / str(found.id), found)
             if cached is not None:
                 return cached
-        done = {c["cell"] for c in store.cells(found["id"])} if found is not None else set()
+        done = {c.cell for c in store.cells(found.id)} if found is not None else set()
     todo = [s for s in specs if s.cell not in done]
     reused = len(specs) - len(todo)
     check_memory(todo, size, settings)
@@ -222,12 +246,12 @@ def run_sweep(
     try:
         if not todo:
             assert found is not None  # every cell is recorded: only the scoring is left
-            sweep_id = _open_record(ws, found, prep["hash"], key, ks, settings)
+            sweep_id = _open_record(ws, found, prep.hash, key, ks, settings)
             report(progress, reused, len(specs), "resuming")
         else:
             # connect first: an unreachable scheduler leaves no sweep record behind
             with _client(settings) as client:
-                sweep_id = _open_record(ws, found, prep["hash"], key, ks, settings)
+                sweep_id = _open_record(ws, found, prep.hash, key, ks, settings)
                 folder = ws.sweeps_dir / str(sweep_id)
                 folder.mkdir(parents=True, exist_ok=True)
                 report(progress, reused, len(specs), "resuming" if reused else "starting")
@@ -241,14 +265,15 @@ def run_sweep(
         # any stop (an error, Ctrl-C) leaves the sweep resumable: say so in its record
         if sweep_id is not None:
             with ws.store() as store:
-                if (store.get_sweep(sweep_id) or {}).get("status") == "running":
+                record = store.get_sweep(sweep_id)
+                if record is not None and record.status == "running":
                     store.set_sweep_status(sweep_id, "interrupted")
         raise
 
 
 def _open_record(
     ws: Workspace,
-    found: dict[str, Any] | None,
+    found: SweepRecord | None,
     prep_hash: str,
     key: str,
     ks: list[int],
@@ -266,10 +291,9 @@ def _open_record(
                 "run": run_info(),
             }
             return store.start_sweep(prep_hash, info)
-        info = {k: v for k, v in found.items() if k not in _SWEEP_COLUMNS}
-        info["run"] = run_info()
-        store.set_sweep_status(found["id"], "running", info)
-        return int(found["id"])
+        info = {**found.info, "run": run_info()}
+        store.set_sweep_status(found.id, "running", info)
+        return found.id
 
 
 def _score(
@@ -287,7 +311,7 @@ def _score(
     folder.mkdir(parents=True, exist_ok=True)
     train, _ = split_rows(corpus.doc_ids, settings.heldout_share)
     with ws.store() as store:
-        cells = store.cells(sweep_id)
+        cells = [c.row() for c in store.cells(sweep_id)]
     if not cells:
         with ws.store() as store:
             store.set_sweep_status(sweep_id, "incomplete")
@@ -307,8 +331,8 @@ def _score(
     os.replace(folder / "cells.parquet.tmp", folder / "cells.parquet")
     with ws.store() as store:
         if not failed and len(cells) == len(specs):
-            record = store.get_sweep(sweep_id) or {}
-            info = {k: v for k, v in record.items() if k not in _SWEEP_COLUMNS}
+            record = store.get_sweep(sweep_id)
+            info = {} if record is None else dict(record.info)
             info["recommendations"] = {f: r.to_dict() for f, r in recs.items()}
             store.finish_sweep(sweep_id, info)
         else:
@@ -316,14 +340,14 @@ def _score(
     return SweepResult(sweep_id, folder, frame, recs, reused, False, failed, settings.rank_by)
 
 
-def _load_finished(folder: Path, record: dict[str, Any]) -> SweepResult | None:
+def _load_finished(folder: Path, record: SweepRecord) -> SweepResult | None:
     path = folder / "cells.parquet"
-    if not path.exists() or "recommendations" not in record:
+    if not path.exists() or record.recommendations is None:
         return None
     frame = pd.read_parquet(path)
-    recs = {f: Recommendation(**r) for f, r in record["recommendations"].items()}
+    recs = {f: Recommendation(**r) for f, r in record.recommendations.items()}
     rank_by = next(iter(recs.values())).rank_by if recs else "c_npmi"
-    return SweepResult(record["id"], folder, frame, recs, len(frame), True, [], rank_by)
+    return SweepResult(record.id, folder, frame, recs, len(frame), True, [], rank_by)
 
 
 def _run_cells(

@@ -18,6 +18,7 @@ import os
 import socket
 from typing import Any
 
+from talkthemes.store.records import SweepRecord
 from talkthemes.workspace import Workspace
 
 __all__ = ["UNFINISHED", "effective_status", "run_info", "sweep_overview", "unfinished_sweeps"]
@@ -41,34 +42,28 @@ def _alive(pid: int) -> bool:
     return True
 
 
-def effective_status(record: dict[str, Any]) -> str:
+def effective_status(record: SweepRecord) -> str:
     """A sweep record's status, with ``running`` read as ``interrupted`` when the process
     recorded with it is gone (a record from another host is taken at its word)."""
-    status = str(record.get("status", ""))
+    status = record.status
     if status != "running":
         return status
-    run = record.get("run") or {}
-    pid, host = run.get("pid"), run.get("host")
+    pid, host = record.run_pid, record.run_host
     if pid is None:
         return "interrupted"  # written before sweeps recorded their process: not this run's
     if host and host != socket.gethostname():
         return status
-    return "running" if _alive(int(pid)) else "interrupted"
+    return "running" if _alive(pid) else "interrupted"
 
 
-def _cells_key(record: dict[str, Any]) -> tuple[Any, ...]:
-    return (
-        record.get("prep_hash"),
-        tuple(record.get("k") or ()),
-        tuple(record.get("families") or ()),
-        record.get("seeds"),
-    )
+def _cells_key(record: SweepRecord) -> tuple[Any, ...]:
+    return (record.prep_hash, record.k, record.families, record.seeds)
 
 
-def _rerun_command(record: dict[str, Any]) -> str:
-    k = ",".join(str(x) for x in record.get("k") or ())
-    families = ",".join(record.get("families") or ())
-    return f"talkthemes sweep --k {k} --family {families} --seeds {record.get('seeds')}"
+def _rerun_command(record: SweepRecord) -> str:
+    k = ",".join(str(x) for x in record.k)
+    families = ",".join(record.families)
+    return f"talkthemes sweep --k {k} --family {families} --seeds {record.seeds}"
 
 
 def unfinished_sweeps(ws: Workspace) -> list[dict[str, Any]]:
@@ -95,30 +90,26 @@ def sweep_overview(ws: Workspace) -> dict[str, Any]:
     with ws.store() as store:
         prep = store.current_prep()
         records = [r for r in map(store.get_sweep, sorted(store.sweep_ids())) if r is not None]
-        done_cells = {r["id"]: len(store.cells(r["id"])) for r in records}
+        done_cells = {r.id: len(store.cells(r.id)) for r in records}
     latest = None
     if records:
         last = records[-1]
-        latest = {
-            "id": last["id"],
-            "status": effective_status(last),
-            "created_at": last["created_at"],
-        }
-    finished = {_cells_key(r): r["id"] for r in records if r["status"] == "done"}
+        latest = {"id": last.id, "status": effective_status(last), "created_at": last.created_at}
+    finished = {_cells_key(r): r.id for r in records if r.status == "done"}
     unfinished = []
     for r in records:
         status = effective_status(r)
-        if status not in UNFINISHED or prep is None or r.get("prep_hash") != prep["hash"]:
+        if status not in UNFINISHED or prep is None or r.prep_hash != prep.hash:
             continue
-        if finished.get(_cells_key(r), -1) > r["id"]:
+        if finished.get(_cells_key(r), -1) > r.id:
             continue  # the same cells finished in a later sweep
-        total = len(r.get("k") or ()) * len(r.get("families") or ()) * int(r.get("seeds") or 0)
+        total = len(r.k) * len(r.families) * int(r.seeds or 0)
         unfinished.append(
             {
-                "id": r["id"],
+                "id": r.id,
                 "status": status,
-                "created_at": r["created_at"],
-                "cells_done": done_cells[r["id"]],
+                "created_at": r.created_at,
+                "cells_done": done_cells[r.id],
                 "cells_total": total,
                 "rerun": _rerun_command(r),
             }

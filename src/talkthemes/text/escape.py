@@ -20,10 +20,11 @@ __all__ = ["FORMULA_START", "csv_cell", "csv_frame", "html_text", "md_inline", "
 #: Injection": ``=``, ``+``, ``-``, ``@``, tab and carriage return at the start of a cell).
 FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 
-# Every character with a meaning in CommonMark inline syntax, plus ``|`` (tables), ``~``
+# Every character with a meaning in CommonMark inline syntax (``&`` starts an entity
+# reference such as ``&amp;``), plus ``|`` (tables), ``~``
 # (strike-through), ``$`` (maths in some renderers), and ``:`` and ``/`` (emoji and icon
 # shortcodes such as ``:material/name:``, which some renderers expand before Markdown).
-_MD_SPECIAL = re.compile(r"([\\`*_{}\[\]()#+\-.!|<>~$:/])")
+_MD_SPECIAL = re.compile(r"([\\`*_{}\[\]()#+\-.!|<>~$:/&])")
 _CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f]")
 
 

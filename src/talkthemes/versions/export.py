@@ -24,7 +24,7 @@ def export_shares(version: Version) -> pd.DataFrame:
     """
     lead = version.lead()
     ids = np.asarray(version.theme_ids)
-    labels = [t["label"] for t in version.themes]
+    labels = [t.label for t in version.themes]
     frame = pd.DataFrame(
         {
             "transcript_id": version.doc_ids,

@@ -16,6 +16,7 @@ import pandas as pd
 
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.metrics.relevance import relevance
+from talkthemes.store.records import ThemeRecord
 from talkthemes.versions.naming import theme_name
 from talkthemes.workspace import Workspace
 
@@ -36,8 +37,8 @@ class Version:
     folder : Path
     info : dict
         ``version.json``.
-    themes : list of dict
-        One per row of ``topic_terms``: ``theme_id, position, status, label, note, hidden``.
+    themes : list of ThemeRecord
+        One per row of ``topic_terms``, with its label, note and hidden flag.
     vocabulary : list of str
     doc_ids : list of str
     topic_terms : ndarray (K, V)
@@ -47,7 +48,7 @@ class Version:
     n: int
     folder: Path
     info: dict[str, Any]
-    themes: list[dict[str, Any]]
+    themes: list[ThemeRecord]
     vocabulary: list[str]
     doc_ids: list[str]
     topic_terms: np.ndarray
@@ -60,7 +61,7 @@ class Version:
 
     @property
     def theme_ids(self) -> list[int]:
-        return [int(t["theme_id"]) for t in self.themes]
+        return [t.theme_id for t in self.themes]
 
     def position(self, theme_id: int) -> int:
         """Row of a theme id in this version's arrays."""
@@ -134,7 +135,7 @@ class Version:
 
     def names(self) -> list[str]:
         """Display name of each theme (label, or three top terms)."""
-        return [theme_name(t["label"], self.top_terms(i, 3)) for i, t in enumerate(self.themes)]
+        return [theme_name(t.label, self.top_terms(i, 3)) for i, t in enumerate(self.themes)]
 
     def summary(self, *, lam: float = 0.6, n_terms: int = 10) -> list[dict[str, Any]]:
         """Per theme: id, label, note, hidden, status, coverage, mean share, terms, coherence."""
@@ -144,12 +145,12 @@ class Version:
         for i, t in enumerate(self.themes):
             out.append(
                 {
-                    "theme_id": t["theme_id"],
-                    "name": theme_name(t["label"], self.top_terms(i, 3)),
-                    "label": t["label"],
-                    "note": t["note"],
-                    "hidden": t["hidden"],
-                    "status": t["status"],
+                    "theme_id": t.theme_id,
+                    "name": theme_name(t.label, self.top_terms(i, 3)),
+                    "label": t.label,
+                    "note": t.note,
+                    "hidden": t.hidden,
+                    "status": t.status,
                     "coverage": float(cov[i]),
                     "mean_share": float(mean[i]),
                     "top_terms": self.top_terms(i, n_terms, lam),
@@ -172,7 +173,7 @@ def load_version(ws: Workspace, n: int | None = None) -> Version:
             cur = store.current_version()
             if cur is None:
                 raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-            n = int(cur["n"])
+            n = cur.n
         themes = store.themes(n)
     folder = ws.versions_dir / str(n)
     if not themes or not folder.exists():

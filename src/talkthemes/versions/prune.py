@@ -30,7 +30,7 @@ def prune_versions(ws: Workspace, keep: int) -> list[int]:
     with ws.store() as store:
         numbers = store.version_numbers()
         current = store.current_version()
-        cur = None if current is None else int(current["n"])
+        cur = None if current is None else current.n
         old = [x for x in numbers[:-keep] if x != cur] if len(numbers) > keep else []
         deleted = store.delete_versions(old)
     remove_leftovers(ws)

@@ -22,6 +22,7 @@ from talkthemes.config import SweepSettings
 from talkthemes.errors import ConfigError, InputError, NotReadyError
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.progress import Progress, report
+from talkthemes.store.records import SweepRecord
 from talkthemes.sweep.grid import FAMILIES, CellSpec
 from talkthemes.sweep.limits import PrepSize, check_k, check_memory
 from talkthemes.sweep.run import load_current_prep
@@ -141,7 +142,7 @@ def find_cell(
     k: int | None,
     family: str | None,
     cell: str | None,
-) -> tuple[dict[str, Any], pd.Series]:
+) -> tuple[SweepRecord, pd.Series]:
     """The newest sweep of the current prep holding the requested cell, and that cell."""
     with ws.store() as store:
         ids = [sweep_id] if sweep_id is not None else store.sweep_ids(prep_hash)
@@ -153,7 +154,7 @@ def find_cell(
             raise NotReadyError("no sweep yet: run 'talkthemes sweep' first")
         last_error: Exception | None = None
         for sid in ids:
-            cells = pd.DataFrame(store.cells(sid))
+            cells = pd.DataFrame([c.row() for c in store.cells(sid)])
             if cells.empty:
                 continue
             try:
@@ -168,7 +169,7 @@ def find_cell(
                 continue
             sweep = store.get_sweep(sid)
             assert sweep is not None
-            if sweep["prep_hash"] != prep_hash:
+            if sweep.prep_hash != prep_hash:
                 raise NotReadyError(
                     f"sweep {sid} was run on an older prep: run 'talkthemes sweep' again first"
                 )
@@ -214,7 +215,7 @@ def _choose(
         int(chosen["k"]),
         int(chosen["seed"]),
         str(chosen["cell"]),
-        int(sweep["id"]),
+        sweep.id,
     )
 
 
@@ -227,7 +228,7 @@ def _already_current(ws: Workspace, key: str, prep_hash: str, choice: _Choice) -
         current = store.current_version()
     if current is None:
         return None
-    n = int(current["n"])
+    n = current.n
     info = load_version(ws, n).info
     if "fit_key" in info:
         same = info["fit_key"] == key
@@ -291,9 +292,9 @@ def publish(
 
     prep, prep_folder = load_current_prep(ws)
     settings = ws.settings()
-    choice = _choose(ws, prep["hash"], sweep_id, k=k, family=family, cell=cell)
-    key = fit_key(prep["hash"], choice.family, choice.k, choice.seed, settings.sweep)
-    current = None if force else _already_current(ws, key, prep["hash"], choice)
+    choice = _choose(ws, prep.hash, sweep_id, k=k, family=family, cell=cell)
+    key = fit_key(prep.hash, choice.family, choice.k, choice.seed, settings.sweep)
+    current = None if force else _already_current(ws, key, prep.hash, choice)
     if current is not None:
         step("already current", 5)
         version = load_version(ws, current)
@@ -317,7 +318,7 @@ def publish(
         check_memory([spec], size, settings.sweep, fit_calls=size.calls, shares_calls=size.calls)
     fam, kk, seed = choice.family, choice.k, choice.seed
     step(f"fitting {fam} K={kk} on {corpus.n_docs:,} transcripts", 1)
-    fitted = fit_version(ws, corpus, family=fam, k=kk, seed=seed, prep_hash=prep["hash"])
+    fitted = fit_version(ws, corpus, family=fam, k=kk, seed=seed, prep_hash=prep.hash)
     step("writing the version", 3)
     extra: dict[str, Any] = {"cell": choice.cell, "sweep_id": choice.sweep_id, "fit_key": key}
     if choice.sweep_id is None:

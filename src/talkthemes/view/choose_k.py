@@ -128,10 +128,10 @@ def load_sweep(ws: Workspace, sweep_id: int | None = None) -> SweepView:
         record = store.get_sweep(sweep_id)
         if record is None:
             raise NotReadyError("no sweep yet: run 'talkthemes sweep' first")
-        raw = pd.DataFrame(store.cells(int(record["id"])))
+        raw = pd.DataFrame([c.row() for c in store.cells(record.id)])
     if raw.empty:
-        raise NotReadyError(f"sweep {record['id']} has no finished cell yet")
-    folder = ws.sweeps_dir / str(record["id"])
+        raise NotReadyError(f"sweep {record.id} has no finished cell yet")
+    folder = ws.sweeps_dir / str(record.id)
     path = folder / "cells.parquet"
     if path.exists():
         scored = pd.read_parquet(path)
@@ -140,13 +140,13 @@ def load_sweep(ws: Workspace, sweep_id: int | None = None) -> SweepView:
         cells = raw
     cells = cells.sort_values(["family", "k", "seed"]).reset_index(drop=True)
     return SweepView(
-        sweep_id=int(record["id"]),
-        prep_hash=str(record["prep_hash"]),
+        sweep_id=record.id,
+        prep_hash=record.prep_hash,
         folder=folder,
         cells=cells,
-        recommendations=dict(record.get("recommendations") or {}),
+        recommendations=dict(record.recommendations or {}),
         scored=path.exists(),
-        created_at=str(record.get("created_at", "")),
+        created_at=record.created_at,
     )
 
 

@@ -20,6 +20,7 @@ import pandas as pd
 
 from talkthemes.errors import InputError
 from talkthemes.privacy import mask_text
+from talkthemes.store.records import RetiredTheme, ThemeRecord, VersionRecord
 from talkthemes.versions.naming import theme_name
 from talkthemes.workspace import Workspace
 
@@ -47,15 +48,13 @@ TIMELINE_COLUMNS = [
 ]
 
 
-def versions_timeline(versions: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
+def versions_timeline(versions: Sequence[VersionRecord]) -> pd.DataFrame:
     """One row per version, oldest first, for the timeline.
 
     Parameters
     ----------
-    versions : sequence of mapping
-        As :meth:`talkthemes.store.Store.versions` returns them (``n``, ``created_at``,
-        ``current`` and the version's info, with a ``refresh`` block when a refresh made
-        it).
+    versions : sequence of VersionRecord
+        As :meth:`talkthemes.store.Store.versions` returns them.
 
     Returns
     -------
@@ -71,26 +70,25 @@ def versions_timeline(versions: Sequence[Mapping[str, Any]]) -> pd.DataFrame:
     """
     rows = []
     for v in versions:
-        refresh = v.get("refresh") or {}
+        refresh = v.refresh
         try:
-            created = pd.Timestamp(str(v["created_at"]))
-        except (KeyError, ValueError) as exc:
+            created = pd.Timestamp(v.created_at)
+        except ValueError as exc:
             raise InputError(
-                f"version {v.get('n')!r}: created_at {v.get('created_at')!r} is not an ISO "
-                "date-time"
+                f"version {v.n!r}: created_at {v.created_at!r} is not an ISO date-time"
             ) from exc
         if created.tzinfo is not None:
             created = created.tz_convert(None)
         rows.append(
             {
-                "n": int(v["n"]),
+                "n": v.n,
                 "created_at": created,
-                "current": bool(v.get("current", False)),
-                "kind": "refresh" if refresh else "publish",
-                "family": str(v.get("family", "")).upper(),
-                "k": int(v["k"]) if v.get("k") is not None else pd.NA,
-                "previous_version": refresh.get("previous_version", pd.NA),
-                "new_transcripts": refresh.get("new_transcripts", pd.NA),
+                "current": v.current,
+                "kind": "publish" if refresh is None else "refresh",
+                "family": (v.family or "").upper(),
+                "k": pd.NA if v.k is None else v.k,
+                "previous_version": _or_na(None if refresh is None else refresh.previous_version),
+                "new_transcripts": _or_na(None if refresh is None else refresh.new_transcripts),
             }
         )
     frame = pd.DataFrame(rows, columns=TIMELINE_COLUMNS)
@@ -142,17 +140,21 @@ class VersionChanges:
         return [t for t in [*self.carried, *self.new] if t.flags]
 
 
-def _flags(info: Mapping[str, Any]) -> list[str]:
+def _or_na(value: Any) -> Any:
+    return pd.NA if value is None else value
+
+
+def _flags(theme: ThemeRecord) -> list[str]:
     out = []
-    if info.get("possible_split_of"):
+    if theme.possible_split_of:
         out.append(
             "possibly split from previous theme "
-            + ", ".join(f"#{int(i)}" for i in info["possible_split_of"])
+            + ", ".join(f"#{i}" for i in theme.possible_split_of)
         )
-    if info.get("possible_merge_of"):
+    if theme.possible_merge_of:
         out.append(
             "possibly a merge of previous themes "
-            + ", ".join(f"#{int(i)}" for i in info["possible_merge_of"])
+            + ", ".join(f"#{i}" for i in theme.possible_merge_of)
         )
     return out
 
@@ -164,24 +166,21 @@ def _name(label: str, terms: Sequence[str] | None, theme_id: int) -> str:
 
 
 def version_changes(
-    themes: Sequence[Mapping[str, Any]],
-    retired: Sequence[Mapping[str, Any]],
+    themes: Sequence[ThemeRecord],
+    retired: Sequence[RetiredTheme],
     top_terms: Mapping[int, Sequence[str]],
 ) -> VersionChanges:
     """Split a version's themes into carried, new and retired, with names and details.
 
     Parameters
     ----------
-    themes : sequence of mapping
-        :meth:`talkthemes.store.Store.themes` of the version (``theme_id``, ``status``,
-        ``label``, ``info`` with ``distance``, ``nearest_previous``,
-        ``possible_split_of``, ``possible_merge_of``).
-    retired : sequence of mapping
-        :meth:`talkthemes.store.Store.retired_themes` of the version (``theme_id``,
-        ``label``, ``info`` with ``top_terms``, ``coverage_before``, ``nearest_new``).
+    themes : sequence of ThemeRecord
+        :meth:`talkthemes.store.Store.themes` of the version.
+    retired : sequence of RetiredTheme
+        :meth:`talkthemes.store.Store.retired_themes` of the version.
     top_terms : mapping of int to sequence of str
         Theme id → top terms, most probable first (from the drift report or the
-        version); a retired theme's own ``info["top_terms"]`` is used when missing here.
+        version); a retired theme's own recorded top terms are used when missing here.
 
     Returns
     -------
@@ -190,39 +189,37 @@ def version_changes(
     """
     carried, new, gone = [], [], []
     for t in themes:
-        tid = int(t["theme_id"])
-        info = t.get("info") or {}
-        name = _name(t.get("label", ""), top_terms.get(tid), tid)
-        if t["status"] == "carried":
-            dist = info.get("distance")
+        tid = t.theme_id
+        name = _name(t.label, top_terms.get(tid), tid)
+        if t.status == "carried":
+            dist = t.distance
             detail = (
-                f"kept its id; its words moved by {float(dist):.3f} (Jensen–Shannon distance)"
+                f"kept its id; its words moved by {dist:.3f} (Jensen–Shannon distance)"
                 if dist is not None
                 else "kept its id"
             )
-            carried.append(ThemeChange(tid, name, "carried", detail, _flags(info)))
-        elif t["status"] == "new":
-            near = info.get("nearest_previous")
+            carried.append(ThemeChange(tid, name, "carried", detail, _flags(t)))
+        elif t.status == "new":
+            near = t.nearest_previous
             detail = (
-                f"closest previous theme #{int(near['theme_id'])} "
-                f"({near.get('name', '')}) at distance {float(near['distance']):.3f}"
-                if near
+                f"closest previous theme #{near.theme_id} ({near.name}) at distance "
+                f"{near.distance:.3f}"
+                if near is not None
                 else "no previous version to compare with"
             )
-            new.append(ThemeChange(tid, name, "new", detail, _flags(info)))
+            new.append(ThemeChange(tid, name, "new", detail, _flags(t)))
         else:
-            raise InputError(f"theme {tid}: status {t['status']!r} is not 'carried' or 'new'")
+            raise InputError(f"theme {tid}: status {t.status!r} is not 'carried' or 'new'")
     for r in retired:
-        tid = int(r["theme_id"])
-        info = r.get("info") or {}
-        terms = top_terms.get(tid) or info.get("top_terms")
-        near = info.get("nearest_new")
+        tid = r.theme_id
+        terms = top_terms.get(tid) or r.top_terms
+        near = r.nearest_new
         detail = (
-            f"closest new theme #{int(near['theme_id'])} at distance {float(near['distance']):.3f}"
-            if near
+            f"closest new theme #{near.theme_id} at distance {near.distance:.3f}"
+            if near is not None
             else "no close theme in this version"
         )
-        gone.append(ThemeChange(tid, _name(r.get("label", ""), terms, tid), "retired", detail))
+        gone.append(ThemeChange(tid, _name(r.label, terms, tid), "retired", detail))
 
     def order(items: list[ThemeChange]) -> list[ThemeChange]:
         return sorted(items, key=lambda c: c.theme_id)

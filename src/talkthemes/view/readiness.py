@@ -151,18 +151,18 @@ def readiness(ws: Workspace) -> Readiness:
         stages = store.stages()
         sweep_id = None
         sweep = store.get_sweep()
-        if sweep is not None and store.cells(int(sweep["id"])):
-            sweep_id = int(sweep["id"])
+        if sweep is not None and store.cells(sweep.id):
+            sweep_id = sweep.id
         current = store.current_version()
     scored = sweep_id is not None and (ws.sweeps_dir / str(sweep_id) / "cells.parquet").exists()
     version = None
-    if current is not None and (ws.versions_dir / str(current["n"])).exists():
-        version = int(current["n"])
+    if current is not None and (ws.versions_dir / str(current.n)).exists():
+        version = current.n
     return Readiness(
         root=root,
         has_workspace=True,
         transcripts=n,
-        prepared=stages["prepared"] is not None,
+        prepared=stages.prepared is not None,
         sweep_id=sweep_id,
         sweep_scored=scored,
         version=version,

@@ -44,14 +44,14 @@ def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> p
     for i, t in enumerate(version.themes):
         rows.append(
             {
-                "theme_id": int(t["theme_id"]),
+                "theme_id": t.theme_id,
                 "position": i,
                 "name": names[i],
-                "label": t["label"],
-                "labelled": bool(str(t["label"] or "").strip()),
-                "note": t["note"],
-                "hidden": bool(t["hidden"]),
-                "status": t["status"],
+                "label": t.label,
+                "labelled": bool(str(t.label or "").strip()),
+                "note": t.note,
+                "hidden": t.hidden,
+                "status": t.status,
                 "coverage": float(cov[i]),
                 "mean_share": float(mean[i]),
                 "boilerplate_like": bool(suggest[i]),
@@ -105,7 +105,7 @@ def theme_names(version: Version) -> list[str]:
         top3 = [shown_terms(version, i, 3) for i in range(version.k)]
         if cache is not None:
             cache["view.top3"] = top3
-    return [theme_name(t["label"], top3[i]) for i, t in enumerate(version.themes)]
+    return [theme_name(t.label, top3[i]) for i, t in enumerate(version.themes)]
 
 
 def with_names(frame: pd.DataFrame, version: Version) -> pd.DataFrame:
@@ -114,7 +114,7 @@ def with_names(frame: pd.DataFrame, version: Version) -> pd.DataFrame:
     Frames keyed by ``theme_id`` are cached by the viewer; labels change at any time.
     """
     names = dict(zip(version.theme_ids, theme_names(version), strict=True))
-    hidden = {int(t["theme_id"]): bool(t["hidden"]) for t in version.themes}
+    hidden = {t.theme_id: t.hidden for t in version.themes}
     out = frame.copy()
     out["name"] = out["theme_id"].map(names).astype(str)
     out["hidden"] = out["theme_id"].map(hidden).astype(bool)

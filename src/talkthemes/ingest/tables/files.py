@@ -14,7 +14,7 @@ import datetime as dt
 import io
 import json
 import math
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -23,7 +23,7 @@ from talkthemes.config import IngestSettings
 from talkthemes.ingest.decode import load_text, max_bytes, oversize_reject
 from talkthemes.ingest.model import Reject, Warning_
 
-__all__ = ["TABLE_FORMATS", "RawTable", "load_table", "row_name"]
+__all__ = ["TABLE_FORMATS", "RawTable", "load_table", "row_name", "table_from_rows"]
 
 TABLE_FORMATS = {".csv": "csv", ".jsonl": "jsonl", ".ndjson": "jsonl", ".parquet": "parquet"}
 
@@ -243,6 +243,39 @@ def _load_parquet(
     table.rows = [list(r) for r in zip(*cols, strict=True)] if cols else []
     table.numbers = list(range(1, len(table.rows) + 1))
     return table, []
+
+
+def table_from_rows(
+    source: str,
+    fmt: str,
+    columns: Sequence[Any],
+    rows: Iterable[Sequence[Any]],
+    *,
+    first: int = 1,
+) -> RawTable:
+    """A table already in memory (a data frame's rows, say) as a :class:`RawTable`.
+
+    Cells become strings as in Parquet files (None for missing, empty and NaN values);
+    duplicate or empty column names are made unique as in files.
+
+    Parameters
+    ----------
+    source : str
+        What messages call the table.
+    fmt : str
+        The format named in rejects.
+    columns : sequence
+        Column names.
+    rows : iterable of sequence
+        The rows, aligned with ``columns``.
+    first : int
+        The number of the first row in messages (rows are numbered from it).
+    """
+    table = RawTable(source, fmt, _unique_columns(columns))
+    for number, row in enumerate(rows, start=first):
+        table.rows.append([_cell(v) for v in row])
+        table.numbers.append(number)
+    return table
 
 
 _LOADERS = {"csv": _load_csv, "jsonl": _load_jsonl, "parquet": _load_parquet}

@@ -23,7 +23,7 @@ from talkthemes.ingest.tables.files import RawTable, load_table
 from talkthemes.ingest.tables.per_call import read_per_call
 from talkthemes.ingest.tables.per_turn import read_per_turn
 
-__all__ = ["PER_TURN_REPEAT_SHARE", "read_table"]
+__all__ = ["PER_TURN_REPEAT_SHARE", "read_rows", "read_table"]
 
 #: Share of a table's ids that must repeat for a table without a clear speaker column to be
 #: read per turn; below it, a repeated id in a table of one row per call is an error.
@@ -57,8 +57,27 @@ def read_table(path: Path, settings: IngestSettings) -> Iterator[Transcript | Re
     """
     table, notes = load_table(path, settings)
     yield from notes
-    if table is None:
-        return
+    if table is not None:
+        yield from read_rows(table, settings, path.stem)
+
+
+def read_rows(
+    table: RawTable, settings: IngestSettings, stem: str
+) -> Iterator[Transcript | Reject | Warning_]:
+    """Read the transcripts of a table already loaded (from a file, or held in memory).
+
+    Parameters
+    ----------
+    table : RawTable
+    settings : IngestSettings
+    stem : str
+        Name that ids of rows without one are made from (``<stem>-<row>``): the file name
+        without its extension for files.
+
+    Yields
+    ------
+    Transcript, Reject or Warning_
+    """
     text_col = find_column(table.columns, settings.text_column, TEXT_NAMES)
     if text_col is None:
         yield _missing(table, "text", "text_column", settings.text_column)
@@ -99,11 +118,9 @@ def read_table(path: Path, settings: IngestSettings) -> Iterator[Transcript | Re
                 "turns of one transcript",
             )
     if per_turn:
-        yield from read_per_turn(
-            table, settings, path.stem, text_col, id_col, speaker_col, date_col
-        )
+        yield from read_per_turn(table, settings, stem, text_col, id_col, speaker_col, date_col)
     else:
-        yield from read_per_call(table, settings, path.stem, text_col, id_col, date_col)
+        yield from read_per_call(table, settings, stem, text_col, id_col, date_col)
 
 
 def _ids_repeat(table: RawTable, id_col: int) -> tuple[bool, str]:

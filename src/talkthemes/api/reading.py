@@ -1,0 +1,259 @@
+"""The methods of :class:`talkthemes.Workspace` that read: status, versions, themes,
+shares, the sweep's recommendation, and theme shares of new text.
+
+None of them takes the writer lock: the store runs in WAL mode and a version becomes current
+in one transaction after its files are in place, so a read made while a refresh runs sees
+the version that was current when it started, whole. They are safe to call from several
+threads at once (a service's workers): each call opens its own store connection, and loaded
+versions are shared read-only (see :mod:`talkthemes.api._cache`).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import logging
+import os
+from collections.abc import Sequence
+from pathlib import Path
+from typing import TYPE_CHECKING
+
+from talkthemes.errors import InputError, NotReadyError
+from talkthemes.progress import Progress
+from talkthemes.sweep.state import sweep_overview
+
+from . import _choices
+from ._base import WorkspaceBase
+from ._deferred import deferred
+from .inputs import read_inputs
+from .results import Export, Status
+
+if TYPE_CHECKING:  # heavy (numpy, pandas, scikit-learn): imported on first use, _deferred.py
+    import pandas as pd
+
+    from talkthemes import assign as assign_mod
+    from talkthemes.sweep.recommend import Recommendation
+    from talkthemes.versions import export as versions_export
+    from talkthemes.versions.load import Version
+else:
+    pd = deferred("pandas")
+    assign_mod = deferred("talkthemes.assign")
+    versions_export = deferred("talkthemes.versions.export")
+
+__all__ = ["THEME_COLUMNS", "ReadingMixin"]
+
+log = logging.getLogger(__name__)
+
+#: Columns of :meth:`ReadingMixin.themes` before the coherence measures.
+THEME_COLUMNS = (
+    "theme_id", "name", "label", "note", "hidden", "status", "coverage", "mean_share",
+    "top_terms",
+)  # fmt: skip
+
+#: Rejects named in the message of a strict :meth:`ReadingMixin.assign`.
+_NAMED = 5
+
+
+class ReadingMixin(WorkspaceBase):
+    """Status, versions, themes, shares, export, recommendation, assign (module notes)."""
+
+    def status(self) -> Status:
+        """What the workspace holds (counts by format, role, month, metadata field) and
+        where each stage stands.
+
+        Returns
+        -------
+        Status
+        """
+        with self._dir.store() as store:
+            summary = store.summary()
+            stages = store.stages()
+        sweeps = sweep_overview(self._dir)
+        if stages.swept and sweeps["latest"]:  # 'running' of a killed sweep reads interrupted
+            swept = dataclasses.replace(stages.swept, status=sweeps["latest"]["status"])
+            stages = dataclasses.replace(stages, swept=swept)
+        return Status(
+            workspace=str(self._dir.root),
+            **summary.to_json(),
+            stages=stages.to_json(),
+            unfinished_sweeps=sweeps["unfinished"],
+        )
+
+    def current_version(self) -> int | None:
+        """The current version's number; None before the first publish."""
+        return _choices.current_number(self._dir)
+
+    def version(self, n: int | None = None) -> Version:
+        """A published version, loaded read-only (default: the current one).
+
+        Parameters
+        ----------
+        n : int, optional
+
+        Returns
+        -------
+        Version
+            Its arrays (``topic_terms``, ``doc_topics``), vocabulary, transcript ids, and
+            themes with their labels as stored now.
+
+        Raises
+        ------
+        NotReadyError
+            When nothing is published yet, or version ``n`` is not kept.
+        """
+        if n is None:
+            n = self.current_version()
+            if n is None:
+                raise NotReadyError("no version published yet: run 'talkthemes publish' first")
+        return self._versions.version(self._dir, int(n))
+
+    def themes(
+        self, version: int | None = None, *, lam: float | None = None, n_terms: int = 10
+    ) -> pd.DataFrame:
+        """A version's themes, one row each, in the version's order.
+
+        Parameters
+        ----------
+        version : int, optional
+            Default: the current version.
+        lam : float, optional
+            Relevance weight ranking the top terms: 1 by probability within the theme, 0
+            by lift (default ``[view] relevance_lambda``; Sievert & Shirley 2014).
+        n_terms : int
+            Top terms per theme.
+
+        Returns
+        -------
+        DataFrame
+            ``theme_id``, ``name`` (the label, or a name made of top terms), ``label``,
+            ``note``, ``hidden``, ``status`` (``new`` or ``carried``), ``coverage`` (share
+            of transcripts the theme leads), ``mean_share``, ``top_terms`` (a list), then
+            one column per coherence measure of the version (``c_npmi``, ``c_v``, ...).
+        """
+        v = self.version(version)
+        lam = self.settings().view.relevance_lambda if lam is None else lam
+        rows = []
+        for theme in v.summary(lam=lam, n_terms=n_terms):
+            row = {key: value for key, value in theme.items() if key != "coherence"}
+            rows.append({**row, **theme.get("coherence", {})})
+        frame = pd.DataFrame(rows)
+        return frame if rows else pd.DataFrame(columns=list(THEME_COLUMNS))
+
+    def shares(self, version: int | None = None) -> pd.DataFrame:
+        """Every transcript's theme shares under a version (default: the current one).
+
+        Returns
+        -------
+        DataFrame
+            One row per transcript the version was trained on: ``transcript_id``,
+            ``lead_theme_id``, ``lead_theme_label``, ``lead_share``, then one column
+            ``share_<theme id>`` per theme (a row sums to 1).
+        """
+        return versions_export.export_shares(self.version(version))
+
+    def export(self, path: str | os.PathLike[str], *, version: int | None = None) -> Export:
+        """Write :meth:`shares` to a ``.csv`` (spreadsheet-safe) or ``.parquet`` file.
+
+        The file is written to a temporary name and moved into place.
+
+        Parameters
+        ----------
+        path : path
+            A ``.csv`` or ``.parquet`` file name.
+        version : int, optional
+            Default: the current version.
+
+        Returns
+        -------
+        Export
+
+        Raises
+        ------
+        ConfigError
+            When the name ends in neither ``.csv`` nor ``.parquet``.
+        """
+        out = Path(path)
+        frame = self.shares(version)
+        versions_export.write_table(frame, out)
+        return Export(out=out, rows=len(frame), columns=[str(c) for c in frame.columns])
+
+    def recommendation(self, family: str | None = None) -> Recommendation:
+        """The latest finished sweep's recommended K, with its rule, reasons, runners-up.
+
+        Parameters
+        ----------
+        family : {'lda', 'nmf'}, optional
+            Default: the family whose recommendation is better (not weak, then higher
+            coherence at its K).
+
+        Raises
+        ------
+        ConfigError
+            When no sweep has finished with a recommendation (for ``family``).
+        """
+        return _choices.latest(self._dir, family)
+
+    def assign(
+        self,
+        data: pd.DataFrame | Sequence[str] | os.PathLike[str] | Sequence[os.PathLike[str]],
+        *,
+        version: int | None = None,
+        strict: bool = True,
+        progress: Progress | None = None,
+    ) -> pd.DataFrame:
+        """Theme shares of new transcripts under a version, without storing them.
+
+        The texts are prepared exactly as the version's training data was and their shares
+        inferred with its model (LDA: deterministic for a given input order; NMF: the
+        topics held fixed). Thread-safe; a service may call it from several threads.
+
+        Parameters
+        ----------
+        data : list of str, DataFrame, Path or list of Path
+            Texts (ids ``"0"``, ``"1"``, ... by position), a frame in either shape the table
+            ingest reads (one row per transcript, or one per turn), or files and folders;
+            see :mod:`talkthemes.api.inputs`.
+        version : int, optional
+            Default: the current version.
+        strict : bool
+            Raise when an input is rejected (an empty text, a row without text, an
+            unreadable file). With ``strict=False`` rejected inputs are left out and logged
+            as warnings (logger ``talkthemes.api.reading``).
+        progress : Progress, optional
+            ``progress(done, 0, current_id)``.
+
+        Returns
+        -------
+        DataFrame
+            One row per transcript, in input order: ``transcript_id``, ``lead_theme_id``
+            (empty when no word of the transcript is in the version's vocabulary),
+            ``lead_theme_label``, ``lead_share``, one ``share_<theme id>`` per theme,
+            ``known_terms`` and ``reason`` (why there is no lead theme).
+
+        Raises
+        ------
+        InputError
+            ``data`` of no accepted shape; with ``strict``, an input that was rejected.
+        NotReadyError
+            When nothing is published yet.
+        """
+        n = version if version is not None else self.current_version()
+        if n is None:
+            raise NotReadyError("no version published yet: run 'talkthemes publish' first")
+        assigner = self._versions.assigner(self._dir, int(n))
+        items = read_inputs(data, self.settings().ingest)
+        with assigner.lock:
+            frame, rejects, warnings = assign_mod.assign_items(
+                items, assigner.version, assigner.applier, assigner.model, progress=progress
+            )
+        for w in warnings:
+            log.warning("%s: %s", w.source, w.message)
+        if rejects and strict:
+            named = "; ".join(f"{r.source}: {r.reason}" for r in rejects[:_NAMED])
+            more = f" (and {len(rejects) - _NAMED} more)" if len(rejects) > _NAMED else ""
+            raise InputError(
+                f"{len(rejects)} input(s) rejected: {named}{more}; "
+                "strict=False assigns the rest and leaves these out"
+            )
+        for r in rejects:
+            log.warning("rejected: %s: %s", r.source, r.reason)
+        return frame

@@ -1,0 +1,59 @@
+"""docs/api.md is executed: its ``python`` blocks run in order in a fresh folder, and the
+numbers they leave behind are checked (the example is a whole run: ingest to refresh)."""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pytest
+
+import talkthemes as tt
+
+DOC = Path(__file__).resolve().parents[2] / "docs" / "api.md"
+BLOCK = re.compile(r"^```python\n(.*?)^```", re.S | re.M)
+
+
+def python_blocks(text: str) -> list[str]:
+    """The fenced ``python`` blocks of a Markdown text, in order."""
+    return BLOCK.findall(text)
+
+
+def test_blocks_are_found_in_order() -> None:
+    text = "a\n```python\nx = 1\n```\n```\nnot run\n```\n```python\ny = x\n```\n"
+    assert python_blocks(text) == ["x = 1\n", "y = x\n"]
+
+
+@pytest.mark.slow
+def test_the_worked_example_runs(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.chdir(tmp_path)
+    blocks = python_blocks(DOC.read_text(encoding="utf-8"))
+    assert len(blocks) >= 15
+    ns: dict[str, Any] = {"__name__": "api_md"}
+    for i, block in enumerate(blocks):
+        code = compile(block, f"docs/api.md block {i + 1}", "exec")
+        exec(code, ns)  # our own documentation
+
+    ws = ns["ws"]
+    assert isinstance(ws, tt.Workspace) and ws.root == Path("demo-work")
+    assert ns["report"].total("added") > 200 and ns["report"].exit_code == 0
+    sweep = ns["sweep"]
+    assert sorted(set(sweep.cells["k"])) == [4, 6, 8] and len(sweep.cells) == 6
+    assert ns["published"].k == ns["recommendation"].k
+    themes = ns["themes"]
+    assert len(themes) == ns["recommendation"].k
+    assert np.isclose(themes["coverage"].sum(), 1)
+    shares = ns["shares"]
+    assert len(shares) == ns["prep"].summary["transcripts"]
+    # the label was set, shown as the name, and carried by the refresh
+    assert ns["refreshed"].status == "published" and ns["refreshed"].version == 2
+    after = ns["after"].set_index("theme_id")
+    carried = after[after["status"] == "carried"]
+    assert ns["meter"] in carried.index
+    assert after.loc[ns["meter"], "name"] == "Meter readings"
+    # both assign calls found a lead theme for each new text
+    assert ns["assigned"]["lead_theme_id"].notna().all()
+    assert ns["status"].stages["published"]["version"] == 2
+    assert Path("shares.csv").is_file() and ns["exported"].rows == len(ws.shares())
