@@ -41,10 +41,10 @@ import re
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
-from talkthemes.errors import TalkthemesError
-from talkthemes.prepare.lexicon import load_lemma_table
+from talkthemes.prepare.lexicon import lemma_table_words, spacy_stop_words
 from talkthemes.prepare.scrub import SCRUB_KINDS, scrub
-from talkthemes.text.names import MONTHS_DAYS, ROLE_WORDS, first_names
+from talkthemes.text.masked import KINDS, masked_as
+from talkthemes.text.names import MONTHS_DAYS, REPLY_WORDS, ROLE_WORDS, first_names
 
 __all__ = [
     "KINDS",
@@ -55,22 +55,14 @@ __all__ = [
     "html_pieces",
     "mask_text",
     "mask_value",
+    "masked_as",
     "masker_for",
     "name_term",
     "plain",
 ]
 
-#: The kinds masked, in the order of :data:`PLACEHOLDER`'s table, and how each reads.
-KINDS: dict[str, str] = {
-    "email": "e-mail",
-    "url": "web address",
-    "phone": "phone number",
-    "card": "card number",
-    "number": "number",
-    "tag": "removed",
-    "name": "name",
-    "address": "address",
-}
+# The kinds masked (in the order of PLACEHOLDER's table) and how each reads: KINDS,
+# masked_as in talkthemes.text.masked.
 _KIND_LIST = list(KINDS)
 _MARK = "\ue000"  # a private-use character: never a letter, digit or punctuation of text
 PLACEHOLDER = re.compile(_MARK + "([\ue001-\ue0ff])")
@@ -90,7 +82,7 @@ _STRAY = re.compile("[\ue000-\ue0ff]")  # half a placeholder left by cutting tex
 
 def plain(masked: str) -> str:
     """Masked text with each placeholder written as "[name]", "[e-mail]"…"""
-    return _STRAY.sub("", PLACEHOLDER.sub(lambda m: f"[{KINDS[_kind_of(m)]}]", masked))
+    return _STRAY.sub("", PLACEHOLDER.sub(lambda m: masked_as(_kind_of(m)), masked))
 
 
 def html_pieces(masked: str) -> list[tuple[str, str | None]]:
@@ -110,17 +102,16 @@ def html_pieces(masked: str) -> list[tuple[str, str | None]]:
 
 
 # --------------------------------------------------------------------------- word lists
-# The first-name list, role words and month and day names live in talkthemes.text.names
-# (the preparation chain reads them too).
+# The first-name list, role words, replies and month and day names live in
+# talkthemes.text.names, the stop words and lemma-table words in talkthemes.prepare.lexicon:
+# the preparation chain's names step reads the same lists.
 
 
 @functools.cache
 def stop_words() -> frozenset[str]:
     """spaCy's English stop words with month and day names: never a name, even after a
     cue ("it's Monday")."""
-    from spacy.lang.en.stop_words import STOP_WORDS  # the chain's stop words (English)
-
-    return frozenset(STOP_WORDS) | MONTHS_DAYS
+    return spacy_stop_words("en") | MONTHS_DAYS
 
 
 @functools.cache
@@ -128,14 +119,7 @@ def everyday_words(lang: str = "en") -> frozenset[str]:
     """Lower-case everyday words: spaCy's stop words and its lookup lemma table's words,
     with month and day names. A capitalised everyday word is masked as a name only after
     a cue."""
-    words = set(stop_words())
-    try:
-        table = load_lemma_table(lang)
-    except TalkthemesError:  # no lemma table for the language: stop words only
-        table = {}
-    words.update(w.lower() for w in table)
-    words.update(w.lower() for w in table.values())
-    return frozenset(words)
+    return stop_words() | lemma_table_words(lang)
 
 
 # --------------------------------------------------------------------------- patterns
@@ -152,43 +136,6 @@ _CAPITAL = re.compile(r"\b" + _NAME_WORD)
 _VOCATIVE = re.compile(r"(?<=[,;]\s)(" + _NAME_WORD + r")(?=\s*[,.!?;]|\s*$)")
 # A turn that is a name and nothing else ("Dougie."), as answers "can I take your name?"
 _ALONE = re.compile(r"^\s*(" + _NAME_WORD + r")\s*[.!]?\s*$")
-_NOT_AFTER_CUE = frozenset(
-    [
-        "sorry",
-        "fine",
-        "okay",
-        "ok",
-        "great",
-        "right",
-        "here",
-        "there",
-        "done",
-        "true",
-        "yes",
-        "yeah",
-        "no",
-        "nope",
-        "sure",
-        "well",
-        "good",
-        "perfect",
-        "lovely",
-        "brilliant",
-        "thanks",
-        "cheers",
-        "bye",
-        "hello",
-        "hi",
-        "hey",
-        "mm",
-        "hmm",
-        "uh",
-        "um",
-        "oh",
-        "ah",
-        "right",
-    ]
-)
 _STREET_WORDS = (
     "Road|Rd|Street|St|Lane|Ln|Way|Close|Avenue|Ave|Drive|Dr|Court|Ct|Crescent|Cres|Walk|"
     "Row|Yard|Terrace|Rise|Place|Pl|Grove|Gardens|Gdns|Hill|Square|Sq|Boulevard|Blvd|"
@@ -310,7 +257,7 @@ class Masker:
 
     def _cue_ok(self, word: str) -> bool:
         low = word.lower()
-        return low not in self.stop and low not in ROLE_WORDS and low not in _NOT_AFTER_CUE
+        return low not in self.stop and low not in ROLE_WORDS and low not in REPLY_WORDS
 
     def learn(self, text: str) -> None:
         """Learn the names a cue marks in ``text`` (so later turns mask them too)."""

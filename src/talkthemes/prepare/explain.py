@@ -21,8 +21,9 @@ The report, by key:
     ``name``, ``count``), ``kept_as_words`` (suspects the corpus uses as words: ``word``,
     ``transcripts``), ``ordinary`` (first names kept as ordinary words: ``word``,
     ``count``), ``emptied``; see :mod:`talkthemes.prepare.names`. Names are people's
-    data: the terminal and ``--json`` show them masked (``p····``) unless ``[view]
-    original_text`` is on; ``explain.json`` keeps them.
+    data: the terminal and ``--json`` show each as the screens mask a name ("[name]",
+    :func:`talkthemes.text.masked.masked_as`) unless ``[view] original_text`` is on;
+    ``explain.json`` keeps them.
 ``boilerplate``
     ``sentences`` (each ``sentence``, ``transcripts``, ``share``), ``sentences_removed``,
     ``words_removed``, ``emptied``.
@@ -49,12 +50,14 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
+from talkthemes.text.masked import masked_as
+
 if TYPE_CHECKING:  # pragma: no cover
     from rich.console import Console
 
     from talkthemes.prepare.run import PrepareResult
 
-__all__ = ["explain_json", "explain_rows", "mask_name", "render_explain"]
+__all__ = ["explain_json", "explain_rows", "render_explain"]
 
 #: How each way of finding a name reads in the step row.
 _NAME_SOURCES = {
@@ -69,17 +72,11 @@ def _n(value: Any) -> str:
     return f"{int(value):,}"
 
 
-def mask_name(name: str) -> str:
-    """A person's name as ``--explain`` shows it by default: its first letter, then a dot
-    per letter (``priya`` → ``p····``)."""
-    return name[:1] + "·" * (len(name) - 1)
-
-
 def _masked_explain(explain: dict[str, Any]) -> dict[str, Any]:
     names = explain.get("names")
     if not names or not names.get("top"):
         return explain
-    masked = {**names, "top": [{**t, "name": mask_name(t["name"])} for t in names["top"]]}
+    masked = {**names, "top": [{**t, "name": masked_as("name")} for t in names["top"]]}
     return {**explain, "names": masked}
 
 
@@ -219,8 +216,8 @@ def explain_json(result: PrepareResult, *, original_text: bool = False) -> dict[
     ----------
     result : PrepareResult
     original_text : bool
-        Show the names the names step removed (``[view] original_text``); masked otherwise
-        (:func:`mask_name`).
+        Show the names the names step removed (``[view] original_text``); masked otherwise,
+        as the screens mask a name (:func:`talkthemes.text.masked.masked_as`).
 
     Returns
     -------
@@ -364,7 +361,7 @@ def _render_names(console: Console, names: dict[str, Any], original_text: bool) 
         table.add_column("name")
         table.add_column("tokens", justify="right")
         for t in names["top"]:
-            shown = t["name"] if original_text else mask_name(t["name"])
+            shown = t["name"] if original_text else masked_as("name")
             table.add_row(escape(shown), _n(t["count"]))
         console.print(table)
     if names.get("kept_as_words"):

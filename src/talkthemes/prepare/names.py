@@ -57,11 +57,10 @@ from functools import cache
 import numpy as np
 from numpy.typing import NDArray
 
-from talkthemes.errors import TalkthemesError
 from talkthemes.prepare.headwords import ALL_CAPS_MIN_WORDS, NOUNS_CAPITALISED, lemma_index_by_pos
-from talkthemes.prepare.lexicon import load_lemma_table, spacy_stop_words
+from talkthemes.prepare.lexicon import lemma_table_words, spacy_stop_words
 from talkthemes.prepare.names_mark import CAPITAL, CLASSES, CUE, KNOWN, SUSPECT
-from talkthemes.text.names import MONTHS_DAYS, ROLE_WORDS, first_names
+from talkthemes.text.names import MONTHS_DAYS, REPLY_WORDS, ROLE_WORDS, first_names
 
 __all__ = [
     "CAPITAL",
@@ -87,43 +86,6 @@ MIN_NAMED_TRANSCRIPTS = 2
 #: + term`` (kind ``s`` or ``c``); the corpus phase resolves it to ``term`` or drops it.
 NAME_MARK = "\x1e"
 
-# Replies that follow a cue word but are never names ("Thanks, great.", "It's fine.").
-_REPLIES = frozenset(
-    [
-        "sorry",
-        "fine",
-        "okay",
-        "ok",
-        "great",
-        "right",
-        "here",
-        "there",
-        "done",
-        "true",
-        "yes",
-        "yeah",
-        "no",
-        "nope",
-        "sure",
-        "well",
-        "good",
-        "perfect",
-        "lovely",
-        "brilliant",
-        "thanks",
-        "cheers",
-        "bye",
-        "hello",
-        "hi",
-        "hey",
-        "mm",
-        "hmm",
-        "uh",
-        "um",
-        "oh",
-        "ah",
-    ]
-)
 _LABEL_WORD = re.compile(r"[^\W\d_]+")
 
 
@@ -167,7 +129,7 @@ class NameLexicon:
         """
         stop = spacy_stop_words(lang)
         fill = frozenset(w.lower() for w in fillers)
-        ordinary = set(stop) | fill | _table_words(lang)
+        ordinary = set(stop) | fill | lemma_table_words(lang)
         by_pos = lemma_index_by_pos(lang)
         for pos in ("verb", "adj", "adv"):
             ordinary |= by_pos.get(pos, frozenset())
@@ -177,7 +139,7 @@ class NameLexicon:
             stop
             | fill
             | ROLE_WORDS
-            | _REPLIES
+            | REPLY_WORDS
             | (MONTHS_DAYS if lang == "en" else frozenset())
             | frozenset(w.strip().lower() for w in not_names)
         )
@@ -200,15 +162,6 @@ class NameLexicon:
 @cache
 def _first_lower() -> frozenset[str]:
     return frozenset(n.lower() for n in first_names())
-
-
-@cache
-def _table_words(lang: str) -> frozenset[str]:
-    try:
-        table = load_lemma_table(lang)
-    except TalkthemesError:  # no lookup table for the language: stop words and index only
-        return frozenset()
-    return frozenset({k.lower() for k in table} | {v.lower() for v in table.values()})
 
 
 def title_case(word: str) -> bool:

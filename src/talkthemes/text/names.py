@@ -2,7 +2,8 @@
 
 :func:`first_names` is a first-name list from a registry package; :data:`ROLE_WORDS` are the
 words of speaker labels that name a role, not a person; :data:`MONTHS_DAYS` are English words
-that are written with a capital but never name a person. Both the chain's names step
+that are written with a capital but never name a person; :data:`REPLY_WORDS` are replies
+that follow a cue ("Thanks, great.") but are never names. Both the chain's names step
 (:mod:`talkthemes.prepare.names`) and the on-screen masking (:mod:`talkthemes.privacy`) read
 them from here.
 """
@@ -13,7 +14,7 @@ import functools
 import importlib
 import pkgutil
 
-__all__ = ["MONTHS_DAYS", "ROLE_WORDS", "first_names"]
+__all__ = ["MONTHS_DAYS", "REPLY_WORDS", "ROLE_WORDS", "first_names"]
 
 #: English month and day names (lower-case): capitalised, but never a person's name.
 MONTHS_DAYS = frozenset(
@@ -71,6 +72,45 @@ ROLE_WORDS = frozenset(
         "dr",
         "sir",
         "madam",
+    ]
+)
+
+#: Replies (lower-case) that follow a word which cues a name ("Thanks, great.", "It's fine.",
+#: "Hi, sorry …") but are never a person's name.
+REPLY_WORDS = frozenset(
+    [
+        "sorry",
+        "fine",
+        "okay",
+        "ok",
+        "great",
+        "right",
+        "here",
+        "there",
+        "done",
+        "true",
+        "yes",
+        "yeah",
+        "no",
+        "nope",
+        "sure",
+        "well",
+        "good",
+        "perfect",
+        "lovely",
+        "brilliant",
+        "thanks",
+        "cheers",
+        "bye",
+        "hello",
+        "hi",
+        "hey",
+        "mm",
+        "hmm",
+        "uh",
+        "um",
+        "oh",
+        "ah",
     ]
 )
 
