@@ -27,6 +27,7 @@ from talkthemes.prepare.names import NameLexicon, label_names
 from talkthemes.prepare.names_corpus import name_hash
 from talkthemes.prepare.run import PrepareResult
 from talkthemes.privacy import Masker, plain
+from talkthemes.versions.fit import prep_record
 
 # Quillon, Vessaly, Orlith, Tamzen: invented, in no first-name list; Priya, Dana: in the
 # list; Grace, Bill, Mark: in the list and ordinary words.
@@ -226,13 +227,8 @@ def tagged_pipeline(tmp_path_factory) -> Path:
 
 def test_a_frozen_prep_removes_names_as_the_prep_did(cased):
     data, corpus, _ = cased
-    info = {
-        "hash": "h",
-        "settings": SETTINGS.model_dump(),
-        "chain_version": "3",
-        **{k: v for k, v in corpus.info.items() if k in ("phrases", "boilerplate", "names")},
-        "lemmas": corpus.info["lemmas"],
-    }
+    # what a published version keeps of its prep (versions/<n>/prep.json), on its own
+    info = {**prep_record(corpus), "settings": SETTINGS.model_dump(), "chain_version": "3"}
     applier = PrepApplier(PrepSpec.from_prep_info(info, corpus.vocabulary))
     applied = applier.apply_all(source_of(data, 32)())
     rows = [applied.doc_ids.index(t) for t in corpus.doc_ids]
