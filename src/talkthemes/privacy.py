@@ -38,10 +38,12 @@ from __future__ import annotations
 import difflib
 import functools
 import re
-from collections.abc import Iterable, Sequence
+from collections.abc import Collection, Iterable, Mapping, Sequence
 from dataclasses import dataclass
+from typing import Any
 
 from talkthemes.prepare.lexicon import lemma_table_words, spacy_stop_words
+from talkthemes.prepare.names_corpus import in_use_terms
 from talkthemes.prepare.scrub import SCRUB_KINDS, scrub
 from talkthemes.text.masked import KINDS, masked_as
 from talkthemes.text.names import MONTHS_DAYS, REPLY_WORDS, ROLE_WORDS, first_names
@@ -59,6 +61,7 @@ __all__ = [
     "masker_for",
     "name_term",
     "plain",
+    "prep_words",
 ]
 
 # The kinds masked (in the order of PLACEHOLDER's table) and how each reads: KINDS,
@@ -329,18 +332,40 @@ def masker_for(turns: Iterable[object], *, lang: str = "en") -> Masker:
     return masker
 
 
-def name_term(term: str) -> bool:
+def name_term(term: str, *, words: Collection[str] = ()) -> bool:
     """Whether a vocabulary term (``priya``, ``priya_speaking``) holds a person's first name.
 
-    A part of the term that, capitalised, is in :func:`first_names` and is not an everyday
-    word. Screens leave such terms out of theme names and word lists until the
-    preparation keeps names out of the vocabulary.
+    A part of the term that, capitalised, is in :func:`first_names`, is not an everyday
+    word and is not one of ``words``. Screens leave such terms out of theme names and word
+    lists: a safety net for versions prepared without the chain's names step (made before
+    it, or with ``[prepare] drop_names`` off), where names reach the vocabulary.
+
+    Parameters
+    ----------
+    term : str
+    words : collection of str
+        Lower-case words the version's preparation decided are words, not names
+        (:func:`prep_words`): the screens keep the chain's decision.
     """
     everyday = everyday_words()
     names = first_names()
     return any(
-        p.capitalize() in names and p not in everyday for p in str(term).lower().split("_") if p
+        p.capitalize() in names and p not in everyday and p not in words
+        for p in str(term).lower().split("_")
+        if p
     )
+
+
+def prep_words(info: Mapping[str, Any]) -> frozenset[str]:
+    """The first names a prep decided are words, from its ``prep.json`` (a published
+    version keeps one): ``[prepare] not_names`` and the words its names step kept where the
+    corpus uses them as words (:func:`talkthemes.prepare.names_corpus.in_use_terms`).
+    Lower-case; empty for a prep that recorded neither."""
+    settings = info.get("settings") or {}
+    out = {str(w).strip().lower() for w in settings.get("not_names") or ()}
+    for term in in_use_terms(info):
+        out.update(p for p in term.lower().split("_") if p)
+    return frozenset(out)
 
 
 def mask_value(value: str) -> str:
