@@ -15,7 +15,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 from rich.console import Console
+from typer.testing import CliRunner
 
+from talkthemes.cli._common import app
 from talkthemes.config import PrepareSettings
 from talkthemes.demo.calls import iter_demo_calls
 from talkthemes.demo.scenario import load_scenario
@@ -319,3 +321,42 @@ def test_no_agent_or_caller_name_in_the_demo_vocabulary_at_1500_calls():
     assert _named_terms(people, vocabulary) == []
     # the ordinary words that are also first names stay
     assert {"line", "link", "mark", "june", "price", "summer"} <= set(vocabulary)
+
+
+def test_the_cli_masks_removed_names_unless_the_workspace_allows(tmp_path: Path):
+    calls = tmp_path / "calls"
+    calls.mkdir()
+    # more topic words, so the prep has the terms it needs
+    extra = " ".join([*TOPICS, "meter reading estimate photo digits register submit actual"])
+    extra = extra.split()
+    for i, (tid, turns) in enumerate(make_corpus(60)):
+        lines = [f"{label}: {text}" for _role, text, label in turns]
+        words = [extra[(5 * i + j) % len(extra)] for j in range(15)]
+        lines.append("Customer: and the " + " and the ".join(words) + ".")
+        (calls / f"{tid}.txt").write_text("\n".join(lines) + "\n", encoding="utf-8")
+    ws = tmp_path / "ws"
+    cli = CliRunner()
+    res = cli.invoke(app, ["ingest", str(calls), "--create", "-w", str(ws), "--json"])
+    assert res.exit_code == 0, res.stderr
+    toml = ws / "talkthemes.toml"
+    prepare = "[prepare]\nvocab_min_docs = 3\nvocab_max_doc_share = 0.9\nn_process = 1\n"
+    toml.write_text(prepare, encoding="utf-8")
+
+    res = cli.invoke(app, ["prepare", "-w", str(ws), "--json"])
+    assert res.exit_code == 0, res.stderr
+    top = json.loads(res.stdout)["explain"]["names"]["top"]
+    assert top and {t["name"] for t in top} == {"[name]"}
+    assert not any(n in res.stdout.lower() for n in ("quillon", "vessaly", "orlith"))
+    # the agents' greetings are boilerplate: their names are masked in those sentences too
+    said = [b["sentence"] for b in json.loads(res.stdout)["explain"]["boilerplate"]["sentences"]]
+    assert "good morning brindle utilities this is [name] speaking" in said
+    res = cli.invoke(app, ["prepare", "--explain", "-w", str(ws)])
+    assert res.exit_code == 0 and "[name]" in res.stdout and "quillon" not in res.stdout.lower()
+
+    toml.write_text(prepare + "[view]\noriginal_text = true\n", encoding="utf-8")
+    res = cli.invoke(app, ["prepare", "-w", str(ws), "--json"])
+    doc = json.loads(res.stdout)["explain"]
+    assert {"quillon", "orlith"} <= {t["name"] for t in doc["names"]["top"]}
+    said = [b["sentence"] for b in doc["boilerplate"]["sentences"]]
+    assert "good morning brindle utilities this is quillon speaking" in said
+    assert "quillon" in doc["names"]["in_boilerplate"]

@@ -20,7 +20,8 @@ The report, by key:
     given as names in enough transcripts), ``min_docs``, ``top`` (the names removed most:
     ``name``, ``count``), ``kept_as_words`` (suspects the corpus uses as words: ``word``,
     ``transcripts``), ``ordinary`` (first names kept as ordinary words: ``word``,
-    ``count``), ``emptied``; see :mod:`talkthemes.prepare.names`. Names are people's
+    ``count``), ``in_boilerplate`` (removed names that the boilerplate sentences hold),
+    ``emptied``; see :mod:`talkthemes.prepare.names`. Names are people's
     data: the terminal and ``--json`` show each as the screens mask a name ("[name]",
     :func:`talkthemes.text.masked.masked_as`) unless ``[view] original_text`` is on;
     ``explain.json`` keeps them.
@@ -73,11 +74,34 @@ def _n(value: Any) -> str:
 
 
 def _masked_explain(explain: dict[str, Any]) -> dict[str, Any]:
-    names = explain.get("names")
-    if not names or not names.get("top"):
-        return explain
-    masked = {**names, "top": [{**t, "name": masked_as("name")} for t in names["top"]]}
-    return {**explain, "names": masked}
+    """The report with the names the names step removed masked: its lists of names, and
+    those words in the boilerplate sentences (everywhere: a word removed as someone's name
+    in one call, "bill", is masked in every sentence)."""
+    names = explain.get("names") or {}
+    out = dict(explain)
+    hidden = {t["name"] for t in names.get("top", [])} | set(names.get("in_boilerplate", []))
+    if hidden:
+        out["names"] = {
+            **names,
+            "top": [{**t, "name": masked_as("name")} for t in names.get("top", [])],
+            "in_boilerplate": [masked_as("name")] * len(names.get("in_boilerplate", [])),
+        }
+    boiler = explain.get("boilerplate") or {}
+    if hidden and boiler.get("sentences"):
+        out["boilerplate"] = {
+            **boiler,
+            "sentences": [
+                {**b, "sentence": _mask_words(str(b["sentence"]), hidden)}
+                for b in boiler["sentences"]
+            ],
+        }
+    return out
+
+
+def _mask_words(sentence: str, hidden: set[str]) -> str:
+    """A normalised sentence (lower-case words, one space apart) with ``hidden`` words
+    masked."""
+    return " ".join(masked_as("name") if w in hidden else w for w in sentence.split(" "))
 
 
 def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
@@ -250,11 +274,14 @@ def render_explain(
     max_excluded : int
         Excluded transcripts listed by id (the rest are counted).
     original_text : bool
-        Show the names the names step removed (``[view] original_text``); masked otherwise.
+        Show the names the names step removed (``[view] original_text``); masked otherwise
+        (in its list of names and in the boilerplate sentences).
     """
     from rich.markup import escape
     from rich.table import Table
 
+    if not original_text:
+        explain = _masked_explain(explain)
     t = explain["transcripts"]
     steps = Table(
         title=f"prepare: {_n(t['read'])} transcripts read, {_n(t['usable'])} used, "
@@ -351,7 +378,8 @@ def _render_lemmas(console: Console, lem: dict[str, Any]) -> None:
 
 
 def _render_names(console: Console, names: dict[str, Any], original_text: bool) -> None:
-    """The names step: the names removed (masked unless allowed), the words it left alone."""
+    """The names step: the names removed (masked already unless allowed), the words it left
+    alone."""
     from rich.markup import escape
     from rich.table import Table
 
@@ -361,8 +389,7 @@ def _render_names(console: Console, names: dict[str, Any], original_text: bool) 
         table.add_column("name")
         table.add_column("tokens", justify="right")
         for t in names["top"]:
-            shown = t["name"] if original_text else masked_as("name")
-            table.add_row(escape(shown), _n(t["count"]))
+            table.add_row(escape(t["name"]), _n(t["count"]))
         console.print(table)
     if names.get("kept_as_words"):
         table = Table(

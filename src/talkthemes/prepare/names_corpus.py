@@ -209,6 +209,7 @@ def names_step(
         by_word[word] = by_word.get(word, 0) + n
         per_source[source] = per_source.get(source, 0) + n
     top = sorted(by_word.items(), key=lambda x: (-x[1], x[0]))[:_MAX_LISTED]
+    table.removed_names = frozenset(by_word)
     kept_words = sorted(in_use.items(), key=lambda x: (-x[1], x[0]))
     report.update(
         min_docs=min_docs,

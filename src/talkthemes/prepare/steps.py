@@ -119,6 +119,10 @@ def boilerplate_step(
         "sentences_removed": int(masked.sum()),
         "words_removed": int(table.sent_words[masked].sum()),
     }
+    if "names" in table.report:
+        # names said in a script ("this is … speaking"): --explain masks them in the sentences
+        held = {w for text in texts.values() for w in text.split()} & table.removed_names
+        table.report["names"]["in_boilerplate"] = sorted(held)
     kept_tokens = np.repeat(~masked, table.sent_kept)
     table.tokens = table.tokens[kept_tokens]
     table.breaks = table.breaks[kept_tokens]

@@ -49,6 +49,9 @@ class TokenTable:
         The ``--explain`` sections written so far.
     saved : dict
         What the corpus steps decided that the prep saves (``prep.json``), by step.
+    removed_names : frozenset of str
+        Every word the names step removed (not saved: the boilerplate step reports which of
+        them its sentences hold, so ``--explain`` can mask them).
     """
 
     tids: list[str]
@@ -63,6 +66,7 @@ class TokenTable:
     emptied: dict[str, NDArray[np.bool_]] = field(default_factory=dict)
     report: dict[str, Any] = field(default_factory=dict)
     saved: dict[str, Any] = field(default_factory=dict)
+    removed_names: frozenset[str] = frozenset()
 
     @property
     def n_docs(self) -> int:
