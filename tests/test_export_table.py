@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import csv
+import dataclasses
 import io
 
 import numpy as np
@@ -18,9 +19,10 @@ from talkthemes.export_table import export_tables, share_column, write_export
 def version():
     v = make_version(SHARES, labels=["Bills", "", ""])
     # theme ids out of row order: columns follow the ids, not the rows
-    for theme, tid in zip(v.themes, (30, 12, 21), strict=True):
-        theme["theme_id"] = tid
-    return v
+    themes = [
+        dataclasses.replace(t, theme_id=tid) for t, tid in zip(v.themes, (30, 12, 21), strict=True)
+    ]
+    return dataclasses.replace(v, themes=themes)
 
 
 NAMES = ["Bills", "pay · power", "meter · read"]

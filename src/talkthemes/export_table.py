@@ -122,9 +122,9 @@ def export_tables(
                 "column": share_column(ids[pos]),
                 "theme_id": ids[pos],
                 "name": names[pos],
-                "named_by": "label" if str(themes_info[pos].get("label") or "").strip()
+                "named_by": "label" if str(themes_info[pos].label or "").strip()
                 else "suggested",
-                "hidden": bool(themes_info[pos].get("hidden")),
+                "hidden": bool(themes_info[pos].hidden),
                 "coverage": float(cov[pos]),
                 "mean_share": float(mean[pos]),
                 "top_terms": ", ".join(top_terms[pos]) if top_terms is not None else "",

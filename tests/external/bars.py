@@ -1,7 +1,7 @@
 """The "bars" corpus of Griffiths & Steyvers (2004), for tests that need a known topic structure.
 
 Source: Griffiths, T. L., Steyvers, M. (2004). Finding Scientific Topics. PNAS 101(suppl. 1):
-5228–5235. The set-up below is recalled from memory (METHODS.md §8, tagged [mem]), not
+5228–5235. The set-up below is recalled from memory (marked as such: not
 re-checked against the paper: a vocabulary of V = 25 "pixels" on a 5×5 grid; K = 10 topics, the
 5 horizontal and the 5 vertical bars, each uniform (1/5) over its 5 pixels; documents of 100
 tokens drawn from the LDA generative process with θ_d ~ Dirichlet(α = 1). The paper used 2,000

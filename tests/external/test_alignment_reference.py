@@ -3,7 +3,8 @@
 Sources, beside each check:
 - scipy 1.17.1 ``scipy.optimize.linear_sum_assignment`` (Crouse 2016), compared with trying
   every one-to-one pairing (brute force over permutations).
-- METHODS.md §11 worked check [run]: A1→B2 and A2→B1 at 0.100, B3 unmatched.
+- worked check of matching (Kuhn 1955; docs/methods_metrics.md) [run]: A1→B2 and A2→B1
+  at 0.100, B3 unmatched.
 - scipy 1.17.1 ``scipy.spatial.distance.jensenshannon(p, q, base=2)``.
 - gensim 4.4.0 ``LdaModel.inference``: the shares ``assign`` infers from a version's saved
   ``.npy`` state equal gensim's own E-step on the original model with the same seed. (That
@@ -33,7 +34,7 @@ from talkthemes.assign import ShareModel
 from talkthemes.models.lda import LdaTopics
 from talkthemes.versions.align import align_themes, calibrate_threshold
 
-# METHODS §11 topics over four words.
+# Worked-check topics over four words.
 A1 = [0.7, 0.2, 0.1, 0.0]
 A2 = [0.0, 0.1, 0.2, 0.7]
 B1 = [0.0, 0.1, 0.3, 0.6]
@@ -85,7 +86,7 @@ def test_calibration_uses_optimal_pairings() -> None:
 
 
 def test_methods_11_worked_example_through_alignment() -> None:
-    # METHODS §11 [run]: A1→B2 and A2→B1 at 0.100 each; B3 unmatched, so it is new. The new
+    # Worked check [run]: A1→B2 and A2→B1 at 0.100 each; B3 unmatched, so it is new. The new
     # version lists its words in another order: the union vocabulary lines them up.
     old_vocab = ["a", "b", "c", "d"]
     new_vocab = ["d", "c", "b", "a"]

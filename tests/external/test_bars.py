@@ -1,7 +1,7 @@
 """Both model families recover the "bars" topics of Griffiths & Steyvers (2004).
 
 Source: Griffiths, T. L., Steyvers, M. (2004). Finding Scientific Topics. PNAS 101(suppl. 1):
-5228–5235. Set-up recalled from memory (METHODS.md §8, [mem]; see ``bars.py``): V = 25 pixels
+5228–5235. Set-up recalled from memory (not re-checked; see ``bars.py``): V = 25 pixels
 of a 5×5 grid, K = 10 bar topics uniform over their 5 pixels, θ ~ Dirichlet(α = 1), 100 tokens a
 document. Deviation from the paper: 1,000 documents instead of 2,000, to keep the test fast;
 the paper fitted by Gibbs sampling, we fit gensim's online variational Bayes and NMF.

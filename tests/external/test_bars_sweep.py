@@ -2,8 +2,8 @@
 
 Source of the set-up: Griffiths, T. L., Steyvers, M. (2004). Finding Scientific Topics. PNAS
 101(suppl. 1): 5228–5235 — 5×5 pixel vocabulary, 10 bar topics, documents from the LDA
-generative process with θ ~ Dirichlet(1), 100 tokens each. Recalled from memory (METHODS.md §8
-tags it [mem]); see tests/external/bars.py. We draw 800 documents instead of the paper's 2,000
+generative process with θ ~ Dirichlet(1), 100 tokens each. Recalled from memory (not re-checked
+against the paper); see tests/external/bars.py. We draw 800 documents instead of the paper's 2,000
 to keep the test fast.
 
 Settings that differ from the defaults, and why:

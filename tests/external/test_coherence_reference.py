@@ -4,12 +4,12 @@ Sources, beside each check:
 - gensim 4.4.0 ``gensim.models.CoherenceModel`` and
   ``gensim.topic_coherence.text_analysis.WordOccurrenceAccumulator`` (run live; the
   version is asserted below).
-- METHODS.md §1.8: gensim 4.4.0 values on the Deerwester et al. (1990) nine-title corpus
+- gensim 4.4.0 values on the Deerwester et al. (1990) nine-title corpus
   as gensim ships it (``gensim.test.utils.common_texts``) — [run] values, produced with
   gensim 4.4.0.
-- METHODS.md §1.4: gensim's sliding-window undercount on the Lee background corpus
-  (Lee, Pincombe & Welsh 2005; ``gensim/test/test_data/lee_background.cor``) — [run]
-  values, produced with gensim 4.4.0.
+- gensim's sliding-window undercount (docs/methods_metrics.md, "repeated words inside a
+  window") on the Lee background corpus (Lee, Pincombe & Welsh 2005;
+  ``gensim/test/test_data/lee_background.cor``) — [run] values, produced with gensim 4.4.0.
 """
 
 from __future__ import annotations
@@ -58,13 +58,13 @@ def ids_of(topics: list[list[str]], dictionary: Dictionary) -> np.ndarray:
 
 @pytest.fixture(scope="module")
 def lee_texts() -> list[list[str]]:
-    """Lee background corpus (Lee, Pincombe & Welsh 2005), as METHODS §1.4 prepared it:
+    """Lee background corpus (Lee, Pincombe & Welsh 2005), as our worked check prepares it:
     gensim ``simple_preprocess`` and gensim's stop-word list."""
     with open(datapath("lee_background.cor"), encoding="utf-8") as handle:
         return [[w for w in simple_preprocess(line) if w not in STOPWORDS] for line in handle]
 
 
-# (a) Deerwester et al. (1990) nine titles — METHODS §1.8, [run] with gensim 4.4.0.
+# (a) Deerwester et al. (1990) nine titles — [run] with gensim 4.4.0.
 DEERWESTER_TOPICS = [
     ["human", "computer", "system", "interface"],
     ["graph", "minors", "trees", "eps"],
@@ -168,7 +168,7 @@ def test_gensim_undercounts_a_word_repeated_inside_the_window() -> None:
     # (d) Document "a b a c x x", window 3: windows [a b a] [b a c] [a c x] [c x x].
     # By definition "a" is in 3 of the 4 windows; we count 3. gensim 4.4.0 counts 1: when
     # a copy of "a" leaves the window it marks "a" absent although the other copy is still
-    # inside. (METHODS §1.4 quotes 2 and 4 for this demo; gensim 4.4.0 and the definition
+    # inside. (our worked check quotes 2 and 4 for this demo; gensim 4.4.0 and the definition
     # give 1 and 3 — the documented defect itself is confirmed.)
     text = ["a", "b", "a", "c", "x", "x"]
     dictionary = Dictionary([text])
@@ -184,7 +184,7 @@ def test_gensim_undercounts_a_word_repeated_inside_the_window() -> None:
 
 
 def test_lee_undercount_table_from_methods(lee_texts: list[list[str]]) -> None:
-    # METHODS §1.4 table, [run] with gensim 4.4.0 on the Lee background corpus: "said"
+    # Worked-check table, [run] with gensim 4.4.0 on the Lee background corpus: "said"
     # and the pair ("said", "says"). Our counts are the "correct" column; gensim's own
     # accumulator, run live, gives the "gensim" column.
     dictionary = Dictionary(lee_texts)

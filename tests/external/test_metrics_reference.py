@@ -4,8 +4,9 @@ Sources, beside each check:
 - scipy 1.17.1 ``scipy.spatial.distance.jensenshannon`` and
   ``scipy.optimize.linear_sum_assignment`` (run live; version asserted below).
 - scikit-learn 1.9.1 ``sklearn.manifold.ClassicalMDS`` (run live when installed).
-- METHODS.md worked checks §3 (TD), §4 (average Jaccard), §5.4 (relevance), §6.2
-  (classical MDS eigenvalues) and §11 (matching) — [run] values, produced with numpy
+- worked checks of topic diversity (Dieng et al. 2020), average Jaccard (Greene et al. 2014),
+  relevance (Sievert & Shirley 2014), classical MDS eigenvalues and matching (Kuhn 1955), as in
+  docs/methods_metrics.md — [run] values, produced with numpy
   2.4.6, scipy 1.17.1 and scikit-learn 1.9.1.
 """
 
@@ -24,7 +25,7 @@ from talkthemes.metrics.matching import match_topics, optimal_assignment
 from talkthemes.metrics.relevance import relevance, term_marginal
 from talkthemes.metrics.stability import average_jaccard
 
-# METHODS §6.2 / §11 topics over four words.
+# worked check, topics over four words.
 A1 = [0.7, 0.2, 0.1, 0.0]
 A2 = [0.0, 0.1, 0.2, 0.7]
 B1 = [0.0, 0.1, 0.3, 0.6]
@@ -71,7 +72,7 @@ def test_assignment_equals_bruteforce_over_permutations(shape: tuple[int, int]) 
 
 
 def test_methods_11_worked_matching() -> None:
-    # METHODS §11 [run]: cost [[0.837, 0.100, 0.481], [0.100, 0.837, 0.481]];
+    # Worked check [run]: cost [[0.837, 0.100, 0.481], [0.100, 0.837, 0.481]];
     # A1→B2 and A2→B1 at 0.100 each, B3 unmatched.
     cost = js_distance_matrix([A1, A2], [B1, B2, B3])
     np.testing.assert_allclose(cost, [[0.837, 0.100, 0.481], [0.100, 0.837, 0.481]], atol=5e-4)
@@ -83,20 +84,20 @@ def test_methods_11_worked_matching() -> None:
 
 
 def test_methods_4_average_jaccard() -> None:
-    # METHODS §4 [run]: R1 = (a,b,c,d), R2 = (b,a,c,e) → AJ = (0 + 1 + 1 + 0.6)/4 = 0.65.
+    # Worked check [run]: R1 = (a,b,c,d), R2 = (b,a,c,e) → AJ = (0 + 1 + 1 + 0.6)/4 = 0.65.
     a, b, c, d, e = range(5)
     assert average_jaccard(np.array([a, b, c, d]), np.array([b, a, c, e])) == pytest.approx(0.65)
 
 
 def test_methods_3_topic_diversity() -> None:
-    # METHODS §3 [run]: top-3 lists {a,b,c}, {a,d,e}, {f,g,b}: 7 unique of 9 → 0.778.
+    # Worked check [run]: top-3 lists {a,b,c}, {a,d,e}, {f,g,b}: 7 unique of 9 → 0.778.
     a, b, c, d, e, f, g = range(7)
     td = topic_diversity(np.array([[a, b, c], [a, d, e], [f, g, b]]), topn=3)
     assert td == pytest.approx(0.778, abs=5e-4)
 
 
 def test_methods_5_4_relevance_table() -> None:
-    # METHODS §5.4 [run]: φ = [[0.5,0.3,0.1,0.1],[0.1,0.1,0.4,0.4]], P(T) = (0.6, 0.4).
+    # Worked check [run]: φ = [[0.5,0.3,0.1,0.1],[0.1,0.1,0.4,0.4]], P(T) = (0.6, 0.4).
     phi = np.array([[0.5, 0.3, 0.1, 0.1], [0.1, 0.1, 0.4, 0.4]])
     p = term_marginal(phi, np.array([0.6, 0.4]))
     np.testing.assert_allclose(p, [0.34, 0.22, 0.22, 0.22], atol=1e-12)
@@ -114,7 +115,7 @@ def five_topic_distances() -> np.ndarray:
 
 
 def test_methods_6_2_eigenvalues() -> None:
-    # METHODS §6.2 [run]: eigenvalues (0.6952, 0.0345, 0.0048, 0.0036, ≈0); uniform B3
+    # Worked check [run]: eigenvalues (0.6952, 0.0345, 0.0048, 0.0036, ≈0); uniform B3
     # lands near the origin.
     got = classical_mds(five_topic_distances())
     np.testing.assert_allclose(got.eigenvalues, [0.6952, 0.0345, 0.0048, 0.0036, 0.0], atol=5e-5)

@@ -15,7 +15,7 @@ from talkthemes.workspace import Workspace
 
 #: Demo calls: enough that October holds ~170 calls, ~18 of them about the price change.
 DEMO_SIZE = 1000
-#: NMF finds the demo's reasons cleanly at K=12 (METHODS §7.3; the sweep tests show it),
+#: NMF finds the demo's reasons cleanly at K=12 (the sweep tests show it),
 #: which keeps the new-theme assertion robust across demo seeds (checked for 3, 7, 11).
 FAMILY, K = "nmf", 12
 

@@ -11,6 +11,7 @@ import pandas as pd
 import pytest
 from tests.view.data import SHARES, make_version
 
+from talkthemes.charts.terms import term_chart
 from talkthemes.versions.load import Version
 from talkthemes.view.theme_map import theme_layout
 from talkthemes.view.themes import shown_terms, theme_names, theme_table, with_names
@@ -54,3 +55,16 @@ def test_first_name_terms_hidden_unless_the_prep_kept_them_as_words(tmp_path: Pa
     fresh.folder = tmp_path
     assert shown_terms(fresh, 0, 3) == ["jasper", "amber", "router"]
     assert theme_names(fresh) == ["jasper · amber · router"]
+
+
+def test_a_sparse_nmf_theme_lists_only_the_words_it_weighs_and_its_chart_draws() -> None:
+    """An NMF theme with two nonzero words once gave the report zero weights on a log axis."""
+    phi = np.zeros((3, 6))
+    phi[0, [0, 1]] = [0.7, 0.3]
+    phi[1, 2:] = 0.25
+    phi[2, :] = 1 / 6
+    version = make_version(SHARES, topic_terms=phi)
+    table = version.term_table(0, n=15)
+    assert table["term"].tolist() == ["bill", "pay"] and (table["weight"] > 0).all()
+    spec = term_chart(table, "bill · pay").to_dict()
+    assert spec["layer"]  # drawn, no InputError about non-positive weights

@@ -116,12 +116,16 @@ class Version:
         Returns
         -------
         DataFrame
-            ``term, relevance, weight, corpus_weight, lift, rank``.
+            ``term, relevance, weight, corpus_weight, lift, rank``; only terms the theme gives
+            some weight (fewer than ``n`` rows when a sparse NMF theme has fewer).
         """
         phi = self.topic_terms[position].astype(np.float64)
         marginal = self.term_marginal()
         rel = relevance(phi[None, :], marginal, lam)[0]
-        order = np.lexsort((np.arange(phi.size), -rel))[:n]
+        order = np.lexsort((np.arange(phi.size), -rel))
+        # An NMF theme can give most words exactly no weight: those are not its terms, and a
+        # chart on a logarithmic axis has no place for them.
+        order = order[phi[order] > 0][:n]
         return pd.DataFrame(
             {
                 "term": [self.vocabulary[i] for i in order],
