@@ -239,11 +239,11 @@ def _batches(
     size: int,
     rejects: list[Reject],
     warnings: list[Warning_],
-) -> Iterator[list[tuple[str, list[tuple[str, str]]]]]:
-    batch: list[tuple[str, list[tuple[str, str]]]] = []
+) -> Iterator[list[tuple[str, list[tuple[str, str, str]]]]]:
+    batch: list[tuple[str, list[tuple[str, str, str]]]] = []
     for item in items:
         if isinstance(item, Transcript):
-            batch.append((item.tid, [(u.role, u.text) for u in item.turns]))
+            batch.append((item.tid, [(u.role, u.text, u.speaker) for u in item.turns]))
             if len(batch) >= size:
                 yield batch
                 batch = []

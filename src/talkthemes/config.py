@@ -187,6 +187,19 @@ class PrepareSettings(_Section):
             "(Wales stays wales). Off for languages that capitalise every noun."
         ),
     )
+    drop_names: bool = Field(
+        True,
+        description=(
+            "Keep people's names out of the vocabulary: names in speaker labels, names a cue "
+            "introduces or addresses ('my name is ...', 'thanks, ...'), and first names from "
+            "a first-name list that are not ordinary words (bill, grace stay where used as "
+            "words)."
+        ),
+    )
+    not_names: list[str] = Field(
+        default_factory=list,
+        description="Words never removed as names (a product that shares a first name).",
+    )
     lemma_keep_ratio: float = Field(
         2.0,
         ge=0,

@@ -37,15 +37,16 @@ from __future__ import annotations
 
 import difflib
 import functools
-import importlib
-import pkgutil
 import re
-from collections.abc import Iterable, Sequence
+from collections.abc import Collection, Iterable, Mapping, Sequence
 from dataclasses import dataclass
+from typing import Any
 
-from talkthemes.errors import TalkthemesError
-from talkthemes.prepare.lexicon import load_lemma_table
+from talkthemes.prepare.lexicon import lemma_table_words, spacy_stop_words
+from talkthemes.prepare.names_corpus import in_use_terms
 from talkthemes.prepare.scrub import SCRUB_KINDS, scrub
+from talkthemes.text.masked import KINDS, masked_as
+from talkthemes.text.names import MONTHS_DAYS, REPLY_WORDS, ROLE_WORDS, first_names
 
 __all__ = [
     "KINDS",
@@ -56,22 +57,15 @@ __all__ = [
     "html_pieces",
     "mask_text",
     "mask_value",
+    "masked_as",
     "masker_for",
     "name_term",
     "plain",
+    "prep_words",
 ]
 
-#: The kinds masked, in the order of :data:`PLACEHOLDER`'s table, and how each reads.
-KINDS: dict[str, str] = {
-    "email": "e-mail",
-    "url": "web address",
-    "phone": "phone number",
-    "card": "card number",
-    "number": "number",
-    "tag": "removed",
-    "name": "name",
-    "address": "address",
-}
+# The kinds masked (in the order of PLACEHOLDER's table) and how each reads: KINDS,
+# masked_as in talkthemes.text.masked.
 _KIND_LIST = list(KINDS)
 _MARK = "\ue000"  # a private-use character: never a letter, digit or punctuation of text
 PLACEHOLDER = re.compile(_MARK + "([\ue001-\ue0ff])")
@@ -91,7 +85,7 @@ _STRAY = re.compile("[\ue000-\ue0ff]")  # half a placeholder left by cutting tex
 
 def plain(masked: str) -> str:
     """Masked text with each placeholder written as "[name]", "[e-mail]"…"""
-    return _STRAY.sub("", PLACEHOLDER.sub(lambda m: f"[{KINDS[_kind_of(m)]}]", masked))
+    return _STRAY.sub("", PLACEHOLDER.sub(lambda m: masked_as(_kind_of(m)), masked))
 
 
 def html_pieces(masked: str) -> list[tuple[str, str | None]]:
@@ -111,104 +105,16 @@ def html_pieces(masked: str) -> list[tuple[str, str | None]]:
 
 
 # --------------------------------------------------------------------------- word lists
-
-_MONTHS_DAYS = frozenset(
-    [
-        "january",
-        "february",
-        "march",
-        "april",
-        "may",
-        "june",
-        "july",
-        "august",
-        "september",
-        "october",
-        "november",
-        "december",
-        "monday",
-        "tuesday",
-        "wednesday",
-        "thursday",
-        "friday",
-        "saturday",
-        "sunday",
-    ]
-)
-_ROLE_WORDS = frozenset(
-    [
-        "agent",
-        "customer",
-        "caller",
-        "client",
-        "speaker",
-        "rep",
-        "representative",
-        "advisor",
-        "adviser",
-        "operator",
-        "interviewer",
-        "interviewee",
-        "host",
-        "guest",
-        "user",
-        "support",
-        "staff",
-        "unknown",
-        "system",
-        "bot",
-        "ivr",
-        "mr",
-        "mrs",
-        "ms",
-        "miss",
-        "dr",
-        "sir",
-        "madam",
-    ]
-)
-
-
-@functools.cache
-def first_names() -> frozenset[str]:
-    """First names in Latin script from the ``faker`` package's person providers (MIT).
-
-    Read once per process. Only names of three letters or more, written with letters
-    only, are kept.
-    """
-    # Deferred on purpose: faker's person providers are some eighty modules, read only
-    # when text is masked for the first time in a process.
-    import faker.providers.person as people
-
-    names: set[str] = set()
-    for info in pkgutil.iter_modules(people.__path__):
-        try:
-            module = importlib.import_module(f"{people.__name__}.{info.name}")
-        except ImportError:  # pragma: no cover - a provider needing an optional package
-            continue
-        provider = getattr(module, "Provider", None)
-        for attr in ("first_names", "first_names_male", "first_names_female"):
-            value = None
-            for cls in getattr(provider, "__mro__", ()):
-                if attr in vars(cls):
-                    value = vars(cls)[attr]
-                    break
-            if isinstance(value, (dict, list, tuple)):
-                names.update(n for n in value if isinstance(n, str))
-    return frozenset(
-        n
-        for n in names
-        if len(n) >= 3 and n.isalpha() and n[0].isupper() and all(ord(c) < 0x250 for c in n)
-    )
+# The first-name list, role words, replies and month and day names live in
+# talkthemes.text.names, the stop words and lemma-table words in talkthemes.prepare.lexicon:
+# the preparation chain's names step reads the same lists.
 
 
 @functools.cache
 def stop_words() -> frozenset[str]:
     """spaCy's English stop words with month and day names: never a name, even after a
     cue ("it's Monday")."""
-    from spacy.lang.en.stop_words import STOP_WORDS  # the chain's stop words (English)
-
-    return frozenset(STOP_WORDS) | _MONTHS_DAYS
+    return spacy_stop_words("en") | MONTHS_DAYS
 
 
 @functools.cache
@@ -216,14 +122,7 @@ def everyday_words(lang: str = "en") -> frozenset[str]:
     """Lower-case everyday words: spaCy's stop words and its lookup lemma table's words,
     with month and day names. A capitalised everyday word is masked as a name only after
     a cue."""
-    words = set(stop_words())
-    try:
-        table = load_lemma_table(lang)
-    except TalkthemesError:  # no lemma table for the language: stop words only
-        table = {}
-    words.update(w.lower() for w in table)
-    words.update(w.lower() for w in table.values())
-    return frozenset(words)
+    return stop_words() | lemma_table_words(lang)
 
 
 # --------------------------------------------------------------------------- patterns
@@ -240,43 +139,6 @@ _CAPITAL = re.compile(r"\b" + _NAME_WORD)
 _VOCATIVE = re.compile(r"(?<=[,;]\s)(" + _NAME_WORD + r")(?=\s*[,.!?;]|\s*$)")
 # A turn that is a name and nothing else ("Dougie."), as answers "can I take your name?"
 _ALONE = re.compile(r"^\s*(" + _NAME_WORD + r")\s*[.!]?\s*$")
-_NOT_AFTER_CUE = frozenset(
-    [
-        "sorry",
-        "fine",
-        "okay",
-        "ok",
-        "great",
-        "right",
-        "here",
-        "there",
-        "done",
-        "true",
-        "yes",
-        "yeah",
-        "no",
-        "nope",
-        "sure",
-        "well",
-        "good",
-        "perfect",
-        "lovely",
-        "brilliant",
-        "thanks",
-        "cheers",
-        "bye",
-        "hello",
-        "hi",
-        "hey",
-        "mm",
-        "hmm",
-        "uh",
-        "um",
-        "oh",
-        "ah",
-        "right",
-    ]
-)
 _STREET_WORDS = (
     "Road|Rd|Street|St|Lane|Ln|Way|Close|Avenue|Ave|Drive|Dr|Court|Ct|Crescent|Cres|Walk|"
     "Row|Yard|Terrace|Rise|Place|Pl|Grove|Gardens|Gdns|Hill|Square|Sq|Boulevard|Blvd|"
@@ -386,7 +248,7 @@ class Masker:
         """Learn the person-name words of a speaker label or a found name."""
         for word in re.findall(r"[^\W\d_][\w'’\-]*", str(label)):
             low = word.lower()
-            if len(word) >= 2 and low not in _ROLE_WORDS and low not in self.everyday:
+            if len(word) >= 2 and low not in ROLE_WORDS and low not in self.everyday:
                 self.known.add(low)
 
     def _cued(self, text: str) -> list[re.Match[str]]:
@@ -398,7 +260,7 @@ class Masker:
 
     def _cue_ok(self, word: str) -> bool:
         low = word.lower()
-        return low not in self.stop and low not in _ROLE_WORDS and low not in _NOT_AFTER_CUE
+        return low not in self.stop and low not in ROLE_WORDS and low not in REPLY_WORDS
 
     def learn(self, text: str) -> None:
         """Learn the names a cue marks in ``text`` (so later turns mask them too)."""
@@ -470,18 +332,40 @@ def masker_for(turns: Iterable[object], *, lang: str = "en") -> Masker:
     return masker
 
 
-def name_term(term: str) -> bool:
+def name_term(term: str, *, words: Collection[str] = ()) -> bool:
     """Whether a vocabulary term (``priya``, ``priya_speaking``) holds a person's first name.
 
-    A part of the term that, capitalised, is in :func:`first_names` and is not an everyday
-    word. Screens leave such terms out of theme names and word lists until the
-    preparation keeps names out of the vocabulary.
+    A part of the term that, capitalised, is in :func:`first_names`, is not an everyday
+    word and is not one of ``words``. Screens leave such terms out of theme names and word
+    lists: a safety net for versions prepared without the chain's names step (made before
+    it, or with ``[prepare] drop_names`` off), where names reach the vocabulary.
+
+    Parameters
+    ----------
+    term : str
+    words : collection of str
+        Lower-case words the version's preparation decided are words, not names
+        (:func:`prep_words`): the screens keep the chain's decision.
     """
     everyday = everyday_words()
     names = first_names()
     return any(
-        p.capitalize() in names and p not in everyday for p in str(term).lower().split("_") if p
+        p.capitalize() in names and p not in everyday and p not in words
+        for p in str(term).lower().split("_")
+        if p
     )
+
+
+def prep_words(info: Mapping[str, Any]) -> frozenset[str]:
+    """The first names a prep decided are words, from its ``prep.json`` (a published
+    version keeps one): ``[prepare] not_names`` and the words its names step kept where the
+    corpus uses them as words (:func:`talkthemes.prepare.names_corpus.in_use_terms`).
+    Lower-case; empty for a prep that recorded neither."""
+    settings = info.get("settings") or {}
+    out = {str(w).strip().lower() for w in settings.get("not_names") or ()}
+    for term in in_use_terms(info):
+        out.update(p for p in term.lower().split("_") if p)
+    return frozenset(out)
 
 
 def mask_value(value: str) -> str:

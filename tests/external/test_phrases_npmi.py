@@ -122,6 +122,7 @@ def test_chain_phrases_equal_gensim_on_the_adjacent_stream():
     settings = PrepareSettings(
         n_process=1,
         boilerplate_min_share=0.0,
+        drop_names=False,  # the reference stream below is the lemma step's, names kept
         phrase_min_count=8,
         phrase_threshold=0.5,
         vocab_min_docs=2,

@@ -88,7 +88,7 @@ def test_first_run_writes_the_prep_and_records_it(filled: Workspace):
     corpus.validate()
     assert corpus.n_docs == 45 and corpus.n_terms >= 50
     assert corpus.info["hash"] == result.prep_hash
-    assert set(corpus.info["versions"]) == {"spacy", "spacy-lookups-data", "gensim"}
+    assert set(corpus.info["versions"]) == {"spacy", "spacy-lookups-data", "gensim", "faker"}
     assert result.summary == corpus.summary()
     # no leftovers of the temporary folder
     assert [p.name for p in filled.prepared_dir.iterdir()] == [result.prep_hash]
@@ -157,6 +157,7 @@ def test_explain_outputs(filled: Workspace):
     assert [r["step"] for r in rows] == [
         "roles",
         "scrub",
+        "names",
         "boilerplate",
         "lemmas",
         "filter",

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import dataclasses
+import json
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -12,7 +14,7 @@ from tests.view.data import SHARES, make_version
 from talkthemes.charts.terms import term_chart
 from talkthemes.versions.load import Version
 from talkthemes.view.theme_map import theme_layout
-from talkthemes.view.themes import theme_names, theme_table, with_names
+from talkthemes.view.themes import shown_terms, theme_names, theme_table, with_names
 
 
 def test_theme_table_and_names(version: Version) -> None:
@@ -35,6 +37,24 @@ def test_with_names_refreshes_labels_and_hidden(version: Version) -> None:
     out = with_names(frame, version)
     assert list(out["name"]) == [theme_names(version)[2], "Bills"]
     assert list(out["hidden"]) == [True, False]
+
+
+def test_first_name_terms_hidden_unless_the_prep_kept_them_as_words(tmp_path: Path) -> None:
+    # "jasper" and "amber" are in the first-name list and are not everyday words
+    vocabulary = ["jasper", "amber", "router", "reset", "signal", "cable"]
+    topic_terms = np.array([[0.4, 0.3, 0.15, 0.1, 0.03, 0.02]])
+    version = make_version(np.ones((2, 1)), topic_terms=topic_terms, vocabulary=vocabulary)
+    version.folder = tmp_path
+    assert shown_terms(version, 0, 3) == ["router", "reset", "signal"]  # no prep.json
+    prep = {
+        "settings": {"not_names": ["Jasper"]},  # a product that shares a first name
+        "names": {"in_use": ["amber"], "named": []},  # the corpus uses it as a word
+    }
+    (tmp_path / "prep.json").write_text(json.dumps(prep), encoding="utf-8")
+    fresh = make_version(np.ones((2, 1)), topic_terms=topic_terms, vocabulary=vocabulary)
+    fresh.folder = tmp_path
+    assert shown_terms(fresh, 0, 3) == ["jasper", "amber", "router"]
+    assert theme_names(fresh) == ["jasper · amber · router"]
 
 
 def test_a_sparse_nmf_theme_lists_only_the_words_it_weighs_and_its_chart_draws() -> None:

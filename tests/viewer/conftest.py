@@ -42,7 +42,8 @@ PII_ID = "A-pii-001"
 # Planted personal data of every kind the viewer, report and exports must mask: a name in
 # a speaker label (Yelvorin), a caller introducing herself (Brisha Tamblecourt), a first
 # name from the list (Margaret), an e-mail address, an account number, a card number, a
-# phone number, a street address with its town, and a postcode.
+# phone number, a street address with its town, and a postcode. The agent addresses her by
+# name in every turn, so whichever turn a screen quotes holds personal data.
 PII = (
     "Yelvorin",
     "Brisha",
@@ -61,15 +62,15 @@ PII_TEXT = (
     "Can I take your name?\n"
     "Customer: My name is Brisha Tamblecourt and the power went out again tonight, the "
     "outage map shows no outage for my street and the power has been off for hours.\n"
-    "AGENT Yelvorin: I am sorry about the power cut, the crew is on the way and power should "
-    "be back within two hours. Can I take the account number and the address?\n"
+    "AGENT Yelvorin: I am sorry about the power cut, Brisha, the crew is on the way and power "
+    "should be back within two hours. Can I take the account number and the address?\n"
     "Customer: The account is AC-774215 and the address is 48 Quillfeather Road, Harrowgate "
     "Vale, QF4 9ZT. My neighbour Margaret has no power either, the outage started at six.\n"
-    "AGENT Yelvorin: I can see the outage report for your area, the fault crew is working "
+    "AGENT Yelvorin: I can see the outage report for your area, Brisha, the fault crew is working "
     "on the cable and the estimated restoration time is two hours.\n"
     "Customer: Please e-mail brisha.tamblecourt@example.org or call (555) 010-4477 when the "
     "power is back. I paid the last bill with card 4111 1111 1111 1111.\n"
-    "AGENT Yelvorin: No, the meter keeps working and the outage does not change the bill, "
+    "AGENT Yelvorin: No, Brisha, the meter keeps working and the outage does not change the bill, "
     "please report the fault again if the power is not back in two hours.\n"
 )
 

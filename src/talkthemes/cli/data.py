@@ -134,8 +134,10 @@ def prepare(
     ws = open_workspace(workspace)
     with progress_bar("prepare", enabled=not as_json) as update:
         result = ws.prepare(force=force, wait=wait, on_wait=waiting, progress=update)
+    # names removed by the chain are people's data: shown only where the workspace allows
+    original = ws.settings().view.original_text
     if as_json:
-        emit_json(explain_json(result))
+        emit_json(explain_json(result, original_text=original))
         return
     s = result.summary
     if result.cached:
@@ -146,5 +148,5 @@ def prepare(
         console=out,
     )
     if explain:
-        render_explain(out, result.explain)
+        render_explain(out, result.explain, original_text=original)
     say("Next: talkthemes sweep")

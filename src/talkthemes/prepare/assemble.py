@@ -2,9 +2,9 @@
 
 These steps need the whole corpus, so they run in the main process over the integer arrays
 that the per-transcript phase (:mod:`talkthemes.prepare.chain`) collected
-(:mod:`.collect`): lemma decisions, boilerplate and the filter report, phrases
-(:mod:`.steps`), then vocabulary and minimum length (:mod:`.build`), each on the
-:class:`~talkthemes.prepare.table.TokenTable`.
+(:mod:`.collect`): name decisions (:mod:`.names_corpus`), lemma decisions, boilerplate and
+the filter report, phrases (:mod:`.steps`), then vocabulary and minimum length
+(:mod:`.build`), each on the :class:`~talkthemes.prepare.table.TokenTable`.
 """
 
 from __future__ import annotations
@@ -17,6 +17,7 @@ from talkthemes.config import PrepareSettings
 from talkthemes.prepare.build import vocabulary_step
 from talkthemes.prepare.collect import Collected
 from talkthemes.prepare.corpus import PreparedCorpus
+from talkthemes.prepare.names_corpus import names_step
 from talkthemes.prepare.steps import boilerplate_step, filter_step, lemma_step, phrases_step
 from talkthemes.prepare.table import CorpusStep, start_table
 from talkthemes.progress import Progress, report
@@ -67,7 +68,15 @@ def finish(
     stages: list[tuple[str, list[CorpusStep]]] = [
         (
             "lemmas",
-            [partial(lemma_step, encoder=encoder, counts=col.word_counts, names=col.names)],
+            [
+                partial(
+                    names_step,
+                    lexicon=encoder.person_names,
+                    found=col.person_found,
+                    named=col.person_named,
+                ),
+                partial(lemma_step, encoder=encoder, counts=col.word_counts, names=col.names),
+            ],
         ),
         (
             "boilerplate",
@@ -104,6 +113,7 @@ def finish(
         "phrases": phrase_model,
         "boilerplate": r["boilerplate"]["sentences"],
         "lemmas": {"choices": choices},
+        "names": table.saved.get("names", {"in_use": [], "named": []}),
     }
     return corpus, explain
 
@@ -111,6 +121,7 @@ def finish(
 _SECTIONS = (
     "roles",
     "scrub",
+    "names",
     "boilerplate",
     "lemmas",
     "filter",

@@ -94,6 +94,7 @@ def _excluded(
         if roles == "all"
         else f"no words in the turns kept (roles = {roles!r})",
         "scrub": "nothing left after scrub",
+        "names": "no tokens left but people's names",
         "boilerplate": "only boilerplate sentences",
         "filter": "no tokens left after the filter",
     }

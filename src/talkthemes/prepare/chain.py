@@ -3,19 +3,19 @@
 The chain runs in two phases.
 
 **Per transcript** (streamed, in worker processes when ``n_process`` > 1, see
-:mod:`.workers`). Every step here
-is a function of one transcript's text: roles (:mod:`.roles`) → scrub (:mod:`.scrub`) →
-sentences (:mod:`.boilerplate`) → words, lemmas and the filter rule (:mod:`.lemmas`,
-:mod:`.filter`). A batch of transcripts becomes a :class:`BatchResult`: integer arrays only
-(kept term ids per sentence, a boilerplate key and step counts per sentence; see
-:mod:`.collect`), so the main process never holds transcripts as objects beyond the batch
-being read.
+:mod:`.workers`). Every step here is a function of one transcript's text: roles
+(:mod:`.roles`) → scrub (:mod:`.scrub`) → sentences (:mod:`.boilerplate`) → words, lemmas
+and the filter rule (:mod:`.lemmas`, :mod:`.filter`), with the names step (:mod:`.names`)
+reading the speaker labels and marking the tokens that are people's names. A batch of
+transcripts becomes a :class:`BatchResult`: integer arrays only (kept term ids per
+sentence, a boilerplate key and step counts per sentence; see :mod:`.collect`), so the main
+process never holds transcripts as objects beyond the batch being read.
 
 **Over the corpus** (numpy, in the main process; :mod:`.assemble`). Each step takes the
-token table and returns a smaller one: lemma decisions (:mod:`.headwords`) → boilerplate
-(drop sentences whose key is frequent; the keys were counted in the first phase, so no
-second read is needed) → phrases (:mod:`.phrases`) → vocabulary and minimum length
-(:mod:`.vocabulary`).
+token table and returns a smaller one: name decisions (:mod:`.names_corpus`) → lemma
+decisions (:mod:`.headwords`) → boilerplate (drop sentences whose key is frequent; the keys
+were counted in the first phase, so no second read is needed) → phrases (:mod:`.phrases`)
+→ vocabulary and minimum length (:mod:`.vocabulary`).
 
 :func:`prepare_corpus` runs both phases over any source of batches — the store, or the demo
 generator in ``bench/prepare.py`` — and returns the :class:`PreparedCorpus` with the data
@@ -41,6 +41,7 @@ from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, loa
 from talkthemes.prepare.headwords import Headwords, load_lemma_index, load_lemma_rules
 from talkthemes.prepare.lemmas import FastLemmatizer
 from talkthemes.prepare.lexicon import load_lemma_table, spacy_stop_words
+from talkthemes.prepare.names import NameLexicon, label_names
 from talkthemes.prepare.pipeline import SpacyLemmatizer
 from talkthemes.prepare.roles import select_turns
 from talkthemes.prepare.scrub import scrub
@@ -72,6 +73,8 @@ _MIN_BATCHES_PER_WORKER = 2
 #: not adjacent (see :data:`talkthemes.prepare.words.GAP`).
 _SCRUB_MARK = f" {GAP} "
 
+_NO_NAMES: frozenset[str] = frozenset()
+
 #: Fewer terms than this left after the vocabulary step stops the chain.
 MIN_TERMS = 50
 #: Fewer usable transcripts than this stops the chain.
@@ -97,6 +100,9 @@ class TranscriptProcessor:
         ``[prepare] scrub``.
     boilerplate_min_share : float
         Used only to decide which sentence texts a batch reports with their keys.
+
+    The names step (:mod:`.names`) is on when the encoder has a name lexicon; it reads the
+    speaker labels of turns given as ``(role, text, speaker)``.
     """
 
     def __init__(
@@ -112,13 +118,35 @@ class TranscriptProcessor:
         self.scrub = scrub
         self.boilerplate_min_share = boilerplate_min_share
         self._reported: set[int] = set()  # keys whose text this process already reported
+        self._labels: dict[str, frozenset[str]] = {}  # speaker label -> names in it
 
     @property
     def lang(self) -> str:
         return self.encoder.lang
 
+    def labels(self, turns: Sequence[tuple[str, ...]]) -> frozenset[str]:
+        """The names in a transcript's speaker labels (empty when the names step is off or
+        the turns carry no labels)."""
+        lexicon = self.encoder.person_names
+        if lexicon is None or not turns or len(turns[0]) < 3:
+            return _NO_NAMES
+        cache = self._labels
+        found = [cache.get(label) for label in {turn[2] for turn in turns}]
+        if None in found:
+            found = []
+            for label in {turn[2] for turn in turns}:
+                names = cache.get(label)
+                if names is None:
+                    names = label_names(label or "", lexicon)
+                    if len(cache) < 100_000:
+                        cache[label] = names
+                found.append(names)
+        if len(found) == 1:
+            return found[0]  # type: ignore[return-value]
+        return frozenset().union(*found)  # type: ignore[arg-type]
+
     def text(
-        self, turns: Sequence[tuple[str, str]], counts: dict[str, int] | None = None
+        self, turns: Sequence[tuple[str, ...]], counts: dict[str, int] | None = None
     ) -> tuple[str, int, int, int]:
         """Roles and scrub for one transcript.
 
@@ -147,17 +175,19 @@ class TranscriptProcessor:
         roles_removed: list[int] = []
         scrub_removed: list[int] = []
         texts: list[str] = []
+        labels: list[frozenset[str]] = []
         counts: dict[str, int] = {}
         turns = dropped = 0
         for tid, tturns in batch:
             text, n_dropped, r_removed, s_removed = self.text(tturns, counts)
             tids.append(tid)
             texts.append(text)
+            labels.append(self.labels(tturns))
             roles_removed.append(r_removed)
             scrub_removed.append(s_removed)
             turns += len(tturns)
             dropped += n_dropped
-        enc = self.encoder.encode(texts)
+        enc = self.encoder.encode(texts, labels)
         codes = enc.codes
         lengths = np.asarray(enc.lengths, dtype=np.int64)
         keys = np.asarray(enc.keys, dtype=np.int64)
@@ -197,6 +227,8 @@ class TranscriptProcessor:
             key_texts=self._repeated_texts(texts, sent_doc, keys),
             word_counts=enc.counts,
             names=enc.names,
+            person_found=enc.person.found if enc.person else {},
+            person_named=enc.person.named if enc.person else {},
         )
 
     def find_texts(self, keys: set[int], source: Callable[[], Iterable[Batch]]) -> dict[int, str]:
@@ -268,11 +300,21 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
         When the language has no lemma table, or the configured pipeline is not installed.
     """
     lang = settings.lang
+    fillers = load_fillers(lang) if settings.fillers else frozenset()
     token_filter = TokenFilter.build(
         min_length=settings.min_token_length,
         stop_words=spacy_stop_words(lang),
-        fillers=load_fillers(lang) if settings.fillers else (),
+        fillers=fillers,
         user_stop_words=settings.extra_stop_words,
+    )
+    person_names = (
+        NameLexicon.build(
+            lang,
+            fillers=[*load_fillers(lang), *settings.extra_stop_words],
+            not_names=settings.not_names,
+        )
+        if settings.drop_names
+        else None
     )
     encoder: FastLemmatizer | SpacyLemmatizer
     if settings.pipeline:
@@ -285,6 +327,7 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
             min_words=settings.boilerplate_min_words,
             names=settings.names,
             exceptions=settings.lemma_exceptions,
+            person_names=person_names,
         )
     else:
         table = load_lemma_table(lang)
@@ -302,6 +345,7 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
                 lang=lang,
                 ratio=settings.lemma_keep_ratio,
             ),
+            person_names=person_names,
         )
     return TranscriptProcessor(
         encoder,

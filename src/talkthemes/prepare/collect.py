@@ -43,6 +43,8 @@ class BatchResult:
     key_texts: dict[int, str] = field(default_factory=dict)
     word_counts: dict[str, int] = field(default_factory=dict)  # Encoded.counts
     names: dict[tuple[str, str], int] = field(default_factory=dict)  # Encoded.names
+    person_found: dict[tuple[str, str], int] = field(default_factory=dict)  # PersonNames
+    person_named: dict[str, int] = field(default_factory=dict)  # PersonNames.named
 
 
 class Collected:
@@ -72,6 +74,8 @@ class Collected:
         self.key_texts: dict[int, str] = {}
         self.word_counts: dict[str, int] = {}
         self.names: dict[tuple[str, str], int] = {}
+        self.person_found: dict[tuple[str, str], int] = {}
+        self.person_named: dict[str, int] = {}
 
     def add(self, res: BatchResult) -> None:
         """Merge one :class:`BatchResult`."""
@@ -104,6 +108,10 @@ class Collected:
             self.word_counts[w] = self.word_counts.get(w, 0) + n
         for name, n in res.names.items():
             self.names[name] = self.names.get(name, 0) + n
+        for key, n in res.person_found.items():
+            self.person_found[key] = self.person_found.get(key, 0) + n
+        for word, n in res.person_named.items():
+            self.person_named[word] = self.person_named.get(word, 0) + n
 
     def array(self, name: str) -> NDArray[Any]:
         """Concatenate (and release) the collected parts of one array."""

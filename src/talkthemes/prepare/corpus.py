@@ -53,11 +53,12 @@ FILES = (
 
 
 def library_versions() -> dict[str, str]:
-    """Versions of the libraries whose data or behaviour shape a prep."""
+    """Versions of the libraries whose data or behaviour shape a prep (faker: the
+    first-name list of the names step)."""
     from importlib.metadata import PackageNotFoundError, version
 
     out = {}
-    for name in ("spacy", "spacy-lookups-data", "gensim"):
+    for name in ("spacy", "spacy-lookups-data", "gensim", "faker"):
         try:
             out[name] = version(name)
         except PackageNotFoundError:  # pragma: no cover - all are dependencies

@@ -14,6 +14,17 @@ The report, by key:
 ``scrub``
     ``removed`` (count per kind: email, url, phone, card, number, tag), ``words_removed``,
     ``emptied``.
+``names``
+    ``enabled``, ``removed`` (tokens per way they were found: ``cue``, ``known``,
+    ``suspect``, ``capitalised``), ``tokens_removed``, ``distinct``, ``named`` (words
+    given as names in enough transcripts), ``min_docs``, ``top`` (the names removed most:
+    ``name``, ``count``), ``kept_as_words`` (suspects the corpus uses as words: ``word``,
+    ``transcripts``), ``ordinary`` (first names kept as ordinary words: ``word``,
+    ``count``), ``in_boilerplate`` (removed names that the boilerplate sentences hold),
+    ``emptied``; see :mod:`talkthemes.prepare.names`. Names are people's
+    data: the terminal and ``--json`` show each as the screens mask a name ("[name]",
+    :func:`talkthemes.text.masked.masked_as`) unless ``[view] original_text`` is on;
+    ``explain.json`` keeps them.
 ``boilerplate``
     ``sentences`` (each ``sentence``, ``transcripts``, ``share``), ``sentences_removed``,
     ``words_removed``, ``emptied``.
@@ -40,6 +51,8 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
+from talkthemes.text.masked import masked_as
+
 if TYPE_CHECKING:  # pragma: no cover
     from rich.console import Console
 
@@ -47,9 +60,48 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = ["explain_json", "explain_rows", "render_explain"]
 
+#: How each way of finding a name reads in the step row.
+_NAME_SOURCES = {
+    "cue": "at cues",
+    "known": "names of the call",
+    "suspect": "suspects",
+    "capitalised": "capitalised",
+}
+
 
 def _n(value: Any) -> str:
     return f"{int(value):,}"
+
+
+def _masked_explain(explain: dict[str, Any]) -> dict[str, Any]:
+    """The report with the names the names step removed masked: its lists of names, and
+    those words in the boilerplate sentences (everywhere: a word removed as someone's name
+    in one call, "bill", is masked in every sentence)."""
+    names = explain.get("names") or {}
+    out = dict(explain)
+    hidden = {t["name"] for t in names.get("top", [])} | set(names.get("in_boilerplate", []))
+    if hidden:
+        out["names"] = {
+            **names,
+            "top": [{**t, "name": masked_as("name")} for t in names.get("top", [])],
+            "in_boilerplate": [masked_as("name")] * len(names.get("in_boilerplate", [])),
+        }
+    boiler = explain.get("boilerplate") or {}
+    if hidden and boiler.get("sentences"):
+        out["boilerplate"] = {
+            **boiler,
+            "sentences": [
+                {**b, "sentence": _mask_words(str(b["sentence"]), hidden)}
+                for b in boiler["sentences"]
+            ],
+        }
+    return out
+
+
+def _mask_words(sentence: str, hidden: set[str]) -> str:
+    """A normalised sentence (lower-case words, one space apart) with ``hidden`` words
+    masked."""
+    return " ".join(masked_as("name") if w in hidden else w for w in sentence.split(" "))
 
 
 def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
@@ -87,6 +139,9 @@ def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
             "details": (kinds or "nothing found") if s["enabled"] else "off",
         }
     )
+    names = explain.get("names")
+    if names is not None:
+        rows.append(_names_row(names))
     b = explain["boilerplate"]
     rows.append(
         {
@@ -161,12 +216,32 @@ def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
     return rows
 
 
-def explain_json(result: PrepareResult) -> dict[str, Any]:
+def _names_row(names: dict[str, Any]) -> dict[str, str]:
+    if not names.get("enabled"):
+        return {"step": "names", "removed": "0 tokens", "emptied": "0", "details": "off"}
+    found = ", ".join(
+        f"{_NAME_SOURCES.get(k, k)} {_n(v)}" for k, v in names.get("removed", {}).items() if v
+    )
+    kept = len(names.get("kept_as_words", []))
+    return {
+        "step": "names",
+        "removed": f"{_n(names['tokens_removed'])} tokens",
+        "emptied": _n(names.get("emptied", 0)),
+        "details": f"{_n(names.get('distinct', 0))} names"
+        + (f" ({found})" if found else "")
+        + f"; {_n(kept)} kept where used as words",
+    }
+
+
+def explain_json(result: PrepareResult, *, original_text: bool = False) -> dict[str, Any]:
     """The JSON document ``prepare --json`` prints.
 
     Parameters
     ----------
     result : PrepareResult
+    original_text : bool
+        Show the names the names step removed (``[view] original_text``); masked otherwise,
+        as the screens mask a name (:func:`talkthemes.text.masked.masked_as`).
 
     Returns
     -------
@@ -178,11 +253,17 @@ def explain_json(result: PrepareResult) -> dict[str, Any]:
         "cached": result.cached,
         "path": str(result.path),
         "summary": result.summary,
-        "explain": result.explain,
+        "explain": result.explain if original_text else _masked_explain(result.explain),
     }
 
 
-def render_explain(console: Console, explain: dict[str, Any], *, max_excluded: int = 20) -> None:
+def render_explain(
+    console: Console,
+    explain: dict[str, Any],
+    *,
+    max_excluded: int = 20,
+    original_text: bool = False,
+) -> None:
     """Print the report as tables.
 
     Parameters
@@ -192,10 +273,15 @@ def render_explain(console: Console, explain: dict[str, Any], *, max_excluded: i
         The chain's report.
     max_excluded : int
         Excluded transcripts listed by id (the rest are counted).
+    original_text : bool
+        Show the names the names step removed (``[view] original_text``); masked otherwise
+        (in its list of names and in the boilerplate sentences).
     """
     from rich.markup import escape
     from rich.table import Table
 
+    if not original_text:
+        explain = _masked_explain(explain)
     t = explain["transcripts"]
     steps = Table(
         title=f"prepare: {_n(t['read'])} transcripts read, {_n(t['usable'])} used, "
@@ -219,6 +305,7 @@ def render_explain(console: Console, explain: dict[str, Any], *, max_excluded: i
             table.add_row(escape(s["sentence"]), _n(s["transcripts"]), f"{s['share']:.1%}")
         console.print(table)
 
+    _render_names(console, explain.get("names") or {}, original_text)
     _render_lemmas(console, explain["lemmas"])
 
     top = explain["phrases"].get("top", [])
@@ -287,4 +374,37 @@ def _render_lemmas(console: Console, lem: dict[str, Any]) -> None:
         table.add_column("count", justify="right")
         for n in names["top"]:
             table.add_row(escape(n["name"]), escape(n["table"]), _n(n["count"]))
+        console.print(table)
+
+
+def _render_names(console: Console, names: dict[str, Any], original_text: bool) -> None:
+    """The names step: the names removed (masked already unless allowed), the words it left
+    alone."""
+    from rich.markup import escape
+    from rich.table import Table
+
+    if names.get("top"):
+        how = "" if original_text else " (masked: [view] original_text = true shows them)"
+        table = Table(title=f"people's names removed, most frequent{escape(how)}")
+        table.add_column("name")
+        table.add_column("tokens", justify="right")
+        for t in names["top"]:
+            table.add_row(escape(t["name"]), _n(t["count"]))
+        console.print(table)
+    if names.get("kept_as_words"):
+        table = Table(
+            title=f"names kept where used as words (in ≥ {names.get('min_docs', 0)} "
+            "transcripts outside names)"
+        )
+        table.add_column("word")
+        table.add_column("transcripts", justify="right")
+        for t in names["kept_as_words"]:
+            table.add_row(escape(t["word"]), _n(t["transcripts"]))
+        console.print(table)
+    if names.get("ordinary"):
+        table = Table(title="first names kept as ordinary words")
+        table.add_column("word")
+        table.add_column("tokens", justify="right")
+        for t in names["ordinary"]:
+            table.add_row(escape(t["word"]), _n(t["count"]))
         console.print(table)

@@ -23,6 +23,7 @@ __all__ = [
     "FILLER",
     "KEEP",
     "LEMMATISED",
+    "NAME",
     "NON_ALPHA",
     "POS",
     "REASONS",
@@ -44,6 +45,8 @@ STOP = 3
 FILLER = 4
 USER = 5
 POS = 6
+#: Not a filter reason: a person's name, removed by the names step (:mod:`.names`).
+NAME = 7
 
 #: Reason code → the name shown by ``--explain`` (index = code).
 REASONS: tuple[str, ...] = (
@@ -54,10 +57,11 @@ REASONS: tuple[str, ...] = (
     "filler or back-channel",
     "your stop word",
     "part of speech",
+    "personal name",
 )
 
 #: Columns of the per-sentence step counts: words, then tokens dropped for each reason
-#: above (codes 1-6), then kept tokens whose lemma differs from the word as said.
+#: above (codes 1-7), then kept tokens whose lemma differs from the word as said.
 STAT_COLUMNS: tuple[str, ...] = ("words", *REASONS[1:], "lemmatised")
 #: Index of the "lemmatised" column of :data:`STAT_COLUMNS`.
 LEMMATISED = len(STAT_COLUMNS) - 1

@@ -7,6 +7,10 @@ per-transcript steps of the chain (roles, scrub, sentences, lemmas, filter; the 
 :class:`~talkthemes.prepare.chain.TranscriptProcessor`) on new text and then, instead of
 learning anything, applies those saved results in the chain's order:
 
+0. people's names: the names step (:mod:`.names`) runs per transcript as in the chain, and
+   its provisional tokens are decided by the version's saved decisions
+   (:func:`~talkthemes.prepare.names_corpus.resolve_names`); then the version's lemma
+   decisions;
 1. sentences whose normalised text is one of the version's boilerplate sentences are
    dropped (matched by the same 64-bit sentence key the chain counts);
 2. the version's phrases are joined where their words are adjacent, left to right as
@@ -37,10 +41,17 @@ import scipy.sparse as sp
 
 from talkthemes.config import PrepareSettings
 from talkthemes.errors import NotReadyError
+from talkthemes.prepare.applied import AppliedBatch
 from talkthemes.prepare.boilerplate import sentence_key
 from talkthemes.prepare.chain import build_processor
 from talkthemes.prepare.corpus import FILES, OOV, PreparedCorpus, library_versions
 from talkthemes.prepare.headwords import resolve_tokens
+from talkthemes.prepare.names_corpus import (
+    frozen_keep,
+    in_use_terms,
+    named_hashes,
+    resolve_names,
+)
 from talkthemes.prepare.phrases import DELIMITER, PhraseModel, join_runs
 from talkthemes.prepare.run import CHAIN_VERSION, EXPLAIN_FILE
 from talkthemes.prepare.workers import Batch
@@ -85,6 +96,11 @@ class PrepSpec:
     lemma_choices : dict of str to str
         The corpus's decision for each contested word it held (see
         :mod:`talkthemes.prepare.headwords`).
+    names_in_use : frozenset of str
+        Terms of suspect names the corpus kept as words (see
+        :mod:`talkthemes.prepare.names_corpus`).
+    names_named : frozenset of str
+        Hashes of the words the corpus knew as names.
     raw : dict
         The ``prep.json`` document it was read from.
     """
@@ -97,12 +113,19 @@ class PrepSpec:
     excluded: list[tuple[str, str]] = field(default_factory=list)
     chain_version: str = "1"
     lemma_choices: dict[str, str] = field(default_factory=dict)
+    names_in_use: frozenset[str] = frozenset()
+    names_named: frozenset[str] = field(default_factory=frozenset, repr=False)
     raw: dict[str, Any] = field(default_factory=dict, repr=False)
 
     @property
     def adjacent_phrases(self) -> bool:
         """Whether phrases join only adjacent words (chain version 2 on)."""
         return _version_number(self.chain_version) >= 2
+
+    @property
+    def drops_names(self) -> bool:
+        """Whether the prep kept people's names out (chain version 3 on, when on)."""
+        return _version_number(self.chain_version) >= 3 and self.settings.drop_names
 
     @classmethod
     def from_prep_info(cls, info: dict[str, Any], vocabulary: Sequence[str]) -> PrepSpec:
@@ -126,6 +149,8 @@ class PrepSpec:
                 str(w): str(lemma)
                 for w, lemma in ((info.get("lemmas") or {}).get("choices") or {}).items()
             },
+            names_in_use=in_use_terms(info),
+            names_named=named_hashes(info),
             raw=dict(info),
         )
 
@@ -138,7 +163,7 @@ def _version_number(chain_version: str) -> int:
 
 
 #: Keys of a prep's ``prep.json`` that older version records did not copy.
-_FROM_PREP = ("chain_version", "lemmas")
+_FROM_PREP = ("chain_version", "lemmas", "names")
 
 
 def load_prep_spec(ws: Workspace, version: Any) -> PrepSpec:
@@ -172,59 +197,6 @@ def load_prep_spec(ws: Workspace, version: Any) -> PrepSpec:
 
 
 # -- applying it to new text --------------------------------------------------------------
-@dataclass
-class AppliedBatch:
-    """A batch of transcripts prepared like a version's corpus.
-
-    Attributes
-    ----------
-    doc_ids : list of str
-    counts : scipy.sparse.csr_matrix of int32, shape (D, V)
-        Term counts over the version's vocabulary.
-    tokens : ndarray of int32
-        Token stream in spoken order, :data:`~talkthemes.prepare.corpus.OOV` for terms
-        outside the vocabulary.
-    offsets : ndarray of int64, shape (D + 1,)
-    known : ndarray of int64, shape (D,)
-        Tokens in the vocabulary per transcript.
-    reasons : list of str or None
-        Why a transcript has no token in the vocabulary (None when it has some).
-    """
-
-    doc_ids: list[str]
-    counts: sp.csr_matrix
-    tokens: np.ndarray
-    offsets: np.ndarray
-    known: np.ndarray
-    reasons: list[str | None]
-
-    @staticmethod
-    def concat(parts: Sequence[AppliedBatch], n_terms: int) -> AppliedBatch:
-        """Join batches one after another."""
-        if not parts:
-            return AppliedBatch(
-                [],
-                sp.csr_matrix((0, n_terms), dtype=np.int32),
-                np.zeros(0, np.int32),
-                np.zeros(1, np.int64),
-                np.zeros(0, np.int64),
-                [],
-            )
-        offsets = [np.zeros(1, np.int64)]
-        base = 0
-        for p in parts:
-            offsets.append(p.offsets[1:] + base)
-            base += int(p.offsets[-1])
-        return AppliedBatch(
-            doc_ids=[d for p in parts for d in p.doc_ids],
-            counts=sp.vstack([p.counts for p in parts], format="csr").astype(np.int32),
-            tokens=np.concatenate([p.tokens for p in parts]).astype(np.int32),
-            offsets=np.concatenate(offsets),
-            known=np.concatenate([p.known for p in parts]),
-            reasons=[r for p in parts for r in p.reasons],
-        )
-
-
 class PrepApplier:
     """Prepare new transcripts with a version's settings, boilerplate, phrases and vocabulary.
 
@@ -249,6 +221,9 @@ class PrepApplier:
             if not self.spec.adjacent_phrases:
                 # chain version 1 had no lemma checks
                 update.update(names=False, lemma_keep_ratio=0.0, lemma_exceptions={})
+            if not self.spec.drops_names:
+                # chain versions 1 and 2 had no names step
+                update["drop_names"] = False
             settings = self.spec.settings.model_copy(update=update)
             self._processor = build_processor(settings)
         return self._processor
@@ -307,12 +282,19 @@ class PrepApplier:
         doc_sentences = res.doc_sentences.astype(np.int64)
         sent_doc = np.repeat(np.arange(n_docs), doc_sentences)
         sent_words = res.sent_words.astype(np.int64)
-        # 0. the version's lemma decisions
-        res_types, ids, breaks, sent_kept = resolve_tokens(
+        # 0. the version's name and lemma decisions
+        res_types, ids, breaks, sent_kept, _ = resolve_names(
             res.types,
             res.ids,
             res.breaks,
             res.sent_kept,
+            frozen_keep(self.spec.names_in_use, self.spec.names_named),
+        )
+        res_types, ids, breaks, sent_kept = resolve_tokens(
+            res_types,
+            ids,
+            breaks,
+            sent_kept,
             self.choose,
             self.processor.encoder.filter,
         )
@@ -410,6 +392,7 @@ def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path
             "boilerplate": spec.boilerplate,
             "settings": spec.settings.model_dump(exclude={"batch_size", "n_process"}),
             "lemmas": spec.lemma_choices,
+            "names": [sorted(spec.names_in_use), sorted(spec.names_named)],
             "made_by": spec.chain_version,
             "corpus": fingerprint,
             "chain": CHAIN_VERSION,
@@ -422,7 +405,10 @@ def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path
         if not all((folder / n).is_file() for n in FILES):
             applier = PrepApplier(spec)
             applied = AppliedBatch.concat(
-                [applier.apply(b) for b in store.iter_turn_batches(spec.settings.batch_size)],
+                [
+                    applier.apply(b)
+                    for b in store.iter_turn_batches(spec.settings.batch_size, speakers=True)
+                ],
                 len(spec.vocabulary),
             )
             min_tokens = spec.settings.min_tokens
@@ -461,6 +447,10 @@ def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path
                 "counts": corpus.summary(),
                 "phrases": spec.raw.get("phrases", [[p, None] for p in spec.phrases]),
                 "lemmas": {"choices": dict(spec.lemma_choices)},
+                "names": {
+                    "in_use": sorted(spec.names_in_use),
+                    "named": sorted(spec.names_named),
+                },
                 "boilerplate": spec.raw.get(
                     "boilerplate", [{"sentence": s} for s in spec.boilerplate]
                 ),

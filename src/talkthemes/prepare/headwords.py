@@ -63,6 +63,7 @@ __all__ = [
     "Decision",
     "Headwords",
     "capitalised",
+    "lemma_index_by_pos",
     "load_lemma_index",
     "load_lemma_rules",
     "name_flags",
@@ -85,14 +86,21 @@ _EN_SUFFIXES = ("s", "es", "ed", "d", "ing", "er", "est", "r", "st")
 def load_lemma_index(lang: str) -> frozenset[str]:
     """The base forms of spaCy's ``lemma_index`` table, every part of speech (empty when
     spacy-lookups-data ships none for the language)."""
+    return frozenset().union(*lemma_index_by_pos(lang).values())
+
+
+@cache
+def lemma_index_by_pos(lang: str) -> dict[str, frozenset[str]]:
+    """The base forms of spaCy's ``lemma_index`` table by part of speech (``noun``,
+    ``verb``, ``adj``, ``adv``), lower-cased; empty when none is shipped."""
     # spaCy is heavy to import: deferred to first use on purpose
     from spacy.util import load_language_data, registry
 
     tables = registry.lookups.get_all().get(lang)
     if not isinstance(tables, dict) or "lemma_index" not in tables:
-        return frozenset()
+        return {}
     data = load_language_data(tables["lemma_index"])
-    return frozenset(w.lower() for words in data.values() for w in words)
+    return {str(pos): frozenset(w.lower() for w in words) for pos, words in data.items()}
 
 
 @cache

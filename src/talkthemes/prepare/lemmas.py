@@ -22,7 +22,7 @@ Both paths encode each token as one integer (:mod:`.encoding`).
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from typing import Any, NamedTuple
 
 import numpy as np
@@ -32,12 +32,15 @@ from talkthemes.prepare.boilerplate import sentence_keys, word_value
 from talkthemes.prepare.encoding import (
     Encoded,
     Encoder,
+    PersonNames,
     empty_encoded,
     kept_breaks,
     tally,
 )
 from talkthemes.prepare.filter import NON_ALPHA, TokenFilter
-from talkthemes.prepare.headwords import ALL_CAPS_MIN_WORDS, Headwords, capitalised
+from talkthemes.prepare.headwords import Headwords, capitalised
+from talkthemes.prepare.names import NameLexicon, all_caps, rule_positions, title_case
+from talkthemes.prepare.names_mark import NameColumns
 from talkthemes.prepare.words import (
     CUT,
     DOC_SEP,
@@ -69,6 +72,14 @@ class _Surface(NamedTuple):
     cap: bool = False  # written with a capital
     counted: int = -1  # index into the counted words, or -1
     renamed: int = -1  # index into the names whose lemma would differ, or -1
+    # for the names step (talkthemes.prepare.names), when it is on
+    title: bool = False  # capitalised, not all in capitals
+    upper: bool = False  # all in capitals
+    low: int = -1  # id of the lower-cased word
+    cls: int = 0  # cue class
+    nameable: bool = False
+    first: bool = False  # in the first-name list
+    ordinary: bool = False  # an ordinary word of the language
 
 
 class FastLemmatizer(Encoder):
@@ -89,6 +100,8 @@ class FastLemmatizer(Encoder):
         (spaCy's lookup mode does not; see the module notes).
     names, exceptions, headwords
         The lemma checks (see :class:`Encoder` and :mod:`talkthemes.prepare.headwords`).
+    person_names : NameLexicon, optional
+        The names step (:mod:`talkthemes.prepare.names`); off when omitted.
     """
 
     def __init__(
@@ -102,9 +115,16 @@ class FastLemmatizer(Encoder):
         names: bool = False,
         exceptions: Mapping[str, str] | None = None,
         headwords: Headwords | None = None,
+        person_names: NameLexicon | None = None,
     ) -> None:
         super().__init__(
-            token_filter, lang, min_words, names=names, exceptions=exceptions, headwords=headwords
+            token_filter,
+            lang,
+            min_words,
+            names=names,
+            exceptions=exceptions,
+            headwords=headwords,
+            person_names=person_names,
         )
         self.table = table
         self.case_fallback = case_fallback
@@ -119,7 +139,10 @@ class FastLemmatizer(Encoder):
         self._rows: list[_Surface] = []
         self._columns: list[NDArray[Any]] = [
             np.zeros(0, dtype=t)
-            for t in (np.int8, np.int64, np.int64, np.uint64, bool, bool, np.int64, np.int64)
+            for t in (
+                *(np.int8, np.int64, np.int64, np.uint64, bool, bool, np.int64, np.int64),
+                *(bool, bool, np.int64, np.int64, bool, bool, bool),
+            )
         ]
 
     def lemma(self, word: str) -> str:
@@ -156,6 +179,25 @@ class FastLemmatizer(Encoder):
             self.names and capitalised(piece),
             self._counted.get(lower, -1),
             renamed,
+            *self._name_columns(piece, lower),
+        )
+
+    def _name_columns(
+        self, piece: str, lower: str
+    ) -> tuple[bool, bool, int, int, bool, bool, bool]:
+        """The names step's per-surface columns (title, upper, low, cls, nameable, first,
+        ordinary)."""
+        lex = self.person_names
+        if lex is None:
+            return (False, False, -1, 0, False, False, False)
+        return (
+            title_case(piece),
+            all_caps(piece),
+            self.low_id(lower),
+            lex.word_class(lower),
+            lex.nameable(lower),
+            lower in lex.first,
+            lower in lex.ordinary,
         )
 
     def _new_surface(self, piece: str) -> int:
@@ -174,8 +216,8 @@ class FastLemmatizer(Encoder):
         return sid
 
     def _tables(self) -> list[NDArray[Any]]:
-        """The per-surface columns (kind, code, name_code, value, soft, cap, counted,
-        renamed) as arrays, extended with the surfaces seen since the last call."""
+        """The per-surface columns (the fields of ``_Surface``) as arrays, extended with the
+        surfaces seen since the last call."""
         have = self._columns[0].size
         if have < len(self._rows):
             new = list(zip(*self._rows[have:], strict=True))
@@ -185,13 +227,16 @@ class FastLemmatizer(Encoder):
             ]
         return self._columns
 
-    def encode(self, texts: Sequence[str]) -> Encoded:
+    def encode(
+        self, texts: Sequence[str], labels: Sequence[Iterable[str]] | None = None
+    ) -> Encoded:
         """Encode texts (one per transcript) into token codes, sentence by sentence.
 
         The texts are joined with a separator and split by one regular-expression pass into
         words, sentence ends (see :func:`~talkthemes.prepare.boilerplate.split_sentences`)
         and separators; each piece is looked up once in the surface table, and codes,
-        names, sentences and boilerplate keys follow with numpy.
+        names, sentences and boilerplate keys follow with numpy. ``labels`` holds, per
+        text, the names in its speaker labels (for the names step).
         """
         if not texts:
             return empty_encoded()
@@ -207,9 +252,10 @@ class FastLemmatizer(Encoder):
                 for s, p in zip(sids, pieces, strict=True)
             ]
         arr = np.fromiter(sids, dtype=np.int64, count=len(sids))
-        kind_of, code_of, name_code_of, value_of, soft_of, cap_of, counted_of, renamed_of = (
-            self._tables()
-        )
+        columns = self._tables()
+        kind_of, code_of, name_code_of, value_of, soft_of, cap_of, counted_of, renamed_of = columns[
+            :8
+        ]
         kind = kind_of[arr]
         is_doc = kind == KIND_DOC
         doc = np.cumsum(is_doc)
@@ -232,6 +278,25 @@ class FastLemmatizer(Encoder):
             codes[named] = name_code_of[word[named]]
         cut_word = cut[at]
         codes[cut_word] = -NON_ALPHA
+        person: PersonNames | None = None
+        if self.person_names is not None:
+            nl = self._sid.get("\n", -1)
+            title_of = columns[8]
+            if self.names:  # the names rule's positions, title-case ones
+                flagged = named[title_of[word[named]]]
+            else:
+                flagged = rule_positions(title_of[word], first, starts, lengths)
+            person = self.find_names(
+                codes,
+                word,
+                NameColumns(*columns[8:]),
+                flagged=flagged,
+                sent=sent,
+                line=np.cumsum(is_doc | (arr == nl))[at],
+                doc=doc[at],
+                n_docs=len(texts),
+                labels=labels,
+            )
         # a word breaks adjacency when it is dropped (and not a filler), and so does a gap
         # mark (rare: counted before each word by a binary search)
         seen = np.cumsum((codes < 0) & (~soft_of[word] | cut_word))
@@ -246,6 +311,7 @@ class FastLemmatizer(Encoder):
             breaks=kept_breaks(seen, codes >= 0, sent),
             counts=self._counts(counted_of, word, named),
             names=tally(renamed_of[word[named]], self.renamed),
+            person=person,
         )
 
     def _counts(
@@ -270,14 +336,4 @@ class FastLemmatizer(Encoder):
         """Positions of the names (:func:`~talkthemes.prepare.headwords.name_flags` over
         every sentence at once; only the capitalised words are looked at)."""
         cap = cap_of[word] if self.names else np.zeros(0, dtype=bool)
-        at = np.flatnonzero(cap)
-        if at.size == 0:
-            return at
-        sentence = np.searchsorted(starts, at, side="right") - 1
-        all_caps = (np.bincount(sentence, minlength=lengths.size) == lengths) & (
-            lengths >= ALL_CAPS_MIN_WORDS
-        )
-        # a sentence's first word is a name only when the next word is a capitalised one
-        after = np.minimum(at + 1, word.size - 1)
-        next_cap = (at + 1 < word.size) & cap[after] & ~first[after]
-        return at[(~first[at] | next_cap) & ~all_caps[sentence]]
+        return rule_positions(cap, first, starts, lengths)

@@ -6,7 +6,7 @@ from functools import cache
 
 from talkthemes.errors import ConfigError
 
-__all__ = ["load_lemma_table", "lookup_languages", "spacy_stop_words"]
+__all__ = ["lemma_table_words", "load_lemma_table", "lookup_languages", "spacy_stop_words"]
 
 
 @cache
@@ -50,6 +50,21 @@ def load_lemma_table(lang: str) -> dict[str, str]:
         )
     table = load_language_data(registry.lookups.get(lang)["lemma_lookup"])
     return {str(k): str(v) for k, v in table.items() if isinstance(v, str)}
+
+
+@cache
+def lemma_table_words(lang: str) -> frozenset[str]:
+    """Every word of a language's lookup lemma table, both sides, lower-cased (empty when
+    ``spacy-lookups-data`` ships no table for it).
+
+    What the names step (:mod:`talkthemes.prepare.names`) and the on-screen masking
+    (:mod:`talkthemes.privacy`) take as words of the language, not names.
+    """
+    try:
+        table = load_lemma_table(lang)
+    except ConfigError:  # no lookup table for the language: the callers use stop words only
+        return frozenset()
+    return frozenset({k.lower() for k in table} | {v.lower() for v in table.values()})
 
 
 def spacy_stop_words(lang: str) -> frozenset[str]:

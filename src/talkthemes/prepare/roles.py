@@ -20,12 +20,12 @@ ROLE_SETS: dict[str, frozenset[str] | None] = {
 }
 
 
-def select_turns(turns: Sequence[tuple[str, str]], roles: str) -> tuple[list[str], list[str]]:
+def select_turns(turns: Sequence[tuple[str, ...]], roles: str) -> tuple[list[str], list[str]]:
     """Split a transcript's turns into the texts kept and the texts dropped.
 
     Parameters
     ----------
-    turns : sequence of (role, text)
+    turns : sequence of (role, text) or (role, text, speaker)
         The transcript's turns in order.
     roles : {"all", "customer", "agent"}
         The ``[prepare] roles`` setting.
@@ -45,9 +45,9 @@ def select_turns(turns: Sequence[tuple[str, str]], roles: str) -> tuple[list[str
     except KeyError:
         raise ValueError(f"roles must be one of {sorted(ROLE_SETS)}, not {roles!r}") from None
     if keep is None:
-        return [text for _, text in turns], []
+        return [turn[1] for turn in turns], []
     kept: list[str] = []
     dropped: list[str] = []
-    for role, text in turns:
-        (kept if role in keep else dropped).append(text)
+    for turn in turns:
+        (kept if turn[0] in keep else dropped).append(turn[1])
     return kept, dropped

@@ -3,7 +3,8 @@
 The prep hash covers everything that can change the result: the ``[prepare]`` settings
 (except ``batch_size`` and ``n_process``, which only change how fast it runs), the set of
 stored transcripts (:meth:`Store.corpus_fingerprint`), the versions of spaCy,
-spacy-lookups-data and gensim, the shipped fillers list of the language, and
+spacy-lookups-data, gensim and faker (:func:`library_versions`), the shipped fillers list of
+the language, and
 :data:`CHAIN_VERSION`. When ``prepared/<hash>/`` already exists, the run returns it at once
 (``cached = True``) without reading a transcript.
 """
@@ -38,8 +39,9 @@ __all__ = [
 logger = logging.getLogger(__name__)
 
 #: Bumped whenever a change to the chain's code changes its output. "2": phrases join only
-#: adjacent words; headword and name checks on lemmas.
-CHAIN_VERSION = "2"
+#: adjacent words; headword and name checks on lemmas. "3": people's names kept out of the
+#: vocabulary (:mod:`talkthemes.prepare.names`).
+CHAIN_VERSION = "3"
 EXPLAIN_FILE = "explain.json"
 #: Settings that change speed only, left out of the hash.
 _SPEED_ONLY = frozenset({"batch_size", "n_process"})
@@ -173,7 +175,7 @@ def run_prepare(
 
         processor = build_processor(settings)
         corpus, explain = prepare_corpus(
-            lambda: store.iter_turn_batches(settings.batch_size),
+            lambda: store.iter_turn_batches(settings.batch_size, speakers=True),
             settings,
             total=total,
             progress=progress,

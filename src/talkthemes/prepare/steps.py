@@ -16,7 +16,7 @@ import numpy as np
 
 from talkthemes.config import PrepareSettings
 from talkthemes.prepare.boilerplate import find_boilerplate
-from talkthemes.prepare.filter import LEMMATISED, POS, STAT_COLUMNS
+from talkthemes.prepare.filter import LEMMATISED, NAME, POS, STAT_COLUMNS
 from talkthemes.prepare.headwords import PROVISIONAL, Decision, resolve_tokens
 from talkthemes.prepare.phrases import join_runs, learn_phrases, run_lengths
 from talkthemes.prepare.table import TokenTable
@@ -119,6 +119,10 @@ def boilerplate_step(
         "sentences_removed": int(masked.sum()),
         "words_removed": int(table.sent_words[masked].sum()),
     }
+    if "names" in table.report:
+        # names said in a script ("this is … speaking"): --explain masks them in the sentences
+        held = {w for text in texts.values() for w in text.split()} & table.removed_names
+        table.report["names"]["in_boilerplate"] = sorted(held)
     kept_tokens = np.repeat(~masked, table.sent_kept)
     table.tokens = table.tokens[kept_tokens]
     table.breaks = table.breaks[kept_tokens]
@@ -150,9 +154,9 @@ def filter_step(table: TokenTable, settings: PrepareSettings) -> TokenTable:
         "removed": {
             STAT_COLUMNS[i]: int(stats[i])
             for i in range(1, LEMMATISED)
-            if i != POS or settings.pipeline
+            if (i != POS or settings.pipeline) and i != NAME
         },
-        "tokens_removed": int(stats[1:LEMMATISED].sum()),
+        "tokens_removed": int(stats[1:LEMMATISED].sum() - stats[NAME]),
         "tokens_kept": int(table.sent_kept.sum()),
         "emptied": int(table.emptied["filter"].sum()),
     }

@@ -47,6 +47,11 @@ class TokenTable:
         Transcripts left without text by each step so far, in step order.
     report : dict
         The ``--explain`` sections written so far.
+    saved : dict
+        What the corpus steps decided that the prep saves (``prep.json``), by step.
+    removed_names : frozenset of str
+        Every word the names step removed (not saved: the boilerplate step reports which of
+        them its sentences hold, so ``--explain`` can mask them).
     """
 
     tids: list[str]
@@ -60,6 +65,8 @@ class TokenTable:
     sent_kept: NDArray[np.int64]
     emptied: dict[str, NDArray[np.bool_]] = field(default_factory=dict)
     report: dict[str, Any] = field(default_factory=dict)
+    saved: dict[str, Any] = field(default_factory=dict)
+    removed_names: frozenset[str] = frozenset()
 
     @property
     def n_docs(self) -> int:

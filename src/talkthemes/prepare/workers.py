@@ -29,8 +29,9 @@ from talkthemes.prepare.pipeline import SpacyLemmatizer
 
 __all__ = ["Batch", "map_batches", "resolve_processes"]
 
-#: One batch from the store: ``(transcript id, [(role, text), ...])`` per transcript.
-Batch = Sequence[tuple[str, Sequence[tuple[str, str]]]]
+#: One batch from the store: ``(transcript id, [(role, text, speaker), ...])`` per
+#: transcript (``(role, text)`` turns are read too: no speaker labels then).
+Batch = Sequence[tuple[str, Sequence[tuple[str, ...]]]]
 
 
 def resolve_processes(n_process: int) -> int:

@@ -55,14 +55,16 @@ def coherence_check(
 
     applier = PrepApplier(spec)
     with ws.store() as store:
-        new = applier.apply(store.turns_for(list(new_ids)))
+        new = applier.apply(store.turns_for(list(new_ids), speakers=True))
         usable = new.known >= spec.settings.min_tokens
         n = int(usable.sum())
         if n < MIN_NEW_FOR_CHECK or not version.doc_ids:
             return {"checked": False, "n": n, "drop": drop, "triggered": False}
         rng = np.random.default_rng([seed, 20100601])
         pick = rng.choice(len(version.doc_ids), size=min(n, len(version.doc_ids)), replace=False)
-        earlier = applier.apply(store.turns_for([version.doc_ids[i] for i in sorted(pick)]))
+        earlier = applier.apply(
+            store.turns_for([version.doc_ids[i] for i in sorted(pick)], speakers=True)
+        )
     topn = int(version.info.get("topn", 10))
     tops = top_terms(version.topic_terms, min(topn, version.topic_terms.shape[1]))
 

@@ -254,9 +254,10 @@ class TranscriptsMixin(StoreBase):
         return h.hexdigest()
 
     def iter_turn_batches(
-        self, batch_size: int
-    ) -> Iterator[list[tuple[str, list[tuple[str, str]]]]]:
-        """Stream transcripts in storage order as batches of ``(tid, [(role, text), ...])``.
+        self, batch_size: int, *, speakers: bool = False
+    ) -> Iterator[list[tuple[str, list[tuple[str, ...]]]]]:
+        """Stream transcripts in storage order as batches of ``(tid, [(role, text), ...])``
+        (``(role, text, speaker label)`` with ``speakers=True``).
 
         Only one batch is held in memory at a time.
         """
@@ -269,12 +270,17 @@ class TranscriptsMixin(StoreBase):
             if not ids:
                 return
             first, last = ids[0][0], ids[-1][0]
-            turns: dict[int, list[tuple[str, str]]] = {i: [] for i, _ in ids}
+            turns: dict[int, list[tuple[str, ...]]] = {i: [] for i, _ in ids}
             for tr, packed in self._conn.execute(
                 "SELECT transcript, turns FROM turn_sets WHERE transcript BETWEEN ? AND ?",
                 (first, last),
             ):
-                turns[tr] = [(u[1], u[4]) for u in json.loads(packed)]
+                units = json.loads(packed)
+                turns[tr] = (
+                    [(u[1], u[4], u[0]) for u in units]
+                    if speakers
+                    else [(u[1], u[4]) for u in units]
+                )
             yield [(tid, turns[i]) for i, tid in ids]
 
     def get_turns(self, tid: str) -> list[StoredTurn]:
@@ -331,10 +337,13 @@ class TranscriptsMixin(StoreBase):
             out.setdefault(tid, {})[key] = value
         return out
 
-    def turns_for(self, tids: Sequence[str]) -> list[tuple[str, list[tuple[str, str]]]]:
+    def turns_for(
+        self, tids: Sequence[str], *, speakers: bool = False
+    ) -> list[tuple[str, list[tuple[str, ...]]]]:
         """``(tid, [(role, text), ...])`` for the given stored transcripts, in the order
-        given (ids not stored are left out)."""
-        found: dict[str, list[tuple[str, str]]] = {}
+        given (ids not stored are left out); ``(role, text, speaker label)`` with
+        ``speakers=True``."""
+        found: dict[str, list[tuple[str, ...]]] = {}
         for chunk in chunks(list(dict.fromkeys(tids)), PARAM_CHUNK):
             q = ",".join("?" * len(chunk))
             for tid, packed in self._conn.execute(
@@ -342,5 +351,10 @@ class TranscriptsMixin(StoreBase):
                 f"ON t.id = u.transcript WHERE t.tid IN ({q})",
                 chunk,
             ):
-                found[tid] = [(u[1], u[4]) for u in json.loads(packed)]
+                units = json.loads(packed)
+                found[tid] = (
+                    [(u[1], u[4], u[0]) for u in units]
+                    if speakers
+                    else [(u[1], u[4]) for u in units]
+                )
         return [(t, found[t]) for t in dict.fromkeys(tids) if t in found]

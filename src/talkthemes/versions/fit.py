@@ -51,6 +51,7 @@ def prep_record(corpus: Any) -> dict[str, Any]:
         "boilerplate": info.get("boilerplate", []),
         "chain_version": info.get("chain_version", ""),
         "lemmas": info.get("lemmas", {}),
+        "names": info.get("names", {}),
         "excluded": [[t, r] for t, r in corpus.excluded],
         "corpus_fingerprint": info.get("corpus_fingerprint", ""),
     }

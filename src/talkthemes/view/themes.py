@@ -7,11 +7,13 @@ they are now, every time; the suggested names are stored with the version.
 
 from __future__ import annotations
 
+import json
+
 import numpy as np
 import pandas as pd
 
 from talkthemes.metrics.prominence import boilerplate_like
-from talkthemes.privacy import name_term
+from talkthemes.privacy import name_term, prep_words
 from talkthemes.text import percent
 from talkthemes.versions.load import Version
 from talkthemes.view.theme_map import ThemeLayout
@@ -78,7 +80,9 @@ def shown_terms(version: Version, position: int, n: int = 10, lam: float = 1.0) 
 
     Terms holding a first name (:func:`talkthemes.privacy.name_term`, e.g. an agent's
     name said in every greeting) are personal data; they are skipped and the next terms
-    take their place.
+    take their place, unless the version's preparation decided they are words
+    (:func:`talkthemes.privacy.prep_words`: ``[prepare] not_names``, first names the
+    corpus uses as words).
     """
     return term_rows(version, position, n=n, lam=lam)["term"].tolist()
 
@@ -86,10 +90,28 @@ def shown_terms(version: Version, position: int, n: int = 10, lam: float = 1.0) 
 def term_rows(version: Version, position: int, *, n: int = 20, lam: float = 0.6) -> pd.DataFrame:
     """``Version.term_table`` of a theme without person-name terms (see :func:`shown_terms`)."""
     table = version.term_table(position, n=n + 25, lam=lam)
-    keep = ~table["term"].map(name_term).astype(bool)
+    words = _prep_words(version)
+    keep = ~table["term"].map(lambda t: name_term(t, words=words)).astype(bool)
     out = table[keep].head(n).reset_index(drop=True)
     out["rank"] = range(1, len(out) + 1)
     return out
+
+
+def _prep_words(version: Version) -> frozenset[str]:
+    """The words the version's preparation kept though they are first names (read once per
+    loaded version from its ``prep.json``)."""
+    cache = getattr(version, "_cache", None)
+    if cache is not None and "view.prep_words" in cache:
+        return cache["view.prep_words"]
+    path = version.folder / "prep.json"
+    try:
+        info = json.loads(path.read_text(encoding="utf-8")) if path.is_file() else {}
+    except (OSError, ValueError):  # unreadable: every first-name term stays hidden
+        info = {}
+    words = prep_words(info if isinstance(info, dict) else {})
+    if cache is not None:
+        cache["view.prep_words"] = words
+    return words
 
 
 def theme_names(version: Version) -> list[str]:
