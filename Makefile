@@ -22,7 +22,7 @@ demo: install
 	$(BIN)/talkthemes demo --size $(DEMO_SIZE) --workspace $(DEMO_WS) --port $(PORT)
 
 test: install
-	$(BIN)/python -m pytest -q
+	TALKTHEMES_STRICT_RECORDS=1 $(BIN)/python -m pytest -q  # dict-style access to store records fails
 
 lint: install
 	$(BIN)/ruff check src tests bench

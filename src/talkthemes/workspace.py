@@ -21,6 +21,7 @@ from pathlib import Path
 
 from talkthemes.config import SETTINGS_FILE, Settings, load_settings, render_settings
 from talkthemes.errors import InputError, NotReadyError, WorkspaceBusyError
+from talkthemes.store import Store
 
 __all__ = [
     "DEFAULT_WORKSPACE",
@@ -153,8 +154,6 @@ class Workspace:
             True when something was created, False when the workspace already existed
             (nothing is overwritten).
         """
-        from talkthemes.store import Store
-
         if self.root.exists() and not self.root.is_dir():
             raise InputError(f"{self.root}: exists and is not a folder")
         created = False
@@ -180,8 +179,6 @@ class Workspace:
 
     def store(self):  # -> Store (imported lazily to keep import time low)
         """Open the store (creating or migrating it as needed)."""
-        from talkthemes.store import Store
-
         self.require()
         return Store.open(self.db_path)
 

@@ -83,3 +83,18 @@ def test_only_the_transcript_view_asks_the_prepare_step() -> None:
             "talkthemes.prepare.lexicon.load_lemma_table",
         ]
     }
+
+
+#: The domain: what the three faces (CLI, viewer, service) and the public API stand on.
+DOMAIN = ("store", "ingest", "prepare", "models", "metrics", "sweep", "versions", "refresh",
+          "text", "assign.py", "workspace.py", "config.py", "errors.py", "progress.py",
+          "trends.py", "export_table.py", "privacy.py")  # fmt: skip
+#: What sits above it: presentation, the faces and the public API over them.
+ABOVE_DOMAIN = ("streamlit", "altair", "vl_convert", "talkthemes.charts", "talkthemes.view",
+                "talkthemes.app", "talkthemes.report", "talkthemes.cli", "talkthemes.service",
+                "talkthemes.serve", "talkthemes.api", "talkthemes.demo")  # fmt: skip
+
+
+@pytest.mark.parametrize("package", DOMAIN)
+def test_the_domain_never_imports_presentation_or_a_face(package: str) -> None:
+    assert offending(files(package), ABOVE_DOMAIN) == {}

@@ -46,6 +46,7 @@ def test_first_name_terms_hidden_unless_the_prep_kept_them_as_words(tmp_path: Pa
     version = make_version(np.ones((2, 1)), topic_terms=topic_terms, vocabulary=vocabulary)
     version.folder = tmp_path
     assert shown_terms(version, 0, 3) == ["router", "reset", "signal"]  # no prep.json
+    assert theme_names(version) == ["Router · reset"]  # the suggested name leaves them out too
     prep = {
         "settings": {"not_names": ["Jasper"]},  # a product that shares a first name
         "names": {"in_use": ["amber"], "named": []},  # the corpus uses it as a word
@@ -54,7 +55,7 @@ def test_first_name_terms_hidden_unless_the_prep_kept_them_as_words(tmp_path: Pa
     fresh = make_version(np.ones((2, 1)), topic_terms=topic_terms, vocabulary=vocabulary)
     fresh.folder = tmp_path
     assert shown_terms(fresh, 0, 3) == ["jasper", "amber", "router"]
-    assert theme_names(fresh) == ["jasper · amber · router"]
+    assert theme_names(fresh) == ["Jasper · amber"]  # words the prep kept may name it
 
 
 def test_a_sparse_nmf_theme_lists_only_the_words_it_weighs_and_its_chart_draws() -> None:

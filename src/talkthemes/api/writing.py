@@ -26,6 +26,7 @@ from .results import Label
 
 if TYPE_CHECKING:  # heavy (numpy, pandas, gensim, Dask): imported on first use, _deferred.py
     from talkthemes import assign as assign_mod
+    from talkthemes.api import drift_picture
     from talkthemes.ingest import run as ingest_run
     from talkthemes.prepare import run as prepare_run
     from talkthemes.refresh import run as refresh_run
@@ -36,6 +37,7 @@ else:
     assign_mod = deferred("talkthemes.assign")
     ingest_run = deferred("talkthemes.ingest.run")
     prepare_run = deferred("talkthemes.prepare.run")
+    drift_picture = deferred("talkthemes.api.drift_picture")
     refresh_run = deferred("talkthemes.refresh.run")
     sweep_run = deferred("talkthemes.sweep.run")
     versions_load = deferred("talkthemes.versions.load")
@@ -373,7 +375,7 @@ class WritingMixin(WorkspaceBase):
                 alert_on_rise=alert_on_rise,
                 alerts=alerts,
                 progress=progress,
-                **options,
+                **{"drift_png": drift_picture.drift_png, **options},
             )
 
     def label(

@@ -26,6 +26,7 @@ from __future__ import annotations
 import json
 import logging
 from dataclasses import dataclass, field
+from importlib.metadata import PackageNotFoundError, version
 from pathlib import Path
 from typing import Any
 
@@ -55,8 +56,6 @@ FILES = (
 def library_versions() -> dict[str, str]:
     """Versions of the libraries whose data or behaviour shape a prep (faker: the
     first-name list of the names step)."""
-    from importlib.metadata import PackageNotFoundError, version
-
     out = {}
     for name in ("spacy", "spacy-lookups-data", "gensim", "faker"):
         try:

@@ -24,14 +24,14 @@ from talkthemes.refresh.alert_step import alerts_of
 from talkthemes.versions.alerts import AlertRules, with_alerts
 from talkthemes.versions.align import Alignment, Calibration
 from talkthemes.versions.curation import curation_markdown
-from talkthemes.versions.drift import ThemeSide, best_examples, drift_frame, drift_report
+from talkthemes.versions.drift import ThemeSide, best_examples, drift_report
 from talkthemes.versions.drift_markdown import render_markdown
 from talkthemes.versions.fit import FittedVersion
 from talkthemes.versions.load import Version
 from talkthemes.versions.write import ExtraFiles, ThemePlan
 from talkthemes.workspace import Workspace
 
-__all__ = ["DriftPng", "default_drift_png", "drift_files", "drift_of", "excerpt", "theme_plan"]
+__all__ = ["DriftPng", "drift_files", "drift_of", "excerpt", "theme_plan"]
 
 #: ``drift_png(report) -> bytes``: the drift chart of a report as PNG.
 DriftPng = Callable[[dict[str, Any]], bytes]
@@ -141,17 +141,17 @@ def theme_plan(report: dict[str, Any]) -> ThemePlan:
 
 
 def drift_files(report: dict[str, Any], drift_png: DriftPng | None = None) -> ExtraFiles:
-    """The writer of ``drift.json``, ``drift.md`` and ``drift.png`` into a version folder.
+    """The writer of ``drift.json``, ``drift.md`` (and ``drift.png``) into a version folder.
 
     Parameters
     ----------
     report : dict
         The drift report; its ``version`` is set to the version's number when written.
     drift_png : callable, optional
-        ``drift_png(report) -> bytes``, the PNG of the drift chart; by default
-        :func:`default_drift_png`.
+        ``drift_png(report) -> bytes``, the PNG of the drift chart. The refresh draws
+        nothing itself (it is domain code): the public API passes
+        :func:`talkthemes.api.drift_picture.drift_png`; without one, no ``drift.png``.
     """
-    render_png = drift_png or default_drift_png
 
     def write(folder: Path, n: int, ids: list[int]) -> None:
         report["version"] = n
@@ -161,21 +161,7 @@ def drift_files(report: dict[str, Any], drift_png: DriftPng | None = None) -> Ex
         (folder / "drift.md").write_text(
             render_markdown(report) + curation_markdown(report), encoding="utf-8"
         )
-        (folder / "drift.png").write_bytes(render_png(report))
+        if drift_png is not None:
+            (folder / "drift.png").write_bytes(drift_png(report))
 
     return write
-
-
-def default_drift_png(report: dict[str, Any]) -> bytes:
-    """The drift chart as PNG bytes, drawn by the presentation layer.
-
-    The one place the refresh reaches into presentation: the faces should pass their own
-    ``drift_png`` to :func:`talkthemes.refresh.refresh`; this default keeps the file being
-    written until they do.
-    """
-    # Deferred on purpose: Altair and the PNG renderer are heavy and belong to the
-    # presentation layer; only this default renderer needs them.
-    from talkthemes.charts.drift import drift_chart
-    from talkthemes.charts.render import chart_png
-
-    return chart_png(drift_chart(drift_frame(report)))

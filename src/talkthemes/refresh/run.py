@@ -477,5 +477,6 @@ def _run(
     result.retired_themes = [
         {"theme_id": t["theme_id"], "name": t["name"]} for t in drift["retired"]
     ]
-    result.drift_files = [str(folder / f) for f in ("drift.json", "drift.md", "drift.png")]
+    drawn = ("drift.json", "drift.md", *(("drift.png",) if drift_png is not None else ()))
+    result.drift_files = [str(folder / f) for f in drawn]
     result.curation = drift["curation"]

@@ -163,10 +163,25 @@ class Version:
                     self.term_marginal(),
                     self.vocabulary,
                     order=np.argsort(-self.topic_weights(), kind="stable"),
-                    skip=_name_term(),
+                    skip=_name_term(self.prep_words()),
                 )
             names = self._cache["suggested"]
         return [str(x) for x in names]
+
+    def prep_words(self) -> frozenset[str]:
+        """The first names this version's preparation kept as words (its ``prep.json``:
+        ``[prepare] not_names`` and first names the corpus uses as words; read once)."""
+        if "prep_words" not in self._cache:
+            # Deferred on purpose: privacy loads the preparation chain (see _name_term).
+            from talkthemes.privacy import prep_words
+
+            path = self.folder / "prep.json"
+            try:
+                info = json.loads(path.read_text(encoding="utf-8")) if path.is_file() else {}
+            except (OSError, ValueError):  # unreadable: every first-name term stays hidden
+                info = {}
+            self._cache["prep_words"] = prep_words(info if isinstance(info, dict) else {})
+        return self._cache["prep_words"]
 
     def names(self) -> list[str]:
         """Display name of each theme: its label, or its suggested name until labelled."""
@@ -301,13 +316,14 @@ def _fold_info(info: dict[str, Any], groups: list[Group], weights: np.ndarray) -
     return out
 
 
-def _name_term() -> Callable[[str], bool]:
-    """:func:`talkthemes.privacy.name_term`: person names are never in a suggested name."""
+def _name_term(words: frozenset[str] = frozenset()) -> Callable[[str], bool]:
+    """:func:`talkthemes.privacy.name_term`: person names are never in a suggested name,
+    unless the version's preparation decided they are words (``words``)."""
     # Deferred on purpose: privacy loads the preparation chain (about a second), needed
     # here only to name merged themes and versions written before names were stored.
     from talkthemes.privacy import name_term
 
-    return name_term
+    return lambda term: name_term(term, words=words)
 
 
 def _name_merged(version: Version) -> None:
@@ -322,7 +338,7 @@ def _name_merged(version: Version) -> None:
         version.term_marginal(),
         version.vocabulary,
         taken=taken,
-        skip=_name_term(),
+        skip=_name_term(version.prep_words()),
     )
     for i, name in zip(missing, fresh, strict=True):
         names[i] = name

@@ -27,7 +27,7 @@ import numpy as np
 
 from talkthemes.errors import InputError
 from talkthemes.prepare.frozen import PrepSpec
-from talkthemes.privacy import name_term
+from talkthemes.privacy import name_term, prep_words
 from talkthemes.versions.evidence import EVIDENCE_FILE, evidence_document
 from talkthemes.versions.evidence_build import build_evidence
 from talkthemes.versions.fit import FittedVersion
@@ -186,13 +186,15 @@ def _labelling_aids(ws: Workspace, fitted: FittedVersion) -> tuple[list[str], li
         dtype=np.float64,
     )
     marginal = (weights / weights.sum()) @ phi
+    kept_words = prep_words(fitted.prep_info)
     names = suggest_names(
         phi,
         marginal,
         fitted.vocabulary,
         lam=lam,
         order=np.argsort(-weights, kind="stable"),
-        skip=name_term,  # a person's name is personal data, never a theme's name
+        # a person's name is personal data, never a theme's name (unless the prep kept it)
+        skip=lambda term: name_term(term, words=kept_words),
     )
     spec = PrepSpec.from_prep_info(fitted.prep_info, fitted.vocabulary)
     with ws.store() as store:

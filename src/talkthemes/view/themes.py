@@ -7,13 +7,11 @@ they are now, every time; the suggested names are stored with the version.
 
 from __future__ import annotations
 
-import json
-
 import numpy as np
 import pandas as pd
 
 from talkthemes.metrics.prominence import boilerplate_like
-from talkthemes.privacy import name_term, prep_words
+from talkthemes.privacy import name_term
 from talkthemes.text import percent
 from talkthemes.versions.load import Version
 from talkthemes.view.theme_map import ThemeLayout
@@ -98,20 +96,8 @@ def term_rows(version: Version, position: int, *, n: int = 20, lam: float = 0.6)
 
 
 def _prep_words(version: Version) -> frozenset[str]:
-    """The words the version's preparation kept though they are first names (read once per
-    loaded version from its ``prep.json``)."""
-    cache = getattr(version, "_cache", None)
-    if cache is not None and "view.prep_words" in cache:
-        return cache["view.prep_words"]
-    path = version.folder / "prep.json"
-    try:
-        info = json.loads(path.read_text(encoding="utf-8")) if path.is_file() else {}
-    except (OSError, ValueError):  # unreadable: every first-name term stays hidden
-        info = {}
-    words = prep_words(info if isinstance(info, dict) else {})
-    if cache is not None:
-        cache["view.prep_words"] = words
-    return words
+    """The words the version's preparation kept though they are first names."""
+    return version.prep_words()
 
 
 def theme_names(version: Version) -> list[str]:
