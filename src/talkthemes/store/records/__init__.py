@@ -29,8 +29,7 @@ Modules: :mod:`.sweeps` (preps, sweeps, cells), :mod:`.versions` (versions, them
 retired themes, refreshes), :mod:`.curation` (the curation log), :mod:`.ingest` (same-text
 pairs, turns), :mod:`.summary` (``status``'s counts and stages), :mod:`._base` (the
 read-only JSON object). Import the
-types from this package. :mod:`.transitional` holds the dict-style access kept for code
-written before typed records (to be removed).
+types from this package; read records by attribute (they have no dict-style access).
 """
 
 from talkthemes.store.records._base import ReadOnlyDict

@@ -11,7 +11,6 @@ from dataclasses import dataclass
 from typing import Any
 
 from talkthemes.store.records._base import EMPTY
-from talkthemes.store.records.transitional import DictAccess
 
 __all__ = [
     "LikelyReexports",
@@ -82,7 +81,7 @@ class LikelyReexports:
 
 
 @dataclass(frozen=True, slots=True)
-class StoreSummary(DictAccess):
+class StoreSummary:
     """The counts ``status`` shows of what the store holds.
 
     Attributes
@@ -144,10 +143,6 @@ class StoreSummary(DictAccess):
             "same_text_pairs": self.same_text_pairs,
         }
 
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return self.to_json()
-
 
 @dataclass(frozen=True, slots=True)
 class PreparedStage:
@@ -187,7 +182,7 @@ class PublishedStage:
 
 
 @dataclass(frozen=True, slots=True)
-class Stages(DictAccess):
+class Stages:
     """Where each stage after ingest stands (None: not reached yet)."""
 
     prepared: PreparedStage | None = None
@@ -201,7 +196,3 @@ class Stages(DictAccess):
             "swept": None if self.swept is None else self.swept.to_json(),
             "published": None if self.published is None else self.published.to_json(),
         }
-
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return self.to_json()

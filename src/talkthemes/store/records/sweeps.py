@@ -15,14 +15,13 @@ from talkthemes.store.records._base import (
     opt_int,
     opt_str,
 )
-from talkthemes.store.records.transitional import DictAccess
 
 __all__ = ["CellRecord", "PrepRecord", "SweepRecord"]
 
 
 # -- preps ----------------------------------------------------------------------------------
 @dataclass(frozen=True, slots=True)
-class PrepRecord(DictAccess):
+class PrepRecord:
     """A prepared corpus (``preps`` row).
 
     Attributes
@@ -64,14 +63,10 @@ class PrepRecord(DictAccess):
             info=doc,
         )
 
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return {**self.info, "hash": self.hash, "created_at": self.created_at}
-
 
 # -- sweeps and cells -----------------------------------------------------------------------
 @dataclass(frozen=True, slots=True)
-class SweepRecord(DictAccess):
+class SweepRecord:
     """A sweep (``sweeps`` row) and what it recorded.
 
     Attributes
@@ -138,20 +133,9 @@ class SweepRecord(DictAccess):
             info=doc,
         )
 
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return {
-            **self.info,
-            "id": self.id,
-            "prep_hash": self.prep_hash,
-            "created_at": self.created_at,
-            "finished_at": self.finished_at,
-            "status": self.status,
-        }
-
 
 @dataclass(frozen=True, slots=True)
-class CellRecord(DictAccess):
+class CellRecord:
     """A finished sweep cell (``cells`` row): one model fit and its metrics.
 
     Attributes
@@ -217,7 +201,3 @@ class CellRecord(DictAccess):
             "seed": self.seed,
             **self.metrics,
         }
-
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return self.row()

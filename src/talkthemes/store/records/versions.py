@@ -15,7 +15,6 @@ from talkthemes.store.records._base import (
     opt_int,
     opt_str,
 )
-from talkthemes.store.records.transitional import DictAccess
 
 __all__ = [
     "LabelRecord",
@@ -68,7 +67,7 @@ class VersionRefresh:
 
 
 @dataclass(frozen=True, slots=True)
-class VersionRecord(DictAccess):
+class VersionRecord:
     """A published version (``versions`` row).
 
     Attributes
@@ -124,10 +123,6 @@ class VersionRecord(DictAccess):
             info=doc,
         )
 
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return {"n": self.n, "created_at": self.created_at, "current": self.current, **self.info}
-
 
 @dataclass(frozen=True, slots=True)
 class NearestTheme:
@@ -146,7 +141,7 @@ class NearestTheme:
 
 
 @dataclass(frozen=True, slots=True)
-class ThemeRecord(DictAccess):
+class ThemeRecord:
     """A theme of a version (``themes`` row) with its label, note and hidden flag.
 
     Attributes
@@ -215,21 +210,9 @@ class ThemeRecord(DictAccess):
             info=doc,
         )
 
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return {
-            "theme_id": self.theme_id,
-            "position": self.position,
-            "status": self.status,
-            "info": self.info,
-            "label": self.label,
-            "note": self.note,
-            "hidden": self.hidden,
-        }
-
 
 @dataclass(frozen=True, slots=True)
-class RetiredTheme(DictAccess):
+class RetiredTheme:
     """A theme a version retired (``retired_themes`` row), with its label, note and flag.
 
     Attributes
@@ -273,19 +256,9 @@ class RetiredTheme(DictAccess):
             info=doc,
         )
 
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return {
-            "theme_id": self.theme_id,
-            "info": self.info,
-            "label": self.label,
-            "note": self.note,
-            "hidden": self.hidden,
-        }
-
 
 @dataclass(frozen=True, slots=True)
-class LabelRecord(DictAccess):
+class LabelRecord:
     """A theme's label, note and hidden flag as stored (``labels`` row)."""
 
     theme_id: int
@@ -302,14 +275,10 @@ class LabelRecord(DictAccess):
             "hidden": self.hidden,
         }
 
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return self.to_json()
-
 
 # -- the refresh log ------------------------------------------------------------------------
 @dataclass(frozen=True, slots=True)
-class RefreshRecord(DictAccess):
+class RefreshRecord:
     """A refresh run (``refreshes`` row), from its start to its final status.
 
     Attributes
@@ -372,15 +341,3 @@ class RefreshRecord(DictAccess):
             error=opt_str(doc.get("error")),
             info=doc,
         )
-
-    # transitional: dict-style access for code written before typed records
-    def _legacy_dict(self) -> dict[str, Any]:
-        return {
-            **self.info,
-            "id": self.id,
-            "started_at": self.started_at,
-            "finished_at": self.finished_at,
-            "status": self.status,
-            "previous_version": self.previous_version,
-            "version": self.version,
-        }
