@@ -7,7 +7,8 @@ could replace SQLite later without touching them. :class:`Store` is composed of 
 per group of tables: :mod:`~talkthemes.store.runs` (ingest runs, rejects, same-text
 pairs, the summary), :mod:`~talkthemes.store.transcripts` (transcripts, turns, metadata),
 :mod:`~talkthemes.store.sweeps` (preps, sweeps, cells), :mod:`~talkthemes.store.versions`
-(versions, themes, labels, retired themes) and :mod:`~talkthemes.store.refreshes`.
+(versions, themes, labels, retired themes), :mod:`~talkthemes.store.refreshes` and
+:mod:`~talkthemes.store.tokens` (the HTTP service's access tokens).
 """
 
 from __future__ import annotations
@@ -23,13 +24,16 @@ from talkthemes.store.runs import IngestRunsMixin
 from talkthemes.store.schema import _MIGRATIONS, SCHEMA_VERSION, check_version, connect, migrate
 from talkthemes.store.schema import read_schema_version as _read_schema_version
 from talkthemes.store.sweeps import SweepsMixin
+from talkthemes.store.tokens import TokensMixin
 from talkthemes.store.transcripts import AddOutcome, TranscriptsMixin
 from talkthemes.store.versions import VersionsMixin
 
 __all__ = ["SCHEMA_VERSION", "AddOutcome", "Store", "StoredTurn", "TextMatch", "now_iso"]
 
 
-class Store(IngestRunsMixin, TranscriptsMixin, SweepsMixin, VersionsMixin, RefreshesMixin):
+class Store(
+    IngestRunsMixin, TranscriptsMixin, SweepsMixin, VersionsMixin, RefreshesMixin, TokensMixin
+):
     """The SQLite store of a workspace. Open with :meth:`Store.open`."""
 
     # -- opening ---------------------------------------------------------------

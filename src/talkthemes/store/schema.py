@@ -145,6 +145,23 @@ _MIGRATIONS: list[Migration] = [
     lambda conn: _pack_turns(conn),
     # 5: identity first: a text hash no longer unique; same-text pairs (see _identity_first)
     lambda conn: _identity_first(conn),
+    # 6: reserved for the migration of another branch (see _reserved_6)
+    lambda conn: _reserved_6(conn),
+    # 7: the HTTP service's access tokens (salted hashes only; see talkthemes.api.tokens)
+    """
+    CREATE TABLE tokens (
+        id INTEGER PRIMARY KEY,
+        name TEXT NOT NULL,
+        key_id TEXT NOT NULL UNIQUE,
+        scope TEXT NOT NULL CHECK (scope IN ('read', 'write')),
+        salt BLOB NOT NULL,
+        digest BLOB NOT NULL,
+        kdf TEXT NOT NULL,
+        created_at TEXT NOT NULL,
+        revoked_at TEXT
+    );
+    CREATE UNIQUE INDEX tokens_active_name ON tokens(name) WHERE revoked_at IS NULL;
+    """,
 ]
 
 SCHEMA_VERSION = len(_MIGRATIONS)
@@ -347,3 +364,13 @@ def _identity_first(conn: sqlite3.Connection) -> None:
         )
         """
     )
+
+
+def _reserved_6(conn: sqlite3.Connection) -> None:
+    """Migration 6: nothing on this branch.
+
+    Another branch adds migration 6 (its own tables); the tokens table is migration 7 and
+    uses none of them. When the branches are merged, that branch's step replaces this one
+    (a store migrated past 6 by this placeholder exists only in development).
+    """
+    del conn
