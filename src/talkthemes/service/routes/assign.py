@@ -1,0 +1,105 @@
+"""``POST /v1/assign``: the theme shares of new transcripts, from one version."""
+
+from __future__ import annotations
+
+import math
+from typing import Annotated, Any
+
+from fastapi import APIRouter, Query
+
+from talkthemes.service.auth import ReadToken, insufficient_scope
+from talkthemes.service.errors import ApiError
+from talkthemes.service.models import AssignIn, AssignOut
+from talkthemes.service.routes import errors
+from talkthemes.service.routes._items import records_of
+from talkthemes.service.state import StateDep
+
+router = APIRouter(tags=["assign"])
+
+
+def _number(value: Any) -> float | None:
+    """A float of the table, None for a missing value."""
+    if value is None:
+        return None
+    value = float(value)
+    return None if math.isnan(value) else value
+
+
+@router.post(
+    "/assign",
+    response_model=AssignOut,
+    responses=errors(400, 401, 403, 404, 409, 413, 415, 422),
+    summary="Theme shares of new transcripts",
+)
+def assign(
+    state: StateDep,
+    token: ReadToken,
+    body: AssignIn,
+    version: Annotated[
+        int | None, Query(ge=1, description="A kept version (default: the current one).")
+    ] = None,
+    store: Annotated[
+        bool, Query(description="Also store the transcripts (needs the write scope and ids).")
+    ] = False,
+) -> dict[str, Any]:
+    """Prepare each transcript exactly as the version's training calls were and infer its
+    theme shares: the lead theme, its share, and the share of every theme. Nothing is
+    stored unless ``store=true``. Every result of one request comes from the same version
+    (named in the answer), even while a refresh publishes a new one. A transcript that
+    cannot be used (an empty text) fails the request with 422, naming it."""
+    if store and token.scope != "write":
+        raise insufficient_scope(token, "assign with store=true")
+    records = records_of(state, body.items)
+    if store:
+        missing = [i for i, r in enumerate(records) if "id" not in r]
+        if missing:
+            raise ApiError(
+                422,
+                "invalid_request",
+                f"store=true needs an id on every item (missing on item {missing[0]})",
+                details=[{"field": f"items[{i}].id", "message": "required"} for i in missing],
+            )
+    result = state.ws.assign_records(records, version=state.version_number(version))
+    if result.rejects:
+        raise ApiError(
+            422,
+            "rejected_items",
+            f"{len(result.rejects)} of {len(records)} transcripts cannot be assigned: "
+            f"{result.rejects[0].reason}",
+            details=[{"index": r.row, "reason": r.reason} for r in result.rejects],
+        )
+    v = state.ws.version(result.version)
+    names = [t.label.strip() or s for t, s in zip(v.themes, state.suggested_names(v), strict=True)]
+    by_id = dict(zip(v.theme_ids, names, strict=True))
+    frame = result.shares
+    share_cols = [f"share_{t}" for t in v.theme_ids]
+    shares = frame[share_cols].to_numpy(dtype=float, na_value=math.nan)
+    results = []
+    for i, row in enumerate(frame.itertuples(index=False)):
+        lead = (
+            None
+            if row.lead_theme_id is None or row.lead_theme_id != row.lead_theme_id
+            else int(row.lead_theme_id)
+        )
+        known = lead is not None
+        results.append(
+            {
+                "id": str(row.transcript_id),
+                "lead_theme_id": lead,
+                "lead_theme_name": by_id.get(lead) if known else None,
+                "lead_share": _number(row.lead_share) if known else None,
+                "shares": [
+                    {"theme_id": t, "share": float(s)}
+                    for t, s in zip(v.theme_ids, shares[i], strict=True)
+                ]
+                if known
+                else None,
+                "known_terms": int(row.known_terms),
+                "reason": str(row.reason or ""),
+            }
+        )
+    stored = None
+    if store:
+        with state.writing():
+            stored = state.ws.ingest_records(records, source="service").to_json()
+    return {"version": result.version, "results": results, "stored": stored}
