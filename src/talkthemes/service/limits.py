@@ -16,10 +16,6 @@ from starlette.types import ASGIApp, Message, Receive, Scope, Send
 __all__ = ["BodyLimit"]
 
 
-class _TooLargeError(Exception):
-    """The body passed the limit while it was being read."""
-
-
 class BodyLimit:
     """Refuse request bodies over ``max_bytes`` (see the module notes).
 
@@ -48,28 +44,30 @@ class BodyLimit:
                 await _refuse(send, 413, "body_too_large", self._message())
                 return
         seen = 0
-        started = False
+        started = refused = False
 
         async def counted() -> Message:
-            nonlocal seen
+            # Past the limit, answer 413 here and tell the app the client went away: the
+            # app's own answer to that is dropped (see ``watched``).
+            nonlocal seen, refused
             message = await receive()
-            if message["type"] == "http.request":
+            if message["type"] == "http.request" and not refused:
                 seen += len(message.get("body", b""))
                 if seen > self.max_bytes:
-                    raise _TooLargeError
+                    refused = True
+                    if not started:
+                        await _refuse(send, 413, "body_too_large", self._message())
+                    return {"type": "http.disconnect"}
             return message
 
         async def watched(message: Message) -> None:
             nonlocal started
+            if refused:
+                return
             started = started or message["type"] == "http.response.start"
             await send(message)
 
-        try:
-            await self.app(scope, counted, watched)
-        except _TooLargeError:
-            if started:
-                raise
-            await _refuse(send, 413, "body_too_large", self._message())
+        await self.app(scope, counted, watched)
 
     def _message(self) -> str:
         mb = self.max_bytes / 1_000_000

@@ -12,17 +12,9 @@ from talkthemes.service.errors import ApiError
 from talkthemes.service.models import AssignIn, AssignOut
 from talkthemes.service.routes import errors
 from talkthemes.service.routes._items import records_of
-from talkthemes.service.state import StateDep
+from talkthemes.service.state import ServiceState, StateDep
 
 router = APIRouter(tags=["assign"])
-
-
-def _number(value: Any) -> float | None:
-    """A float of the table, None for a missing value."""
-    if value is None:
-        return None
-    value = float(value)
-    return None if math.isnan(value) else value
 
 
 @router.post(
@@ -68,38 +60,46 @@ def assign(
             f"{result.rejects[0].reason}",
             details=[{"index": r.row, "reason": r.reason} for r in result.rejects],
         )
-    v = state.ws.version(result.version)
+    return {
+        "version": result.version,
+        "results": _results(state, result.version, result.shares),
+        "stored": _store(state, records) if store else None,
+    }
+
+
+def _store(state: ServiceState, records: list[dict[str, Any]]) -> dict[str, Any]:
+    with state.writing():
+        return state.ws.ingest_records(records, source="service").to_json()
+
+
+def _results(state: ServiceState, n: int, frame: Any) -> list[dict[str, Any]]:
+    """The rows of the API's assignment table as the answer's results."""
+    v = state.ws.version(n)
     names = [t.label.strip() or s for t, s in zip(v.themes, state.suggested_names(v), strict=True)]
-    by_id = dict(zip(v.theme_ids, names, strict=True))
-    frame = result.shares
-    share_cols = [f"share_{t}" for t in v.theme_ids]
-    shares = frame[share_cols].to_numpy(dtype=float, na_value=math.nan)
+    ids = frame["transcript_id"].astype(str).tolist()
+    leads = frame["lead_theme_id"].to_numpy(dtype=float, na_value=math.nan)
+    lead_shares = frame["lead_share"].to_numpy(dtype=float, na_value=math.nan)
+    shares = frame[[f"share_{t}" for t in v.theme_ids]].to_numpy(dtype=float, na_value=math.nan)
+    known_terms = frame["known_terms"].to_numpy(dtype=int)
+    reasons = frame["reason"].fillna("").astype(str).tolist()
     results = []
-    for i, row in enumerate(frame.itertuples(index=False)):
-        lead = (
-            None
-            if row.lead_theme_id is None or row.lead_theme_id != row.lead_theme_id
-            else int(row.lead_theme_id)
-        )
-        known = lead is not None
+    for i, tid in enumerate(ids):
+        known = not math.isnan(leads[i])
+        lead = int(leads[i]) if known else None
         results.append(
             {
-                "id": str(row.transcript_id),
+                "id": tid,
                 "lead_theme_id": lead,
-                "lead_theme_name": by_id.get(lead) if known else None,
-                "lead_share": _number(row.lead_share) if known else None,
+                "lead_theme_name": names[v.theme_ids.index(lead)] if known else None,
+                "lead_share": float(lead_shares[i]) if known else None,
                 "shares": [
-                    {"theme_id": t, "share": float(s)}
-                    for t, s in zip(v.theme_ids, shares[i], strict=True)
+                    {"theme_id": t, "share": float(x)}
+                    for t, x in zip(v.theme_ids, shares[i], strict=True)
                 ]
                 if known
                 else None,
-                "known_terms": int(row.known_terms),
-                "reason": str(row.reason or ""),
+                "known_terms": int(known_terms[i]),
+                "reason": reasons[i],
             }
         )
-    stored = None
-    if store:
-        with state.writing():
-            stored = state.ws.ingest_records(records, source="service").to_json()
-    return {"version": result.version, "results": results, "stored": stored}
+    return results
