@@ -53,10 +53,10 @@ class Service:
         """The Authorization header with the ``scope`` token."""
         return {"Authorization": f"Bearer {self.read if scope == 'read' else self.write}"}
 
-    def get(self, url: str, scope: str = "read", **kwargs: object):  # noqa: ANN201
+    def get(self, url: str, scope: str = "read", **kwargs: object):
         return self.client.get(url, headers=self.headers(scope), **kwargs)
 
-    def post(self, url: str, scope: str = "read", **kwargs: object):  # noqa: ANN201
+    def post(self, url: str, scope: str = "read", **kwargs: object):
         return self.client.post(url, headers=self.headers(scope), **kwargs)
 
 

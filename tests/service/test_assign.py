@@ -4,7 +4,6 @@ from one named version; bad items are a 422 naming them; storing needs the write
 from __future__ import annotations
 
 import pytest
-
 from tests.service.conftest import Service, copy_workspace, error_of, start
 
 TEXTS = [
@@ -110,7 +109,7 @@ def test_empty_texts_are_422_naming_each(service: Service) -> None:
     assert all("empty text" in d["reason"] for d in err["details"])
 
 
-def test_too_many_items_are_refused(published_root, tmp_path) -> None:  # noqa: ANN001
+def test_too_many_items_are_refused(published_root, tmp_path) -> None:
     for service in start(copy_workspace(published_root, tmp_path / "ws"), max_items=3):
         res = service.post("/v1/assign", json={"items": [{"text": "a"}] * 4})
         assert res.status_code == 422

@@ -6,7 +6,6 @@ from __future__ import annotations
 import logging
 
 import pytest
-
 from tests.service.conftest import Service, error_of
 
 #: Every endpoint behind a token: (method, path, body, scope it needs).
@@ -23,7 +22,7 @@ ENDPOINTS = [
 ]
 
 
-def _call(service: Service, method: str, path: str, body: object, headers: dict[str, str]):  # noqa: ANN202
+def _call(service: Service, method: str, path: str, body: object, headers: dict[str, str]):
     return service.client.request(method, path, json=body, headers=headers)
 
 

@@ -8,9 +8,9 @@ import logging
 from pathlib import Path
 
 import pytest
+from tests.service.conftest import Service, copy_workspace, error_of, start
 
 from talkthemes.api.calls import CallsMixin
-from tests.service.conftest import Service, copy_workspace, error_of, start
 
 
 @pytest.mark.parametrize(
@@ -43,7 +43,7 @@ def test_a_body_that_is_not_json_is_415(service: Service) -> None:
 
 
 @pytest.fixture
-def small(published_root: Path, tmp_path: Path):  # noqa: ANN201
+def small(published_root: Path, tmp_path: Path):
     """A service that takes bodies of at most 2 kB."""
     yield from start(copy_workspace(published_root, tmp_path / "ws"), max_body_mb=0.002)
 
@@ -57,7 +57,7 @@ def test_a_declared_body_over_the_limit_is_413_before_it_is_read(small: Service)
 
 
 def test_a_streamed_body_over_the_limit_is_413(small: Service) -> None:
-    def chunks():  # noqa: ANN202
+    def chunks():
         yield b'{"items": [{"text": "'
         for _ in range(100):
             yield b"meter " * 10

@@ -8,7 +8,6 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from tests.service.conftest import Service, copy_workspace, error_of, start
 
 
@@ -96,9 +95,7 @@ def test_calls_filters_by_metadata_and_date(service: Service) -> None:
     assert {c["metadata"]["queue"] for c in billing["calls"]} == {queue}
     dates = sorted(c["metadata"]["date"] for c in all_calls if "date" in c["metadata"])
     middle = dates[len(dates) // 2][:10]
-    later = service.get(
-        "/v1/themes/1/calls", params={"limit": 1000, "date_from": middle}
-    ).json()
+    later = service.get("/v1/themes/1/calls", params={"limit": 1000, "date_from": middle}).json()
     assert later["total"] == sum(d[:10] >= middle for d in dates)
     assert all(c["metadata"]["date"][:10] >= middle for c in later["calls"])
 
@@ -146,7 +143,7 @@ def test_a_call_stored_after_the_version_has_no_shares_and_says_why(service: Ser
 
 
 @pytest.fixture
-def with_text(published_root: Path, tmp_path: Path, request: pytest.FixtureRequest):  # noqa: ANN201
+def with_text(published_root: Path, tmp_path: Path, request: pytest.FixtureRequest):
     ws = copy_workspace(published_root, tmp_path / "ws")
     yield from start(ws, call_text=request.param)
 

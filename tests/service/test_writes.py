@@ -4,7 +4,6 @@ the 409s of a busy workspace."""
 from __future__ import annotations
 
 import pytest
-
 from tests.service.conftest import Service, error_of
 
 CALLS = [
