@@ -110,3 +110,20 @@ def test_an_unreadable_store_is_503(service: Service) -> None:
     db.write_bytes(b"this is not a database" * 100)
     res = service.client.get("/v1/health")
     assert res.status_code == 503 and error_of(res)["code"] == "store_unavailable"
+
+
+@pytest.mark.parametrize(
+    ("path", "body"),
+    [
+        ("/v1/transcripts", b'{"items": [{"id": "s1", "text": "hi \\ud800"}]}'),
+        ("/v1/transcripts", b'{"items": [{"id": "s\\udc00", "text": "hi"}]}'),
+        ("/v1/labels", b'{"theme_id": 1, "label": "\\udc00"}'),
+        ("/v1/assign", b'{"items": [{"text": "a", "metadata": {"q\\ud83d": "b"}}]}'),
+    ],
+)
+def test_a_lone_surrogate_is_422_not_a_crash(service: Service, path: str, body: bytes) -> None:
+    """JSON's \\u escapes can carry half a character, which no store can keep."""
+    headers = {**service.headers("write"), "Content-Type": "application/json"}
+    res = service.client.post(path, content=body, headers=headers)
+    assert res.status_code == 422, res.text
+    assert "unicode" in str(error_of(res)["message"]).lower()

@@ -116,7 +116,11 @@ def _talkthemes_error(_: Request, exc: Exception) -> JSONResponse:
 
 def _field(loc: Any) -> str:
     """``("body", "items", 3, "text")`` → ``items[3].text``."""
-    parts = [p for p in loc if p not in ("body", "query", "path", "header")]
+    parts = [
+        p if isinstance(p, int) else str(p).encode("utf-8", "replace").decode("utf-8")
+        for p in loc
+        if p not in ("body", "query", "path", "header")
+    ]
     out = ""
     for p in parts:
         out += f"[{p}]" if isinstance(p, int) else (f".{p}" if out else str(p))
