@@ -183,8 +183,9 @@ class CallsMixin(ReadingMixin):
         v = self.version(version)
         with self._dir.store() as store:
             stored = bool(store.stored_ids([call_id]))
-            meta = store.metadata_values([call_id]).get(call_id, {})
+            values = store.metadata_values([call_id])  # plain dicts, not records
             turns = store.get_turns(call_id) if stored and text != "none" else []
+        meta = values.get(call_id, {})
         try:
             row = v.doc_ids.index(call_id)
         except ValueError:
