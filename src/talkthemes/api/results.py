@@ -5,7 +5,9 @@ The long operations return the domain's result types (re-exported by
 :class:`~talkthemes.prepare.run.PrepareResult`, :class:`~talkthemes.sweep.run.SweepResult`,
 :class:`~talkthemes.versions.publish.PublishResult`,
 :class:`~talkthemes.refresh.run.RefreshResult` and :class:`~talkthemes.assign.AssignResult`.
-The types here are the ones the API adds: what ``status``, ``label`` and ``export`` return.
+The types here are the ones the API adds: what ``status``, ``label`` and ``export`` return;
+the versions, calls and pages of calls the service reads (``versions``, ``theme_calls``,
+``call``); and the access tokens (``add_token``, ``tokens``).
 """
 
 from __future__ import annotations

@@ -7,6 +7,7 @@ import os
 from talkthemes.workspace import WorkspaceDir, resolve_workspace
 
 from .calls import CallsMixin
+from .reading import ReadingMixin
 from .records import RecordsMixin
 from .tokens import TokensMixin
 from .writing import WritingMixin
@@ -14,7 +15,7 @@ from .writing import WritingMixin
 __all__ = ["Workspace"]
 
 
-class Workspace(WritingMixin, RecordsMixin, TokensMixin, CallsMixin):
+class Workspace(WritingMixin, RecordsMixin, TokensMixin, CallsMixin, ReadingMixin):
     """A talkthemes workspace, from Python: the API the command line, the viewer and the
     service are faces of.
 

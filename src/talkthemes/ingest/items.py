@@ -25,7 +25,8 @@ from talkthemes.workspace import Workspace
 
 __all__ = ["RecordOutcome", "RecordsReport", "ingest_records"]
 
-#: ``OUTCOMES`` of the file ingest, as each record's outcome is named.
+#: The outcome of a record that was not stored (the others: ``added``, ``unchanged``,
+#: ``duplicate``; the file ingest's ``OUTCOMES``).
 REJECTED = "rejected"
 
 

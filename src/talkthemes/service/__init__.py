@@ -12,7 +12,8 @@ API. ``talkthemes serve`` starts it (``docs/service.md``).
 - :mod:`~talkthemes.service.errors` — the one error shape and the status of each error;
 - :mod:`~talkthemes.service.limits` — the request body limit;
 - :mod:`~talkthemes.service.jobs` — refreshes as background jobs in their own process;
-- :mod:`~talkthemes.service.models` — the request and response bodies (the OpenAPI schema);
+- :mod:`~talkthemes.service.models`, :mod:`~talkthemes.service.responses` — the request
+  and response bodies (the OpenAPI schema);
 - :mod:`~talkthemes.service.routes` — the endpoints, one module per area;
 - :mod:`~talkthemes.service.docs_page` — the endpoint reference at ``/docs``, offline;
 - :mod:`~talkthemes.service.run` — uvicorn, the bind address checks, shutdown.

@@ -1,7 +1,7 @@
 """One JSON shape for every error, and the HTTP status of each kind of error.
 
 Every error the service answers has the body ``{"error": {"code", "message", "details"}}``
-(:class:`~talkthemes.service.models.ErrorBody`): ``code`` a stable word for programs,
+(:class:`~talkthemes.service.models.ErrorOut`): ``code`` a stable word for programs,
 ``message`` one sentence for people, ``details`` more (the fields that failed
 validation, the rejected items) or null. Bad input is a 4xx, never a 5xx (RFC 9110,
 section 15.5): malformed JSON 400, a body that is not JSON 415, too large 413, fields of

@@ -162,13 +162,6 @@ class Jobs:
             job = self._jobs.get(job_id)
             return None if job is None else dataclasses.replace(job)
 
-    def running(self) -> Job | None:
-        """The refresh job that has not finished, if any."""
-        with self._lock:
-            return next(
-                (dataclasses.replace(j) for j in self._jobs.values() if not j.finished), None
-            )
-
     def start_refresh(self, options: dict[str, Any]) -> Job:
         """Start a refresh job with ``options`` for :meth:`talkthemes.Workspace.refresh`.
 

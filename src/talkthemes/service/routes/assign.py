@@ -9,7 +9,8 @@ from fastapi import APIRouter, Query
 
 from talkthemes.service.auth import ReadToken, insufficient_scope
 from talkthemes.service.errors import ApiError
-from talkthemes.service.models import AssignIn, AssignOut
+from talkthemes.service.models import AssignIn
+from talkthemes.service.responses import AssignOut
 from talkthemes.service.routes import errors
 from talkthemes.service.routes._items import records_of
 from talkthemes.service.state import ServiceState, StateDep

@@ -9,7 +9,7 @@ from fastapi import APIRouter, Query
 from talkthemes.errors import InputError
 from talkthemes.service.auth import ReadToken
 from talkthemes.service.errors import ApiError
-from talkthemes.service.models import CallOut
+from talkthemes.service.responses import CallOut
 from talkthemes.service.routes import errors
 from talkthemes.service.state import StateDep
 

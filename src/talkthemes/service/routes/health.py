@@ -5,7 +5,8 @@ from __future__ import annotations
 from fastapi import APIRouter
 
 import talkthemes
-from talkthemes.service.models import ErrorOut, HealthOut
+from talkthemes.service.models import ErrorOut
+from talkthemes.service.responses import HealthOut
 from talkthemes.service.state import StateDep
 
 router = APIRouter(tags=["service"])

@@ -9,7 +9,8 @@ from fastapi import APIRouter, Body, Response
 from talkthemes.errors import NotReadyError
 from talkthemes.service.auth import ReadToken, WriteToken
 from talkthemes.service.errors import ApiError
-from talkthemes.service.models import JobOut, RefreshIn
+from talkthemes.service.models import RefreshIn
+from talkthemes.service.responses import JobOut
 from talkthemes.service.routes import errors
 from talkthemes.service.state import StateDep
 

@@ -9,7 +9,7 @@ from fastapi import APIRouter, Query
 
 from talkthemes.service.auth import ReadToken
 from talkthemes.service.errors import ApiError
-from talkthemes.service.models import CallsPageOut, ThemesOut, VersionsOut
+from talkthemes.service.responses import CallsPageOut, ThemesOut, VersionsOut
 from talkthemes.service.routes import errors
 from talkthemes.service.state import StateDep
 
@@ -132,7 +132,8 @@ def theme_calls(
 ) -> dict[str, Any]:
     """The calls of a theme, most dominated first, with their metadata; ``next_offset``
     gives the next page (null on the last)."""
-    limit = state.settings.page_size if limit is None else limit
+    most = state.settings.max_page_size
+    limit = min(state.settings.page_size, most) if limit is None else limit
     if limit > state.settings.max_page_size:
         raise ApiError(
             422,

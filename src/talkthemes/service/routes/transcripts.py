@@ -8,7 +8,8 @@ from fastapi import APIRouter
 
 from talkthemes.service.auth import WriteToken
 from talkthemes.service.errors import ApiError
-from talkthemes.service.models import LabelIn, LabelOut, TranscriptsIn, TranscriptsOut
+from talkthemes.service.models import LabelIn, TranscriptsIn
+from talkthemes.service.responses import LabelOut, TranscriptsOut
 from talkthemes.service.routes import errors
 from talkthemes.service.routes._items import records_of
 from talkthemes.service.state import StateDep
