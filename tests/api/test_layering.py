@@ -29,6 +29,7 @@ ALLOWED = {
     "talkthemes.charts": "the sweep chart, drawn from SweepResult.cells",
     "talkthemes.report": "the report face",
     "talkthemes.serve": "the viewer face",
+    "talkthemes.service.run": "the HTTP service face",
     "talkthemes.demo.writer": "the invented demo corpus",
 }
 

@@ -162,6 +162,7 @@ def _args(name: str, tmp_path: Path) -> list[str]:
         "label": ["1", "x"],
         "export": ["--out", str(tmp_path / "s.csv")],
         "assign": [str(call), "--out", str(tmp_path / "s.csv"), "--store"],
+        "token": ["list"],
     }
     return [name, *required.get(name, [])]
 

@@ -18,7 +18,7 @@ CLI = Path(talkthemes.cli.__file__).parent
 SHARED = {"talkthemes.cli._common", "talkthemes.cli._shared"}
 COMMANDS = {
     "init", "ingest", "status", "prepare", "sweep", "publish", "themes", "label", "export",
-    "view", "report", "demo", "refresh", "assign",
+    "view", "report", "demo", "refresh", "assign", "serve", "token",
 }  # fmt: skip
 
 
@@ -39,12 +39,13 @@ def _cli_imports(path: Path) -> set[str]:
 def test_every_command_is_registered_once() -> None:
     group = typer.main.get_command(app)
     assert set(group.commands) == COMMANDS
-    assert len(app.registered_commands) == len(COMMANDS)
+    assert len(app.registered_commands) + len(app.registered_groups) == len(COMMANDS)
 
 
 def test_command_groups_import_only_the_shared_modules() -> None:
     groups = [p for p in CLI.glob("*.py") if not p.name.startswith("_")]
-    assert {p.stem for p in groups} == {"data", "faces", "model", "refresh", "themes", "workspace"}
+    stems = {"data", "faces", "model", "refresh", "serve", "themes", "workspace"}
+    assert {p.stem for p in groups} == stems
     for path in groups:
         assert _cli_imports(path) <= SHARED, path.name
     assert _cli_imports(CLI / "_common.py") == set()

@@ -30,10 +30,24 @@ def _filler(param: typer.core.TyperArgument | typer.core.TyperOption) -> str:
     return "1" if param.type_descriptor.annotation in (int, float) else "x.csv"
 
 
+def _commands() -> dict[str, typer.core.TyperCommand]:
+    """Every command by the words that call it (``token add`` for a group's command)."""
+    found = {}
+    for name, cmd in GROUP.commands.items():
+        if isinstance(cmd, typer.core.TyperGroup):
+            found.update({f"{name} {sub}": c for sub, c in cmd.commands.items()})
+        else:
+            found[name] = cmd
+    return found
+
+
+COMMANDS = _commands()
+
+
 def _required(name: str, but: object = None) -> list[str]:
     """Values for the command's required parameters (except ``but``)."""
     args: list[str] = []
-    for p in GROUP.commands[name].params:
+    for p in COMMANDS[name].params:
         if not p.required or p is but:
             continue
         if isinstance(p, typer.core.TyperOption):
@@ -46,19 +60,20 @@ def _required(name: str, but: object = None) -> list[str]:
 def _cases() -> list[tuple[str, list[str], str]]:
     """(command, arguments, the start of click's message) for every command."""
     cases = []
-    for name, cmd in GROUP.commands.items():
-        cases.append((name, [name, "--no-such-option"], "No such option: --no-such-option"))
-        cases.append((name, [name, *_required(name), "-w"], "Option '-w' requires an argument"))
+    for name, cmd in COMMANDS.items():
+        words = name.split()
+        cases.append((name, [*words, "--no-such-option"], "No such option: --no-such-option"))
+        cases.append((name, [*words, *_required(name), "-w"], "Option '-w' requires an argument"))
         for p in cmd.params:
             kind = p.type_descriptor.annotation
             if isinstance(p, typer.core.TyperOption) and p.is_flag:
                 opt = p.opts[0]
                 cases.append(
-                    (name, [name, *_required(name), f"{opt}=1"], f"Option '{opt}' does not take")
+                    (name, [*words, *_required(name), f"{opt}=1"], f"Option '{opt}' does not take")
                 )
             elif kind in (int, float):
                 where = p.opts[0] if isinstance(p, typer.core.TyperOption) else None
-                head = [name, *_required(name, but=p)]
+                head = [*words, *_required(name, but=p)]
                 label = f"'{where or p.name}'"
                 bad = ["not-a-number"]
                 bad += [] if p.min is None else [str(p.min - 1)]
@@ -67,7 +82,7 @@ def _cases() -> list[tuple[str, list[str], str]]:
                     given = [where, value] if where else ["--", value]
                     cases.append((name, head + given, f"Invalid value for {label}"))
         if any(p.required for p in cmd.params):
-            cases.append((name, [name], "Missing"))
+            cases.append((name, words, "Missing"))
     return cases
 
 
@@ -75,9 +90,9 @@ CASES = _cases()
 
 
 def test_every_command_has_a_bad_value_and_a_missing_value_case() -> None:
-    for name in GROUP.commands:
+    for name in COMMANDS:
         messages = [m for n, _, m in CASES if n == name]
-        assert any(m.startswith(("Invalid value", "Option '--")) for m in messages), name
+        assert any(m.startswith(("Invalid value", "Option '--", "Missing")) for m in messages), name
         assert any("requires an argument" in m for m in messages), name
 
 

@@ -7,6 +7,8 @@
   one row per transcript (an id and a text column), or one row per turn (id, speaker, text,
   optionally a start time); columns are found by the same names and ``[ingest]`` settings
   as for a table file;
+* **records** — a list of mappings ``{"id", "text" | "turns", "metadata"}``, one per
+  transcript (:mod:`talkthemes.ingest.records`); a record without an id gets its position;
 * **paths** — one :class:`~pathlib.Path` or a list of them: files and folders in any format
   ingest reads (a ``manifest.*`` at the top of a folder is skipped, as by ``assign``).
 
@@ -18,13 +20,14 @@ without one (``frame-3``).
 from __future__ import annotations
 
 import os
-from collections.abc import Iterator, Sequence
+from collections.abc import Iterator, Mapping, Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from talkthemes.config import IngestSettings
 from talkthemes.errors import InputError
 from talkthemes.ingest.model import Reject, Transcript, Warning_
+from talkthemes.ingest.records import read_records
 from talkthemes.ingest.tables.files import table_from_rows
 from talkthemes.ingest.tables.read import read_rows
 
@@ -76,10 +79,12 @@ def read_inputs(data: Any, settings: IngestSettings) -> Iterator[Item]:
         return _texts(items, settings)
     if all(isinstance(x, os.PathLike) for x in items):
         return _paths([Path(x) for x in items], settings)
+    if all(isinstance(x, Mapping) for x in items):
+        return read_records(items, settings, require_id=False)
     kinds = sorted({type(x).__name__ for x in items})
     raise InputError(
-        f"assign: a list of {' and '.join(kinds)}: give a list of texts (str) or of paths "
-        "(pathlib.Path), not a mix"
+        f"assign: a list of {' and '.join(kinds)}: give a list of texts (str), of records "
+        "(dict) or of paths (pathlib.Path), not a mix"
     )
 
 

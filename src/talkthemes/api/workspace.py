@@ -6,14 +6,17 @@ import os
 
 from talkthemes.workspace import WorkspaceDir, resolve_workspace
 
+from .calls import CallsMixin
 from .curating import CuratingMixin
 from .reading import ReadingMixin
+from .records import RecordsMixin
+from .tokens import TokensMixin
 from .writing import WritingMixin
 
 __all__ = ["Workspace"]
 
 
-class Workspace(WritingMixin, CuratingMixin, ReadingMixin):
+class Workspace(WritingMixin, CuratingMixin, RecordsMixin, TokensMixin, CallsMixin, ReadingMixin):
     """A talkthemes workspace, from Python: the API the command line, the viewer and the
     service are faces of.
 
@@ -22,6 +25,7 @@ class Workspace(WritingMixin, CuratingMixin, ReadingMixin):
         ws.ingest(paths)  →  ws.prepare()  →  ws.sweep(k="4:16:2")  →  ws.publish(...)
         ws.themes(), ws.shares(), ws.label(theme_id, "…"), ws.assign(texts), ws.refresh()
         ws.themes_sheet("themes.csv")  →  (a person fills labels)  →  ws.label_from(...)
+        ws.ingest_records(records), ws.theme_calls(theme_id), ws.add_token("crm")
 
     ======================  ========================================================  ========
     method                  does                                                      lock
@@ -49,6 +53,15 @@ class Workspace(WritingMixin, CuratingMixin, ReadingMixin):
     ``export``              the shares as CSV or Parquet                              —
     ``recommendation``      the latest sweep's recommended K                          —
     ``assign``              shares of new texts, frames or files (DataFrame)          —
+    ``ingest_records``      store transcripts sent as records, outcome per record     writer
+    ``assign_records``      shares of records, with the version that answered         —
+    ``versions``            the versions kept                                         —
+    ``theme_calls``         a theme's calls, page by page, metadata filters           —
+    ``call``                one call: shares, metadata, turns (masked on request)     —
+    ``add_token``           issue an access token of the HTTP service                 —
+    ``tokens``              the service's access tokens (never the tokens)            —
+    ``revoke_token``        revoke an access token                                    —
+    ``check_token``         the active token a presented token is, or None            —
     ======================  ========================================================  ========
 
     Writers take the workspace's single-writer lock themselves: with ``wait=False`` (the

@@ -10,6 +10,7 @@ the shared tables (:mod:`._shared`) and the library:
 ``themes.py``      ``themes``, ``label``, ``export``
 ``faces.py``       ``view``, ``report``, ``demo``
 ``refresh.py``     ``refresh``, ``assign``
+``serve.py``       ``serve``, ``token`` (add, list, revoke)
 =================  =====================================
 
 The commands are registered here, in the order ``talkthemes --help`` lists them.
@@ -17,7 +18,7 @@ The commands are registered here, in the order ``talkthemes --help`` lists them.
 
 from __future__ import annotations
 
-from talkthemes.cli import data, faces, model, refresh, themes, workspace
+from talkthemes.cli import data, faces, model, refresh, serve, themes, workspace
 from talkthemes.cli._common import app
 
 _COMMANDS = (
@@ -35,9 +36,11 @@ _COMMANDS = (
     ("demo", faces.demo),
     ("refresh", refresh.refresh),
     ("assign", refresh.assign),
+    ("serve", serve.serve),
 )
 for _name, _command in _COMMANDS:
     app.command(_name)(_command)
+app.add_typer(serve.token_app, name="token")
 
 
 def main() -> None:

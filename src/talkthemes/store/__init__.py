@@ -8,7 +8,8 @@ per group of tables: :mod:`~talkthemes.store.runs` (ingest runs, rejects, same-t
 pairs, the summary), :mod:`~talkthemes.store.transcripts` (transcripts, turns, metadata),
 :mod:`~talkthemes.store.sweeps` (preps, sweeps, cells), :mod:`~talkthemes.store.versions`
 (versions, themes, labels, retired themes), :mod:`~talkthemes.store.refreshes` and
-:mod:`~talkthemes.store.curation` (merges and the curation log).
+:mod:`~talkthemes.store.curation` (merges and the curation log) and
+:mod:`~talkthemes.store.tokens` (the HTTP service's access tokens).
 """
 
 from __future__ import annotations
@@ -25,6 +26,7 @@ from talkthemes.store.runs import IngestRunsMixin
 from talkthemes.store.schema import _MIGRATIONS, SCHEMA_VERSION, check_version, connect, migrate
 from talkthemes.store.schema import read_schema_version as _read_schema_version
 from talkthemes.store.sweeps import SweepsMixin
+from talkthemes.store.tokens import TokensMixin
 from talkthemes.store.transcripts import AddOutcome, TranscriptsMixin
 from talkthemes.store.versions import VersionsMixin
 
@@ -32,7 +34,13 @@ __all__ = ["SCHEMA_VERSION", "AddOutcome", "Store", "StoredTurn", "TextMatch", "
 
 
 class Store(
-    IngestRunsMixin, TranscriptsMixin, SweepsMixin, VersionsMixin, RefreshesMixin, CurationMixin
+    IngestRunsMixin,
+    TranscriptsMixin,
+    SweepsMixin,
+    VersionsMixin,
+    RefreshesMixin,
+    CurationMixin,
+    TokensMixin,
 ):
     """The SQLite store of a workspace. Open with :meth:`Store.open`."""
 

@@ -173,6 +173,21 @@ _MIGRATIONS: list[Migration] = [
         SELECT updated_at, 'not_a_theme', theme_id, '{}' FROM labels
         WHERE hidden != 0 ORDER BY theme_id;
     """,
+    # 7: the HTTP service's access tokens (salted hashes only; see talkthemes.api.tokens)
+    """
+    CREATE TABLE tokens (
+        id INTEGER PRIMARY KEY,
+        name TEXT NOT NULL,
+        key_id TEXT NOT NULL UNIQUE,
+        scope TEXT NOT NULL CHECK (scope IN ('read', 'write')),
+        salt BLOB NOT NULL,
+        digest BLOB NOT NULL,
+        kdf TEXT NOT NULL,
+        created_at TEXT NOT NULL,
+        revoked_at TEXT
+    );
+    CREATE UNIQUE INDEX tokens_active_name ON tokens(name) WHERE revoked_at IS NULL;
+    """,
 ]
 
 SCHEMA_VERSION = len(_MIGRATIONS)

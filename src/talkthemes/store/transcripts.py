@@ -358,3 +358,32 @@ class TranscriptsMixin(StoreBase):
                     else [(u[1], u[4]) for u in units]
                 )
         return [(t, found[t]) for t in dict.fromkeys(tids) if t in found]
+
+    def ids_with_metadata(
+        self,
+        equals: dict[str, Sequence[str]],
+        *,
+        date_from: str | None = None,
+        date_to: str | None = None,
+    ) -> set[str]:
+        """Ids whose stored metadata has, for each field of ``equals``, one of its values,
+        and a ``date`` within ``[date_from, date_to]`` (ISO dates, both ends included;
+        a call without a date is left out as soon as either end is given).
+
+        Ids are returned whether or not a transcript is stored for them.
+        """
+        conditions: list[tuple[str, list[str]]] = []
+        for key, values in equals.items():
+            q = ",".join("?" * len(values))
+            conditions.append((f"key = ? AND value IN ({q})", [key, *values]))
+        if date_from is not None:
+            conditions.append(("key = 'date' AND substr(value, 1, 10) >= ?", [date_from]))
+        if date_to is not None:
+            conditions.append(("key = 'date' AND substr(value, 1, 10) <= ?", [date_to]))
+        found: set[str] | None = None
+        for where, params in conditions:
+            ids = {
+                r[0] for r in self._conn.execute(f"SELECT tid FROM metadata WHERE {where}", params)
+            }
+            found = ids if found is None else found & ids
+        return set() if found is None else found

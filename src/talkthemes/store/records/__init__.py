@@ -23,13 +23,14 @@ record                   table(s)                       returned by ``Store.``
 :class:`StoredTurn`      turn_sets                      ``get_turns``
 :class:`StoreSummary`    (counts over every table)      ``summary``
 :class:`Stages`          preps, sweeps, versions        ``stages``
+:class:`TokenRecord`     tokens                         ``tokens``, ``token_by_key``
 =======================  =============================  ====================================
 
 Modules: :mod:`.sweeps` (preps, sweeps, cells), :mod:`.versions` (versions, themes, labels,
 retired themes, refreshes), :mod:`.curation` (the curation log), :mod:`.ingest` (same-text
-pairs, turns), :mod:`.summary` (``status``'s counts and stages), :mod:`._base` (the
-read-only JSON object). Import the
-types from this package; read records by attribute (they have no dict-style access).
+pairs, turns), :mod:`.summary` (``status``'s counts and stages), :mod:`.tokens` (the service's
+access tokens), :mod:`._base` (the read-only JSON object). Import the types from this package;
+read records by attribute (they have no dict-style access).
 """
 
 from talkthemes.store.records._base import ReadOnlyDict
@@ -46,6 +47,7 @@ from talkthemes.store.records.summary import (
     SweptStage,
 )
 from talkthemes.store.records.sweeps import CellRecord, PrepRecord, SweepRecord
+from talkthemes.store.records.tokens import TokenRecord
 from talkthemes.store.records.versions import (
     LabelRecord,
     NearestTheme,
@@ -78,6 +80,7 @@ __all__ = [
     "SweptStage",
     "TextMatch",
     "ThemeRecord",
+    "TokenRecord",
     "VersionRecord",
     "VersionRefresh",
 ]
