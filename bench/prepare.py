@@ -40,9 +40,9 @@ def _mb(texts: list[str]) -> float:
 
 def setup(root: Path, n: int, seed: int, n_process: int) -> dict[str, float]:
     """Create a workspace at ``root`` holding ``n`` demo calls."""
+    from talkthemes.calls.model import Transcript, Turn
     from talkthemes.config import PrepareSettings, Settings, render_settings
     from talkthemes.demo.calls import iter_demo_calls
-    from talkthemes.ingest.model import Transcript, Turn
     from talkthemes.workspace import Workspace, atomic_write_text
 
     ws = Workspace(root)

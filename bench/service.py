@@ -59,9 +59,9 @@ def setup(root: Path, train: int, family: str, k: int) -> tuple[float, str]:
 def records(root: Path, n: int) -> list[dict[str, Any]]:
     """``n`` new demo calls as records with their turns."""
     from talkthemes.assign import read_transcripts
+    from talkthemes.calls.model import Transcript
     from talkthemes.config import IngestSettings
     from talkthemes.demo.writer import write_demo
-    from talkthemes.ingest.model import Transcript
 
     files = write_demo(root / "new", size=n, seed=11)
     out = []

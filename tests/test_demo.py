@@ -14,6 +14,7 @@ from random import Random
 
 import pytest
 
+from talkthemes.calls.model import normalised_hash
 from talkthemes.config import IngestSettings
 from talkthemes.demo import builder, scenario, slots, writer
 from talkthemes.demo.calls import iter_demo_calls
@@ -29,7 +30,6 @@ from talkthemes.demo.scenario import (
 )
 from talkthemes.demo.writer import write_demo
 from talkthemes.errors import InputError
-from talkthemes.ingest.model import normalised_hash
 
 SAMPLE = Path(__file__).resolve().parents[1] / "corpora" / "demo" / "sample"
 CARD = re.compile(r"\b(?:\d{4} \d{4} \d{4} \d{4}|\d{16})\b")

@@ -11,6 +11,7 @@ from random import Random
 
 import pytest
 
+from talkthemes.calls.model import normalised_hash
 from talkthemes.demo import planted
 from talkthemes.demo.planted import (
     MAX_REASONS,
@@ -25,7 +26,6 @@ from talkthemes.demo.planted import (
     write_planted,
 )
 from talkthemes.errors import InputError
-from talkthemes.ingest.model import normalised_hash
 from talkthemes.ingest.run import ingest
 from talkthemes.workspace import Workspace
 

@@ -7,8 +7,8 @@ from pathlib import Path
 
 import pytest
 
+from talkthemes.calls.model import Transcript, Turn
 from talkthemes.errors import StoreError
-from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.store import SCHEMA_VERSION, Store
 from talkthemes.store.records import (
     LabelRecord,
@@ -102,7 +102,7 @@ def test_short_same_text_under_other_ids_is_stored_for_each_call(store: Store) -
 
 
 def test_reexport_rule_keep_and_metadata_conflicts(store: Store) -> None:
-    from talkthemes.ingest.identity import ReexportRule
+    from talkthemes.calls.identity import ReexportRule
 
     store.add_transcripts([_t("a", LONG, date="2026-03-01", agent="Noor")], None)
     # same text, another day: a different call

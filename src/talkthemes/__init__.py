@@ -38,6 +38,7 @@ __version__ = "0.1.0"
 
 from talkthemes.api.results import Export, Label, LabelSheet, Merge, Status, ThemesSheet, Unmerge
 from talkthemes.api.workspace import Workspace
+from talkthemes.calls.model import Reject, Transcript, Turn, Warning_
 from talkthemes.config import Settings, load_settings
 from talkthemes.errors import (
     ConfigError,
@@ -47,7 +48,6 @@ from talkthemes.errors import (
     TalkthemesError,
     WorkspaceBusyError,
 )
-from talkthemes.ingest.model import Reject, Transcript, Turn, Warning_
 from talkthemes.progress import Progress
 
 if TYPE_CHECKING:  # imported on first access at run time (see the module notes)

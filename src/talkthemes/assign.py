@@ -23,10 +23,10 @@ import numpy as np
 import pandas as pd
 import scipy.sparse as sp
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.ingest.decode import check_fallback
 from talkthemes.ingest.detect import iter_files, read_file
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.run import ingest
 from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec
 from talkthemes.progress import Progress, report

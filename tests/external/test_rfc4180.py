@@ -24,8 +24,8 @@ from pathlib import Path
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from talkthemes.calls.model import Transcript
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.model import Transcript
 from talkthemes.ingest.tables.files import load_table
 from talkthemes.ingest.tables.read import read_table
 

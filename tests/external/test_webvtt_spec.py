@@ -14,8 +14,8 @@ from pathlib import Path
 
 import pytest
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.vtt import parse_timestamp, read_vtt
 
 SETTINGS = IngestSettings()

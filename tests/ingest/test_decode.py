@@ -7,6 +7,7 @@ import codecs
 
 import pytest
 
+from talkthemes.calls.model import Reject, Warning_
 from talkthemes.config import IngestSettings
 from talkthemes.errors import ConfigError, InputError
 from talkthemes.ingest import decode
@@ -17,7 +18,6 @@ from talkthemes.ingest.decode import (
     looks_binary,
     normalise_newlines,
 )
-from talkthemes.ingest.model import Reject, Warning_
 
 
 def test_plain_utf8_has_no_warning():

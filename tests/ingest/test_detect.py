@@ -8,11 +8,11 @@ from pathlib import Path
 
 import pytest
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
 from talkthemes.errors import ConfigError
 from talkthemes.ingest import detect
 from talkthemes.ingest.detect import FORMATS, is_ignored, iter_files, read_file, read_inputs
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 
 SETTINGS = IngestSettings()
 

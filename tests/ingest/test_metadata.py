@@ -4,9 +4,9 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from talkthemes.calls.model import Transcript, Turn
 from talkthemes.ingest.manifest import Manifest
 from talkthemes.ingest.metadata import apply_manifest, unknown_ids
-from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.store import Store
 
 

@@ -5,8 +5,8 @@ from __future__ import annotations
 
 import pytest
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.records import read_records
 
 SETTINGS = IngestSettings()

@@ -13,8 +13,8 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 import pytest
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.tables.columns import find_column
 from talkthemes.ingest.tables.dates import date_order, normalise_date
 from talkthemes.ingest.tables.files import load_table

@@ -7,8 +7,8 @@ from pathlib import Path
 
 import pytest
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.roles import RoleMapper
 from talkthemes.ingest.txt import parse_clock, parse_turns, read_txt
 

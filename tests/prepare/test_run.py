@@ -10,9 +10,9 @@ import numpy as np
 import pytest
 from rich.console import Console
 
+from talkthemes.calls.model import Transcript, Turn
 from talkthemes.config import PrepareSettings, Settings, render_settings
 from talkthemes.errors import InputError, NotReadyError
-from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.prepare import (
     PreparedCorpus,
     compute_prep_hash,

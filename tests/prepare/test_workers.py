@@ -13,8 +13,8 @@ from pathlib import Path
 
 import pytest
 
+from talkthemes.calls.model import Transcript, Turn
 from talkthemes.config import PrepareSettings, Settings, render_settings
-from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.workspace import Workspace, atomic_write_text
 
 WORDS = [

@@ -202,7 +202,7 @@ def test_refresh_log_and_publish_in_one_transaction(tmp_path: Path) -> None:
 
 
 def test_turns_for_keeps_the_order_asked(tmp_path: Path) -> None:
-    from talkthemes.ingest.model import Transcript, Turn
+    from talkthemes.calls.model import Transcript, Turn
 
     with Store.open(tmp_path / "s.db") as store:
         store.add_transcripts(

@@ -10,6 +10,7 @@
 from __future__ import annotations
 
 import ast
+from graphlib import CycleError, TopologicalSorter
 from pathlib import Path
 
 import pytest
@@ -86,8 +87,8 @@ def test_only_the_transcript_view_asks_the_prepare_step() -> None:
 
 
 #: The domain: what the three faces (CLI, viewer, service) and the public API stand on.
-DOMAIN = ("store", "ingest", "prepare", "models", "metrics", "sweep", "versions", "refresh",
-          "text", "assign.py", "workspace.py", "config.py", "errors.py", "progress.py",
+DOMAIN = ("calls", "store", "ingest", "prepare", "models", "metrics", "sweep", "versions",
+          "refresh", "text", "assign.py", "workspace.py", "config.py", "errors.py", "progress.py",
           "trends.py", "export_table.py", "privacy.py")  # fmt: skip
 #: What sits above it: presentation, the faces and the public API over them.
 ABOVE_DOMAIN = ("streamlit", "altair", "vl_convert", "talkthemes.charts", "talkthemes.view",
@@ -98,3 +99,30 @@ ABOVE_DOMAIN = ("streamlit", "altair", "vl_convert", "talkthemes.charts", "talkt
 @pytest.mark.parametrize("package", DOMAIN)
 def test_the_domain_never_imports_presentation_or_a_face(package: str) -> None:
     assert offending(files(package), ABOVE_DOMAIN) == {}
+
+
+def package_graph() -> dict[str, set[str]]:
+    """Top-level package (or module) of ``talkthemes`` → the others it imports, at any depth."""
+    graph: dict[str, set[str]] = {}
+    for path in PACKAGE.rglob("*.py"):
+        unit = path.relative_to(PACKAGE).parts[0].removesuffix(".py")
+        targets = graph.setdefault(unit, set())
+        for module in imported_modules(path):
+            parts = module.split(".")
+            if parts[0] == "talkthemes" and len(parts) > 1 and parts[1] != unit:
+                targets.add(parts[1])
+    return graph
+
+
+def test_the_packages_import_each_other_without_a_cycle() -> None:
+    # Files that import each other are one kind of cycle; packages that do (a store that
+    # imports the readers while the readers' run imports the store) are the other. The
+    # transcript model both need lives below both, in ``calls/``.
+    graph = package_graph()
+    assert {"calls", "store", "ingest"} <= graph.keys()
+    assert "ingest" not in graph["store"] and "store" not in graph["calls"]
+    try:
+        order = list(TopologicalSorter(graph).static_order())
+    except CycleError as exc:  # pragma: no cover - the failure message
+        pytest.fail(f"packages import each other in a cycle: {' → '.join(exc.args[1])}")
+    assert order.index("calls") < order.index("store") < order.index("ingest")

@@ -6,8 +6,8 @@ from pathlib import Path
 
 import pytest
 
+from talkthemes.calls.model import Transcript, Turn
 from talkthemes.errors import InputError
-from talkthemes.ingest.model import Transcript, Turn
 from talkthemes.view.readiness import readiness
 from talkthemes.workspace import Workspace
 

@@ -13,7 +13,7 @@ from tests.support.layout import retained_share
 import talkthemes.app
 from talkthemes.app import _shared
 from talkthemes.app.choose_k import PICK
-from talkthemes.ingest.model import Transcript, Turn
+from talkthemes.calls.model import Transcript, Turn
 from talkthemes.text import md_inline
 from talkthemes.versions.load import load_version
 from talkthemes.view.theme_map import theme_layout

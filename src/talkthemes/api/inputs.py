@@ -24,9 +24,9 @@ from collections.abc import Iterator, Mapping, Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
 from talkthemes.errors import InputError
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.records import read_records
 from talkthemes.ingest.tables.files import table_from_rows
 from talkthemes.ingest.tables.read import read_rows

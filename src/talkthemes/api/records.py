@@ -13,8 +13,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
+from talkthemes.calls.model import Reject, Warning_
 from talkthemes.errors import NotReadyError
-from talkthemes.ingest.model import Reject, Warning_
 from talkthemes.ingest.records import read_records
 
 from . import _choices

@@ -13,6 +13,7 @@ import math
 from collections.abc import Iterator
 from random import Random
 
+from talkthemes.calls.model import normalised_hash
 from talkthemes.demo.builder import Builder, regular, scripted, short
 from talkthemes.demo.records import DemoCall, DemoTurn, RenderStyle
 from talkthemes.demo.scenario import (
@@ -29,7 +30,6 @@ from talkthemes.demo.scenario import (
     weighted,
 )
 from talkthemes.errors import InputError
-from talkthemes.ingest.model import normalised_hash
 
 __all__ = ["iter_demo_calls"]
 

@@ -7,15 +7,26 @@ disfluency pass adds fillers, repetitions and false starts the way people speak.
 
 from __future__ import annotations
 
+import datetime as dt
 import unicodedata
 from collections.abc import Callable
 from random import Random
-from typing import TYPE_CHECKING
+from typing import Any, Protocol
 
 from talkthemes.demo.scenario import pick
 
-if TYPE_CHECKING:
-    from talkthemes.demo.builder import Builder
+
+class Builder(Protocol):
+    """What a generated slot reads from the call being built (``demo.builder.Builder``)."""
+
+    rng: Random
+    date: dt.date
+    sc: dict[str, Any]
+
+    def slot(self, name: str, depth: int = 0) -> str:
+        """The text of slot ``name`` for this call."""
+        ...
+
 
 __all__ = ["GENERATED", "MEMO", "disfluent", "luhn_check_digit", "ordinal"]
 

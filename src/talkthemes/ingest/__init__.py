@@ -1,1 +1,1 @@
-"""Reading transcript files and tables into :class:`~talkthemes.ingest.model.Transcript`."""
+"""Reading transcript files and tables into :class:`~talkthemes.calls.model.Transcript`."""

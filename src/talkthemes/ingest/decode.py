@@ -20,9 +20,9 @@ import codecs
 import os
 from pathlib import Path
 
+from talkthemes.calls.model import Reject, Warning_
 from talkthemes.config import IngestSettings
 from talkthemes.errors import ConfigError, InputError
-from talkthemes.ingest.model import Reject, Warning_
 
 __all__ = [
     "BinaryInputError",

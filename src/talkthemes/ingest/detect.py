@@ -30,10 +30,10 @@ import stat
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from pathlib import Path
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
 from talkthemes.errors import ConfigError
 from talkthemes.ingest.decode import check_fallback
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.tables.read import read_table
 from talkthemes.ingest.txt import read_txt
 from talkthemes.ingest.vtt import read_vtt

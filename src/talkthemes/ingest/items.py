@@ -17,8 +17,8 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-from talkthemes.ingest.identity import SKIPPED
-from talkthemes.ingest.model import Reject, Transcript, Warning_
+from talkthemes.calls.identity import SKIPPED
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.ingest.records import RECORD_FORMAT, read_records
 from talkthemes.ingest.run import OUTCOMES, reexport_rule
 from talkthemes.workspace import Workspace

@@ -23,9 +23,9 @@ import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from talkthemes.calls.model import Reject, Warning_
 from talkthemes.config import IngestSettings
 from talkthemes.ingest.detect import FORMATS
-from talkthemes.ingest.model import Reject, Warning_
 from talkthemes.ingest.tables.columns import DATE_NAMES, find_column
 from talkthemes.ingest.tables.dates import date_column_values
 from talkthemes.ingest.tables.files import load_table, row_name

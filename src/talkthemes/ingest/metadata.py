@@ -15,8 +15,8 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
+from talkthemes.calls.model import Reject, Warning_
 from talkthemes.ingest.manifest import Manifest
-from talkthemes.ingest.model import Reject, Warning_
 from talkthemes.store import Store
 
 __all__ = ["ManifestApplied", "MetadataChange", "apply_manifest", "unknown_ids"]

@@ -29,8 +29,8 @@ from __future__ import annotations
 from collections.abc import Iterator, Mapping, Sequence
 from typing import Any
 
+from talkthemes.calls.model import ROLES, Reject, Transcript, Turn, Warning_
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.model import ROLES, Reject, Transcript, Turn, Warning_
 from talkthemes.ingest.tables.dates import normalise_date
 from talkthemes.ingest.txt import mapper_for, parse_turns
 

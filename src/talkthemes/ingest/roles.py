@@ -31,7 +31,7 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable, Mapping
 
-from talkthemes.ingest.model import ROLES
+from talkthemes.calls.model import ROLES
 
 __all__ = [
     "LABEL_MAX_CHARS",

@@ -3,7 +3,7 @@
 Readers turn inputs into transcripts, rejects and warnings; this module applies manifests
 (:mod:`talkthemes.ingest.metadata`), stores the transcripts in batches (one transaction per
 batch, so a killed run leaves whole transcripts only) under the identity rule of
-:mod:`talkthemes.ingest.identity`, and keeps the tally shown to the user.
+:mod:`talkthemes.calls.identity`, and keeps the tally shown to the user.
 """
 
 from __future__ import annotations
@@ -23,12 +23,12 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from talkthemes.calls.identity import KEPT, SKIPPED, ReexportRule
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
 from talkthemes.ingest.detect import iter_files, read_file, split_manifests
-from talkthemes.ingest.identity import KEPT, SKIPPED, ReexportRule
 from talkthemes.ingest.manifest import Manifest, read_manifest
 from talkthemes.ingest.metadata import MetadataChange, apply_manifest, unknown_ids
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.progress import Progress
 from talkthemes.store import Store, TextMatch
 from talkthemes.text.escape import csv_cell

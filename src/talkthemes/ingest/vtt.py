@@ -39,9 +39,9 @@ import re
 from collections.abc import Iterator
 from pathlib import Path
 
+from talkthemes.calls.model import Reject, Transcript, Turn, Warning_
 from talkthemes.config import IngestSettings
 from talkthemes.ingest.decode import load_text
-from talkthemes.ingest.model import Reject, Transcript, Turn, Warning_
 from talkthemes.ingest.roles import choose_speakers, split_label
 from talkthemes.ingest.txt import mapper_for
 

@@ -5,8 +5,8 @@ from __future__ import annotations
 import json
 from collections.abc import Iterable, Sequence
 
-from talkthemes.ingest.identity import KEPT, SAME_TEXT, SKIPPED
-from talkthemes.ingest.model import ROLES, Reject
+from talkthemes.calls.identity import KEPT, SAME_TEXT, SKIPPED
+from talkthemes.calls.model import ROLES, Reject
 from talkthemes.store._base import StoreBase, now_iso
 from talkthemes.store.records import (
     LikelyReexports,

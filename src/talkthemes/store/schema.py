@@ -12,8 +12,8 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
+from talkthemes.calls.model import StoredForm, Turn
 from talkthemes.errors import StoreError
-from talkthemes.ingest.model import StoredForm, Turn
 
 __all__ = ["SCHEMA_VERSION", "check_version", "connect", "migrate", "read_schema_version"]
 
@@ -300,7 +300,7 @@ def _pack_turns(conn: sqlite3.Connection) -> None:
     """Migration 4: one ``turn_sets`` row per transcript instead of one ``turns`` row per turn.
 
     Storing a transcript's turns as one JSON text (``[[speaker, role, start, end, text],
-    ...]``, the :class:`~talkthemes.ingest.model.StoredForm`) with its turn counts per role
+    ...]``, the :class:`~talkthemes.calls.model.StoredForm`) with its turn counts per role
     makes ingest write one row per transcript rather than about thirty, the largest cost of
     storing. Existing turns are copied over in transcript order, then the old table goes.
     """

@@ -7,8 +7,8 @@ import json
 from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 
-from talkthemes.ingest.identity import SAME_TEXT, SKIPPED, ReexportRule
-from talkthemes.ingest.model import Reject, Transcript
+from talkthemes.calls.identity import SAME_TEXT, SKIPPED, ReexportRule
+from talkthemes.calls.model import Reject, Transcript
 from talkthemes.store._base import PARAM_CHUNK, StoreBase, chunks, now_iso
 from talkthemes.store.records import StoredTurn, TextMatch
 

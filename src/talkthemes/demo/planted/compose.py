@@ -13,6 +13,7 @@ import re
 from collections.abc import Callable, Iterator
 from random import Random
 
+from talkthemes.calls.model import normalised_hash
 from talkthemes.demo.builder import Deck
 from talkthemes.demo.planted.bank import (
     SHORT_KINDS,
@@ -23,7 +24,6 @@ from talkthemes.demo.planted.bank import (
 )
 from talkthemes.demo.scenario import pick
 from talkthemes.demo.slots import disfluent, ordinal
-from talkthemes.ingest.model import normalised_hash
 
 __all__ = ["iter_planted_calls"]
 

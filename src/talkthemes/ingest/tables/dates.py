@@ -6,7 +6,7 @@ import datetime as dt
 import re
 from collections.abc import Sequence
 
-from talkthemes.ingest.model import Warning_
+from talkthemes.calls.model import Warning_
 from talkthemes.ingest.tables.files import RawTable
 
 __all__ = ["date_column_values", "date_order", "normalise_date"]

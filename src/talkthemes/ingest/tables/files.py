@@ -19,9 +19,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from talkthemes.calls.model import Reject, Warning_
 from talkthemes.config import IngestSettings
 from talkthemes.ingest.decode import load_text, max_bytes, oversize_reject
-from talkthemes.ingest.model import Reject, Warning_
 
 __all__ = ["TABLE_FORMATS", "RawTable", "load_table", "row_name", "table_from_rows"]
 

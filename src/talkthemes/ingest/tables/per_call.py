@@ -11,8 +11,8 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.tables.dates import date_column_values
 from talkthemes.ingest.tables.files import RawTable
 from talkthemes.ingest.txt import mapper_for, parse_turns

@@ -13,8 +13,8 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
+from talkthemes.calls.model import Reject, Transcript, Turn, Warning_
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.model import Reject, Transcript, Turn, Warning_
 from talkthemes.ingest.tables.columns import END_NAMES, ROLE_NAMES, START_NAMES, find_column
 from talkthemes.ingest.tables.dates import date_column_values
 from talkthemes.ingest.tables.files import RawTable

@@ -8,8 +8,8 @@ from __future__ import annotations
 from collections.abc import Iterator
 from pathlib import Path
 
+from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.config import IngestSettings
-from talkthemes.ingest.model import Reject, Transcript, Warning_
 from talkthemes.ingest.tables.columns import (
     DATE_NAMES,
     ID_NAMES,

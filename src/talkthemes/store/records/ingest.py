@@ -19,7 +19,7 @@ class TextMatch:
         The id of the stored call with the same text.
     kind : str
         ``reexport_skipped``, ``reexport_kept`` (a likely re-export) or ``same_text`` (two
-        calls, both stored); see :mod:`talkthemes.ingest.identity`.
+        calls, both stored); see :mod:`talkthemes.calls.identity`.
     reason : str
         Why (short text, which metadata differs, or "likely re-export").
     """

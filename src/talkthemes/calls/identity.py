@@ -2,7 +2,7 @@
 
 The id of a call (a table's id column, a manifest key, a file name) is its identity: two
 inputs with different ids are two calls. A hash of the normalised text
-(:func:`~talkthemes.ingest.model.normalised_hash`) only *flags* a likely re-export — the
+(:func:`~talkthemes.calls.model.normalised_hash`) only *flags* a likely re-export — the
 same call exported again under another name — and only when
 
 * the text is long enough to be unique (at least ``min_words`` words; "hello? … hello?"

@@ -10,7 +10,7 @@ import unicodedata
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from talkthemes.ingest.model import Transcript, Turn, normalised_hash
+from talkthemes.calls.model import Transcript, Turn, normalised_hash
 
 
 def _definition(text: str) -> str:

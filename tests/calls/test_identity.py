@@ -1,10 +1,10 @@
-"""Tests for talkthemes.ingest.identity: when the same text is a likely re-export."""
+"""Tests for talkthemes.calls.identity: when the same text is a likely re-export."""
 
 from __future__ import annotations
 
 import pytest
 
-from talkthemes.ingest.identity import (
+from talkthemes.calls.identity import (
     KEPT,
     SAME_TEXT,
     SKIPPED,
