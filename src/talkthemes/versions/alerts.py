@@ -73,7 +73,7 @@ VERDICTS = ("new", "not_a_theme", "split", "small", "familiar")
 
 @dataclass(frozen=True)
 class AlertRules:
-    """The thresholds of the alerts (``[refresh]`` settings, defaults in config.py).
+    """The thresholds of the alerts (``[refresh]`` settings, defaults in the config package).
 
     Attributes
     ----------
