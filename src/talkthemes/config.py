@@ -357,6 +357,14 @@ class SweepSettings(_Section):
         le=1,
         description="K whose seed-to-seed stability is below this is not recommended.",
     )
+    catch_all_ratio: float = Field(
+        2.5,
+        ge=0,
+        description=(
+            "A K at which one theme leads more than this many times an even share (1/K) of "
+            "the transcripts is set aside as a catch-all; 0 = no check."
+        ),
+    )
     scheduler: str = Field("", description="Dask scheduler address; empty = a local cluster.")
     workers: int = Field(0, ge=0, description="Local cluster workers; 0 = one per core.")
     scheduler_timeout: float = Field(

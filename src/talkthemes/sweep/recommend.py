@@ -33,10 +33,23 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-__all__ = ["RANKABLE", "Recommendation", "best_family", "recommend", "summarise_by_k"]
+from talkthemes.config import SweepSettings
+from talkthemes.metrics.evenness import is_catch_all
+
+__all__ = [
+    "CATCH_ALL_RATIO",
+    "RANKABLE",
+    "Recommendation",
+    "best_family",
+    "recommend",
+    "summarise_by_k",
+]
 
 #: Coherence measures a recommendation can rank by, with "higher is better" for all.
 RANKABLE = ("c_npmi", "c_v", "c_uci", "u_mass")
+
+#: Default of ``[sweep] catch_all_ratio``; the figures behind it are in docs/methods.md.
+CATCH_ALL_RATIO: float = SweepSettings.model_fields["catch_all_ratio"].default
 
 _FIT_COLUMN = {"lda": "perplexity", "nmf": "reconstruction_error"}
 _FIT_NAME = {"perplexity": "held-out perplexity", "reconstruction_error": "reconstruction error"}
@@ -61,6 +74,9 @@ class Recommendation:
         Why this K, in plain words with the numbers.
     runners_up : list of dict
         Other K worth a look: ``k``, ``coherence``, ``stability`` and ``why_not``.
+    catch_all : list of int
+        K set aside because one theme leads a disproportionate share of the transcripts
+        (every swept K when none escapes it: then ``k`` is among them).
     """
 
     family: str
@@ -70,6 +86,12 @@ class Recommendation:
     rule: str
     reasons: list[str] = field(default_factory=list)
     runners_up: list[dict[str, Any]] = field(default_factory=list)
+    catch_all: list[int] = field(default_factory=list)
+
+    @property
+    def usable(self) -> bool:
+        """Not weak, and its K is not a catch-all."""
+        return not self.weak and self.k not in self.catch_all
 
     def to_dict(self) -> dict[str, Any]:
         """A JSON-ready dict."""
@@ -91,7 +113,8 @@ def summarise_by_k(cells: pd.DataFrame, rank_by: str = "c_npmi") -> pd.DataFrame
     -------
     DataFrame
         Columns ``family, k, seeds, coherence, coherence_se`` plus the mean of each
-        other metric present.
+        other metric present (``stability``, ``diversity``, the fit measure,
+        ``largest_lead_share``).
     """
     if rank_by not in cells.columns:
         raise KeyError(f"cells have no column {rank_by!r}")
@@ -107,7 +130,13 @@ def summarise_by_k(cells: pd.DataFrame, rank_by: str = "c_npmi") -> pd.DataFrame
             "coherence": float(vals.mean()) if n else float("nan"),
             "coherence_se": float(vals.std(ddof=1) / np.sqrt(n)) if n > 1 else 0.0,
         }
-        for col in ("stability", "diversity", "perplexity", "reconstruction_error"):
+        for col in (
+            "stability",
+            "diversity",
+            "perplexity",
+            "reconstruction_error",
+            "largest_lead_share",
+        ):
             if col in g.columns:
                 row[col] = float(g[col].mean())
         rows.append(row)
@@ -118,8 +147,27 @@ def _fmt(x: float) -> str:
     return f"{x:.3f}" if abs(x) < 100 else f"{x:,.0f}"
 
 
+def _catch_all_ks(s: pd.DataFrame, ratio: float) -> list[int]:
+    """The K of one family's summary whose largest lead theme is a catch-all."""
+    if "largest_lead_share" not in s.columns:
+        return []
+    return [
+        int(r["k"])
+        for _, r in s.iterrows()
+        if is_catch_all(float(r["largest_lead_share"]), int(r["k"]), ratio)
+    ]
+
+
+def _pct(x: float) -> str:
+    return f"{100 * x:.0f}%"
+
+
 def recommend(
-    cells: pd.DataFrame, *, rank_by: str = "c_npmi", stability_min: float = 0.6
+    cells: pd.DataFrame,
+    *,
+    rank_by: str = "c_npmi",
+    stability_min: float = 0.6,
+    catch_all_ratio: float = CATCH_ALL_RATIO,
 ) -> dict[str, Recommendation]:
     """Apply the module's rule to every family in ``cells``.
 
@@ -131,6 +179,11 @@ def recommend(
         Coherence measure to rank by (one of :data:`RANKABLE`).
     stability_min : float
         Stability a K must reach to be eligible.
+    catch_all_ratio : float
+        A K whose largest lead theme leads more than ``catch_all_ratio / K`` of the
+        transcripts (mean over seeds of the cells' ``largest_lead_share``) is set aside as
+        a catch-all; 0 turns the check off. Cells without the column (sweeps recorded
+        before it was kept) skip the check.
 
     Returns
     -------
@@ -146,11 +199,16 @@ def recommend(
         s = s[np.isfinite(s["coherence"])]
         if s.empty:
             continue
+        catch_all = _catch_all_ks(s, catch_all_ratio)
+        usable = s[~s["k"].isin(catch_all)]
+        all_catch_all = usable.empty
+        if all_catch_all:
+            usable = s
         has_stab = "stability" in s.columns and s["stability"].notna().any()
-        eligible = s[s["stability"] >= stability_min] if has_stab else s
+        eligible = usable[usable["stability"] >= stability_min] if has_stab else usable
         weak = eligible.empty
         if weak:
-            eligible = s
+            eligible = usable
         best = eligible.loc[eligible["coherence"].idxmax()]
         cutoff = best["coherence"] - best["coherence_se"]
         chosen = eligible[eligible["coherence"] >= cutoff].sort_values("k").iloc[0]
@@ -160,6 +218,11 @@ def recommend(
             f"smallest K whose mean {name} is within one standard error of the best among K "
             f"with seed stability ≥ {stability_min:.2f}"
         )
+        if catch_all_ratio > 0:
+            rule += (
+                f" and no catch-all theme (one theme leading more than {catch_all_ratio:g}/K "
+                "of the transcripts)"
+            )
         reasons = [
             f"K={k}: mean {name} {_fmt(chosen['coherence'])} ± {_fmt(chosen['coherence_se'])} "
             f"(standard error over {int(chosen['seeds'])} seeds)"
@@ -174,7 +237,7 @@ def recommend(
             reasons.append(f"K={k} has the best mean {name} among eligible K")
         if has_stab:
             if weak:
-                most = s.loc[s["stability"].idxmax()]
+                most = usable.loc[usable["stability"].idxmax()]
                 reasons.append(
                     f"no K reached stability {stability_min:.2f} (best "
                     f"{_fmt(most['stability'])} at K={int(most['k'])}); "
@@ -185,6 +248,7 @@ def recommend(
                     f"seed stability {_fmt(chosen['stability'])} ≥ {stability_min:.2f}: the same "
                     "themes come back with other random seeds"
                 )
+        reasons += _evenness_reasons(s, chosen, catch_all, all_catch_all, catch_all_ratio)
         if "diversity" in s.columns and np.isfinite(chosen.get("diversity", np.nan)):
             reasons.append(
                 f"topic diversity {_fmt(chosen['diversity'])} (share of distinct words among "
@@ -201,7 +265,12 @@ def recommend(
         runners: list[dict[str, Any]] = []
         for _, r in s[s["k"] != k].sort_values("coherence", ascending=False).head(3).iterrows():
             stab = float(r["stability"]) if has_stab else float("nan")
-            if has_stab and stab < stability_min and not weak:
+            if int(r["k"]) in catch_all and not all_catch_all:
+                why = (
+                    f"catch-all: one theme leads {_pct(r['largest_lead_share'])} of the "
+                    f"transcripts (> {catch_all_ratio:g}/K = {_pct(catch_all_ratio / r['k'])})"
+                )
+            elif has_stab and stab < stability_min and not weak:
                 why = f"less stable across seeds ({_fmt(stab)} < {stability_min:.2f})"
             elif r["coherence"] >= cutoff:
                 why = f"within one standard error but larger (K={int(r['k'])} > {k})"
@@ -224,6 +293,41 @@ def recommend(
             rule=rule,
             reasons=reasons,
             runners_up=runners,
+            catch_all=catch_all,
+        )
+    return out
+
+
+def _evenness_reasons(
+    s: pd.DataFrame, chosen: pd.Series, catch_all: list[int], every: bool, ratio: float
+) -> list[str]:
+    """What the reasons say about how evenly the lead themes split the transcripts."""
+    if "largest_lead_share" not in s.columns or not np.isfinite(
+        chosen.get("largest_lead_share", np.nan)
+    ):
+        return []
+    k = int(chosen["k"])
+    share = float(chosen["largest_lead_share"])
+    out = []
+    if catch_all:
+        shares = s.set_index("k")["largest_lead_share"]
+        listed = ", ".join(f"K={c} ({_pct(shares[c])})" for c in catch_all)
+        if every:
+            out.append(
+                f"every K has a catch-all theme, one theme leading more than {ratio:g}/K of "
+                f"the transcripts: {listed}; this K is the best of them, but check its largest "
+                "theme before trusting the others"
+            )
+        else:
+            out.append(
+                f"set aside as catch-all (one theme leads more than {ratio:g}/K of the "
+                f"transcripts): {listed}; such a theme gathers words common to many calls, "
+                "or one reason far ahead of the others — its top words tell which"
+            )
+    if not every:
+        out.append(
+            f"the largest theme leads {_pct(share)} of the transcripts at K={k} (an even split "
+            f"would be {_pct(1 / k)} each)"
         )
     return out
 
