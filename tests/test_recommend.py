@@ -119,19 +119,27 @@ def test_a_catch_all_k_is_set_aside_and_the_reasons_say_so() -> None:
     assert rec.k == 8 and rec.usable
     assert any("set aside as catch-all" in r and "K=6 (53%)" in r for r in rec.reasons)
     assert any("largest theme leads 20% of the transcripts at K=8" in r for r in rec.reasons)
-    assert "no catch-all theme" in rec.rule
+    assert rec.rule.endswith(
+        "and no catch-all theme (one theme leading more than 2.5/K of the transcripts and "
+        "more than 35%)"
+    )
     why = {r["k"]: r["why_not"] for r in rec.runners_up}
-    assert why[6].startswith("catch-all: one theme leads 53%")
+    assert why[6] == "catch-all: one theme leads 53% of the transcripts (more than 42% at K=6)"
     assert rec.to_dict()["catch_all"] == [6]
     # 40% at K=4 is within 2.5/4 = 62.5%: not a catch-all; the check off keeps K=6
     off = recommend(cells, catch_all_ratio=0)["lda"]
     assert off.k == 6 and off.catch_all == []
 
 
-def test_the_threshold_is_relative_to_an_even_share() -> None:
-    cells = _with_lead(_cells({5: ([0.2, 0.2], 0.9), 10: ([0.1, 0.1], 0.9)}), {5: 0.49, 10: 0.26})
-    assert recommend(cells, catch_all_ratio=2.5)["lda"].catch_all == [10]  # 0.26 > 0.25
-    assert recommend(cells, catch_all_ratio=2.7)["lda"].catch_all == []  # 0.26 < 0.27
+def test_the_threshold_is_relative_to_an_even_share_with_a_floor() -> None:
+    cells = _with_lead(_cells({5: ([0.2, 0.2], 0.9), 10: ([0.1, 0.1], 0.9)}), {5: 0.49, 10: 0.3})
+    # without the floor: 0.30 > 2.5/10 at K=10, 0.49 < 2.5/5 at K=5
+    assert recommend(cells, catch_all_ratio=2.5, catch_all_share=0)["lda"].catch_all == [10]
+    assert recommend(cells, catch_all_ratio=3.1, catch_all_share=0)["lda"].catch_all == []
+    # the floor: at K=10 one theme must also lead more than 35% (the default)
+    assert recommend(cells, catch_all_ratio=2.5)["lda"].catch_all == []
+    assert recommend(cells, catch_all_ratio=2.5, catch_all_share=0.29)["lda"].catch_all == [10]
+    assert recommend(cells, catch_all_ratio=2.0, catch_all_share=0.35)["lda"].catch_all == [5]
 
 
 def test_every_k_a_catch_all_keeps_a_recommendation_that_says_so() -> None:

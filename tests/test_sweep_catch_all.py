@@ -3,8 +3,9 @@ recommendation sets that K aside, saying so (docs/methods.md, "The recommendatio
 
 The planted corpus (the invented rail operator's line) has six reasons, one of them in ten
 of every fifteen calls. At K = 3 that reason's theme leads about 60% of the calls, below
-2.5/3 = 83%; at K = 6 it still leads over half of them, far above 2.5/6 = 42%: the K that
-would otherwise win on coherence is set aside as a catch-all.
+2.5/3 = 83%; at K = 6 it still leads over half of them, above both 2.5/6 = 42% and the
+floor of 35% (the defaults): the K that would otherwise win on coherence is set aside as
+a catch-all.
 """
 
 from __future__ import annotations
@@ -18,7 +19,7 @@ from typer.testing import CliRunner
 from talkthemes.cli._common import app
 from talkthemes.demo.harness import PlantedWorkspace, build_workspace
 from talkthemes.demo.planted import PlantedSpec
-from talkthemes.metrics.evenness import is_catch_all, largest_lead_share
+from talkthemes.metrics.evenness import catch_all_threshold, is_catch_all, largest_lead_share
 from talkthemes.models.factory import make_model
 from talkthemes.sweep.split import split_rows, subsample_rows
 
@@ -36,6 +37,8 @@ def test_largest_lead_share_counts_lead_themes() -> None:
     assert largest_lead_share(theta) == pytest.approx(3 / 4)  # a tie goes to the first
     assert np.isnan(largest_lead_share(np.zeros((0, 3))))
     assert is_catch_all(0.43, 6, 2.5) and not is_catch_all(0.41, 6, 2.5)
+    assert not is_catch_all(0.43, 6, 2.5, 0.45)  # the floor
+    assert catch_all_threshold(10, 2.5, 0.35) == 0.35 and catch_all_threshold(4, 2.5, 0.35) == 0.625
     assert not is_catch_all(0.9, 6, 0) and not is_catch_all(float("nan"), 6, 2.5)
 
 

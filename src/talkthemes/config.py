@@ -362,7 +362,17 @@ class SweepSettings(_Section):
         ge=0,
         description=(
             "A K at which one theme leads more than this many times an even share (1/K) of "
-            "the transcripts is set aside as a catch-all; 0 = no check."
+            "the transcripts, and more than catch_all_share, is set aside as a catch-all; "
+            "0 = no check."
+        ),
+    )
+    catch_all_share: float = Field(
+        0.35,
+        ge=0,
+        le=1,
+        description=(
+            "The smallest share of transcripts a catch-all theme leads, whatever K (at a "
+            "large K the largest true reason alone leads many times 1/K)."
         ),
     )
     scheduler: str = Field("", description="Dask scheduler address; empty = a local cluster.")

@@ -4,7 +4,7 @@ A transcript's *lead theme* is the theme with its largest share. When the themes
 distinct reasons for calling, each leads a slice of the corpus of the order of 1/K; a
 *catch-all* theme (a few words common to many calls, such as a greeting or a place name
 that survived preparation) leads a share out of all proportion to 1/K. The test is our own;
-its threshold and the figures behind it are in docs/methods.md, "The recommendation".
+its thresholds and the figures behind them are in docs/methods.md, "The recommendation".
 """
 
 from __future__ import annotations
@@ -14,7 +14,7 @@ from numpy.typing import ArrayLike
 
 from talkthemes.errors import InputError
 
-__all__ = ["is_catch_all", "largest_lead_share"]
+__all__ = ["catch_all_threshold", "is_catch_all", "largest_lead_share"]
 
 
 def largest_lead_share(doc_topics: ArrayLike) -> float:
@@ -45,12 +45,25 @@ def largest_lead_share(doc_topics: ArrayLike) -> float:
     return float(leads.max() / theta.shape[0])
 
 
-def is_catch_all(share: float, k: int, ratio: float) -> bool:
+def catch_all_threshold(k: int, ratio: float, min_share: float = 0.0) -> float:
+    """The lead share above which a theme is a catch-all at ``k`` themes:
+    ``max(ratio / k, min_share)``; infinite when ``ratio`` is 0 (the check is off).
+
+    ``ratio / k`` compares the share with an even split; ``min_share`` keeps the test from
+    firing at a large K, where an even split is small and the largest true reason alone
+    leads many times it.
+    """
+    if ratio <= 0:
+        return float("inf")
+    return max(ratio / k, min_share)
+
+
+def is_catch_all(share: float, k: int, ratio: float, min_share: float = 0.0) -> bool:
     """Whether one theme leading ``share`` of the transcripts at ``k`` themes is a catch-all.
 
-    True when ``share > ratio / k``; never when ``ratio`` is 0 (the check is off) or the
-    share is unknown (NaN: a sweep recorded before the share was kept).
+    True when ``share`` exceeds :func:`catch_all_threshold`; never when ``ratio`` is 0 or
+    the share is unknown (NaN: a sweep recorded before the share was kept).
     """
-    if ratio <= 0 or not np.isfinite(share):
+    if not np.isfinite(share):
         return False
-    return bool(share > ratio / k)
+    return bool(share > catch_all_threshold(k, ratio, min_share))

@@ -34,10 +34,11 @@ import numpy as np
 import pandas as pd
 
 from talkthemes.config import SweepSettings
-from talkthemes.metrics.evenness import is_catch_all
+from talkthemes.metrics.evenness import catch_all_threshold, is_catch_all
 
 __all__ = [
     "CATCH_ALL_RATIO",
+    "CATCH_ALL_SHARE",
     "RANKABLE",
     "Recommendation",
     "best_family",
@@ -48,8 +49,10 @@ __all__ = [
 #: Coherence measures a recommendation can rank by, with "higher is better" for all.
 RANKABLE = ("c_npmi", "c_v", "c_uci", "u_mass")
 
-#: Default of ``[sweep] catch_all_ratio``; the figures behind it are in docs/methods.md.
+#: Defaults of ``[sweep] catch_all_ratio`` and ``catch_all_share``; the figures behind them
+#: are in docs/methods.md, "The recommendation".
 CATCH_ALL_RATIO: float = SweepSettings.model_fields["catch_all_ratio"].default
+CATCH_ALL_SHARE: float = SweepSettings.model_fields["catch_all_share"].default
 
 _FIT_COLUMN = {"lda": "perplexity", "nmf": "reconstruction_error"}
 _FIT_NAME = {"perplexity": "held-out perplexity", "reconstruction_error": "reconstruction error"}
@@ -147,15 +150,21 @@ def _fmt(x: float) -> str:
     return f"{x:.3f}" if abs(x) < 100 else f"{x:,.0f}"
 
 
-def _catch_all_ks(s: pd.DataFrame, ratio: float) -> list[int]:
+def _catch_all_ks(s: pd.DataFrame, ratio: float, min_share: float) -> list[int]:
     """The K of one family's summary whose largest lead theme is a catch-all."""
     if "largest_lead_share" not in s.columns:
         return []
     return [
         int(r["k"])
         for _, r in s.iterrows()
-        if is_catch_all(float(r["largest_lead_share"]), int(r["k"]), ratio)
+        if is_catch_all(float(r["largest_lead_share"]), int(r["k"]), ratio, min_share)
     ]
+
+
+def _catch_all_words(ratio: float, min_share: float) -> str:
+    """The catch-all test in words: "more than 2.5/K of the transcripts and more than 35%"."""
+    words = f"more than {ratio:g}/K of the transcripts"
+    return words + (f" and more than {_pct(min_share)}" if min_share > 0 else "")
 
 
 def _pct(x: float) -> str:
@@ -168,6 +177,7 @@ def recommend(
     rank_by: str = "c_npmi",
     stability_min: float = 0.6,
     catch_all_ratio: float = CATCH_ALL_RATIO,
+    catch_all_share: float = CATCH_ALL_SHARE,
 ) -> dict[str, Recommendation]:
     """Apply the module's rule to every family in ``cells``.
 
@@ -179,11 +189,11 @@ def recommend(
         Coherence measure to rank by (one of :data:`RANKABLE`).
     stability_min : float
         Stability a K must reach to be eligible.
-    catch_all_ratio : float
-        A K whose largest lead theme leads more than ``catch_all_ratio / K`` of the
-        transcripts (mean over seeds of the cells' ``largest_lead_share``) is set aside as
-        a catch-all; 0 turns the check off. Cells without the column (sweeps recorded
-        before it was kept) skip the check.
+    catch_all_ratio, catch_all_share : float
+        A K whose largest lead theme leads more than ``catch_all_ratio / K`` and more than
+        ``catch_all_share`` of the transcripts (mean over seeds of the cells'
+        ``largest_lead_share``) is set aside as a catch-all; a ratio of 0 turns the check
+        off. Cells without the column (sweeps recorded before it was kept) skip the check.
 
     Returns
     -------
@@ -199,7 +209,7 @@ def recommend(
         s = s[np.isfinite(s["coherence"])]
         if s.empty:
             continue
-        catch_all = _catch_all_ks(s, catch_all_ratio)
+        catch_all = _catch_all_ks(s, catch_all_ratio, catch_all_share)
         usable = s[~s["k"].isin(catch_all)]
         all_catch_all = usable.empty
         if all_catch_all:
@@ -220,8 +230,8 @@ def recommend(
         )
         if catch_all_ratio > 0:
             rule += (
-                f" and no catch-all theme (one theme leading more than {catch_all_ratio:g}/K "
-                "of the transcripts)"
+                " and no catch-all theme (one theme leading "
+                f"{_catch_all_words(catch_all_ratio, catch_all_share)})"
             )
         reasons = [
             f"K={k}: mean {name} {_fmt(chosen['coherence'])} ± {_fmt(chosen['coherence_se'])} "
@@ -248,7 +258,9 @@ def recommend(
                     f"seed stability {_fmt(chosen['stability'])} ≥ {stability_min:.2f}: the same "
                     "themes come back with other random seeds"
                 )
-        reasons += _evenness_reasons(s, chosen, catch_all, all_catch_all, catch_all_ratio)
+        reasons += _evenness_reasons(
+            s, chosen, catch_all, all_catch_all, catch_all_ratio, catch_all_share
+        )
         if "diversity" in s.columns and np.isfinite(chosen.get("diversity", np.nan)):
             reasons.append(
                 f"topic diversity {_fmt(chosen['diversity'])} (share of distinct words among "
@@ -266,9 +278,10 @@ def recommend(
         for _, r in s[s["k"] != k].sort_values("coherence", ascending=False).head(3).iterrows():
             stab = float(r["stability"]) if has_stab else float("nan")
             if int(r["k"]) in catch_all and not all_catch_all:
+                limit = catch_all_threshold(int(r["k"]), catch_all_ratio, catch_all_share)
                 why = (
                     f"catch-all: one theme leads {_pct(r['largest_lead_share'])} of the "
-                    f"transcripts (> {catch_all_ratio:g}/K = {_pct(catch_all_ratio / r['k'])})"
+                    f"transcripts (more than {_pct(limit)} at K={int(r['k'])})"
                 )
             elif has_stab and stab < stability_min and not weak:
                 why = f"less stable across seeds ({_fmt(stab)} < {stability_min:.2f})"
@@ -299,7 +312,12 @@ def recommend(
 
 
 def _evenness_reasons(
-    s: pd.DataFrame, chosen: pd.Series, catch_all: list[int], every: bool, ratio: float
+    s: pd.DataFrame,
+    chosen: pd.Series,
+    catch_all: list[int],
+    every: bool,
+    ratio: float,
+    min_share: float,
 ) -> list[str]:
     """What the reasons say about how evenly the lead themes split the transcripts."""
     if "largest_lead_share" not in s.columns or not np.isfinite(
@@ -312,17 +330,17 @@ def _evenness_reasons(
     if catch_all:
         shares = s.set_index("k")["largest_lead_share"]
         listed = ", ".join(f"K={c} ({_pct(shares[c])})" for c in catch_all)
+        test = _catch_all_words(ratio, min_share)
         if every:
             out.append(
-                f"every K has a catch-all theme, one theme leading more than {ratio:g}/K of "
-                f"the transcripts: {listed}; this K is the best of them, but check its largest "
-                "theme before trusting the others"
+                f"every K has a catch-all theme, one theme leading {test}: {listed}; this K "
+                "is the best of them, but read its largest theme before trusting the others"
             )
         else:
             out.append(
-                f"set aside as catch-all (one theme leads more than {ratio:g}/K of the "
-                f"transcripts): {listed}; such a theme gathers words common to many calls, "
-                "or one reason far ahead of the others — its top words tell which"
+                f"set aside as catch-all (one theme leads {test}): {listed}; such a theme "
+                "gathers words common to many calls, or one reason far ahead of the others "
+                "— its top words tell which"
             )
     if not every:
         out.append(

@@ -331,6 +331,7 @@ def _score(
         rank_by=settings.rank_by,
         stability_min=settings.stability_min,
         catch_all_ratio=settings.catch_all_ratio,
+        catch_all_share=settings.catch_all_share,
     )
     frame.to_parquet(folder / "cells.parquet.tmp", index=False)
     os.replace(folder / "cells.parquet.tmp", folder / "cells.parquet")
