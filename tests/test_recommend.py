@@ -83,7 +83,7 @@ def test_unknown_measure_is_refused() -> None:
         recommend(_cells({5: ([0.1], 0.9)}), rank_by="accuracy")
 
 
-def test_best_family_prefers_stable_then_more_coherent() -> None:
+def test_best_family_prefers_usable_then_stable_then_coherent() -> None:
     from talkthemes.sweep.recommend import best_family
 
     cells = pd.concat(
@@ -95,10 +95,27 @@ def test_best_family_prefers_stable_then_more_coherent() -> None:
     recs = recommend(cells, stability_min=0.6)
     assert recs["lda"].weak and not recs["nmf"].weak
     assert best_family(recs, cells) == "nmf"
+    # both usable: the more stable family wins, even against higher coherence
     cells2 = pd.concat(
-        [_cells({5: ([0.30, 0.30], 0.9)}, "lda"), _cells({5: ([0.20, 0.20], 0.9)}, "nmf")]
+        [_cells({5: ([0.20, 0.20], 0.92)}, "lda"), _cells({5: ([0.30, 0.30], 0.88)}, "nmf")]
     )
     assert best_family(recommend(cells2), cells2) == "lda"
+    # equally stable: the higher coherence wins
+    cells3 = pd.concat(
+        [_cells({5: ([0.20, 0.20], 0.9)}, "lda"), _cells({5: ([0.30, 0.30], 0.9)}, "nmf")]
+    )
+    assert best_family(recommend(cells3), cells3) == "nmf"
+
+
+def test_best_family_sets_a_catch_all_recommendation_below_a_usable_one() -> None:
+    from talkthemes.sweep.recommend import best_family
+
+    lda = _cells({4: ([0.2, 0.2], 0.95)}, "lda").assign(largest_lead_share=0.9)
+    nmf = _cells({4: ([0.1, 0.1], 0.7)}, "nmf").assign(largest_lead_share=0.3)
+    cells = pd.concat([lda, nmf])
+    recs = recommend(cells)
+    assert recs["lda"].catch_all == [4] and not recs["lda"].usable
+    assert best_family(recs, cells) == "nmf"  # usable beats more stable
 
 
 # -- catch-all K: one theme leading a disproportionate share of the transcripts --------------
