@@ -5,10 +5,14 @@ ingested and prepared by the product; NMF and LDA are fitted at the true K exact
 ``publish`` fits them, and each call's lead theme is scored against its true reason with
 scikit-learn's NMI and ARI (scikit-learn's metrics, version as installed).
 
-The floors are well below what today's code reaches (measured on corpus seeds 0–4, model
-seed 0–2: NMF NMI 0.87–0.92, ARI 0.89–0.93; LDA NMI 0.82–0.95, ARI 0.70–0.96; k-means
-0.87–0.92) and far above what broken themes give (a random lead theme scores NMI ≈ 0):
-they catch a change that breaks the themes, not a small shift of the figures.
+The floors are well below what today's code reaches and far above what broken themes give
+(a random lead theme scores NMI ≈ 0): they catch a change that breaks the themes, not a
+small shift of the figures. Measured 2026-12-05 on this corpus with corpus seeds 0–4 and
+model seeds 0–2 (a shared 2-core machine; the figures do not depend on it): NMF NMI
+0.873–0.921, ARI 0.893–0.932; LDA NMI 0.870–0.952, ARI 0.821–0.962 (before LDA was trained
+to convergence: NMI 0.82–0.95, ARI 0.70–0.96, hence its lower floor then); k-means NMI
+0.877–0.934, ARI 0.898–0.944. Both families now have the floors NMI 0.75, ARI 0.7 (the
+LDA left short of convergence that issue 12 reported scored ARI 0.69 on its corpus).
 """
 
 from __future__ import annotations
@@ -48,7 +52,7 @@ def test_prep_keeps_the_regular_calls_and_drops_the_boilerplate(pw: PlantedWorks
 
 
 @pytest.mark.parametrize(("family", "nmi_floor", "ari_floor"), [("nmf", 0.75, 0.7),
-                                                                ("lda", 0.65, 0.5)])  # fmt: skip
+                                                                ("lda", 0.75, 0.7)])  # fmt: skip
 def test_lead_themes_recover_the_planted_reasons(
     pw: PlantedWorkspace, family: str, nmi_floor: float, ari_floor: float
 ) -> None:

@@ -83,7 +83,7 @@ def test_unknown_measure_is_refused() -> None:
         recommend(_cells({5: ([0.1], 0.9)}), rank_by="accuracy")
 
 
-def test_best_family_prefers_stable_then_more_coherent() -> None:
+def test_best_family_prefers_usable_then_stable_then_coherent() -> None:
     from talkthemes.sweep.recommend import best_family
 
     cells = pd.concat(
@@ -95,7 +95,90 @@ def test_best_family_prefers_stable_then_more_coherent() -> None:
     recs = recommend(cells, stability_min=0.6)
     assert recs["lda"].weak and not recs["nmf"].weak
     assert best_family(recs, cells) == "nmf"
+    # both usable: the more stable family wins, even against higher coherence
     cells2 = pd.concat(
-        [_cells({5: ([0.30, 0.30], 0.9)}, "lda"), _cells({5: ([0.20, 0.20], 0.9)}, "nmf")]
+        [_cells({5: ([0.20, 0.20], 0.92)}, "lda"), _cells({5: ([0.30, 0.30], 0.88)}, "nmf")]
     )
     assert best_family(recommend(cells2), cells2) == "lda"
+    # equally stable: the higher coherence wins
+    cells3 = pd.concat(
+        [_cells({5: ([0.20, 0.20], 0.9)}, "lda"), _cells({5: ([0.30, 0.30], 0.9)}, "nmf")]
+    )
+    assert best_family(recommend(cells3), cells3) == "nmf"
+
+
+def test_best_family_sets_a_catch_all_recommendation_below_a_usable_one() -> None:
+    from talkthemes.sweep.recommend import best_family
+
+    lda = _cells({4: ([0.2, 0.2], 0.95)}, "lda").assign(largest_lead_share=0.9)
+    nmf = _cells({4: ([0.1, 0.1], 0.7)}, "nmf").assign(largest_lead_share=0.3)
+    cells = pd.concat([lda, nmf])
+    recs = recommend(cells)
+    assert recs["lda"].catch_all == [4] and not recs["lda"].usable
+    assert best_family(recs, cells) == "nmf"  # usable beats more stable
+
+
+# -- catch-all K: one theme leading a disproportionate share of the transcripts --------------
+
+
+def _with_lead(cells: pd.DataFrame, shares: dict[int, float]) -> pd.DataFrame:
+    out = cells.copy()
+    out["largest_lead_share"] = [shares[int(k)] for k in out["k"]]
+    return out
+
+
+def test_a_catch_all_k_is_set_aside_and_the_reasons_say_so() -> None:
+    cells = _cells({4: ([0.10, 0.10], 0.9), 6: ([0.20, 0.20], 0.9), 8: ([0.12, 0.12], 0.9)})
+    # K=6 is the most coherent, but one theme leads 53% of the transcripts (> 2.5/6 = 42%)
+    cells = _with_lead(cells, {4: 0.40, 6: 0.53, 8: 0.20})
+    rec = recommend(cells, catch_all_ratio=2.5)["lda"]
+    assert rec.catch_all == [6]
+    assert rec.k == 8 and rec.usable
+    assert any("set aside as catch-all" in r and "K=6 (53%)" in r for r in rec.reasons)
+    assert any("largest theme leads 20% of the transcripts at K=8" in r for r in rec.reasons)
+    assert rec.rule.endswith(
+        "and no catch-all theme (one theme leading more than 2.5/K of the transcripts and "
+        "more than 35%)"
+    )
+    why = {r["k"]: r["why_not"] for r in rec.runners_up}
+    assert why[6] == "catch-all: one theme leads 53% of the transcripts (more than 42% at K=6)"
+    assert rec.to_dict()["catch_all"] == [6]
+    # 40% at K=4 is within 2.5/4 = 62.5%: not a catch-all; the check off keeps K=6
+    off = recommend(cells, catch_all_ratio=0)["lda"]
+    assert off.k == 6 and off.catch_all == []
+
+
+def test_the_threshold_is_relative_to_an_even_share_with_a_floor() -> None:
+    cells = _with_lead(_cells({5: ([0.2, 0.2], 0.9), 10: ([0.1, 0.1], 0.9)}), {5: 0.49, 10: 0.3})
+    # without the floor: 0.30 > 2.5/10 at K=10, 0.49 < 2.5/5 at K=5
+    assert recommend(cells, catch_all_ratio=2.5, catch_all_share=0)["lda"].catch_all == [10]
+    assert recommend(cells, catch_all_ratio=3.1, catch_all_share=0)["lda"].catch_all == []
+    # the floor: at K=10 one theme must also lead more than 35% (the default)
+    assert recommend(cells, catch_all_ratio=2.5)["lda"].catch_all == []
+    assert recommend(cells, catch_all_ratio=2.5, catch_all_share=0.29)["lda"].catch_all == [10]
+    assert recommend(cells, catch_all_ratio=2.0, catch_all_share=0.35)["lda"].catch_all == [5]
+
+
+def test_every_k_a_catch_all_keeps_a_recommendation_that_says_so() -> None:
+    cells = _with_lead(_cells({4: ([0.1, 0.1], 0.9), 6: ([0.2, 0.2], 0.9)}), {4: 0.9, 6: 0.8})
+    rec = recommend(cells, catch_all_ratio=2.5)["lda"]
+    assert rec.k == 6 and rec.catch_all == [4, 6]
+    assert not rec.usable and not rec.weak
+    assert any(r.startswith("every K has a catch-all theme") for r in rec.reasons)
+
+
+def test_cells_without_the_lead_share_skip_the_check() -> None:
+    cells = _cells({4: ([0.1, 0.1], 0.9), 6: ([0.2, 0.2], 0.9)})  # a sweep recorded before
+    rec = recommend(cells, catch_all_ratio=2.5)["lda"]
+    assert rec.k == 6 and rec.catch_all == []
+    assert not any("leads" in r for r in rec.reasons)
+    partial = _with_lead(cells, {4: 0.3, 6: float("nan")})  # an old cell mixed in
+    assert recommend(partial, catch_all_ratio=2.5)["lda"].catch_all == []
+
+
+def test_an_old_stored_recommendation_loads_without_the_field() -> None:
+    from talkthemes.sweep.recommend import Recommendation
+
+    stored = recommend(_cells({5: ([0.1, 0.1], 0.9)}))["lda"].to_dict()
+    del stored["catch_all"]
+    assert Recommendation(**stored).catch_all == []

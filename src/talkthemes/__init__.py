@@ -12,7 +12,7 @@ them as new calls arrive. From Python (a worked example is in ``docs/api.md``)::
     result = ws.sweep(k="4:16:2", families="nmf", seeds=2)
     ws.publish(recommended=True)
     ws.themes()                               # DataFrame, one row per theme
-    ws.assign(["my bill went up again"])      # DataFrame of theme shares
+    ws.assign(["my bill went up again"])      # a row per text; this one: too short, unthemed
 
 Every error raised on purpose derives from one root::
 
@@ -60,6 +60,7 @@ if TYPE_CHECKING:  # imported on first access at run time (see the module notes)
     from talkthemes.sweep.run import SweepResult
     from talkthemes.versions.load import Version
     from talkthemes.versions.publish import PublishResult
+    from talkthemes.versions.unthemed import UnthemedGroup
 
 #: Public names whose modules are heavy, and the module each is imported from on first use.
 _DEFERRED = {
@@ -70,6 +71,7 @@ _DEFERRED = {
     "Recommendation": "talkthemes.sweep.recommend",
     "RefreshResult": "talkthemes.refresh.run",
     "SweepResult": "talkthemes.sweep.run",
+    "UnthemedGroup": "talkthemes.versions.unthemed",
     "Version": "talkthemes.versions.load",
     "rich_progress": "talkthemes.api.progress",
     "tqdm_progress": "talkthemes.api.progress",
@@ -100,6 +102,7 @@ __all__ = [
     "Transcript",
     "Turn",
     "Unmerge",
+    "UnthemedGroup",
     "Version",
     "Warning_",
     "Workspace",

@@ -5,8 +5,9 @@ them too), prepares them exactly as the version's training data was
 (:class:`~talkthemes.prepare.frozen.PrepApplier`) and infers their shares: for LDA with gensim's
 E-step on the model restored from its saved ``.npy`` state (deterministic for the version's
 seed and the input order), for NMF by solving for the weights with the topics held fixed,
-on TF-IDF with the saved idf. A transcript with no word in the vocabulary gets a row with
-no lead theme and the reason.
+on TF-IDF with the saved idf. A transcript with fewer terms of the vocabulary than the
+version's ``min_tokens`` gets a row too, in the **unthemed** group (no lead theme, the
+reason given), as the version's own short calls are (docs/methods.md, "The unthemed group").
 """
 
 from __future__ import annotations
@@ -28,10 +29,11 @@ from talkthemes.errors import InputError, NotReadyError
 from talkthemes.ingest.decode import check_fallback
 from talkthemes.ingest.detect import iter_files, read_file
 from talkthemes.ingest.run import ingest
-from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec
+from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec, too_few_terms
 from talkthemes.progress import Progress, report
 from talkthemes.versions.export import write_table
 from talkthemes.versions.load import Version, load_version
+from talkthemes.versions.unthemed import UNTHEMED
 from talkthemes.workspace import Workspace
 
 __all__ = [
@@ -116,19 +118,23 @@ def assign_frame(
     theme_ids: Sequence[int],
     labels: Sequence[str],
     suggested: Sequence[str] | None = None,
+    *,
+    min_tokens: int = 1,
 ) -> pd.DataFrame:
-    """The assignment table: the layout of ``export`` plus ``known_terms`` and ``reason``.
+    """The assignment table: the layout of ``export`` with ``known_terms`` before ``reason``.
 
-    Columns: ``transcript_id``, ``lead_theme_id`` (empty when the transcript has no word
-    in the vocabulary), ``lead_theme_label``, ``lead_share``, ``lead_theme_suggested_name``
-    (when ``suggested`` names are given), one ``share_<theme id>`` per theme,
-    ``known_terms`` (tokens in the vocabulary) and ``reason`` (why there is no lead theme;
-    empty otherwise).
+    Columns: ``transcript_id``, ``lead_theme_id``, ``lead_theme_label``, ``lead_share``,
+    ``lead_theme_suggested_name`` (when ``suggested`` names are given), one
+    ``share_<theme id>`` per theme, ``known_terms`` (tokens in the vocabulary) and
+    ``reason``. A transcript with fewer than ``min_tokens`` known terms (the version's
+    ``[prepare] min_tokens``, the rule that left such calls out of its training) is
+    **unthemed**, as in ``export``: no lead theme id and no shares, the label and suggested
+    name say ``unthemed`` and ``reason`` says why (empty on themed rows).
     """
     n, k = len(applied.doc_ids), len(theme_ids)
     if shares.shape != (n, k):
         raise InputError(f"assign: {shares.shape} shares for {n} transcripts and {k} themes")
-    has = applied.known > 0
+    has = (applied.known > 0) & (applied.known >= min_tokens)
     values = np.where(has[:, None], np.round(np.asarray(shares, dtype=np.float64), 6), np.nan)
     lead = np.argmax(shares, axis=1) if k else np.zeros(n, dtype=np.int64)
     ids = np.asarray(theme_ids, dtype=np.int64)
@@ -139,28 +145,49 @@ def assign_frame(
                 [int(ids[i]) if h else None for i, h in zip(lead, has, strict=True)],
                 dtype="Int64",
             ),
-            "lead_theme_label": [labels[i] if h else "" for i, h in zip(lead, has, strict=True)],
+            "lead_theme_label": [
+                labels[i] if h else UNTHEMED for i, h in zip(lead, has, strict=True)
+            ],
             "lead_share": values[np.arange(n), lead] if k else np.full(n, np.nan),
         }
     )
     if suggested is not None:
         frame["lead_theme_suggested_name"] = [
-            suggested[i] if h else "" for i, h in zip(lead, has, strict=True)
+            suggested[i] if h else UNTHEMED for i, h in zip(lead, has, strict=True)
         ]
     share_cols = pd.DataFrame(values, columns=[f"share_{t}" for t in ids])
-    tail = pd.DataFrame(
-        {
-            "known_terms": applied.known.astype(np.int64),
-            "reason": [r or "" for r in applied.reasons],
-        }
-    )
+    reasons = [
+        "" if h else (r or too_few_terms(int(known), min_tokens))
+        for h, r, known in zip(has, applied.reasons, applied.known, strict=True)
+    ]
+    tail = pd.DataFrame({"known_terms": applied.known.astype(np.int64), "reason": reasons})
     return pd.concat([frame, share_cols, tail], axis=1)
 
 
 # -- the command -------------------------------------------------------------------------
 @dataclass
 class AssignResult:
-    """What :func:`assign` did."""
+    """What :func:`assign` did.
+
+    Attributes
+    ----------
+    out : Path
+        The table written.
+    version : int
+    rows : int
+        Transcripts in the table.
+    assigned : int
+        Rows with a lead theme.
+    unassigned : int
+        Rows of the unthemed group (fewer known terms than the version's ``min_tokens``).
+    rejects : list of Reject
+    warnings : list of Warning_
+    seconds : float
+    stored : dict, optional
+        The ingest report when the transcripts were stored too.
+    no_known_words : int
+        Unthemed rows with no word of the vocabulary at all.
+    """
 
     out: Path
     version: int
@@ -171,6 +198,7 @@ class AssignResult:
     warnings: list[Warning_]
     seconds: float
     stored: dict[str, Any] | None = None
+    no_known_words: int = 0
 
     @property
     def exit_code(self) -> int:
@@ -183,12 +211,14 @@ class AssignResult:
         return self.rows / self.seconds if self.seconds > 0 else float("inf")
 
     def to_json(self) -> dict[str, Any]:
+        """A JSON-ready dict (what ``assign --json`` prints)."""
         return {
             "out": str(self.out),
             "version": self.version,
             "rows": self.rows,
             "assigned": self.assigned,
-            "without_known_words": self.unassigned,
+            "unthemed": self.unassigned,
+            "without_known_words": self.no_known_words,
             "seconds": round(self.seconds, 3),
             "transcripts_per_second": round(self.per_second, 1),
             "rejects": [
@@ -279,6 +309,7 @@ def assign_items(
     labels = [t.label for t in version.themes]
     suggested = version.suggested_names()
     ids = version.theme_ids
+    min_tokens = applier.spec.settings.min_tokens
     rejects: list[Reject] = []
     warnings: list[Warning_] = []
     frames = []
@@ -286,7 +317,7 @@ def assign_items(
     for batch in _batches(items, batch_size, rejects, warnings):
         applied = applier.apply(batch)
         shares = version.fold(model.shares(applied.counts))  # merged themes as one
-        frames.append(assign_frame(applied, shares, ids, labels, suggested))
+        frames.append(assign_frame(applied, shares, ids, labels, suggested, min_tokens=min_tokens))
         done += len(applied.doc_ids)
         report(progress, done, 0, applied.doc_ids[-1] if applied.doc_ids else "")
     if not frames:
@@ -374,4 +405,5 @@ def assign(
         warnings=warnings,
         seconds=seconds,
         stored=stored,
+        no_known_words=int((frame["known_terms"] == 0).sum()),
     )

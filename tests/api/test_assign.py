@@ -12,10 +12,15 @@ import pytest
 
 import talkthemes as tt
 
+#: Each caller says it several times over: a transcript needs ``[prepare] min_tokens`` (20)
+#: words the version knows to get a lead theme (fewer: the unthemed group).
 CALLS = {
-    "a1": "Agent: Thanks for calling.\nCustomer: My smart meter display shows no reading.",
-    "b2": "Customer: The direct debit took two payments this month and I want a refund.",
-    "c3": "Customer: There is a gas leak smell near the boiler, please send someone.",
+    "a1": "Agent: Thanks for calling.\nCustomer: "
+    + " ".join(["My smart meter display shows no reading, the meter reading is blank."] * 5),
+    "b2": "Customer: "
+    + " ".join(["The direct debit took two payments this month and I want a refund."] * 5),
+    "c3": "Customer: "
+    + " ".join(["There is a gas leak smell near the boiler, please send an engineer."] * 5),
 }
 
 
@@ -41,6 +46,7 @@ def test_texts_frames_and_files_give_the_same_shares(
     from_file = pd.read_parquet(written.out)
 
     assert from_frame["transcript_id"].tolist() == list(CALLS)
+    assert from_frame["lead_theme_id"].notna().all()  # long enough to carry a theme
     assert from_texts["transcript_id"].tolist() == ["0", "1", "2"]  # positions
     share_cols = [c for c in from_frame.columns if c.startswith("share_")]
     assert len(share_cols) == published.version().k
@@ -53,7 +59,7 @@ def test_texts_frames_and_files_give_the_same_shares(
 
 def test_a_text_of_one_themes_words_is_led_by_that_theme(published: tt.Workspace) -> None:
     themes = published.themes(lam=1.0, n_terms=8)
-    texts = [" ".join(t.replace("_", " ") for t in terms) for terms in themes["top_terms"]]
+    texts = [" ".join(t.replace("_", " ") for t in terms * 3) for terms in themes["top_terms"]]
     assigned = published.assign(texts)
     assert assigned["lead_theme_id"].tolist() == themes["theme_id"].tolist()
     assert (assigned["lead_share"] > 0.5).all()
@@ -66,6 +72,23 @@ def test_a_text_without_a_known_word_has_no_lead_theme_and_says_why(
 ) -> None:
     row = published.assign(["zzzq xxyv"]).iloc[0]
     assert pd.isna(row["lead_theme_id"]) and row["known_terms"] == 0 and row["reason"]
+    assert row["lead_theme_label"] == "unthemed"
+
+
+def test_a_text_with_fewer_known_words_than_min_tokens_is_unthemed(
+    published: tt.Workspace,
+) -> None:
+    assigned = published.assign(["my smart meter shows no reading", CALLS["b2"]])
+    short, long = assigned.iloc[0], assigned.iloc[1]
+    assert 0 < short["known_terms"] < 20  # the version's [prepare] min_tokens
+    assert pd.isna(short["lead_theme_id"]) and pd.isna(short["lead_share"])
+    assert short["lead_theme_label"] == short["lead_theme_suggested_name"] == "unthemed"
+    assert short["reason"] == (
+        f"{short['known_terms']} tokens in the vocabulary, fewer than min_tokens = 20"
+    )
+    assert assigned.filter(like="share_").iloc[0].isna().all()
+    assert long["known_terms"] >= 20 and not pd.isna(long["lead_theme_id"])
+    assert long["reason"] == "" and long["lead_theme_label"] != "unthemed"
 
 
 def test_rejected_inputs_raise_unless_asked_to_go_on(

@@ -46,7 +46,9 @@ def test_the_worked_example_runs(tmp_path: Path, monkeypatch: pytest.MonkeyPatch
     assert len(themes) == ns["recommendation"].k
     assert np.isclose(themes["coverage"].sum(), 1)
     shares = ns["shares"]
-    assert len(shares) == ns["prep"].summary["transcripts"]
+    summary = ns["prep"].summary  # the themed transcripts, then the unthemed group
+    assert len(shares) == summary["transcripts"] + summary["excluded"]
+    assert (shares["lead_theme_label"] == "unthemed").sum() == summary["excluded"] > 0
     # the label was set, shown as the name, and carried by the refresh
     assert ns["refreshed"].status == "published" and ns["refreshed"].version == 2
     after = ns["after"].set_index("theme_id")
@@ -58,7 +60,10 @@ def test_the_worked_example_runs(tmp_path: Path, monkeypatch: pytest.MonkeyPatch
     assert applied.applied and [c.theme_id for c in applied.changed] == [ns["meter"]]
     assert applied.changed[0].note == "Estimated bills, readings sent in"
     assert ns["sheet"].rows == len(themes) and Path("themes.csv").is_file()
-    # both assign calls found a lead theme for each new text
-    assert ns["assigned"]["lead_theme_id"].notna().all()
+    # the two whole calls have a lead theme; the wrong number is unthemed, saying why
+    assigned = ns["assigned"]
+    assert assigned["lead_theme_id"].notna().tolist() == [True, True, False]
+    assert assigned["lead_theme_label"].iloc[2] == "unthemed"
+    assert "fewer than min_tokens = 20" in assigned["reason"].iloc[2]
     assert ns["status"].stages["published"]["version"] == 2
     assert Path("shares.csv").is_file() and ns["exported"].rows == len(ws.shares())

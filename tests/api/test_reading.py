@@ -62,14 +62,43 @@ def test_shares_give_every_transcript_its_lead_theme(published: tt.Workspace) ->
         "lead_share",
         "lead_theme_suggested_name",
         *share_cols,
+        "reason",
     ]
-    assert shares["transcript_id"].tolist() == v.doc_ids
+    themed = shares.iloc[: len(v.doc_ids)]
+    assert themed["transcript_id"].tolist() == v.doc_ids
+    assert (themed["reason"] == "").all()
     names = dict(zip(v.theme_ids, v.suggested_names(), strict=True))
-    assert (shares["lead_theme_suggested_name"] == shares["lead_theme_id"].map(names)).all()
-    values = shares[share_cols].to_numpy()
+    assert (themed["lead_theme_suggested_name"] == themed["lead_theme_id"].map(names)).all()
+    values = themed[share_cols].to_numpy()
     assert np.allclose(values.sum(axis=1), 1, atol=1e-5)
     picked = np.asarray(v.theme_ids)[values.argmax(axis=1)]
-    assert (shares["lead_theme_id"].to_numpy() == picked).all()
+    assert (themed["lead_theme_id"].to_numpy() == picked).all()
+
+
+def test_the_unthemed_group_is_counted_and_exported(published: tt.Workspace) -> None:
+    group = published.unthemed()
+    v = published.version()
+    with published.folder.store() as store:
+        stored = store.count_transcripts()
+    assert group.count > 0 and group.count + len(v.doc_ids) == stored  # the demo's hang-ups
+    assert group.share == pytest.approx(group.count / stored)
+    assert sum(group.by_reason.values()) == group.count
+    shares = published.shares()
+    unthemed = shares.iloc[len(v.doc_ids) :]
+    assert len(shares) == stored and len(unthemed) == group.count
+    assert unthemed["transcript_id"].tolist() == list(group.reasons)
+    assert (unthemed["lead_theme_label"] == "unthemed").all()
+    assert (unthemed["lead_theme_suggested_name"] == "unthemed").all()
+    assert unthemed["lead_theme_id"].isna().all() and unthemed["lead_share"].isna().all()
+    assert unthemed.filter(like="share_").isna().all().all()
+    assert unthemed["reason"].tolist() == list(group.reasons.values())
+    assert group.to_json() == {
+        "count": group.count,
+        "share": round(group.count / stored, 6),
+        "by_reason": group.by_reason,
+    }
+    status = published.status().stages["published"]
+    assert status["unthemed"] == group.to_json()
 
 
 def test_export_writes_the_shares(published: tt.Workspace, tmp_path: Path) -> None:

@@ -61,7 +61,12 @@ def test_the_documents_show_what_the_store_holds(documents: dict[str, object]) -
     # the killed sweep's record says running; its process is gone, so status says interrupted
     assert status["stages"]["swept"] == {"id": 2, "at": "<time>", "status": "interrupted"}
     assert [u["cells_done"] for u in status["unfinished_sweeps"]] == [1]
-    assert status["stages"]["published"] == {"version": 1, "at": "<time>"}
+    # every stored transcript of the fixed workspace is in the version: none unthemed
+    assert status["stages"]["published"] == {
+        "version": 1,
+        "at": "<time>",
+        "unthemed": {"count": 0, "share": 0.0, "by_reason": {}},
+    }
     sweep = documents["sweep"]
     assert isinstance(sweep, dict)
     assert sweep["cached"] is True and sweep["recommendations"]["nmf"]["k"] == 3

@@ -125,9 +125,19 @@ def test_assign_frame_layout_and_unknown_rows() -> None:
         "share_9", "known_terms", "reason",
     ]  # fmt: skip
     assert frame.loc[0, "lead_theme_id"] == 9 and frame.loc[0, "lead_share"] == 0.8
-    assert pd.isna(frame.loc[1, "lead_theme_id"]) and frame.loc[1, "lead_theme_label"] == ""
+    assert pd.isna(frame.loc[1, "lead_theme_id"])
+    assert frame.loc[1, "lead_theme_label"] == "unthemed"  # the group, not an empty cell
     assert frame.loc[1, ["share_7", "share_9", "lead_share"]].isna().all()
     assert frame["reason"].tolist() == ["", NO_KNOWN_TERMS]
+    # with the version's min_tokens, 5 known terms are too few: unthemed, saying why
+    short = assign_frame(applied, shares, [7, 9], ["Seven", ""], ["s7", "s9"], min_tokens=6)
+    assert short["lead_theme_id"].isna().all() and short["lead_share"].isna().all()
+    assert short["lead_theme_label"].tolist() == ["unthemed", "unthemed"]
+    assert short["lead_theme_suggested_name"].tolist() == ["unthemed", "unthemed"]
+    assert short["reason"].tolist() == [
+        "5 tokens in the vocabulary, fewer than min_tokens = 6",
+        NO_KNOWN_TERMS,
+    ]
     with pytest.raises(InputError, match="shares"):
         assign_frame(applied, shares[:1], [7, 9], ["", ""])
 
@@ -152,11 +162,21 @@ def test_assign_cli_csv_and_parquet(
     frame = pd.read_csv(csv_path)
     assert len(frame) == n and frame["transcript_id"].str.startswith("C2026-10").all()
     export_cols = list(export_shares(v).columns)
-    assert list(frame.columns) == [*export_cols, "known_terms", "reason"]
+    assert export_cols[-1] == "reason"  # the export's layout, known_terms before the reason
+    assert list(frame.columns) == [*export_cols[:-1], "known_terms", "reason"]
     shares = frame[[f"share_{t}" for t in v.theme_ids]].to_numpy()
-    known = frame["known_terms"] > 0
-    np.testing.assert_allclose(shares[known].sum(axis=1), 1, atol=1e-4)
-    assert (frame.loc[known, "lead_share"] == shares[known].max(axis=1)).all()
+    themed = frame["lead_theme_id"].notna().to_numpy()
+    min_tokens = ws.settings().prepare.min_tokens
+    assert (frame.loc[themed, "known_terms"] >= min_tokens).all()
+    np.testing.assert_allclose(shares[themed].sum(axis=1), 1, atol=1e-4)
+    assert (frame.loc[themed, "lead_share"] == shares[themed].max(axis=1)).all()
+    # the inbox's hang-ups: rows of the unthemed group, counted in the JSON
+    unthemed = frame[~themed]
+    assert len(unthemed) == doc["unthemed"] > 0 and doc["assigned"] == themed.sum()
+    assert (unthemed["known_terms"] < min_tokens).all()
+    assert (unthemed["lead_theme_label"] == "unthemed").all()
+    assert unthemed["reason"].str.len().gt(0).all() and np.isnan(shares[~themed]).all()
+    assert doc["without_known_words"] == (frame["known_terms"] == 0).sum()
     with ws.store() as store:
         assert store.count_transcripts() == stored  # nothing stored without --store
     res = runner.invoke(cli.app, ["assign", str(demo_files.inbox), "--out", str(pq_path),
@@ -188,6 +208,8 @@ def test_assign_store_unknown_words_rejects_and_usage(
     frame = pd.read_csv(out, keep_default_na=False)
     assert frame["transcript_id"].tolist() == ["gibberish"]
     assert frame.loc[0, "lead_theme_id"] == "" and frame.loc[0, "reason"] == NO_KNOWN_TERMS
+    assert frame.loc[0, "lead_theme_label"] == "unthemed"  # said, not left empty
+    assert "Unthemed: 1 transcript (100.0%)" in " ".join(res.stdout.split())
     assert "broken.vtt" in res.stderr
 
     with ws.store() as store:

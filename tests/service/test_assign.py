@@ -6,10 +6,14 @@ from __future__ import annotations
 import pytest
 from tests.service.conftest import Service, copy_workspace, error_of, start
 
+#: Whole calls: each caller says it several times over, so every text has the version's
+#: ``[prepare] min_tokens`` (20) words it knows (a shorter one is unthemed, tested below).
 TEXTS = [
-    "Customer: my smart meter display has gone blank and shows no reading",
-    "Customer: you took the direct debit twice this month, I want a refund",
-    "Customer: water is leaking from a pipe in the street outside my house",
+    "Customer: "
+    + " ".join(["my smart meter display has gone blank and shows no meter reading."] * 7),
+    "Customer: "
+    + " ".join(["you took the direct debit payment twice this month, I want a refund."] * 5),
+    "Customer: " + " ".join(["water is leaking from a pipe in the street outside my house."] * 5),
 ]
 
 
@@ -62,6 +66,18 @@ def test_a_text_without_known_words_has_no_lead_theme(service: Service) -> None:
     (result,) = body["results"]
     assert result["lead_theme_id"] is None and result["shares"] is None
     assert result["known_terms"] == 0 and result["reason"]
+    assert result["lead_theme_name"] == "unthemed"
+
+
+def test_a_short_text_is_in_the_unthemed_group_not_dropped(service: Service) -> None:
+    items = [{"id": "short", "text": "my smart meter shows no reading"}, {"text": TEXTS[0]}]
+    body = service.post("/v1/assign", json={"items": items}).json()
+    short, long = body["results"]
+    assert short["id"] == "short" and 0 < short["known_terms"] < 20
+    assert short["lead_theme_id"] is None and short["lead_theme_name"] == "unthemed"
+    assert short["lead_share"] is None and short["shares"] is None
+    assert short["reason"].endswith("fewer than min_tokens = 20")
+    assert long["lead_theme_id"] is not None and long["reason"] == ""
 
 
 def test_an_older_version_answers_when_asked(service: Service) -> None:

@@ -35,6 +35,18 @@ def test_themes_are_the_apis_themes(service: Service) -> None:
     assert sum(t["coverage"] for t in body["themes"]) == pytest.approx(1)
 
 
+def test_themes_show_the_unthemed_group_with_its_count(service: Service) -> None:
+    body = service.get("/v1/themes").json()
+    with service.ws.folder.store() as store:
+        stored = store.count_transcripts()
+    unthemed = body["unthemed"]
+    # the demo's hang-ups and wrong numbers: stored, in no theme, counted here
+    assert unthemed["count"] > 0 and unthemed["count"] + body["transcripts"] == stored
+    assert unthemed["share"] == pytest.approx(unthemed["count"] / stored, abs=1e-6)
+    assert sum(unthemed["by_reason"].values()) == unthemed["count"]
+    assert unthemed == service.ws.unthemed().to_json()
+
+
 def test_a_label_becomes_the_name_and_the_suggestion_stays(service: Service) -> None:
     service.ws.label(2, "Leaks and outages")
     theme = next(t for t in service.get("/v1/themes").json()["themes"] if t["theme_id"] == 2)

@@ -26,11 +26,16 @@ from tests.service.conftest import copy_workspace
 import talkthemes as tt
 from talkthemes.demo.records import DemoFiles
 
+#: Whole calls (a caller who says it over and over): each has the version's
+#: ``[prepare] min_tokens`` words it knows, so each gets a lead theme and its shares.
 TEXTS = [
-    "Customer: my smart meter display has gone blank and shows no reading",
-    "Customer: you took the direct debit twice this month, I want a refund",
-    "Customer: water is leaking from a pipe in the street outside my house",
-    "Customer: I am moving house next week and need a final bill",
+    "Customer: " + " ".join([said] * 7)
+    for said in (
+        "my smart meter display has gone blank and shows no meter reading.",
+        "you took the direct debit payment twice this month, I want a refund.",
+        "water is leaking from a pipe in the street outside my house.",
+        "I am moving house next week and need a final bill and a meter reading.",
+    )
 ]
 
 

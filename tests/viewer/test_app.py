@@ -86,6 +86,15 @@ def test_the_map_is_the_first_section_once_published(demo_ws, monkeypatch) -> No
 
     links, cutoff = theme_links(layout.distances, version.theme_ids)
     assert f"under {cutoff:.3f} apart" in caption and (links["distance"] < cutoff).all()
+    # under the list of all themes: the unthemed group, with its count and share
+    from talkthemes.view.counts import version_unthemed
+
+    group = version_unthemed(version)
+    with demo_ws.ws.store() as store:
+        stored = store.count_transcripts()
+    assert group.count > 0 and group.count + len(version.doc_ids) == stored
+    line = f"Unthemed: {group.count:,} transcripts ({100 * group.count / stored:.1f}%)"
+    assert md_inline(line) in texts(at)
 
 
 def test_choose_k_shows_the_picked_cell_and_the_recommendation(demo_ws, monkeypatch) -> None:
@@ -206,7 +215,11 @@ def test_cards_say_the_relevance_sentence_once_and_measures_read_as_written(
     at = run(open_app(demo_ws.ws.root, monkeypatch), "theme_cards.py")
     shown = texts(at)
     assert shown.count(LAMBDA_HELP[:40]) <= 1 and "C_NPMI" in at.metric[2].label
-    assert "left out" in shown  # the counts say who is not in the themes, and why
+    # the counts say who is not in the themes, and why: the unthemed group
+    from talkthemes.view.counts import version_unthemed
+
+    group = version_unthemed(load_version(demo_ws.ws))
+    assert group.count > 0 and f"{group.count:,} unthemed" in shown
     run(at, "choose_k.py")
     shown = texts(at)
     assert "c_npmi" not in shown and "Runners-up, and why not" in shown

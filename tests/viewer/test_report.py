@@ -189,15 +189,22 @@ def test_the_footer_names_the_model_and_never_an_empty_cell(demo_ws, page: str) 
     assert footer(bare).endswith("from version 1 (LDA, K = 5).</footer>")
 
 
-def test_the_static_map_asks_for_no_click_and_counts_say_who_was_left_out(
+def test_the_static_map_asks_for_no_click_and_counts_say_who_is_unthemed(
     demo_ws, page: str
 ) -> None:
-    from talkthemes.view.counts import call_counts
+    from talkthemes.view.counts import call_counts, version_unthemed
 
     subtitle = " ".join(specs_of(page)["theme-map"]["title"]["subtitle"])
     assert "click" not in subtitle.lower()
-    sentence = call_counts(demo_ws.ws, load_version(demo_ws.ws)).sentence()
-    assert "left out" in sentence and html.escape(sentence) in page
+    version = load_version(demo_ws.ws)
+    sentence = call_counts(demo_ws.ws, version).sentence()
+    group = version_unthemed(version)
+    assert f"{group.count:,} unthemed" in sentence and html.escape(sentence) in page
+    # the unthemed group's card after the themes: its count, share and reasons
+    card = re.search(r'<article class="card" id="unthemed">(.*?)</article>', page, re.S)
+    assert card is not None and html.escape(group.sentence()) in card.group(1)
+    for why, n in group.by_reason.items():
+        assert f"<tr><td>{html.escape(why)}</td><td>{n:,}</td></tr>" in card.group(1)
 
 
 def test_planted_personal_data_never_reaches_the_report(ws_copy) -> None:

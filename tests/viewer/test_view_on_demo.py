@@ -72,9 +72,10 @@ def test_counts_account_for_every_stored_transcript(demo_ws) -> None:
         stored = store.count_transcripts()
     excluded = excluded_reasons(version.folder)
     assert counts.stored == stored and counts.shown == len(version.doc_ids)
-    assert counts.shown + counts.n_left_out == stored
-    assert counts.n_left_out == len(excluded) > 0  # the demo has short calls
-    assert f"{counts.n_left_out:,} left out" in counts.sentence()
+    assert counts.shown + counts.n_unthemed + counts.n_left_out == stored
+    assert counts.n_unthemed == len(excluded) > 0  # the demo has short calls
+    assert counts.n_left_out == 0  # nothing ingested after the version
+    assert f"{counts.n_unthemed:,} unthemed" in counts.sentence()
 
 
 def test_best_sentences_hold_the_lead_themes_words_and_no_personal_data(demo_ws) -> None:

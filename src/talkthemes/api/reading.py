@@ -34,13 +34,16 @@ if TYPE_CHECKING:  # heavy (numpy, pandas, scikit-learn): imported on first use,
     from talkthemes.sweep.recommend import Recommendation
     from talkthemes.versions import evidence_shown
     from talkthemes.versions import export as versions_export
+    from talkthemes.versions import unthemed as unthemed_mod
     from talkthemes.versions.evidence import EvidenceSentence
     from talkthemes.versions.load import Version
+    from talkthemes.versions.unthemed import UnthemedGroup
 else:
     pd = deferred("pandas")
     assign_mod = deferred("talkthemes.assign")
     evidence_shown = deferred("talkthemes.versions.evidence_shown")
     versions_export = deferred("talkthemes.versions.export")
+    unthemed_mod = deferred("talkthemes.versions.unthemed")
 
 __all__ = ["THEME_COLUMNS", "ReadingMixin"]
 
@@ -74,10 +77,15 @@ class ReadingMixin(WorkspaceBase):
         if stages.swept and sweeps["latest"]:  # 'running' of a killed sweep reads interrupted
             swept = dataclasses.replace(stages.swept, status=sweeps["latest"]["status"])
             stages = dataclasses.replace(stages, swept=swept)
+        stage_json = stages.to_json()
+        published = stage_json.get("published")
+        if published:  # the current version's unthemed group, read from its folder
+            folder = self._dir.versions_dir / str(published["version"])
+            published["unthemed"] = unthemed_mod.unthemed_group(folder).to_json()
         return Status(
             workspace=str(self._dir.root),
             **summary.to_json(),
-            stages=stages.to_json(),
+            stages=stage_json,
             unfinished_sweeps=sweeps["unfinished"],
         )
 
@@ -174,16 +182,40 @@ class ReadingMixin(WorkspaceBase):
             for i, t in enumerate(v.themes)
         }
 
+    def unthemed(self, version: int | None = None) -> UnthemedGroup:
+        """A version's unthemed group: its transcripts too short to carry a theme.
+
+        The transcripts its preparation left out (fewer than ``[prepare] min_tokens``
+        content terms, only greetings, no words...), counted with their reasons; every
+        screen and export shows them as one group (``docs/methods.md``, "The unthemed
+        group").
+
+        Parameters
+        ----------
+        version : int, optional
+            Default: the current version.
+
+        Returns
+        -------
+        UnthemedGroup
+            ``count``, ``share`` (of the version's transcripts, themed and unthemed),
+            ``by_reason`` and each transcript's ``reasons``.
+        """
+        v = self.version(version)
+        return unthemed_mod.unthemed_group(v.folder, v.doc_ids)
+
     def shares(self, version: int | None = None) -> pd.DataFrame:
         """Every transcript's theme shares under a version (default: the current one).
 
         Returns
         -------
         DataFrame
-            One row per transcript the version was trained on: ``transcript_id``,
-            ``lead_theme_id``, ``lead_theme_label``, ``lead_share``,
-            ``lead_theme_suggested_name``, then one column ``share_<theme id>`` per theme
-            (a row sums to 1; merged themes are one column).
+            One row per transcript of the version: ``transcript_id``, ``lead_theme_id``,
+            ``lead_theme_label``, ``lead_share``, ``lead_theme_suggested_name``, one column
+            ``share_<theme id>`` per theme (a row sums to 1; merged themes are one column)
+            and ``reason``. The themed transcripts come first; then the unthemed group
+            (:meth:`unthemed`), whose label and suggested name say ``unthemed``, with no
+            lead theme id, no shares and the preparation's reason.
         """
         return versions_export.export_shares(self.version(version))
 
@@ -219,8 +251,9 @@ class ReadingMixin(WorkspaceBase):
         Parameters
         ----------
         family : {'lda', 'nmf'}, optional
-            Default: the family whose recommendation is better (not weak, then higher
-            coherence at its K).
+            Default: the family ``publish --recommended`` takes (usable — not weak, not a
+            catch-all K — then the higher seed stability at its K, then the higher
+            coherence).
 
         Raises
         ------

@@ -246,7 +246,8 @@ class Status:
         Stored calls whose text equals another's without being judged a re-export.
     stages : dict
         ``prepared`` (``hash``, ``at``), ``swept`` (``id``, ``at``, ``status``) and
-        ``published`` (``version``, ``at``); each None until that stage has run.
+        ``published`` (``version``, ``at``, ``unthemed``: the count, share and reasons of
+        the version's unthemed group); each None until that stage has run.
     unfinished_sweeps : list of dict
         Sweeps of the current prep that stopped early: ``id``, ``status``, ``created_at``,
         ``cells_done``, ``cells_total`` and ``rerun`` (the command that finishes it).

@@ -49,6 +49,7 @@ class Workspace(WritingMixin, CuratingMixin, RecordsMixin, TokensMixin, CallsMix
     ``version``             a published version, loaded read-only                     —
     ``themes``              a version's themes (DataFrame)                            —
     ``evidence_sentences``  each theme's evidence sentences, personal data masked     —
+    ``unthemed``            a version's unthemed group: count, share, reasons         —
     ``shares``              every transcript's shares (DataFrame)                     —
     ``export``              the shares as CSV or Parquet                              —
     ``recommendation``      the latest sweep's recommended K                          —

@@ -8,6 +8,7 @@ import streamlit as st
 from talkthemes.app import _shared
 from talkthemes.charts.theme_map import theme_map_caption
 from talkthemes.text import md_inline, percent
+from talkthemes.view.counts import version_unthemed
 from talkthemes.view.theme_map import LINK_QUANTILE, LINKS_PER_THEME, theme_links
 from talkthemes.view.themes import boilerplate_advice, map_frame, theme_table
 
@@ -87,6 +88,12 @@ def render() -> None:
             "top_terms": st.column_config.TextColumn("Top words", width="large"),
             "hidden": st.column_config.CheckboxColumn("Hidden"),
         },
+    )
+    unthemed = version_unthemed(version)
+    st.markdown(md_inline(unthemed.sentence()))
+    st.caption(
+        "Transcripts with too few words to say what they are about (hang-ups, wrong numbers, "
+        "greetings only) are in no theme; the shares above are out of the others."
     )
 
 

@@ -1,7 +1,7 @@
 """The theme map: named tiles laid out by how alike the themes' words are, linked to their
 nearest themes, each showing the share of transcripts it leads.
 
-The design and its reasons are in docs/viewer.md, "The theme map". In short: every theme
+The design and its reasons are in docs/viewer.md, "Theme map". In short: every theme
 is a tile of the same size carrying its full name, so names are read, not hunted for,
 and never print over each other; the tiles sit on a grid in the arrangement of the
 similarity layout (:func:`grid_cells`, an optimal assignment of themes to grid cells

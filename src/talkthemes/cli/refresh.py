@@ -243,12 +243,17 @@ def print_assign(result: Any) -> None:
         f"({result.per_second:,.0f} per second) to {result.out}.",
         console=out,
     )
-    if result.unassigned:
-        say(
-            f"{result.unassigned:,} had no word in the version's vocabulary: empty lead theme, "
-            "reason in the 'reason' column.",
-            console=out,
-        )
+    unthemed = result.unassigned
+    say(
+        f"Unthemed: {unthemed:,} transcript{'' if unthemed == 1 else 's'}"
+        + (
+            f" ({100 * unthemed / result.rows:.1f}%) with too few words the themes know "
+            "(lead theme 'unthemed', reason in the 'reason' column)."
+            if unthemed and result.rows
+            else "."
+        ),
+        console=out,
+    )
     for r in result.rejects[:SHOWN]:
         where = r.source + (f", row {r.row}" if r.row is not None else "")
         say(("rejected", "red"), ": ", where, ": ", r.reason)

@@ -65,7 +65,8 @@ def themes(
     as_json: JsonOpt = False,
 ) -> None:
     """The current version's themes: name (suggested until labelled), coverage, mean share,
-    top terms, coherence; with --out, the spreadsheet to label them in."""
+    top terms, coherence, and the unthemed group; with --out, the spreadsheet to label them
+    in."""
     ws = open_workspace(workspace)
     if out_path is not None:
         check_output(out_path, "--out")
@@ -86,16 +87,19 @@ def themes(
     sentences = ws.evidence_sentences(v.n)  # personal data masked, as on screens
     for t in summary:
         t["evidence"] = [e.to_json() for e in sentences[t["theme_id"]]]
+    unthemed = ws.unthemed(v.n)
     if as_json:
         emit_json(
-            {"version": v.n, "family": v.info["family"], "k": v.k, "lambda": lam, "themes": summary}
-        )
+            {"version": v.n, "family": v.info["family"], "k": v.k, "lambda": lam,
+             "themes": summary, "unthemed": unthemed.to_json()}
+        )  # fmt: skip
         return
     say(
         f"Version {v.n}: {v.info['family']} K={v.k}, {len(v.doc_ids):,} transcripts (λ = {lam:g})",
         console=out,
     )
     out.print(ThemesTable(summary))
+    say(unthemed.sentence(), console=out)
     if any(not t["labelled"] for t in summary):
         say(
             "* suggested name, not labelled yet: 'talkthemes label ID TEXT' sets a label.",

@@ -134,8 +134,16 @@ def _stages(st: dict[str, Any]) -> Table:
     )
     table.add_row(
         "published",
-        cell(f"version {published['version']} at {published['at']}")
+        cell(f"version {published['version']} at {published['at']}{_unthemed(published)}")
         if published
         else "not yet — run 'talkthemes publish'",
     )
     return table
+
+
+def _unthemed(published: dict[str, Any]) -> str:
+    """ "; 17 unthemed (2.4%)": the published version's unthemed group, as ``status`` says it."""
+    group = published.get("unthemed")
+    if not group:
+        return ""
+    return f"; {group['count']:,} unthemed ({100 * group['share']:.1f}%)"

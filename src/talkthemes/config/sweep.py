@@ -112,6 +112,24 @@ class SweepSettings(_Section):
         le=1,
         description="K whose seed-to-seed stability is below this is not recommended.",
     )
+    catch_all_ratio: float = Field(
+        2.5,
+        ge=0,
+        description=(
+            "A K at which one theme leads more than this many times an even share (1/K) of "
+            "the transcripts, and more than catch_all_share, is set aside as a catch-all; "
+            "0 = no check."
+        ),
+    )
+    catch_all_share: float = Field(
+        0.35,
+        ge=0,
+        le=1,
+        description=(
+            "The smallest share of transcripts a catch-all theme leads, whatever K (at a "
+            "large K the largest true reason alone leads many times 1/K)."
+        ),
+    )
     scheduler: str = Field("", description="Dask scheduler address; empty = a local cluster.")
     workers: int = Field(0, ge=0, description="Local cluster workers; 0 = one per core.")
     scheduler_timeout: float = Field(

@@ -268,8 +268,10 @@ def sweep_and_score(
     -------
     rows : DataFrame
         One row per (family, K): ``family, k, seed`` (the one fitted), the
-        :class:`LeadScore` fields, ``stability`` and ``c_npmi`` (sweep means), and
-        ``recommended`` (this K is the family's recommendation).
+        :class:`LeadScore` fields, ``stability``, ``c_npmi`` and ``cell_lead_max`` (sweep
+        means; the last is the largest lead share of the cells' training transcripts, what
+        the catch-all check reads), ``recommended`` (this K is the family's
+        recommendation), ``weak`` and ``catch_all`` (the recommendation set this K aside).
     sweep : SweepResult
     """
     ws = pw.workspace
@@ -296,8 +298,12 @@ def sweep_and_score(
                     **score.to_dict(),
                     "stability": float(at["stability"].mean()),
                     "c_npmi": float(at["c_npmi"].mean()),
+                    "cell_lead_max": float(at["largest_lead_share"].mean())
+                    if "largest_lead_share" in at.columns
+                    else float("nan"),
                     "recommended": rec is not None and rec.k == k,
                     "weak": bool(rec.weak) if rec is not None else True,
+                    "catch_all": rec is not None and k in rec.catch_all,
                 }
             )
     return pd.DataFrame(rows), result

@@ -52,7 +52,7 @@ class FittedTopics:
     doc_topics : numpy.ndarray of shape (D, K), float64
         Row d is the document–topic distribution θ_d of training document d; every row
         sums to 1. Zero rows (shape (0, K)) when the fit was asked not to infer them
-        (``fit(..., shares=False)``, as sweep cells do).
+        (``fit(..., shares=False)``, as the refresh calibration fits do).
     params : dict
         JSON-serialisable parameters and fit diagnostics (family, K, seed, library version…).
     fit_seconds : float

@@ -65,11 +65,18 @@ __all__ = [
     "PrepSpec",
     "build_frozen_prep",
     "load_prep_spec",
+    "too_few_terms",
 ]
 
 
 #: The reason given for a transcript none of whose words is in the vocabulary.
 NO_KNOWN_TERMS = "no word in the vocabulary of the version"
+
+
+def too_few_terms(known: int, min_tokens: int) -> str:
+    """Why a transcript with ``known`` (≥ 1) tokens of the vocabulary is left out (and
+    unthemed): fewer than the version's ``min_tokens``."""
+    return f"{known} tokens in the vocabulary, fewer than min_tokens = {min_tokens}"
 
 
 # -- what a version's prep learned --------------------------------------------------------
@@ -416,9 +423,7 @@ def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path
             excluded = [
                 (
                     applied.doc_ids[d],
-                    applied.reasons[d]
-                    or f"{int(applied.known[d])} tokens in the vocabulary, fewer than "
-                    f"min_tokens = {min_tokens}",
+                    applied.reasons[d] or too_few_terms(int(applied.known[d]), min_tokens),
                 )
                 for d in np.flatnonzero(~keep).tolist()
             ]

@@ -24,9 +24,10 @@ from talkthemes.report.page import Report, chart_div
 from talkthemes.text import html_text, percent
 from talkthemes.versions.evidence_shown import EvidenceMasker, masked_by_default
 from talkthemes.versions.load import Version
+from talkthemes.versions.unthemed import UnthemedGroup
 from talkthemes.view.calls import CallFilter, calls_table
 from talkthemes.view.choose_k import load_sweep, measure_text, scalar_columns
-from talkthemes.view.counts import CallCounts
+from talkthemes.view.counts import CallCounts, version_unthemed
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.over_time import trend_frame
 from talkthemes.view.theme_evidence import evidence_html, evidence_note, evidence_views
@@ -314,8 +315,24 @@ def themes_section(
             + "".join(cards[True])
             + "</details>"
         )
+    parts.append(unthemed_card(version_unthemed(version)))
     parts.append("</section>")
     return "".join(parts)
+
+
+def unthemed_card(group: UnthemedGroup) -> str:
+    """The unthemed group after the themes: its count, share and the reasons."""
+    rows = "".join(
+        f"<tr><td>{html_text(why)}</td><td>{n:,}</td></tr>" for why, n in group.by_reason.items()
+    )
+    return (
+        '<article class="card" id="unthemed"><h3>Unthemed</h3>'
+        f'<div class="meta">{html_text(group.sentence())} Transcripts with too few words to '
+        "say what they are about (hang-ups, wrong numbers, greetings only) are in no theme; "
+        "the themes' shares are out of the others.</div>"
+        + (f"<table><tr><th>Why</th><th>Transcripts</th></tr>{rows}</table>" if rows else "")
+        + "</article>"
+    )
 
 
 def trend_section(version: Version, meta: MetaTable, report: Report) -> str:

@@ -74,6 +74,16 @@ class ThemeOut(_Out):
     coherence: dict[str, float]
 
 
+class UnthemedOut(_Out):
+    """A version's transcripts too short to carry a theme (the unthemed group)."""
+
+    count: int = Field(description="Transcripts of the version in the group.")
+    share: float = Field(
+        description="The group's share of the version's transcripts (themed and unthemed)."
+    )
+    by_reason: dict[str, int] = Field(description="The count per reason, largest first.")
+
+
 class ThemesOut(_Out):
     """A version's themes, in the version's order."""
 
@@ -102,6 +112,11 @@ class ThemesOut(_Out):
                             "coherence": {"c_npmi": 0.142, "c_v": 0.611},
                         }
                     ],
+                    "unthemed": {
+                        "count": 412,
+                        "share": 0.022,
+                        "by_reason": {"too short after preparation": 412},
+                    },
                 }
             ]
         },
@@ -110,9 +125,10 @@ class ThemesOut(_Out):
     version: int
     family: str | None
     k: int
-    transcripts: int
+    transcripts: int = Field(description="Transcripts with themes (the unthemed not counted).")
     relevance_lambda: float
     themes: list[ThemeOut]
+    unthemed: UnthemedOut
 
 
 class CallShareOut(_Out):
@@ -235,8 +251,11 @@ class AssignResultOut(_Out):
     """Theme shares of one assigned transcript."""
 
     id: str
-    lead_theme_id: int | None = Field(description="Null when no word is in the vocabulary.")
-    lead_theme_name: str | None
+    lead_theme_id: int | None = Field(
+        description="Null for a transcript of the unthemed group (too few words the version "
+        "knows; the reason says why)."
+    )
+    lead_theme_name: str = Field(description="The lead theme's name, or 'unthemed'.")
     lead_share: float | None
     shares: list[ShareOut] | None
     known_terms: int

@@ -2,7 +2,9 @@
 
 A cell fits one model on the training transcripts of the prep (its seed's subsample), and
 returns plain JSON values: its top term ids, fit seconds, held-out perplexity (LDA) or
-reconstruction error (NMF), and the worker's peak memory. Its topic–term matrix is saved as
+reconstruction error (NMF), the largest share of its training transcripts one theme leads
+(the recommendation's catch-all check, docs/methods.md "The recommendation"), and the
+worker's peak memory. Its topic–term matrix is saved as
 ``sweeps/<id>/topics/<cell>.npy``.
 """
 
@@ -47,11 +49,13 @@ def fit_cell(
     """Fit one cell and return its metrics; writes ``topics/<cell>.npy`` under the sweep.
 
     Runs on a Dask worker (or in-process). Returns plain JSON values: the cell's top
-    term ids, fit seconds, held-out perplexity (LDA) or reconstruction error (NMF), and
-    the worker's peak memory.
+    term ids, fit seconds, held-out perplexity (LDA) or reconstruction error (NMF),
+    ``largest_lead_share`` (of the transcripts it was fitted on) and the worker's peak
+    memory.
     """
     # Deferred on purpose: gensim and scikit-learn take about a second to import, which
     # only the processes that fit models pay (the sweep's client never does).
+    from talkthemes.metrics.evenness import largest_lead_share
     from talkthemes.models.base import top_terms
     from talkthemes.models.factory import make_model
 
@@ -62,10 +66,13 @@ def fit_cell(
     train = subsample_rows(train, sweep_settings.subsample, seed)
     counts = corpus.counts.tocsr()
     with threadpool_limits(1):  # parallelism is across cells, not inside one
-        # the sweep scores topics only: no training shares (one E-step pass saved for LDA)
-        model = make_model(family, k, seed, sweep_settings).fit(counts[train], shares=False)
+        # the training shares give each transcript's lead theme (LDA: one more E-step pass)
+        model = make_model(family, k, seed, sweep_settings).fit(counts[train], shares=True)
         result = model.result_
-        metrics: dict[str, Any] = {"fit_seconds": float(result.fit_seconds)}
+        metrics: dict[str, Any] = {
+            "fit_seconds": float(result.fit_seconds),
+            "largest_lead_share": largest_lead_share(result.doc_topics),
+        }
         if family == "lda":
             # how training stopped (per-word bound per pass; docs/methods_models.md)
             metrics["convergence"] = result.params.get("convergence")

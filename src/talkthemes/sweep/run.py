@@ -326,7 +326,13 @@ def _score(
         stability_topn=settings.stability_topn,
         diversity_topn=settings.diversity_topn,
     )
-    recs = recommend(frame, rank_by=settings.rank_by, stability_min=settings.stability_min)
+    recs = recommend(
+        frame,
+        rank_by=settings.rank_by,
+        stability_min=settings.stability_min,
+        catch_all_ratio=settings.catch_all_ratio,
+        catch_all_share=settings.catch_all_share,
+    )
     frame.to_parquet(folder / "cells.parquet.tmp", index=False)
     os.replace(folder / "cells.parquet.tmp", folder / "cells.parquet")
     with ws.store() as store:

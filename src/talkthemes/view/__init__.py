@@ -10,7 +10,7 @@ below (versions, trends, metrics) and the pages only arrange it. One module per 
   distances);
 * :mod:`.themes` — the theme table and the themes' names;
 * :mod:`.metadata` — the transcripts' metadata, each field's kind and readable name;
-* :mod:`.counts` — transcripts shown, stored, and left out by reason;
+* :mod:`.counts` — transcripts shown, unthemed and stored later, by reason;
 * :mod:`.calls` — a theme's transcripts, filtered, and the list as CSV;
 * :mod:`.evidence` — each call's best sentence;
 * :mod:`.transcript` — terms highlighted in the original text, turns, HTML, excerpts;

@@ -1,115 +1,101 @@
-"""How many transcripts a version shows, and how many it leaves out and why.
+"""How many transcripts a version shows, how many are unthemed, and how many it does not hold.
 
 The store may hold more transcripts than a version's themes describe: preparation leaves
-out transcripts too short (or emptied) after its steps, and transcripts ingested after
-the version was made are not in it until a refresh. Wherever the viewer or the report
-states a count, it says how many were left out and why, so "1,500 stored" (``status``)
-and "1,429 in the themes" (the viewer) never disagree silently.
+out transcripts too short (or emptied) after its steps — the version's **unthemed** group
+(:mod:`talkthemes.versions.unthemed`, the one source of that count) — and transcripts
+ingested after the version was made are not in it until a refresh. Wherever the viewer or
+the report states a count, it says how many are unthemed and why, and how many came later,
+so "1,500 stored" (``status``) and "1,429 in the themes" (the viewer) never disagree
+silently.
 """
 
 from __future__ import annotations
 
-import json
-import re
-from collections import Counter
 from dataclasses import dataclass, field
-from pathlib import Path
 
 from talkthemes.versions.load import Version
+from talkthemes.versions.unthemed import (
+    UnthemedGroup,
+    excluded_reasons,
+    reason_group,
+    unthemed_group,
+)
 from talkthemes.workspace import Workspace
 
-__all__ = ["CallCounts", "call_counts", "excluded_reasons", "reason_group"]
+__all__ = [
+    "CallCounts",
+    "call_counts",
+    "excluded_reasons",
+    "reason_group",
+    "version_unthemed",
+]
 
-# The preparation's reasons (prepare --explain words them) → how a reader is told.
-_GROUPS: tuple[tuple[re.Pattern[str], str], ...] = (
-    (re.compile(r"fewer than min_tokens"), "too short after preparation"),
-    (re.compile(r"^only boilerplate"), "only greetings and other set phrases"),
-    (re.compile(r"^no words in the turns kept"), "no words from the speakers kept"),
-    (re.compile(r"^no words$"), "no words"),
-    (re.compile(r"nothing left after scrub"), "only personal data and redaction marks"),
-    (re.compile(r"no tokens left after the filter"), "only filler and stop words"),
-)
-
-
-def reason_group(reason: str) -> str:
-    """A preparation reason, as a reader is told it (``"too short after preparation"``)."""
-    for pattern, group in _GROUPS:
-        if pattern.search(reason):
-            return group
-    return re.sub(r"\d+", "N", reason.strip()) or "left out by preparation"
-
-
-def excluded_reasons(folder: Path) -> dict[str, str]:
-    """The transcripts a version's preparation left out, by id, with the reason given.
-
-    Read from the version's ``prep.json`` (``excluded``: ``[id, reason]`` pairs); empty
-    when the file or the list is missing.
-    """
-    path = Path(folder) / "prep.json"
-    try:
-        info = json.loads(path.read_text(encoding="utf-8"))
-    except (OSError, ValueError):
-        return {}
-    pairs = info.get("excluded") if isinstance(info, dict) else None
-    out: dict[str, str] = {}
-    for pair in pairs or []:
-        if isinstance(pair, (list, tuple)) and len(pair) == 2:
-            out[str(pair[0])] = str(pair[1])
-        elif isinstance(pair, dict) and "id" in pair:
-            out[str(pair["id"])] = str(pair.get("reason", ""))
-    return out
+#: Why a stored transcript is not in a version at all.
+LATER = "ingested after this version was made"
 
 
 @dataclass(frozen=True)
 class CallCounts:
-    """Transcripts stored, described by the version's themes, and left out by reason.
+    """Transcripts stored, described by the version's themes, unthemed, and not in it.
 
     Attributes
     ----------
     stored : int
         Transcripts in the workspace's store.
     shown : int
-        Transcripts the version's themes describe (every count on screen is out of these).
+        Transcripts the version's themes describe (every theme's share is out of these).
+    unthemed : dict of str to int
+        The version's unthemed transcripts by reason, largest first.
     left_out : dict of str to int
-        Transcripts of the store not in the version, by reason, largest first.
+        Stored transcripts the version does not hold (ingested after it), by reason.
     """
 
     stored: int
     shown: int
+    unthemed: dict[str, int] = field(default_factory=dict)
     left_out: dict[str, int] = field(default_factory=dict)
 
     @property
+    def n_unthemed(self) -> int:
+        """The version's unthemed transcripts."""
+        return sum(self.unthemed.values())
+
+    @property
     def n_left_out(self) -> int:
-        """Transcripts of the store not in the version."""
+        """Stored transcripts the version does not hold."""
         return sum(self.left_out.values())
 
     def sentence(self) -> str:
-        """One sentence for a caption, e.g. "1,429 of the 1,500 stored transcripts; 71 left
-        out: 71 too short after preparation."."""
-        if not self.left_out:
-            return f"All {self.stored:,} stored transcripts."
-        reasons = [f"{n:,} {why}" for why, n in self.left_out.items()]
-        said = reasons[0] if len(reasons) == 1 else ", ".join(reasons[:-1]) + " and " + reasons[-1]
-        return (
-            f"{self.shown:,} of the {self.stored:,} stored transcripts; "
-            f"{self.n_left_out:,} left out: {said}."
-        )
+        """One sentence for a caption, e.g. "Of the 1,500 stored transcripts: 1,429 in the
+        themes, 71 unthemed (71 too short after preparation)."."""
+        if not self.unthemed and not self.left_out:
+            return f"All {self.stored:,} stored transcripts are in the themes."
+        parts = [f"{self.shown:,} in the themes"]
+        if self.unthemed:
+            why = _listed(self.unthemed)
+            parts.append(f"{self.n_unthemed:,} unthemed ({why})")
+        if self.left_out:
+            parts.append(_listed(self.left_out))
+        return f"Of the {self.stored:,} stored transcripts: " + ", ".join(parts) + "."
+
+
+def _listed(counts: dict[str, int]) -> str:
+    items = [f"{n:,} {why}" for why, n in counts.items()]
+    return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " and " + items[-1]
+
+
+def version_unthemed(version: Version) -> UnthemedGroup:
+    """The version's unthemed group (:func:`talkthemes.versions.unthemed.unthemed_group`)."""
+    return unthemed_group(version.folder, version.doc_ids)
 
 
 def call_counts(ws: Workspace, version: Version) -> CallCounts:
-    """Count a version's transcripts against the store's, with the reasons for the gap.
-
-    Reasons: the preparation's (grouped by :func:`reason_group`), and "ingested after
-    this version" for stored transcripts the version's preparation never saw.
-    """
+    """Count a version's transcripts against the store's: unthemed by reason, and the
+    stored transcripts the version never saw ("ingested after this version was made")."""
     with ws.store() as store:
         stored = int(store.count_transcripts())
-    shown = len(version.doc_ids)
-    excluded = excluded_reasons(version.folder)
-    in_version = set(version.doc_ids)
-    groups = Counter(reason_group(r) for tid, r in excluded.items() if tid not in in_version)
-    later = stored - shown - sum(groups.values())
-    if later > 0:
-        groups["ingested after this version was made"] += later
-    left = dict(sorted(groups.items(), key=lambda kv: (-kv[1], kv[0])))
-    return CallCounts(stored=stored, shown=shown, left_out=left)
+    group = version_unthemed(version)
+    later = stored - len(version.doc_ids) - group.count
+    left = {LATER: later} if later > 0 else {}
+    return CallCounts(stored=stored, shown=len(version.doc_ids), unthemed=group.by_reason,
+                      left_out=left)  # fmt: skip

@@ -3,7 +3,7 @@
 Classical MDS (Torgerson 1952; Gower 1966) on the base-2 Jensen–Shannon distances between
 the themes' word distributions; see docs/methods_metrics.md, "Theme map: Jensen–Shannon
 distance and classical MDS". The map's tiles and links are explained in docs/viewer.md,
-"The theme map".
+"Theme map".
 """
 
 from __future__ import annotations

@@ -38,8 +38,10 @@ def assign(
     """Prepare each transcript exactly as the version's training calls were and infer its
     theme shares: the lead theme, its share, and the share of every theme. Nothing is
     stored unless ``store=true``. Every result of one request comes from the same version
-    (named in the answer), even while a refresh publishes a new one. A transcript that
-    cannot be used (an empty text) fails the request with 422, naming it."""
+    (named in the answer), even while a refresh publishes a new one. A transcript with
+    fewer words the version knows than its ``min_tokens`` is in the unthemed group (lead
+    theme name ``unthemed``, no id, no shares, the reason given). A transcript that cannot
+    be used (an empty text) fails the request with 422, naming it."""
     if store and token.scope != "write":
         raise insufficient_scope(token, "assign with store=true")
     records = records_of(state, body.items)
@@ -83,6 +85,7 @@ def _results(state: ServiceState, n: int, frame: Any) -> list[dict[str, Any]]:
     shares = frame[[f"share_{t}" for t in v.theme_ids]].to_numpy(dtype=float, na_value=math.nan)
     known_terms = frame["known_terms"].to_numpy(dtype=int)
     reasons = frame["reason"].fillna("").astype(str).tolist()
+    group = frame["lead_theme_label"].fillna("").astype(str).tolist()
     results = []
     for i, tid in enumerate(ids):
         known = not math.isnan(leads[i])
@@ -91,7 +94,8 @@ def _results(state: ServiceState, n: int, frame: Any) -> list[dict[str, Any]]:
             {
                 "id": tid,
                 "lead_theme_id": lead,
-                "lead_theme_name": names[v.theme_ids.index(lead)] if known else None,
+                # the unthemed group's rows say so in the table's label column
+                "lead_theme_name": names[v.theme_ids.index(lead)] if known else group[i],
                 "lead_share": float(lead_shares[i]) if known else None,
                 "shares": [
                     {"theme_id": t, "share": float(x)}

@@ -56,7 +56,8 @@ def themes(
     terms: Annotated[int, Query(ge=1, le=100, description="Top terms per theme.")] = 10,
 ) -> dict[str, Any]:
     """Ids, labels, suggested names, shares and top terms of the current version's themes
-    (or ``version``'s). A theme's name is its label, or its suggested name until
+    (or ``version``'s), and its unthemed group: the transcripts too short to carry a theme,
+    with their count and share. A theme's name is its label, or its suggested name until
     labelled."""
     v = state.ws.version(state.version_number(version))
     lam = state.relevance_lambda if lam is None else lam
@@ -85,6 +86,7 @@ def themes(
         "transcripts": len(v.doc_ids),
         "relevance_lambda": lam,
         "themes": out,
+        "unthemed": state.ws.unthemed(v.n).to_json(),
     }
 
 
