@@ -31,7 +31,7 @@ from talkthemes.ingest.detect import iter_files, read_file
 from talkthemes.ingest.run import ingest
 from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec, too_few_terms
 from talkthemes.progress import Progress, report
-from talkthemes.versions.export import write_table
+from talkthemes.versions.export import share_order, write_table
 from talkthemes.versions.load import Version, load_version
 from talkthemes.versions.unthemed import UNTHEMED
 from talkthemes.workspace import Workspace
@@ -125,9 +125,9 @@ def assign_frame(
 
     Columns: ``transcript_id``, ``lead_theme_id``, ``lead_theme_label``, ``lead_share``,
     ``lead_theme_suggested_name`` (when ``suggested`` names are given), one
-    ``share_<theme id>`` per theme, ``known_terms`` (tokens in the vocabulary) and
-    ``reason``. A transcript with fewer than ``min_tokens`` known terms (the version's
-    ``[prepare] min_tokens``, the rule that left such calls out of its training) is
+    ``share_<theme id>`` per theme in ascending theme id, ``known_terms`` (tokens in the
+    vocabulary) and ``reason``. A transcript with fewer than ``min_tokens`` known terms (the
+    version's ``[prepare] min_tokens``, the rule that left such calls out of its training) is
     **unthemed**, as in ``export``: no lead theme id and no shares, the label and suggested
     name say ``unthemed`` and ``reason`` says why (empty on themed rows).
     """
@@ -155,7 +155,8 @@ def assign_frame(
         frame["lead_theme_suggested_name"] = [
             suggested[i] if h else UNTHEMED for i, h in zip(lead, has, strict=True)
         ]
-    share_cols = pd.DataFrame(values, columns=[f"share_{t}" for t in ids])
+    order = share_order(ids)  # as export writes them: ascending theme id
+    share_cols = pd.DataFrame(values[:, order], columns=[f"share_{t}" for t in ids[order]])
     reasons = [
         "" if h else (r or too_few_terms(int(known), min_tokens))
         for h, r, known in zip(has, applied.reasons, applied.known, strict=True)

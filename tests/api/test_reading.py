@@ -106,8 +106,26 @@ def test_export_writes_the_shares(published: tt.Workspace, tmp_path: Path) -> No
     assert result.rows == len(published.shares()) and result.out == tmp_path / "shares.parquet"
     back = pd.read_parquet(result.out)
     pd.testing.assert_frame_equal(back, published.shares(), check_dtype=False)
+    themes = pd.read_parquet(result.themes_file)
+    assert result.themes_file == tmp_path / "shares.themes.parquet"
+    assert themes["column"].tolist() == [c for c in back.columns if c.startswith("share_")]
     with pytest.raises(tt.ConfigError, match=r"expected a \.csv or \.parquet"):
         published.export(tmp_path / "shares.xlsx")
+
+
+def test_export_adds_the_manifests_metadata_on_request(
+    published: tt.Workspace, demo, tmp_path: Path
+) -> None:
+    manifest = pd.read_csv(demo.manifest, dtype=str).set_index("call_id")
+    result = published.export(tmp_path / "shares.csv", metadata=["site", "queue"])
+    assert result.columns[-2:] == ["site", "queue"]
+    frame = pd.read_csv(result.out, dtype=str, keep_default_na=False)
+    expected = manifest.loc[frame["transcript_id"], ["site", "queue"]].to_numpy()
+    assert (frame[["site", "queue"]].to_numpy() == expected).all()  # each call its own values
+    every = published.export(tmp_path / "all.csv", metadata=True)
+    assert set(every.columns) >= {"date", "queue", "site", "duration_s", "channel"}
+    with pytest.raises(tt.InputError, match="'agent'"):
+        published.export(tmp_path / "x.csv", metadata=["agent"])
 
 
 def test_label_is_read_back_at_once_and_named_in_the_themes(published: tt.Workspace) -> None:

@@ -166,3 +166,31 @@ def test_the_shares_export_carries_the_lead_themes_suggested_name(
     assert rows and all(
         r["lead_theme_suggested_name"] == names[int(r["lead_theme_id"])] for r in rows
     )
+
+
+def test_export_names_its_share_columns_in_a_file_beside(
+    published: Workspace, tmp_path: Path
+) -> None:
+    doc = themes_json(published)
+    names = {t["theme_id"]: t["name"] for t in doc["themes"]}
+    out = tmp_path / "shares.csv"
+    res = invoke(published, "export", "--out", str(out), "--json")
+    assert res.exit_code == 0, res.stderr
+    companion = tmp_path / "shares.themes.csv"
+    assert json.loads(res.stdout)["themes_file"] == str(companion)
+    with out.open(encoding="utf-8", newline="") as fh:
+        header = next(csv.reader(fh))
+    share_cols = [c for c in header if c.startswith("share_")]
+    assert share_cols == [f"share_{t}" for t in sorted(names)]  # ascending theme id
+    with companion.open(encoding="utf-8", newline="") as fh:
+        themes = list(csv.DictReader(fh))
+    assert [t["column"] for t in themes] == share_cols
+    assert all(t["name"] == names[int(t["theme_id"])] for t in themes)
+    assert {t["named_by"] for t in themes} == {"suggested"}
+    res = invoke(published, "export", "--out", str(out))
+    assert "shares.themes.csv" in res.stderr.replace("\n", "")  # messages go to stderr
+    # a metadata field no transcript has is refused by name (exit 2), nothing written over
+    before = out.read_bytes()
+    res = invoke(published, "export", "--out", str(out), "--metadata", "agent")
+    assert res.exit_code == 2 and "'agent'" in res.stderr and out.read_bytes() == before
+    assert invoke(published, "export", "--out", str(out), "--metadata", " , ").exit_code == 2

@@ -219,10 +219,22 @@ class ReadingMixin(WorkspaceBase):
         """
         return versions_export.export_shares(self.version(version))
 
-    def export(self, path: str | os.PathLike[str], *, version: int | None = None) -> Export:
-        """Write :meth:`shares` to a ``.csv`` (spreadsheet-safe) or ``.parquet`` file.
+    def export(
+        self,
+        path: str | os.PathLike[str],
+        *,
+        version: int | None = None,
+        metadata: bool | Sequence[str] = False,
+        masked: bool | None = None,
+    ) -> Export:
+        """Write :meth:`shares` to a ``.csv`` (spreadsheet-safe) or ``.parquet`` file, and
+        the table naming its share columns beside it.
 
-        The file is written to a temporary name and moved into place.
+        Both files are written to a temporary name and moved into place. The themes table
+        is ``<stem>.themes.csv`` (or ``.parquet``): per share column, in the same order, the
+        theme id, its name (label, or suggested name until labelled), ``named_by``,
+        ``not_a_theme``, coverage, average share and top terms (docs/viewer.md,
+        "Exported shares").
 
         Parameters
         ----------
@@ -230,6 +242,12 @@ class ReadingMixin(WorkspaceBase):
             A ``.csv`` or ``.parquet`` file name.
         version : int, optional
             Default: the current version.
+        metadata : bool or sequence of str
+            ``True``: every metadata field the manifests gave, as the last columns;
+            a sequence: those fields, in that order (a field no transcript has is refused).
+        masked : bool, optional
+            Mask personal data in metadata values as screens do. Default: masked unless
+            ``[view] original_text`` allows the original.
 
         Returns
         -------
@@ -239,11 +257,29 @@ class ReadingMixin(WorkspaceBase):
         ------
         ConfigError
             When the name ends in neither ``.csv`` nor ``.parquet``.
+        InputError
+            When a named metadata field is not held by any transcript.
         """
         out = Path(path)
-        frame = self.shares(version)
+        v = self.version(version)
+        frame = versions_export.export_shares(v)
+        if metadata is not False:
+            fields = None if metadata is True else [str(f) for f in metadata]
+            with self._dir.store() as store:
+                values = store.metadata_values(list(frame["transcript_id"]))
+            if masked is None:
+                masked = not self.settings().view.original_text
+            frame = versions_export.with_metadata(frame, values, fields, masked=masked)
+        themes = versions_export.export_themes(v)
+        companion = versions_export.companion_path(out)
         versions_export.write_table(frame, out)
-        return Export(out=out, rows=len(frame), columns=[str(c) for c in frame.columns])
+        versions_export.write_table(themes, companion)
+        return Export(
+            out=out,
+            rows=len(frame),
+            columns=[str(c) for c in frame.columns],
+            themes_file=companion,
+        )
 
     def recommendation(self, family: str | None = None) -> Recommendation:
         """The latest finished sweep's recommended K, with its rule, reasons, runners-up.

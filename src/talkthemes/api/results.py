@@ -169,15 +169,23 @@ class Export:
         Transcripts written.
     columns : list of str
         Its columns, in order.
+    themes_file : Path or None
+        The table naming each share column's theme, written beside ``out``.
     """
 
     out: Path
     rows: int
     columns: list[str]
+    themes_file: Path | None = None
 
     def to_json(self) -> dict[str, Any]:
-        """A JSON-ready dict: ``out``, ``rows``, ``columns``."""
-        return {"out": str(self.out), "rows": self.rows, "columns": list(self.columns)}
+        """A JSON-ready dict: ``out``, ``rows``, ``columns``, ``themes_file``."""
+        return {
+            "out": str(self.out),
+            "rows": self.rows,
+            "columns": list(self.columns),
+            "themes_file": None if self.themes_file is None else str(self.themes_file),
+        }
 
 
 @dataclass(frozen=True)

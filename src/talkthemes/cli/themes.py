@@ -291,15 +291,33 @@ def export(
     version: Annotated[
         int | None, typer.Option("--version", help="Version (default current).")
     ] = None,
+    metadata: Annotated[
+        str | None,
+        typer.Option(
+            "--metadata",
+            help="Add the manifests' metadata as the last columns: 'all', or fields "
+            "separated by commas (masked like the screens unless [view] original_text).",
+        ),
+    ] = None,
     workspace: WorkspaceOpt = None,
     as_json: JsonOpt = False,
 ) -> None:
-    """Write every transcript's lead theme, lead share and share per theme to CSV or Parquet."""
+    """Write every transcript's lead theme, lead share and share per theme to CSV or Parquet,
+    and the themes those share columns stand for to FILE.themes.csv (or .parquet)."""
     check_output(out_path, "--out")
+    fields: bool | list[str] = False
+    if metadata is not None:
+        names = [f.strip() for f in metadata.split(",") if f.strip()]
+        if not names:
+            raise ConfigError("--metadata: give 'all' or field names separated by commas")
+        fields = True if names == ["all"] else names
     ws = open_workspace(workspace)
     with writing(out_path, "--out"):
-        result = ws.export(out_path, version=version)
+        result = ws.export(out_path, version=version, metadata=fields)
     if as_json:
         emit_json(result.to_json())
     else:
-        say(f"Wrote {result.rows:,} transcripts to {out_path}.")
+        say(
+            f"Wrote {result.rows:,} transcripts to {out_path}, "
+            f"and the themes of its share columns to {result.themes_file}."
+        )
