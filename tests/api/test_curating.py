@@ -77,12 +77,17 @@ def test_the_themes_sheet_round_trip(published: tt.Workspace, tmp_path: Path) ->
     out = tmp_path / "themes.csv"
     sheet = published.themes_sheet(out)
     themes = published.themes()
-    assert sheet == tt.ThemesSheet(out, 1, len(themes), sheet.columns)
+    group = published.unthemed()
+    assert group.count > 0  # the demo's hang-ups
+    assert sheet == tt.ThemesSheet(out, 1, len(themes) + 1, sheet.columns)
     rows = _sheet(out)
     assert rows[0] == sheet.columns and rows[0][:4] == [
         "theme_id", "suggested_name", "label", "note",
     ]  # fmt: skip
-    assert [r[1] for r in rows[1:]] == themes["suggested_name"].tolist()
+    assert [r[1] for r in rows[1:-1]] == themes["suggested_name"].tolist()
+    # the last row is the unthemed group, with its count, and is not read back as a theme
+    assert rows[-1][:3] == ["unthemed", "unthemed", ""]
+    assert rows[-1][3] == group.sentence() and f"{group.count:,} transcript" in rows[-1][3]
     rows[1][2], rows[2][3] = 'Bills, "late" fees\nand more', "=1+1"
     _write(out, rows)
     result = published.label_from(out)
@@ -94,6 +99,12 @@ def test_the_themes_sheet_round_trip(published: tt.Workspace, tmp_path: Path) ->
     assert result.unchanged == len(themes) - 2
     again = published.label_from(out)
     assert again.applied and again.changed == [] and again.unchanged == len(themes)
+    rows[-1][2] = "Hang-ups"  # a label on the unthemed row is refused, nothing applied
+    rows[1][2] = "Changed"
+    _write(out, rows)
+    refused = published.label_from(out)
+    assert not refused.applied and [p.row for p in refused.problems] == [len(rows)]
+    assert "unthemed row is not a theme" in refused.problems[0].message
     with pytest.raises(tt.InputError, match=r"expected a \.csv file name"):
         published.themes_sheet(tmp_path / "themes.xlsx")
 

@@ -2,9 +2,12 @@
 
 Labelling in a spreadsheet is a round trip: the CSV lists every theme of a version with
 what a labeller needs (id, suggested name, label, note, share, coverage, top terms, top
-phrases and three evidence sentences with their calls); the labeller fills the ``label``
-and ``note`` columns; reading it back sets those two fields of every theme listed, all in
-one transaction or not at all.
+phrases and three evidence sentences with their calls), then, when the version has one,
+a last row for the **unthemed** group (``theme_id`` ``unthemed``, its count and reasons in
+``note``; :mod:`talkthemes.versions.unthemed`); the labeller fills the ``label`` and
+``note`` columns; reading it back sets those two fields of every theme listed, all in one
+transaction or not at all. The unthemed row is not a theme: it is skipped on the way
+back, and a label written on it is refused.
 
 The file is CSV as RFC 4180 writes it (fields with commas, quotes or line breaks quoted,
 quotes doubled, records ending in CRLF), in UTF-8 with a byte-order mark so that
@@ -35,6 +38,7 @@ from talkthemes.text import csv_frame
 from talkthemes.text.escape import FORMULA_START
 from talkthemes.versions.evidence import EvidenceSentence
 from talkthemes.versions.load import Version
+from talkthemes.versions.unthemed import UNTHEMED, unthemed_group
 
 __all__ = [
     "EVIDENCE_COLUMNS",
@@ -83,6 +87,10 @@ def themes_sheet(
     ``evidence_1, evidence_1_call`` … up to :data:`EVIDENCE_COLUMNS`: the sentences of
     ``evidence`` (per theme row, as shown: personal data masked,
     :func:`talkthemes.versions.evidence_shown.shown_evidence`), or else as stored.
+
+    When the version has an unthemed group, a last row says so: ``theme_id`` and
+    ``suggested_name`` ``unthemed``, ``note`` its sentence (count, share of the version's
+    transcripts, reasons), the other cells empty.
     """
     suggested = version.suggested_names()
     cov, mean = version.coverage(), version.mean_share()
@@ -105,6 +113,14 @@ def themes_sheet(
             row[f"evidence_{e + 1}"] = said[e].text if e < len(said) else ""
             row[f"evidence_{e + 1}_call"] = said[e].call_id if e < len(said) else ""
         rows.append(row)
+    group = unthemed_group(version.folder, version.doc_ids)
+    if group.count and rows:
+        last = dict.fromkeys(rows[0], "")
+        last.update(
+            theme_id=UNTHEMED, suggested_name=UNTHEMED, note=group.sentence(), share=None,
+            coverage=None,
+        )  # fmt: skip
+        rows.append(last)
     return pd.DataFrame(rows)
 
 
@@ -246,6 +262,16 @@ def read_label_sheet(
             return _unguard(record[i]) if i < len(record) else ""
 
         raw_id = (cell("theme_id") or "").strip()
+        if raw_id == UNTHEMED:
+            if (cell("label") or "").strip():
+                problems.append(
+                    SheetProblem(
+                        number,
+                        "the unthemed row is not a theme (transcripts the preparation left "
+                        "out): it takes no label; leave its label cell empty",
+                    )
+                )
+            continue
         try:
             number_id = float(raw_id)
             if not number_id.is_integer():
