@@ -56,9 +56,24 @@ __all__ = [
     "writing",
 ]
 
+#: Exit code when the reader of stdout went away (``talkthemes themes | head``): what a
+#: shell reports for a command stopped by SIGPIPE (128 + 13).
+BROKEN_PIPE_EXIT = 141
+
+
+class _Console(Console):
+    """A rich console that stops quietly with :data:`BROKEN_PIPE_EXIT` on a broken pipe."""
+
+    def on_broken_pipe(self) -> None:
+        """Silence the output and stop (rich's default stops with exit code 1)."""
+        self.quiet = True
+        _quiet_stdout()
+        raise SystemExit(BROKEN_PIPE_EXIT)
+
+
 # Consoles. Emoji shortcodes (``:warning:``) are off: they would rewrite user text too.
-out = Console(emoji=False, highlight=False)  # results
-err = Console(stderr=True, soft_wrap=True, emoji=False, highlight=False)  # progress, messages
+out = _Console(emoji=False, highlight=False)  # results
+err = _Console(stderr=True, soft_wrap=True, emoji=False, highlight=False)  # progress, messages
 
 _state: dict[str, bool] = {"debug": False}
 
@@ -85,6 +100,11 @@ class _Group(TyperGroup):
         except KeyboardInterrupt:
             say("talkthemes: interrupted; finished work is kept")
             raise typer.Exit(130) from None
+        except BrokenPipeError:
+            # The reader of stdout went away (``talkthemes themes | head``): stop quietly,
+            # as command-line tools do, and keep the interpreter's last flush from failing.
+            _quiet_stdout()
+            raise typer.Exit(BROKEN_PIPE_EXIT) from None
         except Exception as exc:
             if _state["debug"]:
                 raise
@@ -93,6 +113,15 @@ class _Group(TyperGroup):
                 "(run with --debug for the traceback)"
             )
             raise typer.Exit(1) from None
+
+
+def _quiet_stdout() -> None:
+    """Point file descriptor 1 at the null device (its reader is gone)."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError):  # no real descriptor (a test runner's buffer)
+        pass
 
 
 app = typer.Typer(
