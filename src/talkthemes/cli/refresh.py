@@ -123,6 +123,8 @@ def print_refresh(result: Any) -> None:
     )
     if result.resweep:
         say(f"K was chosen again: {result.resweep_reason}.", console=out)
+    if (result.room or {}).get("raised"):
+        say(f"{result.room['text']}.", console=out)
     print_alerts(result)
     for t in result.retired_themes:
         say(f"  retired theme {t['theme_id']}: ", t["name"], console=out)

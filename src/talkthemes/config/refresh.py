@@ -56,6 +56,15 @@ class RefreshSettings(_Section):
             "other version is flagged as a possible split or merge."
         ),
     )
+    new_theme_room: int = Field(
+        1,
+        ge=0,
+        le=5,
+        description=(
+            "When the refit at the published K has no theme the alert rules call new, also "
+            "fit K+1 (up to K+this) and publish the first fit that has one; 0 = keep K."
+        ),
+    )
     # alerts (docs/methods_alerts.md)
     alert_new_min_calls: int = Field(
         10, ge=1, description="A new theme alerts only if it leads at least this many new calls."

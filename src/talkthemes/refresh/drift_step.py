@@ -31,7 +31,7 @@ from talkthemes.versions.load import Version
 from talkthemes.versions.write import ExtraFiles, ThemePlan
 from talkthemes.workspace import Workspace
 
-__all__ = ["DriftPng", "drift_files", "drift_of", "excerpt", "theme_plan"]
+__all__ = ["DriftPng", "drift_files", "drift_of", "excerpt", "theme_plan", "theme_sides"]
 
 #: ``drift_png(report) -> bytes``: the drift chart of a report as PNG.
 DriftPng = Callable[[dict[str, Any]], bytes]
@@ -48,6 +48,35 @@ def excerpt(turns: Sequence[tuple[str, str]], scrub_on: bool, width: int = 200) 
     return text if len(text) <= width else text[: width - 1].rstrip() + "…"
 
 
+def theme_sides(
+    ws: Workspace, current: Version, fitted: FittedVersion, theme_ids: Sequence[int]
+) -> tuple[ThemeSide, ThemeSide]:
+    """The current version's themes and a new fit's, as drift and alerts compare them.
+
+    ``theme_ids`` are the fit's theme ids by row (carried ids, and the ids new themes get);
+    a carried id keeps its label.
+    """
+    with ws.store() as store:
+        labels = {t.theme_id: t.label for t in store.themes(current.n)}
+    old_side = ThemeSide(
+        current.theme_ids,
+        [t.label for t in current.themes],
+        np.asarray(current.topic_terms),
+        current.vocabulary,
+        current.coverage(),
+    )
+    theta = np.asarray(fitted.doc_topics)
+    coverage = np.bincount(np.argmax(theta, axis=1), minlength=fitted.k) / max(1, len(theta))
+    new_side = ThemeSide(
+        list(theme_ids),
+        [labels.get(int(t), "") for t in theme_ids],
+        np.asarray(fitted.topic_terms),
+        fitted.vocabulary,
+        coverage,
+    )
+    return old_side, new_side
+
+
 def drift_of(
     ws: Workspace,
     current: Version,
@@ -62,24 +91,8 @@ def drift_of(
 ) -> dict[str, Any]:
     """The drift report of the new version (its number is filled in when it is written),
     with its ``alerts`` block (:func:`talkthemes.refresh.alert_step.alerts_of`)."""
-    with ws.store() as store:
-        labels = {t.theme_id: t.label for t in store.themes(current.n)}
-    old_side = ThemeSide(
-        current.theme_ids,
-        [t.label for t in current.themes],
-        np.asarray(current.topic_terms),
-        current.vocabulary,
-        current.coverage(),
-    )
+    old_side, new_side = theme_sides(ws, current, fitted, theme_ids)
     theta = fitted.doc_topics
-    coverage = np.bincount(np.argmax(theta, axis=1), minlength=fitted.k) / max(1, len(theta))
-    new_side = ThemeSide(
-        theme_ids,
-        [labels.get(t, "") for t in theme_ids],
-        np.asarray(fitted.topic_terms),
-        fitted.vocabulary,
-        coverage,
-    )
     new_set = set(new_ids)
     is_new = np.array([d in new_set for d in corpus.doc_ids], dtype=bool)
     # excerpts of the transcripts shown for each new theme, scrubbed like the prep

@@ -50,7 +50,6 @@ import logging
 import os
 import time
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -65,6 +64,8 @@ from talkthemes.refresh.alert_step import alert_rules
 from talkthemes.refresh.calibration import calibration_fits
 from talkthemes.refresh.coherence import coherence_check
 from talkthemes.refresh.drift_step import DriftPng, drift_files, drift_of, theme_plan
+from talkthemes.refresh.result import RefreshResult
+from talkthemes.refresh.room import Fit, fit_at, make_room
 from talkthemes.sweep.run import load_current_prep, run_sweep
 from talkthemes.versions.alerts import AlertRules
 from talkthemes.versions.align import align_themes, calibrate_threshold
@@ -100,104 +101,6 @@ def _checkpoint(stage: str) -> None:
         seconds = float(os.environ.get(PAUSE_SECONDS_ENV, "120"))
         log.warning("refresh paused at stage %s for %.0f s (%s)", stage, seconds, PAUSE_ENV)
         time.sleep(seconds)
-
-
-@dataclass
-class RefreshResult:
-    """What :func:`refresh` did.
-
-    Attributes
-    ----------
-    status : str
-        ``published`` or ``nothing_new``.
-    previous_version : int
-    version : int or None
-        The version published.
-    new_transcripts : int
-        Stored transcripts the previous version did not know.
-    ingest : dict or None
-        The ingest report (JSON form).
-    counts : dict
-        Themes ``carried``, ``new`` and ``retired``.
-    new_themes : list of dict
-        Each new theme: ``theme_id``, ``top_terms``, ``verdict`` (``new`` when alerted;
-        else ``split``, ``small``, ``familiar`` or ``not_a_theme``), ``alert``,
-        ``split_of``, ``growth``, ``evidence`` and, when alerted, ``examples``
-        (:func:`talkthemes.versions.alerts.judge_new_themes`).
-    risers, fallers : list of dict
-        Carried themes whose share of the new transcripts rose (fell) significantly
-        (:func:`talkthemes.versions.alerts.judge_changes`), with their ``examples``.
-    """
-
-    status: str
-    previous_version: int
-    version: int | None = None
-    new_transcripts: int = 0
-    ingest: dict[str, Any] | None = None
-    alert_on_new: bool = False
-    alert_on_rise: bool = False
-    family: str | None = None
-    k: int | None = None
-    resweep: bool = False
-    resweep_reason: str | None = None
-    coherence: dict[str, Any] | None = None
-    threshold: dict[str, Any] | None = None
-    counts: dict[str, int] = field(default_factory=dict)
-    new_themes: list[dict[str, Any]] = field(default_factory=list)
-    retired_themes: list[dict[str, Any]] = field(default_factory=list)
-    risers: list[dict[str, Any]] = field(default_factory=list)
-    fallers: list[dict[str, Any]] = field(default_factory=list)
-    drift_files: list[str] = field(default_factory=list)
-    curation: dict[str, Any] | None = None
-    seconds: float = 0.0
-
-    @property
-    def rejected(self) -> int:
-        """Inputs the ingest step rejected."""
-        return len((self.ingest or {}).get("rejects", []))
-
-    @property
-    def alerted_new(self) -> list[int]:
-        """Ids of the new themes alerted (every piece of evidence held)."""
-        return [int(t["theme_id"]) for t in self.new_themes if t.get("alert")]
-
-    @property
-    def exit_code(self) -> int:
-        """4 when asked to alert (``alert_on_new``, ``alert_on_rise``) and such an alert
-        occurred; else 3 when some inputs were rejected; else 0 (published, or nothing new
-        to do)."""
-        if (self.alert_on_new and self.alerted_new) or (self.alert_on_rise and self.risers):
-            return 4
-        return 3 if self.rejected else 0
-
-    def to_json(self) -> dict[str, Any]:
-        return {
-            "status": self.status,
-            "exit_code": self.exit_code,
-            "previous_version": self.previous_version,
-            "version": self.version,
-            "new_transcripts": self.new_transcripts,
-            "family": self.family,
-            "k": self.k,
-            "resweep": self.resweep,
-            "resweep_reason": self.resweep_reason,
-            "coherence_check": self.coherence,
-            "threshold": self.threshold,
-            "counts": self.counts,
-            "alerts": {
-                "new": self.alerted_new,
-                "rise": [int(t["theme_id"]) for t in self.risers],
-                "fall": [int(t["theme_id"]) for t in self.fallers],
-            },
-            "new_themes": self.new_themes,
-            "risers": self.risers,
-            "fallers": self.fallers,
-            "retired_themes": self.retired_themes,
-            "drift_files": self.drift_files,
-            "curation": self.curation,
-            "seconds": round(self.seconds, 2),
-            "ingest": self.ingest,
-        }
 
 
 # -- inputs -------------------------------------------------------------------------------
@@ -398,7 +301,6 @@ def _run(
     fitted = fit_version(
         ws, corpus, family=family, k=k, seed=seed, prep_hash=prep_hash, model=model
     )
-    result.k = k
     step(4, f"calibrating the same-theme cut-off ({rs.calibration_seeds} more fits)")
     sets = [
         fitted.topic_terms,
@@ -407,7 +309,7 @@ def _run(
     calibration = calibrate_threshold(sets, rs.match_percentile)
     result.threshold = calibration.to_json()
     _checkpoint("fitted")
-    # 6. align
+    # 6. align (and make room for a new theme: refresh/room.py)
     step(5, "aligning themes to version " + str(current.n))
     alignment = align_themes(
         current.topic_terms,
@@ -417,6 +319,18 @@ def _run(
         threshold=calibration.threshold,
         margin=rs.tie_margin,
     )
+    if not result.resweep and rs.new_theme_room > 0:
+        step(5, f"aligning themes to version {current.n}; room for a new theme up to "
+                f"K={k + rs.new_theme_room}")  # fmt: skip
+        refit = fit_at(ws, corpus, current, settings, family=family, seed=seed,
+                       prep_hash=prep_hash, threshold=calibration.threshold)  # fmt: skip
+        chosen, decision = make_room(
+            ws, current, spec, corpus, Fit(k, model, fitted, alignment), new_ids=new_ids,
+            refit=refit, threshold=calibration.threshold, rules=rules, room=rs.new_theme_room,
+        )  # fmt: skip
+        result.room = decision.to_json()
+        k, fitted, alignment = chosen.k, chosen.fitted, chosen.alignment
+    result.k = k
     with ws.store() as store:
         fresh = iter(store.reserve_theme_ids(int(alignment.new.size)))
     theme_ids = [
@@ -428,6 +342,7 @@ def _run(
         ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus, spec, rules
     )  # fmt: skip
     drift["curation"] = curation_of(ws, current.theme_ids, theme_ids, drift["retired"])
+    drift["room"] = result.room
     alerts = drift["alerts"]
     plan = theme_plan(drift)
 
@@ -439,6 +354,7 @@ def _run(
         "alerts": {k: alerts[k] for k in ("new", "rise", "fall")},
         "resweep": result.resweep,
         "resweep_reason": result.resweep_reason,
+        "room": result.room,
         "same_theme_cutoff": calibration.threshold,
         "rejected": result.rejected,
         "curation": {
@@ -459,6 +375,7 @@ def _run(
                 "resweep": result.resweep,
                 "resweep_reason": result.resweep_reason,
                 "coherence_check": result.coherence,
+                "room": result.room,
             },
             **extra,
         },

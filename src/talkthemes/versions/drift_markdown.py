@@ -46,6 +46,9 @@ def render_markdown(report: Mapping[str, Any]) -> str:
     ]
     if th.get("rule"):
         lines.append(f"- How the cut-off was found: {md_inline(th['rule'])}.")
+    room = r.get("room") or {}
+    if room.get("text"):
+        lines.append(f"- Room for a new theme: {md_inline(room['text'])}.")
     if th.get("overlap"):
         lines.append(
             "- Caution: at this K, fits with different seeds do not reproduce every theme "
