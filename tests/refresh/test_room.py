@@ -58,7 +58,7 @@ def test_a_new_reason_gets_a_theme_of_its_own_at_k_plus_one(
 
 @pytest.mark.slow
 def test_nothing_new_keeps_k(history: Workspace, tmp_path: Path) -> None:
-    doc, ws, truth = run_case(history, tmp_path, TIGHT, "nothing", seed=0)
+    doc, _, _ = run_case(history, tmp_path, TIGHT, "nothing", seed=0)
     assert doc["k"] == 6 and not doc["room"]["raised"]
     assert [(t["k"], t["alerted"]) for t in doc["room"]["tried"]] == [(6, 0), (7, 0)]
     assert doc["alerts"] == {"new": [], "rise": [], "fall": []}
