@@ -197,6 +197,8 @@ def test_page_shows_the_timeline_the_changes_and_a_new_theme(refreshed, monkeypa
     assert md_inline(new["examples"][0]["transcript_id"]) in text
     assert md_inline(LABEL) in text and LABEL not in text  # escaped, never raw
     assert "Version 2" in text and "Refreshed from version 1." in text
+    room = report["room"]  # the room check ran, and the caption says K was raised only if so
+    assert room["published_k"] == K and (md_inline(room["text"]) in text) == room["raised"]
     # the alert explains itself: evidence and example sentences, escaped
     assert "Alerts" in [s.value for s in at.subheader]
     card = alert_cards(report)[0]

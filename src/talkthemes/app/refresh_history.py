@@ -163,9 +163,11 @@ def _version_details(ws: Workspace, record: VersionRecord) -> None:
         d.metric("Retired", counts.get("retired", len(retired)))
         prev = refresh.previous_version
         reason = refresh.resweep_reason
+        room = (report or {}).get("room") or {}
         st.caption(
             f"Refreshed from version {prev}."
             + (f" K was chosen again: {md_inline(reason)}." if reason else "")
+            + (f" {md_inline(room['text'])}." if room.get("raised") else "")
         )
     terms = report_top_terms(report) or _version_top_terms(ws, n)
     changes = version_changes(themes, retired, terms)
