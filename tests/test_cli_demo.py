@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+import pytest
 from typer.testing import CliRunner
 
 from talkthemes.cli._common import app
@@ -46,3 +47,20 @@ def test_demo_runs_ingest_prepare_sweep_publish(tmp_path: Path) -> None:
     r = CliRunner().invoke(app, ["demo", "--no-serve", "-w", str(ws), "--json"])
     assert r.exit_code == 0, r.stderr
     assert json.loads(r.stdout)["existing_version"] == 2
+
+
+@pytest.mark.slow
+def test_the_demo_refresh_shows_the_new_price_change_theme(tmp_path: Path) -> None:
+    # `demo --refresh` promises a new theme: October brings the price-change calls (about a
+    # fifth of the month) that no earlier month has. At K = 10 (the scenario's ten reasons)
+    # the refit has no theme to spare; the room check gives the new reason its own.
+    ws = tmp_path / "demo"
+    args = ["demo", "--size", "1500", "--k", "10", "--seeds", "1", "--no-serve", "-w", str(ws)]
+    r = CliRunner().invoke(app, [*args, "--json"])
+    assert r.exit_code == 0, r.stderr
+    refresh = json.loads(r.stdout)["refresh"]
+    assert refresh["room"]["raised"] and refresh["k"] == 11
+    (new,) = [t for t in refresh["new_themes"] if t["alert"]]
+    assert refresh["alerts"]["new"] == [new["theme_id"]] and new["verdict"] == "new"
+    assert {"price", "unit_rate"} <= set(new["top_terms"][:5])
+    assert "price" in new["name"].lower()  # named by its suggested name, not raw terms

@@ -14,6 +14,7 @@ import talkthemes.app
 from talkthemes.charts.history import timeline_chart
 from talkthemes.errors import InputError
 from talkthemes.text import md_inline
+from talkthemes.versions import load as versions_load
 from talkthemes.view.history import (
     alert_cards,
     load_drift,
@@ -192,7 +193,9 @@ def test_page_shows_the_timeline_the_changes_and_a_new_theme(refreshed, monkeypa
     text = _texts(at)
     report = _report(refreshed)
     new = next(t for t in report["themes"] if t["status"] == "new")
-    name = " · ".join(w.replace("_", " ") for w in new["top_terms"][:3])
+    v2 = versions_load.load_version(refreshed, 2, fold=False)
+    name = v2.suggested_names()[v2.theme_ids.index(new["theme_id"])]
+    assert new["name"] == name  # the report names a theme as its version does
     assert f"**{md_inline(name)}** \\#{new['theme_id']}" in text
     assert md_inline(new["examples"][0]["transcript_id"]) in text
     assert md_inline(LABEL) in text and LABEL not in text  # escaped, never raw

@@ -22,6 +22,7 @@ from talkthemes.view.history import (
     alert_cards,
     load_drift,
     new_theme_examples,
+    report_suggested,
     report_top_terms,
     version_changes,
     versions_timeline,
@@ -61,6 +62,15 @@ def _version_top_terms(ws: Workspace, n: int) -> dict[int, list[str]]:
         _shared.show_error(exc)
         return {}
     return {tid: version.top_terms(i, 3) for i, tid in enumerate(version.theme_ids)}
+
+
+def _names(ws: Workspace, n: int) -> dict[int, str]:
+    """Suggested names of a version's themes (for a version without a report)."""
+    try:
+        version = _shared._version(*_shared.version_key(ws, n))
+    except TalkthemesError:
+        return {}
+    return dict(zip(version.theme_ids, version.suggested_names(), strict=True))
 
 
 def _theme_list(items: list[ThemeChange], status: str) -> None:
@@ -170,7 +180,7 @@ def _version_details(ws: Workspace, record: VersionRecord) -> None:
             + (f" {md_inline(room['text'])}." if room.get("raised") else "")
         )
     terms = report_top_terms(report) or _version_top_terms(ws, n)
-    changes = version_changes(themes, retired, terms)
+    changes = version_changes(themes, retired, terms, report_suggested(report) or _names(ws, n))
     cols = st.columns(3)
     for col, status in zip(cols, ("new", "carried", "retired"), strict=True):
         with col:

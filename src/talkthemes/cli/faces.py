@@ -136,7 +136,14 @@ def demo(
             console=out,
         )
         for t in r.get("new_themes", []):
-            say(f"  new theme {t['theme_id']}: ", ", ".join(t["top_terms"][:6]), console=out)
+            say(
+                f"  new theme {t['theme_id']}: ",
+                t.get("name") or "",
+                " (",
+                ", ".join(w.replace("_", " ") for w in t["top_terms"][:6]),
+                ")",
+                console=out,
+            )
     else:
         published = doc["published"]
         say(

@@ -28,7 +28,7 @@ from talkthemes.versions.drift import ThemeSide, best_examples, drift_report
 from talkthemes.versions.drift_markdown import render_markdown
 from talkthemes.versions.fit import FittedVersion
 from talkthemes.versions.load import Version
-from talkthemes.versions.write import ExtraFiles, ThemePlan
+from talkthemes.versions.write import ExtraFiles, ThemePlan, fitted_names
 from talkthemes.workspace import Workspace
 
 __all__ = ["DriftPng", "drift_files", "drift_of", "excerpt", "theme_plan", "theme_sides"]
@@ -64,6 +64,7 @@ def theme_sides(
         np.asarray(current.topic_terms),
         current.vocabulary,
         current.coverage(),
+        suggested=current.suggested_names(),
     )
     theta = np.asarray(fitted.doc_topics)
     coverage = np.bincount(np.argmax(theta, axis=1), minlength=fitted.k) / max(1, len(theta))
@@ -73,6 +74,7 @@ def theme_sides(
         np.asarray(fitted.topic_terms),
         fitted.vocabulary,
         coverage,
+        suggested=fitted_names(fitted, ws.settings().view.relevance_lambda),
     )
     return old_side, new_side
 

@@ -43,7 +43,7 @@ import pandas as pd
 from talkthemes.errors import InputError
 from talkthemes.trends import lead_share_by_segment
 from talkthemes.versions.align import Alignment
-from talkthemes.versions.naming import theme_name
+from talkthemes.versions.naming import display_name, theme_name
 
 __all__ = [
     "ThemeSide",
@@ -69,6 +69,9 @@ class ThemeSide:
     vocabulary : list of str
     coverage : ndarray (K,)
         Share of the version's transcripts each theme leads.
+    suggested : list of str, optional
+        Each row's suggested name (docs/methods.md, "Suggested names"); without them a
+        theme is named by its three top terms until labelled.
     """
 
     theme_ids: list[int]
@@ -76,6 +79,7 @@ class ThemeSide:
     topic_terms: np.ndarray
     vocabulary: list[str]
     coverage: np.ndarray
+    suggested: list[str] | None = None
 
     def __post_init__(self) -> None:
         k = len(self.theme_ids)
@@ -85,6 +89,7 @@ class ThemeSide:
             or len(self.labels) != k
             or len(self.coverage) != k
             or self.topic_terms.shape[1] != len(self.vocabulary)
+            or (self.suggested is not None and len(self.suggested) != k)
         ):
             raise InputError(
                 f"drift: a version side has {k} theme ids, {len(self.labels)} labels, "
@@ -99,7 +104,9 @@ class ThemeSide:
         return [self.vocabulary[i] for i in order]
 
     def name(self, row: int) -> str:
-        """Label, or the three top terms."""
+        """The name screens show: the label, else the suggested name (else three top terms)."""
+        if self.suggested is not None:
+            return display_name(self.labels[row], self.suggested[row])
         return theme_name(self.labels[row], self.top_terms(row, 3))
 
 

@@ -35,7 +35,7 @@ from talkthemes.versions.naming import suggest_names
 from talkthemes.versions.prune import prune_versions
 from talkthemes.workspace import Workspace, atomic_dir
 
-__all__ = ["Checkpoint", "ExtraFiles", "ThemePlan", "write_version"]
+__all__ = ["Checkpoint", "ExtraFiles", "ThemePlan", "fitted_names", "write_version"]
 
 log = logging.getLogger(__name__)
 
@@ -176,19 +176,23 @@ def write_version(
     return n
 
 
-def _labelling_aids(ws: Workspace, fitted: FittedVersion) -> tuple[list[str], list[Any]]:
-    """Each theme's suggested name and evidence sentences (docs/methods.md, "Suggested
-    names" and "Evidence sentences"), worked out once so that screens only read them."""
-    lam = ws.settings().view.relevance_lambda
+def _weights_and_marginal(fitted: FittedVersion) -> tuple[np.ndarray, np.ndarray]:
+    """The themes' weights in the corpus and the corpus term distribution p(w)."""
     phi = np.asarray(fitted.topic_terms, dtype=np.float64)
     weights = np.asarray(
         fitted.info.get("topic_weights") or np.asarray(fitted.doc_topics).mean(axis=0),
         dtype=np.float64,
     )
-    marginal = (weights / weights.sum()) @ phi
+    return weights, (weights / weights.sum()) @ phi
+
+
+def fitted_names(fitted: FittedVersion, lam: float) -> list[str]:
+    """Each theme's suggested name, as the version written from ``fitted`` stores it
+    (docs/methods.md, "Suggested names"); the drift report names a refit's themes so too."""
+    weights, marginal = _weights_and_marginal(fitted)
     kept_words = prep_words(fitted.prep_info)
-    names = suggest_names(
-        phi,
+    return suggest_names(
+        np.asarray(fitted.topic_terms, dtype=np.float64),
         marginal,
         fitted.vocabulary,
         lam=lam,
@@ -196,6 +200,15 @@ def _labelling_aids(ws: Workspace, fitted: FittedVersion) -> tuple[list[str], li
         # a person's name is personal data, never a theme's name (unless the prep kept it)
         skip=lambda term: name_term(term, words=kept_words),
     )
+
+
+def _labelling_aids(ws: Workspace, fitted: FittedVersion) -> tuple[list[str], list[Any]]:
+    """Each theme's suggested name and evidence sentences (docs/methods.md, "Suggested
+    names" and "Evidence sentences"), worked out once so that screens only read them."""
+    lam = ws.settings().view.relevance_lambda
+    phi = np.asarray(fitted.topic_terms, dtype=np.float64)
+    _, marginal = _weights_and_marginal(fitted)
+    names = fitted_names(fitted, lam)
     spec = PrepSpec.from_prep_info(fitted.prep_info, fitted.vocabulary)
     with ws.store() as store:
         evidence = build_evidence(

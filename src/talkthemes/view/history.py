@@ -5,8 +5,8 @@ Inputs are what the store and a version's ``drift.json`` hold
 :meth:`~talkthemes.store.Store.retired_themes`, :func:`talkthemes.drift.drift_report`);
 outputs are plain frames and dataclasses the page shows (the timeline is drawn by
 :func:`talkthemes.charts.timeline_chart`). Only :func:`load_drift` reads a file. Theme names
-are the labels as they are now, or three top terms, so a label edited after a refresh shows
-here too.
+are the labels as they are now, else the suggested names the report or the version keeps
+(else three top terms), so a label edited after a refresh shows here too.
 """
 
 from __future__ import annotations
@@ -32,6 +32,7 @@ __all__ = [
     "alert_cards",
     "load_drift",
     "new_theme_examples",
+    "report_suggested",
     "report_top_terms",
     "version_changes",
     "versions_timeline",
@@ -108,7 +109,7 @@ class ThemeChange:
     ----------
     theme_id : int
     name : str
-        Its label, or its three top terms.
+        Its label, else its suggested name, else its three top terms.
     status : str
         ``carried``, ``new`` or ``retired``.
     detail : str
@@ -182,16 +183,35 @@ def _flags(theme: ThemeRecord) -> list[str]:
     return out
 
 
-def _name(label: str, terms: Sequence[str] | None, theme_id: int) -> str:
-    if (label or "").strip() or terms:
-        return theme_name(label, list(terms or []))
+def _name(
+    label: str, terms: Sequence[str] | None, theme_id: int, suggested: str | None = None
+) -> str:
+    if (label or "").strip():
+        return label.strip()
+    if suggested:
+        return suggested
+    if terms:
+        return theme_name(label, list(terms))
     return f"theme #{theme_id}"
+
+
+def report_suggested(report: Mapping[str, Any] | None) -> dict[int, str]:
+    """Theme id → suggested name of every theme of a drift report not labelled when the
+    report was made (the report's name for it is then its suggested name)."""
+    if not report:
+        return {}
+    return {
+        int(t["theme_id"]): str(t["name"])
+        for t in report.get("themes", [])
+        if t.get("name") and not str(t.get("label") or "").strip()
+    }
 
 
 def version_changes(
     themes: Sequence[ThemeRecord],
     retired: Sequence[RetiredTheme],
     top_terms: Mapping[int, Sequence[str]],
+    suggested: Mapping[int, str] | None = None,
 ) -> VersionChanges:
     """Split a version's themes into carried, new and retired, with names and details.
 
@@ -204,16 +224,20 @@ def version_changes(
     top_terms : mapping of int to sequence of str
         Theme id → top terms, most probable first (from the drift report or the
         version); a retired theme's own recorded top terms are used when missing here.
+    suggested : mapping of int to str, optional
+        Theme id → suggested name (:func:`report_suggested`, or the version's), shown for
+        a theme without a label; else its three top terms.
 
     Returns
     -------
     VersionChanges
         Each list in theme-id order.
     """
+    suggested = suggested or {}
     carried, new, gone = [], [], []
     for t in themes:
         tid = t.theme_id
-        name = _name(t.label, top_terms.get(tid), tid)
+        name = _name(t.label, top_terms.get(tid), tid, suggested.get(tid))
         if t.status == "carried":
             dist = t.distance
             detail = (
@@ -283,12 +307,14 @@ def new_theme_examples(
         escapes it).
     """
     labels = labels or {}
+    suggested = report_suggested(report)
     rows = []
     for t in sorted(report.get("themes", []), key=lambda t: int(t["theme_id"])):
         if t.get("status") != "new":
             continue
         tid = int(t["theme_id"])
-        name = _name(labels.get(tid, t.get("label", "")), t.get("top_terms"), tid)
+        name = _name(labels.get(tid, t.get("label", "")), t.get("top_terms"), tid,
+                     suggested.get(tid))  # fmt: skip
         for e in sorted(t.get("examples") or [], key=lambda e: -float(e["share"])):
             rows.append(
                 {
@@ -337,7 +363,7 @@ class AlertCard:
         ``new``, ``riser`` or ``faller``.
     theme_id : int
     name : str
-        Its label as it is now, or its three top terms.
+        Its label as it is now, else its suggested name, else its three top terms.
     size : str
         Transcripts it leads among the new ones, in words.
     growth : str
@@ -426,12 +452,13 @@ def alert_cards(
     if not block:
         return []
     labels = labels or {}
+    suggested = report_suggested(report)
     cards = []
     for t in block.get("new_themes", []):
         if t.get("alert"):
             tid = int(t["theme_id"])
             evidence = [(bool(e["held"]), str(e["text"])) for e in t.get("evidence", [])]
-            name = _name(labels.get(tid, ""), t.get("top_terms"), tid)
+            name = _name(labels.get(tid, ""), t.get("top_terms"), tid, suggested.get(tid))
             cards.append(_card("new", t, name, evidence, masked=masked))
     rules = block.get("rules") or {}
     by_id = {int(t["theme_id"]): t for t in block.get("changes", [])}
@@ -451,6 +478,8 @@ def alert_cards(
                 evidence.append(
                     (True, "counted with its split themes " + ", ".join(map(str, t["includes"])))
                 )
-            name = _name(labels.get(int(tid), ""), t.get("top_terms"), int(tid))
+            name = _name(
+                labels.get(int(tid), ""), t.get("top_terms"), int(tid), suggested.get(int(tid))
+            )
             cards.append(_card(kind, t, name, evidence, masked=masked))
     return cards
