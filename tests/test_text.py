@@ -12,7 +12,15 @@ from hypothesis import example, given, settings
 from hypothesis import strategies as st
 from markdown_it import MarkdownIt
 
-from talkthemes.text import csv_cell, csv_frame, html_text, md_inline, percent, terminal_text
+from talkthemes.text import (
+    csv_cell,
+    csv_frame,
+    html_text,
+    md_file_inline,
+    md_inline,
+    percent,
+    terminal_text,
+)
 
 _md = MarkdownIt("commonmark", {"html": True}).enable("table").enable("strikethrough")
 
@@ -37,6 +45,34 @@ def test_markdown_neutralises_links_images_and_html() -> None:
     rendered = _md.render(md_inline(hostile))
     assert "<a " not in rendered and "<img" not in rendered and "<b>" not in rendered
     assert "<h1>" not in rendered and "<table>" not in rendered
+
+
+_TAGS = re.compile(r"<(a|img|em|strong|code|del|h[1-6]|table|ol|ul|li|blockquote|hr|pre)\b")
+
+
+@settings(max_examples=400, deadline=None)
+@example("fall_line _x_ a__b ___")
+@example("1. item")
+@example("- item")
+@example("# head")
+@example("> quote")
+@example("===")
+@example("&amp; &#35; <b>x</b> [l](u) ![i](u) `c` ~~s~~ $m$ | a | b |")
+@given(st.text(alphabet=st.characters(blacklist_categories=("Cs", "Cc")), max_size=60))
+def test_markdown_file_text_renders_the_literal_text(text: str) -> None:
+    one_line = " ".join(text.split())
+    escaped = md_file_inline(text)
+    assert _rendered_text(escaped) == one_line
+    assert not _TAGS.search(_md.render(escaped))
+
+
+def test_markdown_file_text_leaves_ids_dates_and_phrases_as_they_are() -> None:
+    for plain in ("C2026-10-000141", "2026-12-05T07:16:24+00:00", "fall_line", "Unit rate · price"):
+        assert md_file_inline(plain) == plain
+    # autolinks of GitHub's Markdown (not in the parser above) are broken by one escape each
+    assert md_file_inline("http://x.test www.x.test a@x.test") == (
+        "http\\://x.test www\\.x.test a\\@x.test"
+    )
 
 
 def test_html_text_escapes_markup_and_quotes() -> None:

@@ -111,7 +111,7 @@ def test_new_reason_and_rise_alert_and_explain_themselves(
     assert f"### New theme {new_id}:" in alerts and f"### Riser {riser['theme_id']}:" in alerts
     assert alerts.count("  - held: ") >= 4
     for e in new["examples"]:
-        assert e["transcript_id"].replace("-", "\\-") in alerts
+        assert f"({e['transcript_id']})" in alerts  # searchable as it is
     assert not re.search(r"(?<!\\)[<>]", md)
     # the store keeps each theme's verdict for the Refresh history
     with ws.store() as store:

@@ -11,7 +11,7 @@ from markdown_it import MarkdownIt
 
 from talkthemes.charts.drift import drift_chart
 from talkthemes.errors import InputError
-from talkthemes.text import md_inline
+from talkthemes.text import md_file_inline
 from talkthemes.versions.align import align_themes
 from talkthemes.versions.drift import ThemeSide, drift_frame, drift_report
 from talkthemes.versions.drift_markdown import render_markdown
@@ -127,7 +127,7 @@ def test_markdown_is_readable_and_escaped(case: dict) -> None:
     assert "\\<b\\>" in md and "\\[x\\]" in md
     table_rows = [line for line in md.splitlines() if line.startswith("| 1 |")]
     assert len(table_rows) == 1 and table_rows[0].count(" | ") == 7  # pipes escaped
-    assert md_inline(LABEL) in md  # the one escaping every face uses
+    assert md_file_inline(LABEL) in md  # the escaping for Markdown files, from text/
 
 
 def test_markdown_renders_user_text_literally(case: dict) -> None:

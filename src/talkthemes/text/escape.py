@@ -14,7 +14,15 @@ from typing import TYPE_CHECKING, Any
 if TYPE_CHECKING:  # pandas is imported where it is used: the CLI's start-up must not pay it
     import pandas as pd
 
-__all__ = ["FORMULA_START", "csv_cell", "csv_frame", "html_text", "md_inline", "terminal_text"]
+__all__ = [
+    "FORMULA_START",
+    "csv_cell",
+    "csv_frame",
+    "html_text",
+    "md_file_inline",
+    "md_inline",
+    "terminal_text",
+]
 
 #: Characters that make a spreadsheet read a cell as a formula or a command (OWASP, "CSV
 #: Injection": ``=``, ``+``, ``-``, ``@``, tab and carriage return at the start of a cell).
@@ -26,6 +34,13 @@ FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 # shortcodes such as ``:material/name:``, which some renderers expand before Markdown).
 _MD_SPECIAL = re.compile(r"([\\`*_{}\[\]()#+\-.!|<>~$:/&])")
 _CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f]")
+# Markdown files (drift.md) are read as plain text as often as rendered: escape only what
+# CommonMark and GitHub's extensions (tables, strike-through, maths, autolinks) give a
+# meaning to, so that call ids, dates and phrases read as they are and can be searched for.
+_MD_FILE_SPECIAL = re.compile(r"([\\`*\[\]<>&|~$@])")
+_MD_FILE_AUTOLINK = re.compile(r"(?i)(?<=www)\.|:(?=//)")
+_MD_FILE_BLOCK = re.compile(r"^(\d{1,9})([.)])|^([#>+=-])")
+_UNDERSCORES = re.compile(r"_+")
 
 
 def html_text(value: Any) -> str:
@@ -42,6 +57,37 @@ def md_inline(value: Any) -> str:
     """
     one_line = " ".join(str(value).split())
     return _MD_SPECIAL.sub(r"\\\1", one_line)
+
+
+def md_file_inline(value: Any) -> str:
+    """``value`` as one line of a Markdown *file* that renders as the literal text and
+    reads as it is when the file is read as plain text.
+
+    Like :func:`md_inline`, whitespace runs become one space and nothing can become a link,
+    image, emphasis, code span, HTML, entity, table cell, strike-through or maths; but only
+    the characters that need it are escaped: ``\\ ` * [ ] < > & | ~ $ @`` always, ``_``
+    unless inside a word (CommonMark never reads ``fall_line`` as emphasis), ``:`` before
+    ``//`` and ``.`` after ``www`` (autolinks), and a leading ``#``, ``>``, ``+``, ``=``,
+    ``-`` or ``1.`` (a heading, quote or list). Call ids and dates such as
+    ``C2026-10-000141`` or ``2026-12-05T07:16:24+00:00`` come out unchanged. Not for
+    screens whose renderer expands shortcodes (``:name:``): use :func:`md_inline` there.
+    """
+    text = " ".join(str(value).split())
+    text = _MD_FILE_SPECIAL.sub(r"\\\1", text)
+    text = _MD_FILE_AUTOLINK.sub(lambda m: "\\" + m.group(0), text)
+    text = _UNDERSCORES.sub(lambda m: _underscores(text, m), text)
+    return _MD_FILE_BLOCK.sub(
+        lambda m: f"{m.group(1)}\\{m.group(2)}" if m.group(1) else "\\" + m.group(3), text
+    )
+
+
+def _underscores(text: str, m: re.Match[str]) -> str:
+    """A run of ``_`` kept inside a word, escaped at a word's edge."""
+    before = text[m.start() - 1] if m.start() > 0 else " "
+    after = text[m.end()] if m.end() < len(text) else " "
+    if before.isalnum() and after.isalnum():
+        return m.group(0)
+    return "\\_" * len(m.group(0))
 
 
 def terminal_text(value: Any) -> str:

@@ -2,7 +2,7 @@
 
 Every text that came from a transcript or a user (theme names, terms, the evidence
 sentences, which name terms, example sentences, transcript ids) goes through
-:func:`talkthemes.text.md_inline`; shares through :func:`talkthemes.text.percent`.
+:func:`talkthemes.text.md_file_inline`; shares through :func:`talkthemes.text.percent`.
 """
 
 from __future__ import annotations
@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from typing import Any
 
-from talkthemes.text import md_inline, percent
+from talkthemes.text import md_file_inline, percent
 
 __all__ = ["alert_lines", "verdict_line"]
 
@@ -70,12 +70,14 @@ def _examples(entry: Mapping[str, Any]) -> list[str]:
         return ["- Example sentences: none found in its new transcripts."]
     lines = ["- Example sentences:"]
     for e in examples:
-        lines.append(f"  - “{md_inline(e['sentence'])}” ({md_inline(e['transcript_id'])})")
+        lines.append(
+            f"  - “{md_file_inline(e['sentence'])}” ({md_file_inline(e['transcript_id'])})"
+        )
     return lines
 
 
 def _terms(terms: Sequence[str]) -> str:
-    return ", ".join(md_inline(t) for t in terms) or "–"
+    return ", ".join(md_file_inline(t) for t in terms) or "–"
 
 
 def verdict_line(entry: Mapping[str, Any]) -> str | None:
@@ -83,7 +85,7 @@ def verdict_line(entry: Mapping[str, Any]) -> str | None:
     verdict = entry.get("verdict")
     if verdict is None:
         return None
-    text = VERDICT_TEXT.get(verdict, md_inline(verdict))
+    text = VERDICT_TEXT.get(verdict, md_file_inline(verdict))
     if verdict == "split" and entry.get("split_of") is not None:
         text = f"not alerted: split of theme {int(entry['split_of'])}"
     return f"- Alert: **{text}** (see Alerts)."
@@ -91,7 +93,7 @@ def verdict_line(entry: Mapping[str, Any]) -> str | None:
 
 def _new_alert(t: Mapping[str, Any]) -> list[str]:
     lines = [
-        f"### New theme {t['theme_id']}: {md_inline(t['name'])}",
+        f"### New theme {t['theme_id']}: {md_file_inline(t['name'])}",
         "",
         f"- Size: {_size(t['growth'])}.",
         f"- Growth: {_growth(t['growth'])}.",
@@ -99,7 +101,8 @@ def _new_alert(t: Mapping[str, Any]) -> list[str]:
         "- Evidence (every piece held):",
     ]
     lines += [
-        f"  - {'held' if e['held'] else 'failed'}: {md_inline(e['text'])}" for e in t["evidence"]
+        f"  - {'held' if e['held'] else 'failed'}: {md_file_inline(e['text'])}"
+        for e in t["evidence"]
     ]
     return [*lines, *_examples(t), ""]
 
@@ -107,7 +110,7 @@ def _new_alert(t: Mapping[str, Any]) -> list[str]:
 def _change(t: Mapping[str, Any], kind: str, fdr: float, min_ratio: float) -> list[str]:
     g = t["growth"]
     lines = [
-        f"### {kind} {t['theme_id']}: {md_inline(t['name'])}",
+        f"### {kind} {t['theme_id']}: {md_file_inline(t['name'])}",
         "",
         f"- Size: {_size(g)}; {g['calls_earlier']:,} of {g['earlier_transcripts']:,} earlier.",
         f"- Growth: {_growth(g)}.",
@@ -138,9 +141,10 @@ def alert_lines(report: Mapping[str, Any]) -> list[str]:
     ]
     skipped = [t for t in a.get("new_themes", []) if not t["alert"]]
     for t in skipped:
-        failed = "; ".join(md_inline(e["text"]) for e in t["evidence"] if not e["held"])
+        failed = "; ".join(md_file_inline(e["text"]) for e in t["evidence"] if not e["held"])
         lines.append(
-            f"- Theme {t['theme_id']} ({md_inline(t['name'])}) is new but not alerted: {failed}."
+            f"- Theme {t['theme_id']} ({md_file_inline(t['name'])}) is new but not alerted: "
+            f"{failed}."
         )
     if a.get("not_a_theme"):
         lines.append(f"- Marked not a theme (never alerted): {_ids(a['not_a_theme'])}.")

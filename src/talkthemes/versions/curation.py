@@ -23,7 +23,7 @@ from typing import Any
 import numpy as np
 
 from talkthemes.store.curation import merge_root
-from talkthemes.text import md_inline
+from talkthemes.text import md_file_inline
 from talkthemes.workspace import Workspace
 
 __all__ = [
@@ -194,7 +194,7 @@ def curation_markdown(report: Mapping[str, Any]) -> str:
     """The drift report's section on curation (empty when nothing was curated).
 
     ``report`` is a drift report holding ``curation`` (:func:`carry_report`). Labels are
-    escaped (:func:`talkthemes.text.md_inline`).
+    escaped (:func:`talkthemes.text.md_file_inline`).
     """
     cur = report.get("curation")
     if not cur or not (cur["carried"] or cur["not_carried"]):
@@ -221,7 +221,7 @@ def curation_markdown(report: Mapping[str, Any]) -> str:
         ]
         for e in cur["not_carried"]:
             what = ", ".join(_KIND_WORDS.get(k, k) for k in e["curation"])
-            name = f" “{md_inline(e['label'])}”" if e["label"] else ""
+            name = f" “{md_file_inline(e['label'])}”" if e["label"] else ""
             merged = (
                 f" (with {', '.join(f'theme {t}' for t in e['merged'])} merged into it)"
                 if e["merged"]

@@ -2,7 +2,7 @@
 
 Every text that came from a user or a transcript (theme names and labels, terms, transcript
 ids, excerpts, the refresh time and the calibration rule) goes through
-:func:`talkthemes.text.md_inline`, the escaping every face uses, so none of it can become a
+:func:`talkthemes.text.md_file_inline`, the escaping every face uses, so none of it can become a
 link, an image, HTML or a table cell; shares are formatted by :func:`talkthemes.text.percent`.
 """
 
@@ -11,7 +11,7 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from typing import Any
 
-from talkthemes.text import md_inline, percent
+from talkthemes.text import md_file_inline, percent
 from talkthemes.versions.alerts_markdown import alert_lines, verdict_line
 
 __all__ = ["render_markdown"]
@@ -24,7 +24,7 @@ def _with_interval(cov: Mapping[str, Any]) -> str:
 
 
 def _terms(terms: Sequence[str]) -> str:
-    return ", ".join(md_inline(t) for t in terms) or "–"
+    return ", ".join(md_file_inline(t) for t in terms) or "–"
 
 
 def render_markdown(report: Mapping[str, Any]) -> str:
@@ -36,7 +36,7 @@ def render_markdown(report: Mapping[str, Any]) -> str:
         "",
     ]
     if r.get("created_at"):
-        lines += [f"Refreshed at {md_inline(r['created_at'])}.", ""]
+        lines += [f"Refreshed at {md_file_inline(r['created_at'])}.", ""]
     lines += [
         f"- Transcripts: {tr['total']:,} in this version, {tr['new']:,} of them new since "
         f"version {r['previous_version']}.",
@@ -45,10 +45,10 @@ def render_markdown(report: Mapping[str, Any]) -> str:
         "(a theme that moved further than this from its best match is a different theme).",
     ]
     if th.get("rule"):
-        lines.append(f"- How the cut-off was found: {md_inline(th['rule'])}.")
+        lines.append(f"- How the cut-off was found: {md_file_inline(th['rule'])}.")
     room = r.get("room") or {}
     if room.get("text"):
-        lines.append(f"- Room for a new theme: {md_inline(room['text'])}.")
+        lines.append(f"- Room for a new theme: {md_file_inline(room['text'])}.")
     if th.get("overlap"):
         lines.append(
             "- Caution: at this K, fits with different seeds do not reproduce every theme "
@@ -64,13 +64,13 @@ def render_markdown(report: Mapping[str, Any]) -> str:
     for t in new:
         near = t["nearest_previous"]
         lines += [
-            f"### Theme {t['theme_id']}: {md_inline(t['name'])}",
+            f"### Theme {t['theme_id']}: {md_file_inline(t['name'])}",
             "",
             f"- Top terms: {_terms(t['top_terms'])}",
             f"- Leads {percent(t['coverage_after'])} of all transcripts; "
             f"{_with_interval(t['coverage_new_transcripts'])} new transcripts, "
             f"{_with_interval(t['coverage_earlier_transcripts'])} earlier ones.",
-            f"- Closest previous theme: {near['theme_id']} ({md_inline(near['name'])}) at "
+            f"- Closest previous theme: {near['theme_id']} ({md_file_inline(near['name'])}) at "
             f"distance {near['distance']:.3f}.",
         ]
         if t.get("possible_merge_of"):
@@ -94,8 +94,8 @@ def render_markdown(report: Mapping[str, Any]) -> str:
             lines.append("|---|---:|---|")
             for e in t["examples"]:
                 lines.append(
-                    f"| {md_inline(e['transcript_id'])} | {percent(e['share'])} | "
-                    f"{md_inline(e.get('excerpt', ''))} |"
+                    f"| {md_file_inline(e['transcript_id'])} | {percent(e['share'])} | "
+                    f"{md_file_inline(e.get('excerpt', ''))} |"
                 )
             lines.append("")
     carried = sorted(
@@ -121,7 +121,7 @@ def render_markdown(report: Mapping[str, Any]) -> str:
                 flags.append("possible split of " + ", ".join(map(str, t["possible_split_of"])))
             if t.get("possible_merge_of"):
                 flags.append("possible merge of " + ", ".join(map(str, t["possible_merge_of"])))
-            name = md_inline(t["name"]) + (f" ({'; '.join(flags)})" if flags else "")
+            name = md_file_inline(t["name"]) + (f" ({'; '.join(flags)})" if flags else "")
             lines.append(
                 f"| {t['theme_id']} | {name} | {t['distance']:.3f} | "
                 f"{_terms(t['terms_gained'])} | {_terms(t['terms_lost'])} | "
@@ -141,9 +141,9 @@ def render_markdown(report: Mapping[str, Any]) -> str:
         for t in r["retired"]:
             near = t["nearest_new"]
             lines.append(
-                f"| {t['theme_id']} | {md_inline(t['name'])} | {_terms(t['top_terms'][:6])} | "
+                f"| {t['theme_id']} | {md_file_inline(t['name'])} | {_terms(t['top_terms'][:6])} | "
                 f"{percent(t['coverage_before'])} | {near['theme_id']} "
-                f"({md_inline(near['name'])}) at {near['distance']:.3f} |"
+                f"({md_file_inline(near['name'])}) at {near['distance']:.3f} |"
             )
         lines.append("")
     if r["splits"] or r["merges"]:
