@@ -98,7 +98,8 @@ def themes(
         f"Version {v.n}: {v.info['family']} K={v.k}, {len(v.doc_ids):,} transcripts (λ = {lam:g})",
         console=out,
     )
-    out.print(ThemesTable(summary))
+    shown = sorted(summary, key=lambda t: t["theme_id"])  # ids read the same every version
+    out.print(ThemesTable(shown))
     say(unthemed.sentence(), console=out)
     if any(not t["labelled"] for t in summary):
         say(
@@ -106,7 +107,7 @@ def themes(
             console=out,
         )
     if evidence:
-        print_evidence(summary, evidence, stored=v.evidence_stored())
+        print_evidence(shown, evidence, stored=v.evidence_stored())
 
 
 def print_evidence(summary: Sequence[dict], n: int, *, stored: bool) -> None:
