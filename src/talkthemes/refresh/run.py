@@ -66,7 +66,7 @@ from talkthemes.refresh.calibration import calibration_fits
 from talkthemes.refresh.coherence import coherence_check
 from talkthemes.refresh.drift_step import DriftPng, drift_files, drift_of, theme_plan
 from talkthemes.sweep.run import load_current_prep, run_sweep
-from talkthemes.versions.alerts import AlertRules
+from talkthemes.versions.alert_rules import AlertRules
 from talkthemes.versions.align import align_themes, calibrate_threshold
 from talkthemes.versions.curation import curation_of
 from talkthemes.versions.fit import fit_version
