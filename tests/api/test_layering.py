@@ -1,8 +1,8 @@
 """The command line reaches the work only through the public API (an AST check of every
 import in ``cli/``, at any depth): no store, no stage's run function, no version loading.
 
-What the CLI may still import from below the API is listed here with the reason: helpers
-that show a result (the prepare step's explanation, the ingest outcomes' column order),
+What the CLI may still import from below the API is listed here with the reason: a helper
+that shows a result (the ingest outcomes' column order),
 the other faces it starts (report, viewer server, demo corpus writer), charts drawn from a
 result's frame, and the shared text, error, progress and path helpers.
 """
@@ -25,7 +25,6 @@ ALLOWED = {
     "talkthemes.text": "safe terminal text, percentages",
     "talkthemes.workspace.resolve_workspace": "--workspace, $TALKTHEMES_WORKSPACE, default",
     "talkthemes.ingest.run.OUTCOMES": "column order of the ingest table",
-    "talkthemes.prepare.explain": "shows what the prepare step did",
     "talkthemes.charts": "the sweep chart, drawn from SweepResult.cells",
     "talkthemes.report": "the report face",
     "talkthemes.serve": "the viewer face",
