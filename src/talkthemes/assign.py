@@ -27,7 +27,7 @@ import scipy.sparse as sp
 from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.ingest.decode import check_fallback
-from talkthemes.ingest.detect import iter_files, read_file
+from talkthemes.ingest.detect import is_manifest, iter_files, read_file, resolved
 from talkthemes.ingest.run import ingest
 from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec, too_few_terms
 from talkthemes.progress import Progress, report
@@ -37,13 +37,11 @@ from talkthemes.versions.unthemed import UNTHEMED
 from talkthemes.workspace import Workspace
 
 __all__ = [
-    "MANIFEST_NAMES",
     "AssignResult",
     "ShareModel",
     "assign",
     "assign_frame",
     "assign_items",
-    "folder_manifests",
     "read_transcripts",
 ]
 
@@ -233,33 +231,17 @@ class AssignResult:
         }
 
 
-#: File names (lower case) read as a folder's manifest, not as transcripts.
-MANIFEST_NAMES = ("manifest.csv", "manifest.parquet", "manifest.jsonl")
-
-
-def folder_manifests(paths: Sequence[Path]) -> list[Path]:
-    """Manifests at the top of the given folders: files named ``manifest.csv``,
-    ``manifest.parquet`` or ``manifest.jsonl`` (any case)."""
-    found: list[Path] = []
-    for p in paths:
-        p = Path(p)
-        if p.is_dir():
-            found.extend(
-                sorted(c for c in p.iterdir() if c.is_file() and c.name.lower() in MANIFEST_NAMES)
-            )
-    return found
-
-
 def read_transcripts(
-    paths: Sequence[Path], settings: Any, *, skip: Sequence[Path] = ()
+    paths: Sequence[Path], settings: Any, *, manifests: Sequence[Path] = ()
 ) -> Iterator[Transcript | Reject | Warning_]:
-    """Every transcript, reject and warning in ``paths``, leaving out the files in ``skip``
-    (manifests)."""
+    """Every transcript, reject and warning in ``paths``, leaving out the manifests: the
+    files named as one and those given in ``manifests``, by ingest's rule
+    (:func:`talkthemes.ingest.detect.is_manifest`)."""
     check_fallback(settings.encoding_fallback)
-    skipped = {Path(p).resolve() for p in skip}
+    given = resolved(manifests)
     for item in iter_files([Path(p) for p in paths], settings):
         if isinstance(item, Path):
-            if item.resolve() not in skipped:
+            if not is_manifest(item, given):
                 yield from read_file(item, settings)
         else:
             yield item
@@ -351,8 +333,9 @@ def assign(
         Also ingest the transcripts into the store (the caller then holds the lock).
     manifests : sequence of Path
         Metadata tables, applied when ``store`` is set. A ``manifest.csv``,
-        ``manifest.parquet`` or ``manifest.jsonl`` at the top of a folder in ``paths`` is
-        a manifest too (never read as transcripts).
+        ``manifest.parquet`` or ``manifest.jsonl`` in ``paths`` (in a folder, at any depth)
+        is a manifest too, as for ingest: applied when ``store`` is set, never read as
+        transcripts.
     version : int, optional
         Version to assign with.
     batch_size : int
@@ -378,11 +361,10 @@ def assign(
     applier = PrepApplier(load_prep_spec(ws, v))
     model = ShareModel.from_version(v)
     settings = ws.settings().ingest
-    in_folders = folder_manifests(paths)
     stored = None
-    if store:
-        stored = ingest(ws, list(paths), manifests=[*manifests, *in_folders]).to_json()
-    items = read_transcripts(paths, settings, skip=[*manifests, *in_folders])
+    if store:  # ingest applies the manifests in the folders itself
+        stored = ingest(ws, list(paths), manifests=list(manifests)).to_json()
+    items = read_transcripts(paths, settings, manifests=manifests)
     frame, rejects, warnings = assign_items(
         items, v, applier, model, batch_size=batch_size, progress=progress
     )

@@ -15,7 +15,7 @@ import talkthemes.cli
 from talkthemes.cli._common import app
 
 CLI = Path(talkthemes.cli.__file__).parent
-SHARED = {"talkthemes.cli._common", "talkthemes.cli._shared"}
+SHARED = {"talkthemes.cli._common", "talkthemes.cli._shared", "talkthemes.cli._explain"}
 COMMANDS = {
     "init", "ingest", "status", "prepare", "sweep", "publish", "themes", "label", "export",
     "view", "report", "demo", "refresh", "assign", "serve", "token",
@@ -50,6 +50,7 @@ def test_command_groups_import_only_the_shared_modules() -> None:
         assert _cli_imports(path) <= SHARED, path.name
     assert _cli_imports(CLI / "_common.py") == set()
     assert _cli_imports(CLI / "_shared.py") == {"talkthemes.cli._common"}
+    assert _cli_imports(CLI / "_explain.py") == set()
 
 
 def test_start_up_does_not_load_the_heavy_libraries() -> None:

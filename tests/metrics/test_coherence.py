@@ -12,7 +12,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from talkthemes.errors import InputError
-from talkthemes.metrics import cooccurrence as cooc
+from talkthemes.metrics import windows as counting
 from talkthemes.metrics.coherence import EPSILON, MEASURES, c_npmi, c_uci, c_v, score, u_mass
 from talkthemes.metrics.cooccurrence import (
     CoherenceReference,
@@ -131,12 +131,12 @@ def test_sparse_accumulation_and_small_pair_blocks_change_nothing(case: tuple) -
     docs, _, word_ids, window, chunk = case
     tokens, offsets = stream(docs)
     dense = window_counts(tokens, offsets, np.array(word_ids), window, chunk_tokens=chunk)
-    saved = cooc._DENSE_MAX_WORDS, cooc._PAIR_BLOCK
-    cooc._DENSE_MAX_WORDS, cooc._PAIR_BLOCK = 0, 1
+    saved = counting._DENSE_MAX_WORDS, counting._PAIR_BLOCK
+    counting._DENSE_MAX_WORDS, counting._PAIR_BLOCK = 0, 1
     try:
         sparse = window_counts(tokens, offsets, np.array(word_ids), window, chunk_tokens=chunk)
     finally:
-        cooc._DENSE_MAX_WORDS, cooc._PAIR_BLOCK = saved
+        counting._DENSE_MAX_WORDS, counting._PAIR_BLOCK = saved
     assert np.array_equal(dense.cooccurrences.toarray(), sparse.cooccurrences.toarray())
     assert np.array_equal(dense.occurrences, sparse.occurrences)
 

@@ -4,15 +4,16 @@ from __future__ import annotations
 
 import io
 import random
+from pathlib import Path
 
 import numpy as np
 import pytest
 from rich.console import Console
 
+from talkthemes.cli._explain import render_explain
 from talkthemes.config import PrepareSettings
 from talkthemes.errors import ConfigError
 from talkthemes.prepare.chain import build_processor, prepare_corpus
-from talkthemes.prepare.explain import render_explain
 from talkthemes.prepare.frozen import PrepApplier, PrepSpec
 from talkthemes.prepare.headwords import (
     Headwords,
@@ -22,6 +23,7 @@ from talkthemes.prepare.headwords import (
     regular_inflection,
 )
 from talkthemes.prepare.lexicon import load_lemma_table
+from talkthemes.prepare.run import PrepareResult
 
 
 @pytest.fixture(scope="module")
@@ -163,7 +165,7 @@ def test_chain_keeps_a_frequent_headword_and_reports_it():
     assert corpus.info["lemmas"]["choices"]["number"] == "number"
     # the lemmatised count includes the decisions: "lost" is no longer changed, "was" is
     out = io.StringIO()
-    render_explain(Console(file=out, width=120), explain)
+    render_explain(Console(file=out, width=120), PrepareResult("h", Path("p"), {}, False, explain))
     text = out.getvalue()
     assert "headwords" in text and "number" in text and "numb" in text
     assert "kept as said" in text and "names kept as written" in text

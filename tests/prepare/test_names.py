@@ -18,12 +18,12 @@ from rich.console import Console
 from typer.testing import CliRunner
 
 from talkthemes.cli._common import app
+from talkthemes.cli._explain import explain_rows, render_explain
 from talkthemes.config import PrepareSettings
 from talkthemes.demo.calls import iter_demo_calls
 from talkthemes.demo.scenario import load_scenario
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.corpus import OOV
-from talkthemes.prepare.explain import explain_json, explain_rows, render_explain
 from talkthemes.prepare.frozen import PrepApplier, PrepSpec
 from talkthemes.prepare.names import NameLexicon, label_names
 from talkthemes.prepare.names_corpus import name_hash
@@ -257,10 +257,11 @@ def test_explain_masks_names_unless_allowed(cased):
     row = next(r for r in explain_rows(explain) if r["step"] == "names")
     assert row["removed"] == f"{explain['names']['tokens_removed']:,} tokens"
     assert "names" in row["details"] and "at cues" in row["details"]
+    result = PrepareResult("h", Path("p"), {}, False, explain)
     masked = io.StringIO()
-    render_explain(Console(file=masked, width=200), explain)
+    render_explain(Console(file=masked, width=200), result)
     shown = io.StringIO()
-    render_explain(Console(file=shown, width=200), explain, original_text=True)
+    render_explain(Console(file=shown, width=200), result, original_text=True)
     # masked as the screens mask a name (talkthemes.privacy): one rule for both
     assert plain(Masker(["Quillon"]).mask("Quillon")) == "[name]"
     top = explain["names"]["top"]
@@ -269,13 +270,10 @@ def test_explain_masks_names_unless_allowed(cased):
         assert name not in masked.getvalue().lower().split()
         assert name in shown.getvalue()
     assert "grace" in masked.getvalue()  # kept as an ordinary word: not personal
-    result = PrepareResult("h", Path("p"), {}, False, explain)
-    dumped = json.dumps(explain_json(result))
+    dumped = json.dumps(result.to_json())
     assert not any(f'"{n}"' in dumped for n in PLANTED)
-    assert [t["name"] for t in explain_json(result)["explain"]["names"]["top"]] == ["[name]"] * len(
-        top
-    )
-    assert '"dana"' in json.dumps(explain_json(result, original_text=True))
+    assert [t["name"] for t in result.to_json()["explain"]["names"]["top"]] == ["[name]"] * len(top)
+    assert '"dana"' in json.dumps(result.to_json(original_text=True))
 
 
 def test_no_names_step_when_off():

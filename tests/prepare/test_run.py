@@ -11,15 +11,13 @@ import pytest
 from rich.console import Console
 
 from talkthemes.calls.model import Transcript, Turn
+from talkthemes.cli._explain import explain_rows, render_explain
 from talkthemes.config import PrepareSettings, Settings, render_settings
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.prepare import (
     PreparedCorpus,
     compute_prep_hash,
-    explain_json,
-    explain_rows,
     load_current,
-    render_explain,
     run_prepare,
 )
 from talkthemes.workspace import Workspace, atomic_write_text
@@ -166,11 +164,11 @@ def test_explain_outputs(filled: Workspace):
         "min_tokens",
     ]
     assert all(set(r) == {"step", "removed", "emptied", "details"} for r in rows)
-    doc = explain_json(result)
+    doc = result.to_json()
     assert json.loads(json.dumps(doc)) == doc
     assert doc["prep"] == result.prep_hash and doc["cached"] is False
     out = io.StringIO()
-    render_explain(Console(file=out, width=160), result.explain)
+    render_explain(Console(file=out, width=160), result)
     text = out.getvalue()
     assert "boilerplate sentences dropped" in text
     assert "thanks for calling how can i help you today" in text

@@ -13,9 +13,8 @@ from markdown_it import MarkdownIt
 from talkthemes.config import RefreshSettings
 from talkthemes.errors import InputError
 from talkthemes.refresh.run import RefreshResult
+from talkthemes.versions.alert_rules import AlertRules, Periods
 from talkthemes.versions.alerts import (
-    AlertRules,
-    Periods,
     judge_alerts,
     judge_changes,
     judge_new_themes,

@@ -12,8 +12,9 @@ import pytest
 from tests.refresh.conftest import K
 from typer.testing import CliRunner
 
+import talkthemes as tt
 from talkthemes import cli
-from talkthemes.assign import ShareModel, assign, assign_frame, folder_manifests
+from talkthemes.assign import ShareModel, assign, assign_frame
 from talkthemes.config import PrepareSettings
 from talkthemes.demo.records import DemoFiles
 from talkthemes.errors import InputError
@@ -149,7 +150,6 @@ def test_assign_cli_csv_and_parquet(
     v = load_version(ws)
     with ws.store() as store:
         stored = store.count_transcripts()
-    assert folder_manifests([demo_files.inbox]) == [demo_files.inbox / "manifest.csv"]
     csv_path, pq_path = tmp_path / "shares.csv", tmp_path / "shares.parquet"
     res = runner.invoke(
         cli.app, ["assign", str(demo_files.inbox), "--out", str(csv_path), "-w", str(ws.root),
@@ -192,6 +192,32 @@ def test_assign_cli_csv_and_parquet(
             again[col].astype(object).fillna("").tolist()
             == frame[col].astype(object).fillna("").tolist()
         )
+
+
+def test_assign_never_reads_a_manifest_as_transcripts(
+    published: Workspace, demo_files: DemoFiles, tmp_path: Path
+) -> None:
+    """Ingest's rule (``ingest.detect.is_manifest``): a ``manifest.*`` anywhere in a folder,
+    or named on the command line, holds metadata, never transcripts."""
+    ws = published
+    extra = tmp_path / "extra"
+    (extra / "may").mkdir(parents=True)
+    manifest = demo_files.inbox / "manifest.csv"
+    (extra / "may" / "Manifest.CSV").write_bytes(manifest.read_bytes())
+    (extra / "may" / "c1.txt").write_text(
+        "Customer: my bill is wrong, the charge on the bill is too high\n", encoding="utf-8"
+    )
+    out = tmp_path / "out.csv"
+    res = runner.invoke(
+        cli.app,
+        ["assign", str(extra), str(manifest), "--out", str(out), "-w", str(ws.root), "--json"],
+    )
+    assert res.exit_code == 0, res.stdout + res.stderr
+    doc = json.loads(res.stdout)
+    assert doc["rows"] == 1 and doc["rejects"] == []
+    assert pd.read_csv(out)["transcript_id"].tolist() == ["c1"]
+    frame = tt.Workspace.open(ws.root).assign([extra, manifest])  # the API: the same rule
+    assert frame["transcript_id"].tolist() == ["c1"]
 
 
 def test_assign_store_unknown_words_rejects_and_usage(

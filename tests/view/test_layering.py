@@ -101,6 +101,14 @@ def test_the_domain_never_imports_presentation_or_a_face(package: str) -> None:
     assert offending(files(package), ABOVE_DOMAIN) == {}
 
 
+@pytest.mark.parametrize("package", DOMAIN)
+def test_the_domain_never_draws_on_a_terminal(package: str) -> None:
+    # Terminal tables and bars belong to the command line (``cli/``, the rich bar adapter in
+    # ``api/progress.py``); the domain hands over data: ``prepare --explain`` draws the
+    # report the prepare step returns.
+    assert offending(files(package), ("rich",)) == {}
+
+
 def package_graph() -> dict[str, set[str]]:
     """Top-level package (or module) of ``talkthemes`` → the others it imports, at any depth."""
     graph: dict[str, set[str]] = {}

@@ -4,7 +4,8 @@
   point: open or create a workspace and run every stage on it;
 - :mod:`~talkthemes.api.writing` and :mod:`~talkthemes.api.reading` — its methods that
   change the workspace (taking the writer lock) and those that read it (thread-safe);
-- :mod:`~talkthemes.api.results` — the result types the API adds (status, label, export);
+- :mod:`~talkthemes.api.results` — the result types the API adds (status, label, export,
+  curation, tokens); :mod:`~talkthemes.api.call_results` — the versions and calls it lists;
 - :mod:`~talkthemes.api.inputs` — texts, frames and paths read for ``assign``;
 - :mod:`~talkthemes.api.progress` — rich and tqdm bars for the one progress protocol;
 - :mod:`~talkthemes.api._base`, :mod:`~talkthemes.api._cache`,

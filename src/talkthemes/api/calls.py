@@ -14,8 +14,8 @@ from typing import TYPE_CHECKING, Literal
 from talkthemes.errors import ConfigError, InputError
 
 from ._deferred import deferred
+from .call_results import CallDetail, CallShare, CallsPage, CallTurn, VersionInfo
 from .reading import ReadingMixin
-from .results import CallDetail, CallShare, CallsPage, CallTurn, VersionInfo
 
 if TYPE_CHECKING:  # heavy (numpy, the masking word lists): imported on first use
     import numpy as np

@@ -102,5 +102,4 @@ def _frame(frame: pd.DataFrame, settings: IngestSettings) -> Iterator[Item]:
 
 
 def _paths(paths: list[Path], settings: IngestSettings) -> Iterator[Item]:
-    skip = assign_mod.folder_manifests(paths)
-    return assign_mod.read_transcripts(paths, settings, skip=skip)
+    return assign_mod.read_transcripts(paths, settings)

@@ -3,13 +3,15 @@ curation (merge, log) on its card, and why a call belongs to its themes in Calls
 
 Layout only: the sentences come stored with the version
 (:mod:`talkthemes.view.theme_evidence`), the pulls from :mod:`talkthemes.view.why`, the
-chart from :mod:`talkthemes.charts.why`; merges and the log are the store's.
+chart from :mod:`talkthemes.charts.why`. Merges and their undoing go through the public API
+(:class:`talkthemes.Workspace`), with the CLI's checks; the log is read from the store.
 """
 
 from __future__ import annotations
 
 import streamlit as st
 
+import talkthemes as tt
 from talkthemes.app import _shared
 from talkthemes.charts.why import why_chart
 from talkthemes.errors import TalkthemesError
@@ -83,8 +85,7 @@ def _merge(root: str, theme_id: int, key: str) -> None:
     if into is None:
         return
     try:
-        with Workspace(root).store() as store:
-            kept = store.merge_theme(theme_id, int(into))
+        kept = tt.Workspace.open(root).merge(theme_id, int(into)).into
     except TalkthemesError as exc:
         st.session_state["curation_error"] = str(exc)
         return
@@ -94,8 +95,7 @@ def _merge(root: str, theme_id: int, key: str) -> None:
 
 def _unmerge(root: str, theme_id: int) -> None:
     try:
-        with Workspace(root).store() as store:
-            apart = store.unmerge_theme(theme_id)
+        apart = tt.Workspace.open(root).unmerge(theme_id).apart
     except TalkthemesError as exc:
         st.session_state["curation_error"] = str(exc)
         return

@@ -1,11 +1,14 @@
 """Theme cards: a theme's words ranked by relevance, its suggested name and evidence
 sentences, and its label, note and *not a theme* flag (saved to the workspace as soon as
-they change), merges and curation log."""
+they change, through the public API: :meth:`talkthemes.Workspace.label` and
+:meth:`~talkthemes.Workspace.mark_not_a_theme`, with the CLI's checks), merges and curation
+log."""
 
 from __future__ import annotations
 
 import streamlit as st
 
+import talkthemes as tt
 from talkthemes.app import _labelling, _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.metrics.prominence import boilerplate_like
@@ -29,10 +32,12 @@ def _field_key(what: str, theme_id: int) -> str:
 
 def _save(root: str, theme_id: int, what: str) -> None:
     value = st.session_state[_field_key(what, theme_id)]
-    change = {what: value.strip() if isinstance(value, str) else bool(value)}
     try:
-        with Workspace(root).store() as store:
-            store.set_label(theme_id, **change)
+        workspace = tt.Workspace.open(root)
+        if what == "hidden":
+            workspace.mark_not_a_theme(theme_id, bool(value))
+        else:
+            workspace.label(theme_id, **{what: str(value).strip()})
     except TalkthemesError as exc:
         st.session_state["cards_error"] = str(exc)
         return

@@ -1,7 +1,8 @@
 """``ingest`` and ``prepare``: read transcripts into the store, and prepare them for models.
 
-The work happens in :class:`talkthemes.Workspace`. The modules that show what ``prepare``
-did are imported inside the commands on purpose: they pull in spaCy, numpy and scipy, and
+The work happens in :class:`talkthemes.Workspace`; what ``prepare --explain`` prints is drawn
+by :mod:`talkthemes.cli._explain` from the result's JSON document. The ingest outcomes' column
+order is imported inside the command on purpose: the ingest package pulls in numpy, and
 ``talkthemes --help`` imports every command module.
 """
 
@@ -28,6 +29,7 @@ from talkthemes.cli._common import (
     waiting,
     writing,
 )
+from talkthemes.cli._explain import render_explain
 
 __all__ = ["ingest", "prepare"]
 
@@ -128,16 +130,13 @@ def prepare(
     as_json: JsonOpt = False,
 ) -> None:
     """Run the preprocessing chain (the prepare settings) into a cached prepared corpus."""
-    # deferred: showing what the chain did imports the chain (see module doc)
-    from talkthemes.prepare.explain import explain_json, render_explain
-
     ws = open_workspace(workspace)
     with progress_bar("prepare", enabled=not as_json) as update:
         result = ws.prepare(force=force, wait=wait, on_wait=waiting, progress=update)
     # names removed by the chain are people's data: shown only where the workspace allows
     original = ws.settings().view.original_text
     if as_json:
-        emit_json(explain_json(result, original_text=original))
+        emit_json(result.to_json(original_text=original))
         return
     s = result.summary
     if result.cached:
@@ -148,5 +147,5 @@ def prepare(
         console=out,
     )
     if explain:
-        render_explain(out, result.explain, original_text=original)
+        render_explain(out, result, original_text=original)
     say("Next: talkthemes sweep")

@@ -19,7 +19,8 @@ Walking rules (:func:`iter_files`)
 * A folder that cannot be listed is rejected; the walk goes on.
 * File size is checked by the readers (so a reader called directly checks it too).
 * A file named ``manifest.csv``, ``manifest.parquet`` or ``manifest.jsonl`` is a manifest,
-  not a transcript table (:func:`split_manifests`).
+  not a transcript table, and so is a file given as a manifest (:func:`is_manifest`, the
+  one rule of ingest, refresh and assign; :func:`split_manifests`).
 """
 
 from __future__ import annotations
@@ -27,7 +28,7 @@ from __future__ import annotations
 import logging
 import os
 import stat
-from collections.abc import Callable, Iterable, Iterator, Sequence
+from collections.abc import Callable, Collection, Iterable, Iterator, Sequence
 from pathlib import Path
 
 from talkthemes.calls.model import Reject, Transcript, Warning_
@@ -43,10 +44,12 @@ __all__ = [
     "MANIFEST_NAMES",
     "READERS",
     "is_ignored",
+    "is_manifest",
     "is_manifest_name",
     "iter_files",
     "read_file",
     "read_inputs",
+    "resolved",
     "split_manifests",
 ]
 
@@ -242,29 +245,62 @@ def is_manifest_name(path: Path | str) -> bool:
     return Path(path).name.casefold() in MANIFEST_NAMES
 
 
-def split_manifests(files: Iterable[Path]) -> tuple[list[Path], list[Path]]:
-    """Split input files into transcript files and manifests, by name.
+def resolved(paths: Iterable[Path | str]) -> frozenset[Path]:
+    """The real paths of files given as manifests, the form :func:`is_manifest` compares."""
+    return frozenset(Path(p).resolve() for p in paths)
 
-    A file named ``manifest.csv``, ``manifest.parquet`` or ``manifest.jsonl`` (any case)
-    among the inputs — given by name, or met at any depth while walking a folder — holds
-    metadata for the calls, not transcripts. Ingest applies it as a manifest; this is the
-    one rule for refresh and assign too.
+
+def is_manifest(path: Path, given: Collection[Path] = frozenset()) -> bool:
+    """Whether an input file holds metadata for the calls rather than transcripts.
+
+    The one rule of ingest, refresh and assign: a file named ``manifest.csv``,
+    ``manifest.parquet`` or ``manifest.jsonl`` (any case) among the inputs — given by name,
+    or met at any depth while walking a folder — is a manifest, and so is a file given as a
+    manifest (``--manifest``), wherever it is met. Neither is ever read as transcripts.
+
+    Parameters
+    ----------
+    path : Path
+        An input file, e.g. one :func:`iter_files` yields.
+    given : collection of Path
+        The files given as manifests, as :func:`resolved` returns them.
+
+    Returns
+    -------
+    bool
+    """
+    return is_manifest_name(path) or (bool(given) and path.resolve() in given)
+
+
+def split_manifests(
+    files: Iterable[Path], given: Iterable[Path | str] = ()
+) -> tuple[list[Path], list[Path]]:
+    """Split input files into transcript files and the manifests found among them.
 
     Parameters
     ----------
     files : iterable of Path
         Input files, e.g. the paths :func:`iter_files` yields.
+    given : iterable of Path
+        Files given as manifests: left out of both lists (the caller applies them), so a
+        manifest both given and met in a folder is applied once.
 
     Returns
     -------
     transcripts : list of Path
+        The files that are not a manifest (:func:`is_manifest`).
     manifests : list of Path
+        The files named as a manifest and not given as one.
         Both in the order given.
     """
+    known = resolved(given)
     transcripts: list[Path] = []
     manifests: list[Path] = []
     for f in files:
-        (manifests if is_manifest_name(f) else transcripts).append(f)
+        if not is_manifest(f, known):
+            transcripts.append(f)
+        elif not (known and f.resolve() in known):
+            manifests.append(f)
     return transcripts, manifests
 
 

@@ -220,7 +220,7 @@ def ingest(
     The caller holds the workspace lock. Good inputs are stored even when others are
     rejected; nothing already stored is changed unless asked (``update_metadata``). A file
     named ``manifest.csv``, ``manifest.parquet`` or ``manifest.jsonl`` among the inputs is
-    a manifest (:func:`~talkthemes.ingest.detect.split_manifests`). Large runs parse files
+    a manifest (:func:`~talkthemes.ingest.detect.is_manifest`). Large runs parse files
     in worker processes (``forkserver``), so a script calling this needs the usual
     ``if __name__ == "__main__":`` guard.
 
@@ -261,11 +261,8 @@ def ingest(
                 report.tally(item.format, "rejected")
             else:
                 report.warnings.append(item)
-        files, found = split_manifests(walked)
-        given = {Path(m).resolve() for m in manifests}
-        if given:  # a manifest given by name is never read as transcripts either
-            files = [f for f in files if f.resolve() not in given]
-            found = [f for f in found if f.resolve() not in given]
+        # a manifest given by name is never read as transcripts either, nor applied twice
+        files, found = split_manifests(walked, given=manifests)
         read = [
             _apply_manifest(store, report, Path(m), settings, update_metadata)
             for m in [*manifests, *found]

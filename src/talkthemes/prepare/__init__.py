@@ -10,15 +10,15 @@ instead in :mod:`.pipeline`, token codes in :mod:`.encoding`) → :mod:`.filter`
 processes when ``n_process`` > 1, :mod:`.workers`; results merged by :mod:`.collect`);
 :mod:`.assemble` runs the corpus-wide steps (:mod:`.table`, :mod:`.steps`, :mod:`.build`);
 :mod:`.run` caches the result under ``prepared/<hash>/`` as a :class:`PreparedCorpus`;
-:mod:`.explain` reports what each step did; :mod:`.frozen` prepares new text exactly like a
-published version (:mod:`.applied`).
+:mod:`.explain` describes the report of what each step did and masks the names in it;
+:mod:`.frozen` prepares new text exactly like a published version (:mod:`.applied`).
 """
 
 from __future__ import annotations
 
 from talkthemes.prepare.chain import STAGES, prepare_corpus
 from talkthemes.prepare.corpus import OOV, PreparedCorpus
-from talkthemes.prepare.explain import explain_json, explain_rows, render_explain
+from talkthemes.prepare.explain import masked_explain
 from talkthemes.prepare.run import PrepareResult, compute_prep_hash, load_current, run_prepare
 
 __all__ = [
@@ -27,10 +27,8 @@ __all__ = [
     "PrepareResult",
     "PreparedCorpus",
     "compute_prep_hash",
-    "explain_json",
-    "explain_rows",
     "load_current",
+    "masked_explain",
     "prepare_corpus",
-    "render_explain",
     "run_prepare",
 ]

@@ -24,6 +24,7 @@ from talkthemes.config import PrepareSettings
 from talkthemes.errors import NotReadyError, StoreError
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.corpus import FILES, PreparedCorpus, library_versions
+from talkthemes.prepare.explain import masked_explain
 from talkthemes.progress import Progress, report
 from talkthemes.workspace import Workspace, atomic_dir
 
@@ -69,6 +70,29 @@ class PrepareResult:
     summary: dict[str, Any]
     cached: bool
     explain: dict[str, Any] = field(default_factory=dict)
+
+    def to_json(self, *, original_text: bool = False) -> dict[str, Any]:
+        """The JSON document ``prepare --json`` prints.
+
+        Parameters
+        ----------
+        original_text : bool
+            Show the names the names step removed (``[view] original_text``); masked
+            otherwise, as the screens mask a name
+            (:func:`talkthemes.prepare.explain.masked_explain`).
+
+        Returns
+        -------
+        dict
+            ``prep`` (hash), ``cached``, ``path``, ``summary`` and ``explain``.
+        """
+        return {
+            "prep": self.prep_hash,
+            "cached": self.cached,
+            "path": str(self.path),
+            "summary": self.summary,
+            "explain": self.explain if original_text else masked_explain(self.explain),
+        }
 
 
 def _fillers_digest(lang: str) -> str:

@@ -30,7 +30,8 @@ from talkthemes.prepare.frozen import PrepApplier, PrepSpec
 from talkthemes.prepare.scrub import scrub
 from talkthemes.store import Store
 from talkthemes.store.curation import merge_root
-from talkthemes.versions.alerts import AlertRules, Periods, judge_alerts
+from talkthemes.versions.alert_rules import AlertRules, Periods
+from talkthemes.versions.alerts import judge_alerts
 from talkthemes.versions.align import Alignment
 from talkthemes.versions.drift import ThemeSide
 from talkthemes.versions.fit import FittedVersion

@@ -21,7 +21,8 @@ from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.frozen import PrepSpec
 from talkthemes.prepare.scrub import scrub
 from talkthemes.refresh.alert_step import alerts_of
-from talkthemes.versions.alerts import AlertRules, with_alerts
+from talkthemes.versions.alert_rules import AlertRules
+from talkthemes.versions.alerts import with_alerts
 from talkthemes.versions.align import Alignment, Calibration
 from talkthemes.versions.curation import curation_markdown
 from talkthemes.versions.drift import ThemeSide, best_examples, drift_report

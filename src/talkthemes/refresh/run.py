@@ -4,7 +4,7 @@ One run (the caller holds the workspace lock):
 
 1. **ingest** the given paths, or ``[refresh] inbox`` (a relative inbox is relative to the
    workspace folder). A file named ``manifest.csv``, ``manifest.parquet`` or
-   ``manifest.jsonl`` at the top of an ingested folder is read as that folder's manifest.
+   ``manifest.jsonl`` in an ingested folder is read as a manifest, as ingest reads it.
 2. **nothing new?** The transcripts the current version knows are its training transcripts
    and those its prep excluded; when the store holds no other, the run stops here with
    "nothing new to do" and changes nothing (a second run is a no-op).
@@ -53,7 +53,6 @@ from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
-from talkthemes.assign import folder_manifests
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.ingest.run import ingest
 from talkthemes.prepare.corpus import PreparedCorpus
@@ -67,7 +66,7 @@ from talkthemes.refresh.drift_step import DriftPng, drift_files, drift_of, theme
 from talkthemes.refresh.result import RefreshResult
 from talkthemes.refresh.room import Fit, fit_at, make_room
 from talkthemes.sweep.run import load_current_prep, run_sweep
-from talkthemes.versions.alerts import AlertRules
+from talkthemes.versions.alert_rules import AlertRules
 from talkthemes.versions.align import align_themes, calibrate_threshold
 from talkthemes.versions.curation import curation_of
 from talkthemes.versions.fit import fit_version
@@ -153,7 +152,7 @@ def refresh(
     ingest_paths : sequence of Path, optional
         Files and folders to ingest; ``[refresh] inbox`` when omitted.
     manifests : sequence of Path
-        Metadata tables (besides ``manifest.*`` at the top of ingested folders).
+        Metadata tables (besides the ``manifest.*`` files in ingested folders).
     resweep : bool
         Choose K again with the ``[sweep]`` grid.
     alert_on_new : bool
@@ -247,7 +246,7 @@ def _run(
     # 1. ingest
     if paths:
         step(0, "ingesting " + ", ".join(map(str, paths)))
-        ingested = ingest(ws, paths, manifests=[*manifests, *folder_manifests(paths)])
+        ingested = ingest(ws, paths, manifests=manifests)  # and the manifests in the folders
         result.ingest = ingested.to_json()
     _checkpoint("ingested")
     # 2. anything new?

@@ -18,7 +18,8 @@
 - :mod:`~talkthemes.versions.align`, :mod:`~talkthemes.versions.drift` and
   :mod:`~talkthemes.versions.drift_markdown` — theme identity across versions and the
   drift report of a refresh;
-- :mod:`~talkthemes.versions.alerts`, :mod:`~talkthemes.versions.alert_stats` and
+- :mod:`~talkthemes.versions.alerts`, :mod:`~talkthemes.versions.alert_rules`,
+  :mod:`~talkthemes.versions.alert_stats` and
   :mod:`~talkthemes.versions.alerts_markdown` — a refresh's alerts: new themes that are
   really new, risers and fallers, each explained.
 

@@ -28,7 +28,8 @@ ones by the pooled two-proportion z-test; the p-values of all tested themes are 
 Benjamini–Hochberg (1995). A theme rose (fell) when its q-value is at most
 ``change_fdr`` and the ratio of its shares is at least ``change_min_ratio`` (at most its
 inverse). Each carries the ratio with the Katz log interval and the difference with
-Newcombe's hybrid score interval (:mod:`talkthemes.versions.alert_stats`).
+Newcombe's hybrid score interval (:mod:`talkthemes.versions.alert_stats`). The rules, the two
+periods and that share comparison are in :mod:`talkthemes.versions.alert_rules`.
 
 References
 ----------
@@ -40,27 +41,21 @@ Dunning, T. (1993). Accurate methods for the statistics of surprise and coincide
 from __future__ import annotations
 
 from collections.abc import Collection, Mapping, Sequence
-from dataclasses import asdict, dataclass
 from typing import Any
 
 import numpy as np
 
-from talkthemes.errors import InputError
+from talkthemes.versions.alert_rules import AlertRules, Periods, percent, rounded, share_growth
 from talkthemes.versions.alert_stats import (
     benjamini_hochberg,
-    difference_interval,
     log_likelihood_ratio,
     rate_ratio,
-    ratio_interval,
     two_proportion_test,
-    wilson_interval,
 )
 from talkthemes.versions.align import Alignment
 from talkthemes.versions.drift import ThemeSide
 
 __all__ = [
-    "AlertRules",
-    "Periods",
     "judge_alerts",
     "judge_changes",
     "judge_new_themes",
@@ -69,137 +64,6 @@ __all__ = [
 
 #: Verdicts of a new theme, the first failed test in this order naming it.
 VERDICTS = ("new", "not_a_theme", "split", "small", "familiar")
-
-
-@dataclass(frozen=True)
-class AlertRules:
-    """The thresholds of the alerts (``[refresh]`` settings, defaults in the config package).
-
-    Attributes
-    ----------
-    new_min_calls : int
-    new_min_share : float
-    split_lead_share : float
-    split_term_overlap : float
-    novel_term_ratio : float
-    novel_term_llr : float
-    novel_min_score : float
-    change_fdr : float
-    change_min_ratio : float
-    n_terms : int
-        Top terms compared (split overlap, novelty).
-    level : float
-        Confidence level of the intervals.
-    """
-
-    new_min_calls: int
-    new_min_share: float
-    split_lead_share: float
-    split_term_overlap: float
-    novel_term_ratio: float
-    novel_term_llr: float
-    novel_min_score: float
-    change_fdr: float
-    change_min_ratio: float
-    n_terms: int = 10
-    level: float = 0.95
-
-    @classmethod
-    def from_settings(cls, refresh: Any) -> AlertRules:
-        """From a :class:`talkthemes.config.RefreshSettings` (its ``alert_*`` fields)."""
-        return cls(
-            new_min_calls=int(refresh.alert_new_min_calls),
-            new_min_share=float(refresh.alert_new_min_share),
-            split_lead_share=float(refresh.alert_split_lead_share),
-            split_term_overlap=float(refresh.alert_split_term_overlap),
-            novel_term_ratio=float(refresh.alert_novel_term_ratio),
-            novel_term_llr=float(refresh.alert_novel_term_llr),
-            novel_min_score=float(refresh.alert_novel_min_score),
-            change_fdr=float(refresh.alert_change_fdr),
-            change_min_ratio=float(refresh.alert_change_min_ratio),
-        )
-
-    def to_json(self) -> dict[str, Any]:
-        return asdict(self)
-
-
-@dataclass(frozen=True, eq=False)
-class Periods:
-    """The transcripts of the new version, split into new and earlier ones.
-
-    Attributes
-    ----------
-    lead : ndarray of int (D,)
-        Lead theme (column of the new version) of each transcript.
-    is_new : ndarray of bool (D,)
-        Added since the previous version.
-    previous_lead : ndarray of int (D,)
-        Lead theme (row of the previous version) under the previous version; -1 when
-        unknown (a transcript its model could not read).
-    term_new, term_earlier : ndarray (V,)
-        Token count of each term of the new vocabulary in the new and the earlier
-        transcripts.
-    """
-
-    lead: np.ndarray
-    is_new: np.ndarray
-    previous_lead: np.ndarray
-    term_new: np.ndarray
-    term_earlier: np.ndarray
-
-    def __post_init__(self) -> None:
-        d = len(self.lead)
-        if len(self.is_new) != d or len(self.previous_lead) != d:
-            raise InputError(
-                f"alerts: {d} lead themes, {len(self.is_new)} new-flags and "
-                f"{len(self.previous_lead)} previous lead themes"
-            )
-        if len(self.term_new) != len(self.term_earlier):
-            raise InputError("alerts: term counts of the two periods differ in length")
-
-    @property
-    def n_new(self) -> int:
-        return int(np.count_nonzero(self.is_new))
-
-    @property
-    def n_earlier(self) -> int:
-        return int(len(self.is_new) - self.n_new)
-
-
-def _r(x: Any, digits: int = 6) -> float | None:
-    x = float(x)
-    return round(x, digits) if np.isfinite(x) else None
-
-
-def _pct(x: float) -> str:
-    return f"{100 * x:.1f}%"
-
-
-def _growth(x_new: int, n_new: int, x_old: int, n_old: int, level: float) -> dict[str, Any]:
-    """Share among new and earlier transcripts, their ratio and difference with intervals."""
-    out: dict[str, Any] = {
-        "calls_new": int(x_new),
-        "new_transcripts": int(n_new),
-        "share_new": _r(x_new / n_new) if n_new else None,
-        "calls_earlier": int(x_old),
-        "earlier_transcripts": int(n_old),
-        "share_earlier": _r(x_old / n_old) if n_old else None,
-    }
-    if n_new and n_old:
-        lo, hi = wilson_interval(x_new, n_new, level)
-        ratio, rlo, rhi = ratio_interval(x_new, n_new, x_old, n_old, level)
-        diff, dlo, dhi = difference_interval(x_new, n_new, x_old, n_old, level)
-        out.update(
-            share_new_lo=_r(lo),
-            share_new_hi=_r(hi),
-            ratio=_r(ratio),
-            ratio_lo=_r(rlo),
-            ratio_hi=_r(rhi),
-            difference=_r(diff),
-            difference_lo=_r(dlo),
-            difference_hi=_r(dhi),
-        )
-    return out
 
 
 def _term_novelty(
@@ -222,8 +86,8 @@ def _term_novelty(
                 "term": vocabulary[t],
                 "new": int(x),
                 "earlier": int(y),
-                "ratio": _r(r, 3),
-                "llr": _r(g, 3),
+                "ratio": rounded(r, 3),
+                "llr": rounded(g, 3),
                 "novel": bool(v),
             }
             for t, x, y, r, g, v in zip(top.tolist(), a, b, ratio, llr, novel, strict=True)
@@ -275,11 +139,11 @@ def judge_new_themes(
             "test": "mass",
             "held": bool(mass_ok),
             "calls": x_new,
-            "share": _r(share),
+            "share": rounded(share),
             "text": (
-                f"leads {x_new:,} of {n_new:,} new transcripts ({_pct(share)}): "
+                f"leads {x_new:,} of {n_new:,} new transcripts ({percent(share)}): "
                 + ("at or above" if mass_ok else "below")
-                + f" the floor of {rules.new_min_calls} calls and {_pct(rules.new_min_share)}"
+                + f" the floor of {rules.new_min_calls} calls and {percent(rules.new_min_share)}"
             ),
         }
         # (b) split
@@ -297,7 +161,7 @@ def judge_new_themes(
             and overlap >= rules.split_term_overlap
         )
         where = (
-            f"{_pct(parent_share)} of the {known.size:,} transcripts it leads had theme "
+            f"{percent(parent_share)} of the {known.size:,} transcripts it leads had theme "
             f"{parent_id} as their lead under the previous version, and {len(shared)} of its "
             f"{len(top)} top terms are theme {parent_id}'s"
             if parent_id is not None
@@ -309,8 +173,8 @@ def judge_new_themes(
             "test": "not_split",
             "held": not is_split,
             "previous_theme_id": parent_id,
-            "lead_share": _r(parent_share),
-            "term_overlap": _r(overlap),
+            "lead_share": rounded(parent_share),
+            "term_overlap": rounded(overlap),
             "shared_terms": shared,
             "text": (f"split of theme {parent_id}: " if is_split else "not a split: ") + where,
         }
@@ -322,11 +186,11 @@ def judge_new_themes(
             "held": bool(novel_ok),
             **nov,
             "text": (
-                f"{_pct(nov['score'])} of its top-term weight is on terms at least "
+                f"{percent(nov['score'])} of its top-term weight is on terms at least "
                 f"{rules.novel_term_ratio:g}× more frequent in the new transcripts "
                 f"(G² ≥ {rules.novel_term_llr:g})"
                 + (": " + ", ".join(nov["novel_terms"]) if nov["novel_terms"] else "")
-                + ("" if novel_ok else f"; below {_pct(rules.novel_min_score)}")
+                + ("" if novel_ok else f"; below {percent(rules.novel_min_score)}")
             ),
         }
         # (d) curation
@@ -356,7 +220,7 @@ def judge_new_themes(
                 "verdict": verdict,
                 "alert": bool(alert),
                 "split_of": parent_id if is_split else None,
-                "growth": _growth(x_new, n_new, x_old, n_old, rules.level),
+                "growth": share_growth(x_new, n_new, x_old, n_old, rules.level),
                 "evidence": evidence,
             }
         )
@@ -415,7 +279,7 @@ def judge_changes(
         }
     out = []
     for j, tid, cols, x_new, x_old in rows:
-        growth = _growth(x_new, n_new, x_old, n_old, rules.level)
+        growth = share_growth(x_new, n_new, x_old, n_old, rules.level)
         entry: dict[str, Any] = {
             "theme_id": tid,
             "name": new.name(j),
@@ -443,11 +307,11 @@ def judge_changes(
                 direction = "fall"
             else:
                 direction = "none"
-            entry.update(z=_r(z), p_value=_r(p, 10), q_value=_r(q, 10), direction=direction,
-                         alert=direction != "none")  # fmt: skip
+            entry.update(z=rounded(z), p_value=rounded(p, 10), q_value=rounded(q, 10),
+                         direction=direction, alert=direction != "none")  # fmt: skip
             entry["text"] = (
-                f"leads {_pct(growth['share_new'])} of new transcripts against "
-                f"{_pct(growth['share_earlier'])} of earlier ones: ×{ratio:.2f} "
+                f"leads {percent(growth['share_new'])} of new transcripts against "
+                f"{percent(growth['share_earlier'])} of earlier ones: ×{ratio:.2f} "
                 f"[{growth['ratio_lo']:.2f}–{growth['ratio_hi']:.2f}], "
                 f"q = {q:.2g} (Benjamini–Hochberg over {len(q_of)} themes)"
             )
