@@ -30,7 +30,8 @@ from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.frozen import PrepSpec
 from talkthemes.refresh.alert_step import not_a_theme_ids, previous_leads, term_counts
 from talkthemes.refresh.drift_step import theme_sides
-from talkthemes.versions.alerts import AlertRules, Periods, judge_alerts
+from talkthemes.versions.alert_rules import AlertRules, Periods
+from talkthemes.versions.alerts import judge_alerts
 from talkthemes.versions.align import Alignment, align_themes
 from talkthemes.versions.fit import FittedVersion, fit_version
 from talkthemes.versions.load import Version
