@@ -107,7 +107,6 @@ def make_room(
     *,
     new_ids: Sequence[str],
     refit: Callable[[int], Fit],
-    threshold: float,
     rules: AlertRules,
     room: int,
 ) -> tuple[Fit, RoomDecision]:
@@ -127,9 +126,9 @@ def make_room(
     new_ids : sequence of str
         The transcripts the current version did not know.
     refit : callable
-        ``refit(k) -> Fit``: fits the corpus at another K (same family and seed).
-    threshold : float
-        The same-theme cut-off calibrated at the published K.
+        ``refit(k) -> Fit``: fits the corpus at another K (same family and seed) and
+        aligns it with the same-theme cut-off calibrated at the published K
+        (:func:`fit_at`).
     rules : AlertRules
     room : int
         Most extra themes tried (``[refresh] new_theme_room``); 0 = no check.

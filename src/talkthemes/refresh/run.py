@@ -25,7 +25,10 @@ One run (the caller holds the workspace lock):
    unmatched new theme gets a new id (new), an unmatched old theme is recorded as retired;
    near-ties are flagged as possible splits and merges. Themes are aligned as fitted
    (merged themes apart), so merges carry by id like labels; the drift report lists the
-   curated themes it could not carry (:mod:`talkthemes.versions.curation`).
+   curated themes it could not carry (:mod:`talkthemes.versions.curation`). Without a
+   re-sweep, when no theme of the fit is judged new, K + 1 (up to ``[refresh]
+   new_theme_room``) is fitted too and published if a theme there is judged new
+   (:mod:`talkthemes.refresh.room`).
 7. **judge the alerts** (:mod:`talkthemes.refresh.alert_step`, docs/methods_alerts.md):
    which new themes are really new (mass, not a split, new words, not marked not a theme),
    which carried themes rose or fell significantly; each with three example sentences;
@@ -325,7 +328,7 @@ def _run(
                        prep_hash=prep_hash, threshold=calibration.threshold)  # fmt: skip
         chosen, decision = make_room(
             ws, current, spec, corpus, Fit(k, model, fitted, alignment), new_ids=new_ids,
-            refit=refit, threshold=calibration.threshold, rules=rules, room=rs.new_theme_room,
+            refit=refit, rules=rules, room=rs.new_theme_room,
         )  # fmt: skip
         result.room = decision.to_json()
         k, fitted, alignment = chosen.k, chosen.fitted, chosen.alignment
