@@ -212,14 +212,19 @@ def test_killed_ingest_leaves_a_consistent_store(tmp_path: Path) -> None:
     _call(tmp_path, "first/keep.txt", "Agent: hi\nCustomer: keep me please")
     assert _run("ingest", str(tmp_path / "first"), "--workspace", str(ws))[0] == 0
 
+    # the test hook pauses the run after each committed batch (talkthemes/testhook.py), so
+    # the kill lands mid-run however fast the ingest is
+    env = {**os.environ, "TALKTHEMES_TEST_PAUSE_AT": "ingest-batch",
+           "TALKTHEMES_TEST_PAUSE_SECONDS": "300"}  # fmt: skip
     proc = subprocess.Popen(
         [sys.executable, "-m", "talkthemes.cli", "ingest", str(src), "--workspace", str(ws)],
         stdout=subprocess.DEVNULL,
         stderr=subprocess.DEVNULL,
+        env=env,
     )
     db = ws / "talkthemes.db"
     deadline = time.time() + 60
-    while time.time() < deadline:  # wait until some batches are committed
+    while time.time() < deadline:  # wait until a batch is committed
         time.sleep(0.2)
         try:
             con = sqlite3.connect(db, timeout=5)
@@ -229,6 +234,7 @@ def test_killed_ingest_leaves_a_consistent_store(tmp_path: Path) -> None:
             continue
         if n > 1:
             break
+    assert proc.poll() is None  # still running: paused after its first batch
     os.kill(proc.pid, signal.SIGKILL)
     proc.wait()
 

@@ -31,6 +31,7 @@ from talkthemes.ingest.manifest import Manifest, read_manifest
 from talkthemes.ingest.metadata import MetadataChange, apply_manifest, unknown_ids
 from talkthemes.progress import Progress
 from talkthemes.store import Store, TextMatch
+from talkthemes.testhook import pause_at
 from talkthemes.text.escape import csv_cell
 from talkthemes.workspace import Workspace, atomic_write_text
 
@@ -203,6 +204,7 @@ class _Batcher:
         for rej in out.rejects:
             r.tally(rej.format, "rejected")
             r.rejects.append(rej)
+        pause_at("ingest-batch", "ingest")  # a test can kill the run after a committed batch
 
 
 def ingest(

@@ -50,7 +50,6 @@ default 120) after logging a warning, so a test can kill it exactly there.
 from __future__ import annotations
 
 import logging
-import os
 import time
 from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
@@ -69,6 +68,7 @@ from talkthemes.refresh.drift_step import DriftPng, drift_files, drift_of, theme
 from talkthemes.refresh.result import RefreshResult
 from talkthemes.refresh.room import Fit, fit_at, make_room
 from talkthemes.sweep.run import load_current_prep, run_sweep
+from talkthemes.testhook import pause_at
 from talkthemes.versions.alert_rules import AlertRules
 from talkthemes.versions.align import align_themes, calibrate_threshold
 from talkthemes.versions.curation import curation_of
@@ -83,8 +83,6 @@ __all__ = ["PAUSE_STAGES", "RefreshResult", "refresh"]
 
 log = logging.getLogger(__name__)
 
-PAUSE_ENV = "TALKTHEMES_TEST_PAUSE_AT"
-PAUSE_SECONDS_ENV = "TALKTHEMES_TEST_PAUSE_SECONDS"
 #: Stages where the test hook can pause a run, in order.
 PAUSE_STAGES = (
     "ingested",
@@ -98,11 +96,8 @@ _STEPS = 7
 
 
 def _checkpoint(stage: str) -> None:
-    """The test hook: sleep at ``stage`` when ``TALKTHEMES_TEST_PAUSE_AT`` names it."""
-    if os.environ.get(PAUSE_ENV) == stage:
-        seconds = float(os.environ.get(PAUSE_SECONDS_ENV, "120"))
-        log.warning("refresh paused at stage %s for %.0f s (%s)", stage, seconds, PAUSE_ENV)
-        time.sleep(seconds)
+    """The test hook (:mod:`talkthemes.testhook`) at one of :data:`PAUSE_STAGES`."""
+    pause_at(stage, "refresh")
 
 
 # -- inputs -------------------------------------------------------------------------------

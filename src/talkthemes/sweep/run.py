@@ -18,7 +18,6 @@ import contextlib
 import json
 import logging
 import os
-import time
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -38,23 +37,18 @@ from talkthemes.sweep.recommend import Recommendation, recommend
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
 from talkthemes.sweep.state import run_info
+from talkthemes.testhook import pause_at
 from talkthemes.workspace import Workspace
 
 __all__ = ["SweepResult", "load_current_prep", "run_sweep", "sweep_settings"]
 
 log = logging.getLogger(__name__)
 
-PAUSE_ENV = "TALKTHEMES_TEST_PAUSE_AT"
-PAUSE_SECONDS_ENV = "TALKTHEMES_TEST_PAUSE_SECONDS"
-
 
 def _checkpoint(stage: str) -> None:
-    """Test hook: sleep at ``stage`` (``sweep-cell``: after the first cell is recorded) when
-    ``TALKTHEMES_TEST_PAUSE_AT`` names it, so a test can kill the sweep exactly there."""
-    if os.environ.get(PAUSE_ENV) == stage:
-        seconds = float(os.environ.get(PAUSE_SECONDS_ENV, "120"))
-        log.warning("sweep paused at stage %s for %.0f s (%s)", stage, seconds, PAUSE_ENV)
-        time.sleep(seconds)
+    """Test hook (:mod:`talkthemes.testhook`): ``sweep-cell``, after the first cell is
+    recorded, so a test can kill the sweep exactly there."""
+    pause_at(stage, "sweep")
 
 
 def load_current_prep(ws: Workspace) -> tuple[PrepRecord, Path]:
