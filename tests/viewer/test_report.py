@@ -228,3 +228,14 @@ def test_planted_personal_data_never_reaches_the_report(ws_copy) -> None:
     atomic_write_text(ws_copy.settings_path, render_settings(settings))
     original = render_report(build_report(ws_copy, excerpts=1000))
     assert any(p in original for p in PII)
+
+
+def test_the_themes_section_says_how_to_read_the_term_charts_once(page: str) -> None:
+    from talkthemes.charts.terms import TERM_CAPTION
+
+    intro = re.search(r'<section id="themes"><h2>Themes</h2><p class="caption">(.*?)</p>', page)
+    text = html.unescape(intro.group(1))
+    assert "λ = 0.6" in text and "Largest first." in text
+    assert TERM_CAPTION.split(".")[0] not in text  # each chart's subtitle says it already
+    sentences = [s.strip() for s in re.split(r"(?<=[.:])\s+", text) if s.strip()]
+    assert len(sentences) == len(set(sentences))

@@ -16,7 +16,7 @@ import pandas as pd
 from talkthemes import __version__
 from talkthemes.charts.style import FAMILY_NAMES
 from talkthemes.charts.sweep import sweep_chart
-from talkthemes.charts.terms import TERM_CAPTION, term_chart
+from talkthemes.charts.terms import term_chart
 from talkthemes.charts.theme_map import theme_map_caption, theme_map_chart
 from talkthemes.charts.trends import trend_chart
 from talkthemes.errors import TalkthemesError
@@ -302,9 +302,10 @@ def themes_section(
     parts = [
         '<section id="themes"><h2>Themes</h2><p class="caption">'
         + html_text(
-            f"Largest first. Words are ranked by relevance with λ = {lam:g}: "
-            + TERM_CAPTION
-            + " Marked words in the excerpts are the theme's top words."
+            f"Largest first. Each theme's words are ranked by relevance (λ = {lam:g}): how "
+            "much more often the theme uses a word than all transcripts do, weighed with how "
+            "often it uses it; each chart says how to read its dots. Marked words in the "
+            "excerpts are the theme's top words."
         )
         + "</p>"
         + "".join(cards[False])
