@@ -10,6 +10,7 @@ lemma checks, phrases, excluded transcripts).
 
 from __future__ import annotations
 
+from collections.abc import Iterable, Sequence
 from typing import TYPE_CHECKING, Any
 
 from rich.markup import escape
@@ -33,6 +34,20 @@ _NAME_SOURCES = {
 
 def _n(value: Any) -> str:
     return f"{int(value):,}"
+
+
+def _table(
+    console: Console, title: str, columns: Sequence[str], rows: Iterable[Sequence[str]]
+) -> None:
+    """Print one table; a column whose name ends in ``>`` is right-aligned (the ``>`` is
+    not shown). Cells are printed as given: escape what came from the data."""
+    table = Table(title=title)
+    for col in columns:
+        right = col.endswith(">")
+        table.add_column(col.removesuffix(">"), justify="right" if right else "left")
+    for row in rows:
+        table.add_row(*row)
+    console.print(table)
 
 
 def explain_rows(explain: dict[str, Any]) -> list[dict[str, str]]:
@@ -201,81 +216,70 @@ def render_explain(
 
     sentences = explain["boilerplate"]["sentences"]
     if sentences:
-        table = Table(title="boilerplate sentences dropped")
-        table.add_column("sentence (normalised)")
-        table.add_column("transcripts", justify="right")
-        table.add_column("share", justify="right")
-        for s in sentences:
-            table.add_row(escape(s["sentence"]), _n(s["transcripts"]), f"{s['share']:.1%}")
-        console.print(table)
+        _table(
+            console,
+            "boilerplate sentences dropped",
+            ["sentence (normalised)", "transcripts>", "share>"],
+            ([escape(s["sentence"]), _n(s["transcripts"]), f"{s['share']:.1%}"]
+             for s in sentences),
+        )  # fmt: skip
 
     _render_names(console, explain.get("names") or {}, original_text)
     _render_lemmas(console, explain["lemmas"])
 
     top = explain["phrases"].get("top", [])
     if top:
-        table = Table(title=f"{len(top)} most frequent phrases")
-        table.add_column("phrase")
-        table.add_column("count", justify="right")
-        table.add_column("NPMI", justify="right")
-        for p in top:
-            table.add_row(escape(p["phrase"]), _n(p["count"]), f"{p['npmi']:.3f}")
-        console.print(table)
+        _table(
+            console,
+            f"{len(top)} most frequent phrases",
+            ["phrase", "count>", "NPMI>"],
+            ([escape(p["phrase"]), _n(p["count"]), f"{p['npmi']:.3f}"] for p in top),
+        )
 
     excluded = explain.get("excluded", [])
     if excluded:
-        table = Table(title=f"{_n(len(excluded))} transcripts excluded from training")
-        table.add_column("transcript")
-        table.add_column("reason")
-        for e in excluded[:max_excluded]:
-            table.add_row(escape(e["id"]), escape(e["reason"]))
+        rows = [[escape(e["id"]), escape(e["reason"])] for e in excluded[:max_excluded]]
         if len(excluded) > max_excluded:
-            table.add_row(f"… and {_n(len(excluded) - max_excluded)} more", "")
-        console.print(table)
+            rows.append([f"… and {_n(len(excluded) - max_excluded)} more", ""])
+        title = f"{_n(len(excluded))} transcripts excluded from training"
+        _table(console, title, ["transcript", "reason"], rows)
 
 
 def _render_lemmas(console: Console, lem: dict[str, Any]) -> None:
     """The lemma checks: headwords decided by the corpus, exceptions, names."""
     hw = lem.get("headwords") or {}
     if hw.get("decisions"):
-        table = Table(
-            title=f"headwords: the table's lemma against the word as said "
-            f"(kept when said ≥ {hw['ratio']:g}× as often)"
+        _table(
+            console,
+            f"headwords: the table's lemma against the word as said "
+            f"(kept when said ≥ {hw['ratio']:g}× as often)",
+            ["word", "table's lemma", "used", "word said>", "lemma said>"],
+            (
+                [
+                    escape(d["word"]),
+                    escape(d["table"]),
+                    "kept as said" if d["lemma"] == d["word"] else escape(d["lemma"]),
+                    _n(d["said"]),
+                    _n(d["table_said"]),
+                ]
+                for d in hw["decisions"]
+            ),
         )
-        for col, justify in (
-            ("word", "left"),
-            ("table's lemma", "left"),
-            ("used", "left"),
-            ("word said", "right"),
-            ("lemma said", "right"),
-        ):
-            table.add_column(col, justify=justify)  # type: ignore[arg-type]
-        for d in hw["decisions"]:
-            table.add_row(
-                escape(d["word"]),
-                escape(d["table"]),
-                "kept as said" if d["lemma"] == d["word"] else escape(d["lemma"]),
-                _n(d["said"]),
-                _n(d["table_said"]),
-            )
-        console.print(table)
     if lem.get("exceptions"):
-        table = Table(title="your lemma exceptions ([prepare] lemma_exceptions)")
-        table.add_column("word")
-        table.add_column("lemma")
-        table.add_column("said", justify="right")
-        for e in lem["exceptions"]:
-            table.add_row(escape(e["word"]), escape(e["lemma"]), _n(e["count"]))
-        console.print(table)
+        _table(
+            console,
+            "your lemma exceptions ([prepare] lemma_exceptions)",
+            ["word", "lemma", "said>"],
+            ([escape(e["word"]), escape(e["lemma"]), _n(e["count"])] for e in lem["exceptions"]),
+        )
     names = lem.get("names") or {}
     if names.get("top"):
-        table = Table(title="names kept as written (not lemmatised)")
-        table.add_column("name")
-        table.add_column("table's lemma")
-        table.add_column("count", justify="right")
-        for n in names["top"]:
-            table.add_row(escape(n["name"]), escape(n["table"]), _n(n["count"]))
-        console.print(table)
+        _table(
+            console,
+            "names kept as written (not lemmatised)",
+            ["name", "table's lemma", "count>"],
+            ([escape(n["name"]), escape(n["table"]), _n(n["count"])] for n in names["top"]),
+        )
 
 
 def _render_names(console: Console, names: dict[str, Any], original_text: bool) -> None:
@@ -283,26 +287,24 @@ def _render_names(console: Console, names: dict[str, Any], original_text: bool) 
     alone."""
     if names.get("top"):
         how = "" if original_text else " (masked: [view] original_text = true shows them)"
-        table = Table(title=f"people's names removed, most frequent{escape(how)}")
-        table.add_column("name")
-        table.add_column("tokens", justify="right")
-        for t in names["top"]:
-            table.add_row(escape(t["name"]), _n(t["count"]))
-        console.print(table)
-    if names.get("kept_as_words"):
-        table = Table(
-            title=f"names kept where used as words (in ≥ {names.get('min_docs', 0)} "
-            "transcripts outside names)"
+        _table(
+            console,
+            f"people's names removed, most frequent{escape(how)}",
+            ["name", "tokens>"],
+            ([escape(t["name"]), _n(t["count"])] for t in names["top"]),
         )
-        table.add_column("word")
-        table.add_column("transcripts", justify="right")
-        for t in names["kept_as_words"]:
-            table.add_row(escape(t["word"]), _n(t["transcripts"]))
-        console.print(table)
+    if names.get("kept_as_words"):
+        _table(
+            console,
+            f"names kept where used as words (in ≥ {names.get('min_docs', 0)} "
+            "transcripts outside names)",
+            ["word", "transcripts>"],
+            ([escape(t["word"]), _n(t["transcripts"])] for t in names["kept_as_words"]),
+        )
     if names.get("ordinary"):
-        table = Table(title="first names kept as ordinary words")
-        table.add_column("word")
-        table.add_column("tokens", justify="right")
-        for t in names["ordinary"]:
-            table.add_row(escape(t["word"]), _n(t["count"]))
-        console.print(table)
+        _table(
+            console,
+            "first names kept as ordinary words",
+            ["word", "tokens>"],
+            ([escape(t["word"]), _n(t["count"])] for t in names["ordinary"]),
+        )

@@ -291,16 +291,16 @@ def split_manifests(
         The files that are not a manifest (:func:`is_manifest`).
     manifests : list of Path
         The files named as a manifest and not given as one.
-        Both in the order given.
+
+    Both lists keep the order of ``files``.
     """
     known = resolved(given)
     transcripts: list[Path] = []
     manifests: list[Path] = []
     for f in files:
-        if not is_manifest(f, known):
-            transcripts.append(f)
-        elif not (known and f.resolve() in known):
-            manifests.append(f)
+        if bool(known) and f.resolve() in known:
+            continue  # given as a manifest: the caller applies it
+        (manifests if is_manifest_name(f) else transcripts).append(f)
     return transcripts, manifests
 
 

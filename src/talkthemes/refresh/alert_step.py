@@ -9,6 +9,9 @@ and three example sentences per alert.
 * :func:`term_counts` — each term's token count in the new and in the earlier transcripts;
 * :func:`not_a_theme_ids` — the theme ids marked "not a theme" (the one place that reads the
   mark, so alerts follow whatever the curation stores);
+* :func:`alert_inputs` — those three, read once per refresh (:class:`AlertInputs`): the
+  room check (:mod:`talkthemes.refresh.room`) judges up to two fits on them and the alert
+  step the one published;
 * :func:`alert_examples` — for each alert, three sentences from different new transcripts the
   theme leads that carry its terms most (docs/methods_alerts.md, "Example sentences").
 """
@@ -18,6 +21,7 @@ from __future__ import annotations
 import logging
 import re
 from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -40,7 +44,9 @@ from talkthemes.workspace import Workspace
 
 __all__ = [
     "ALERT_SETTINGS",
+    "AlertInputs",
     "alert_examples",
+    "alert_inputs",
     "alert_rules",
     "alerts_of",
     "best_sentences",
@@ -273,32 +279,86 @@ def alert_examples(
     return out
 
 
-def alerts_of(
+@dataclass(frozen=True, eq=False)
+class AlertInputs:
+    """What the alert judgements read besides a fit, the same for every fit of one refresh.
+
+    Worked out once (:func:`alert_inputs`): the room check judges up to two fits and the
+    alert step the one published, all on the same transcripts.
+
+    Attributes
+    ----------
+    is_new : ndarray of bool
+        Per transcript of the refreshed corpus: whether the current version did not know it.
+    previous_lead : ndarray of int
+        Its lead theme (row) under the current version (:func:`previous_leads`).
+    term_new, term_earlier : ndarray of int
+        Each term's token count in the new and in the earlier transcripts.
+    not_a_theme : frozenset of int
+        Theme ids marked "not a theme" (:func:`not_a_theme_ids`).
+    """
+
+    is_new: np.ndarray
+    previous_lead: np.ndarray
+    term_new: np.ndarray
+    term_earlier: np.ndarray
+    not_a_theme: frozenset[int]
+
+    def judge(
+        self,
+        sides: tuple[ThemeSide, ThemeSide],
+        alignment: Alignment,
+        doc_topics: Any,
+        rules: AlertRules,
+    ) -> dict[str, Any]:
+        """:func:`talkthemes.versions.alerts.judge_alerts` of one fit (its shares)."""
+        theta = np.asarray(doc_topics)
+        periods = Periods(
+            lead=np.argmax(theta, axis=1) if len(theta) else np.zeros(0, dtype=np.int64),
+            is_new=self.is_new,
+            previous_lead=self.previous_lead,
+            term_new=self.term_new,
+            term_earlier=self.term_earlier,
+        )
+        return judge_alerts(*sides, alignment, periods, rules, self.not_a_theme)
+
+
+def alert_inputs(
     ws: Workspace,
     previous: Version,
     previous_spec: PrepSpec,
+    doc_ids: Sequence[str],
+    is_new: np.ndarray,
+    counts: Any,
+) -> AlertInputs:
+    """:class:`AlertInputs` of a refreshed corpus (``doc_ids``, ``counts``) against the
+    current version ``previous``."""
+    term_new, term_earlier = term_counts(counts, is_new)
+    with ws.store() as store:
+        blocked = frozenset(not_a_theme_ids(store, previous.n))
+    return AlertInputs(
+        is_new=np.asarray(is_new, dtype=bool),
+        previous_lead=previous_leads(ws, previous, previous_spec, doc_ids),
+        term_new=term_new,
+        term_earlier=term_earlier,
+        not_a_theme=blocked,
+    )
+
+
+def alerts_of(
+    ws: Workspace,
     fitted: FittedVersion,
     alignment: Alignment,
     sides: tuple[ThemeSide, ThemeSide],
-    is_new: np.ndarray,
-    counts: Any,
+    inputs: AlertInputs,
     rules: AlertRules,
 ) -> dict[str, Any]:
     """The alert block of a refresh's drift report (:func:`talkthemes.versions.alerts.
     judge_alerts`), each alert with its example sentences (``examples``)."""
-    old, new = sides
+    new = sides[1]
     theta = np.asarray(fitted.doc_topics)
-    term_new, term_earlier = term_counts(counts, is_new)
-    periods = Periods(
-        lead=np.argmax(theta, axis=1) if len(theta) else np.zeros(0, dtype=np.int64),
-        is_new=np.asarray(is_new, dtype=bool),
-        previous_lead=previous_leads(ws, previous, previous_spec, fitted.doc_ids),
-        term_new=term_new,
-        term_earlier=term_earlier,
-    )
-    with ws.store() as store:
-        blocked = not_a_theme_ids(store, previous.n)
-    block = judge_alerts(old, new, alignment, periods, rules, blocked)
+    is_new = inputs.is_new
+    block = inputs.judge(sides, alignment, theta, rules)
     col_of = {int(t): j for j, t in enumerate(new.theme_ids)}
     columns: dict[int, list[int]] = {}
     for t in block["new_themes"]:

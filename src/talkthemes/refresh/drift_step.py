@@ -18,9 +18,8 @@ from typing import Any
 import numpy as np
 
 from talkthemes.prepare.corpus import PreparedCorpus
-from talkthemes.prepare.frozen import PrepSpec
 from talkthemes.prepare.scrub import scrub
-from talkthemes.refresh.alert_step import alerts_of
+from talkthemes.refresh.alert_step import AlertInputs, alerts_of
 from talkthemes.versions.alert_rules import AlertRules
 from talkthemes.versions.alerts import with_alerts
 from talkthemes.versions.align import Alignment, Calibration
@@ -87,17 +86,16 @@ def drift_of(
     alignment: Alignment,
     calibration: Calibration,
     theme_ids: list[int],
-    new_ids: Sequence[str],
     corpus: PreparedCorpus,
-    previous_spec: PrepSpec,
+    inputs: AlertInputs,
     rules: AlertRules,
 ) -> dict[str, Any]:
     """The drift report of the new version (its number is filled in when it is written),
-    with its ``alerts`` block (:func:`talkthemes.refresh.alert_step.alerts_of`)."""
+    with its ``alerts`` block (:func:`talkthemes.refresh.alert_step.alerts_of`);
+    ``inputs`` says which transcripts are new, and what the alerts read about them."""
     old_side, new_side = theme_sides(ws, current, fitted, theme_ids)
     theta = fitted.doc_topics
-    new_set = set(new_ids)
-    is_new = np.array([d in new_set for d in corpus.doc_ids], dtype=bool)
+    is_new = inputs.is_new
     # excerpts of the transcripts shown for each new theme, scrubbed like the prep
     wanted = sorted(
         {
@@ -122,10 +120,7 @@ def drift_of(
         snippets=snippets,
         created_at=dt.datetime.now().astimezone().isoformat(timespec="seconds"),
     )
-    alerts = alerts_of(
-        ws, current, previous_spec, fitted, alignment, (old_side, new_side), is_new,
-        corpus.counts, rules,
-    )  # fmt: skip
+    alerts = alerts_of(ws, fitted, alignment, (old_side, new_side), inputs, rules)
     return with_alerts(report, alerts)
 
 

@@ -19,19 +19,15 @@ split or familiar, so K stays. The same-theme cut-off calibrated at K is used fo
 from __future__ import annotations
 
 import logging
-from collections.abc import Callable, Sequence
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
-import numpy as np
-
 from talkthemes.config import Settings
 from talkthemes.prepare.corpus import PreparedCorpus
-from talkthemes.prepare.frozen import PrepSpec
-from talkthemes.refresh.alert_step import not_a_theme_ids, previous_leads, term_counts
+from talkthemes.refresh.alert_step import AlertInputs
 from talkthemes.refresh.drift_step import theme_sides
-from talkthemes.versions.alert_rules import AlertRules, Periods
-from talkthemes.versions.alerts import judge_alerts
+from talkthemes.versions.alert_rules import AlertRules
 from talkthemes.versions.align import Alignment, align_themes
 from talkthemes.versions.fit import FittedVersion, fit_version
 from talkthemes.versions.load import Version
@@ -101,11 +97,9 @@ class RoomDecision:
 def make_room(
     ws: Workspace,
     current: Version,
-    spec: PrepSpec,
-    corpus: PreparedCorpus,
     base: Fit,
     *,
-    new_ids: Sequence[str],
+    inputs: AlertInputs,
     refit: Callable[[int], Fit],
     rules: AlertRules,
     room: int,
@@ -117,14 +111,11 @@ def make_room(
     ws : Workspace
     current : Version
         The published version the refresh aligns to.
-    spec : PrepSpec
-        How the current version prepared text (to infer earlier leads).
-    corpus : PreparedCorpus
-        The refreshed corpus (every transcript).
     base : Fit
         The refit at the published K.
-    new_ids : sequence of str
-        The transcripts the current version did not know.
+    inputs : AlertInputs
+        What the alert judgements read about the refreshed corpus, worked out once for
+        every fit (:func:`talkthemes.refresh.alert_step.alert_inputs`).
     refit : callable
         ``refit(k) -> Fit``: fits the corpus at another K (same family and seed) and
         aligns it with the same-theme cut-off calibrated at the published K
@@ -141,25 +132,10 @@ def make_room(
     decision = RoomDecision(published_k=base.k, k=base.k)
     if room <= 0:
         return base, decision
-    new_set = set(new_ids)
-    is_new = np.array([d in new_set for d in corpus.doc_ids], dtype=bool)
-    term_new, term_earlier = term_counts(corpus.counts, is_new)
-    earlier_lead = previous_leads(ws, current, spec, corpus.doc_ids)
-    with ws.store() as store:
-        blocked = not_a_theme_ids(store, current.n)
 
     def alerted(fit: Fit) -> int:
-        ids = _provisional_ids(current, fit.alignment)
-        old, new = theme_sides(ws, current, fit.fitted, ids)
-        theta = np.asarray(fit.fitted.doc_topics)
-        periods = Periods(
-            lead=np.argmax(theta, axis=1) if len(theta) else np.zeros(0, dtype=np.int64),
-            is_new=is_new,
-            previous_lead=earlier_lead,
-            term_new=term_new,
-            term_earlier=term_earlier,
-        )
-        count = len(judge_alerts(old, new, fit.alignment, periods, rules, blocked)["new"])
+        sides = theme_sides(ws, current, fit.fitted, _provisional_ids(current, fit.alignment))
+        count = len(inputs.judge(sides, fit.alignment, fit.fitted.doc_topics, rules)["new"])
         decision.tried.append(
             {"k": fit.k, "new_themes": int(fit.alignment.new.size), "alerted": count}
         )

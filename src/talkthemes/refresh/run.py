@@ -55,13 +55,15 @@ from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.ingest.run import ingest
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.frozen import PrepSpec, build_frozen_prep, load_prep_spec
 from talkthemes.prepare.run import run_prepare
 from talkthemes.progress import Progress, report
-from talkthemes.refresh.alert_step import alert_rules
+from talkthemes.refresh.alert_step import alert_inputs, alert_rules
 from talkthemes.refresh.calibration import calibration_fits
 from talkthemes.refresh.coherence import coherence_check
 from talkthemes.refresh.drift_step import DriftPng, drift_files, drift_of, theme_plan
@@ -316,14 +318,17 @@ def _run(
         threshold=calibration.threshold,
         margin=rs.tie_margin,
     )
+    new_set = set(new_ids)
+    is_new = np.array([d in new_set for d in corpus.doc_ids], dtype=bool)
+    inputs = alert_inputs(ws, current, spec, corpus.doc_ids, is_new, corpus.counts)
     if not result.resweep and rs.new_theme_room > 0:
         step(5, f"aligning themes to version {current.n}; room for a new theme up to "
                 f"K={k + rs.new_theme_room}")  # fmt: skip
         refit = fit_at(ws, corpus, current, settings, family=family, seed=seed,
                        prep_hash=prep_hash, threshold=calibration.threshold)  # fmt: skip
         chosen, decision = make_room(
-            ws, current, spec, corpus, Fit(k, model, fitted, alignment), new_ids=new_ids,
-            refit=refit, rules=rules, room=rs.new_theme_room,
+            ws, current, Fit(k, model, fitted, alignment), inputs=inputs, refit=refit,
+            rules=rules, room=rs.new_theme_room,
         )  # fmt: skip
         result.room = decision.to_json()
         k, fitted, alignment = chosen.k, chosen.fitted, chosen.alignment
@@ -336,7 +341,7 @@ def _run(
     # 7. write
     step(6, "judging alerts, writing the version and its drift report")
     drift = drift_of(
-        ws, current, fitted, alignment, calibration, theme_ids, new_ids, corpus, spec, rules
+        ws, current, fitted, alignment, calibration, theme_ids, corpus, inputs, rules
     )  # fmt: skip
     drift["curation"] = curation_of(ws, current.theme_ids, theme_ids, drift["retired"])
     drift["room"] = result.room
