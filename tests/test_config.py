@@ -22,18 +22,25 @@ def test_rendered_file_lists_every_key_with_a_comment() -> None:
     for section_name, section_field in Settings.model_fields.items():
         assert f"[{section_name}]" in lines
         for key in section_field.annotation.model_fields:  # type: ignore[union-attr]
+            if key == "languages":  # a table of its own: [prepare.languages]
+                assert f"[{section_name}.languages]" in lines
+                continue
             idx = next(i for i, ln in enumerate(lines) if ln.startswith(f"# {key} = "))
             assert lines[idx - 1].startswith("#"), key
+    for key in ("detect", "min_confidence", "min_calls"):
+        idx = next(i for i, ln in enumerate(lines) if ln.startswith(f"# {key} = "))
+        assert lines[idx - 1].startswith("#"), key
 
 
 def test_defaults_are_commented_out_so_later_defaults_reach_the_workspace() -> None:
-    assert tomllib.loads(render_settings()) == {name: {} for name in Settings.model_fields}
+    empty = {name: {} for name in Settings.model_fields} | {"prepare": {"languages": {}}}
+    assert tomllib.loads(render_settings()) == empty
     changed = settings_from_dict({"sweep": {"seeds": 5}, "prepare": {"roles": "customer"}})
     text = render_settings(changed)
     assert tomllib.loads(text) == {
-        **{name: {} for name in Settings.model_fields},
+        **empty,
         "sweep": {"seeds": 5},
-        "prepare": {"roles": "customer"},
+        "prepare": {"roles": "customer", "languages": {}},
     }
     assert settings_from_dict(tomllib.loads(text)) == changed
 
@@ -73,3 +80,35 @@ def test_broken_toml_is_a_config_error(tmp_path: Path) -> None:
     p.write_text("[prepare\n", encoding="utf-8")
     with pytest.raises(ConfigError, match="not valid TOML"):
         load_settings(p)
+
+
+def test_language_tables_read_back_and_make_a_lanes_settings() -> None:
+    changed = settings_from_dict(
+        {"prepare": {"languages": {"min_calls": 50, "es": {"extra_stop_words": ["vale"]}}}}
+    )
+    text = render_settings(changed)
+    assert "[prepare.languages.es]" in text.splitlines()
+    assert settings_from_dict(tomllib.loads(text)) == changed
+    lane = changed.prepare.for_language("es")
+    assert (lane.lang, lane.extra_stop_words) == ("es", ["vale"])
+    assert lane.languages.chains == {} and lane.languages.min_calls == 50
+    assert changed.prepare.for_language("fr").extra_stop_words == []
+
+
+@pytest.mark.parametrize(
+    ("table", "expected"),
+    [
+        ({"en": {"min_tokens": 5}}, "[prepare.languages.en]: en is the main language"),
+        ({"es": {"min_tokens": -1}}, "[prepare.languages.es] min_tokens = -1"),
+        ({"es": {"bogus": 1}}, "[prepare.languages.es] bogus = 1"),
+        ({"es": {"lang": "de"}}, "cannot set lang"),
+        ({"es": "x"}, "must be a table [prepare.languages.es]"),
+    ],
+)
+def test_language_tables_refuse_bad_values_naming_the_table(
+    table: dict[str, object], expected: str
+) -> None:
+    with pytest.raises(ConfigError) as err:
+        settings_from_dict({"prepare": {"languages": table}}, source="t.toml")
+    assert expected in str(err.value)
+    assert str(err.value).startswith("t.toml: ")

@@ -4,9 +4,10 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import Field, field_validator
+from pydantic import Field, field_validator, model_validator
 
 from talkthemes.config._section import _Section
+from talkthemes.config.languages import LanguagesSettings
 
 __all__ = ["PrepareSettings"]
 
@@ -119,6 +120,10 @@ class PrepareSettings(_Section):
     )
     batch_size: int = Field(1000, ge=1, description="Transcripts read from the store per batch.")
     n_process: int = Field(0, ge=0, description="Worker processes for the chain; 0 = one per core.")
+    languages: LanguagesSettings = Field(
+        default_factory=LanguagesSettings,
+        description="The language of each call, and which languages get themes.",
+    )
 
     @field_validator("lemma_exceptions")
     @classmethod
@@ -129,3 +134,44 @@ class PrepareSettings(_Section):
                 raise ValueError(f"{word!r} = {lemma!r}: each side must be one word of letters")
             out[word.strip().lower()] = lemma.strip().lower()
         return out
+
+    @model_validator(mode="after")
+    def _chains_valid(self) -> PrepareSettings:
+        """Each ``[prepare.languages.<code>]`` table must make valid ``[prepare]`` settings."""
+        for code in self.languages.chains:
+            if code == self.lang:
+                raise ValueError(
+                    f"[prepare.languages.{code}]: {code} is the main language ([prepare] "
+                    "lang); put its settings in [prepare] itself"
+                )
+            self.for_language(code)
+        return self
+
+    def for_language(self, code: str) -> PrepareSettings:
+        """The ``[prepare]`` settings of a language lane: these, with ``lang = code`` and the
+        ``[prepare.languages.<code>]`` table applied.
+
+        Raises
+        ------
+        ValueError
+            When the table sets a value that is not allowed.
+        """
+        base = self.model_dump(exclude={"languages"})
+        table = self.languages.chains.get(code, {})
+        try:
+            return PrepareSettings.model_validate(
+                {
+                    **base,
+                    **table,
+                    "lang": code,
+                    "languages": {**self.languages.model_dump(), "chains": {}},
+                }
+            )
+        except ValueError as exc:
+            first = exc.errors()[0] if hasattr(exc, "errors") else None
+            if first is not None:
+                where = ".".join(str(p) for p in first["loc"])
+                raise ValueError(
+                    f"[prepare.languages.{code}] {where} = {first.get('input')!r}: {first['msg']}"
+                ) from None
+            raise

@@ -39,6 +39,9 @@ def _format_validation(err: ValidationError, source: str) -> str:
     value = first.get("input")
     if first["type"] == "extra_forbidden":
         return f"{source}: unknown setting {key}"
+    message = str(first["msg"]).removeprefix("Value error, ")
+    if first["type"] == "value_error" and message.startswith("[prepare."):
+        return f"{source}: {message}"  # names its own table and key
     return f"{source}: {key} = {value!r}: {first['msg']}"
 
 
@@ -121,12 +124,42 @@ def render_settings(settings: Settings | None = None) -> str:
         doc = (type(section).__doc__ or "").strip().splitlines()[0]
         lines.append(f"# {doc}")
         lines.append(f"[{section_name}]")
+        tables: list[tuple[str, _Section, _Section]] = []
         for name, field in type(section).model_fields.items():
+            value = getattr(section, name)
+            default = getattr(getattr(defaults, section_name), name)
+            if isinstance(value, _Section):  # a sub-table, written after the section's keys
+                tables.append((f"{section_name}.{name}", value, default))
+                continue
             if field.description:
                 lines.append(f"# {field.description}")
-            value = getattr(section, name)
-            pinned = value != getattr(getattr(defaults, section_name), name)
-            lines.append(f"{'' if pinned else '# '}{name} = {_toml_value(value)}")
+            lines.append(f"{'' if value != default else '# '}{name} = {_toml_value(value)}")
         lines.append("")
+        for title, table, default in tables:
+            lines.extend(_render_table(title, table, default))
         del section_field
     return "\n".join(lines)
+
+
+def _render_table(title: str, table: _Section, default: _Section) -> list[str]:
+    """A sub-table (``[prepare.languages]``), its dict-of-tables field as further tables."""
+    doc = (type(table).__doc__ or "").strip().splitlines()[0]
+    lines = [f"# {doc}", f"[{title}]"]
+    nested: dict[str, dict[str, Any]] = {}
+    for name, field in type(table).model_fields.items():
+        value = getattr(table, name)
+        if name == "chains":
+            nested = value
+            if field.description:
+                lines.append(f"# {field.description}")
+            continue
+        if field.description:
+            lines.append(f"# {field.description}")
+        pinned = value != getattr(default, name)
+        lines.append(f"{'' if pinned else '# '}{name} = {_toml_value(value)}")
+    lines.append("")
+    for code, values in nested.items():
+        lines.append(f"[{title}.{code}]")
+        lines.extend(f"{k} = {_toml_value(v)}" for k, v in values.items())
+        lines.append("")
+    return lines

@@ -44,8 +44,9 @@ logger = logging.getLogger(__name__)
 #: vocabulary (:mod:`talkthemes.prepare.names`).
 CHAIN_VERSION = "3"
 EXPLAIN_FILE = "explain.json"
-#: Settings that change speed only, left out of the hash.
-_SPEED_ONLY = frozenset({"batch_size", "n_process"})
+#: Settings that change speed only, left out of the hash (``languages`` says which calls
+#: are prepared, and the corpus fingerprint covers that).
+_SPEED_ONLY = frozenset({"batch_size", "n_process", "languages"})
 
 
 @dataclass
