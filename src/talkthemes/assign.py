@@ -29,6 +29,7 @@ from talkthemes.errors import InputError, NotReadyError
 from talkthemes.ingest.decode import check_fallback
 from talkthemes.ingest.detect import is_manifest, iter_files, read_file, resolved
 from talkthemes.ingest.run import ingest
+from talkthemes.languages.route import route_frames
 from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec, too_few_terms
 from talkthemes.progress import Progress, report
 from talkthemes.versions.export import share_order, write_table
@@ -358,16 +359,32 @@ def assign(
         raise InputError(f"--out {out}: expected a .csv or .parquet file name")
     t0 = time.perf_counter()
     v = load_version(ws, version)
-    applier = PrepApplier(load_prep_spec(ws, v))
-    model = ShareModel.from_version(v)
     settings = ws.settings().ingest
     stored = None
     if store:  # ingest applies the manifests in the folders itself
         stored = ingest(ws, list(paths), manifests=list(manifests)).to_json()
-    items = read_transcripts(paths, settings, manifests=manifests)
-    frame, rejects, warnings = assign_items(
-        items, v, applier, model, batch_size=batch_size, progress=progress
-    )
+    rejects: list[Reject] = []
+    warnings: list[Warning_] = []
+    calls: list[Transcript] = []
+    for item in read_transcripts(paths, settings, manifests=manifests):
+        if isinstance(item, Transcript):
+            calls.append(item)
+        else:
+            (rejects if isinstance(item, Reject) else warnings).append(item)  # type: ignore[arg-type]
+
+    def assign_with(lane: Workspace, group: list[Transcript]) -> pd.DataFrame:
+        lane_v = v if lane is ws else load_version(lane, None)
+        frame, _, _ = assign_items(
+            group,
+            lane_v,
+            PrepApplier(load_prep_spec(lane, lane_v)),
+            ShareModel.from_version(lane_v),
+            batch_size=batch_size,
+            progress=progress,
+        )
+        return frame
+
+    frame = route_frames(ws, calls, assign_with)  # each call by its language's version
     if frame.empty and not rejects:
         raise InputError(
             "no transcripts found in "

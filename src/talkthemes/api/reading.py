@@ -15,11 +15,12 @@ import logging
 import os
 from collections.abc import Sequence
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.progress import Progress
 from talkthemes.sweep.state import sweep_overview
+from talkthemes.workspace import WorkspaceDir
 
 from . import _choices
 from ._base import WorkspaceBase
@@ -31,6 +32,7 @@ if TYPE_CHECKING:  # heavy (numpy, pandas, scikit-learn): imported on first use,
     import pandas as pd
 
     from talkthemes import assign as assign_mod
+    from talkthemes.languages import route as route_mod
     from talkthemes.sweep.recommend import Recommendation
     from talkthemes.versions import evidence_shown
     from talkthemes.versions import export as versions_export
@@ -41,6 +43,7 @@ if TYPE_CHECKING:  # heavy (numpy, pandas, scikit-learn): imported on first use,
 else:
     pd = deferred("pandas")
     assign_mod = deferred("talkthemes.assign")
+    route_mod = deferred("talkthemes.languages.route")
     evidence_shown = deferred("talkthemes.versions.evidence_shown")
     versions_export = deferred("talkthemes.versions.export")
     unthemed_mod = deferred("talkthemes.versions.unthemed")
@@ -82,12 +85,31 @@ class ReadingMixin(WorkspaceBase):
         if published:  # the current version's unthemed group, read from its folder
             folder = self._dir.versions_dir / str(published["version"])
             published["unthemed"] = unthemed_mod.unthemed_group(folder).to_json()
+        languages = []
+        for state in self.languages():  # type: ignore[attr-defined]
+            entry = state.to_json()
+            if state.kind == "lane":
+                lane = WorkspaceDir(state.folder)
+                entry["version"] = None
+                if lane.db_path.exists():
+                    with lane.store() as lane_store:
+                        current = lane_store.current_version()
+                    entry["version"] = current.n if current else None
+            languages.append(entry)
         return Status(
             workspace=str(self._dir.root),
             **summary.to_json(),
             stages=stage_json,
             unfinished_sweeps=sweeps["unfinished"],
+            languages=languages,
         )
+
+    def _lane_cache(self, lane: WorkspaceDir) -> Any:
+        """The version cache of a language lane (one per lane folder, kept on this object)."""
+        caches = self.__dict__.setdefault("_lane_caches", {})
+        if lane.root not in caches:
+            caches[lane.root] = type(self._versions)()
+        return caches[lane.root]
 
     def current_version(self) -> int | None:
         """The current version's number; None before the first publish."""
@@ -346,12 +368,34 @@ class ReadingMixin(WorkspaceBase):
         n = version if version is not None else self.current_version()
         if n is None:
             raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-        assigner = self._versions.assigner(self._dir, int(n))
-        items = read_inputs(data, self.settings().ingest)
-        with assigner.lock:
-            frame, rejects, warnings = assign_mod.assign_items(
-                items, assigner.version, assigner.applier, assigner.model, progress=progress
+        rejects: list = []
+        warnings: list = []
+        calls = []
+        for item in read_inputs(data, self.settings().ingest):
+            kind = type(item).__name__
+            (calls if kind == "Transcript" else rejects if kind == "Reject" else warnings).append(
+                item
             )
+
+        def assign_with(lane: WorkspaceDir, group: list) -> pd.DataFrame:
+            # the main version asked for, or a lane's current one; each cached per folder
+            cache = self._versions if lane is self._dir else self._lane_cache(lane)
+            if lane is self._dir:
+                number = int(n)
+            else:
+                with lane.store() as store:
+                    current = store.current_version()
+                if current is None:
+                    raise NotReadyError(f"{lane.root}: no version published")
+                number = current.n
+            assigner = cache.assigner(lane, number)
+            with assigner.lock:
+                frame, _, _ = assign_mod.assign_items(
+                    group, assigner.version, assigner.applier, assigner.model, progress=progress
+                )
+            return frame
+
+        frame = route_mod.route_frames(self._dir, calls, assign_with)
         for w in warnings:
             log.warning("%s: %s", w.source, w.message)
         if rejects and strict:

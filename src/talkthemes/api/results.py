@@ -260,6 +260,10 @@ class Status:
     unfinished_sweeps : list of dict
         Sweeps of the current prep that stopped early: ``id``, ``status``, ``created_at``,
         ``cells_done``, ``cells_total`` and ``rerun`` (the command that finishes it).
+    languages : list of dict
+        Per language of the calls (:meth:`talkthemes.Workspace.languages`): ``language``,
+        ``calls``, ``given``, ``detected``, ``kind``, ``folder`` and, for a lane,
+        ``version`` (its current version, None before a publish).
     """
 
     workspace: str
@@ -279,6 +283,7 @@ class Status:
     same_text_pairs: int
     stages: dict[str, Any]
     unfinished_sweeps: list[dict[str, Any]]
+    languages: list[dict[str, Any]]
 
     def to_json(self) -> dict[str, Any]:
         """A JSON-ready dict with the attributes in order (what ``status --json`` prints)."""

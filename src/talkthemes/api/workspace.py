@@ -8,6 +8,7 @@ from talkthemes.workspace import WorkspaceDir, resolve_workspace
 
 from .calls import CallsMixin
 from .curating import CuratingMixin
+from .languages import LanguagesMixin
 from .reading import ReadingMixin
 from .records import RecordsMixin
 from .tokens import TokensMixin
@@ -16,7 +17,15 @@ from .writing import WritingMixin
 __all__ = ["Workspace"]
 
 
-class Workspace(WritingMixin, CuratingMixin, RecordsMixin, TokensMixin, CallsMixin, ReadingMixin):
+class Workspace(
+    WritingMixin,
+    CuratingMixin,
+    RecordsMixin,
+    TokensMixin,
+    CallsMixin,
+    LanguagesMixin,
+    ReadingMixin,
+):
     """A talkthemes workspace, from Python: the API the command line, the viewer and the
     service are faces of.
 
@@ -63,6 +72,9 @@ class Workspace(WritingMixin, CuratingMixin, RecordsMixin, TokensMixin, CallsMix
     ``tokens``              the service's access tokens (never the tokens)            —
     ``revoke_token``        revoke an access token                                    —
     ``check_token``         the active token a presented token is, or None            —
+    ``languages``           each language of the calls and where it is themed         —
+    ``language``            the workspace theming one language (a lane, or this)      —
+    ``sync_languages``      bring the language lanes up to date                       writer
     ======================  ========================================================  ========
 
     Writers take the workspace's single-writer lock themselves: with ``wait=False`` (the

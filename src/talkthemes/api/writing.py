@@ -316,6 +316,7 @@ class WritingMixin(WorkspaceBase):
         alert_on_new: bool = False,
         alert_on_rise: bool = False,
         alerts: Mapping[str, Any] | None = None,
+        lanes: bool = True,
         wait: bool = False,
         on_wait: OnWait | None = None,
         progress: Progress | None = None,
@@ -345,6 +346,9 @@ class WritingMixin(WorkspaceBase):
             ``{"new_min_calls": 20, "change_fdr": 0.05}`` (the names are
             ``talkthemes.refresh.alert_step.ALERT_SETTINGS``). Checked like the settings
             file before anything is done.
+        lanes : bool
+            Then refresh every language lane that has a published version, with the same
+            options, into ``languages`` of the result (docs/languages.md).
         wait, on_wait
             See :meth:`hold`.
         progress : Progress, optional
@@ -366,7 +370,7 @@ class WritingMixin(WorkspaceBase):
             An ``alerts`` name unknown or a value not allowed.
         """
         with self.hold("refresh", wait=wait, on_wait=on_wait):
-            return refresh_run.refresh(
+            result = refresh_run.refresh(
                 self._dir,
                 ingest_paths=None if ingest is None else as_paths(ingest) or None,
                 manifests=as_paths(manifests),
@@ -377,6 +381,25 @@ class WritingMixin(WorkspaceBase):
                 progress=progress,
                 **{"drift_png": drift_picture.drift_png, **options},
             )
+            result.language = self.settings().prepare.lang
+            if lanes:  # each language lane with a version, on the calls copied in
+                self.sync_languages()  # type: ignore[attr-defined]
+                for code, lane in self.language_workspaces()[1:]:  # type: ignore[attr-defined]
+                    if lane.current_version() is None:
+                        continue  # nothing published in that language yet
+                    result.languages[code] = lane.refresh(
+                        ingest=[],
+                        resweep=resweep,
+                        alert_on_new=alert_on_new,
+                        alert_on_rise=alert_on_rise,
+                        alerts=alerts,
+                        wait=wait,
+                        on_wait=on_wait,
+                        progress=progress,
+                        lanes=False,
+                        **options,
+                    )
+            return result
 
     def label(
         self,

@@ -25,6 +25,7 @@ from talkthemes.charts.terms import term_chart
 from talkthemes.charts.theme_map import theme_map_chart
 from talkthemes.charts.trends import movers_chart, segment_chart, trend_chart
 from talkthemes.errors import TalkthemesError
+from talkthemes.languages.lanes import LANES_DIR
 from talkthemes.text import md_inline
 from talkthemes.versions.load import Version, load_version
 from talkthemes.view.choose_k import load_prep_vocabulary
@@ -36,7 +37,7 @@ from talkthemes.view.readiness import Need, NextStep, Readiness
 from talkthemes.view.readiness import readiness as workspace_readiness
 from talkthemes.view.theme_map import ThemeLayout, theme_layout
 from talkthemes.view.themes import theme_names, with_names
-from talkthemes.workspace import Workspace, resolve_workspace
+from talkthemes.workspace import DB_FILE, Workspace, resolve_workspace
 
 #: Session-state key of the theme selected anywhere in the viewer (a theme id).
 SELECTED_THEME = "tt_theme_id"
@@ -66,9 +67,37 @@ def favicon() -> Image.Image:
     return img
 
 
+#: Session-state key of the language whose themes the viewer shows (a lane's code).
+LANGUAGE = "tt_language"
+
+
+def language_choices(root: Path) -> list[str]:
+    """The main language of the workspace at ``root``, then each language lane's code."""
+    main = Workspace(root).settings().prepare.lang
+    lanes = root / LANES_DIR
+    codes = (
+        sorted(p.name for p in lanes.iterdir() if (p / DB_FILE).is_file() and p.name != main)
+        if lanes.is_dir()
+        else []
+    )
+    return [main, *codes]
+
+
+def chosen_language(root: Path) -> str:
+    """The language picked in the sidebar (or the ``?language=`` of the address), else the
+    main language."""
+    choices = language_choices(root)
+    wanted = st.session_state.get(LANGUAGE) or st.query_params.get("language")
+    return wanted if wanted in choices else choices[0]
+
+
 def workspace() -> Workspace:
-    """The viewer's workspace."""
-    return Workspace(workspace_root())
+    """The viewer's workspace: the main one, or the lane of the language picked."""
+    root = workspace_root()
+    code = chosen_language(root)
+    if code == language_choices(root)[0]:
+        return Workspace(root)
+    return Workspace(root / LANES_DIR / code)
 
 
 def readiness() -> Readiness:
@@ -365,6 +394,20 @@ def theme_picker(version: Version, *, key: str, label: str = "Theme") -> int:
 def sidebar(ready: Readiness) -> None:
     """Workspace path and the current version's facts."""
     with st.sidebar:
+        root = workspace_root()
+        choices = language_choices(root) if ready.has_workspace else []
+        if len(choices) > 1:  # hidden when the calls are in one language
+            current = chosen_language(root)
+            picked = st.selectbox(
+                "Language",
+                choices,
+                index=choices.index(current),
+                help="Each language's calls have themes of their own.",
+            )
+            if picked != current:
+                st.session_state[LANGUAGE] = picked
+                st.query_params["language"] = picked
+                st.rerun()
         st.caption("Workspace")
         st.code(str(ready.root), language=None)
         if ready.version is not None:

@@ -39,6 +39,7 @@ from talkthemes.workspace import resolve_workspace
 
 __all__ = [
     "JsonOpt",
+    "LanguageOpt",
     "WaitOpt",
     "WorkspaceOpt",
     "app",
@@ -160,6 +161,14 @@ WorkspaceOpt = Annotated[
     ),
 ]
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print one JSON document on stdout.")]
+LanguageOpt = Annotated[
+    str | None,
+    typer.Option(
+        "--language",
+        help="The themes of this language (its lane); default the workspace's [prepare] lang.",
+        show_default=False,
+    ),
+]
 WaitOpt = Annotated[
     bool, typer.Option("--wait", help="Wait for another command holding the workspace.")
 ]
@@ -234,7 +243,11 @@ def progress_bar(label: str, *, enabled: bool = True) -> Iterator[Progress]:
 
 # -- the workspace ----------------------------------------------------------------------------
 def open_workspace(
-    path: Path | None, *, create: bool = False, create_flag: str | None = None
+    path: Path | None,
+    *,
+    create: bool = False,
+    create_flag: str | None = None,
+    language: str | None = None,
 ) -> Workspace:
     """The workspace named by ``--workspace`` (or the environment, or the default).
 
@@ -250,6 +263,8 @@ def open_workspace(
         Create the workspace when it does not exist (the command's ``--create`` was given).
     create_flag : str, optional
         The command's flag that would create it, named in the message.
+    language : str, optional
+        The ``--language`` value: the workspace theming that language (its lane).
 
     Raises
     ------
@@ -258,13 +273,14 @@ def open_workspace(
     """
     root = resolve_workspace(path)
     try:
-        return Workspace.open(root)
+        ws = Workspace.open(root)
     except NotReadyError as exc:
-        if create:
-            return Workspace.create(root)
-        if create_flag:
-            raise NotReadyError(f"{exc}, or give {create_flag}") from None
-        raise
+        if not create:
+            if create_flag:
+                raise NotReadyError(f"{exc}, or give {create_flag}") from None
+            raise
+        ws = Workspace.create(root)
+    return ws.language(language)
 
 
 def waiting(message: str) -> None:
@@ -330,3 +346,18 @@ def writing(path: Path, option: str) -> Iterator[None]:
 
 def _reason(exc: OSError) -> str:
     return exc.strerror or str(exc)
+
+
+def each_language(ws: Workspace, language: str | None) -> list[tuple[str, Workspace]]:
+    """The workspaces a command without ``--language`` works on: the main language and each
+    lane (``[(code, workspace), ...]``); with ``--language``, that language's only."""
+    if language is not None:
+        lane = ws.language(language)
+        return [(lane.main_language(), lane)]
+    return ws.language_workspaces()
+
+
+def language_heading(code: str, lane: Workspace, several: bool) -> None:
+    """A heading naming the language, when a command prints several languages."""
+    if several:
+        say(("Language " + code, "bold"), f" ({lane.root})", console=out)

@@ -15,13 +15,17 @@ from typing import Annotated, Any
 import typer
 from rich.table import Table
 
+from talkthemes.api.workspace import Workspace
 from talkthemes.cli._common import (
     JsonOpt,
+    LanguageOpt,
     WaitOpt,
     WorkspaceOpt,
     cell,
     check_output,
+    each_language,
     emit_json,
+    language_heading,
     open_workspace,
     out,
     progress_bar,
@@ -106,6 +110,8 @@ def print_ingest_report(report: Any) -> None:
     out.print(table)
     if report.manifest_rows:
         say(f"Manifest rows applied: {report.manifest_rows:,}", console=out)
+    if report.languages and not (len(report.languages) == 1 and report.languages[0].kind == "main"):
+        say("Languages: ", language_summary(report.languages, report.lanes), console=out)
     for w in report.warnings[:SHOWN]:
         say(("warning", "yellow"), ": ", _where(w.source, w.row), ": ", w.message)
     if len(report.warnings) > SHOWN:
@@ -114,6 +120,35 @@ def print_ingest_report(report: Any) -> None:
         say(("rejected", "red"), ": ", _where(r.source, r.row), ": ", r.reason)
     if len(report.rejects) > SHOWN:
         say(f"… and {len(report.rejects) - SHOWN} more rejected (see --rejects FILE.csv).")
+
+
+_KIND = {
+    "main": "themed here",
+    "undecided": "undecided, themed with the main language",
+    "too_few": "too few for themes",
+    "no_chain": "no chain for it",
+    "unsettled": "not settled",
+}
+
+
+def language_summary(states: Any, lanes: Any = ()) -> str:
+    """``en 2,700 (themed here) · es 300 (lane languages/es, 300 copied in) · …``."""
+    copied = {lane.language: lane for lane in lanes}
+    parts = []
+    for st in states:
+        if st.kind == "lane":
+            sync = copied.get(st.code)
+            what = f"lane {st.folder}"
+            if sync is not None and sync.busy:
+                what += ", busy: copied in at the next ingest"
+            elif sync is not None and (sync.added or sync.removed):
+                what += f", {sync.added:,} copied in" + (
+                    f", {sync.removed:,} moved out" if sync.removed else ""
+                )
+        else:
+            what = _KIND[st.kind]
+        parts.append(f"{st.code} {st.calls:,} ({what})")
+    return " · ".join(parts)
 
 
 def _where(source: str, row: int | None) -> str:
@@ -125,27 +160,62 @@ def prepare(
         bool, typer.Option("--explain", help="Show what each step removed or joined, and why.")
     ] = False,
     force: Annotated[bool, typer.Option("--force", help="Run even if nothing changed.")] = False,
+    language: LanguageOpt = None,
     workspace: WorkspaceOpt = None,
     wait: WaitOpt = False,
     as_json: JsonOpt = False,
 ) -> None:
-    """Run the preprocessing chain (the prepare settings) into a cached prepared corpus."""
+    """Run the preprocessing chain (the prepare settings) into a cached prepared corpus, for
+    the main language and each language lane (or the one --language names)."""
     ws = open_workspace(workspace)
-    with progress_bar("prepare", enabled=not as_json) as update:
-        result = ws.prepare(force=force, wait=wait, on_wait=waiting, progress=update)
-    # names removed by the chain are people's data: shown only where the workspace allows
-    original = ws.settings().view.original_text
+    todo = each_language(ws, language)
+    several = len(todo) > 1
+    docs = {}
+    for code, lane in todo:
+        language_heading(code, lane, several and not as_json)
+        with progress_bar(f"prepare {code}" if several else "prepare", enabled=not as_json) as up:
+            result = lane.prepare(force=force, wait=wait, on_wait=waiting, progress=up)
+        # names removed by the chain are people's data: shown only where the workspace allows
+        original = ws.settings().view.original_text
+        if as_json:
+            docs[code] = result.to_json(original_text=original)
+            continue
+        s = result.summary
+        if result.cached:
+            say(f"Nothing changed since prep {result.prep_hash[:12]}: using it as it is.")
+        say(
+            f"Prep {result.prep_hash[:12]}: {s.get('transcripts', 0):,} transcripts for "
+            f"training, {s.get('terms', 0):,} terms, {s.get('excluded', 0):,} excluded.",
+            console=out,
+        )
+        if explain:
+            render_explain(out, result, original_text=original)
     if as_json:
-        emit_json(result.to_json(original_text=original))
+        emit_json(docs[todo[0][0]] if not several else {"languages": docs})
         return
-    s = result.summary
-    if result.cached:
-        say(f"Nothing changed since prep {result.prep_hash[:12]}: using it as it is.")
-    say(
-        f"Prep {result.prep_hash[:12]}: {s.get('transcripts', 0):,} transcripts for training, "
-        f"{s.get('terms', 0):,} terms, {s.get('excluded', 0):,} excluded.",
-        console=out,
-    )
     if explain:
-        render_explain(out, result, original_text=original)
+        print_chains(ws)
     say("Next: talkthemes sweep")
+
+
+def print_chains(ws: Workspace) -> None:
+    """Which chain each language's calls took (prepare --explain): the main language's, a
+    lane's, or none."""
+    states = ws.languages()
+    if len(states) < 2 and all(s.kind == "main" for s in states):
+        return
+    main = ws.main_language()
+    t = Table(title="Which chain each call took", title_justify="left")
+    for name in ("language", "calls", "given", "detected", "chain"):
+        t.add_column(name, justify="right" if name in ("calls", "given", "detected") else "left")
+    where = {
+        "main": f"{main}: this workspace",
+        "undecided": f"{main}: this workspace (undecided, themed with the main language)",
+        "too_few": "none: fewer calls than [prepare.languages] min_calls",
+        "no_chain": "none: no chain shipped for this language",
+        "unsettled": "not settled yet",
+    }
+    for st in states:
+        chain = f"{st.code}: its lane, {st.folder}" if st.kind == "lane" else where[st.kind]
+        t.add_row(cell(st.code), f"{st.calls:,}", f"{st.given:,}", f"{st.detected:,}", cell(chain))
+    out.print(t)

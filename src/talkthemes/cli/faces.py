@@ -16,8 +16,10 @@ import typer
 from talkthemes import Workspace
 from talkthemes.cli._common import (
     JsonOpt,
+    LanguageOpt,
     WorkspaceOpt,
     check_output,
+    each_language,
     emit_json,
     open_workspace,
     out,
@@ -36,10 +38,11 @@ def view(
     ] = None,
     port: Annotated[int | None, typer.Option("--port", help="Port (default 8501).")] = None,
     open_browser: Annotated[bool, typer.Option("--open", help="Open a browser tab.")] = False,
+    language: LanguageOpt = None,
     workspace: WorkspaceOpt = None,
 ) -> None:
     """Serve the viewer: Choose K, Theme map, Theme cards, Calls, Over time."""
-    ws = open_workspace(workspace)
+    ws = open_workspace(workspace, language=language)
     settings = ws.settings().view
     _serve(ws, host or settings.host, port or settings.port, open_browser=open_browser)
 
@@ -65,6 +68,7 @@ def report(
     excerpts: Annotated[
         int, typer.Option("--excerpts", min=0, help="Example excerpts per theme.")
     ] = 3,
+    language: LanguageOpt = None,
     workspace: WorkspaceOpt = None,
     as_json: JsonOpt = False,
 ) -> None:
@@ -76,14 +80,31 @@ def report(
     if png is not None:
         check_output(png, "--png", folder=True)
     ws = open_workspace(workspace)
-    with progress_bar("report", enabled=not as_json) as update:
-        path = write_report(
-            ws.folder, out_path, png_dir=png, lam=lam, excerpts=excerpts, progress=update
-        )
+    todo = each_language(ws, language)
+    if len(todo) > 1:  # one report per language with a version: themes.html, themes.es.html
+        todo = [todo[0]] + [(c, lane) for c, lane in todo[1:] if lane.current_version()]
+    written = []
+    for i, (code, lane) in enumerate(todo):
+        target = out_path if i == 0 else out_path.with_name(f"{out_path.stem}.{code}.html")
+        pngs = png if png is None or i == 0 else png / code
+        with progress_bar(
+            f"report {code}" if len(todo) > 1 else "report", enabled=not as_json
+        ) as up:
+            path = write_report(
+                lane.folder, target, png_dir=pngs, lam=lam, excerpts=excerpts, progress=up
+            )
+        written.append({"language": code, "out": str(path), "png_dir": pngs and str(pngs)})
+        if not as_json:
+            say(
+                f"Report{' (' + code + ')' if len(todo) > 1 else ''} written to {path}"
+                + (f"; charts as PNG in {pngs}" if pngs else "")
+            )
     if as_json:
-        emit_json({"out": str(path), "png_dir": None if png is None else str(png)})
-    else:
-        say(f"Report written to {path}" + (f"; charts as PNG in {png}" if png else ""))
+        doc = dict(written[0])
+        doc.pop("language")
+        if len(written) > 1:
+            doc["languages"] = written
+        emit_json(doc)
 
 
 def demo(

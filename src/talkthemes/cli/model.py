@@ -15,10 +15,13 @@ import typer
 from talkthemes import Workspace
 from talkthemes.cli._common import (
     JsonOpt,
+    LanguageOpt,
     WaitOpt,
     WorkspaceOpt,
     check_output,
+    each_language,
     emit_json,
+    language_heading,
     open_workspace,
     out,
     progress_bar,
@@ -47,41 +50,57 @@ def sweep(
         typer.Option("--chart", help="Write the sweep chart as PATH.png and PATH.html."),
     ] = None,
     force: Annotated[bool, typer.Option("--force", help="Run again even if done.")] = False,
+    language: LanguageOpt = None,
     workspace: WorkspaceOpt = None,
     wait: WaitOpt = False,
     as_json: JsonOpt = False,
 ) -> None:
-    """Fit LDA and NMF over a grid of topic counts and seeds; score them; recommend K."""
+    """Fit LDA and NMF over a grid of topic counts and seeds; score them; recommend K — for
+    the main language and each language lane (or the one --language names)."""
     if chart is not None:
         check_output(chart, "--chart")
     ws = open_workspace(workspace)
+    todo = each_language(ws, language)
+    several = len(todo) > 1
     families = [f.strip() for f in family.split(",") if f.strip()] if family else None
-    with progress_bar("sweep cells", enabled=not as_json) as update:
-        result = ws.sweep(
-            k=k,
-            families=families,
-            seeds=seeds,
-            scheduler=scheduler,
-            workers=workers,
-            force=force,
-            wait=wait,
-            on_wait=waiting,
-            progress=update,
-        )
-    if chart is not None:
-        # deferred: Altair and the PNG renderer (see module doc)
-        from talkthemes.charts.render import save_chart
-        from talkthemes.charts.sweep import sweep_chart
+    docs = {}
+    for code, lane in todo:
+        language_heading(code, lane, several and not as_json)
+        with progress_bar(
+            f"sweep cells {code}" if several else "sweep cells", enabled=not as_json
+        ) as update:
+            result = lane.sweep(
+                k=k,
+                families=families,
+                seeds=seeds,
+                scheduler=scheduler,
+                workers=workers,
+                force=force,
+                wait=wait,
+                on_wait=waiting,
+                progress=update,
+            )
+        if chart is not None:
+            # deferred: Altair and the PNG renderer (see module doc)
+            from talkthemes.charts.render import save_chart
+            from talkthemes.charts.sweep import sweep_chart
 
-        recommended = {f: r.k for f, r in result.recommendations.items()}
-        with writing(chart, "--chart"):
-            files = save_chart(sweep_chart(result.cells, recommended), chart)
-        say("Sweep chart: " + ", ".join(map(str, files)))
+            recommended = {f: r.k for f, r in result.recommendations.items()}
+            target = chart.with_name(f"{chart.name}.{code}") if code != todo[0][0] else chart
+            with writing(target, "--chart"):
+                files = save_chart(sweep_chart(result.cells, recommended), target)
+            say("Sweep chart: " + ", ".join(map(str, files)))
+        if as_json:
+            docs[code] = result.to_json()
+        else:
+            print_sweep(result)
     if as_json:
-        emit_json(result.to_json())
+        emit_json(docs[todo[0][0]] if not several else {"languages": docs})
     else:
-        print_sweep(result)
-        say("Next: talkthemes publish --k K --family F (or --cell ID)")
+        say(
+            "Next: talkthemes publish --k K --family F (or --cell ID)"
+            + (" [--language CODE]" if several else "")
+        )
 
 
 def publish(
@@ -97,13 +116,15 @@ def publish(
     force: Annotated[
         bool, typer.Option("--force", help="Publish again even if it is the current version.")
     ] = False,
+    language: LanguageOpt = None,
     workspace: WorkspaceOpt = None,
     wait: WaitOpt = False,
     as_json: JsonOpt = False,
 ) -> None:
-    """Publish a sweep cell as the next version (final model on all eligible transcripts)."""
+    """Publish a sweep cell as the next version (final model on all eligible transcripts) of
+    the main language, or of the language --language names."""
     _check_choice(k=k, family=family, cell=cell, version=version, recommended=recommended)
-    ws = open_workspace(workspace)
+    ws = open_workspace(workspace, language=language)
     if version is not None:
         _make_current(ws, version, wait=wait, as_json=as_json)
         return

@@ -97,7 +97,18 @@ def refresh(
 
 
 def print_refresh(result: Any) -> None:
-    """What a refresh ingested and published: counts, new and retired themes, drift report."""
+    """What a refresh ingested and published — for the main language, then each language
+    lane: counts, new and retired themes, drift report."""
+    several = bool(result.languages)
+    if several:
+        say((f"Language {result.language}", "bold"), console=out)
+    _print_one(result)
+    for code, lane in result.languages.items():
+        say((f"Language {code}", "bold"), console=out)
+        _print_one(lane)
+
+
+def _print_one(result: Any) -> None:
     if result.ingest is not None:
         totals = result.ingest["totals"]
         say(

@@ -19,9 +19,12 @@ import typer
 from talkthemes import Workspace
 from talkthemes.cli._common import (
     JsonOpt,
+    LanguageOpt,
     WorkspaceOpt,
     check_output,
+    each_language,
     emit_json,
+    language_heading,
     open_workspace,
     out,
     say,
@@ -61,6 +64,7 @@ def themes(
     version: Annotated[
         int | None, typer.Option("--version", help="Version (default current).")
     ] = None,
+    language: LanguageOpt = None,
     workspace: WorkspaceOpt = None,
     as_json: JsonOpt = False,
 ) -> None:
@@ -68,6 +72,42 @@ def themes(
     top terms, coherence, and the unthemed group; with --out, the spreadsheet to label them
     in."""
     ws = open_workspace(workspace)
+    todo = each_language(ws, language)
+    if out_path is not None or len(todo) == 1:
+        _themes(todo[0][1], lam, terms, evidence, out_path, version, as_json)
+        return
+    docs = {}
+    for code, lane in todo:  # every language, one after the other
+        if lane.current_version() is None:
+            if not as_json:
+                language_heading(code, lane, True)
+                say(
+                    f"No version published in {code} yet: talkthemes sweep --language {code}, "
+                    f"then talkthemes publish --language {code} --recommended",
+                    console=out,
+                    soft_wrap=True,
+                )
+            docs[code] = None
+            continue
+        if not as_json:
+            language_heading(code, lane, True)
+        docs[code] = _themes(lane, lam, terms, evidence, None, version, as_json, emit=False)
+    if as_json:
+        emit_json({"languages": docs})
+
+
+def _themes(
+    ws: Workspace,
+    lam: float | None,
+    terms: int,
+    evidence: int,
+    out_path: Path | None,
+    version: int | None,
+    as_json: bool,
+    *,
+    emit: bool = True,
+) -> dict[str, Any] | None:
+    """One language's themes (see :func:`themes`); the JSON document, printed when ``emit``."""
     if out_path is not None:
         check_output(out_path, "--out")
         with writing(out_path, "--out"):
@@ -89,11 +129,11 @@ def themes(
         t["evidence"] = [e.to_json() for e in sentences[t["theme_id"]]]
     unthemed = ws.unthemed(v.n)
     if as_json:
-        emit_json(
-            {"version": v.n, "family": v.info["family"], "k": v.k, "lambda": lam,
-             "themes": summary, "unthemed": unthemed.to_json()}
-        )  # fmt: skip
-        return
+        doc = {"version": v.n, "family": v.info["family"], "k": v.k, "lambda": lam,
+               "themes": summary, "unthemed": unthemed.to_json()}  # fmt: skip
+        if emit:
+            emit_json(doc)
+        return doc
     say(
         f"Version {v.n}: {v.info['family']} K={v.k}, {len(v.doc_ids):,} transcripts (λ = {lam:g})",
         console=out,
@@ -168,11 +208,12 @@ def label(
     show_log: Annotated[
         bool, typer.Option("--log", help="Show the curation log (of the theme, if given).")
     ] = False,
+    language: LanguageOpt = None,
     workspace: WorkspaceOpt = None,
     as_json: JsonOpt = False,
 ) -> None:
     """Label a theme, note it, mark it not a theme, merge it; kept across versions by id."""
-    ws = open_workspace(workspace)
+    ws = open_workspace(workspace, language=language)
     if show_log:
         return _show_log(ws, theme_id, as_json)
     if from_file is not None:
@@ -300,6 +341,7 @@ def export(
             "separated by commas (masked like the screens unless [view] original_text).",
         ),
     ] = None,
+    language: LanguageOpt = None,
     workspace: WorkspaceOpt = None,
     as_json: JsonOpt = False,
 ) -> None:
@@ -312,7 +354,7 @@ def export(
         if not names:
             raise ConfigError("--metadata: give 'all' or field names separated by commas")
         fields = True if names == ["all"] else names
-    ws = open_workspace(workspace)
+    ws = open_workspace(workspace, language=language)
     with writing(out_path, "--out"):
         result = ws.export(out_path, version=version, metadata=fields)
     if as_json:

@@ -98,6 +98,41 @@ def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
             soft_wrap=True,
         )
     out.print(_stages(data["stages"]))
+    _languages(data["languages"])
+
+
+_WHERE = {
+    "main": "themed here",
+    "undecided": "undecided: themed with the main language",
+    "too_few": "too few calls for themes ([prepare.languages] min_calls)",
+    "no_chain": "not themed: no chain for this language",
+    "unsettled": "not settled yet: run talkthemes prepare",
+}
+
+
+def _languages(languages: list[dict[str, Any]]) -> None:
+    """The calls per language and where each language is themed (when there is more than
+    the main language)."""
+    if not languages or (len(languages) == 1 and languages[0]["kind"] == "main"):
+        return
+    t = _titled("By language", "language", "calls", "given", "detected", "themes")
+    t.columns[4].justify = "left"
+    for lang in languages:
+        if lang["kind"] == "lane":
+            v = lang.get("version")
+            where = f"lane {lang['folder']}: " + (
+                f"version {v}" if v else f"none yet (sweep --language {lang['language']})"
+            )
+        else:
+            where = _WHERE[lang["kind"]]
+        t.add_row(
+            cell(lang["language"]),
+            f"{lang['calls']:,}",
+            f"{lang['given']:,}",
+            f"{lang['detected']:,}",
+            cell(where),
+        )
+    out.print(t)
 
 
 def _titled(title: str, *columns: str) -> Table:

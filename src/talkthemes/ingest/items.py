@@ -21,6 +21,7 @@ from talkthemes.calls.identity import SKIPPED
 from talkthemes.calls.model import Reject, Transcript, Warning_
 from talkthemes.ingest.records import RECORD_FORMAT, read_records
 from talkthemes.ingest.run import OUTCOMES, reexport_rule
+from talkthemes.languages.settle import settle_languages
 from talkthemes.workspace import Workspace
 
 __all__ = ["RecordOutcome", "RecordsReport", "ingest_records"]
@@ -166,6 +167,9 @@ def ingest_records(
                     Warning_(m.source, f"id {m.tid!r}: same text as {m.original!r}: {m.reason}")
                 )
         store.add_rejects(run_id, rejects)
+        # languages settle now; the lanes take these calls in at the next ingest or refresh
+        settled = settle_languages(workspace, store)
+        warnings.extend(Warning_("metadata", m) for m in settled.messages())
         totals = Counter(o.outcome for o in outcomes.values())
         store.finish_ingest_run(
             run_id,

@@ -29,6 +29,8 @@ from talkthemes.config import IngestSettings
 from talkthemes.ingest.detect import iter_files, read_file, split_manifests
 from talkthemes.ingest.manifest import Manifest, read_manifest
 from talkthemes.ingest.metadata import MetadataChange, apply_manifest, unknown_ids
+from talkthemes.languages.lanes import LaneSync, LanguageState, language_states, sync_lanes
+from talkthemes.languages.settle import settle_languages
 from talkthemes.progress import Progress
 from talkthemes.store import Store, TextMatch
 from talkthemes.testhook import pause_at
@@ -70,6 +72,10 @@ class IngestReport:
         Per manifest: ``source``, ``rows``, ``unknown_ids`` (ids with no stored call).
     metadata_changes : list of MetadataChange
         Stored metadata values a manifest changed (``applied``) or wanted to change.
+    languages : list of LanguageState
+        Every language of the stored calls after the run, and where each is themed.
+    lanes : list of LaneSync
+        The language lanes brought up to date (calls copied in, removed).
     """
 
     run_id: int
@@ -82,6 +88,8 @@ class IngestReport:
     manifests: list[dict[str, Any]] = field(default_factory=list)
     metadata_changes: list[MetadataChange] = field(default_factory=list)
     files: int = 0
+    languages: list[LanguageState] = field(default_factory=list)
+    lanes: list[LaneSync] = field(default_factory=list)
 
     def tally(self, fmt: str, outcome: str, n: int = 1) -> None:
         self.counts.setdefault(fmt, Counter())[outcome] += n
@@ -145,6 +153,8 @@ class IngestReport:
                 }
                 for m in self.same_text
             ],
+            "languages": [s.to_json() for s in self.languages],
+            "lanes": [lane.to_json() for lane in self.lanes],
         }
 
 
@@ -293,6 +303,7 @@ def ingest(
                 report.warnings.append(warning)
         if report.rejects:
             store.add_rejects(run_id, report.rejects)
+        settle_and_sync(workspace, store, report, progress=progress)
         store.finish_ingest_run(
             run_id,
             added=report.total("added"),
@@ -304,6 +315,21 @@ def ingest(
         return report
     finally:
         store.close()
+
+
+def settle_and_sync(
+    workspace: Workspace, store: Store, report: IngestReport, *, progress: Progress | None = None
+) -> None:
+    """Settle the calls' languages and bring the language lanes up to date, into ``report``
+    (docs/languages.md)."""
+    settled = settle_languages(
+        workspace,
+        store,
+        progress=None if progress is None else lambda d, t, w: progress(d, t, "languages"),
+    )
+    report.warnings.extend(Warning_("metadata", m) for m in settled.messages())
+    report.lanes = sync_lanes(workspace, store)
+    report.languages = language_states(workspace, store)
 
 
 def _apply_manifest(

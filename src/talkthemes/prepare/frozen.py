@@ -41,6 +41,7 @@ import scipy.sparse as sp
 
 from talkthemes.config import PrepareSettings
 from talkthemes.errors import NotReadyError
+from talkthemes.languages.lanes import themed_languages
 from talkthemes.prepare.applied import AppliedBatch
 from talkthemes.prepare.boilerplate import sentence_key
 from talkthemes.prepare.chain import build_processor
@@ -390,8 +391,9 @@ def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path
     prep_hash, folder
     """
     versions = library_versions()
+    languages = themed_languages(ws.settings().prepare)
     with ws.store() as store:
-        fingerprint = store.corpus_fingerprint()
+        fingerprint = store.corpus_fingerprint(languages)
         doc = {
             "frozen_from": spec.prep_hash,
             "vocabulary": hashlib.sha256("\n".join(spec.vocabulary).encode()).hexdigest(),
@@ -414,7 +416,9 @@ def build_frozen_prep(ws: Workspace, version: Any, spec: Any) -> tuple[str, Path
             applied = AppliedBatch.concat(
                 [
                     applier.apply(b)
-                    for b in store.iter_turn_batches(spec.settings.batch_size, speakers=True)
+                    for b in store.iter_turn_batches(
+                        spec.settings.batch_size, speakers=True, languages=languages
+                    )
                 ],
                 len(spec.vocabulary),
             )

@@ -22,6 +22,8 @@ from typing import Any
 
 from talkthemes.config import PrepareSettings
 from talkthemes.errors import NotReadyError, StoreError
+from talkthemes.languages.lanes import sync_lanes, themed_languages
+from talkthemes.languages.settle import settle_languages
 from talkthemes.prepare.chain import build_processor, prepare_corpus
 from talkthemes.prepare.corpus import FILES, PreparedCorpus, library_versions
 from talkthemes.prepare.explain import masked_explain
@@ -178,9 +180,12 @@ def run_prepare(
         When the language or pipeline cannot be used.
     """
     settings = workspace.settings().prepare
+    languages = themed_languages(settings)
     with workspace.store() as store:
-        total = store.count_transcripts()
-        fingerprint = store.corpus_fingerprint()
+        if settle_languages(workspace, store).detected:  # calls stored before languages were
+            sync_lanes(workspace, store)
+        total = store.count_transcripts(languages)
+        fingerprint = store.corpus_fingerprint(languages)
         versions = library_versions()
         prep_hash = compute_prep_hash(settings, fingerprint, versions)
         final = workspace.prepared_dir / prep_hash
@@ -196,11 +201,18 @@ def run_prepare(
             logger.info("prep %s is up to date", prep_hash)
             return PrepareResult(prep_hash, final, info.get("counts", {}), True, explain)
         if total == 0:
+            if store.count_transcripts():
+                raise NotReadyError(
+                    f"the store holds no calls in {settings.lang} (this workspace's [prepare] "
+                    "lang): see 'talkthemes status' for the languages and their lanes"
+                )
             raise NotReadyError("the store holds no transcripts: run 'talkthemes ingest' first")
 
         processor = build_processor(settings)
         corpus, explain = prepare_corpus(
-            lambda: store.iter_turn_batches(settings.batch_size, speakers=True),
+            lambda: store.iter_turn_batches(
+                settings.batch_size, speakers=True, languages=languages
+            ),
             settings,
             total=total,
             progress=progress,

@@ -33,6 +33,10 @@ class RefreshResult:
     risers, fallers : list of dict
         Carried themes whose share of the new transcripts rose (fell) significantly
         (:func:`talkthemes.versions.alerts.judge_changes`), with their ``examples``.
+    language : str or None
+        The language this refresh themed (the workspace's ``[prepare] lang``).
+    languages : dict
+        Language code → the refresh of that language's lane (docs/languages.md).
     room : dict or None
         The room check (:class:`talkthemes.refresh.room.RoomDecision`): whether K was
         raised to give a new call reason a theme of its own; None when not run (a
@@ -61,6 +65,8 @@ class RefreshResult:
     drift_files: list[str] = field(default_factory=list)
     curation: dict[str, Any] | None = None
     seconds: float = 0.0
+    language: str | None = None
+    languages: dict[str, RefreshResult] = field(default_factory=dict)
 
     @property
     def rejected(self) -> int:
@@ -79,6 +85,8 @@ class RefreshResult:
         to do)."""
         if (self.alert_on_new and self.alerted_new) or (self.alert_on_rise and self.risers):
             return 4
+        if any(lane.exit_code == 4 for lane in self.languages.values()):
+            return 4  # an alert in a language lane
         return 3 if self.rejected else 0
 
     def to_json(self) -> dict[str, Any]:
@@ -109,4 +117,6 @@ class RefreshResult:
             "curation": self.curation,
             "seconds": round(self.seconds, 2),
             "ingest": self.ingest,
+            "language": self.language,
+            "languages": {code: lane.to_json() for code, lane in self.languages.items()},
         }

@@ -59,6 +59,7 @@ import numpy as np
 
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.ingest.run import ingest
+from talkthemes.languages.lanes import themed_languages
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.frozen import PrepSpec, build_frozen_prep, load_prep_spec
 from talkthemes.prepare.run import run_prepare
@@ -252,7 +253,8 @@ def _run(
     # 2. anything new?
     known = _known_ids(current, spec)
     with ws.store() as store:
-        new_ids = [t for t in store.transcript_ids() if t not in known]
+        themed = store.transcript_ids(themed_languages(settings.prepare))
+        new_ids = [t for t in themed if t not in known]
     result.new_transcripts = len(new_ids)
     if not new_ids:
         result.status = "nothing_new"

@@ -6,6 +6,7 @@ and the frozen records of :mod:`talkthemes.store.records`, never SQL, so a serve
 could replace SQLite later without touching them. :class:`Store` is composed of one mixin
 per group of tables: :mod:`~talkthemes.store.runs` (ingest runs, rejects, same-text
 pairs, the summary), :mod:`~talkthemes.store.transcripts` (transcripts, turns, metadata),
+:mod:`~talkthemes.store.languages` (each call's language),
 :mod:`~talkthemes.store.sweeps` (preps, sweeps, cells), :mod:`~talkthemes.store.versions`
 (versions, themes, labels, retired themes), :mod:`~talkthemes.store.refreshes` and
 :mod:`~talkthemes.store.curation` (merges and the curation log) and
@@ -20,6 +21,7 @@ from pathlib import Path
 from talkthemes.errors import StoreError
 from talkthemes.store._base import now_iso
 from talkthemes.store.curation import CurationMixin
+from talkthemes.store.languages import LanguagesMixin
 from talkthemes.store.records import StoredTurn, TextMatch
 from talkthemes.store.refreshes import RefreshesMixin
 from talkthemes.store.runs import IngestRunsMixin
@@ -36,6 +38,7 @@ __all__ = ["SCHEMA_VERSION", "AddOutcome", "Store", "StoredTurn", "TextMatch", "
 class Store(
     IngestRunsMixin,
     TranscriptsMixin,
+    LanguagesMixin,
     SweepsMixin,
     VersionsMixin,
     RefreshesMixin,

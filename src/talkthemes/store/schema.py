@@ -188,6 +188,14 @@ _MIGRATIONS: list[Migration] = [
     );
     CREATE UNIQUE INDEX tokens_active_name ON tokens(name) WHERE revoked_at IS NULL;
     """,
+    # 8: each call's language: as detected, and in effect (given by the call's metadata, or
+    # detected) with where it came from; NULL until the languages are settled
+    """
+    ALTER TABLE transcripts ADD COLUMN language_detected TEXT;
+    ALTER TABLE transcripts ADD COLUMN language TEXT;
+    ALTER TABLE transcripts ADD COLUMN language_source TEXT;
+    CREATE INDEX transcripts_language ON transcripts(language);
+    """,
 ]
 
 SCHEMA_VERSION = len(_MIGRATIONS)

@@ -10,6 +10,7 @@ from dataclasses import dataclass, field
 from talkthemes.calls.identity import SAME_TEXT, SKIPPED, ReexportRule
 from talkthemes.calls.model import Reject, Transcript
 from talkthemes.store._base import PARAM_CHUNK, StoreBase, chunks, now_iso
+from talkthemes.store.languages import language_clause
 from talkthemes.store.records import StoredTurn, TextMatch
 
 DEFAULT_RULE = ReexportRule()
@@ -235,18 +236,25 @@ class TranscriptsMixin(StoreBase):
             )
         return len(rows)
 
-    def count_transcripts(self) -> int:
-        """Number of stored transcripts."""
-        return int(self._conn.execute("SELECT COUNT(*) FROM transcripts").fetchone()[0])
+    def count_transcripts(self, languages: Sequence[str] | None = None) -> int:
+        """Number of stored transcripts (in ``languages`` or unsettled, when given)."""
+        where, args = language_clause(languages)
+        sql = f"SELECT COUNT(*) FROM transcripts WHERE {where}"
+        return int(self._conn.execute(sql, args).fetchone()[0])
 
-    def transcript_ids(self) -> list[str]:
-        """Every stored transcript id, in storage order."""
-        return [r[0] for r in self._conn.execute("SELECT tid FROM transcripts ORDER BY id")]
+    def transcript_ids(self, languages: Sequence[str] | None = None) -> list[str]:
+        """Every stored transcript id (in ``languages`` or unsettled), in storage order."""
+        where, args = language_clause(languages)
+        sql = f"SELECT tid FROM transcripts WHERE {where} ORDER BY id"
+        return [r[0] for r in self._conn.execute(sql, args)]
 
-    def corpus_fingerprint(self) -> str:
-        """A hash over the set of stored transcripts (ids and content hashes)."""
+    def corpus_fingerprint(self, languages: Sequence[str] | None = None) -> str:
+        """A hash over the set of stored transcripts (ids and content hashes), of
+        ``languages`` (and unsettled calls) when given."""
+        where, args = language_clause(languages)
         h = hashlib.sha256()
-        for tid, ch in self._conn.execute("SELECT tid, content_hash FROM transcripts ORDER BY tid"):
+        sql = f"SELECT tid, content_hash FROM transcripts WHERE {where} ORDER BY tid"
+        for tid, ch in self._conn.execute(sql, args):
             h.update(tid.encode("utf-8"))
             h.update(b"\0")
             h.update(ch.encode("ascii"))
@@ -254,18 +262,24 @@ class TranscriptsMixin(StoreBase):
         return h.hexdigest()
 
     def iter_turn_batches(
-        self, batch_size: int, *, speakers: bool = False
+        self,
+        batch_size: int,
+        *,
+        speakers: bool = False,
+        languages: Sequence[str] | None = None,
     ) -> Iterator[list[tuple[str, list[tuple[str, ...]]]]]:
         """Stream transcripts in storage order as batches of ``(tid, [(role, text), ...])``
-        (``(role, text, speaker label)`` with ``speakers=True``).
+        (``(role, text, speaker label)`` with ``speakers=True``); only those in
+        ``languages`` (or unsettled) when given.
 
         Only one batch is held in memory at a time.
         """
+        where, args = language_clause(languages)
         last = 0
         while True:
             ids = self._conn.execute(
-                "SELECT id, tid FROM transcripts WHERE id > ? ORDER BY id LIMIT ?",
-                (last, batch_size),
+                f"SELECT id, tid FROM transcripts WHERE id > ? AND {where} ORDER BY id LIMIT ?",
+                (last, *args, batch_size),
             ).fetchall()
             if not ids:
                 return
@@ -275,6 +289,8 @@ class TranscriptsMixin(StoreBase):
                 "SELECT transcript, turns FROM turn_sets WHERE transcript BETWEEN ? AND ?",
                 (first, last),
             ):
+                if tr not in turns:  # a call between the batch's ids in another language
+                    continue
                 units = json.loads(packed)
                 turns[tr] = (
                     [(u[1], u[4], u[0]) for u in units]
