@@ -8,11 +8,11 @@ every method of :class:`~talkthemes.Workspace` works on one language's themes.
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 from talkthemes.errors import ConfigError, NotReadyError
 
-from ._base import WorkspaceBase
+from ._base import OnWait, WorkspaceBase
 from ._deferred import deferred
 
 if TYPE_CHECKING:
@@ -96,7 +96,7 @@ class LanguagesMixin(WorkspaceBase):
         )
         raise NotReadyError(f"language {wanted!r} has no themes of its own: {why}")
 
-    def language_workspaces(self) -> list[tuple[str, Workspace]]:
+    def languages_themed(self) -> list[tuple[str, Workspace]]:
         """This workspace's main language and each language lane that exists, in order:
         ``[(code, workspace), ...]``."""
         from .workspace import Workspace
@@ -108,10 +108,17 @@ class LanguagesMixin(WorkspaceBase):
                 out.append((state.code, Workspace(lane)))
         return out
 
-    def sync_languages(self, **kw: Any) -> list[lanes_mod.LaneSync]:
+    def sync_languages(
+        self, *, wait: bool = False, on_wait: OnWait | None = None
+    ) -> list[lanes_mod.LaneSync]:
         """Bring every language lane up to date with the stored calls (ingest does this
         itself; calls sent as records reach their lane here, at the next ingest or
         refresh). Takes the writer lock.
+
+        Parameters
+        ----------
+        wait, on_wait
+            See :meth:`hold`.
 
         Returns
         -------
@@ -119,6 +126,6 @@ class LanguagesMixin(WorkspaceBase):
         """
         from talkthemes.languages.settle import settle_languages
 
-        with self.hold("sync languages", **kw), self._dir.store() as store:
+        with self.hold("sync languages", wait=wait, on_wait=on_wait), self._dir.store() as store:
             settle_languages(self._dir, store)
             return lanes_mod.sync_lanes(self._dir, store)

@@ -73,7 +73,9 @@ class Workspace(
     ``revoke_token``        revoke an access token                                    —
     ``check_token``         the active token a presented token is, or None            —
     ``languages``           each language of the calls and where it is themed         —
+    ``main_language``       this workspace's own language, ``[prepare] lang``         —
     ``language``            the workspace theming one language (a lane, or this)      —
+    ``languages_themed``    the main language and each lane, as workspaces            —
     ``sync_languages``      bring the language lanes up to date                       writer
     ======================  ========================================================  ========
 

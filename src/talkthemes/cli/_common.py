@@ -354,7 +354,7 @@ def each_language(ws: Workspace, language: str | None) -> list[tuple[str, Worksp
     if language is not None:
         lane = ws.language(language)
         return [(lane.main_language(), lane)]
-    return ws.language_workspaces()
+    return ws.languages_themed()
 
 
 def language_heading(code: str, lane: Workspace, several: bool) -> None:

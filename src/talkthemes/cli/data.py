@@ -15,7 +15,7 @@ from typing import Annotated, Any
 import typer
 from rich.table import Table
 
-from talkthemes.api.workspace import Workspace
+from talkthemes import Workspace
 from talkthemes.cli._common import (
     JsonOpt,
     LanguageOpt,

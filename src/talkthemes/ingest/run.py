@@ -303,7 +303,7 @@ def ingest(
                 report.warnings.append(warning)
         if report.rejects:
             store.add_rejects(run_id, report.rejects)
-        settle_and_sync(workspace, store, report, progress=progress)
+        settle_and_sync(workspace, store, report)
         store.finish_ingest_run(
             run_id,
             added=report.total("added"),
@@ -317,16 +317,11 @@ def ingest(
         store.close()
 
 
-def settle_and_sync(
-    workspace: Workspace, store: Store, report: IngestReport, *, progress: Progress | None = None
-) -> None:
+def settle_and_sync(workspace: Workspace, store: Store, report: IngestReport) -> None:
     """Settle the calls' languages and bring the language lanes up to date, into ``report``
-    (docs/languages.md)."""
-    settled = settle_languages(
-        workspace,
-        store,
-        progress=None if progress is None else lambda d, t, w: progress(d, t, "languages"),
-    )
+    (docs/languages.md). Detection runs at several thousand calls a second, so it reports
+    no progress of its own (the files' progress has ended just before)."""
+    settled = settle_languages(workspace, store)
     report.warnings.extend(Warning_("metadata", m) for m in settled.messages())
     report.lanes = sync_lanes(workspace, store)
     report.languages = language_states(workspace, store)

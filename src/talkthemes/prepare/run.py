@@ -162,7 +162,8 @@ def run_prepare(
     force : bool
         Run the chain even when a prep with the same hash exists.
     progress : Progress, optional
-        ``progress(done, total, what)``, the stage as ``what``: ``read`` (transcripts), then
+        ``progress(done, total, what)``, the stage as ``what``: ``languages`` (calls
+        detected, only for calls stored before languages were), ``read`` (transcripts), then
         ``lemmas``, ``boilerplate``, ``phrases``, ``vocabulary`` and ``write``, each (0, 1)
         when it starts and (1, 1) when it ends.
 
@@ -182,7 +183,8 @@ def run_prepare(
     settings = workspace.settings().prepare
     languages = themed_languages(settings)
     with workspace.store() as store:
-        if settle_languages(workspace, store).detected:  # calls stored before languages were
+        # calls stored before languages were are detected now (a stage of its own)
+        if settle_languages(workspace, store, progress=progress).detected:
             sync_lanes(workspace, store)
         total = store.count_transcripts(languages)
         fingerprint = store.corpus_fingerprint(languages)
