@@ -138,7 +138,7 @@ def language_summary(states: Any, lanes: Any = ()) -> str:
     for st in states:
         if st.kind == "lane":
             sync = copied.get(st.code)
-            what = f"lane {st.folder}"
+            what = f"lane languages/{st.code}"
             if sync is not None and sync.busy:
                 what += ", busy: copied in at the next ingest"
             elif sync is not None and (sync.added or sync.removed):
@@ -216,6 +216,6 @@ def print_chains(ws: Workspace) -> None:
         "unsettled": "not settled yet",
     }
     for st in states:
-        chain = f"{st.code}: its lane, {st.folder}" if st.kind == "lane" else where[st.kind]
+        chain = f"{st.code}: its lane, languages/{st.code}" if st.kind == "lane" else where[st.kind]
         t.add_row(cell(st.code), f"{st.calls:,}", f"{st.given:,}", f"{st.detected:,}", cell(chain))
     out.print(t)

@@ -120,7 +120,7 @@ def _languages(languages: list[dict[str, Any]]) -> None:
     for lang in languages:
         if lang["kind"] == "lane":
             v = lang.get("version")
-            where = f"lane {lang['folder']}: " + (
+            where = f"lane languages/{lang['language']}: " + (
                 f"version {v}" if v else f"none yet (sweep --language {lang['language']})"
             )
         else:

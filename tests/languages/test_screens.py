@@ -1,0 +1,68 @@
+"""The screens with several languages: the viewer's language picker and the reports."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+from streamlit.testing.v1 import AppTest
+from typer.testing import CliRunner
+
+import talkthemes.app
+from talkthemes.app import _shared
+from talkthemes.cli import app
+
+from .conftest import Mixed
+
+APP = Path(talkthemes.app.__file__).resolve().parent / "main.py"
+
+
+def _open(root: Path, monkeypatch: pytest.MonkeyPatch) -> AppTest:
+    monkeypatch.setenv("TALKTHEMES_WORKSPACE", str(root))
+    at = AppTest.from_file(str(APP), default_timeout=180)
+    at.run()
+    assert not at.exception, [e.value for e in at.exception]
+    return at
+
+
+def _sidebar_text(at: AppTest) -> str:
+    return "\n".join(str(m.value) for m in at.sidebar.markdown)
+
+
+def test_the_language_picker_switches_every_section_to_that_language(
+    published: Mixed, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    at = _open(published.root, monkeypatch)
+    pickers = [s for s in at.sidebar.selectbox if s.label == "Language"]
+    assert len(pickers) == 1 and list(pickers[0].options) == ["en", "es"]
+    assert "K = 6" in _sidebar_text(at)  # the English version
+    pickers[0].select("es").run()
+    assert not at.exception, [e.value for e in at.exception]
+    assert at.session_state[_shared.LANGUAGE] == "es"
+    assert "K = 3" in _sidebar_text(at)  # the Spanish version
+    at.switch_page("theme_cards.py").run()  # the choice holds in another section
+    assert not at.exception, [e.value for e in at.exception]
+    assert "K = 3" in _sidebar_text(at)
+    assert str(published.root / "languages" / "es") in [c.value for c in at.sidebar.code]
+
+
+def test_no_language_picker_with_one_language(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, ingested: Mixed
+) -> None:
+    import talkthemes as tt
+
+    ws = tt.Workspace.create(tmp_path / "one")
+    ws.ingest([ingested.sources / "en"])
+    at = _open(ws.root, monkeypatch)
+    assert not [s for s in at.sidebar.selectbox if s.label == "Language"]
+
+
+def test_report_writes_one_file_per_language(published: Mixed, tmp_path: Path) -> None:
+    out = tmp_path / "themes.html"
+    result = CliRunner().invoke(app, ["report", "--out", str(out), "-w", str(published.root)])
+    assert result.exit_code == 0, result.output
+    spanish = tmp_path / "themes.es.html"
+    assert out.is_file() and spanish.is_file()
+    page = spanish.read_text("utf-8")
+    assert "K = 3" in page or "K=3" in page
+    assert "(es)" in result.output
