@@ -92,7 +92,7 @@ def test_a_small_language_is_listed_not_themed(
     ws.ingest([src / "en", *sorted((src / "es").glob("*.txt"))[:12]])
     states = {s.code: s for s in ws.languages()}
     assert states["es"].kind == "too_few" and states["es"].calls == 12
-    with pytest.raises(NotReadyError, match="12 calls, fewer than .*min_calls = 200"):
+    with pytest.raises(NotReadyError, match=r"12 calls, fewer than .*min_calls = 200"):
         ws.language("es")
     with pytest.raises(ConfigError, match="not a language code"):
         ws.language("x1")
