@@ -66,3 +66,24 @@ def test_report_writes_one_file_per_language(published: Mixed, tmp_path: Path) -
     page = spanish.read_text("utf-8")
     assert "K = 3" in page or "K=3" in page
     assert "(es)" in result.output
+
+
+def test_the_service_answers_each_call_in_its_languages_themes(published: Mixed) -> None:
+    from tests.service.conftest import start
+
+    import talkthemes as tt
+
+    ws = tt.Workspace.open(published.root)
+    spanish = (sorted((published.sources / "es").glob("*.txt"))[0]).read_text("utf-8")
+    english = sorted((published.sources / "en").rglob("*.txt"))[0].read_text("utf-8")
+    service = next(start(ws))
+    res = service.post("/v1/assign", json={"items": [{"text": english}, {"text": spanish}]})
+    assert res.status_code == 200, res.text
+    en, es = res.json()["results"]
+    assert (en["language"], es["language"]) == ("en", "es")
+    es_version = ws.language("es").version()
+    assert es["lead_theme_id"] in es_version.theme_ids and len(es["shares"]) == 3
+    assert es["language_version"] == es_version.n
+    names = dict(zip(es_version.theme_ids, es_version.suggested_names(), strict=True))
+    assert es["lead_theme_name"] == names[es["lead_theme_id"]]
+    assert len(en["shares"]) == 6

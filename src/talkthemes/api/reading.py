@@ -104,6 +104,41 @@ class ReadingMixin(WorkspaceBase):
             languages=languages,
         )
 
+    def _assign_routed(
+        self, items: Any, n: int, *, progress: Progress | None = None
+    ) -> tuple[pd.DataFrame, list[Any], list[Any]]:
+        """The assignment table of the transcripts among ``items``, each call by its
+        language's version (``n`` for the main language; a lane's current one), with the
+        rejects and warnings among ``items`` (docs/languages.md)."""
+        rejects: list[Any] = []
+        warnings: list[Any] = []
+        calls: list[Any] = []
+        for item in items:
+            kind = type(item).__name__
+            (calls if kind == "Transcript" else rejects if kind == "Reject" else warnings).append(
+                item
+            )
+
+        def assign_with(lane: WorkspaceDir, group: list[Any]) -> pd.DataFrame:
+            # the main version asked for, or a lane's current one; each cached per folder
+            main = lane is self._dir
+            cache = self._versions if main else self._lane_cache(lane)
+            number = n
+            if not main:
+                with lane.store() as store:
+                    current = store.current_version()
+                if current is None:
+                    raise NotReadyError(f"{lane.root}: no version published")
+                number = current.n
+            assigner = cache.assigner(lane, number)
+            with assigner.lock:
+                frame, _, _ = assign_mod.assign_items(
+                    group, assigner.version, assigner.applier, assigner.model, progress=progress
+                )
+            return frame
+
+        return route_mod.route_frames(self._dir, calls, assign_with), rejects, warnings
+
     def _lane_cache(self, lane: WorkspaceDir) -> Any:
         """The version cache of a language lane (one per lane folder, kept on this object)."""
         caches = self.__dict__.setdefault("_lane_caches", {})
@@ -332,7 +367,9 @@ class ReadingMixin(WorkspaceBase):
 
         The texts are prepared exactly as the version's training data was and their shares
         inferred with its model (LDA: deterministic for a given input order; NMF: the
-        topics held fixed). Thread-safe; a service may call it from several threads.
+        topics held fixed). Thread-safe; a service may call it from several threads. Each
+        call goes to its language's version: a call in a language with a lane and a
+        published version is assigned with that lane's (docs/languages.md).
 
         Parameters
         ----------
@@ -356,7 +393,9 @@ class ReadingMixin(WorkspaceBase):
             (empty when no word of the transcript is in the version's vocabulary),
             ``lead_theme_label``, ``lead_share``, ``lead_theme_suggested_name``, one
             ``share_<theme id>`` per theme, ``known_terms`` and ``reason`` (why there is
-            no lead theme).
+            no lead theme). When calls of several languages were routed: a ``language``
+            column after ``transcript_id``, and ``share_<code>_<theme id>`` for a lane's
+            themes.
 
         Raises
         ------
@@ -368,34 +407,9 @@ class ReadingMixin(WorkspaceBase):
         n = version if version is not None else self.current_version()
         if n is None:
             raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-        rejects: list = []
-        warnings: list = []
-        calls = []
-        for item in read_inputs(data, self.settings().ingest):
-            kind = type(item).__name__
-            (calls if kind == "Transcript" else rejects if kind == "Reject" else warnings).append(
-                item
-            )
-
-        def assign_with(lane: WorkspaceDir, group: list) -> pd.DataFrame:
-            # the main version asked for, or a lane's current one; each cached per folder
-            cache = self._versions if lane is self._dir else self._lane_cache(lane)
-            if lane is self._dir:
-                number = int(n)
-            else:
-                with lane.store() as store:
-                    current = store.current_version()
-                if current is None:
-                    raise NotReadyError(f"{lane.root}: no version published")
-                number = current.n
-            assigner = cache.assigner(lane, number)
-            with assigner.lock:
-                frame, _, _ = assign_mod.assign_items(
-                    group, assigner.version, assigner.applier, assigner.model, progress=progress
-                )
-            return frame
-
-        frame = route_mod.route_frames(self._dir, calls, assign_with)
+        frame, rejects, warnings = self._assign_routed(
+            read_inputs(data, self.settings().ingest), int(n), progress=progress
+        )
         for w in warnings:
             log.warning("%s: %s", w.source, w.message)
         if rejects and strict:

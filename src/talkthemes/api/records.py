@@ -122,12 +122,9 @@ class RecordsMixin(WorkspaceBase):
         n = version if version is not None else _choices.current_number(self._dir)
         if n is None:
             raise NotReadyError("no version published yet: run 'talkthemes publish' first")
-        assigner = self._versions.assigner(self._dir, int(n))
         items = read_records(records, self.settings().ingest, require_id=False)
-        with assigner.lock:
-            frame, rejects, warnings = assign_mod.assign_items(
-                items, assigner.version, assigner.applier, assigner.model
-            )
+        # each call by its language's version (docs/languages.md)
+        frame, rejects, warnings = self._assign_routed(items, int(n))  # type: ignore[attr-defined]
         for w in warnings:
             log.warning("%s: %s", w.source, w.message)
         return Assignment(int(n), frame, rejects, warnings)

@@ -260,6 +260,15 @@ class AssignResultOut(_Out):
     shares: list[ShareOut] | None
     known_terms: int
     reason: str
+    language: str | None = Field(
+        None,
+        description="The call's language when calls of several languages were sent: a call "
+        "in a language with themes of its own is assigned with that language's current "
+        "version, whose theme ids and names these are (docs/languages.md).",
+    )
+    language_version: int | None = Field(
+        None, description="The version of that language that answered (with language)."
+    )
 
 
 class AssignOut(_Out):

@@ -76,13 +76,40 @@ def _store(state: ServiceState, records: list[dict[str, Any]]) -> dict[str, Any]
 
 
 def _results(state: ServiceState, n: int, frame: Any) -> list[dict[str, Any]]:
-    """The rows of the API's assignment table as the answer's results."""
-    v = state.ws.version(n)
+    """The rows of the API's assignment table as the answer's results; with calls of
+    several languages, each row under its language's version (docs/languages.md)."""
+    if "language" not in frame.columns:
+        return _rows(state.ws.version(n), state, frame, "share_")
+    results: list[tuple[int, dict[str, Any]]] = []
+    main = state.ws.main_language()
+    for code, group in frame.groupby("language", sort=False):
+        lane = state.ws if code in (main, "und") else state.ws.language(str(code))
+        own = lane is state.ws
+        if not own and lane.current_version() is None:  # no themes in that language
+            v, prefix = state.ws.version(n), None
+        else:
+            v = lane.version(n if own else None)
+            prefix = "share_" if own else f"share_{code}_"
+        rows = _rows(v, state, group, prefix)
+        for i, row in zip(group.index, rows, strict=True):
+            row["language"] = str(code)
+            row["language_version"] = v.n if prefix is not None else None
+            results.append((int(i), row))
+    return [row for _, row in sorted(results, key=lambda r: r[0])]
+
+
+def _rows(v: Any, state: ServiceState, frame: Any, prefix: str | None) -> list[dict[str, Any]]:
+    """Results of rows under version ``v``; its share columns are ``<prefix><theme id>``
+    (None: the rows have no shares, a language without themes)."""
     names = [t.label.strip() or s for t, s in zip(v.themes, state.suggested_names(v), strict=True)]
     ids = frame["transcript_id"].astype(str).tolist()
     leads = frame["lead_theme_id"].to_numpy(dtype=float, na_value=math.nan)
     lead_shares = frame["lead_share"].to_numpy(dtype=float, na_value=math.nan)
-    shares = frame[[f"share_{t}" for t in v.theme_ids]].to_numpy(dtype=float, na_value=math.nan)
+    shares = (  # rows of a language without themes are all unthemed: no shares to read
+        None
+        if prefix is None
+        else frame[[f"{prefix}{t}" for t in v.theme_ids]].to_numpy(dtype=float, na_value=math.nan)
+    )
     known_terms = frame["known_terms"].to_numpy(dtype=int)
     reasons = frame["reason"].fillna("").astype(str).tolist()
     group = frame["lead_theme_label"].fillna("").astype(str).tolist()
@@ -101,7 +128,7 @@ def _results(state: ServiceState, n: int, frame: Any) -> list[dict[str, Any]]:
                     {"theme_id": t, "share": float(x)}
                     for t, x in zip(v.theme_ids, shares[i], strict=True)
                 ]
-                if known
+                if known and shares is not None
                 else None,
                 "known_terms": int(known_terms[i]),
                 "reason": reasons[i],
