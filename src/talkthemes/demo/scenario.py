@@ -152,9 +152,7 @@ def _reason_cum(month: int, storm: bool, october: bool, language: str = "en") ->
     return list(itertools.accumulate(weights))
 
 
-def choose_reasons(
-    rng: Random, day: dt.date, storm: bool, language: str = "en"
-) -> tuple[str, ...]:
+def choose_reasons(rng: Random, day: dt.date, storm: bool, language: str = "en") -> tuple[str, ...]:
     """Draw a call's lead reason for its day and, for about a quarter of calls, a second one."""
     cum = _reason_cum(day.month, storm, month_key(day) == PRICE_CHANGE_MONTH, language)
     keys = reason_keys(language)

@@ -38,7 +38,8 @@ _MONTHS = ("January", "February", "March", "April", "May", "June", "July", "Augu
            "September", "October", "November", "December")  # fmt: skip
 #: Slots whose value is drawn once per call and then repeated (the caller's account, ...).
 MEMO = frozenset({"acct", "phone", "email", "card", "house", "street", "place", "bank_acct",
-                  "branch", "daypart", "percent", "agent", "customer", "company"})  # fmt: skip
+                  "branch", "daypart", "percent", "agent", "customer", "company",
+                  "holder"})  # fmt: skip
 
 
 def ordinal(n: int) -> str:
