@@ -184,8 +184,11 @@ def generated_slots(language: str = "en") -> dict[str, Callable[[Builder], str]]
 
 
 def _lower_first(text: str) -> str:
-    if text[:1] in ("¿", "¡"):  # Spanish opening marks: the word after them decides
-        return text[:1] + _lower_first(text[1:])
+    if text[:1] in ("¿", "¡"):  # a Spanish opening mark: lower the letter after it
+        first = text[1:].split(" ", 1)[0].rstrip("-,.?!")
+        if len(first) > 1 and first.isupper():  # an acronym keeps its case
+            return text
+        return text[:1] + text[1:2].lower() + text[2:]
     first = text.split(" ", 1)[0]
     if first in ("I", "I'm", "I've", "I'll", "I'd") or first[:2].isupper():
         return text
