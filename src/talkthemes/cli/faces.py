@@ -25,7 +25,6 @@ from talkthemes.cli._common import (
     say,
 )
 from talkthemes.cli._shared import ThemesTable, print_sweep
-from talkthemes.demo.scenario import LANGUAGES as DEMO_LANGUAGES  # standard library only
 
 __all__ = ["demo", "report", "view"]
 
@@ -88,6 +87,9 @@ def report(
 
 
 def _demo_languages(value: str) -> str:
+    # deferred: see the module docstring
+    from talkthemes.demo.writer import LANGUAGES as DEMO_LANGUAGES
+
     codes = [code.strip().lower() for code in value.split(",") if code.strip()]
     unknown = [code for code in codes if code not in DEMO_LANGUAGES]
     if unknown or not codes:

@@ -18,6 +18,7 @@ from talkthemes.demo.render import render_txt, render_vtt
 from talkthemes.demo.scenario import (
     FIRST_DAY,
     FORMATS,
+    LANGUAGES,
     LAST_DAY,
     PRICE_CHANGE_MONTH,
     STORM_WEEK,
@@ -26,7 +27,7 @@ from talkthemes.demo.scenario import (
 from talkthemes.errors import InputError
 from talkthemes.workspace import atomic_dir, atomic_write_text
 
-__all__ = ["CSV_CALLS_PER_FILE", "write_demo"]
+__all__ = ["CSV_CALLS_PER_FILE", "LANGUAGES", "write_demo"]
 
 logger = logging.getLogger(__name__)
 _MANIFEST_COLUMNS = ("call_id", "date", "queue", "site", "duration_s", "channel")
