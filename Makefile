@@ -4,6 +4,7 @@ VENV   ?= .venv
 BIN    := $(VENV)/bin
 DEMO_WS ?= demo-work
 DEMO_SIZE ?= 3000
+DEMO_LANGUAGES ?= en
 PORT ?= 8501
 
 .PHONY: install demo test lint bench clean
@@ -19,7 +20,7 @@ $(VENV)/.installed: pyproject.toml | $(BIN)/python
 install: $(VENV)/.installed
 
 demo: install
-	$(BIN)/talkthemes demo --size $(DEMO_SIZE) --workspace $(DEMO_WS) --port $(PORT)
+	$(BIN)/talkthemes demo --size $(DEMO_SIZE) --languages $(DEMO_LANGUAGES) --workspace $(DEMO_WS) --port $(PORT)
 
 test: install
 	$(BIN)/python -m pytest -q

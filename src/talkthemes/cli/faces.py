@@ -107,6 +107,18 @@ def report(
         emit_json(doc)
 
 
+def _demo_languages(value: str) -> str:
+    # deferred: see the module docstring
+    from talkthemes.demo.writer import LANGUAGES as DEMO_LANGUAGES
+
+    codes = [code.strip().lower() for code in value.split(",") if code.strip()]
+    unknown = [code for code in codes if code not in DEMO_LANGUAGES]
+    if unknown or not codes:
+        what = f"unknown language {unknown[0]!r}" if unknown else "no language given"
+        raise typer.BadParameter(f"{what}; supported: {', '.join(DEMO_LANGUAGES)}")
+    return ",".join(dict.fromkeys(codes))
+
+
 def demo(
     size: Annotated[int, typer.Option("--size", min=20, help="Number of invented calls.")] = 3000,
     seed: Annotated[int, typer.Option("--seed", help="Random seed of the generator.")] = 7,
@@ -122,6 +134,17 @@ def demo(
             help="Hold back the last month, then refresh with it (shows a new theme).",
         ),
     ] = True,
+    languages: Annotated[
+        str,
+        typer.Option(
+            "--languages",
+            callback=_demo_languages,
+            help=(
+                "Lines of the invented utility to call, comma-separated: en, es "
+                "(en,es: three English calls to one Spanish)."
+            ),
+        ),
+    ] = "en",
     host: Annotated[str, typer.Option("--host", help="Viewer address.")] = "127.0.0.1",
     port: Annotated[int, typer.Option("--port", help="Viewer port.")] = 8501,
     workspace: WorkspaceOpt = None,
@@ -142,7 +165,14 @@ def demo(
         return
     with ws.hold("demo"):
         doc, themes = _run_demo(
-            ws, size=size, seed=seed, k=k, seeds=seeds, refresh=refresh, quiet=as_json
+            ws,
+            size=size,
+            seed=seed,
+            k=k,
+            seeds=seeds,
+            refresh=refresh,
+            quiet=as_json,
+            languages=tuple(languages.split(",")),
         )
     if as_json:
         emit_json(doc)
@@ -177,7 +207,15 @@ def demo(
 
 
 def _run_demo(
-    ws: Workspace, *, size: int, seed: int, k: str, seeds: int, refresh: bool, quiet: bool
+    ws: Workspace,
+    *,
+    size: int,
+    seed: int,
+    k: str,
+    seeds: int,
+    refresh: bool,
+    quiet: bool,
+    languages: tuple[str, ...] = ("en",),
 ) -> tuple[dict[str, Any], list[dict[str, Any]]]:
     """Write the invented corpus into the workspace and run every stage on it (the caller
     holds the workspace, so each stage uses that lock).
@@ -188,8 +226,11 @@ def _run_demo(
     from talkthemes.demo.writer import write_demo
 
     source = ws.root / "demo-source"
-    say(f"Writing {size:,} invented calls to {source} …")
-    files = write_demo(source, size=size, seed=seed, hold_back_last_month=refresh)
+    lines = f" ({', '.join(languages)})" if languages != ("en",) else ""
+    say(f"Writing {size:,} invented calls{lines} to {source} …")
+    files = write_demo(
+        source, size=size, seed=seed, hold_back_last_month=refresh, languages=languages
+    )
     doc: dict[str, Any] = {"workspace": str(ws.root)}
     with progress_bar("ingest", enabled=not quiet) as update:
         report = ws.ingest([files.exports], manifests=[files.manifest], progress=update)

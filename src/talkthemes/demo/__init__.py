@@ -25,7 +25,9 @@ The package is split by responsibility:
   (``bench/alerts.py``).
 
 One ``random.Random(seed)`` stream composes the demo calls, so a (size, seed) pair always
-gives the same corpus.
+gives the same corpus. ``languages=("en", "es")`` adds the utility's Spanish line (its own
+phrase banks, ``talkthemes/data/demo_scenario_es.json``, and its own stream): a quarter of
+the calls, with ids starting ``ES-``; the English calls stay exactly as they were.
 """
 
 from __future__ import annotations

@@ -14,7 +14,7 @@ from random import Random
 from typing import Any
 
 from talkthemes.demo.scenario import load_scenario, pick
-from talkthemes.demo.slots import GENERATED, MEMO, disfluent
+from talkthemes.demo.slots import MEMO, disfluent, generated_slots
 
 __all__ = ["Builder", "Deck", "regular", "scripted", "short"]
 
@@ -34,12 +34,32 @@ class Deck:
         return self.items.pop(int(self.rng.random() * len(self.items)))
 
 
-class Builder:
-    """Composes one call: fills templates, adds turns, keeps the clock and word count."""
+def _upper_first(text: str) -> str:
+    """Capitalise the first letter (after a Spanish opening mark, if any)."""
+    if text[:1] in ("¿", "¡"):
+        return text[:2].upper() + text[2:]
+    return text[:1].upper() + text[1:]
 
-    def __init__(self, rng: Random, date: dt.date, labels: dict[str, str], memo: dict[str, str]):
+
+class Builder:
+    """Composes one call: fills templates, adds turns, keeps the clock and word count.
+
+    ``language`` picks the line of the demo whose phrase banks and generated slots the
+    call speaks (``en`` or ``es``).
+    """
+
+    def __init__(
+        self,
+        rng: Random,
+        date: dt.date,
+        labels: dict[str, str],
+        memo: dict[str, str],
+        language: str = "en",
+    ):
         self.rng, self.date, self.labels, self.memo = rng, date, labels, memo
-        self.sc = load_scenario()
+        self.language = language
+        self.sc = load_scenario(language)
+        self.generated = generated_slots(language)
         self.fillers = self.sc["fillers"]
         self.local: dict[str, list[str]] = {}
         self.turns: list[list[Any]] = []
@@ -65,7 +85,7 @@ class Builder:
         """Value of one slot: remembered, generated, or drawn from the banks."""
         if name in self.memo:
             return self.memo[name]
-        gen = GENERATED.get(name)
+        gen = self.generated.get(name)
         if gen is not None:
             value = gen(self)
         else:
@@ -93,7 +113,7 @@ class Builder:
         """Say a filled template as the caller, usually with disfluency."""
         text = self.fill(template)
         if not template.startswith("{"):  # a slot value keeps its own case (e-mails)
-            text = text[:1].upper() + text[1:]
+            text = _upper_first(text)
         if self.rng.random() < 0.85:
             text = disfluent(text, self.rng, self.fillers)
         self.say("customer", text)
@@ -208,7 +228,7 @@ def regular(b: Builder, reasons: tuple[str, ...], storm: bool) -> None:
         second = b.use_reason(reasons[1], storm)
         bridge, ask = b.script("second_bridge"), b.fill(pick(rng, second["second"]))
         if bridge.endswith((". ", "? ")):
-            ask = ask[:1].upper() + ask[1:]
+            ask = _upper_first(ask)
         b.customer(bridge + ask)
         b.agent(b.script("section_start"), script=True)
         _section(b, reasons[1], remaining * (1 - share), storm)
@@ -246,7 +266,7 @@ def short(b: Builder, reason: str) -> str:
     cut = " ".join(words[: rng.randint(4, max(4, min(9, len(words) - 1)))]).rstrip(",.")
     b.customer(f"{b.script('customer_hello')} {cut}-")
     if rng.random() < 0.6:
-        b.say("agent", "Hello? Are you still there? I think we've lost the line.", pause=2.0)
+        b.say("agent", b.sc["dropped"]["agent"], pause=2.0)
         if rng.random() < 0.4:
-            b.say("customer", "Hello?", pause=1.0)
+            b.say("customer", b.sc["dropped"]["customer"], pause=1.0)
     return detail

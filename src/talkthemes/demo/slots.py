@@ -3,6 +3,10 @@
 Generated slot values (account numbers, amounts, dates, e-mail addresses, phone numbers,
 Luhn-valid card-like numbers) are drawn from the call's single random stream; the
 disfluency pass adds fillers, repetitions and false starts the way people speak.
+
+:func:`generated_slots` gives one line's generators: the English ones below, or for another
+language the same with the words taken from that scenario's ``words`` block (month names,
+spoken digits, money, e-mail addresses read aloud, the time of day).
 """
 
 from __future__ import annotations
@@ -28,13 +32,14 @@ class Builder(Protocol):
         ...
 
 
-__all__ = ["GENERATED", "MEMO", "disfluent", "luhn_check_digit", "ordinal"]
+__all__ = ["GENERATED", "MEMO", "disfluent", "generated_slots", "luhn_check_digit", "ordinal"]
 
 _MONTHS = ("January", "February", "March", "April", "May", "June", "July", "August",
            "September", "October", "November", "December")  # fmt: skip
 #: Slots whose value is drawn once per call and then repeated (the caller's account, ...).
 MEMO = frozenset({"acct", "phone", "email", "card", "house", "street", "place", "bank_acct",
-                  "branch", "daypart", "percent", "agent", "customer", "company"})  # fmt: skip
+                  "branch", "daypart", "percent", "agent", "customer", "company",
+                  "holder"})  # fmt: skip
 
 
 def ordinal(n: int) -> str:
@@ -116,10 +121,74 @@ GENERATED: dict[str, Callable[[Builder], str]] = {
 }  # fmt: skip
 
 
+# -- other languages: the words come from the scenario's ``words`` block -------------------
+
+
+def _words(b: Builder) -> dict[str, Any]:
+    words: dict[str, Any] = b.sc["words"]
+    return words
+
+
+def _money_words(b: Builder, lo: float, hi: float) -> str:
+    rng = b.rng
+    value, r = lo + rng.random() * (hi - lo), rng.random()
+    exact, whole, rounded = _words(b)["money"]
+    template = exact if r < 0.6 else whole if r < 0.85 else rounded
+    return template.format(exact=f"{value:,.2f}", whole=round(value),
+                           round=f"{round(value, -1):.0f}")  # fmt: skip
+
+
+def _email_words(b: Builder) -> str:
+    rng, words = b.rng, _words(b)
+    name = unicodedata.normalize("NFKD", b.slot("customer")).encode("ascii", "ignore").decode()
+    name, n = name.lower(), rng.randrange(1, 99)
+    word = pick(rng, words["email_words"])
+    local = pick(rng, (f"{name}.{n}", f"{name}{n}", f"{name}_{word}", f"{name[0]}.{word}{n}"))
+    domain = "example.com" if rng.random() < 0.6 else "example.org"
+    if rng.random() < 0.1:  # said aloud rather than normalised by the transcriber
+        dot, at = words["email_spoken"]
+        return f"{local.replace('.', dot)}{at}{domain.replace('.', dot)}"
+    return f"{local}@{domain}"
+
+
+def _phone_words(b: Builder) -> str:
+    rng = b.rng
+    tail, r = f"{rng.randrange(100):02d}", rng.random()
+    if r < 0.08:
+        digits = _words(b)["digits"]
+        return ", ".join(" ".join(digits[int(c)] for c in part) for part in ("555", "01" + tail))
+    return f"555-01{tail}" if r < 0.7 else f"555 01{tail}"
+
+
+_GENERATED_WORDS: dict[str, Callable[[Builder], str]] = {
+    **GENERATED,
+    "phone": _phone_words,
+    "email": _email_words,
+    "amount": lambda b: _money_words(b, 60, 420),
+    "amount_small": lambda b: _money_words(b, 12, 95),
+    "amount_big": lambda b: _money_words(b, 380, 1450),
+    "date_day": lambda b: str(b.rng.randint(1, 28)),
+    "month_prev": lambda b: _words(b)["months"][(b.date.month - 2) % 12],
+    "month_next": lambda b: _words(b)["months"][b.date.month % 12],
+    "daypart": lambda b: _words(b)["daypart"][0 if b.rng.random() < 0.55 else 1],
+}
+
+
+def generated_slots(language: str = "en") -> dict[str, Callable[[Builder], str]]:
+    """The generated slots of one line of the demo: :data:`GENERATED` for ``en``; for
+    another language the same generators, speaking the words of its scenario file."""
+    return GENERATED if language == "en" else _GENERATED_WORDS
+
+
 # -- disfluency ----------------------------------------------------------------------
 
 
 def _lower_first(text: str) -> str:
+    if text[:1] in ("¿", "¡"):  # a Spanish opening mark: lower the letter after it
+        first = text[1:].split(" ", 1)[0].rstrip("-,.?!")
+        if len(first) > 1 and first.isupper():  # an acronym keeps its case
+            return text
+        return text[:1] + text[1:2].lower() + text[2:]
     first = text.split(" ", 1)[0]
     if first in ("I", "I'm", "I've", "I'll", "I'd") or first[:2].isupper():
         return text

@@ -12,12 +12,13 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
-from talkthemes.demo.calls import iter_demo_calls
+from talkthemes.demo.calls import iter_demo_calls, language_sizes
 from talkthemes.demo.records import DemoCall, DemoFiles
 from talkthemes.demo.render import render_txt, render_vtt
 from talkthemes.demo.scenario import (
     FIRST_DAY,
     FORMATS,
+    LANGUAGES,
     LAST_DAY,
     PRICE_CHANGE_MONTH,
     STORM_WEEK,
@@ -26,7 +27,7 @@ from talkthemes.demo.scenario import (
 from talkthemes.errors import InputError
 from talkthemes.workspace import atomic_dir, atomic_write_text
 
-__all__ = ["CSV_CALLS_PER_FILE", "write_demo"]
+__all__ = ["CSV_CALLS_PER_FILE", "LANGUAGES", "write_demo"]
 
 logger = logging.getLogger(__name__)
 _MANIFEST_COLUMNS = ("call_id", "date", "queue", "site", "duration_s", "channel")
@@ -103,7 +104,12 @@ def _check_out_dir(out_dir: Path) -> None:
 
 
 def write_demo(
-    out_dir: Path, *, size: int = 3000, seed: int = 7, hold_back_last_month: bool = False
+    out_dir: Path,
+    *,
+    size: int = 3000,
+    seed: int = 7,
+    hold_back_last_month: bool = False,
+    languages: Sequence[str] = ("en",),
 ) -> DemoFiles:
     """Write the demo corpus: mixed-format exports, a manifest and the answer key.
 
@@ -115,7 +121,13 @@ def write_demo(
         out_dir/exports/manifest.csv   call_id, date, queue, site, duration_s, channel
         out_dir/inbox/...              October's calls, same layout, when held back
         out_dir/truth.csv              answer key for tests; never ingested or shown
-        out_dir/demo.json              size, seed and counts of this run
+        out_dir/demo.json              size, seed and counts of this run (and calls per
+                                       language when not English only)
+
+    With ``languages=("en", "es")`` a quarter of the calls are the Spanish line's (see
+    :func:`~talkthemes.demo.calls.language_sizes`), in the same files, formats and manifest
+    as the English ones; their ids start with ``ES-``. The manifest has no language column,
+    on purpose: the language is for ingest to detect.
 
     Parameters
     ----------
@@ -128,6 +140,9 @@ def write_demo(
     hold_back_last_month : bool
         Put the calls of October 2026 in ``out_dir/inbox`` instead of ``exports``, for
         the refresh demo.
+    languages : sequence of str
+        Lines of the demo: ``("en",)`` (the default, byte-identical to the English-only
+        generator), ``("es",)`` or ``("en", "es")``.
 
     Returns
     -------
@@ -136,11 +151,13 @@ def write_demo(
     Raises
     ------
     InputError
-        When ``size`` is below 1 or ``out_dir`` holds something other than demo output.
+        When ``size`` is below 1, a language is not supported or ``out_dir`` holds
+        something other than demo output.
     """
     out_dir = Path(out_dir)
     if size < 1:
         raise InputError(f"demo size must be at least 1 call, got {size}")
+    sizes = language_sizes(size, languages)
     _check_out_dir(out_dir)
     truth: list[tuple[str, ...]] = []
     with contextlib.ExitStack() as stack:
@@ -148,7 +165,7 @@ def write_demo(
         inbox = None
         if hold_back_last_month:
             inbox = _Sink(stack.enter_context(atomic_dir(out_dir / "inbox")), stack)
-        for call in iter_demo_calls(size, seed):
+        for call in iter_demo_calls(size, seed, languages=languages):
             held = inbox is not None and month_key(call.date) == PRICE_CHANGE_MONTH
             (inbox if held and inbox is not None else exports).add(call)
             second = call.reasons[1] if len(call.reasons) > 1 else ""
@@ -167,6 +184,8 @@ def write_demo(
             "last_day": LAST_DAY.isoformat(), "storm_week": [d.isoformat() for d in STORM_WEEK],
             "price_change_month": PRICE_CHANGE_MONTH, "exports": exports.counts,
             "inbox": inbox.counts if inbox else {}}  # fmt: skip
+    if tuple(sizes) != ("en",):  # English-only output stays as it always was
+        info["languages"] = sizes
     atomic_write_text(out_dir / "demo.json", json.dumps(info, indent=2) + "\n")
     logger.info("wrote %d demo calls to %s", size, out_dir)
     root = out_dir / "exports"
