@@ -108,7 +108,7 @@ def load_lingua_low() -> Callable[[str], str]:
 def load_talkthemes() -> Callable[[str], str]:
     from talkthemes.calls.language import detect_language
 
-    detect_language(["warm up"])
+    detect_language(["this warms the model up"])
     return lambda text: detect_language([text]).code
 
 
