@@ -15,6 +15,7 @@ confusion with one of the seven is likely) give the *capture* rate: the share of
 Candidates:
 
 - ``py3langid``: naive Bayes over byte n-grams, 142 languages (``norm_probs`` on);
+  ``py3-639-1``: the same restricted to its languages with an ISO 639-1 code (114);
 - ``lingua``: lingua-language-detector, all 75 languages, high-accuracy mode with the models
   preloaded; ``lingua-low``: the same in its low-accuracy mode;
 - ``talkthemes``: :func:`talkthemes.calls.language.detect_language` with its defaults (the
@@ -112,24 +113,43 @@ def load_talkthemes() -> Callable[[str], str]:
     return lambda text: detect_language([text]).code
 
 
+def load_py3langid_639_1() -> Callable[[str], str]:
+    from talkthemes.calls.language import _identifier
+
+    ident = _identifier()  # restricted to the languages with an ISO 639-1 code
+
+    def detect(text: str) -> str:
+        code = ident.classify(text)[0]
+        return "nb" if code == "no" else code
+
+    return detect
+
+
 CANDIDATES: dict[str, Callable[[], Callable[[str], str]]] = {
     "py3langid": load_py3langid,
+    "py3-639-1": load_py3langid_639_1,
     "lingua": load_lingua,
     "lingua-low": load_lingua_low,
     "talkthemes": load_talkthemes,
 }
 
 
-def accuracy(detect: Callable[[str], str], data: dict[str, dict[str, list[str]]]) -> dict:
-    """Accuracy per bucket over the seven; capture rate of the others (12 words and full)."""
+def accuracy(
+    detect: Callable[[str], str], data: dict[str, dict[str, list[str]]]
+) -> tuple[dict[str, float], dict[str, float]]:
+    """Accuracy and share of ``und`` per bucket over the seven; the others' capture rate."""
     result: dict[str, float] = {}
+    undecided: dict[str, float] = {}
     for bucket, by_code in data.items():
-        hits = total = 0
+        hits = und = total = 0
         for code in SEVEN:
             for text in by_code[code]:
-                hits += detect(text) == code
+                found = detect(text)
+                hits += found == code
+                und += found == "und"
                 total += 1
         result[bucket] = hits / total
+        undecided[bucket] = und / total
     captured = total = 0
     for bucket in ("12", "full"):
         for code in OTHERS:
@@ -137,7 +157,7 @@ def accuracy(detect: Callable[[str], str], data: dict[str, dict[str, list[str]]]
                 captured += detect(text) in SEVEN
                 total += 1
     result["captured"] = captured / total
-    return result
+    return result, undecided
 
 
 def demo_calls(n: int, words: int = 300) -> list[list[str]]:
@@ -216,14 +236,20 @@ def main() -> None:
         t0 = time.perf_counter()
         detect = CANDIDATES[name]()
         load = time.perf_counter() - t0
-        acc = accuracy(detect, data)
+        acc, und = accuracy(detect, data)
         fast = speed(name, detect, calls, args.repeat)
         row = f"{name:<11} {load:>6.2f} " + " ".join(f"{acc[b]:>8.3f}" for b in buckets)
         row += f" {fast['whole call']:>8.0f} {fast['first 50 words']:>8.0f}"
         row += f" {fast['short turn']:>8.0f}"
         print(row, flush=True)
+        if any(und.values()):
+            print(f"{'  und':<18} " + " ".join(f"{und[b]:>8.3f}" for b in data), flush=True)
     print("\naccuracy: share of texts of the seven given their own code, per bucket (words);")
-    print("captured: share of the other languages' 12-word and full texts called one of the seven")
+    print("und: share of them left undecided (counted wrong above);")
+    print("captured: share of the other languages' 12-word and full texts called one of the seven;")
+    print("call/s on whole calls (talkthemes: detect_languages on the turns), 50w/s on their")
+    print("first 50 words, turn/s on single 6-word turns; load s: loading once, apart (lingua-low")
+    print("shares the models lingua loaded)")
 
 
 if __name__ == "__main__":

@@ -21,6 +21,7 @@ Lui, M., Baldwin, T. (2012). langid.py: an off-the-shelf language identification
 from __future__ import annotations
 
 import functools
+import itertools
 import unicodedata
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
@@ -48,15 +49,15 @@ SURE = 0.9
 """The two first windows decide alone when they agree with at least this probability each."""
 
 # ISO 639-1 (all two-letter codes), plus the legacy codes still emitted by some locales.
-_ISO_639_1 = frozenset(
-    """aa ab ae af ak am an ar as av ay az ba be bg bh bi bm bn bo br bs ca ce ch co cr cs cu
+_ISO_639_1_TEXT = """aa ab ae af ak am an ar as av ay az ba be bg bh bi bm bn bo br bs ca ce
+    ch co cr cs cu
     cv cy da de dv dz ee el en eo es et eu fa ff fi fj fo fr fy ga gd gl gn gu gv ha he hi ho
     hr ht hu hy hz ia id ie ig ii ik io is it iu ja jv ka kg ki kj kk kl km kn ko kr ks ku kv
     kw ky la lb lg li ln lo lt lu lv mg mh mi mk ml mn mr ms mt my na nb nd ne ng nl nn no nr
     nv ny oc oj om or os pa pi pl ps pt qu rm rn ro ru rw sa sc sd se sg si sk sl sm sn so sq
     sr ss st su sv sw ta te tg th ti tk tl tn to tr ts tt tw ty ug uk ur uz ve vi vo wa wo xh
-    yi yo za zh zu""".split()
-)
+    yi yo za zh zu"""
+_ISO_639_1 = frozenset(_ISO_639_1_TEXT.split())
 _LEGACY = {"iw": "he", "in": "id", "ji": "yi", "no": "nb"}  # "no": spaCy's Norwegian is nb
 
 # ISO 639-2 (/T and /B) and 639-3 codes, English and native names -> ISO 639-1.
@@ -191,7 +192,7 @@ def _windows(words: list[str]) -> list[list[str]]:
     if n <= WINDOWS * WINDOW_WORDS:  # short call: all of it, in consecutive runs
         count = max(1, n // WINDOW_WORDS)
         bounds = [round(i * n / count) for i in range(count + 1)]
-        return [words[a:b] for a, b in zip(bounds, bounds[1:], strict=False)]
+        return [words[a:b] for a, b in itertools.pairwise(bounds)]
     step = n / WINDOWS
     starts = [int(i * step + (step - WINDOW_WORDS) / 2) for i in range(WINDOWS)]
     return [words[s : s + WINDOW_WORDS] for s in starts]
