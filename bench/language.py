@@ -208,6 +208,10 @@ def speed(name: str, detect: Callable[[str], str], calls: list[list[str]], repea
             return len(calls)
 
         out["whole call"] = _rate(whole, repeat)
+        from talkthemes.calls.language import WINDOW_WORDS
+
+        first_two = [g.words <= 2 * WINDOW_WORDS for g in detect_languages(calls)]
+        out["first two"] = sum(first_two) / len(calls)
     else:
         out["whole call"] = _rate(run(joined), repeat)
     return out
@@ -242,6 +246,8 @@ def main() -> None:
         row += f" {fast['whole call']:>8.0f} {fast['first 50 words']:>8.0f}"
         row += f" {fast['short turn']:>8.0f}"
         print(row, flush=True)
+        if "first two" in fast:
+            print(f"  demo calls decided on their first two windows: {fast['first two']:.1%}")
         if any(und.values()):
             print(f"{'  und':<18} " + " ".join(f"{und[b]:>8.3f}" for b in data), flush=True)
     print("\naccuracy: share of texts of the seven given their own code, per bucket (words);")
@@ -249,7 +255,7 @@ def main() -> None:
     print("captured: share of the other languages' 12-word and full texts called one of the seven;")
     print("call/s on whole calls (talkthemes: detect_languages on the turns), 50w/s on their")
     print("first 50 words, turn/s on single 6-word turns; load s: loading once, apart (lingua-low")
-    print("shares the models lingua loaded)")
+    print("shares the models lingua loaded, talkthemes the model py3-639-1 loaded)")
 
 
 if __name__ == "__main__":
