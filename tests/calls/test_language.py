@@ -149,3 +149,8 @@ def test_detect_languages_keeps_the_order() -> None:
 
 def test_thresholds_pass_through_the_batch_form() -> None:
     assert detect_languages([SPANISH], min_words=10_000)[0].code == UNDECIDED
+
+
+def test_a_single_string_is_refused_not_read_letter_by_letter() -> None:
+    with pytest.raises(TypeError, match="sequence of str"):
+        detect_language(SPANISH[0])

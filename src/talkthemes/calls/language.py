@@ -27,6 +27,8 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
+
 SUPPORTED_LANGUAGES: tuple[str, ...] = ("en", "es", "de", "fr", "it", "nl", "pt")
 """Languages we ship a preparation chain for."""
 
@@ -60,62 +62,34 @@ _ISO_639_1_TEXT = """aa ab ae af ak am an ar as av ay az ba be bg bh bi bm bn bo
 _ISO_639_1 = frozenset(_ISO_639_1_TEXT.split())
 _LEGACY = {"iw": "he", "in": "id", "ji": "yi", "no": "nb"}  # "no": spaCy's Norwegian is nb
 
-# ISO 639-2 (/T and /B) and 639-3 codes, English and native names -> ISO 639-1.
-_NAMES: dict[str, str] = {}
-for _code, _aliases in {
-    "en": "eng english",
-    "es": "spa spanish castilian espanol castellano",
-    "de": "deu ger german deutsch",
-    "fr": "fra fre french francais",
-    "it": "ita italian italiano",
-    "nl": "nld dut dutch flemish nederlands vlaams",
-    "pt": "por portuguese portugues",
-    "pl": "pol polish polski",
-    "cs": "ces cze czech",
-    "sk": "slk slo slovak",
-    "sl": "slv slovenian slovene",
-    "hr": "hrv croatian",
-    "sr": "srp serbian",
-    "bg": "bul bulgarian",
-    "ru": "rus russian",
-    "uk": "ukr ukrainian",
-    "ro": "ron rum romanian",
-    "hu": "hun hungarian",
-    "fi": "fin finnish",
-    "et": "est estonian",
-    "lv": "lav latvian",
-    "lt": "lit lithuanian",
-    "sv": "swe swedish",
-    "da": "dan danish",
-    "nb": "nob nor norwegian bokmal",
-    "nn": "nno nynorsk",
-    "is": "isl ice icelandic",
-    "ca": "cat catalan",
-    "gl": "glg galician",
-    "eu": "eus baq basque",
-    "ga": "gle irish",
-    "cy": "cym wel welsh",
-    "el": "ell gre greek",
-    "tr": "tur turkish",
-    "ar": "ara arabic",
-    "he": "heb hebrew",
-    "fa": "fas per persian farsi",
-    "hi": "hin hindi",
-    "ur": "urd urdu",
-    "bn": "ben bengali",
-    "zh": "zho chi chinese",
-    "ja": "jpn japanese",
-    "ko": "kor korean",
-    "vi": "vie vietnamese",
-    "th": "tha thai",
-    "id": "ind indonesian",
-    "ms": "msa may malay",
-    "tl": "tgl tagalog filipino fil",
-    "sw": "swa swahili",
-    "af": "afr afrikaans",
-}.items():
-    for _alias in _aliases.split():
-        _NAMES[_alias] = _code
+# ISO 639-2 (/T and /B) and 639-3 codes, English and native names (accents folded) -> 639-1:
+# the seven languages one a line, then common others.
+_ALIASES = """
+    en: eng english
+    es: spa spanish castilian espanol castellano
+    de: deu ger german deutsch
+    fr: fra fre french francais
+    it: ita italian italiano
+    nl: nld dut dutch flemish nederlands vlaams
+    pt: por portuguese portugues
+    pl: pol polish polski; cs: ces cze czech; sk: slk slo slovak; sl: slv slovenian slovene
+    hr: hrv croatian; sr: srp serbian; bg: bul bulgarian; ru: rus russian; uk: ukr ukrainian
+    ro: ron rum romanian; hu: hun hungarian; fi: fin finnish; et: est estonian; lv: lav latvian
+    lt: lit lithuanian; sv: swe swedish; da: dan danish; nb: nob nor norwegian bokmal
+    nn: nno nynorsk; is: isl ice icelandic; ca: cat catalan; gl: glg galician
+    eu: eus baq basque; ga: gle irish; cy: cym wel welsh; el: ell gre greek; tr: tur turkish
+    ar: ara arabic; he: heb hebrew; fa: fas per persian farsi; hi: hin hindi; ur: urd urdu
+    bn: ben bengali; zh: zho chi chinese; ja: jpn japanese; ko: kor korean; vi: vie vietnamese
+    th: tha thai; id: ind indonesian; ms: msa may malay; tl: tgl tagalog filipino fil
+    sw: swa swahili; af: afr afrikaans
+"""
+_NAMES: dict[str, str] = {
+    alias: code.strip()
+    for entry in _ALIASES.replace("\n", ";").split(";")
+    if entry.strip()
+    for code, aliases in [entry.split(":")]
+    for alias in aliases.split()
+}
 
 
 @dataclass(frozen=True)
@@ -177,7 +151,6 @@ def _identifier() -> Any:
     """py3langid's classifier, loaded once per process, among ISO 639-1 languages."""
     # Deferred: loading the model takes about half a second and 25 MB, so only callers
     # that detect pay for it.
-    import numpy as np
     from py3langid.langid import MODEL_FILE, LanguageIdentifier
 
     ident = LanguageIdentifier.from_model_file(MODEL_FILE, norm_probs=True)
@@ -207,8 +180,8 @@ def detect_language(
     """The language of one call from its turns' texts (customer and agent).
 
     The call's words are cut into windows of :data:`WINDOW_WORDS` words: all of them for
-    a short call, :data:`WINDOWS` spread evenly over a long one. The windows at a quarter
-    and three quarters of the call are classified first; when they name the same language,
+    a short call, :data:`WINDOWS` spread evenly over a long one. Two windows, one in each
+    half of the call, are classified first; when they name the same language,
     each with a probability of at least :data:`SURE`, they decide. Otherwise every window
     is classified and gives its language its probability times its number of words. The
     language given most wins; its confidence is that sum over the words of the windows
@@ -227,7 +200,14 @@ def detect_language(
     Returns
     -------
     LanguageGuess
+
+    Raises
+    ------
+    TypeError
+        When ``texts`` is a single string instead of a sequence of turns.
     """
+    if isinstance(texts, str):
+        raise TypeError("detect_language takes the call's turns (a sequence of str), not a str")
     words = [word for text in texts for word in text.split()]
     if len(words) < max(min_words, 1):
         return LanguageGuess(UNDECIDED, 0.0, len(words))
