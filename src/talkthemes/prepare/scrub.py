@@ -7,12 +7,27 @@ What is removed, by kind (the names ``prepare --explain`` counts under):
 ``url``
     ``http://…``, ``https://…``, ``www.…`` and bare domains ending in a common top-level
     domain (``example.com/help``).
+``iban``
+    International bank account numbers (ISO 13616) in any country's format, written with or
+    without spaces between groups of four, whose ISO 7064 MOD 97-10 check digits hold.
+``national_id``
+    National ids with a check character, only when the check holds (see
+    :mod:`talkthemes.text.pii_national`): the Spanish DNI/NIE and the Italian codice fiscale
+    (letters and digits, checked whatever the language), and, for the language given, the
+    ids written in digits alone: Dutch BSN, Portuguese NIF, French NIR, German tax id.
+    A string of the right shape with a wrong check is left to the rules below (an
+    order number: removed as ``number`` when it is a long run of digits).
 ``card``
     Runs of 13–19 digits (spaces or hyphens allowed between groups) that pass the Luhn check
     (ISO/IEC 7812-1), the checksum every payment card number carries.
 ``phone``
     Runs of 7–15 digits written the way phone numbers are: with a leading ``+``, brackets, or
-    separators between the groups (``(555) 010-4477``, ``+44 20 7946 0000``).
+    separators between the groups (``(555) 010-4477``, ``+44 20 7946 0000``), the trunk
+    ``(0)`` after a country code (``+49 (0)30 1234567``), the international prefix ``00``
+    instead of ``+`` (up to 17 digits: E.164 allows 15 after the prefix), French dotted
+    pairs (``06.12.34.56.78``), an area code before a slash (``0171/1234567``), and, for the
+    language given, a national number written as one run of digits (``612345678`` in
+    Spanish).
 ``number``
     Any other stand-alone run of at least :data:`LONG_NUMBER_DIGITS` digits (account, order
     and reference numbers; card-length runs that fail the Luhn check land here too).
@@ -34,13 +49,32 @@ from __future__ import annotations
 import re
 from collections.abc import Callable, MutableMapping
 
+from talkthemes.text.pii_national import (
+    ALNUM_ID,
+    IBAN_CANDIDATE,
+    codice_fiscale_valid,
+    digit_id,
+    dni_nie_valid,
+    iban_in,
+    national_phone,
+)
+
 __all__ = ["LONG_NUMBER_DIGITS", "SCRUB_KINDS", "luhn_valid", "scrub"]
 
 #: Stand-alone digit runs at least this long are removed as ``number``.
 LONG_NUMBER_DIGITS = 5
 
 #: The kinds counted by the scrub step, in report order.
-SCRUB_KINDS: tuple[str, ...] = ("email", "url", "phone", "card", "number", "tag")
+SCRUB_KINDS: tuple[str, ...] = (
+    "email",
+    "url",
+    "iban",
+    "national_id",
+    "phone",
+    "card",
+    "number",
+    "tag",
+)
 
 _TLDS = "com|org|net|edu|gov|info|biz|io|co|us|uk|de|fr|es|it|nl|eu|ca|au|ie|be|ch|at"
 _URL_TAIL = r"""(?:[^\s<>"']*[^\s<>"'.,;:!?)\]])?"""
@@ -58,7 +92,13 @@ _TAG = re.compile(r"\[[^\[\]\n]{1,40}\]|<[^<>\n]{1,40}>|\{[^{}\n]{1,40}\}|\*{2,}
 _TAG_HINTS = ("[", "<", "{", "**", "XX", "xx", "Xx")
 # Starts with a character class so the scan is fast; that a run stands alone (no letter
 # or digit glued to either end) is checked in the replacement function.
-_DIGITS = re.compile(r"[+(\d][\d)]*(?:(?:[ -]|\.(?=\d{3}))\(?\d+\)?)*")
+_DIGITS = re.compile(r"[+(\d][\d)]*(?:(?:[ -]|\.(?=\d{3}))\(?\d+(?:\)\d*)?)*")
+# Phone numbers the pattern above cuts short: French dotted pairs, an area code before a
+# slash (the slash taken only there, so dates are not joined).
+_PHONE_FORMS = re.compile(
+    r"(?<![\w/.])(?:\+\d{1,3}[ .]?(?:\(0\) ?)?)?\(?0?[1-9]\)?(?:\.\d{2}){4}(?![\d.]*\d)"
+    r"|(?<![\w/.])(?:\+\d{1,3} ?(?:\(0\) ?)?|0)\d{1,4} ?/ ?\d{3,}(?:[ -]\d{2,})*(?![/\d])"
+)
 _DIGIT_HINT = re.compile(r"\d")
 _NON_DIGIT = re.compile(r"\D")
 _WORD = re.compile(r"\w+")
@@ -140,12 +180,19 @@ def luhn_valid(digits: str) -> bool:
     return total % 10 == 0
 
 
-def _digit_kind(run: str) -> str | None:
+def _digit_kind(run: str, lang: str | None = None) -> str | None:
     digits = _NON_DIGIT.sub("", run)
     n = len(digits)
+    international = run[0] in "+(" or (digits.startswith("00") and digits[2:3] != "0")
+    if not international and digit_id(run, lang):
+        return "national_id"
     if 13 <= n <= 19 and luhn_valid(digits):
         return "card"
-    if 7 <= n <= 15 and (run[0] in "+(" or len(digits) != len(run)):
+    if 7 <= n <= 15 and (international or len(digits) != len(run)):
+        return "phone"
+    if run.startswith("00") and 9 <= n <= 17 and international:
+        return "phone"  # "00" + country code + at most 15 digits (E.164)
+    if len(digits) == len(run) and national_phone(digits, lang):
         return "phone"
     if n >= LONG_NUMBER_DIGITS:
         return "number"
@@ -153,7 +200,11 @@ def _digit_kind(run: str) -> str | None:
 
 
 def scrub(
-    text: str, counts: MutableMapping[str, int] | None = None, *, mark: str = " "
+    text: str,
+    counts: MutableMapping[str, int] | None = None,
+    *,
+    mark: str = " ",
+    lang: str | None = None,
 ) -> tuple[str, int]:
     """Remove personal data and redaction marks from one text.
 
@@ -165,6 +216,10 @@ def scrub(
         Incremented by one per removal under its kind (see :data:`SCRUB_KINDS`).
     mark : str
         What replaces each match (a space by default).
+    lang : str, optional
+        The language of the text: which national ids written in digits alone are checked,
+        and which national phone format a run of digits alone may have. None checks the
+        ids of every language and no national phone format.
 
     Returns
     -------
@@ -184,8 +239,23 @@ def scrub(
 
     def digits(m: re.Match[str]) -> str:
         run = m.group(0)
-        kind = None if _glued(m) else _digit_kind(run)
+        kind = None if _glued(m) else _digit_kind(run, lang)
         return run if kind is None else count(kind, run)
+
+    def iban(m: re.Match[str]) -> str:
+        run = m.group(0)
+        n = iban_in(run)
+        return run if n == 0 else count("iban", run[:n]) + run[n:]
+
+    def alnum_id(m: re.Match[str]) -> str:
+        run = m.group(0)
+        if dni_nie_valid(run) or codice_fiscale_valid(run):
+            return count("national_id", run)
+        return run
+
+    def phone_form(m: re.Match[str]) -> str:
+        run = m.group(0)
+        return run if _glued(m) else count("phone", run)
 
     def tag(m: re.Match[str]) -> str:
         run = m.group(0)
@@ -202,5 +272,9 @@ def scrub(
     if any(h in text for h in _TAG_HINTS):
         text = _TAG.sub(tag, text)
     if _DIGIT_HINT.search(text):
+        text = IBAN_CANDIDATE.sub(iban, text)
+        text = ALNUM_ID.sub(alnum_id, text)
+        if "/" in text or "." in text:
+            text = _PHONE_FORMS.sub(phone_form, text)
         text = _DIGITS.sub(digits, text)
     return text, removed
