@@ -159,12 +159,13 @@ def dni_nie_valid(text: str) -> bool:
     return _DNI_LETTERS[int(body) % 23] == s[-1]
 
 
+# The values of the odd positions (1st, 3rd, …): a digit counts as the letter of its rank.
+_CF_ODD_DIGITS = (1, 0, 5, 7, 9, 13, 15, 17, 19, 21)
+_CF_ODD_REST = (2, 4, 18, 20, 11, 3, 6, 8, 12, 14, 16, 10, 22, 25, 24, 23)  # K … Z
 _CF_ODD = dict(
     zip(
         "0123456789ABCDEFGHIJKLMNOPQRSTUVWXYZ",
-        [1, 0, 5, 7, 9, 13, 15, 17, 19, 21]
-        + [1, 0, 5, 7, 9, 13, 15, 17, 19, 21]
-        + [2, 4, 18, 20, 11, 3, 6, 8, 12, 14, 16, 10, 22, 25, 24, 23],
+        (*_CF_ODD_DIGITS, *_CF_ODD_DIGITS, *_CF_ODD_REST),
         strict=True,
     )
 )
