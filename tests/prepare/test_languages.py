@@ -89,7 +89,7 @@ CALLS: dict[str, dict[str, object]] = {
             ],
         ],
         "lemmas": {"fatture": "fattura", "clienti": "cliente", "contatori": "contatore",
-                   "tariffe": "tariffa", "vicini": "vicino"},
+                   "tariffe": "tariffa", "cavi": "cavo"},
     },
     "nl": {
         "greeting": "Goedemorgen, bedankt voor uw telefoontje, waarmee kan ik helpen?",
