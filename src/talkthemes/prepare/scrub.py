@@ -183,11 +183,12 @@ def luhn_valid(digits: str) -> bool:
 def _digit_kind(run: str, lang: str | None = None) -> str | None:
     digits = _NON_DIGIT.sub("", run)
     n = len(digits)
-    international = run[0] in "+(" or (digits.startswith("00") and digits[2:3] != "0")
+    dialled = run[0] == "+" or (digits.startswith("00") and digits[2:3] != "0")
+    international = dialled or run[0] == "("
     if not international and digit_id(run, lang):
         return "national_id"
-    if 13 <= n <= 19 and luhn_valid(digits):
-        return "card"
+    if 13 <= n <= 19 and not dialled and luhn_valid(digits):
+        return "card"  # no card number is written with "+" or starts with 00
     if 7 <= n <= 15 and (international or len(digits) != len(run)):
         return "phone"
     if run.startswith("00") and 9 <= n <= 17 and international:
