@@ -462,13 +462,13 @@ def iter_calls(
     rng = random.Random(seed)
     nouns = spec["nouns"]
     for i in range(n):
-        topic = rng.sample(nouns, 4)
+        topic = rng.sample(nouns, 3)
 
         def fill(template: str, topic: list[str] = topic) -> str:
             return template.format(
                 name=rng.choice(NAMES),
                 noun=rng.choice(topic),
-                noun2=rng.choice(nouns),
+                noun2=rng.choice(topic),
                 num=rng.randint(2, 28),
                 phone=rng.choice(spec["phone"]).format(
                     num1=rng.randint(0, 9), num2=rng.randint(10, 99), num3=rng.randint(100, 999)
@@ -477,15 +477,20 @@ def iter_calls(
                 id=_id(rng, lang),
             )
 
+        said: set[str] = set()
+
+        def customer(said: set[str] = said) -> str:
+            # each kind of personal data at most once a call, as in the demo calls
+            while True:
+                template = rng.choice(spec["customer"])
+                slots = {s for s in ("{phone}", "{iban}", "{id}") if s in template}
+                if not slots & said:
+                    said.update(slots)
+                    return fill(template)
+
         turns = [("agent", "Agent", fill(rng.choice(spec["open"])))]
         for _ in range(rng.randint(12, 16)):
-            turns.append(
-                (
-                    "customer",
-                    "Customer",
-                    fill(rng.choice(spec["customer"])) + " " + fill(rng.choice(spec["customer"])),
-                )
-            )
+            turns.append(("customer", "Customer", customer() + " " + customer()))
             turns.append(
                 (
                     "agent",

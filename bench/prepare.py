@@ -10,7 +10,8 @@ Steps:
 1. Generate N demo calls (:func:`talkthemes.demo.iter_demo_calls`) and store them in a
    temporary workspace (setup; timed but not part of prepare). With ``--language xx`` the
    calls are invented ones in that language (``bench/calls_by_language.py``, bench only)
-   and the workspace's ``[prepare] lang`` is ``xx``.
+   and the workspace's ``[prepare] lang`` is ``xx`` (with ``vocab_max_doc_share = 1``: the
+   templates' words are in most calls; the same for every language, English included).
 2. In a fresh child process, run :func:`talkthemes.prepare.run_prepare` (``--repeat``
    times; the figures are medians) and time each stage from its progress callback; peak
    memory is the child's (and its workers') ``ru_maxrss``.
@@ -69,7 +70,12 @@ def setup(
     ws = Workspace(root)
     reuse = ws.exists()
     ws.init()
-    settings = Settings(prepare=PrepareSettings(n_process=n_process, lang=language or "en"))
+    prepare = PrepareSettings(n_process=n_process)
+    if language is not None:
+        # the invented calls have a small vocabulary from a few dozen templates: every
+        # template word is in most calls, so no share cut (the same for every language)
+        prepare = PrepareSettings(n_process=n_process, lang=language, vocab_max_doc_share=1.0)
+    settings = Settings(prepare=prepare)
     atomic_write_text(ws.settings_path, render_settings(settings))
     if reuse:  # a kept workspace: measure its text instead of generating it again
         with ws.store() as store:

@@ -99,6 +99,16 @@ _PHONE_FORMS = re.compile(
     r"(?<![\w/.])(?:\+\d{1,3}[ .]?(?:\(0\) ?)?)?\(?0?[1-9]\)?(?:\.\d{2}){4}(?![\d.]*\d)"
     r"|(?<![\w/.])(?:\+\d{1,3} ?(?:\(0\) ?)?|0)\d{1,4} ?/ ?\d{3,}(?:[ -]\d{2,})*(?![/\d])"
 )
+# Phone numbers of _PHONE_FORMS are looked for only near digits joined by a slash or by
+# dotted pairs.
+_PHONE_HINT = re.compile(r"\d(?:\.\d\d\.|\s?/\s?\d)")
+# Where an IBAN or an id holding letters can be: a digit right after a letter ("ES91",
+# "RSSMRA85"), or 7-8 digits and a letter ("12345678Z"). Starts with a digit, so the scan
+# skips quickly to the digits.
+_ID_ANCHOR = re.compile(r"\d(?:(?<=[A-Za-z]\d)|\d{6,7}[- ]?[A-Za-z](?![A-Za-z]))")
+#: IBANs and ids with letters are looked for only in this much text from each
+#: :data:`_ID_ANCHOR` on (an IBAN in groups of four: 42 characters).
+_ID_WIDTH = 44
 _DIGIT_HINT = re.compile(r"\d")
 _NON_DIGIT = re.compile(r"\D")
 _WORD = re.compile(r"\w+")
@@ -139,6 +149,38 @@ def _sub_chunks(
         right = m.start() if m else len(text)
         out.append(text[last:left])
         out.append(pattern.sub(repl, text[left:right]))
+        last = right
+    out.append(text[last:])
+    return "".join(out)
+
+
+def _sub_near(
+    text: str,
+    anchor: re.Pattern[str],
+    subs: list[tuple[re.Pattern[str], Callable[[re.Match[str]], str]]],
+    *,
+    before: int,
+    after: int,
+) -> str:
+    """Apply each ``pattern.sub`` only near the matches of ``anchor``: from the start of
+    the white-space-delimited word ``before`` characters before each, to the end of the
+    word ``after`` characters after its start. Patterns that cannot skip quickly to a
+    digit would otherwise be tried at every position of the text."""
+    out: list[str] = []
+    last = 0
+    for m in anchor.finditer(text):
+        if m.start() < last:
+            continue
+        left = max(last, m.start() - before)
+        while left > last and not text[left - 1].isspace():
+            left -= 1
+        space = _SPACE.search(text, min(len(text), max(m.end(), m.start() + after)))
+        right = space.start() if space else len(text)
+        region = text[left:right]
+        for pattern, repl in subs:
+            region = pattern.sub(repl, region)
+        out.append(text[last:left])
+        out.append(region)
         last = right
     out.append(text[last:])
     return "".join(out)
@@ -273,9 +315,8 @@ def scrub(
     if any(h in text for h in _TAG_HINTS):
         text = _TAG.sub(tag, text)
     if _DIGIT_HINT.search(text):
-        text = IBAN_CANDIDATE.sub(iban, text)
-        text = ALNUM_ID.sub(alnum_id, text)
-        if "/" in text or "." in text:
-            text = _PHONE_FORMS.sub(phone_form, text)
+        ids = [(IBAN_CANDIDATE, iban), (ALNUM_ID, alnum_id)]
+        text = _sub_near(text, _ID_ANCHOR, ids, before=0, after=_ID_WIDTH)
+        text = _sub_near(text, _PHONE_HINT, [(_PHONE_FORMS, phone_form)], before=16, after=24)
         text = _DIGITS.sub(digits, text)
     return text, removed

@@ -262,8 +262,13 @@ def digit_id(run: str, lang: str | None) -> bool:
     """Whether a run of digits (with the separators it was written with) is a valid
     national id of ``lang``'s country, written the way that id is written (every country's
     when ``lang`` is None)."""
-    groups = tuple(len(g) for g in _GROUP.findall(run))
-    digits = "".join(_GROUP.findall(run))
+    if lang is not None and lang not in DIGIT_IDS:
+        return False
+    found = _GROUP.findall(run)
+    groups = tuple(len(g) for g in found)
+    if sum(groups) not in (9, 11, 15):
+        return False
+    digits = "".join(found)
     langs = DIGIT_IDS if lang is None else ((lang,) if lang in DIGIT_IDS else ())
     for code in langs:
         check, shapes = DIGIT_IDS[code]
