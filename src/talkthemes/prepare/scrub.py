@@ -47,7 +47,7 @@ number words.
 from __future__ import annotations
 
 import re
-from collections.abc import Callable, MutableMapping
+from collections.abc import Callable, Iterable, MutableMapping
 
 from talkthemes.text.pii_national import (
     ALNUM_ID,
@@ -106,6 +106,10 @@ _PHONE_HINT = re.compile(r"\d(?:\.\d\d\.|\s?/\s?\d)")
 # "RSSMRA85"), or 7-8 digits and a letter ("12345678Z"). Starts with a digit, so the scan
 # skips quickly to the digits.
 _ID_ANCHOR = re.compile(r"\d(?:(?<=[A-Za-z]\d)|\d{6,7}[- ]?[A-Za-z](?![A-Za-z]))")
+# Both anchors in one scan (group "phone": a _PHONE_HINT), so a text is read once for them.
+_ANCHORS = re.compile(
+    r"\d(?:(?<=[A-Za-z]\d)|\d{6,7}[- ]?[A-Za-z](?![A-Za-z])|(?P<phone>\.\d\d\.|\s?/\s?\d))"
+)
 #: IBANs and ids with letters are looked for only in this much text from each
 #: :data:`_ID_ANCHOR` on (an IBAN in groups of four: 42 characters).
 _ID_WIDTH = 44
@@ -156,19 +160,19 @@ def _sub_chunks(
 
 def _sub_near(
     text: str,
-    anchor: re.Pattern[str],
+    anchors: Iterable[re.Match[str]],
     subs: list[tuple[re.Pattern[str], Callable[[re.Match[str]], str]]],
     *,
     before: int,
     after: int,
 ) -> str:
-    """Apply each ``pattern.sub`` only near the matches of ``anchor``: from the start of
+    """Apply each ``pattern.sub`` only near ``anchors`` (matches in ``text``): from the start of
     the white-space-delimited word ``before`` characters before each, to the end of the
     word ``after`` characters after its start. Patterns that cannot skip quickly to a
     digit would otherwise be tried at every position of the text."""
     out: list[str] = []
     last = 0
-    for m in anchor.finditer(text):
+    for m in anchors:
         if m.start() < last:
             continue
         left = max(last, m.start() - before)
@@ -227,7 +231,7 @@ def _digit_kind(run: str, lang: str | None = None) -> str | None:
     n = len(digits)
     dialled = run[0] == "+" or (digits.startswith("00") and digits[2:3] != "0")
     international = dialled or run[0] == "("
-    if not international and digit_id(run, lang):
+    if not international and n in (9, 11, 15) and digit_id(run, lang):
         return "national_id"
     if 13 <= n <= 19 and not dialled and luhn_valid(digits):
         return "card"  # no card number is written with "+" or starts with 00
@@ -315,8 +319,14 @@ def scrub(
     if any(h in text for h in _TAG_HINTS):
         text = _TAG.sub(tag, text)
     if _DIGIT_HINT.search(text):
-        ids = [(IBAN_CANDIDATE, iban), (ALNUM_ID, alnum_id)]
-        text = _sub_near(text, _ID_ANCHOR, ids, before=0, after=_ID_WIDTH)
-        text = _sub_near(text, _PHONE_HINT, [(_PHONE_FORMS, phone_form)], before=16, after=24)
+        found = list(_ANCHORS.finditer(text))
+        if found:
+            at_ids = [m for m in found if m.group("phone") is None]
+            if at_ids:
+                ids = [(IBAN_CANDIDATE, iban), (ALNUM_ID, alnum_id)]
+                text = _sub_near(text, at_ids, ids, before=0, after=_ID_WIDTH)
+            if len(at_ids) < len(found):  # the text changed: find the phone hints again
+                phones = [(_PHONE_FORMS, phone_form)]
+                text = _sub_near(text, _PHONE_HINT.finditer(text), phones, before=16, after=24)
         text = _DIGITS.sub(digits, text)
     return text, removed
