@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import logging
 from functools import cache
+from pathlib import Path
 
 from talkthemes.errors import ConfigError
 
@@ -78,6 +79,7 @@ def lookup_languages() -> tuple[str, ...]:
     return tuple(sorted(out))
 
 
+@cache
 def load_lemma_table(lang: str) -> dict[str, str]:
     """spaCy's lookup lemma table for a language, as a plain dict (word as written → lemma).
 
@@ -90,6 +92,7 @@ def load_lemma_table(lang: str) -> dict[str, str]:
     -------
     dict of str to str
         Where the table gives a list of lemmas (French), the first, as spaCy reads it.
+        Loaded once per process and shared: do not modify it.
 
     Raises
     ------
@@ -132,8 +135,13 @@ def lemma_table_words(lang: str) -> frozenset[str]:
     return frozenset({k.lower() for k in table} | {v.lower() for v in table.values()})
 
 
+@cache
 def spacy_stop_words(lang: str) -> frozenset[str]:
-    """spaCy's stop-word list for a language (``Language.Defaults.stop_words``).
+    """spaCy's stop-word list for a language (``spacy/lang/<code>/stop_words.py``, the list
+    ``Language.Defaults.stop_words`` holds).
+
+    The module is read on its own: importing the language's package would also build its
+    tokenizer exceptions, which takes seconds for French and is not needed here.
 
     Raises
     ------
@@ -141,6 +149,17 @@ def spacy_stop_words(lang: str) -> frozenset[str]:
         When spaCy does not know the language.
     """
     # spaCy is heavy to import: deferred to first use on purpose
+    import importlib.util
+
+    import spacy.lang
+
+    path = Path(spacy.lang.__file__).parent / lang / "stop_words.py"
+    if lang.isalpha() and lang.islower() and path.is_file():
+        spec = importlib.util.spec_from_file_location(f"_talkthemes_stop_words_{lang}", path)
+        if spec is not None and spec.loader is not None:
+            module = importlib.util.module_from_spec(spec)
+            spec.loader.exec_module(module)
+            return frozenset(w.lower() for w in module.STOP_WORDS)
     import spacy.util
 
     try:
