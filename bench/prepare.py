@@ -3,11 +3,15 @@
     python bench/prepare.py 20000
     python bench/prepare.py 100000 --n-process 2
     python bench/prepare.py 20000 --repeat 3 --workspace /tmp/ws   # medians of 3 runs
+    python bench/prepare.py 5000 --n-process 1 --language es    # invented Spanish calls
 
 Steps:
 
 1. Generate N demo calls (:func:`talkthemes.demo.iter_demo_calls`) and store them in a
-   temporary workspace (setup; timed but not part of prepare).
+   temporary workspace (setup; timed but not part of prepare). With ``--language xx`` the
+   calls are invented ones in that language (``bench/calls_by_language.py``, bench only)
+   and the workspace's ``[prepare] lang`` is ``xx`` (with ``vocab_max_doc_share = 1``: the
+   templates' words are in most calls; the same for every language, English included).
 2. In a fresh child process, run :func:`talkthemes.prepare.run_prepare` (``--repeat``
    times; the figures are medians) and time each stage from its progress callback; peak
    memory is the child's (and its workers') ``ru_maxrss``.
@@ -38,17 +42,40 @@ def _mb(texts: list[str]) -> float:
     return sum(len(t.encode("utf-8")) for t in texts) / 1e6
 
 
-def setup(root: Path, n: int, seed: int, n_process: int) -> dict[str, float]:
-    """Create a workspace at ``root`` holding ``n`` demo calls."""
+def _calls(n: int, seed: int, language: str | None):
+    """``(call id, [(speaker, role, text), ...])`` of the demo, or of the bench's invented
+    calls in ``language``."""
+    from talkthemes.demo.calls import iter_demo_calls
+
+    if language is None:
+        for call in iter_demo_calls(n, seed):
+            yield call.call_id, [(t.speaker, t.role, t.text) for t in call.turns]
+        return
+    sys.path.insert(0, str(Path(__file__).parent))
+    from calls_by_language import iter_calls
+
+    for call_id, turns in iter_calls(n, language, seed):
+        yield call_id, [(speaker, role, text) for role, speaker, text in turns]
+
+
+def setup(
+    root: Path, n: int, seed: int, n_process: int, language: str | None = None
+) -> dict[str, float]:
+    """Create a workspace at ``root`` holding ``n`` demo calls (or invented calls in
+    ``language``, prepared with ``[prepare] lang = language``)."""
     from talkthemes.calls.model import Transcript, Turn
     from talkthemes.config import PrepareSettings, Settings, render_settings
-    from talkthemes.demo.calls import iter_demo_calls
     from talkthemes.workspace import Workspace, atomic_write_text
 
     ws = Workspace(root)
     reuse = ws.exists()
     ws.init()
-    settings = Settings(prepare=PrepareSettings(n_process=n_process))
+    prepare = PrepareSettings(n_process=n_process)
+    if language is not None:
+        # the invented calls have a small vocabulary from a few dozen templates: every
+        # template word is in most calls, so no share cut (the same for every language)
+        prepare = PrepareSettings(n_process=n_process, lang=language, vocab_max_doc_share=1.0)
+    settings = Settings(prepare=prepare)
     atomic_write_text(ws.settings_path, render_settings(settings))
     if reuse:  # a kept workspace: measure its text instead of generating it again
         with ws.store() as store:
@@ -64,10 +91,10 @@ def setup(root: Path, n: int, seed: int, n_process: int) -> dict[str, float]:
     nbytes = 0
     batch: list[Transcript] = []
     with ws.store() as store:
-        for call in iter_demo_calls(n, seed):
-            turns = [Turn(t.speaker, t.role, t.text) for t in call.turns]
+        for call_id, call_turns in _calls(n, seed, language):
+            turns = [Turn(speaker, role, text) for speaker, role, text in call_turns]
             nbytes += sum(len(t.text.encode("utf-8")) for t in turns)
-            batch.append(Transcript(call.call_id, turns, source=call.call_id, format="txt"))
+            batch.append(Transcript(call_id, turns, source=call_id, format="txt"))
             if len(batch) == 2000:
                 store.add_transcripts(batch, None)
                 batch = []
@@ -176,13 +203,15 @@ def _rate(n: float, mb: float, seconds: float) -> str:
     return f"{n / seconds:10,.0f} transcripts/s  {mb / seconds:7.2f} MB/s  ({seconds:7.2f} s)"
 
 
-def report(made: dict, got: dict) -> None:
+def report(made: dict, got: dict, language: str | None = None) -> None:
     mb, n = made["mb"], made["stored"]
-    print(f"demo corpus: {n:,} calls, {mb:.1f} MB of text, stored in {made['seconds']:.1f} s")
+    what = "demo corpus" if language is None else f"invented calls, lang = {language}"
+    print(f"{what}: {n:,} calls, {mb:.1f} MB of text, stored in {made['seconds']:.1f} s")
     print(f"prepare: n_process = {got['n_process']} (0 = one per core), cpus = {got['cpus']}")
     runs = ", ".join(f"{t:.2f}" for t in got["totals"])
     print(f"  runs (s)       {runs}; the figures below are medians")
     print(f"  total          {_rate(n, mb, got['total_seconds'])}")
+    print(f"  calls/s        {n / got['total_seconds']:,.0f}")
     for stage, seconds in got["stages"].items():
         print(f"  {stage:<14} {_rate(n, mb, seconds)}")
     print(
@@ -219,6 +248,10 @@ def main() -> None:
     parser.add_argument(
         "--workspace", type=Path, help="keep the workspace here (reused when it exists)"
     )
+    parser.add_argument(
+        "--language",
+        help="invented calls in this language (en, es, de, fr, it, nl, pt) instead of the demo",
+    )
     parser.add_argument("--child", type=Path, help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.child:
@@ -226,7 +259,7 @@ def main() -> None:
         return
     with tempfile.TemporaryDirectory(prefix="tt-bench-") as tmp:
         root = args.workspace or Path(tmp) / "ws"
-        made = setup(root, args.n, args.seed, args.n_process)
+        made = setup(root, args.n, args.seed, args.n_process, args.language)
         out = subprocess.run(
             [
                 sys.executable,
@@ -244,7 +277,7 @@ def main() -> None:
             capture_output=True,
             text=True,
         )
-        report(made, json.loads(out.stdout.strip().splitlines()[-1]))
+        report(made, json.loads(out.stdout.strip().splitlines()[-1]), args.language)
 
 
 if __name__ == "__main__":

@@ -2,7 +2,7 @@
 
 What is masked, by kind (each replaced by a placeholder such as "[name]"):
 
-``email``, ``url``, ``phone``, ``card``, ``number``, ``tag``
+``email``, ``url``, ``iban``, ``national_id``, ``phone``, ``card``, ``number``, ``tag``
     Everything the preparation chain's scrub step removes
     (:func:`talkthemes.prepare.scrub.scrub`, reused as is: its verdict is recovered span
     by span), widened to the whole word it sits in, so "AC-48213" is masked whole and not
@@ -182,9 +182,9 @@ def _widen(text: str, start: int, end: int) -> tuple[int, int]:
     return start, end
 
 
-def _chain_spans(text: str) -> list[Span]:
+def _chain_spans(text: str, lang: str | None = None) -> list[Span]:
     """Where the chain's scrub removes something, recovered by aligning its output."""
-    scrubbed, _ = scrub(text)
+    scrubbed, _ = scrub(text, lang=lang)
     if scrubbed == text:
         return []
     ranges: list[list[int]] = []
@@ -201,7 +201,7 @@ def _chain_spans(text: str) -> list[Span]:
     spans = []
     for start, end in ranges:
         counts: dict[str, int] = {}
-        scrub(text[start:end], counts)
+        scrub(text[start:end], counts, lang=lang)
         kind = next((k for k in SCRUB_KINDS if counts.get(k)), "number")
         spans.append(Span(start, end, kind))
     return spans
@@ -237,6 +237,7 @@ class Masker:
 
     def __init__(self, names: Iterable[str] = (), *, lang: str = "en", cues: bool = True) -> None:
         self.cues = bool(cues)
+        self.lang = lang
         self.everyday = everyday_words(lang)
         self.stop = stop_words()
         self.first = first_names()
@@ -275,7 +276,7 @@ class Masker:
 
     def spans(self, text: str) -> list[Span]:
         """Every stretch of ``text`` to mask, sorted and not overlapping."""
-        spans = _chain_spans(text)
+        spans = _chain_spans(text, self.lang)
         spans += [Span(m.start(), m.end(), "address") for m in _ADDRESS.finditer(text)]
         spans += [Span(m.start(), m.end(), "address") for m in _POSTCODE.finditer(text)]
         spans += [Span(m.start(1), m.end(1), "name") for m in self._cued(text)]
@@ -307,15 +308,15 @@ class Masker:
             pos = s.end
         out.append(text[pos:])
         masked = "".join(out)
-        return _last_check(masked)
+        return _last_check(masked, self.lang)
 
 
-def _last_check(masked: str) -> str:
+def _last_check(masked: str, lang: str | None = None) -> str:
     """Mask every word with a digit or "@" if the chain's scrub still finds anything."""
     visible = PLACEHOLDER.sub(" ", masked)
     counts: dict[str, int] = {}
-    scrub(visible, counts)
-    if not any(counts.get(k) for k in ("email", "url", "phone", "card", "number")):
+    scrub(visible, counts, lang=lang)
+    if not any(counts.get(k) for k in SCRUB_KINDS if k != "tag"):
         return masked
     return _RISKY.sub(lambda m: _placeholder("number"), masked)
 

@@ -40,7 +40,7 @@ from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, load_fillers
 from talkthemes.prepare.headwords import Headwords, load_lemma_index, load_lemma_rules
 from talkthemes.prepare.lemmas import FastLemmatizer
-from talkthemes.prepare.lexicon import load_lemma_table, spacy_stop_words
+from talkthemes.prepare.lexicon import check_language, load_lemma_table, spacy_stop_words
 from talkthemes.prepare.names import NameLexicon, label_names
 from talkthemes.prepare.pipeline import SpacyLemmatizer
 from talkthemes.prepare.roles import select_turns
@@ -166,7 +166,7 @@ class TranscriptProcessor:
         text = _nfc("\n".join(kept))
         scrub_removed = 0
         if self.scrub:
-            text, scrub_removed = scrub(text, counts, mark=_SCRUB_MARK)
+            text, scrub_removed = scrub(text, counts, mark=_SCRUB_MARK, lang=lang)
         return text, len(dropped), roles_removed, scrub_removed
 
     def process(self, batch: Batch) -> BatchResult:
@@ -297,9 +297,12 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
     Raises
     ------
     ConfigError
-        When the language has no lemma table, or the configured pipeline is not installed.
+        When the language is not supported (:func:`~talkthemes.prepare.lexicon.check_language`:
+        a language outside ``CHAIN_LANGUAGES`` runs with a warning when spaCy has its stop
+        words and a lemma table), or the configured pipeline is not installed.
     """
     lang = settings.lang
+    check_language(lang, settings.pipeline)
     fillers = load_fillers(lang) if settings.fillers else frozenset()
     token_filter = TokenFilter.build(
         min_length=settings.min_token_length,

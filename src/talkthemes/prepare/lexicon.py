@@ -1,12 +1,69 @@
-"""spaCy's language resources for the chain: lookup lemma tables and stop-word lists."""
+"""spaCy's language resources for the chain: lookup lemma tables and stop-word lists, and
+which languages have a chain of their own."""
 
 from __future__ import annotations
 
+import logging
 from functools import cache
+from pathlib import Path
 
 from talkthemes.errors import ConfigError
 
-__all__ = ["lemma_table_words", "load_lemma_table", "lookup_languages", "spacy_stop_words"]
+__all__ = [
+    "CHAIN_LANGUAGES",
+    "check_language",
+    "lemma_table_words",
+    "load_lemma_table",
+    "lookup_languages",
+    "spacy_stop_words",
+]
+
+logger = logging.getLogger(__name__)
+
+#: Languages with a chain of their own: spaCy's stop words, a spacy-lookups-data lemma
+#: table, a shipped fillers list and the national ids and phone formats of the scrub step
+#: (``docs/prepare.md``, "Chains per language").
+CHAIN_LANGUAGES: tuple[str, ...] = ("de", "en", "es", "fr", "it", "nl", "pt")
+
+
+def check_language(lang: str, pipeline: str = "") -> None:
+    """Check that ``[prepare] lang`` can be prepared.
+
+    A language of :data:`CHAIN_LANGUAGES` passes. Another language passes with a warning
+    when spaCy has a stop-word list for it and either spacy-lookups-data a lookup lemma
+    table or ``[prepare] pipeline`` is set: it is prepared with those alone (no fillers
+    list, no national ids).
+
+    Raises
+    ------
+    ConfigError
+        Otherwise, naming the supported languages.
+    """
+    if lang in CHAIN_LANGUAGES:
+        return
+    supported = ", ".join(CHAIN_LANGUAGES)
+    try:
+        spacy_stop_words(lang)
+    except ConfigError:
+        raise ConfigError(
+            f"[prepare] lang = {lang!r}: not a language code spaCy knows; "
+            f"the supported languages are {supported}"
+        ) from None
+    if not pipeline and lang not in lookup_languages():
+        raise ConfigError(
+            f"[prepare] lang = {lang!r}: no preparation chain for it and spacy-lookups-data "
+            f"ships no lookup lemma table for it; the supported languages are {supported} "
+            f"(others with a lookup table: "
+            f"{', '.join(x for x in lookup_languages() if x not in CHAIN_LANGUAGES)}), "
+            "or set [prepare] pipeline to an installed spaCy pipeline for the language"
+        )
+    logger.warning(
+        "[prepare] lang = %r has no chain of its own (supported: %s): prepared with spaCy's "
+        "stop words and %s only, without a fillers list or national ids",
+        lang,
+        supported,
+        "the pipeline" if pipeline else "the spacy-lookups-data lemma table",
+    )
 
 
 @cache
@@ -22,6 +79,7 @@ def lookup_languages() -> tuple[str, ...]:
     return tuple(sorted(out))
 
 
+@cache
 def load_lemma_table(lang: str) -> dict[str, str]:
     """spaCy's lookup lemma table for a language, as a plain dict (word as written → lemma).
 
@@ -33,6 +91,8 @@ def load_lemma_table(lang: str) -> dict[str, str]:
     Returns
     -------
     dict of str to str
+        Where the table gives a list of lemmas (French), the first, as spaCy reads it.
+        Loaded once per process and shared: do not modify it.
 
     Raises
     ------
@@ -49,7 +109,15 @@ def load_lemma_table(lang: str) -> dict[str, str]:
             "[prepare] pipeline to an installed spaCy pipeline for the language"
         )
     table = load_language_data(registry.lookups.get(lang)["lemma_lookup"])
-    return {str(k): str(v) for k, v in table.items() if isinstance(v, str)}
+    # most tables map a word to its lemma; the French one to a list of lemmas, of which
+    # spaCy's lookup reads the first (spacy.lang.fr.lemmatizer)
+    out: dict[str, str] = {}
+    for k, v in table.items():
+        if isinstance(v, list):
+            v = v[0] if v else None
+        if isinstance(v, str):
+            out[str(k)] = v
+    return out
 
 
 @cache
@@ -67,8 +135,13 @@ def lemma_table_words(lang: str) -> frozenset[str]:
     return frozenset({k.lower() for k in table} | {v.lower() for v in table.values()})
 
 
+@cache
 def spacy_stop_words(lang: str) -> frozenset[str]:
-    """spaCy's stop-word list for a language (``Language.Defaults.stop_words``).
+    """spaCy's stop-word list for a language (``spacy/lang/<code>/stop_words.py``, the list
+    ``Language.Defaults.stop_words`` holds).
+
+    The module is read on its own: importing the language's package would also build its
+    tokenizer exceptions, which takes seconds for French and is not needed here.
 
     Raises
     ------
@@ -76,6 +149,17 @@ def spacy_stop_words(lang: str) -> frozenset[str]:
         When spaCy does not know the language.
     """
     # spaCy is heavy to import: deferred to first use on purpose
+    import importlib.util
+
+    import spacy.lang
+
+    path = Path(spacy.lang.__file__).parent / lang / "stop_words.py"
+    if lang.isalpha() and lang.islower() and path.is_file():
+        spec = importlib.util.spec_from_file_location(f"_talkthemes_stop_words_{lang}", path)
+        if spec is not None and spec.loader is not None:
+            module = importlib.util.module_from_spec(spec)
+            spec.loader.exec_module(module)
+            return frozenset(w.lower() for w in module.STOP_WORDS)
     import spacy.util
 
     try:

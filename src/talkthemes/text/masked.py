@@ -13,6 +13,8 @@ __all__ = ["KINDS", "masked_as"]
 KINDS: dict[str, str] = {
     "email": "e-mail",
     "url": "web address",
+    "iban": "bank account",
+    "national_id": "id number",
     "phone": "phone number",
     "card": "card number",
     "number": "number",
