@@ -32,7 +32,7 @@ if TYPE_CHECKING:  # heavy (numpy, pandas, scikit-learn): imported on first use,
     import pandas as pd
 
     from talkthemes import assign as assign_mod
-    from talkthemes.languages import route as route_mod
+    from talkthemes import routing as route_mod
     from talkthemes.sweep.recommend import Recommendation
     from talkthemes.versions import evidence_shown
     from talkthemes.versions import export as versions_export
@@ -43,7 +43,7 @@ if TYPE_CHECKING:  # heavy (numpy, pandas, scikit-learn): imported on first use,
 else:
     pd = deferred("pandas")
     assign_mod = deferred("talkthemes.assign")
-    route_mod = deferred("talkthemes.languages.route")
+    route_mod = deferred("talkthemes.routing")
     evidence_shown = deferred("talkthemes.versions.evidence_shown")
     versions_export = deferred("talkthemes.versions.export")
     unthemed_mod = deferred("talkthemes.versions.unthemed")
