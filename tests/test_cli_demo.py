@@ -64,3 +64,26 @@ def test_the_demo_refresh_shows_the_new_price_change_theme(tmp_path: Path) -> No
     assert refresh["alerts"]["new"] == [new["theme_id"]] and new["verdict"] == "new"
     assert {"price", "unit_rate"} <= set(new["top_terms"][:5])
     assert "price" in new["name"].lower()  # named by its suggested name, not raw terms
+
+
+def test_the_demo_with_a_spanish_line_themes_each_language(tmp_path: Path) -> None:
+    # `make demo DEMO_LANGUAGES=en,es`: a quarter of the calls come from the Spanish line;
+    # they get a lane of their own, swept, published and refreshed, and the English themes
+    # hold no Spanish call.
+    ws = tmp_path / "demo"
+    args = ["demo", "--size", "1200", "--k", "6:10:2", "--seeds", "1", "--no-serve"]
+    r = CliRunner().invoke(app, [*args, "--languages", "en,es", "-w", str(ws), "--json"])
+    assert r.exit_code == 0, r.stderr
+    doc = json.loads(r.stdout)
+    assert doc["languages"]["es"]["version"] == 1
+    assert doc["refresh"]["languages"]["es"]["status"] == "published"
+    import talkthemes as tt
+
+    main = tt.Workspace.open(ws)
+    states = {s.code: s for s in main.languages()}
+    assert states["es"].kind == "lane" and states["es"].calls > 250
+    assert not [t for t in main.shares()["transcript_id"] if str(t).startswith("ES-")]
+    es_ids = set(main.language("es").shares()["transcript_id"].astype(str))
+    assert es_ids and all(t.startswith("ES-") for t in es_ids)
+    terms = {w for t in main.language("es").version().summary() for w in t["top_terms"]}
+    assert {"contador", "carta"} & terms  # Spanish words in the Spanish themes

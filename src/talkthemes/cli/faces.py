@@ -247,12 +247,44 @@ def _run_demo(
     with progress_bar("publish", enabled=not quiet) as update:
         published = ws.publish(k=best_k, family=family, progress=update)
     doc["published"] = {"version": published.version, "family": family, "k": best_k}
+    if refresh and files.inbox is not None and not quiet:
+        say(f"Published version {published.version}: {family} K={best_k}.", console=out)
+        out.print(ThemesTable(published.themes))
+    for code, lane in ws.languages_themed()[1:]:  # each other line with enough calls
+        if not quiet:
+            say((f"Language {code}", "bold"), f" ({lane.root})", console=out)
+        with progress_bar(f"prepare {code}", enabled=not quiet) as update:
+            lane.prepare(progress=update)
+        with progress_bar(f"sweep cells {code}", enabled=not quiet) as update:
+            lane_sweep = lane.sweep(k=k, seeds=seeds, progress=update)
+        if not quiet:
+            print_sweep(lane_sweep)
+        choice = lane.recommendation()
+        with progress_bar(f"publish {code}", enabled=not quiet) as update:
+            lane_published = lane.publish(k=choice.k, family=choice.family, progress=update)
+        doc.setdefault("languages", {})[code] = {
+            "version": lane_published.version,
+            "family": choice.family,
+            "k": choice.k,
+        }
+        if not quiet:
+            say(
+                f"Published {code} version {lane_published.version}: {choice.family} K={choice.k}.",
+                console=out,
+            )
+            out.print(ThemesTable(lane_published.themes))
     if refresh and files.inbox is not None:
         if not quiet:
-            say(f"Published version {published.version}: {family} K={best_k}.", console=out)
-            out.print(ThemesTable(published.themes))
             say("Now the held-back last month arrives: refreshing …")
         with progress_bar("refresh", enabled=not quiet) as update:
             refreshed = ws.refresh(ingest=[files.inbox], progress=update)
         doc["refresh"] = refreshed.to_json()
+        if not quiet:
+            for code, lane_refresh in refreshed.languages.items():
+                c = lane_refresh.counts
+                say(
+                    f"Refresh of {code}: version {lane_refresh.version}, "
+                    f"{c.get('carried', 0)} themes carried, {c.get('new', 0)} new.",
+                    console=out,
+                )
     return doc, published.themes
