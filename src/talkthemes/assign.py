@@ -29,9 +29,9 @@ from talkthemes.errors import InputError, NotReadyError
 from talkthemes.ingest.decode import check_fallback
 from talkthemes.ingest.detect import is_manifest, iter_files, read_file, resolved
 from talkthemes.ingest.run import ingest
-from talkthemes.routing import route_frames
 from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec, too_few_terms
 from talkthemes.progress import Progress, report
+from talkthemes.routing import route_frames
 from talkthemes.versions.export import share_order, write_table
 from talkthemes.versions.load import Version, load_version
 from talkthemes.versions.unthemed import UNTHEMED
