@@ -6,23 +6,13 @@ from pathlib import Path
 
 import pytest
 from streamlit.testing.v1 import AppTest
+from tests.viewer.test_app import open_app
 from typer.testing import CliRunner
 
-import talkthemes.app
 from talkthemes.app import _shared
 from talkthemes.cli import app
 
 from .conftest import Mixed
-
-APP = Path(talkthemes.app.__file__).resolve().parent / "main.py"
-
-
-def _open(root: Path, monkeypatch: pytest.MonkeyPatch) -> AppTest:
-    monkeypatch.setenv("TALKTHEMES_WORKSPACE", str(root))
-    at = AppTest.from_file(str(APP), default_timeout=180)
-    at.run()
-    assert not at.exception, [e.value for e in at.exception]
-    return at
 
 
 def _sidebar_text(at: AppTest) -> str:
@@ -32,7 +22,7 @@ def _sidebar_text(at: AppTest) -> str:
 def test_the_language_picker_switches_every_section_to_that_language(
     published: Mixed, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    at = _open(published.root, monkeypatch)
+    at = open_app(published.root, monkeypatch)
     pickers = [s for s in at.sidebar.selectbox if s.label == "Language"]
     assert len(pickers) == 1 and list(pickers[0].options) == ["en", "es"]
     assert "K = 6" in _sidebar_text(at)  # the English version
@@ -53,7 +43,7 @@ def test_no_language_picker_with_one_language(
 
     ws = tt.Workspace.create(tmp_path / "one")
     ws.ingest([ingested.sources / "en"])
-    at = _open(ws.root, monkeypatch)
+    at = open_app(ws.root, monkeypatch)
     assert not [s for s in at.sidebar.selectbox if s.label == "Language"]
 
 

@@ -17,6 +17,7 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from talkthemes.calls.model import Reject, Transcript
 from talkthemes.errors import InputError, NotReadyError
 from talkthemes.progress import Progress
 from talkthemes.sweep.state import sweep_overview
@@ -114,10 +115,10 @@ class ReadingMixin(WorkspaceBase):
         warnings: list[Any] = []
         calls: list[Any] = []
         for item in items:
-            kind = type(item).__name__
-            (calls if kind == "Transcript" else rejects if kind == "Reject" else warnings).append(
-                item
-            )
+            if isinstance(item, Transcript):
+                calls.append(item)
+            else:
+                (rejects if isinstance(item, Reject) else warnings).append(item)
 
         def assign_with(lane: WorkspaceDir, group: list[Any]) -> pd.DataFrame:
             # the main version asked for, or a lane's current one; each cached per folder

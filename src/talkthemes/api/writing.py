@@ -383,7 +383,8 @@ class WritingMixin(WorkspaceBase):
             )
             result.language = self.settings().prepare.lang
             if lanes:  # each language lane with a version, on the calls copied in
-                self.sync_languages()  # type: ignore[attr-defined]
+                if result.ingest is None:  # an ingest brought the lanes up to date itself
+                    self.sync_languages()  # type: ignore[attr-defined]
                 for code, lane in self.languages_themed()[1:]:  # type: ignore[attr-defined]
                     if lane.current_version() is None:
                         continue  # nothing published in that language yet

@@ -38,6 +38,7 @@ from talkthemes.text import terminal_text
 from talkthemes.workspace import resolve_workspace
 
 __all__ = [
+    "LANGUAGE_KINDS",
     "JsonOpt",
     "LanguageOpt",
     "WaitOpt",
@@ -346,6 +347,17 @@ def writing(path: Path, option: str) -> Iterator[None]:
 
 def _reason(exc: OSError) -> str:
     return exc.strerror or str(exc)
+
+
+#: How each kind of language is themed (``LanguageState.kind``), as status, ingest and
+#: prepare --explain print it; a lane is described with its folder and version instead.
+LANGUAGE_KINDS = {
+    "main": "themed here",
+    "undecided": "undecided: themed with the main language",
+    "too_few": "too few calls for themes ([prepare.languages] min_calls)",
+    "no_chain": "not themed: no chain for this language",
+    "unsettled": "not settled yet: run talkthemes prepare",
+}
 
 
 def each_language(ws: Workspace, language: str | None) -> list[tuple[str, Workspace]]:

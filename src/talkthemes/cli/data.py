@@ -17,6 +17,7 @@ from rich.table import Table
 
 from talkthemes import Workspace
 from talkthemes.cli._common import (
+    LANGUAGE_KINDS,
     JsonOpt,
     LanguageOpt,
     WaitOpt,
@@ -122,15 +123,6 @@ def print_ingest_report(report: Any) -> None:
         say(f"… and {len(report.rejects) - SHOWN} more rejected (see --rejects FILE.csv).")
 
 
-_KIND = {
-    "main": "themed here",
-    "undecided": "undecided, themed with the main language",
-    "too_few": "too few for themes",
-    "no_chain": "no chain for it",
-    "unsettled": "not settled",
-}
-
-
 def language_summary(states: Any, lanes: Any = ()) -> str:
     """``en 2,700 (themed here) · es 300 (lane languages/es, 300 copied in) · …``."""
     copied = {lane.language: lane for lane in lanes}
@@ -146,7 +138,7 @@ def language_summary(states: Any, lanes: Any = ()) -> str:
                     f", {sync.removed:,} moved out" if sync.removed else ""
                 )
         else:
-            what = _KIND[st.kind]
+            what = LANGUAGE_KINDS[st.kind]
         parts.append(f"{st.code} {st.calls:,} ({what})")
     return " · ".join(parts)
 
@@ -208,14 +200,10 @@ def print_chains(ws: Workspace) -> None:
     t = Table(title="Which chain each call took", title_justify="left")
     for name in ("language", "calls", "given", "detected", "chain"):
         t.add_column(name, justify="right" if name in ("calls", "given", "detected") else "left")
-    where = {
-        "main": f"{main}: this workspace",
-        "undecided": f"{main}: this workspace (undecided, themed with the main language)",
-        "too_few": "none: fewer calls than [prepare.languages] min_calls",
-        "no_chain": "none: no chain shipped for this language",
-        "unsettled": "not settled yet",
-    }
     for st in states:
-        chain = f"{st.code}: its lane, languages/{st.code}" if st.kind == "lane" else where[st.kind]
+        if st.kind == "lane":
+            chain = f"its lane, languages/{st.code}"
+        else:
+            chain = LANGUAGE_KINDS[st.kind].replace("themed here", f"{main}: this workspace")
         t.add_row(cell(st.code), f"{st.calls:,}", f"{st.given:,}", f"{st.detected:,}", cell(chain))
     out.print(t)

@@ -11,6 +11,7 @@ from rich.text import Text
 
 from talkthemes import Workspace
 from talkthemes.cli._common import (
+    LANGUAGE_KINDS,
     JsonOpt,
     WorkspaceOpt,
     cell,
@@ -101,15 +102,6 @@ def status(workspace: WorkspaceOpt = None, as_json: JsonOpt = False) -> None:
     _languages(data["languages"])
 
 
-_WHERE = {
-    "main": "themed here",
-    "undecided": "undecided: themed with the main language",
-    "too_few": "too few calls for themes ([prepare.languages] min_calls)",
-    "no_chain": "not themed: no chain for this language",
-    "unsettled": "not settled yet: run talkthemes prepare",
-}
-
-
 def _languages(languages: list[dict[str, Any]]) -> None:
     """The calls per language and where each language is themed (when there is more than
     the main language)."""
@@ -124,7 +116,7 @@ def _languages(languages: list[dict[str, Any]]) -> None:
                 f"version {v}" if v else f"none yet (sweep --language {lang['language']})"
             )
         else:
-            where = _WHERE[lang["kind"]]
+            where = LANGUAGE_KINDS[lang["kind"]]
         t.add_row(
             cell(lang["language"]),
             f"{lang['calls']:,}",

@@ -77,7 +77,8 @@ class LanguagesMixin(StoreBase):
         }
 
     def apply_languages(self, given: Mapping[str, str], *, default: str | None) -> None:
-        """Set every call's language in effect.
+        """Set every call's language in effect (recomputed only where it can change: calls
+        not settled, given or defaulted, and calls with a language field).
 
         Parameters
         ----------
@@ -103,8 +104,11 @@ class LanguagesMixin(StoreBase):
                 f"UPDATE transcripts SET language = COALESCE({pick}, language_detected, ?), "
                 f"language_source = CASE WHEN {pick} IS NOT NULL THEN 'given' "
                 "WHEN language_detected IS NOT NULL THEN 'detected' "
-                "WHEN ? IS NOT NULL THEN 'default' END",
-                [*LANGUAGE_KEYS, default, *LANGUAGE_KEYS, default],
+                "WHEN ? IS NOT NULL THEN 'default' END "
+                # a call detected and given nothing keeps its language: only the others
+                "WHERE language IS NULL OR language_source IS NOT 'detected' OR tid IN "
+                f"(SELECT tid FROM metadata WHERE lower(key) IN ({keys}))",
+                [*LANGUAGE_KEYS, default, *LANGUAGE_KEYS, default, *LANGUAGE_KEYS],
             )
             c.execute("DROP TABLE given_codes")
 
