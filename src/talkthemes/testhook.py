@@ -4,7 +4,8 @@ With the environment variable ``TALKTHEMES_TEST_PAUSE_AT`` set to a stage name,
 :func:`pause_at` sleeps at that stage for ``TALKTHEMES_TEST_PAUSE_SECONDS`` seconds
 (default 120) and logs a warning; when the variable is unset or names another stage it does
 nothing. The stages: ``ingest-batch`` (after each batch an ingest commits), ``sweep-cell``
-(after the first cell a sweep records), and the refresh's
+(after the first cell a sweep records), ``sweep-fit`` (on the worker, before a cell fits),
+and the refresh's
 (:data:`talkthemes.refresh.run.PAUSE_STAGES`). The crash-safety tests kill a run while it
 sleeps and check that the previous state stayed current.
 """

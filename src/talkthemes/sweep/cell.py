@@ -1,11 +1,15 @@
-"""One cell of a sweep, fitted on a Dask worker (or in-process).
+"""One cell of a sweep, fitted on a Dask worker that shares no disk with the client.
 
-A cell fits one model on the training transcripts of the prep (its seed's subsample), and
-returns plain JSON values: its top term ids, fit seconds, held-out perplexity (LDA) or
-reconstruction error (NMF), the largest share of its training transcripts one theme leads
-(the recommendation's catch-all check, docs/methods.md "The recommendation"), and the
-worker's peak memory. Its topic–term matrix is saved as
-``sweeps/<id>/topics/<cell>.npy``.
+The client builds the sweep's inputs once (:func:`cell_inputs`: the prep's term counts as
+plain CSR arrays and the training and held-out rows) and scatters them to every worker;
+each cell task receives them from the worker's memory, fits one model on the training
+rows (its seed's subsample), and returns plain values: its metrics (top term ids, fit
+seconds, held-out perplexity (LDA) or reconstruction error (NMF), the largest share of its
+training transcripts one theme leads — the recommendation's catch-all check,
+docs/methods.md "The recommendation" — and the worker's peak memory) and its topic–term
+matrix. A worker never opens a file of the workspace; the client writes
+``sweeps/<id>/topics/<cell>.npy`` and records the cell (docs/operations.md, "Sweeping on
+a cluster").
 """
 
 from __future__ import annotations
@@ -16,42 +20,77 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
+import scipy.sparse as sp
 from threadpoolctl import threadpool_limits
 
 from talkthemes.config import SweepSettings
 from talkthemes.prepare.corpus import PreparedCorpus
-from talkthemes.sweep.grid import CellSpec
 from talkthemes.sweep.split import split_rows, subsample_rows
+from talkthemes.testhook import pause_at
 from talkthemes.workspace import atomic_write_bytes
 
-__all__ = ["fit_cell", "save_topics"]
+__all__ = ["CellOutput", "cell_inputs", "fit_cell", "save_topics"]
 
-# One prep per worker process at a time: the cells of a sweep all read the same one.
-_PREP_CACHE: dict[str, PreparedCorpus] = {}
+#: What :func:`fit_cell` returns: ``{"metrics": dict, "topic_terms": K×V float32 array}``.
+CellOutput = dict[str, Any]
 
 
-def _load_prep(folder: str) -> PreparedCorpus:
-    if folder not in _PREP_CACHE:
-        _PREP_CACHE.clear()
-        _PREP_CACHE[folder] = PreparedCorpus.load(Path(folder))
-    return _PREP_CACHE[folder]
+def cell_inputs(corpus: PreparedCorpus, heldout_share: float) -> dict[str, np.ndarray]:
+    """What every cell of a sweep reads, as plain arrays (scattered once per sweep).
+
+    Parameters
+    ----------
+    corpus : PreparedCorpus
+    heldout_share : float
+        Share of transcripts held out for the held-out fit (:func:`split_rows`).
+
+    Returns
+    -------
+    dict of str to ndarray
+        ``data``, ``indices``, ``indptr``, ``shape`` of the D×V CSR term counts, and the
+        ``train`` and ``held`` row numbers.
+    """
+    counts = sp.csr_matrix(corpus.counts)
+    train, held = split_rows(corpus.doc_ids, heldout_share)
+    return {
+        "data": counts.data,
+        "indices": counts.indices,
+        "indptr": counts.indptr,
+        "shape": np.asarray(counts.shape, dtype=np.int64),
+        "train": train,
+        "held": held,
+    }
 
 
 def fit_cell(
-    prep_folder: str,
-    sweep_folder: str,
+    inputs: dict[str, np.ndarray],
     family: str,
     k: int,
     seed: int,
     settings: dict[str, Any],
-    heldout_share: float,
-) -> dict[str, Any]:
-    """Fit one cell and return its metrics; writes ``topics/<cell>.npy`` under the sweep.
+) -> CellOutput:
+    """Fit one cell and return its metrics and topic–term matrix.
 
-    Runs on a Dask worker (or in-process). Returns plain JSON values: the cell's top
-    term ids, fit seconds, held-out perplexity (LDA) or reconstruction error (NMF),
-    ``largest_lead_share`` (of the transcripts it was fitted on) and the worker's peak
-    memory.
+    Runs on a Dask worker (or in-process) and reads nothing but its arguments.
+
+    Parameters
+    ----------
+    inputs : dict of str to ndarray
+        :func:`cell_inputs` of the sweep's prep.
+    family : str
+        ``lda`` or ``nmf``.
+    k : int
+    seed : int
+    settings : dict
+        The sweep's ``[sweep]`` settings (``SweepSettings.model_dump()``).
+
+    Returns
+    -------
+    dict
+        ``metrics``: plain JSON values (``top_terms``, ``fit_seconds``,
+        ``largest_lead_share``, ``perplexity`` and ``convergence`` (LDA) or
+        ``reconstruction_error`` (NMF), ``peak_memory_mb``); ``topic_terms``: the K×V
+        float32 topic–term matrix.
     """
     # Deferred on purpose: gensim and scikit-learn take about a second to import, which
     # only the processes that fit models pay (the sweep's client never does).
@@ -59,12 +98,12 @@ def fit_cell(
     from talkthemes.models.base import top_terms
     from talkthemes.models.factory import make_model
 
-    spec = CellSpec(family, k, seed)
+    pause_at("sweep-fit", "sweep")  # test hook: a cell that is surely running when killed
     sweep_settings = SweepSettings.model_validate(settings)
-    corpus = _load_prep(prep_folder)
-    train, held = split_rows(corpus.doc_ids, heldout_share)
-    train = subsample_rows(train, sweep_settings.subsample, seed)
-    counts = corpus.counts.tocsr()
+    shape = tuple(int(n) for n in inputs["shape"])
+    counts = sp.csr_matrix((inputs["data"], inputs["indices"], inputs["indptr"]), shape=shape)
+    train = subsample_rows(inputs["train"], sweep_settings.subsample, seed)
+    held = inputs["held"]
     with threadpool_limits(1):  # parallelism is across cells, not inside one
         # the training shares give each transcript's lead theme (LDA: one more E-step pass)
         model = make_model(family, k, seed, sweep_settings).fit(counts[train], shares=True)
@@ -87,9 +126,7 @@ def fit_cell(
     tops = top_terms(result.topic_terms, min(keep, result.topic_terms.shape[1]))
     metrics["top_terms"] = tops.tolist()
     metrics["peak_memory_mb"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-    path = Path(sweep_folder) / "topics" / f"{spec.cell}.npy"
-    save_topics(path, result.topic_terms.astype(np.float32))
-    return metrics
+    return {"metrics": metrics, "topic_terms": result.topic_terms.astype(np.float32)}
 
 
 def save_topics(path: Path, array: np.ndarray) -> None:

@@ -2,10 +2,14 @@
 
 Every cell fits one model on the same training transcripts of the current prep and is an
 independent Dask task; by default the tasks run on a :class:`distributed.LocalCluster`
-sized to the machine, or on an existing cluster with ``scheduler``. Workers read the prep
-from the workspace path and write each cell's topic–term matrix to
-``sweeps/<id>/topics/<cell>.npy``; the client records a cell in the store as soon as it
-finishes, so an interrupted sweep resumes where it stopped.
+sized to the machine, or on an existing cluster with ``scheduler``. The workers share no
+disk with the client: the prep's term counts and the training and held-out rows are
+scattered to every worker once per sweep (:func:`talkthemes.sweep.cell.cell_inputs`),
+each cell returns its metrics and topic–term matrix, and only this process writes the
+workspace — ``sweeps/<id>/topics/<cell>.npy`` and the cell's record, as soon as the cell
+finishes, so an interrupted sweep resumes where it stopped. A cell whose worker dies is
+run again on another worker by the scheduler; when it keeps failing the sweep stops as
+``incomplete`` and resumes on rerun (docs/operations.md, "Sweeping on a cluster").
 
 When every cell is in, the grid is scored once (:mod:`talkthemes.sweep.scoring`) and
 :func:`talkthemes.sweep.recommend.recommend` picks K per family (docs/methods.md, "The
@@ -30,7 +34,7 @@ from talkthemes.errors import ConfigError, NotReadyError
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.progress import Progress, report
 from talkthemes.store.records import PrepRecord, SweepRecord
-from talkthemes.sweep.cell import fit_cell
+from talkthemes.sweep.cell import cell_inputs, fit_cell, save_topics
 from talkthemes.sweep.grid import CellSpec, build_cells, grid_key, parse_k
 from talkthemes.sweep.limits import PrepSize, check_k, check_memory
 from talkthemes.sweep.recommend import Recommendation, recommend
@@ -249,8 +253,9 @@ def run_sweep(
                 folder = ws.sweeps_dir / str(sweep_id)
                 folder.mkdir(parents=True, exist_ok=True)
                 report(progress, reused, len(specs), "resuming" if reused else "starting")
+                inputs = cell_inputs(corpus, settings.heldout_share)
                 failed = _run_cells(
-                    ws, client, sweep_id, folder, prep_folder, todo, settings, reused, len(specs),
+                    ws, client, sweep_id, folder, inputs, todo, settings, reused, len(specs),
                     progress,
                 )  # fmt: skip
         folder = ws.sweeps_dir / str(sweep_id)
@@ -355,7 +360,7 @@ def _run_cells(
     client: Any,
     sweep_id: int,
     folder: Path,
-    prep_folder: Path,
+    inputs: dict[str, Any],
     todo: list[CellSpec],
     settings: SweepSettings,
     done_before: int,
@@ -367,18 +372,18 @@ def _run_cells(
 
     failed: list[dict[str, str]] = []
     payload = settings.model_dump()
+    # Once per sweep, to every worker: a worker that dies leaves a copy on the others.
+    [scattered] = client.scatter([inputs], broadcast=True, hash=False)
     futures = {}
     # Largest K first: they take longest, so the grid finishes sooner on few workers.
     for spec in sorted(todo, key=lambda s: (-s.k, s.family, s.seed)):
         fut = client.submit(
             fit_cell,
-            str(prep_folder.resolve()),
-            str(folder.resolve()),
+            scattered,
             spec.family,
             spec.k,
             spec.seed,
             payload,
-            settings.heldout_share,
             key=f"talkthemes-sweep{sweep_id}-{spec.cell}",
             pure=False,
         )
@@ -389,16 +394,35 @@ def _run_cells(
             for fut in as_completed(list(futures)):
                 spec = futures[fut]
                 try:
-                    metrics = fut.result()
+                    out = fut.result()
                 except Exception as exc:  # one failing cell must not lose the others
-                    log.error("cell %s failed: %s", spec.cell, exc)
-                    failed.append({"cell": spec.cell, "error": f"{type(exc).__name__}: {exc}"})
+                    error = _cell_error(exc)
+                    log.error("cell %s failed: %s", spec.cell, error)
+                    failed.append({"cell": spec.cell, "error": error})
                     continue
-                store.add_cell(sweep_id, spec.cell, spec.family, spec.k, spec.seed, metrics)
+                finally:
+                    fut.release()  # the topic matrix is written below; free the worker's copy
+                # the file first: a recorded cell always has its topics
+                save_topics(folder / "topics" / f"{spec.cell}.npy", out["topic_terms"])
+                store.add_cell(sweep_id, spec.cell, spec.family, spec.k, spec.seed, out["metrics"])
                 done += 1
                 report(progress, done, total, spec.cell)
                 _checkpoint("sweep-cell")
     except BaseException:
         client.cancel(list(futures))
         raise
+    finally:
+        client.cancel([scattered])
     return failed
+
+
+def _cell_error(exc: BaseException) -> str:
+    """A failed cell's message; a cell whose workers kept dying says how to go on."""
+    name = type(exc).__name__
+    if name == "KilledWorker":
+        return (
+            f"{name}: the Dask workers running this cell stopped or were killed "
+            "(the scheduler's allowed-failures limit was reached); the finished cells are "
+            "kept: run the same sweep again to fit the missing ones"
+        )
+    return f"{name}: {exc}"
