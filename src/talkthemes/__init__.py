@@ -21,7 +21,8 @@ Every error raised on purpose derives from one root::
     ├── InputError          an input file or argument cannot be used  (CLI exit 2)
     ├── NotReadyError       an earlier stage has not been run yet     (CLI exit 2)
     ├── WorkspaceBusyError  another writer holds the workspace lock   (CLI exit 2)
-    └── StoreError          the store is unreadable or inconsistent   (CLI exit 1)
+    ├── StoreError          the store is unreadable or inconsistent   (CLI exit 1)
+    └── DiskFullError       too little disk room for a write          (CLI exit 1)
 
 Importing this package stays light (no numpy, pandas, gensim or Dask): the result types and
 :class:`Version`, whose modules need them, are imported on first access through the
@@ -42,6 +43,7 @@ from talkthemes.calls.model import Reject, Transcript, Turn, Warning_
 from talkthemes.config import Settings, load_settings
 from talkthemes.errors import (
     ConfigError,
+    DiskFullError,
     InputError,
     NotReadyError,
     StoreError,
@@ -80,6 +82,7 @@ _DEFERRED = {
 __all__ = [
     "AssignResult",
     "ConfigError",
+    "DiskFullError",
     "Export",
     "IngestReport",
     "InputError",

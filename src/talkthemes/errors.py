@@ -8,13 +8,15 @@ one-line message and an exit code instead of a traceback::
     ├── InputError        an input file or argument cannot be used  (exit 2)
     ├── NotReadyError     an earlier stage has not been run yet     (exit 2)
     ├── WorkspaceBusyError another command holds the workspace lock (exit 2)
-    └── StoreError        the store is unreadable or inconsistent   (exit 1)
+    ├── StoreError        the store is unreadable or inconsistent   (exit 1)
+    └── DiskFullError     the disk has too little room for a write  (exit 1)
 """
 
 from __future__ import annotations
 
 __all__ = [
     "ConfigError",
+    "DiskFullError",
     "InputError",
     "NotReadyError",
     "StoreError",
@@ -57,3 +59,25 @@ class StoreError(TalkthemesError):
     """The store cannot be opened, migrated or read consistently."""
 
     exit_code = 1
+
+
+class DiskFullError(TalkthemesError):
+    """A write needs more room than its disk has; nothing stored was changed.
+
+    Attributes
+    ----------
+    folder : str
+        Where the write went.
+    needed : int
+        Bytes the write needs (an estimate when the disk filled up during the write).
+    free : int
+        Bytes free on that disk when it was checked.
+    """
+
+    exit_code = 1
+
+    def __init__(self, message: str, *, folder: str, needed: int, free: int) -> None:
+        super().__init__(message)
+        self.folder = folder
+        self.needed = needed
+        self.free = free

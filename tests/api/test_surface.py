@@ -15,7 +15,10 @@ import pytest
 import talkthemes as tt
 
 DOC = (Path(__file__).resolve().parents[2] / "docs" / "api.md").read_text(encoding="utf-8")
-ERRORS = ("ConfigError", "InputError", "NotReadyError", "StoreError", "WorkspaceBusyError")
+ERRORS = (
+    "ConfigError", "DiskFullError", "InputError", "NotReadyError", "StoreError",
+    "WorkspaceBusyError",
+)  # fmt: skip
 HEAVY = ["pandas", "numpy", "scipy", "sklearn", "gensim", "dask", "distributed", "altair",
          "streamlit", "spacy", "numba"]  # fmt: skip
 

@@ -25,6 +25,7 @@ from typing import Any
 
 import numpy as np
 
+from talkthemes.diskspace import room_for
 from talkthemes.errors import InputError
 from talkthemes.prepare.frozen import PrepSpec
 from talkthemes.privacy import name_term, prep_words
@@ -35,7 +36,14 @@ from talkthemes.versions.naming import suggest_names
 from talkthemes.versions.prune import prune_versions
 from talkthemes.workspace import Workspace, atomic_dir
 
-__all__ = ["Checkpoint", "ExtraFiles", "ThemePlan", "fitted_names", "write_version"]
+__all__ = [
+    "Checkpoint",
+    "ExtraFiles",
+    "ThemePlan",
+    "fitted_names",
+    "version_bytes",
+    "write_version",
+]
 
 log = logging.getLogger(__name__)
 
@@ -128,7 +136,12 @@ def write_version(
     info["retired_theme_ids"] = [int(r["theme_id"]) for r in plan.retired]
     names, evidence = _labelling_aids(ws, fitted)
     info["suggested_names"] = names
-    with atomic_dir(folder) as tmp:
+    # refused before a byte is written when it cannot fit; a disk that fills up meanwhile
+    # gives the same message (the temporary folder is removed, the last version stays)
+    with (
+        room_for(ws.versions_dir, version_bytes(fitted), "publish a version"),
+        atomic_dir(folder) as tmp,
+    ):
         np.save(tmp / "topic_terms.npy", fitted.topic_terms.astype(np.float32), allow_pickle=False)
         np.save(tmp / "doc_topics.npy", fitted.doc_topics.astype(np.float32), allow_pickle=False)
         (tmp / "doc_ids.json").write_text(json.dumps(fitted.doc_ids), encoding="utf-8")
@@ -174,6 +187,18 @@ def write_version(
     if removed:
         log.info("removed old versions %s", removed)
     return n
+
+
+def version_bytes(fitted: FittedVersion) -> int:
+    """About how many bytes a version folder of ``fitted`` takes on disk (its arrays
+    exactly, its JSON files from their lengths; the small files are in the margin of
+    :func:`talkthemes.diskspace.check_room`)."""
+    k, v = np.shape(fitted.topic_terms)
+    arrays = 4 * (k * v + len(fitted.doc_ids) * k)  # float32
+    arrays += sum(np.asarray(a).nbytes for a in fitted.state_arrays.values())
+    ids = sum(len(t) + 4 for t in fitted.doc_ids)
+    vocabulary = sum(len(t) + 4 for t in fitted.vocabulary)
+    return int(arrays + ids + 2 * vocabulary)
 
 
 def _weights_and_marginal(fitted: FittedVersion) -> tuple[np.ndarray, np.ndarray]:
