@@ -41,7 +41,13 @@ def encode(sentences: list[list[str]]):
 @pytest.mark.parametrize(
     ("seed", "threshold", "min_count"), [(1, 0.3, 5), (2, 0.0, 3), (3, 0.6, 10)]
 )
-def test_same_phrases_and_output_as_gensim(seed: int, threshold: float, min_count: int):
+# the stream is worked on in pieces of whole sentences (bounded memory on big corpora):
+# one token per piece (every sentence a piece of its own), a few sentences, all at once
+@pytest.mark.parametrize("chunk", [1, 37, 4_000_000])
+def test_same_phrases_and_output_as_gensim(
+    seed: int, threshold: float, min_count: int, chunk: int, monkeypatch
+):
+    monkeypatch.setattr("talkthemes.prepare.phrases.CHUNK_TOKENS", chunk)
     sentences = random_sentences(seed)
     tokens, lengths, types = encode(sentences)
     model, frozen = learn_phrases(tokens, lengths, types, threshold=threshold, min_count=min_count)
@@ -106,8 +112,23 @@ def test_empty_input():
 
 
 # -- only adjacent words -------------------------------------------------------------------
-def test_run_lengths_and_join_runs_keep_the_sentence_layout():
+def test_unit_chunks_cover_the_stream_in_whole_units():
+    from talkthemes.prepare.phrases import unit_chunks
+
+    lengths = np.array([3, 0, 5, 2, 9, 0, 1])
+    pieces = unit_chunks(lengths, 6)
+    assert pieces == [(0, 3, 0, 2), (3, 8, 2, 3), (8, 10, 3, 4), (10, 19, 4, 5), (19, 20, 5, 7)]
+    # contiguous, whole units, nothing left out
+    assert pieces[0][0] == 0 and pieces[-1][1] == lengths.sum() and pieces[-1][3] == lengths.size
+    for (_, end, _, stop), (start, _, unit, _) in itertools.pairwise(pieces):
+        assert end == start and stop == unit
+
+
+@pytest.mark.parametrize("chunk", [1, 3, 4_000_000])
+def test_run_lengths_and_join_runs_keep_the_sentence_layout(chunk: int, monkeypatch):
     from talkthemes.prepare.phrases import PhraseModel, join_runs, run_lengths
+
+    monkeypatch.setattr("talkthemes.prepare.phrases.CHUNK_TOKENS", chunk)
 
     # two sentences: [a b | a b] and [b a b]; a gap inside the first sentence
     tokens = np.array([0, 1, 0, 1, 1, 0, 1], dtype=np.int32)

@@ -35,7 +35,7 @@ from numpy.typing import NDArray
 from talkthemes.config import PrepareSettings
 from talkthemes.prepare.assemble import finish
 from talkthemes.prepare.boilerplate import find_boilerplate, split_sentences
-from talkthemes.prepare.collect import BatchResult, Collected
+from talkthemes.prepare.collect import BatchResult, Collected, compact_counts
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, load_fillers
 from talkthemes.prepare.headwords import Headwords, load_lemma_index, load_lemma_rules
@@ -218,7 +218,7 @@ class TranscriptProcessor:
             turns_dropped=dropped,
             sent_words=lengths.astype(np.int32),
             sent_keys=keys,
-            sent_stats=stats.astype(np.int32),
+            sent_stats=compact_counts(stats),
             sent_kept=sent_kept.astype(np.int32),
             ids=inverse.astype(np.int32).ravel(),
             breaks=enc.breaks[kept],

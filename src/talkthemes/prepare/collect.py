@@ -16,7 +16,15 @@ from numpy.typing import NDArray
 from talkthemes.prepare.filter import STAT_COLUMNS
 from talkthemes.prepare.scrub import SCRUB_KINDS
 
-__all__ = ["BatchResult", "Collected"]
+__all__ = ["BatchResult", "Collected", "compact_counts"]
+
+
+def compact_counts(counts: NDArray[np.integer]) -> NDArray[np.integer]:
+    """Non-negative counts as uint16 when they fit (the sentence counts of a big corpus are
+    its largest array), else int32; batches of both kinds concatenate to int32."""
+    if counts.size == 0 or int(counts.max()) <= np.iinfo(np.uint16).max:
+        return counts.astype(np.uint16)
+    return counts.astype(np.int32)
 
 
 @dataclass
@@ -34,7 +42,7 @@ class BatchResult:
     turns_dropped: int
     sent_words: NDArray[np.int32]  # (S,)
     sent_keys: NDArray[np.int64]  # (S,) boilerplate key, 0 = too short
-    sent_stats: NDArray[np.int32]  # (S, len(STAT_COLUMNS))
+    sent_stats: NDArray[np.integer]  # (S, len(STAT_COLUMNS)), uint16 or int32
     sent_kept: NDArray[np.int32]  # (S,) kept tokens
     ids: NDArray[np.int32]  # (K,) kept tokens as indices into ``types``
     breaks: NDArray[np.bool_]  # (K,) not adjacent to the previous kept token (Encoded.breaks)

@@ -329,7 +329,7 @@ def resolve_tokens(
         With no provisional term left; the types keep their order (provisional ones
         removed, new lemmas appended).
     """
-    tokens = np.asarray(tokens, dtype=np.int64)
+    tokens = np.asarray(tokens)  # int32 kept: this runs over the whole token stream
     sent_kept = np.asarray(sent_kept, dtype=np.int64)
     provisional = [i for i, t in enumerate(types) if t.startswith(PROVISIONAL)]
     if not provisional:
@@ -375,17 +375,21 @@ def resolve_tokens(
     gone = why > 0
     if gone.any():
         # a dropped word parts its neighbours unless it is a filler; a break before it
-        # carries on to the next kept token
+        # carries on to the next kept token. Worked out on the dropped positions only
+        # (sorted; consecutive ones form a run whose next position is the kept token).
         drop = at[gone]
-        flag = np.zeros(tokens.size, dtype=bool)
-        flag[drop] = ~soft[tokens[drop]] | breaks[drop]
-        seen = np.cumsum(flag)
+        parts = ~soft[tokens[drop]] | breaks[drop]
+        run_starts = np.ones(drop.size, dtype=bool)
+        run_starts[1:] = np.diff(drop) != 1
+        run_id = np.cumsum(run_starts) - 1
+        after = drop[np.append(run_starts[1:], True)] + 1  # the position after each run
+        parted = np.bincount(run_id, weights=parts, minlength=after.size) > 0
+        hit = after[parted & (after < tokens.size)]
+        breaks = np.array(breaks, dtype=bool, copy=True)
+        breaks[hit] = True
         keep = np.ones(tokens.size, dtype=bool)
         keep[drop] = False
-        kept = np.flatnonzero(keep)
-        before = seen[kept]
-        previous = np.concatenate([[0], before[:-1]])
-        breaks = breaks[kept] | (before != previous)
+        breaks = breaks[keep]
         sent_kept = sent_kept - np.bincount(sentence[gone], minlength=sent_kept.size)
-        tokens = tokens[kept]
-    return out_types, remap[tokens].astype(np.int32), breaks, sent_kept
+        tokens = tokens[keep]
+    return out_types, remap.astype(np.int32)[tokens], breaks, sent_kept

@@ -51,6 +51,7 @@ __all__ = [
     "learn_phrases",
     "run_lengths",
     "unit_bigrams",
+    "unit_chunks",
 ]
 
 DELIMITER = "_"
@@ -97,10 +98,59 @@ def unit_bigrams(
     if n < 2:
         z = np.zeros(0, dtype=np.int64)
         return z, z, np.zeros(0, dtype=bool)
-    unit = np.repeat(np.arange(lengths.size), lengths)
-    inside = unit[1:] == unit[:-1]
+    # a pair crosses into the next unit where that unit starts (no per-token unit array)
+    inside = np.ones(n - 1, dtype=bool)
+    starts = np.cumsum(np.asarray(lengths, dtype=np.int64))[:-1]
+    inside[starts[(starts > 0) & (starts < n)] - 1] = False
     t = tokens.astype(np.int64, copy=False)
     return t[:-1], t[1:], inside
+
+
+#: Tokens handled at a time by the stream passes below: their temporaries (about 60 bytes
+#: a token) stay near 250 MB however long the corpus is.
+CHUNK_TOKENS = 4_000_000
+
+
+def unit_chunks(
+    lengths: NDArray[np.integer], max_tokens: int | None = None
+) -> list[tuple[int, int, int, int]]:
+    """Cut a stream of units into pieces of whole units of at most ``max_tokens`` tokens
+    (a longer unit is a piece of its own): ``(first token, end token, first unit, end
+    unit)`` per piece (``max_tokens`` defaults to :data:`CHUNK_TOKENS`). Pairs never span
+    units, so each piece can be worked on alone."""
+    max_tokens = max_tokens or CHUNK_TOKENS
+    lengths = np.asarray(lengths, dtype=np.int64)
+    ends = np.cumsum(lengths)
+    out = []
+    unit, token = 0, 0
+    while unit < lengths.size:
+        stop = int(np.searchsorted(ends, token + max_tokens, side="right"))
+        stop = max(stop, unit + 1)
+        end = int(ends[stop - 1])
+        out.append((token, end, unit, stop))
+        unit, token = stop, end
+    return out
+
+
+def _bigram_counts(
+    tokens: NDArray[np.integer], lengths: NDArray[np.integer], n_types: int
+) -> tuple[NDArray[np.int64], NDArray[np.int64]]:
+    """Distinct in-unit pairs (``first * n_types + second``, sorted) and their counts,
+    counted piece by piece (:func:`unit_chunks`) so memory follows the distinct pairs."""
+    uniq = np.zeros(0, dtype=np.int64)
+    counts = np.zeros(0, dtype=np.int64)
+    for a, b, ua, ub in unit_chunks(lengths):
+        first, second, inside = unit_bigrams(tokens[a:b], lengths[ua:ub])
+        u, c = np.unique(first[inside] * n_types + second[inside], return_counts=True)
+        del first, second, inside
+        if uniq.size == 0:
+            uniq, counts = u, c.astype(np.int64)
+            continue
+        merged, inverse = np.unique(np.concatenate([uniq, u]), return_inverse=True)
+        total = np.zeros(merged.size, dtype=np.int64)
+        np.add.at(total, inverse, np.concatenate([counts, c]))
+        uniq, counts = merged, total
+    return uniq, counts
 
 
 def learn_phrases(
@@ -136,9 +186,7 @@ def learn_phrases(
     from gensim.models.phrases import Phrases
 
     n_types = len(types)
-    first, second, inside = unit_bigrams(tokens, lengths)
-    keys = first[inside] * n_types + second[inside]
-    uniq, counts = np.unique(keys, return_counts=True)
+    uniq, counts = _bigram_counts(tokens, lengths, n_types)
     keep = counts >= min_count
     uniq, counts = uniq[keep], counts[keep]
     unigram = np.bincount(np.asarray(tokens, dtype=np.int64), minlength=n_types)
@@ -199,27 +247,54 @@ def apply_phrases(
     joined = np.zeros(len(model), dtype=np.int64)
     if len(model) == 0 or tokens.size < 2:
         return tokens.astype(np.int32), lengths.copy(), joined
-    first, second, inside = unit_bigrams(tokens, lengths)
-    keys = first * n_types + second
     model_keys = model.pairs[:, 0] * n_types + model.pairs[:, 1]
     order = np.argsort(model_keys)
     sorted_keys = model_keys[order]
+    outs, new_lengths = [], []
+    for a, b, ua, ub in unit_chunks(lengths):  # pairs never span units: piece by piece
+        out, piece_lengths, piece_joined = _apply_piece(
+            tokens[a:b], lengths[ua:ub], order, sorted_keys, n_types, len(model)
+        )
+        outs.append(out)
+        new_lengths.append(piece_lengths)
+        joined += piece_joined
+    return np.concatenate(outs), np.concatenate(new_lengths), joined
+
+
+def _apply_piece(
+    tokens: NDArray[np.integer],
+    lengths: NDArray[np.int64],
+    order: NDArray[np.int64],
+    sorted_keys: NDArray[np.int64],
+    n_types: int,
+    n_phrases: int,
+) -> tuple[NDArray[np.int32], NDArray[np.int64], NDArray[np.int64]]:
+    """:func:`apply_phrases` on whole units (``sorted_keys``: the model's pair keys sorted,
+    ``order``: their phrase numbers)."""
+    if tokens.size < 2:
+        return tokens.astype(np.int32), lengths.copy(), np.zeros(n_phrases, dtype=np.int64)
+    first, second, inside = unit_bigrams(tokens, lengths)
+    keys = first * n_types + second
+    del first, second
     at = np.minimum(np.searchsorted(sorted_keys, keys), sorted_keys.size - 1)
     hit = inside & (sorted_keys[at] == keys)
+    del keys, inside
     # gensim's greedy pass: within a run of consecutive hits, take every other one.
     pos = np.arange(hit.size)
     run_start = hit.copy()
     run_start[1:] &= ~hit[:-1]
     last_start = np.maximum.accumulate(np.where(run_start, pos, -1))
     take = hit & ((pos - last_start) % 2 == 0)
+    del pos, run_start, last_start, hit
     phrase = order[at[take]]
     out = tokens.astype(np.int32, copy=True)
     out[:-1][take] = (n_types + phrase).astype(np.int32)
     drop = np.zeros(tokens.size, dtype=bool)
     drop[1:][take] = True
-    unit = np.repeat(np.arange(lengths.size), lengths)
-    new_lengths = lengths - np.bincount(unit[:-1][take], minlength=lengths.size)
-    joined = np.bincount(phrase, minlength=len(model)).astype(np.int64)
+    # the unit of each joined pair's first token, found from the units' ends
+    unit_of_pair = np.searchsorted(np.cumsum(lengths), np.flatnonzero(take), side="right")
+    new_lengths = lengths - np.bincount(unit_of_pair, minlength=lengths.size)
+    joined = np.bincount(phrase, minlength=n_phrases).astype(np.int64)
     return out[~drop], new_lengths, joined
 
 
@@ -280,7 +355,8 @@ def join_runs(
             np.zeros(len(model), dtype=np.int64),
         )
     starts = np.cumsum(lengths) - lengths
-    run_sentence = np.repeat(np.arange(sent_kept.size), sent_kept)[starts]
+    # the sentence each run starts in, from the sentences' ends (no per-token array)
+    run_sentence = np.searchsorted(np.cumsum(sent_kept), starts, side="right")
     out, new_lengths, joined = apply_phrases(tokens, lengths, model, n_types)
     new_breaks = np.zeros(out.size, dtype=bool)
     new_breaks[np.cumsum(new_lengths) - new_lengths] = True

@@ -126,9 +126,9 @@ def boilerplate_step(
     kept_tokens = np.repeat(~masked, table.sent_kept)
     table.tokens = table.tokens[kept_tokens]
     table.breaks = table.breaks[kept_tokens]
-    table.sent_kept = np.where(masked, 0, table.sent_kept)
-    table.sent_words = np.where(masked, 0, table.sent_words)
-    table.sent_stats = np.where(masked[:, None], 0, table.sent_stats)
+    table.sent_kept[masked] = 0  # in place: these are the corpus's largest arrays
+    table.sent_words[masked] = 0
+    table.sent_stats[masked] = 0
     table.emptied["boilerplate"] = has_text & (table.per_doc(table.sent_words) == 0)
     table.report["boilerplate"]["emptied"] = int(table.emptied["boilerplate"].sum())
     return table

@@ -33,13 +33,13 @@ class TokenTable:
     breaks : ndarray of bool
         One per token: True where a run of adjacent words starts (see
         :attr:`talkthemes.prepare.lemmas.Encoded.breaks`).
-    sent_doc : ndarray of int64
+    sent_doc : ndarray of int32
         Transcript number of each sentence.
-    sent_words : ndarray of int64
+    sent_words : ndarray of int32
         Words of each sentence before the filter.
     sent_keys : ndarray of int64
         Boilerplate key of each sentence (0: too short).
-    sent_stats : ndarray of int32, shape (S, len(STAT_COLUMNS))
+    sent_stats : ndarray of uint16 or int32, shape (S, len(STAT_COLUMNS))
         Filter counts of each sentence.
     sent_kept : ndarray of int64
         Tokens of each sentence in :attr:`tokens`.
@@ -58,10 +58,10 @@ class TokenTable:
     types: list[str]
     tokens: NDArray[np.int32]
     breaks: NDArray[np.bool_]
-    sent_doc: NDArray[np.int64]
-    sent_words: NDArray[np.int64]
+    sent_doc: NDArray[np.int32]
+    sent_words: NDArray[np.int32]
     sent_keys: NDArray[np.int64]
-    sent_stats: NDArray[np.int32]
+    sent_stats: NDArray[np.integer]
     sent_kept: NDArray[np.int64]
     emptied: dict[str, NDArray[np.bool_]] = field(default_factory=dict)
     report: dict[str, Any] = field(default_factory=dict)
@@ -91,8 +91,11 @@ def start_table(col: Collected, settings: PrepareSettings) -> TokenTable:
     table = TokenTable(
         tids=col.tids,
         types=list(col.types),
-        sent_doc=np.repeat(np.arange(n_docs), col.array("doc_sentences").astype(np.int64)),
-        sent_words=col.array("sent_words").astype(np.int64),
+        # int32 where it fits: these run over every sentence of the corpus
+        sent_doc=np.repeat(
+            np.arange(n_docs, dtype=np.int32), col.array("doc_sentences").astype(np.int64)
+        ),
+        sent_words=col.array("sent_words"),
         sent_keys=col.array("sent_keys"),
         sent_stats=col.array("sent_stats"),
         sent_kept=col.array("sent_kept").astype(np.int64),
