@@ -8,8 +8,10 @@ batch, so a killed run leaves whole transcripts only) under the identity rule of
 
 from __future__ import annotations
 
+import collections
 import csv
 import io
+import itertools
 import logging
 import multiprocessing
 import os
@@ -17,11 +19,12 @@ import sys
 import threading
 import time
 from collections import Counter
-from collections.abc import Iterator, Sequence
-from concurrent.futures import ProcessPoolExecutor
+from collections.abc import Callable, Iterable, Iterator, Sequence
+from concurrent.futures import Executor, Future, ProcessPoolExecutor
 from dataclasses import dataclass, field
+from functools import partial
 from pathlib import Path
-from typing import Any
+from typing import Any, TypeVar
 
 from talkthemes.calls.identity import KEPT, SKIPPED, ReexportRule
 from talkthemes.calls.model import Reject, Transcript, Warning_
@@ -37,7 +40,7 @@ from talkthemes.testhook import pause_at
 from talkthemes.text.escape import csv_cell
 from talkthemes.workspace import Workspace, atomic_write_text
 
-__all__ = ["IngestReport", "ingest", "reexport_rule", "write_rejects_csv"]
+__all__ = ["IngestReport", "bounded_map", "ingest", "reexport_rule", "write_rejects_csv"]
 
 log = logging.getLogger(__name__)
 
@@ -346,6 +349,10 @@ def _apply_manifest(
 
 PARALLEL_MIN_FILES = 400
 _CHUNK_FILES = 100
+#: Chunks of files read ahead per worker process while earlier ones are stored.
+_AHEAD_PER_WORKER = 4
+T = TypeVar("T")
+R = TypeVar("R")
 
 
 def _read_chunk(
@@ -410,7 +417,29 @@ def _read_files(
     with ProcessPoolExecutor(
         max_workers=n, mp_context=ctx, initializer=watch_parent, initargs=(os.getpid(),)
     ) as pool:
-        yield from zip(chunks, pool.map(_read_chunk, chunks, [settings] * len(chunks)), strict=True)
+        # A few chunks in flight per worker, not all of them: parsing outruns storing, and
+        # results waiting to be stored would otherwise grow with the number of files.
+        yield from bounded_map(
+            pool, partial(_read_chunk, settings=settings), chunks, _AHEAD_PER_WORKER * n
+        )
+
+
+def bounded_map(
+    pool: Executor, fn: Callable[[T], R], items: Iterable[T], ahead: int
+) -> Iterator[tuple[T, R]]:
+    """``(item, fn(item))`` in the order of ``items``, run on ``pool`` with at most
+    ``ahead`` items submitted and not yet taken by the caller (so memory stays bounded when
+    the caller is slower than the pool, unlike :meth:`Executor.map`)."""
+    pending: collections.deque[tuple[T, Future[R]]] = collections.deque()
+    todo = iter(items)
+    for item in itertools.islice(todo, max(1, ahead)):
+        pending.append((item, pool.submit(fn, item)))
+    while pending:
+        item, future = pending.popleft()
+        result = future.result()
+        for nxt in itertools.islice(todo, 1):
+            pending.append((nxt, pool.submit(fn, nxt)))
+        yield item, result
 
 
 def write_rejects_csv(path: Path, rejects: Sequence[Reject]) -> None:
