@@ -31,7 +31,7 @@ from talkthemes.ingest.detect import is_manifest, iter_files, read_file, resolve
 from talkthemes.ingest.run import ingest
 from talkthemes.prepare.frozen import AppliedBatch, PrepApplier, load_prep_spec, too_few_terms
 from talkthemes.progress import Progress, report
-from talkthemes.routing import route_frames
+from talkthemes.routing import call_languages, join_routed, route_frames
 from talkthemes.versions.export import share_order, write_table
 from talkthemes.versions.load import Version, load_version
 from talkthemes.versions.unthemed import UNTHEMED
@@ -269,6 +269,32 @@ def _batches(
         yield batch
 
 
+#: Calls read, prepared and assigned at a time by :func:`assign`.
+CALLS_PER_CHUNK = 5000
+
+
+def _call_chunks(
+    items: Iterable[Transcript | Reject | Warning_],
+    rejects: list[Reject],
+    warnings: list[Warning_],
+) -> Iterator[list[Transcript]]:
+    """The transcripts among ``items`` in lists of :data:`CALLS_PER_CHUNK`; rejects and
+    warnings are collected."""
+    chunk: list[Transcript] = []
+    for item in items:
+        if isinstance(item, Transcript):
+            chunk.append(item)
+            if len(chunk) >= CALLS_PER_CHUNK:
+                yield chunk
+                chunk = []
+        elif isinstance(item, Reject):
+            rejects.append(item)
+        else:
+            warnings.append(item)
+    if chunk:
+        yield chunk
+
+
 def assign_items(
     items: Iterable[Transcript | Reject | Warning_],
     version: Version,
@@ -365,26 +391,32 @@ def assign(
         stored = ingest(ws, list(paths), manifests=list(manifests)).to_json()
     rejects: list[Reject] = []
     warnings: list[Warning_] = []
-    calls: list[Transcript] = []
-    for item in read_transcripts(paths, settings, manifests=manifests):
-        if isinstance(item, Transcript):
-            calls.append(item)
-        else:
-            (rejects if isinstance(item, Reject) else warnings).append(item)  # type: ignore[arg-type]
+    loaded: dict[Path, tuple[Version, PrepApplier, ShareModel]] = {}
 
     def assign_with(lane: Workspace, group: list[Transcript]) -> pd.DataFrame:
-        lane_v = v if lane is ws else load_version(lane, None)
+        if lane.root not in loaded:  # once per language, not once per chunk
+            lane_v = v if lane is ws else load_version(lane, None)
+            loaded[lane.root] = (
+                lane_v,
+                PrepApplier(load_prep_spec(lane, lane_v)),
+                ShareModel.from_version(lane_v),
+            )
+        lane_v, applier, model = loaded[lane.root]
         frame, _, _ = assign_items(
-            group,
-            lane_v,
-            PrepApplier(load_prep_spec(lane, lane_v)),
-            ShareModel.from_version(lane_v),
-            batch_size=batch_size,
-            progress=progress,
+            group, lane_v, applier, model, batch_size=batch_size, progress=progress
         )
         return frame
 
-    frame = route_frames(ws, calls, assign_with)  # each call by its language's version
+    # In chunks of calls, so memory does not grow with the number of files: each call by
+    # its language's version, the chunks' tables joined as one table of all of them.
+    main = ws.settings().prepare.lang
+    frames, langs = [], []
+    for chunk in _call_chunks(read_transcripts(paths, settings, manifests=manifests),
+                              rejects, warnings):  # fmt: skip
+        codes = call_languages(chunk, ws.settings().prepare)
+        frames.append(route_frames(ws, chunk, assign_with, codes))
+        langs.append(codes)
+    frame = join_routed(frames, langs, main) if frames else pd.DataFrame()
     if frame.empty and not rejects:
         raise InputError(
             "no transcripts found in "

@@ -26,7 +26,7 @@ if TYPE_CHECKING:
     from talkthemes.config import PrepareSettings
     from talkthemes.workspace import Workspace
 
-__all__ = ["call_languages", "route_frames"]
+__all__ = ["call_languages", "join_routed", "route_frames"]
 
 
 def call_languages(calls: Sequence[Transcript], prepare: PrepareSettings) -> list[str]:
@@ -53,6 +53,7 @@ def route_frames(
     ws: Workspace,
     calls: Sequence[Transcript],
     assign_with: Callable[[Workspace, list[Transcript]], pd.DataFrame],
+    langs: Sequence[str] | None = None,
 ) -> pd.DataFrame:
     """The assignment table of ``calls``, each by its language's version, in input order.
 
@@ -64,6 +65,8 @@ def route_frames(
     assign_with : callable
         ``assign_with(workspace, calls)``: the table of some calls under that workspace's
         version (raises NotReadyError when it has none).
+    langs : sequence of str, optional
+        :func:`call_languages` of ``calls``, when the caller has it already.
 
     Returns
     -------
@@ -73,7 +76,7 @@ def route_frames(
         named ``share_<code>_<id>``.
     """
     prepare = ws.settings().prepare
-    langs = call_languages(calls, prepare)
+    langs = call_languages(calls, prepare) if langs is None else langs
     main = prepare.lang
     groups: dict[str, list[int]] = {}
     for i, code in enumerate(langs):
@@ -88,9 +91,57 @@ def route_frames(
         frame.index = rows
         frames.append(frame)
     table = pd.concat(frames).sort_index().reset_index(drop=True)
+    return _ordered(table, list(groups), main)
+
+
+def _ordered(table: pd.DataFrame, codes: list[str], main: str) -> pd.DataFrame:
+    """Columns in the routed order: the others, then each language's share columns in
+    ``codes`` order (main: ``share_<id>``; a lane: ``share_<code>_<id>``), then
+    ``known_terms`` and ``reason``."""
     shares = [c for c in table.columns if c.startswith("share_")]
+
+    def language_of(column: str) -> str:
+        code = column.removeprefix("share_").split("_")[0]
+        return main if code.isdigit() else code
+
+    rank = {code: i for i, code in enumerate(codes)}
+    shares.sort(key=lambda c: rank.get(language_of(c), len(rank)))  # stable: ids keep order
     rest = [c for c in table.columns if c not in shares and c not in ("known_terms", "reason")]
     return table[[*rest, *shares, "known_terms", "reason"]]
+
+
+def join_routed(
+    frames: Sequence[pd.DataFrame], langs: Sequence[Sequence[str]], main: str
+) -> pd.DataFrame:
+    """The tables :func:`route_frames` made of consecutive chunks of calls, as one table of
+    all of them: the same table it makes of all the calls at once.
+
+    Parameters
+    ----------
+    frames : sequence of DataFrame
+        Each chunk's table.
+    langs : sequence of sequence of str
+        Each chunk's :func:`call_languages`.
+    main : str
+        ``[prepare] lang``.
+
+    Returns
+    -------
+    DataFrame
+    """
+    if not any("language" in f.columns for f in frames):
+        return pd.concat(frames, ignore_index=True)  # every call in the main language
+    parts = []
+    for frame, codes in zip(frames, langs, strict=True):
+        if "language" not in frame.columns:
+            frame = frame.copy()
+            frame.insert(1, "language", list(codes))
+        parts.append(frame)
+    order: dict[str, None] = {}
+    for codes in langs:
+        for code in codes:
+            order.setdefault(main if code == UNDECIDED else code, None)
+    return _ordered(pd.concat(parts, ignore_index=True), list(order), main)
 
 
 def _group_frame(

@@ -155,6 +155,31 @@ def test_assign_routes_each_call_to_its_languages_version(published: Mixed, tmp_
     assert list(frame["language"]) == ["es"] and frame.filter(like="share_es_").shape[1] == 3
 
 
+@pytest.mark.parametrize("chunk", [1, 2, 3])
+def test_assign_in_chunks_gives_the_table_of_all_calls_at_once(
+    published: Mixed, tmp_path: Path, monkeypatch, chunk: int
+) -> None:
+    """``assign`` reads, prepares and routes calls a chunk at a time (memory stays bounded);
+    the table is the one it makes of all the calls at once, columns and order included —
+    also when the first chunks hold English calls only."""
+    src = published.sources
+    es = sorted((src / "es").glob("*.txt"))[:3]
+    en = sorted((src / "en").rglob("*.txt"))[:4]
+    inputs = tmp_path / "new"
+    inputs.mkdir()
+    order = [("a1", en[0]), ("a2", en[1]), ("b1", es[0]), ("c1", en[2]), ("d1", es[1]),
+             ("e1", en[3]), ("f1", es[2])]  # fmt: skip
+    for name, path in order:
+        (inputs / f"{name}.txt").write_text(path.read_text("utf-8"), "utf-8")
+    whole, chunked = tmp_path / "whole.csv", tmp_path / "chunked.csv"
+    _cli("assign", str(inputs), "--out", str(whole), "-w", str(published.root))
+    monkeypatch.setattr("talkthemes.assign.CALLS_PER_CHUNK", chunk)
+    _cli("assign", str(inputs), "--out", str(chunked), "-w", str(published.root))
+    assert chunked.read_text("utf-8") == whole.read_text("utf-8")
+    header = whole.read_text("utf-8").splitlines()[0].split(",")
+    assert header[1] == "language" and any(c.startswith("share_es_") for c in header)
+
+
 def test_refresh_refreshes_each_lane_on_its_new_calls(published: Mixed, tmp_path: Path) -> None:
     from tests.support.spanish import write_spanish_calls
 
