@@ -47,7 +47,7 @@ def encode(sentences: list[list[str]]):
 def test_same_phrases_and_output_as_gensim(
     seed: int, threshold: float, min_count: int, chunk: int, monkeypatch
 ):
-    monkeypatch.setattr("talkthemes.prepare.phrases.CHUNK_TOKENS", chunk)
+    monkeypatch.setattr("talkthemes.prepare.pieces.CHUNK_TOKENS", chunk)
     sentences = random_sentences(seed)
     tokens, lengths, types = encode(sentences)
     model, frozen = learn_phrases(tokens, lengths, types, threshold=threshold, min_count=min_count)
@@ -113,7 +113,7 @@ def test_empty_input():
 
 # -- only adjacent words -------------------------------------------------------------------
 def test_unit_chunks_cover_the_stream_in_whole_units():
-    from talkthemes.prepare.phrases import unit_chunks
+    from talkthemes.prepare.pieces import unit_chunks
 
     lengths = np.array([3, 0, 5, 2, 9, 0, 1])
     pieces = unit_chunks(lengths, 6)
@@ -128,7 +128,7 @@ def test_unit_chunks_cover_the_stream_in_whole_units():
 def test_run_lengths_and_join_runs_keep_the_sentence_layout(chunk: int, monkeypatch):
     from talkthemes.prepare.phrases import PhraseModel, join_runs, run_lengths
 
-    monkeypatch.setattr("talkthemes.prepare.phrases.CHUNK_TOKENS", chunk)
+    monkeypatch.setattr("talkthemes.prepare.pieces.CHUNK_TOKENS", chunk)
 
     # two sentences: [a b | a b] and [b a b]; a gap inside the first sentence
     tokens = np.array([0, 1, 0, 1, 1, 0, 1], dtype=np.int32)
@@ -216,3 +216,23 @@ def test_no_phrase_joins_words_that_were_never_adjacent():
     for name in names:
         first, second = name.split("_")
         assert any(a.startswith(first[:4]) and b.startswith(second[:4]) for a, b in adjacent)
+
+
+@pytest.mark.parametrize("chunk", [1, 5, 4_000_000])
+def test_term_counts_in_pieces_equal_counts_in_one(chunk: int, monkeypatch) -> None:
+    """The document–term counts are built a piece of transcripts at a time; the matrix is
+    the one a single pass gives (scipy's own sum of duplicates is the reference)."""
+    import scipy.sparse as sp
+
+    from talkthemes.prepare.vocabulary import doc_term_matrix
+
+    monkeypatch.setattr("talkthemes.prepare.pieces.CHUNK_TOKENS", chunk)
+    rng = np.random.default_rng(4)
+    lengths = rng.integers(0, 9, size=40)
+    tokens = rng.integers(0, 12, size=int(lengths.sum())).astype(np.int32)
+    got = doc_term_matrix(tokens, lengths, 12)
+    rows = np.repeat(np.arange(lengths.size), lengths)
+    want = sp.coo_matrix((np.ones(tokens.size), (rows, tokens)), shape=(40, 12)).tocsr()
+    assert got.shape == (40, 12) and got.dtype == np.int32 and got.has_sorted_indices
+    assert (got != want).nnz == 0
+    assert doc_term_matrix(np.zeros(0, dtype=np.int32), np.zeros(0), 3).shape == (0, 3)

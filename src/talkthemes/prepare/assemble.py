@@ -14,6 +14,7 @@ from functools import partial
 from typing import Any
 
 from talkthemes.config import PrepareSettings
+from talkthemes.memory import release_free_memory
 from talkthemes.prepare.build import vocabulary_step
 from talkthemes.prepare.collect import Collected
 from talkthemes.prepare.corpus import PreparedCorpus
@@ -64,6 +65,7 @@ def finish(
     corpus : PreparedCorpus
     explain : dict
     """
+    release_free_memory()  # the read phase's garbage, before the corpus-sized arrays
     table = start_table(col, settings)
     stages: list[tuple[str, list[CorpusStep]]] = [
         (
@@ -90,9 +92,11 @@ def finish(
     for stage, steps in stages:
         report(progress, 0, 1, stage)
         for step in steps:
+            release_free_memory()  # each step's arrays replace the last one's
             table = step(table, settings)
         report(progress, 1, 1, stage)
     report(progress, 0, 1, "vocabulary")
+    release_free_memory()
     corpus = vocabulary_step(table, settings, min_terms=min_terms, min_transcripts=min_transcripts)
     report(progress, 1, 1, "vocabulary")
 

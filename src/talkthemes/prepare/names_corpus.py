@@ -133,19 +133,19 @@ def resolve_names(
         breaks[(drop - np.arange(drop.size))[last]] = True
         sent_kept = sent_kept - lost
         tokens = tokens[keep_mask]
-    return out_types, remap[tokens].astype(np.int32), breaks, sent_kept, removed
+    return out_types, remap.astype(np.int32)[tokens], breaks, sent_kept, removed
 
 
 def _doc_freq(table: TokenTable, ids: NDArray[np.int64]) -> NDArray[np.int64]:
     """Transcripts in which each of the term ids ``ids`` occurs."""
     if ids.size == 0 or table.tokens.size == 0:
         return np.zeros(ids.size, dtype=np.int64)
-    want = np.full(len(table.types), -1, dtype=np.int64)
+    want = np.full(len(table.types), -1, dtype=np.int32)  # int32: one per corpus token
     want[ids] = np.arange(ids.size)
     slot = want[table.tokens]
     hit = np.flatnonzero(slot >= 0)
     doc = np.searchsorted(np.cumsum(table.per_doc(table.sent_kept)), hit, side="right")
-    pairs = np.unique(doc * ids.size + slot[hit])
+    pairs = np.unique(doc * ids.size + slot[hit].astype(np.int64))
     return np.bincount(pairs % ids.size, minlength=ids.size).astype(np.int64)
 
 

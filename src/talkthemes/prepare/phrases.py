@@ -43,6 +43,8 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
+from talkthemes.prepare.pieces import unit_chunks
+
 __all__ = [
     "DELIMITER",
     "PhraseModel",
@@ -51,7 +53,6 @@ __all__ = [
     "learn_phrases",
     "run_lengths",
     "unit_bigrams",
-    "unit_chunks",
 ]
 
 DELIMITER = "_"
@@ -104,32 +105,6 @@ def unit_bigrams(
     inside[starts[(starts > 0) & (starts < n)] - 1] = False
     t = tokens.astype(np.int64, copy=False)
     return t[:-1], t[1:], inside
-
-
-#: Tokens handled at a time by the stream passes below: their temporaries (about 60 bytes
-#: a token) stay near 250 MB however long the corpus is.
-CHUNK_TOKENS = 4_000_000
-
-
-def unit_chunks(
-    lengths: NDArray[np.integer], max_tokens: int | None = None
-) -> list[tuple[int, int, int, int]]:
-    """Cut a stream of units into pieces of whole units of at most ``max_tokens`` tokens
-    (a longer unit is a piece of its own): ``(first token, end token, first unit, end
-    unit)`` per piece (``max_tokens`` defaults to :data:`CHUNK_TOKENS`). Pairs never span
-    units, so each piece can be worked on alone."""
-    max_tokens = max_tokens or CHUNK_TOKENS
-    lengths = np.asarray(lengths, dtype=np.int64)
-    ends = np.cumsum(lengths)
-    out = []
-    unit, token = 0, 0
-    while unit < lengths.size:
-        stop = int(np.searchsorted(ends, token + max_tokens, side="right"))
-        stop = max(stop, unit + 1)
-        end = int(ends[stop - 1])
-        out.append((token, end, unit, stop))
-        unit, token = stop, end
-    return out
 
 
 def _bigram_counts(

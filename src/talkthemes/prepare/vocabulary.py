@@ -23,6 +23,8 @@ import numpy as np
 import scipy.sparse as sp
 from numpy.typing import NDArray
 
+from talkthemes.prepare.pieces import unit_chunks
+
 __all__ = ["VocabularyCut", "doc_term_matrix", "prune_vocabulary"]
 
 
@@ -44,12 +46,20 @@ def doc_term_matrix(
     scipy.sparse.csr_matrix of int32, shape (D, n_terms)
         Canonical (sorted indices, no duplicates).
     """
+    doc_lengths = np.asarray(doc_lengths, dtype=np.int64)
     d = int(doc_lengths.size)
-    rows = np.repeat(np.arange(d, dtype=np.int64), np.asarray(doc_lengths, dtype=np.int64))
-    data = np.ones(tokens.size, dtype=np.int32)
-    x = sp.coo_matrix((data, (rows, np.asarray(tokens, dtype=np.int64))), shape=(d, n_terms))
-    x = x.tocsr()
-    x.sum_duplicates()
+    blocks = []
+    # in pieces of whole transcripts (bounded memory; see talkthemes.prepare.pieces)
+    for a, b, da, db in unit_chunks(doc_lengths) if d else []:
+        rows = np.repeat(np.arange(db - da, dtype=np.int32), doc_lengths[da:db])
+        data = np.ones(b - a, dtype=np.int32)
+        x = sp.coo_matrix((data, (rows, tokens[a:b])), shape=(db - da, n_terms)).tocsr()
+        x.sum_duplicates()
+        x.sort_indices()
+        blocks.append(x)
+    if len(blocks) == 1:
+        return blocks[0]
+    x = sp.vstack(blocks, format="csr") if blocks else sp.csr_matrix((d, n_terms), dtype=np.int32)
     x.sort_indices()
     return x
 
