@@ -25,6 +25,8 @@ __all__ = ["MIN_NEW_FOR_CHECK", "coherence_check"]
 
 #: Fewer new (usable) transcripts than this skip the coherence check.
 MIN_NEW_FOR_CHECK = 20
+#: Calls read and prepared at a time.
+_CHUNK = 2000
 
 
 def coherence_check(
@@ -54,17 +56,21 @@ def coherence_check(
     from talkthemes.models.base import top_terms
 
     applier = PrepApplier(spec)
+
+    def prepared(ids: Sequence[str]) -> Any:
+        # a chunk of calls read and prepared at a time: their texts never all in memory
+        chunks = (ids[i : i + _CHUNK] for i in range(0, len(ids), _CHUNK))
+        return applier.apply_all(store.turns_for(list(c), speakers=True) for c in chunks)
+
     with ws.store() as store:
-        new = applier.apply(store.turns_for(list(new_ids), speakers=True))
+        new = prepared(list(new_ids))
         usable = new.known >= spec.settings.min_tokens
         n = int(usable.sum())
         if n < MIN_NEW_FOR_CHECK or not version.doc_ids:
             return {"checked": False, "n": n, "drop": drop, "triggered": False}
         rng = np.random.default_rng([seed, 20100601])
         pick = rng.choice(len(version.doc_ids), size=min(n, len(version.doc_ids)), replace=False)
-        earlier = applier.apply(
-            store.turns_for([version.doc_ids[i] for i in sorted(pick)], speakers=True)
-        )
+        earlier = prepared([version.doc_ids[i] for i in sorted(pick)])
     topn = int(version.info.get("topn", 10))
     tops = top_terms(version.topic_terms, min(topn, version.topic_terms.shape[1]))
 
