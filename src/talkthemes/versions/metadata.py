@@ -21,9 +21,9 @@ from talkthemes.errors import InputError
 
 __all__ = [
     "MAX_CATEGORIES",
+    "MAX_SEGMENTS",
     "FieldInfo",
     "MetaTable",
-    "MAX_SEGMENTS",
     "field_label",
     "metadata_table",
     "seconds_field",

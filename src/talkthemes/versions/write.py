@@ -11,7 +11,8 @@ that new text needs: settings, boilerplate sentences, phrases, excluded transcri
 refresh, settings, library versions, theme ids by row, retired theme ids, per-theme
 coherence, each theme's suggested name), ``evidence.json`` (each theme's evidence sentences,
 :mod:`talkthemes.versions.evidence`), and for a refresh ``drift.json``, ``drift.md`` and
-``drift.png`` (see :mod:`talkthemes.versions.drift`).
+``drift.png`` (see :mod:`talkthemes.versions.drift`), and ``view_tables/``: what the viewer's
+sections read instead of the share matrix (:mod:`talkthemes.versions.tables`).
 """
 
 from __future__ import annotations
@@ -31,8 +32,10 @@ from talkthemes.privacy import name_term, prep_words
 from talkthemes.versions.evidence import EVIDENCE_FILE, evidence_document
 from talkthemes.versions.evidence_build import build_evidence
 from talkthemes.versions.fit import FittedVersion
+from talkthemes.versions.metadata import metadata_table
 from talkthemes.versions.naming import suggest_names
 from talkthemes.versions.prune import prune_versions
+from talkthemes.versions.tables import TABLES_DIR, build_and_write
 from talkthemes.workspace import Workspace, atomic_dir
 
 __all__ = ["Checkpoint", "ExtraFiles", "ThemePlan", "fitted_names", "write_version"]
@@ -148,6 +151,7 @@ def write_version(
             json.dumps(evidence_document(theme_ids, evidence), ensure_ascii=False, indent=1),
             encoding="utf-8",
         )
+        _view_tables(ws, tmp, fitted, theme_ids)
         if extra_files is not None:
             extra_files(tmp, n, theme_ids)
         (tmp / "version.json").write_text(json.dumps(info, indent=1, default=float), "utf-8")
@@ -174,6 +178,17 @@ def write_version(
     if removed:
         log.info("removed old versions %s", removed)
     return n
+
+
+def _view_tables(ws: Workspace, folder: Path, fitted: FittedVersion, theme_ids: list[int]) -> None:
+    """The version's viewer tables (:mod:`talkthemes.versions.tables`), counted over every
+    call of the version with the calls' metadata as stored now."""
+    with ws.store() as store:
+        meta = metadata_table(fitted.doc_ids, store.metadata_for(None))
+    build_and_write(
+        folder / TABLES_DIR, fitted.doc_topics, list(fitted.doc_ids), meta, theme_ids,
+        fitted.topic_terms,
+    )  # fmt: skip
 
 
 def _weights_and_marginal(fitted: FittedVersion) -> tuple[np.ndarray, np.ndarray]:
