@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from talkthemes import trends, trends_counts
+from talkthemes import trends_counts
 from talkthemes.errors import InputError
 from talkthemes.trends import (
     lead_share_by_period,
