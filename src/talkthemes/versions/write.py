@@ -185,10 +185,12 @@ def _view_tables(ws: Workspace, folder: Path, fitted: FittedVersion, theme_ids: 
     call of the version with the calls' metadata as stored now."""
     with ws.store() as store:
         meta = metadata_table(fitted.doc_ids, store.metadata_for(None))
+    # The arrays as written (float32), as the viewer loads them: the same leads and shares.
+    doc_topics = np.load(folder / "doc_topics.npy", mmap_mode="r", allow_pickle=False)
+    topic_terms = np.load(folder / "topic_terms.npy", allow_pickle=False)
     build_and_write(
-        folder / TABLES_DIR, fitted.doc_topics, list(fitted.doc_ids), meta, theme_ids,
-        fitted.topic_terms,
-    )  # fmt: skip
+        folder / TABLES_DIR, doc_topics, list(fitted.doc_ids), meta, theme_ids, topic_terms
+    )
 
 
 def _weights_and_marginal(fitted: FittedVersion) -> tuple[np.ndarray, np.ndarray]:
