@@ -108,12 +108,8 @@ def run_sections(ws: Workspace, runs: int) -> tuple[float, float]:
         call_counts(ws, v).sentence()
         calls_rows(v, frame.head(1000))
 
-    meta_cache: dict[str, Any] = {}
-
     def calls_filtered(v: Any) -> None:
-        if "meta" not in meta_cache:  # read once per version, then cached by the viewer
-            meta_cache["meta"] = view.load_metadata(ws, v.doc_ids)
-        meta = meta_cache["meta"]
+        meta = v.tables.call_metadata()  # read on the version's first filter, then kept
         flt = view.CallFilter()
         if field is not None and meta.fields[field].kind == "category":
             flt = view.CallFilter(categories={field: [meta.fields[field].values[0]]})

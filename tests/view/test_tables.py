@@ -220,6 +220,31 @@ def test_written_tables_read_back_the_same(version, meta, tmp_path) -> None:
     assert merged == tables_dir(tmp_path, [(11, [0, 1]), (13, [2])])
 
 
+def test_the_calls_metadata_kept_with_the_tables_filters_as_the_stored_one(
+    version, meta, tmp_path
+) -> None:
+    built = build_tables(
+        version.doc_topics, version.doc_ids, meta, version.theme_ids, version.topic_terms
+    )
+    write_tables(tmp_path / TABLES_DIR, built, meta, version.theme_ids)
+    kept = read_tables(tmp_path / TABLES_DIR, version.theme_ids, 6).call_metadata()
+    assert kept.date_field == "date" and kept.fields == meta.fields
+    pd.testing.assert_series_equal(kept.dates, meta.dates, check_names=False)
+    assert kept.numbers["duration_s"] == pytest.approx(meta.numbers["duration_s"])
+    filters = [
+        CallFilter(categories={"queue": ["billing"]}),
+        CallFilter(ranges={"duration_s": (3.0, 9.0)}, lead_only=False),
+        CallFilter(date_from=dt.date(2026, 5, 5), date_to=dt.date(2026, 6, 1), lead_only=False),
+        CallFilter(contains={"ref": "B-"}, lead_only=False),
+        CallFilter(min_share=0.3, lead_only=False),
+    ]
+    for flt in filters:
+        for pos in range(version.k):
+            same_rows(calls_table(version, kept, pos, flt), calls_table(version, meta, pos, flt))
+    billing = calls_table(version, kept, 0, filters[0])
+    assert billing["transcript_id"].tolist() == ["t0", "t2"]
+
+
 def test_a_version_without_dates_has_no_days(version) -> None:
     meta = metadata_table(version.doc_ids, {t: {"queue": v["queue"]} for t, v in META.items()})
     tables = tables_of(version, meta)

@@ -168,7 +168,10 @@ def _layout(root: str, n: int, stamp: int) -> ThemeLayout:
 
 @st.cache_resource(show_spinner=False, max_entries=4)
 def _metadata(root: str, n: int, stamp: int) -> MetaTable:
-    return load_metadata(Workspace(root), _version(root, n, stamp).doc_ids)
+    try:  # the calls' metadata kept with the tables (one Parquet file)
+        return _tables(root, n, stamp).call_metadata()
+    except (OSError, ValueError):  # not kept: every call's rows in the store
+        return load_metadata(Workspace(root), _version(root, n, stamp).doc_ids)
 
 
 def current_version(ws: Workspace) -> Version:
@@ -197,8 +200,9 @@ def layout(ws: Workspace, version: Version) -> ThemeLayout:
 
 
 def metadata(ws: Workspace, version: Version) -> MetaTable:
-    """Every transcript's metadata (read once, cached): only a filtered Calls list needs
-    it; the sections' fields and dates are in :func:`tables`."""
+    """Every transcript's metadata (read once, cached; as the version's tables keep it):
+    only a filtered Calls list needs it; the sections' fields and dates are in
+    :func:`tables`."""
     with st.spinner(f"Reading the metadata of {len(version.doc_ids):,} transcripts …"):
         return _metadata(*version_key(ws, version.n))
 

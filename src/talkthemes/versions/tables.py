@@ -3,8 +3,9 @@
 Written with the version (:func:`talkthemes.versions.write.write_version`, so a publish
 and every refresh write them for all the version's calls) into ``versions/<n>/view_tables/``
 (see :mod:`talkthemes.versions.tables_build` for what they hold): ``groups.parquet``,
-``top_calls.parquet``, ``map.parquet``, ``map_distances.npy`` and ``tables.json`` (the
-format, the theme ids by column, the metadata fields and their kinds, the date field).
+``top_calls.parquet``, ``calls.parquet``, ``map.parquet``, ``map_distances.npy`` and
+``tables.json`` (the format, the theme ids by column, the metadata fields and their kinds,
+the date field).
 No pickle: Parquet, ``.npy`` without objects, JSON.
 
 Themes merged after a version was written (:mod:`talkthemes.versions.curation`) change
@@ -104,6 +105,8 @@ class ViewTables:
     explained : float
     built : str
         ``"publish"`` (written with the version) or ``"first open"``.
+    folder : Path or None
+        Where they were read from (None: built and kept in memory).
     """
 
     n_calls: int
@@ -116,6 +119,7 @@ class ViewTables:
     distances: np.ndarray
     explained: float
     built: str = "publish"
+    folder: Path | None = None
     _cache: dict[str, Any] = field(default_factory=dict, repr=False)
 
     @property
@@ -180,6 +184,29 @@ class ViewTables:
         rows = self.top[self.top["theme_id"] == int(theme_id)]
         return rows.sort_values("rank").reset_index(drop=True)
 
+    def call_metadata(self) -> MetaTable:
+        """Every call's metadata by version row, as a filtered Calls list reads it (the
+        ``calls.parquet`` table, read on first use; the same table
+        :func:`~talkthemes.versions.metadata.metadata_table` built when they were written)."""
+        if "meta" not in self._cache:
+            if self.folder is None:
+                raise ValueError("these tables were not written: no call metadata to read")
+            calls = pd.read_parquet(self.folder / "calls.parquet")
+            text = [c for c in calls.columns if c.startswith("m:")]
+            frame = calls[text].rename(columns={c: c[2:] for c in text}).astype(object)
+            frame = frame.where(frame.notna(), None)
+            numbers = {
+                c[2:]: calls[c].to_numpy(dtype=np.float64)
+                for c in calls.columns
+                if c.startswith("n:")
+            }
+            dates = None
+            if self.date_field is not None and f"d:{self.date_field}" in calls:
+                dates = pd.Series(pd.to_datetime(calls[f"d:{self.date_field}"]), name=None)
+            self._cache["meta"] = MetaTable(frame, dict(self.fields), self.date_field, dates,
+                                            numbers)  # fmt: skip
+        return self._cache["meta"]
+
     def metadata_frame(self, rows: pd.DataFrame) -> pd.DataFrame:
         """The metadata columns of top-list rows, named as the fields."""
         cols = [c for c in rows.columns if c.startswith("m:")]
@@ -193,6 +220,7 @@ def write_tables(target: Path, built: BuiltTables, meta: MetaTable, theme_ids: l
     with atomic_dir(Path(target)) as tmp:
         built.groups.to_parquet(tmp / "groups.parquet", index=False)
         built.top.to_parquet(tmp / "top_calls.parquet", index=False)
+        built.calls.to_parquet(tmp / "calls.parquet", index=False)
         built.layout.to_parquet(tmp / "map.parquet", index=False)
         np.save(tmp / "map_distances.npy", built.distances, allow_pickle=False)
         doc = {
@@ -235,6 +263,7 @@ def read_tables(target: Path, theme_ids: list[int], n_calls: int) -> ViewTables 
             distances=np.load(target / "map_distances.npy", allow_pickle=False),
             explained=float(doc.get("explained", 0.0)),
             built=str(doc.get("built", "publish")),
+            folder=target,
         )
     except (OSError, ValueError, KeyError) as exc:
         log.warning("viewer tables in %s unreadable (%s): built again", target, exc)
@@ -243,8 +272,8 @@ def read_tables(target: Path, theme_ids: list[int], n_calls: int) -> ViewTables 
 
 def tables_from_built(built: BuiltTables, meta: MetaTable, theme_ids: list[int],
                       how: str) -> ViewTables:  # fmt: skip
-    """Built tables as loaded ones (when they could not be written)."""
-    return ViewTables(
+    """Built tables as loaded ones (kept in memory, with the calls' metadata)."""
+    tables = ViewTables(
         n_calls=built.n_calls,
         theme_ids=[int(t) for t in theme_ids],
         groups=built.groups,
@@ -256,6 +285,8 @@ def tables_from_built(built: BuiltTables, meta: MetaTable, theme_ids: list[int],
         explained=built.explained,
         built=how,
     )
+    tables._cache["meta"] = meta
+    return tables
 
 
 def build_and_write(target: Path, doc_topics: np.ndarray, doc_ids: list[str], meta: MetaTable,

@@ -8,6 +8,9 @@ the calls' metadata, so that no section of the viewer reads the share matrix aga
   of the theme's shares. Days add up to the weeks and months the sections show.
 * **top calls** — per theme, the :data:`TOP_CALLS` calls it leads with the largest shares
   (ties by transcript id), with their metadata: the Calls list as it first opens.
+* **calls** — each call's metadata as the viewer's filters read it (text as shown,
+  numbers and dates parsed), by version row: what a filtered Calls list needs besides the
+  shares, read from one Parquet file instead of every call's rows in the store;
 * **map** — each theme's place on the theme map and the distances between themes
   (classical MDS on Jensen–Shannon distances, docs/methods_metrics.md, "Theme map:
   Jensen–Shannon distance and classical MDS").
@@ -26,7 +29,7 @@ import pandas as pd
 from talkthemes.metrics.layout import classical_mds, js_distance_matrix
 from talkthemes.versions.metadata import MetaTable, segment_fields, segment_values
 
-__all__ = ["CHUNK", "TOP_CALLS", "BuiltTables", "build_tables", "lead_of"]
+__all__ = ["CHUNK", "TOP_CALLS", "BuiltTables", "build_tables", "call_frame", "lead_of"]
 
 #: Calls each theme's top list keeps (the rows the Calls list shows).
 TOP_CALLS = 1000
@@ -46,7 +49,9 @@ class BuiltTables:
         distances: np.ndarray,
         explained: float,
         n_calls: int,
+        calls: pd.DataFrame,
     ) -> None:
+        self.calls = calls
         self.groups = groups
         self.top = top
         self.layout = layout
@@ -163,6 +168,21 @@ def _top_calls(
     return out
 
 
+def call_frame(meta: MetaTable) -> pd.DataFrame:
+    """Each call's metadata by version row: ``m:<field>`` the text as the frame shows it,
+    ``n:<field>`` a number field's values (NaN when missing), ``d:<field>`` the dates of
+    the date field."""
+    out = pd.DataFrame(index=range(len(meta.frame)))
+    for name in meta.frame.columns:
+        col = meta.frame[name].astype(object)
+        out[f"m:{name}"] = col.where(col.notna(), None)
+    for name, values in meta.numbers.items():
+        out[f"n:{name}"] = np.asarray(values, dtype=np.float64)
+    if meta.date_field is not None and meta.dates is not None:
+        out[f"d:{meta.date_field}"] = meta.dates.to_numpy()
+    return out
+
+
 def build_tables(
     doc_topics: np.ndarray,
     doc_ids: Sequence[str],
@@ -232,4 +252,5 @@ def build_tables(
         distances=np.asarray(distances, dtype=np.float64),
         explained=float(mds.explained),
         n_calls=len(doc_ids),
+        calls=call_frame(meta),
     )
