@@ -28,7 +28,7 @@ from talkthemes.versions.tables import (
 )
 from talkthemes.versions.tables_build import TOP_CALLS, build_tables
 from talkthemes.view.calls import CallFilter, calls_table, plain_filter, top_calls_table
-from talkthemes.view.metadata import MetaTable, metadata_table
+from talkthemes.view.metadata import FieldInfo, MetaTable, metadata_table
 from talkthemes.view.over_time import (
     default_comparison,
     full_periods,
@@ -243,6 +243,25 @@ def test_the_calls_metadata_kept_with_the_tables_filters_as_the_stored_one(
             same_rows(calls_table(version, kept, pos, flt), calls_table(version, meta, pos, flt))
     billing = calls_table(version, kept, 0, filters[0])
     assert billing["transcript_id"].tolist() == ["t0", "t2"]
+
+
+def test_a_missing_text_value_stays_missing_once_masked(version, tmp_path) -> None:
+    rows = {t: dict(v) for t, v in META.items()}
+    del rows["t1"]["ref"]
+    meta = metadata_table(version.doc_ids, rows)
+    meta.fields["ref"] = FieldInfo("ref", "text")
+    built = build_tables(
+        version.doc_topics, version.doc_ids, meta, version.theme_ids, version.topic_terms
+    )
+    write_tables(tmp_path / TABLES_DIR, built, meta, version.theme_ids)
+    tables = read_tables(tmp_path / TABLES_DIR, version.theme_ids, 6)
+    for frame in (
+        calls_table(version, tables.call_metadata(), 0),
+        calls_table(version, meta, 0),
+        top_calls_table(version, tables, 0),
+    ):
+        refs = dict(zip(frame["transcript_id"], frame["ref"], strict=True))
+        assert pd.isna(refs["t1"]) and refs["t0"] == "a-1", refs
 
 
 def test_a_version_without_dates_has_no_days(version) -> None:

@@ -193,8 +193,9 @@ class ViewTables:
                 raise ValueError("these tables were not written: no call metadata to read")
             calls = pd.read_parquet(self.folder / "calls.parquet")
             text = [c for c in calls.columns if c.startswith("m:")]
-            frame = calls[text].rename(columns={c: c[2:] for c in text}).astype(object)
-            frame = frame.where(frame.notna(), None)
+            # Text columns as Parquet gives them (pandas strings, missing as NA): what the
+            # filters compare, and a million rows are not copied into Python objects.
+            frame = calls[text].rename(columns={c: c[2:] for c in text})
             numbers = {
                 c[2:]: calls[c].to_numpy(dtype=np.float64)
                 for c in calls.columns

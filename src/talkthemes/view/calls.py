@@ -79,7 +79,7 @@ def _mask_text(extra: pd.DataFrame, fields: dict, masked: bool) -> pd.DataFrame:
     if masked:
         for name, info in fields.items():
             if info.kind == "text" and name in extra:
-                extra[name] = extra[name].map(lambda v: None if v is None else mask_value(str(v)))
+                extra[name] = extra[name].map(lambda v: None if pd.isna(v) else mask_value(str(v)))
     return extra
 
 
