@@ -71,7 +71,7 @@ class Version:
     topic_terms: np.ndarray
     doc_topics: np.ndarray
     groups: list[Group] | None = None
-    tables: Any = None
+    tables: Any = field(default=None, repr=False)
     _cache: dict[str, Any] = field(default_factory=dict, repr=False)
 
     @property
