@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from talkthemes import trends
+from talkthemes import trends_counts
 from talkthemes.errors import InputError
 from talkthemes.trends import (
     lead_share_by_period,
@@ -150,7 +150,7 @@ def test_missing_periods_are_left_out() -> None:
 
 
 def test_resampling_in_chunks_covers_every_period(monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setattr(trends, "_MAX_DRAWS_PER_CHUNK", 1)  # one period per chunk
+    monkeypatch.setattr(trends_counts, "_MAX_DRAWS_PER_CHUNK", 1)  # one period per chunk
     lead, periods = _two_weeks()
     out = lead_share_by_period(lead, periods, 3, n_boot=100, seed=3)
     assert out[["lo", "hi"]].notna().all().all()

@@ -31,11 +31,20 @@ import numpy as np
 import pandas as pd
 
 from talkthemes.errors import InputError
+from talkthemes.trends_counts import (
+    check_boot,
+    count_table,
+    label_rows,
+    lead_share_from_counts,
+    movers_from_counts,
+)
 
 __all__ = [
     "lead_share_by_period",
     "lead_share_by_segment",
+    "lead_share_from_counts",
     "movers",
+    "movers_from_counts",
     "period_range",
     "period_start",
 ]
@@ -43,10 +52,6 @@ __all__ = [
 logger = logging.getLogger(__name__)
 
 Freq = Literal["week", "month"]
-
-# Upper bound on bootstrap draws held in memory at once (floats), so a long weekly
-# history with many themes is resampled in chunks of groups.
-_MAX_DRAWS_PER_CHUNK = 4_000_000
 
 
 def period_start(dates: pd.Series, freq: Freq) -> pd.Series:
@@ -189,7 +194,7 @@ def lead_share_by_period(
         level=level,
         what="lead_share_by_period",
     )
-    return _label_rows(table, "period", keys, n_themes, theme_ids, names)
+    return label_rows(table, "period", keys, n_themes, theme_ids, names)
 
 
 def lead_share_by_segment(
@@ -248,7 +253,7 @@ def lead_share_by_segment(
         level=level,
         what="lead_share_by_segment",
     )
-    return _label_rows(table, "segment", keys, n_themes, theme_ids, names)
+    return label_rows(table, "segment", keys, n_themes, theme_ids, names)
 
 
 def movers(
@@ -301,36 +306,16 @@ def movers(
     for mask, label in ((a, "first (before)"), (b, "second (after)")):
         if not mask.any():
             raise InputError(f"movers: the {label} period has no transcripts")
-    _check_boot(n_boot, level, "movers")
     counts = np.stack(
         [
             np.bincount(lead_arr[a], minlength=n_themes),
             np.bincount(lead_arr[b], minlength=n_themes),
         ]
     )
-    n = counts.sum(axis=1)
-    share = counts / n[:, None]
-    rng = np.random.default_rng(seed)
-    draws_a = rng.binomial(n[0], share[0], size=(n_boot, n_themes)) / n[0]
-    draws_b = rng.binomial(n[1], share[1], size=(n_boot, n_themes)) / n[1]
-    tail = (1.0 - level) / 2.0
-    lo, hi = np.quantile(100.0 * (draws_b - draws_a), [tail, 1.0 - tail], axis=0)
-    ids, labels = _theme_labels(n_themes, theme_ids, names)
-    out = pd.DataFrame(
-        {
-            "theme_id": ids,
-            "name": labels,
-            "share_before": share[0],
-            "share_after": share[1],
-            "change": 100.0 * (share[1] - share[0]),
-            "lo": lo,
-            "hi": hi,
-            "n_before": np.full(n_themes, n[0], dtype=np.int64),
-            "n_after": np.full(n_themes, n[1], dtype=np.int64),
-        }
-    )
-    order = np.lexsort((out["theme_id"].to_numpy(), -np.abs(out["change"].to_numpy())))
-    return out.iloc[order].reset_index(drop=True)
+    return movers_from_counts(
+        counts[0], counts[1], n_boot=n_boot, seed=seed, level=level, theme_ids=theme_ids,
+        names=names,
+    )  # fmt: skip
 
 
 # --------------------------------------------------------------------------- internals
@@ -385,13 +370,6 @@ def _check_mask(mask: np.ndarray, length: int, label: str) -> np.ndarray:
     return arr
 
 
-def _check_boot(n_boot: int, level: float, what: str) -> None:
-    if int(n_boot) < 1:
-        raise InputError(f"{what}: n_boot must be at least 1, not {n_boot}")
-    if not 0.0 < float(level) < 1.0:
-        raise InputError(f"{what}: level must lie strictly between 0 and 1, not {level}")
-
-
 def _share_table(
     lead: np.ndarray,
     codes: np.ndarray,
@@ -404,69 +382,11 @@ def _share_table(
     what: str,
 ) -> dict[str, np.ndarray]:
     """Counts, shares and bootstrap intervals for every (group, theme) pair."""
-    _check_boot(n_boot, level, what)
+    check_boot(n_boot, level, what)
     left_out = int(np.count_nonzero(codes < 0))
     if left_out:
         logger.info("%s: %d transcripts without a group were left out", what, left_out)
     keep = codes >= 0
     flat = codes[keep] * n_themes + lead[keep]
     counts = np.bincount(flat, minlength=n_groups * n_themes).reshape(n_groups, n_themes)
-    n = counts.sum(axis=1)
-    share = np.full(counts.shape, np.nan)
-    lo = np.full(counts.shape, np.nan)
-    hi = np.full(counts.shape, np.nan)
-    filled = n > 0
-    share[filled] = counts[filled] / n[filled, None]
-    rng = np.random.default_rng(seed)
-    tail = (1.0 - level) / 2.0
-    rows = np.flatnonzero(filled)
-    step = max(1, _MAX_DRAWS_PER_CHUNK // (n_boot * n_themes))
-    for start in range(0, rows.size, step):
-        idx = rows[start : start + step]
-        nn = n[idx][:, None]
-        draws = rng.binomial(nn, share[idx], size=(n_boot, idx.size, n_themes)) / nn
-        lo[idx], hi[idx] = np.quantile(draws, [tail, 1.0 - tail], axis=0)
-    return {"share": share, "lo": lo, "hi": hi, "n": n}
-
-
-def _theme_labels(
-    n_themes: int, theme_ids: Sequence[int] | None, names: Sequence[str] | None
-) -> tuple[np.ndarray, list[str]]:
-    ids = np.arange(n_themes, dtype=np.int64) if theme_ids is None else np.asarray(theme_ids)
-    if ids.shape != (n_themes,):
-        raise InputError(f"theme_ids has {ids.size} entries for {n_themes} themes")
-    ids = ids.astype(np.int64)
-    if names is None:
-        labels = [f"theme {i}" for i in ids]
-    else:
-        labels = [str(s) for s in names]
-        if len(labels) != n_themes:
-            raise InputError(f"names has {len(labels)} entries for {n_themes} themes")
-    return ids, labels
-
-
-def _label_rows(
-    table: dict[str, np.ndarray],
-    key_name: str,
-    keys: pd.Index,
-    n_themes: int,
-    theme_ids: Sequence[int] | None,
-    names: Sequence[str] | None,
-) -> pd.DataFrame:
-    ids, labels = _theme_labels(n_themes, theme_ids, names)
-    n_groups = len(keys)
-    out = pd.DataFrame(
-        {
-            key_name: np.repeat(keys.to_numpy(), n_themes),
-            "theme_id": np.tile(ids, n_groups),
-            "name": np.tile(np.asarray(labels, dtype=object), n_groups),
-            "share": table["share"].ravel(),
-            "lo": table["lo"].ravel(),
-            "hi": table["hi"].ravel(),
-            "n": np.repeat(table["n"], n_themes).astype(np.int64),
-        }
-    )
-    out["name"] = out["name"].astype(str)
-    if key_name == "segment":
-        out["segment"] = out["segment"].astype(str)
-    return out.sort_values([key_name, "theme_id"], kind="stable").reset_index(drop=True)
+    return count_table(counts, n_boot=n_boot, seed=seed, level=level, what=what)

@@ -89,7 +89,7 @@ def test_only_the_transcript_view_asks_the_prepare_step() -> None:
 #: The domain: what the three faces (CLI, viewer, service) and the public API stand on.
 DOMAIN = ("calls", "store", "ingest", "prepare", "models", "metrics", "sweep", "versions",
           "refresh", "text", "assign.py", "workspace.py", "config", "errors.py", "progress.py",
-          "trends.py", "privacy.py", "testhook.py")  # fmt: skip
+          "trends.py", "trends_counts.py", "privacy.py", "testhook.py")  # fmt: skip
 #: What sits above it: presentation, the faces and the public API over them.
 ABOVE_DOMAIN = ("streamlit", "altair", "vl_convert", "talkthemes.charts", "talkthemes.view",
                 "talkthemes.app", "talkthemes.report", "talkthemes.cli", "talkthemes.service",

@@ -3,8 +3,10 @@
 Loaded data is cached per workspace path, version number and the modification time of
 the version's ``version.json`` (a re-publish of the same number, or a new version,
 makes a new key): arrays and tables with ``st.cache_resource`` (one shared copy, never
-mutated), aggregated frames with ``st.cache_data``. Labels, notes and hidden flags are
-read fresh from the store on every run, so an edit shows everywhere at once.
+mutated), aggregated frames with ``st.cache_data``. The sections count from the version's
+viewer tables (:func:`talkthemes.view.tables.ensure_tables`), not its share matrix; the
+calls' full metadata is read only when the Calls list is filtered. Labels, notes and hidden
+flags are read fresh from the store on every run, so an edit shows everywhere at once.
 """
 
 from __future__ import annotations
@@ -35,7 +37,8 @@ from talkthemes.view.metadata import MetaTable, load_metadata
 from talkthemes.view.over_time import movers_frame, segment_frame, theme_trends, trend_frame
 from talkthemes.view.readiness import Need, NextStep, Readiness
 from talkthemes.view.readiness import readiness as workspace_readiness
-from talkthemes.view.theme_map import ThemeLayout, theme_layout
+from talkthemes.view.tables import ViewTables, ensure_tables, table_coverage, table_layout
+from talkthemes.view.theme_map import ThemeLayout
 from talkthemes.view.themes import theme_names, with_names
 from talkthemes.workspace import DB_FILE, Workspace, resolve_workspace
 
@@ -149,17 +152,26 @@ def version_key(ws: Workspace, n: int) -> tuple[str, int, int]:
 
 @st.cache_resource(show_spinner=False, max_entries=4)
 def _version(root: str, n: int, stamp: int) -> Version:
-    return load_version(Workspace(root), n)
+    version = load_version(Workspace(root), n)
+    ensure_tables(Workspace(root), version)  # attached: version.tables
+    return version
+
+
+def _tables(root: str, n: int, stamp: int) -> ViewTables:
+    return _version(root, n, stamp).tables
 
 
 @st.cache_resource(show_spinner=False, max_entries=4)
 def _layout(root: str, n: int, stamp: int) -> ThemeLayout:
-    return theme_layout(_version(root, n, stamp).topic_terms)
+    return table_layout(_tables(root, n, stamp))
 
 
 @st.cache_resource(show_spinner=False, max_entries=4)
 def _metadata(root: str, n: int, stamp: int) -> MetaTable:
-    return load_metadata(Workspace(root), _version(root, n, stamp).doc_ids)
+    try:  # the calls' metadata kept with the tables (one Parquet file)
+        return _tables(root, n, stamp).call_metadata()
+    except (OSError, ValueError):  # not kept: every call's rows in the store
+        return load_metadata(Workspace(root), _version(root, n, stamp).doc_ids)
 
 
 def current_version(ws: Workspace) -> Version:
@@ -170,7 +182,7 @@ def current_version(ws: Workspace) -> Version:
             raise TalkthemesError("no version published yet: run 'talkthemes publish'")
         n = record.n
     key = version_key(ws, n)
-    with st.spinner(f"Loading version {n} …"):
+    with st.spinner(f"Loading version {n} and its tables …"):
         version = _version(*key)
     with ws.store() as store:
         return version.with_labels(store)
@@ -188,19 +200,26 @@ def layout(ws: Workspace, version: Version) -> ThemeLayout:
 
 
 def metadata(ws: Workspace, version: Version) -> MetaTable:
-    """The version's transcripts' metadata (read once, cached)."""
-    with st.spinner("Reading the transcripts' metadata …"):
+    """Every transcript's metadata (read once, cached; as the version's tables keep it):
+    only a filtered Calls list needs it; the sections' fields and dates are in
+    :func:`tables`."""
+    with st.spinner(f"Reading the metadata of {len(version.doc_ids):,} transcripts …"):
         return _metadata(*version_key(ws, version.n))
+
+
+def tables(ws: Workspace, version: Version) -> ViewTables:
+    """The version's viewer tables (read with the version, cached)."""
+    return version.tables if version.tables is not None else _tables(*version_key(ws, version.n))
 
 
 @st.cache_data(show_spinner=False, max_entries=8)
 def _trend(root: str, n: int, stamp: int, freq: str) -> pd.DataFrame:
-    return trend_frame(_version(root, n, stamp), _metadata(root, n, stamp), freq)  # type: ignore[arg-type]
+    return trend_frame(_version(root, n, stamp), _tables(root, n, stamp), freq)  # type: ignore[arg-type]
 
 
 @st.cache_data(show_spinner=False, max_entries=4)
 def _theme_trends(root: str, n: int, stamp: int) -> pd.DataFrame:
-    return theme_trends(_version(root, n, stamp), _metadata(root, n, stamp))
+    return theme_trends(_version(root, n, stamp), _tables(root, n, stamp))
 
 
 def trends(ws: Workspace, version: Version) -> pd.DataFrame:
@@ -211,7 +230,7 @@ def trends(ws: Workspace, version: Version) -> pd.DataFrame:
 
 @st.cache_data(show_spinner=False, max_entries=16)
 def _segments(root: str, n: int, stamp: int, field: str) -> pd.DataFrame:
-    return segment_frame(_version(root, n, stamp), _metadata(root, n, stamp), field)
+    return segment_frame(_version(root, n, stamp), _tables(root, n, stamp), field)
 
 
 @st.cache_data(show_spinner=False, max_entries=16)
@@ -220,7 +239,7 @@ def _movers(
 ) -> pd.DataFrame:
     return movers_frame(
         _version(root, n, stamp),
-        _metadata(root, n, stamp),
+        _tables(root, n, stamp),
         freq,  # type: ignore[arg-type]
         [pd.Timestamp(b) for b in before],
         pd.Timestamp(after),
@@ -343,7 +362,7 @@ def show_chart(
 
 def default_theme(version: Version) -> int:
     """The shown theme that leads the most transcripts (any theme if all are hidden)."""
-    cov = version.coverage()
+    cov = table_coverage(version)
     shown = [i for i, t in enumerate(version.themes) if not t.hidden] or list(range(version.k))
     best = max(shown, key=lambda i: (cov[i], -i))
     return version.themes[best].theme_id

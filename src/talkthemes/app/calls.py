@@ -18,9 +18,16 @@ from talkthemes.app import _labelling, _shared
 from talkthemes.errors import TalkthemesError
 from talkthemes.text import md_inline, percent
 from talkthemes.versions.load import Version
-from talkthemes.view.calls import CallFilter, calls_csv, calls_table
+from talkthemes.versions.tables import ViewTables
+from talkthemes.view.calls import (
+    CallFilter,
+    calls_csv,
+    calls_table,
+    plain_filter,
+    top_calls_table,
+)
 from talkthemes.view.evidence import best_sentences
-from talkthemes.view.metadata import MetaTable
+from talkthemes.view.tables import table_coverage, table_lead_count
 from talkthemes.view.transcript import (
     TermHighlighter,
     load_transcript,
@@ -37,7 +44,7 @@ OPEN_KEY = "calls_open"
 TABLE_KEY = "calls_table"
 
 
-def _filters(meta: MetaTable) -> CallFilter:
+def _filters(meta: ViewTables) -> CallFilter:
     flt = CallFilter()
     with st.expander("Filters", expanded=True, icon=":material/filter_list:"):
         left, right = st.columns(2)
@@ -89,7 +96,10 @@ def _filters(meta: MetaTable) -> CallFilter:
             elif info.kind == "number":
                 lo, hi = float(info.lo), float(info.hi)
                 if lo < hi:
-                    flt.ranges[info.name] = box.slider(label, lo, hi, (lo, hi), key=key)
+                    picked = box.slider(label, lo, hi, (lo, hi), key=key)
+                    # As for dates: the full range keeps calls without a value.
+                    if tuple(picked) != (lo, hi):
+                        flt.ranges[info.name] = picked
             elif info.kind == "text":
                 text = box.text_input(f"{label} contains", key=key)
                 if text.strip():
@@ -130,26 +140,35 @@ def render() -> None:
     """The Calls section."""
     ws = _shared.gate("version")
     version = _shared.current_version(ws)
-    meta = _shared.metadata(ws, version)
+    tables = _shared.tables(ws, version)
     st.title("Calls")
     tid = _shared.theme_picker(version, key="calls_pick")
     pos = version.position(tid)
-    flt = _filters(meta)
+    flt = _filters(tables)
+    masked = not original_allowed(ws)
+
+    def full_list() -> pd.DataFrame:  # every match: reads every call's share and metadata
+        return calls_table(version, _shared.metadata(ws, version), pos, flt, masked=masked)
+
     try:
-        frame = calls_table(version, meta, pos, flt, masked=not original_allowed(ws))
+        if plain_filter(flt):  # the list as it opens: from the tables
+            frame = top_calls_table(version, tables, pos, masked=masked)
+            matches = table_lead_count(version, pos)
+        else:
+            frame = full_list()
+            matches = len(frame)
     except TalkthemesError as exc:
         _shared.show_error(exc)
         return
-    coverage = float(version.coverage()[pos])
+    coverage = float(table_coverage(version)[pos])
     st.caption(
-        f"{len(frame):,} transcripts match, most dominated by the theme first. The theme "
+        f"{matches:,} transcripts match, most dominated by the theme first. The theme "
         f"leads {percent(coverage)} of the version's {len(version.doc_ids):,} transcripts. "
         + md_inline(_shared.counts(ws, version).sentence())
-        + (f" The table lists the first {MAX_LISTED:,}." if len(frame) > MAX_LISTED else "")
+        + (f" The table lists the first {MAX_LISTED:,}." if matches > MAX_LISTED else "")
     )
     shown = frame.head(MAX_LISTED).copy()
     ids = shown["transcript_id"].astype(str).tolist()
-    masked = not original_allowed(ws)
     head = shown.head(MAX_SENTENCES)
     picked = _shared.sentences(
         ws,
@@ -180,14 +199,14 @@ def render() -> None:
             "lead_share": st.column_config.NumberColumn("Lead share", format="percent"),
             **{
                 name: st.column_config.TextColumn(info.label)
-                for name, info in meta.fields.items()
+                for name, info in tables.fields.items()
                 if name in shown.columns
             },
         },
     )
     st.download_button(
         "Download the list (CSV)",
-        data=lambda: calls_csv(_with_sentences(ws, version, frame, masked), meta),
+        data=lambda: calls_csv(_with_sentences(ws, version, full_list(), masked), tables),
         file_name=f"theme-{tid}-calls.csv",
         mime="text/csv",
         on_click="ignore",
@@ -217,10 +236,11 @@ def render() -> None:
         _shared.show_error(exc)
         return
     row = shown[shown["transcript_id"] == tid_open].iloc[0]
+    own = {"transcript_id", "best_sentence", "share", "lead_theme", "lead_theme_id", "lead_share"}
     facts = [
-        md_inline(f"{meta.fields[k].label if k in meta.fields else k}: {row[k]}")
-        for k in meta.frame.columns
-        if pd.notna(row.get(k))
+        md_inline(f"{tables.fields[k].label if k in tables.fields else k}: {row[k]}")
+        for k in shown.columns
+        if k not in own and pd.notna(row.get(k))
     ]
     st.caption(
         " · ".join(

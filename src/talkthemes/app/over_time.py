@@ -149,7 +149,7 @@ def render() -> None:
     """The Over time section."""
     ws = _shared.gate("version")
     version = _shared.current_version(ws)
-    meta = _shared.metadata(ws, version)
+    meta = _shared.tables(ws, version)  # the fields and the days with calls
     st.title("Over time")
     selected = _shared.selected_theme(version)
     left, right = st.columns([2, 3])

@@ -14,6 +14,7 @@ from talkthemes.errors import TalkthemesError
 from talkthemes.metrics.prominence import boilerplate_like
 from talkthemes.store.records import ThemeRecord
 from talkthemes.text import md_inline, percent
+from talkthemes.view.tables import table_coverage, table_lead_count, table_mean_share
 from talkthemes.view.themes import boilerplate_advice, term_rows, theme_names
 from talkthemes.workspace import Workspace
 
@@ -94,8 +95,8 @@ def render() -> None:
 
     st.subheader(md_inline(name))
     _labelling.suggested_caption(version, pos)
-    cov = float(version.coverage()[pos])
-    mean = float(version.mean_share()[pos])
+    coverage, mean_share = table_coverage(version), table_mean_share(version)
+    cov, mean = float(coverage[pos]), float(mean_share[pos])
     coherence = (version.info.get("coherence") or {}).get("c_npmi")
     a, b, c = st.columns(3)
     a.metric("Leads", percent(cov), help="Share of transcripts whose lead theme it is.")
@@ -108,11 +109,11 @@ def render() -> None:
         )
     st.caption(
         f"Theme #{tid} · {md_inline(theme.status)} in version {version.n} · "
-        f"leads {int((version.lead() == pos).sum()):,} of the version's "
+        f"leads {table_lead_count(version, pos):,} of the version's "
         f"{len(version.doc_ids):,} transcripts. "
         + md_inline(_shared.counts(ws, version).sentence())
     )
-    if bool(boilerplate_like(version.coverage(), version.mean_share())[pos]) and not theme.hidden:
+    if bool(boilerplate_like(coverage, mean_share)[pos]) and not theme.hidden:
         row = {"mean_share": mean, "coverage": cov}
         st.warning(md_inline(boilerplate_advice(row)), icon=":material/visibility_off:")
 

@@ -57,6 +57,9 @@ class Version:
     groups : list of (int, list of int) or None
         When themes are merged: per row, the id it keeps and the rows of the version's
         files folded into it (None: the files' rows as they are).
+    tables : ViewTables or None
+        The version's viewer tables once the viewer has opened them
+        (:mod:`talkthemes.versions.tables`; kept by :meth:`with_labels`).
     """
 
     n: int
@@ -68,6 +71,7 @@ class Version:
     topic_terms: np.ndarray
     doc_topics: np.ndarray
     groups: list[Group] | None = None
+    tables: Any = field(default=None, repr=False)
     _cache: dict[str, Any] = field(default_factory=dict, repr=False)
 
     @property

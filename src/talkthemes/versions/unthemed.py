@@ -133,10 +133,13 @@ def unthemed_group(folder: Path, doc_ids: Sequence[str] | None = None) -> Unthem
             doc_ids = json.loads((Path(folder) / "doc_ids.json").read_text(encoding="utf-8"))
         except (OSError, ValueError):
             doc_ids = []
-    themed = set(doc_ids)
-    reasons = {t: r for t, r in excluded_reasons(folder).items() if t not in themed}
+    excluded = excluded_reasons(folder)
+    # A version's ids are distinct; only the (few) excluded ids are looked up among them,
+    # so a million-call version is walked once, without a set of its ids.
+    inside = set(excluded).intersection(doc_ids) if excluded else set()
+    reasons = {t: r for t, r in excluded.items() if t not in inside}
     counts = Counter(reason_group(r) for r in reasons.values())
     by_reason = dict(sorted(counts.items(), key=lambda kv: (-kv[1], kv[0])))
     return UnthemedGroup(
-        count=len(reasons), themed=len(themed), by_reason=by_reason, reasons=reasons
+        count=len(reasons), themed=len(doc_ids), by_reason=by_reason, reasons=reasons
     )

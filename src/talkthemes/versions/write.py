@@ -11,7 +11,8 @@ that new text needs: settings, boilerplate sentences, phrases, excluded transcri
 refresh, settings, library versions, theme ids by row, retired theme ids, per-theme
 coherence, each theme's suggested name), ``evidence.json`` (each theme's evidence sentences,
 :mod:`talkthemes.versions.evidence`), and for a refresh ``drift.json``, ``drift.md`` and
-``drift.png`` (see :mod:`talkthemes.versions.drift`).
+``drift.png`` (see :mod:`talkthemes.versions.drift`), and ``view_tables/``: what the viewer's
+sections read instead of the share matrix (:mod:`talkthemes.versions.tables`).
 """
 
 from __future__ import annotations
@@ -32,8 +33,10 @@ from talkthemes.privacy import name_term, prep_words
 from talkthemes.versions.evidence import EVIDENCE_FILE, evidence_document
 from talkthemes.versions.evidence_build import build_evidence
 from talkthemes.versions.fit import FittedVersion
+from talkthemes.versions.metadata import metadata_table
 from talkthemes.versions.naming import suggest_names
 from talkthemes.versions.prune import prune_versions
+from talkthemes.versions.tables import TABLES_DIR, build_and_write
 from talkthemes.workspace import Workspace, atomic_dir
 
 __all__ = [
@@ -161,6 +164,7 @@ def write_version(
             json.dumps(evidence_document(theme_ids, evidence), ensure_ascii=False, indent=1),
             encoding="utf-8",
         )
+        _view_tables(ws, tmp, fitted, theme_ids)
         if extra_files is not None:
             extra_files(tmp, n, theme_ids)
         (tmp / "version.json").write_text(json.dumps(info, indent=1, default=float), "utf-8")
@@ -198,7 +202,21 @@ def version_bytes(fitted: FittedVersion) -> int:
     arrays += sum(np.asarray(a).nbytes for a in fitted.state_arrays.values())
     ids = sum(len(t) + 4 for t in fitted.doc_ids)
     vocabulary = sum(len(t) + 4 for t in fitted.vocabulary)
-    return int(arrays + ids + 2 * vocabulary)
+    tables = 64 * len(fitted.doc_ids)  # the viewer tables: about a call's metadata row each
+    return int(arrays + ids + 2 * vocabulary + tables)
+
+
+def _view_tables(ws: Workspace, folder: Path, fitted: FittedVersion, theme_ids: list[int]) -> None:
+    """The version's viewer tables (:mod:`talkthemes.versions.tables`), counted over every
+    call of the version with the calls' metadata as stored now."""
+    with ws.store() as store:
+        meta = metadata_table(fitted.doc_ids, store.metadata_for(None))
+    # The arrays as written (float32), as the viewer loads them: the same leads and shares.
+    doc_topics = np.load(folder / "doc_topics.npy", mmap_mode="r", allow_pickle=False)
+    topic_terms = np.load(folder / "topic_terms.npy", allow_pickle=False)
+    build_and_write(
+        folder / TABLES_DIR, doc_topics, list(fitted.doc_ids), meta, theme_ids, topic_terms
+    )
 
 
 def _weights_and_marginal(fitted: FittedVersion) -> tuple[np.ndarray, np.ndarray]:

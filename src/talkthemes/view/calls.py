@@ -1,4 +1,9 @@
-"""The data behind Calls: the transcripts of a theme, filtered, and the list as CSV."""
+"""The data behind Calls: the transcripts of a theme, filtered, and the list as CSV.
+
+The list as it first opens (the calls a theme leads, no other filter) is read from the
+version's viewer tables (:func:`top_calls_table`); any filter reads every call's share
+and metadata (:func:`calls_table`).
+"""
 
 from __future__ import annotations
 
@@ -13,10 +18,18 @@ from talkthemes.errors import InputError
 from talkthemes.privacy import mask_value
 from talkthemes.text import csv_frame
 from talkthemes.versions.load import Version
+from talkthemes.versions.tables import ViewTables
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.themes import theme_names
 
-__all__ = ["CSV_HEADERS", "CallFilter", "calls_csv", "calls_table"]
+__all__ = [
+    "CSV_HEADERS",
+    "CallFilter",
+    "calls_csv",
+    "calls_table",
+    "plain_filter",
+    "top_calls_table",
+]
 
 
 @dataclass
@@ -47,6 +60,53 @@ class CallFilter:
     categories: dict[str, list[str]] = field(default_factory=dict)
     ranges: dict[str, tuple[float, float]] = field(default_factory=dict)
     contains: dict[str, str] = field(default_factory=dict)
+
+
+def plain_filter(flt: CallFilter) -> bool:
+    """Whether the filter lists just the calls the theme leads (what the tables hold)."""
+    return (
+        flt.lead_only
+        and flt.min_share <= 0
+        and flt.date_from is None
+        and flt.date_to is None
+        and not any(flt.categories.values())
+        and not flt.ranges
+        and not any(flt.contains.values())
+    )
+
+
+def _mask_text(extra: pd.DataFrame, fields: dict, masked: bool) -> pd.DataFrame:
+    if masked:
+        for name, info in fields.items():
+            if info.kind == "text" and name in extra:
+                extra[name] = extra[name].map(lambda v: None if pd.isna(v) else mask_value(str(v)))
+    return extra
+
+
+def top_calls_table(
+    version: Version, tables: ViewTables, position: int, *, masked: bool = True
+) -> pd.DataFrame:
+    """The first rows of :func:`calls_table` with no filter, from the viewer tables.
+
+    The same columns, rows and order as ``calls_table(version, meta, position)`` for the
+    calls the tables keep per theme (:data:`talkthemes.versions.tables_build.TOP_CALLS`);
+    the theme leads ``tables.lead_counts()[position]`` calls in all.
+    """
+    if not 0 <= position < version.k:
+        raise InputError(f"calls: theme row {position} is outside 0..{version.k - 1}")
+    rows = tables.top_calls(version.theme_ids[position])
+    names = theme_names(version)
+    out = pd.DataFrame(
+        {
+            "transcript_id": rows["transcript_id"].astype(str).to_numpy(dtype=object),
+            "share": rows["share"].to_numpy(dtype=np.float64),
+            "lead_theme": names[position],
+            "lead_theme_id": np.int64(version.theme_ids[position]),
+            "lead_share": rows["share"].to_numpy(dtype=np.float64),
+        }
+    )
+    extra = _mask_text(tables.metadata_frame(rows), tables.fields, masked)
+    return pd.concat([out, extra], axis=1)
 
 
 def _field_mask(meta: MetaTable, flt: CallFilter) -> np.ndarray:
@@ -145,11 +205,7 @@ def calls_table(
         }
     )
     extra = meta.frame.iloc[rows].reset_index(drop=True)
-    if masked:
-        for name, info in meta.fields.items():
-            if info.kind == "text" and name in extra:
-                extra[name] = extra[name].map(lambda v: None if v is None else mask_value(str(v)))
-    return pd.concat([out, extra], axis=1)
+    return pd.concat([out, _mask_text(extra, meta.fields, masked)], axis=1)
 
 
 #: The Calls list's own columns, as the CSV names them.

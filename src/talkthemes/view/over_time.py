@@ -1,7 +1,10 @@
 """The data behind Over time: shares per week or month, per segment, and the movers.
 
 Each frame carries a 95% bootstrap interval (:mod:`talkthemes.trends`) and the themes'
-current names and hidden flags.
+current names and hidden flags. Every function takes the calls' metadata
+(:class:`~talkthemes.view.metadata.MetaTable`, counting the version's share matrix) or the
+version's viewer tables (:class:`~talkthemes.versions.tables.ViewTables`, counts kept at
+publish): the same counts give the same frame, bootstrap draws included.
 """
 
 from __future__ import annotations
@@ -17,11 +20,15 @@ from talkthemes.errors import InputError, NotReadyError
 from talkthemes.trends import (
     lead_share_by_period,
     lead_share_by_segment,
+    lead_share_from_counts,
     movers,
+    movers_from_counts,
     period_range,
     period_start,
 )
 from talkthemes.versions.load import Version
+from talkthemes.versions.metadata import MAX_SEGMENTS, segment_fields, segment_values
+from talkthemes.versions.tables import ViewTables
 from talkthemes.view.metadata import MetaTable
 from talkthemes.view.themes import theme_names, with_names
 
@@ -43,9 +50,6 @@ __all__ = [
 Freq = Literal["week", "month"]
 """What a period is."""
 
-#: Most segments a comparison shows (the most frequent values; the rest are left out).
-MAX_SEGMENTS = 12
-
 #: How many full periods before the one looked at the movers compare it with, by default.
 BASELINE_PERIODS: dict[str, int] = {"week": 4, "month": 3}
 
@@ -66,7 +70,21 @@ class Comparison:
     before: tuple[pd.Timestamp, ...]
 
 
-def _require_dates(meta: MetaTable) -> pd.Series:
+#: What the section counts: the calls' metadata (with the share matrix) or the tables.
+Source = MetaTable | ViewTables
+
+
+def _period_counts(tables: ViewTables, freq: Freq) -> tuple[pd.DatetimeIndex, np.ndarray]:
+    """Every period from the first to the last (gaps included) and its lead counts."""
+    days, counts = tables.day_counts()
+    periods = period_start(pd.Series(days), freq)
+    keys = pd.DatetimeIndex(period_range(periods, freq)).dropna().unique().sort_values()
+    out = np.zeros((len(keys), tables.k), dtype=np.int64)
+    np.add.at(out, keys.get_indexer(periods), counts)
+    return keys, out
+
+
+def _require_dates(meta: Source) -> pd.Series:
     if meta.dates is None:
         raise NotReadyError(
             "no date in the transcripts' metadata: ingest a manifest with a date column "
@@ -80,13 +98,20 @@ def _theme_args(version: Version) -> dict[str, Any]:
 
 
 def trend_frame(
-    version: Version, meta: MetaTable, freq: Freq, *, n_boot: int = 500, seed: int = 0
+    version: Version, meta: Source, freq: Freq, *, n_boot: int = 500, seed: int = 0
 ) -> pd.DataFrame:
     """Each theme's share of the transcripts it leads per week or month, 95% interval.
 
     Returns the frame of :func:`talkthemes.trends.lead_share_by_period` (every period from
     the first to the last, gaps included) plus ``hidden``.
     """
+    if isinstance(meta, ViewTables):
+        _require_dates(meta)
+        keys, counts = _period_counts(meta, freq)
+        frame = lead_share_from_counts(
+            counts, keys, "period", n_boot=n_boot, seed=seed, **_theme_args(version)
+        )
+        return with_names(frame, version)
     periods = period_start(_require_dates(meta), freq)
     frame = lead_share_by_period(
         version.lead(),
@@ -100,7 +125,7 @@ def trend_frame(
     return with_names(frame, version)
 
 
-def period_choices(meta: MetaTable, freq: Freq) -> list[pd.Timestamp]:
+def period_choices(meta: Source, freq: Freq) -> list[pd.Timestamp]:
     """Period starts (weeks or months) that hold at least one transcript, oldest first."""
     periods = period_start(_require_dates(meta), freq).dropna()
     return [pd.Timestamp(p) for p in sorted(periods.unique())]
@@ -110,7 +135,7 @@ def _next_start(p: pd.Timestamp, freq: Freq) -> pd.Timestamp:
     return p + (pd.Timedelta(days=7) if freq == "week" else pd.offsets.MonthBegin(1))
 
 
-def full_periods(meta: MetaTable, freq: Freq) -> list[pd.Timestamp]:
+def full_periods(meta: Source, freq: Freq) -> list[pd.Timestamp]:
     """Periods that hold transcripts and that the data covers from their first to last day.
 
     The first and the last period of a corpus are usually cut short (the data starts on
@@ -131,13 +156,13 @@ def full_periods(meta: MetaTable, freq: Freq) -> list[pd.Timestamp]:
 
 
 def default_comparison(
-    meta: MetaTable, freq: Freq, *, after: pd.Timestamp | None = None, baseline: int | None = None
+    meta: Source, freq: Freq, *, after: pd.Timestamp | None = None, baseline: int | None = None
 ) -> Comparison | None:
     """Like with like: the last full period against the full periods just before it.
 
     Parameters
     ----------
-    meta : MetaTable
+    meta : MetaTable or ViewTables
     freq : {"week", "month"}
     after : Timestamp, optional
         The period to look at (default: the last full period, else the last period).
@@ -167,39 +192,8 @@ def default_comparison(
     return Comparison(after, tuple(earlier[-n:]))
 
 
-def segment_fields(meta: MetaTable) -> list[str]:
-    """Fields a segment comparison can use: categories and numbers (in quartile bins)."""
-    return [f for f, i in meta.fields.items() if i.kind in ("category", "number")]
-
-
-def _segment_values(meta: MetaTable, name: str) -> pd.Series:
-    info = meta.fields.get(name)
-    if info is None or info.kind not in ("category", "number"):
-        raise InputError(
-            f"segments: {name!r} is not a field to compare by "
-            f"(choose one of {', '.join(segment_fields(meta)) or 'none'})"
-        )
-    if info.kind == "category":
-        col = meta.frame[name]
-        top = set(info.values[:MAX_SEGMENTS])
-        return col.where(col.isin(top), None)
-    values = pd.Series(meta.numbers[name])
-    codes = pd.qcut(values, 4, labels=False, duplicates="drop")
-    out = pd.Series([None] * len(values), dtype=object)
-    present = codes.notna().to_numpy()
-    if not present.any():
-        return out
-    bounds = values[present].groupby(codes[present]).agg(["min", "max"])
-    labels = {
-        code: f"Q{i + 1}: {row['min']:g}–{row['max']:g}"
-        for i, (code, row) in enumerate(bounds.iterrows())
-    }
-    out[present] = codes[present].map(labels).to_numpy()
-    return out
-
-
 def segment_frame(
-    version: Version, meta: MetaTable, name: str, *, n_boot: int = 500, seed: int = 0
+    version: Version, meta: Source, name: str, *, n_boot: int = 500, seed: int = 0
 ) -> pd.DataFrame:
     """Each theme's share of the transcripts it leads per value of a metadata field.
 
@@ -207,7 +201,19 @@ def segment_frame(
     cut into quartile bins labelled ``lo–hi``. Returns the frame of
     :func:`talkthemes.trends.lead_share_by_segment` plus ``hidden``.
     """
-    values = _segment_values(meta, name)
+    if isinstance(meta, ViewTables):
+        if name not in segment_fields(meta):  # type: ignore[arg-type]
+            raise InputError(
+                f"segments: {name!r} is not a field to compare by "
+                f"(choose one of {', '.join(segment_fields(meta)) or 'none'})"  # type: ignore[arg-type]
+            )
+        keys, counts = meta.segment_counts(name)
+        frame = lead_share_from_counts(
+            counts, pd.Index(keys, dtype=object), "segment", n_boot=n_boot, seed=seed,
+            **_theme_args(version),
+        )  # fmt: skip
+        return with_names(frame, version)
+    values = segment_values(meta, name)
     frame = lead_share_by_segment(
         version.lead(), values, version.k, n_boot=n_boot, seed=seed, **_theme_args(version)
     )
@@ -216,7 +222,7 @@ def segment_frame(
 
 def movers_frame(
     version: Version,
-    meta: MetaTable,
+    meta: Source,
     freq: Freq,
     before: pd.Timestamp | Sequence[pd.Timestamp],
     after: pd.Timestamp,
@@ -235,13 +241,22 @@ def movers_frame(
     InputError
         When ``after`` is among ``before`` or either side holds no transcript.
     """
-    periods = period_start(_require_dates(meta), freq)
     if isinstance(before, (pd.Timestamp, str)) or not isinstance(before, Sequence):
         before = [before]  # type: ignore[list-item]
     pool = {pd.Timestamp(p) for p in before}
     b = pd.Timestamp(after)
     if not pool or b in pool:
         raise InputError("movers: pick two different periods")
+    if isinstance(meta, ViewTables):
+        _require_dates(meta)
+        keys, counts = _period_counts(meta, freq)
+        frame = movers_from_counts(
+            counts[keys.isin(list(pool))].sum(axis=0),
+            counts[keys == b].sum(axis=0),
+            n_boot=n_boot, seed=seed, **_theme_args(version),
+        )  # fmt: skip
+        return with_names(frame, version)
+    periods = period_start(_require_dates(meta), freq)
     mask_a = periods.isin(list(pool)).to_numpy(dtype=bool, na_value=False)
     mask_b = (periods == b).to_numpy(dtype=bool, na_value=False)
     frame = movers(
@@ -250,7 +265,7 @@ def movers_frame(
     return with_names(frame, version)
 
 
-def theme_trends(version: Version, meta: MetaTable) -> pd.DataFrame:
+def theme_trends(version: Version, meta: Source) -> pd.DataFrame:
     """How each theme is moving: the last full period against the ones before it.
 
     Weeks for data spanning up to about four months, months beyond, compared as

@@ -19,6 +19,7 @@ from dataclasses import dataclass
 from talkthemes.text import html_text, percent
 from talkthemes.versions.evidence_shown import EvidenceMasker
 from talkthemes.versions.load import Version
+from talkthemes.view.tables import table_lead_count
 from talkthemes.view.transcript import Segment, TermHighlighter, segments_html, segments_text
 
 __all__ = ["ROLE_WORDS", "EvidenceView", "evidence_html", "evidence_note", "evidence_views"]
@@ -132,6 +133,6 @@ def evidence_note(version: Version, position: int) -> str | None:
         )
     if version.evidence(position):
         return None
-    if not (version.lead() == position).any():
+    if table_lead_count(version, position) == 0:
         return "This theme leads no call, so it has no evidence sentence."
     return "No sentence of the calls this theme leads holds its top words."

@@ -14,6 +14,7 @@ from talkthemes.metrics.prominence import boilerplate_like
 from talkthemes.privacy import name_term
 from talkthemes.text import percent
 from talkthemes.versions.load import Version
+from talkthemes.view.tables import table_coverage, table_mean_share
 from talkthemes.view.theme_map import ThemeLayout
 
 __all__ = [
@@ -34,10 +35,11 @@ def theme_table(version: Version, layout: ThemeLayout, *, lam: float = 0.6) -> p
     mean_share, boilerplate_like, x, y, top_terms`` (eight terms by relevance at ``lam``,
     as text). ``boilerplate_like`` marks a theme with a large average share that almost
     never leads a transcript (:func:`talkthemes.metrics.prominence.boilerplate_like`):
-    suggested for hiding as noise unless it is hidden already.
+    suggested for hiding as noise unless it is hidden already. Coverage and mean share come
+    from the version's viewer tables when the viewer has opened them.
     """
     names = theme_names(version)
-    cov, mean = version.coverage(), version.mean_share()
+    cov, mean = table_coverage(version), table_mean_share(version)
     suggest = boilerplate_like(cov, mean)
     rows = []
     for i, t in enumerate(version.themes):
