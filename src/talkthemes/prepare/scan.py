@@ -1,0 +1,207 @@
+"""The fast path's word split, compiled: pieces of text found and looked up in one pass.
+
+:data:`~talkthemes.prepare.words.PIECES` splits a text into words (``\\w+``) and single
+marks (sentence ends, separators). Done with the regular expression, every piece becomes a
+Python string that is then looked up in a dictionary; for a transcript of 500 words that is
+most of the cost of the lemma step. :class:`PieceScanner` does the same split over the
+text's code points with numba and looks each piece up by a 64-bit hash of its code points
+in an open-addressing table of the pieces seen before. Only a piece whose hash is not in
+the table (a word this process has not met yet) is cut out as a string, once.
+
+The split is the regular expression's exactly: a code point is a word character when
+``\\w`` matches it (the table :func:`word_chars` is built by running the pattern itself
+over every code point). ``tests/prepare/test_scan.py`` compares both on random text.
+
+Two different pieces with the same 64-bit hash would be taken for one another: with
+a million distinct pieces the chance is about 3 in 10^8 (the sentence keys of the
+boilerplate step rest on the same kind of hash).
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Callable
+from functools import cache
+
+import numpy as np
+from numba import njit
+from numpy.typing import NDArray
+
+__all__ = ["PieceScanner", "word_chars"]
+
+_N_CODE_POINTS = 0x110000
+_EMPTY = np.int64(-1)
+#: Multiplier and offset of the piece hash (64-bit FNV-1a constants, one code point a step).
+_PRIME = np.uint64(0x100000001B3)
+_OFFSET = np.uint64(0xCBF29CE484222325)
+_MIX = np.uint64(0x9E3779B97F4A7C15)
+
+
+@cache
+def word_chars() -> NDArray[np.bool_]:
+    """Which code points ``\\w`` matches (Python's ``re``, str patterns), as a lookup table."""
+    every = "".join(map(chr, range(_N_CODE_POINTS)))
+    table = np.zeros(_N_CODE_POINTS, dtype=np.bool_)
+    for m in re.finditer(r"\w+", every):
+        table[m.start() : m.end()] = True
+    return table
+
+
+def mark_table(marks: str) -> NDArray[np.bool_]:
+    """A lookup table of the code points that are pieces on their own."""
+    table = np.zeros(_N_CODE_POINTS, dtype=np.bool_)
+    table[[ord(c) for c in marks]] = True
+    return table
+
+
+@njit(cache=True, nogil=True)
+def _count(text, word, mark):  # pragma: no cover - compiled
+    n = 0
+    inside = False
+    for i in range(text.size):
+        c = text[i]
+        if word[c]:
+            if not inside:
+                n += 1
+                inside = True
+        else:
+            inside = False
+            if mark[c]:
+                n += 1
+    return n
+
+
+@njit(cache=True, nogil=True)
+def _probe(keys, vals, h):  # pragma: no cover - compiled
+    mask = keys.size - 1
+    j = np.int64(h & np.uint64(mask))
+    while True:
+        v = vals[j]
+        if v == -1 or keys[j] == h:
+            return j
+        j = (j + 1) & mask
+
+
+@njit(cache=True, nogil=True)
+def _scan(text, word, mark, keys, vals, n):  # pragma: no cover - compiled
+    """Pieces of ``text``: start, end, hash and id (-1 when the hash is not in the table)."""
+    starts = np.empty(n, dtype=np.int64)
+    ends = np.empty(n, dtype=np.int64)
+    hashes = np.empty(n, dtype=np.uint64)
+    ids = np.empty(n, dtype=np.int64)
+    k = 0
+    i = 0
+    size = text.size
+    while i < size:
+        c = text[i]
+        if word[c]:
+            start = i
+            h = _OFFSET
+            while i < size and word[text[i]]:
+                h = (h ^ np.uint64(text[i])) * _PRIME
+                i += 1
+            h = (h ^ np.uint64(i - start)) * _MIX
+        elif mark[c]:
+            start = i
+            h = ((_OFFSET ^ np.uint64(c)) * _PRIME ^ np.uint64(1)) * _MIX
+            i += 1
+        else:
+            i += 1
+            continue
+        starts[k] = start
+        ends[k] = i
+        hashes[k] = h
+        j = _probe(keys, vals, h)
+        ids[k] = vals[j] if vals[j] != -1 and keys[j] == h else -1
+        k += 1
+    return starts, ends, hashes, ids
+
+
+@njit(cache=True, nogil=True)
+def _insert(keys, vals, hashes, ids):  # pragma: no cover - compiled
+    for i in range(hashes.size):
+        j = _probe(keys, vals, hashes[i])
+        keys[j] = hashes[i]
+        vals[j] = ids[i]
+
+
+class PieceScanner:
+    """Split texts into :data:`~talkthemes.prepare.words.PIECES` and give each piece an id.
+
+    Parameters
+    ----------
+    marks : str
+        The characters that are pieces on their own (the pattern's second branch).
+
+    Ids are handed out by the caller's ``new_id(piece)`` the first time a piece is met and
+    are remembered by the piece's hash from then on.
+    """
+
+    def __init__(self, marks: str) -> None:
+        self.marks = marks
+        self._word = word_chars()
+        self._mark = mark_table(marks)
+        self._keys = np.zeros(1024, dtype=np.uint64)
+        self._vals = np.full(1024, _EMPTY, dtype=np.int64)
+        self._size = 0
+
+    def __getstate__(self) -> dict[str, object]:
+        # the two code-point tables are rebuilt on arrival rather than sent (2 MB)
+        state = self.__dict__.copy()
+        del state["_word"], state["_mark"]
+        return state
+
+    def __setstate__(self, state: dict[str, object]) -> None:
+        self.__dict__.update(state)
+        self._word = word_chars()
+        self._mark = mark_table(self.marks)
+
+    def ids(self, text: str, new_id: Callable[[str], int]) -> NDArray[np.int64]:
+        """The id of every piece of ``text``, in order.
+
+        Parameters
+        ----------
+        text : str
+        new_id : callable
+            Called with a piece not met before (as a string); returns its id.
+
+        Returns
+        -------
+        ndarray of int64
+        """
+        points = np.frombuffer(text.encode("utf-32-le", "surrogatepass"), dtype=np.uint32)
+        n = _count(points, self._word, self._mark)
+        starts, ends, hashes, ids = _scan(points, self._word, self._mark, self._keys, self._vals, n)
+        missing = np.flatnonzero(ids < 0)
+        if missing.size:
+            first: dict[int, int] = {}  # hash → id, for pieces met twice in this text
+            new_hashes: list[int] = []
+            new_ids: list[int] = []
+            for i, h, a, b in zip(
+                missing.tolist(),
+                hashes[missing].tolist(),
+                starts[missing].tolist(),
+                ends[missing].tolist(),
+                strict=True,
+            ):
+                found = first.get(h)
+                if found is None:
+                    found = first[h] = new_id(text[a:b])
+                    new_hashes.append(h)
+                    new_ids.append(found)
+                ids[i] = found
+            self._add(np.asarray(new_hashes, dtype=np.uint64), np.asarray(new_ids, dtype=np.int64))
+        return ids
+
+    def _add(self, hashes: NDArray[np.uint64], ids: NDArray[np.int64]) -> None:
+        self._size += hashes.size
+        if 2 * self._size > self._keys.size:
+            cap = self._keys.size
+            while 2 * self._size > cap:
+                cap *= 2
+            used = self._vals != _EMPTY
+            old_keys, old_vals = self._keys[used], self._vals[used]
+            self._keys = np.zeros(cap, dtype=np.uint64)
+            self._vals = np.full(cap, _EMPTY, dtype=np.int64)
+            _insert(self._keys, self._vals, old_keys, old_vals)
+        _insert(self._keys, self._vals, hashes, ids)
