@@ -174,23 +174,21 @@ class PieceScanner:
         starts, ends, hashes, ids = _scan(points, self._word, self._mark, self._keys, self._vals, n)
         missing = np.flatnonzero(ids < 0)
         if missing.size:
-            first: dict[int, int] = {}  # hash → id, for pieces met twice in this text
-            new_hashes: list[int] = []
-            new_ids: list[int] = []
-            for i, h, a, b in zip(
-                missing.tolist(),
-                hashes[missing].tolist(),
-                starts[missing].tolist(),
-                ends[missing].tolist(),
-                strict=True,
-            ):
-                found = first.get(h)
-                if found is None:
-                    found = first[h] = new_id(text[a:b])
-                    new_hashes.append(h)
-                    new_ids.append(found)
-                ids[i] = found
-            self._add(np.asarray(new_hashes, dtype=np.uint64), np.asarray(new_ids, dtype=np.int64))
+            # each new piece cut out once, however often the text says it, and met in
+            # the order of the text (ids are handed out in that order)
+            new, first, inverse = np.unique(
+                hashes[missing], return_index=True, return_inverse=True
+            )
+            order = np.argsort(first, kind="stable")
+            at = missing[first[order]]
+            made = np.empty(new.size, dtype=np.int64)
+            made[order] = np.fromiter(
+                (new_id(text[a:b]) for a, b in zip(starts[at].tolist(), ends[at].tolist())),
+                dtype=np.int64,
+                count=at.size,
+            )
+            ids[missing] = made[inverse.ravel()]
+            self._add(new, made)
         return ids
 
     def _add(self, hashes: NDArray[np.uint64], ids: NDArray[np.int64]) -> None:
