@@ -27,7 +27,7 @@ import numpy as np
 from numba import njit
 from numpy.typing import NDArray
 
-__all__ = ["PieceScanner", "word_chars"]
+__all__ = ["PieceScanner", "digit_regions", "word_chars"]
 
 _N_CODE_POINTS = 0x110000
 _EMPTY = np.int64(-1)
@@ -38,13 +38,81 @@ _MIX = np.uint64(0x9E3779B97F4A7C15)
 
 
 @cache
-def word_chars() -> NDArray[np.bool_]:
-    """Which code points ``\\w`` matches (Python's ``re``, str patterns), as a lookup table."""
-    every = "".join(map(chr, range(_N_CODE_POINTS)))
+def _every() -> str:
+    every = np.arange(_N_CODE_POINTS, dtype=np.uint32).tobytes()
+    return every.decode("utf-32-le", "surrogatepass")
+
+
+@cache
+def char_class(pattern: str) -> NDArray[np.bool_]:
+    """Which code points a one-character class of Python's ``re`` (str patterns) matches,
+    as a lookup table, built by running the pattern over every code point."""
     table = np.zeros(_N_CODE_POINTS, dtype=np.bool_)
-    for m in re.finditer(r"\w+", every):
+    for m in re.finditer(pattern + "+", _every()):
         table[m.start() : m.end()] = True
     return table
+
+
+def word_chars() -> NDArray[np.bool_]:
+    """Which code points ``\\w`` matches (Python's ``re``, str patterns), as a lookup table."""
+    return char_class(r"\w")
+
+
+def code_points(text: str) -> NDArray[np.uint32]:
+    """The code points of a text, one per character (``text[i]`` is ``points[i]``)."""
+    return np.frombuffer(text.encode("utf-32-le", "surrogatepass"), dtype=np.uint32)
+
+
+@njit(cache=True, nogil=True)
+def _digit_regions(points, digit, space, margin):  # pragma: no cover - compiled
+    n = points.size
+    out = np.empty(2 * (n // margin + 2), dtype=np.int64)
+    k = 0
+    i = 0
+    while i < n:
+        if not digit[points[i]]:
+            i += 1
+            continue
+        first = i
+        last = i
+        i += 1
+        while i < n and i - last <= 2 * margin:
+            if digit[points[i]]:
+                last = i
+            i += 1
+        left = max(0, first - margin)
+        while left > 0 and not space[points[left - 1]]:
+            left -= 1
+        right = min(n, last + 1 + margin)
+        while right < n and not space[points[right]]:
+            right += 1
+        if k and left <= out[k - 1]:
+            out[k - 1] = right
+        else:
+            out[k] = left
+            out[k + 1] = right
+            k += 2
+        i = max(i, right)
+    return out[:k]
+
+
+def digit_regions(text: str, margin: int) -> list[tuple[int, int]]:
+    """Stretches of ``text`` around its digits (``\\d``), apart from each other.
+
+    Each holds every digit of a group whose neighbours are less than ``2 * margin``
+    characters apart, at least ``margin`` characters on either side, and ends at white
+    space (``\\s``) or the end of the text: a pattern whose matches hold a digit and
+    reach at most ``margin`` characters from it, and which looks at most one character
+    past a match, finds the same matches in each stretch alone as in the whole text.
+
+    Returns
+    -------
+    list of (start, end)
+        In text order; never overlapping.
+    """
+    flat = _digit_regions(code_points(text), char_class(r"\d"), char_class(r"\s"), margin)
+    pairs = flat.tolist()
+    return list(zip(pairs[::2], pairs[1::2], strict=True))
 
 
 def mark_table(marks: str) -> NDArray[np.bool_]:
@@ -169,23 +237,20 @@ class PieceScanner:
         -------
         ndarray of int64
         """
-        points = np.frombuffer(text.encode("utf-32-le", "surrogatepass"), dtype=np.uint32)
+        points = code_points(text)
         n = _count(points, self._word, self._mark)
         starts, ends, hashes, ids = _scan(points, self._word, self._mark, self._keys, self._vals, n)
         missing = np.flatnonzero(ids < 0)
         if missing.size:
             # each new piece cut out once, however often the text says it, and met in
             # the order of the text (ids are handed out in that order)
-            new, first, inverse = np.unique(
-                hashes[missing], return_index=True, return_inverse=True
-            )
+            new, first, inverse = np.unique(hashes[missing], return_index=True, return_inverse=True)
             order = np.argsort(first, kind="stable")
             at = missing[first[order]]
             made = np.empty(new.size, dtype=np.int64)
+            cuts = zip(starts[at].tolist(), ends[at].tolist(), strict=True)
             made[order] = np.fromiter(
-                (new_id(text[a:b]) for a, b in zip(starts[at].tolist(), ends[at].tolist())),
-                dtype=np.int64,
-                count=at.size,
+                (new_id(text[a:b]) for a, b in cuts), dtype=np.int64, count=at.size
             )
             ids[missing] = made[inverse.ravel()]
             self._add(new, made)

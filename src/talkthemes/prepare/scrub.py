@@ -49,6 +49,7 @@ from __future__ import annotations
 import re
 from collections.abc import Callable, Iterable, MutableMapping
 
+from talkthemes.prepare.scan import digit_regions
 from talkthemes.text.pii_national import (
     ALNUM_ID,
     IBAN_CANDIDATE,
@@ -114,6 +115,12 @@ _ANCHORS = re.compile(
 #: :data:`_ID_ANCHOR` on (an IBAN in groups of four: 42 characters).
 _ID_WIDTH = 44
 _DIGIT_HINT = re.compile(r"\d")
+#: Every match of the patterns for numbers, ids and phone numbers holds a digit, reaches
+#: less than this many characters from it (an IBAN: 42), and is looked for at most 44
+#: characters after an anchor; texts longer than :data:`_SHORT` are read only around
+#: their digits (:func:`~talkthemes.prepare.scan.digit_regions`).
+_MARGIN = 64
+_SHORT = 512
 _NON_DIGIT = re.compile(r"\D")
 _WORD = re.compile(r"\w+")
 _SPACE = re.compile(r"\s")
@@ -318,7 +325,8 @@ def scrub(
         text = _sub_chunks(text, anchors, _URL, lambda m: count("url", m.group(0)))
     if any(h in text for h in _TAG_HINTS):
         text = _TAG.sub(tag, text)
-    if _DIGIT_HINT.search(text):
+
+    def numbers(text: str) -> str:
         found = list(_ANCHORS.finditer(text))
         if found:
             at_ids = [m for m in found if m.group("phone") is None]
@@ -328,5 +336,18 @@ def scrub(
             if len(at_ids) < len(found):  # the text changed: find the phone hints again
                 phones = [(_PHONE_FORMS, phone_form)]
                 text = _sub_near(text, _PHONE_HINT.finditer(text), phones, before=16, after=24)
-        text = _DIGITS.sub(digits, text)
+        return _DIGITS.sub(digits, text)
+
+    if _DIGIT_HINT.search(text):
+        if len(text) < _SHORT:
+            text = numbers(text)
+        else:  # the patterns run only on the stretches around digits (the same matches)
+            out: list[str] = []
+            last = 0
+            for start, end in digit_regions(text, _MARGIN):
+                out.append(text[last:start])
+                out.append(numbers(text[start:end]))
+                last = end
+            out.append(text[last:])
+            text = "".join(out)
     return text, removed
