@@ -120,6 +120,9 @@ _DIGIT_HINT = re.compile(r"\d")
 #: characters after an anchor; texts longer than :data:`_SHORT` are read only around
 #: their digits (:func:`~talkthemes.prepare.scan.digit_regions`).
 _MARGIN = 64
+#: The fewest digits any kind of :func:`_digit_kind` takes (a number: 5; a national phone
+#: number: 6; a phone: 7; an id: 9).
+_FEWEST_DIGITS = min(LONG_NUMBER_DIGITS, 6)
 _SHORT = 512
 _NON_DIGIT = re.compile(r"\D")
 _WORD = re.compile(r"\w+")
@@ -293,6 +296,8 @@ def scrub(
 
     def digits(m: re.Match[str]) -> str:
         run = m.group(0)
+        if len(run) < _FEWEST_DIGITS:
+            return run  # too few digits for any kind (most runs: "2", "10")
         kind = None if _glued(m) else _digit_kind(run, lang)
         return run if kind is None else count(kind, run)
 
