@@ -55,6 +55,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from talkthemes.prepare.filter import KEEP, LEMMATISED, TokenFilter
+from talkthemes.prepare.lexicon import load_lookup_data, lookup_tables
 
 __all__ = [
     "ALL_CAPS_MIN_WORDS",
@@ -93,26 +94,20 @@ def load_lemma_index(lang: str) -> frozenset[str]:
 def lemma_index_by_pos(lang: str) -> dict[str, frozenset[str]]:
     """The base forms of spaCy's ``lemma_index`` table by part of speech (``noun``,
     ``verb``, ``adj``, ``adv``), lower-cased; empty when none is shipped."""
-    # spaCy is heavy to import: deferred to first use on purpose
-    from spacy.util import load_language_data, registry
-
-    tables = registry.lookups.get_all().get(lang)
+    tables = lookup_tables().get(lang)
     if not isinstance(tables, dict) or "lemma_index" not in tables:
         return {}
-    data = load_language_data(tables["lemma_index"])
+    data = load_lookup_data(tables["lemma_index"])
     return {str(pos): frozenset(w.lower() for w in words) for pos, words in data.items()}
 
 
 @cache
 def load_lemma_rules(lang: str) -> tuple[tuple[str, str], ...]:
     """spaCy's suffix rules (``lemma_rules``: old ending → new ending), every part of speech."""
-    # spaCy is heavy to import: deferred to first use on purpose
-    from spacy.util import load_language_data, registry
-
-    tables = registry.lookups.get_all().get(lang)
+    tables = lookup_tables().get(lang)
     if not isinstance(tables, dict) or "lemma_rules" not in tables:
         return ()
-    data = load_language_data(tables["lemma_rules"])
+    data = load_lookup_data(tables["lemma_rules"])
     rules = {(str(o), str(n)) for pairs in data.values() for o, n in pairs if o}
     return tuple(sorted(rules))
 
