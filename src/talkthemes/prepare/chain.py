@@ -206,7 +206,12 @@ class TranscriptProcessor:
         stats[:, 0] = lengths
         sent_kept = np.bincount(tok_sent[kept], minlength=n_sentences)
         local = codes[kept] >> 1
-        uniq, inverse = np.unique(local, return_inverse=True)
+        # the batch's terms in id order, and each token's place among them (np.unique's
+        # answer, without sorting the tokens)
+        present = np.zeros(len(self.encoder.types), dtype=bool)
+        present[local] = True
+        uniq = np.flatnonzero(present)
+        inverse = (np.cumsum(present) - 1)[local]
         types = [self.encoder.types[i] for i in uniq.tolist()]
 
         return BatchResult(
@@ -272,10 +277,13 @@ class TranscriptProcessor:
             for k, d in zip(keys_df.tolist(), df.tolist(), strict=True)
             if d >= need and k not in self._reported
         }
-        doc_of: dict[int, int] = {}
-        for k, d in zip(keys.tolist(), sent_doc.tolist(), strict=True):
-            if k in wanted and k not in doc_of:
-                doc_of[k] = d
+        if not wanted:
+            return {}
+        # the first transcript each wanted key is in, in the order the keys first appear
+        at = np.flatnonzero(np.isin(keys, np.fromiter(wanted, dtype=np.int64)))
+        _, first = np.unique(keys[at], return_index=True)
+        at = at[np.sort(first)]
+        doc_of = dict(zip(keys[at].tolist(), sent_doc[at].tolist(), strict=True))
         out: dict[int, str] = {}
         for k, d in doc_of.items():
             for sentence in split_sentences(texts[d]):
