@@ -44,7 +44,9 @@ def encode(sentences: list[list[str]]):
 def test_same_phrases_and_output_as_gensim(seed: int, threshold: float, min_count: int):
     sentences = random_sentences(seed)
     tokens, lengths, types = encode(sentences)
-    model, phrasegrams = learn_phrases(tokens, lengths, types, threshold=threshold, min_count=min_count)
+    model, phrasegrams = learn_phrases(
+        tokens, lengths, types, threshold=threshold, min_count=min_count
+    )
 
     reference = Phrases(sentences, min_count=min_count, threshold=threshold, scoring="npmi")
     ref_frozen = reference.freeze()

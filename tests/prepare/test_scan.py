@@ -10,7 +10,13 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import talkthemes.prepare.scrub as scrub_module
-from talkthemes.prepare.scan import PieceScanner, char_class, digit_regions
+from talkthemes.prepare.scan import (
+    PieceScanner,
+    char_class,
+    code_points,
+    digit_regions,
+    text_hints,
+)
 from talkthemes.prepare.scrub import scrub
 from talkthemes.prepare.words import PIECES
 
@@ -80,15 +86,17 @@ def test_char_classes_are_the_patterns():
 
 
 def test_digit_regions_hold_every_digit_with_margins_at_white_space():
-    text = "a" * 50 + " call 555 010 4477 now " + "b " * 200 + "ref AB12 3456" + " end"
-    regions = digit_regions(text, 20)
-    assert len(regions) == 2
-    for start, end in regions:
+    text = "a" * 50 + " call 555 010 4477 now " + "b " * 200 + "at 3 or 4 " + "c " * 80 + "AB12"
+    regions = digit_regions(code_points(text), 20, 5)
+    assert len(regions) == 3
+    for start, end, _ in regions:
         assert start == 0 or text[start - 1].isspace()
         assert end == len(text) or text[end].isspace()
     digits = [i for i, ch in enumerate(text) if ch.isdigit()]
-    assert all(any(a <= i < b for a, b in regions) for i in digits)
-    assert digit_regions("no digits here", 20) == []
+    assert all(any(a <= i < b for a, b, _ in regions) for i in digits)
+    # ten digits joined by spaces; short numbers only; a letter glued to a digit
+    assert [busy for _, _, busy in regions] == [True, False, True]
+    assert digit_regions(code_points("no digits here"), 20, 5) == []
 
 
 PII = [
@@ -114,6 +122,17 @@ PII = [
     "-",
     "(",
     "+",
+    "12",
+    "1 2 3 4",
+    "(12) 34",
+    "x" * 90 + "GB82WEST12345698765432",
+    "a.b",
+    "e.g.Www.x",
+    "**",
+    "xX",
+    "<b>",
+    "see:/x",
+    "http://localhost/x1",
 ]
 
 
@@ -129,10 +148,36 @@ def test_scrub_reads_only_around_digits_with_the_same_result(lang, monkeypatch):
         texts.append("".join(parts))
     fast_counts: dict[str, int] = {}
     fast = [scrub(t, fast_counts, mark=" \x02 ", lang=lang) for t in texts]
-    monkeypatch.setattr(scrub_module, "_SHORT", 10**9)  # the whole text at once
+    # the reference: every step tried, the patterns for numbers over the whole text
+    monkeypatch.setattr(scrub_module, "text_hints", lambda points: 3)
+    monkeypatch.setattr(
+        scrub_module, "digit_regions", lambda points, margin, fewest: [(0, points.size, True)]
+    )
     counts: dict[str, int] = {}
     for text, got in zip(texts, fast, strict=True):
         assert got == scrub(text, counts, mark=" \x02 ", lang=lang)
     assert fast_counts == counts
     assert sum(len(t) >= 512 for t in texts) > 40
     assert {"card", "phone", "iban", "number"} <= set(counts)
+
+
+@pytest.mark.parametrize(
+    ("text", "bits"),
+    [
+        ("nothing here, 12 items. Ok", 0),
+        ("a [tag]", 1),
+        ("a <b>", 1),
+        ("a {c}", 1),
+        ("a ** b", 1),
+        ("a xX b", 1),
+        ("see http://localhost/x1 now", 2),
+        ("see example.org now", 2),
+        ("see www.1 now", 2),
+        ("SEE WWW.2", 2),
+        ("[a] at b.com", 3),
+    ],
+)
+def test_text_hints_say_which_steps_can_find_something(text, bits):
+    assert text_hints(code_points(text)) == bits
+    if bits & 2:
+        assert scrub(text, {}, mark=" ")[0] != text

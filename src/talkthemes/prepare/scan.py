@@ -27,7 +27,7 @@ import numpy as np
 from numba import njit
 from numpy.typing import NDArray
 
-__all__ = ["PieceScanner", "digit_regions", "word_chars"]
+__all__ = ["PieceScanner", "code_points", "digit_regions", "text_hints", "word_chars"]
 
 _N_CODE_POINTS = 0x110000
 _EMPTY = np.int64(-1)
@@ -96,8 +96,79 @@ def _digit_regions(points, digit, space, margin):  # pragma: no cover - compiled
     return out[:k]
 
 
-def digit_regions(text: str, margin: int) -> list[tuple[int, int]]:
-    """Stretches of ``text`` around its digits (``\\d``), apart from each other.
+@njit(cache=True, nogil=True)
+def _busy(points, flat, digit, joiner, letter, fewest):  # pragma: no cover - compiled
+    """For each region: a letter right before a digit, or ``fewest`` digits or more in one
+    run of digits and joiners."""
+    out = np.zeros(flat.size // 2, dtype=np.bool_)
+    for r in range(flat.size // 2):
+        run = 0
+        for i in range(flat[2 * r], flat[2 * r + 1]):
+            c = points[i]
+            if digit[c]:
+                run += 1
+                if run >= fewest or (i > 0 and letter[points[i - 1]]):
+                    out[r] = True
+                    break
+            elif not joiner[c]:
+                run = 0
+    return out
+
+
+@njit(cache=True, nogil=True)
+def _hints(points, tag, x, url):  # pragma: no cover - compiled
+    """Bit 1: a tag could start here ("[", "<", "{", "**", two of "Xx"); bit 2: a URL could
+    (a point before an ASCII letter, ":/", "www." or "WWW.")."""
+    flags = 0
+    n = points.size
+    for i in range(n):
+        c = points[i]
+        if tag[c]:
+            flags |= 1
+        elif i + 1 < n:
+            d = points[i + 1]
+            if (c == 42 and d == 42) or (x[c] and x[d]):  # "**", "XX" "xx" "Xx" "xX"
+                flags |= 1
+            elif (c == 46 and url[d]) or (c == 58 and d == 47):  # ".a", ":/"
+                flags |= 2
+            elif c == 46 and i >= 3:
+                a, b, e = points[i - 3], points[i - 2], points[i - 1]
+                if (a == b == e == 119) or (a == b == e == 87):  # "www." "WWW."
+                    flags |= 2
+        if flags == 3:
+            break
+    return flags
+
+
+def text_hints(points: NDArray[np.uint32]) -> int:
+    """Whether a text (its :func:`code_points`) may hold a redaction tag (bit 1) or a URL
+    (bit 2) for the scrub step; a bit is clear only when the text holds none of the
+    characters such a match starts with."""
+    return int(_hints(points, *_hint_tables()))
+
+
+@cache
+def _hint_tables() -> tuple[NDArray[np.bool_], ...]:
+    tag = np.zeros(_N_CODE_POINTS, dtype=np.bool_)
+    tag[[ord(c) for c in "[<{"]] = True
+    x = np.zeros(_N_CODE_POINTS, dtype=np.bool_)
+    x[[ord("X"), ord("x")]] = True
+    url = np.zeros(_N_CODE_POINTS, dtype=np.bool_)
+    url[[ord(c) for c in "abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ"]] = True
+    return tag, x, url
+
+
+@cache
+def _busy_tables() -> tuple[NDArray[np.bool_], ...]:
+    joiner = char_class(r"\s").copy()
+    joiner[[ord(c) for c in "+()-./"]] = True
+    return char_class(r"\d"), joiner, _hint_tables()[2]
+
+
+def digit_regions(
+    points: NDArray[np.uint32], margin: int, fewest: int
+) -> list[tuple[int, int, bool]]:
+    """Stretches of a text (its :func:`code_points`) around its digits (``\\d``).
 
     Each holds every digit of a group whose neighbours are less than ``2 * margin``
     characters apart, at least ``margin`` characters on either side, and ends at white
@@ -107,12 +178,18 @@ def digit_regions(text: str, margin: int) -> list[tuple[int, int]]:
 
     Returns
     -------
-    list of (start, end)
-        In text order; never overlapping.
+    list of (start, end, busy)
+        In text order; never overlapping. ``busy`` is False when the stretch holds no
+        ASCII letter right before a digit and fewer than ``fewest`` digits in every run of
+        digits, white space and ``+()-./``: there no pattern of the scrub step for numbers
+        can change anything (see :mod:`talkthemes.prepare.scrub`).
     """
-    flat = _digit_regions(code_points(text), char_class(r"\d"), char_class(r"\s"), margin)
+    flat = _digit_regions(points, char_class(r"\d"), char_class(r"\s"), margin)
+    if flat.size == 0:
+        return []
+    busy = _busy(points, flat, *_busy_tables(), fewest).tolist()
     pairs = flat.tolist()
-    return list(zip(pairs[::2], pairs[1::2], strict=True))
+    return list(zip(pairs[::2], pairs[1::2], busy, strict=True))
 
 
 def mark_table(marks: str) -> NDArray[np.bool_]:

@@ -49,7 +49,7 @@ from __future__ import annotations
 import re
 from collections.abc import Callable, Iterable, MutableMapping
 
-from talkthemes.prepare.scan import digit_regions
+from talkthemes.prepare.scan import code_points, digit_regions, text_hints
 from talkthemes.text.pii_national import (
     ALNUM_ID,
     IBAN_CANDIDATE,
@@ -114,16 +114,14 @@ _ANCHORS = re.compile(
 #: IBANs and ids with letters are looked for only in this much text from each
 #: :data:`_ID_ANCHOR` on (an IBAN in groups of four: 42 characters).
 _ID_WIDTH = 44
-_DIGIT_HINT = re.compile(r"\d")
 #: Every match of the patterns for numbers, ids and phone numbers holds a digit, reaches
 #: less than this many characters from it (an IBAN: 42), and is looked for at most 44
-#: characters after an anchor; texts longer than :data:`_SHORT` are read only around
-#: their digits (:func:`~talkthemes.prepare.scan.digit_regions`).
+#: characters after an anchor: texts are read only around their digits
+#: (:func:`~talkthemes.prepare.scan.digit_regions`).
 _MARGIN = 64
 #: The fewest digits any kind of :func:`_digit_kind` takes (a number: 5; a national phone
 #: number: 6; a phone: 7; an id: 9).
 _FEWEST_DIGITS = min(LONG_NUMBER_DIGITS, 6)
-_SHORT = 512
 _NON_DIGIT = re.compile(r"\D")
 _WORD = re.compile(r"\w+")
 _SPACE = re.compile(r"\s")
@@ -322,15 +320,6 @@ def scrub(
             return run
         return count("tag", run)
 
-    if "@" in text:
-        anchors = [m.start() for m in re.finditer("@", text)]
-        text = _sub_chunks(text, anchors, _EMAIL, lambda m: count("email", m.group(0)))
-    anchors = _url_anchors(text)
-    if anchors:
-        text = _sub_chunks(text, anchors, _URL, lambda m: count("url", m.group(0)))
-    if any(h in text for h in _TAG_HINTS):
-        text = _TAG.sub(tag, text)
-
     def numbers(text: str) -> str:
         found = list(_ANCHORS.finditer(text))
         if found:
@@ -343,16 +332,33 @@ def scrub(
                 text = _sub_near(text, _PHONE_HINT.finditer(text), phones, before=16, after=24)
         return _DIGITS.sub(digits, text)
 
-    if _DIGIT_HINT.search(text):
-        if len(text) < _SHORT:
-            text = numbers(text)
-        else:  # the patterns run only on the stretches around digits (the same matches)
-            out: list[str] = []
-            last = 0
-            for start, end in digit_regions(text, _MARGIN):
-                out.append(text[last:start])
-                out.append(numbers(text[start:end]))
-                last = end
-            out.append(text[last:])
-            text = "".join(out)
+    if "@" in text:
+        anchors = [m.start() for m in re.finditer("@", text)]
+        text = _sub_chunks(text, anchors, _EMAIL, lambda m: count("email", m.group(0)))
+    # one compiled pass over the text says which of the steps below can find anything
+    points = code_points(text)
+    hints = text_hints(points)
+    changed = False
+    if hints & 2:
+        anchors = _url_anchors(text)
+        if anchors:
+            text = _sub_chunks(text, anchors, _URL, lambda m: count("url", m.group(0)))
+            changed = True
+    if hints & 1 and any(h in text for h in _TAG_HINTS):
+        text = _TAG.sub(tag, text)
+        changed = True
+    if changed:
+        points = code_points(text)
+    # the patterns for numbers run only on the stretches around digits that can hold a
+    # match (the same matches as over the whole text)
+    out: list[str] = []
+    last = 0
+    for start, end, busy in digit_regions(points, _MARGIN, _FEWEST_DIGITS):
+        if busy:
+            out.append(text[last:start])
+            out.append(numbers(text[start:end]))
+            last = end
+    if last:
+        out.append(text[last:])
+        text = "".join(out)
     return text, removed
