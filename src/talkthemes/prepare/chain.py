@@ -57,6 +57,7 @@ __all__ = [
     "build_processor",
     "normalised_sentence",
     "prepare_corpus",
+    "worker_count",
 ]
 
 logger = logging.getLogger(__name__)
@@ -366,6 +367,14 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
     )
 
 
+def worker_count(settings: PrepareSettings, total: int | None) -> int:
+    """Worker processes :func:`prepare_corpus` uses for ``total`` transcripts (1: none)."""
+    n_process = resolve_processes(settings.n_process)
+    if total and total <= _MIN_BATCHES_PER_WORKER * n_process * settings.batch_size:
+        return 1  # starting workers would cost more than it saves
+    return n_process
+
+
 def prepare_corpus(
     source: Callable[[], Iterable[Batch]],
     settings: PrepareSettings,
@@ -410,10 +419,8 @@ def prepare_corpus(
         When the language or pipeline cannot be loaded.
     """
     processor = processor or build_processor(settings)
-    n_process = resolve_processes(settings.n_process)
+    n_process = worker_count(settings, total)
     total = total or 0
-    if total and total <= _MIN_BATCHES_PER_WORKER * n_process * settings.batch_size:
-        n_process = 1  # starting workers would cost more than it saves
     report(progress, 0, total, "read")
     col = Collected()
     for res in map_batches(processor, source(), n_process):

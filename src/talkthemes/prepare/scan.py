@@ -27,7 +27,7 @@ import numpy as np
 from numba import njit
 from numpy.typing import NDArray
 
-__all__ = ["PieceScanner", "code_points", "digit_regions", "text_hints", "word_chars"]
+__all__ = ["PieceScanner", "code_points", "digit_regions", "text_hints", "warm_up", "word_chars"]
 
 _N_CODE_POINTS = 0x110000
 _EMPTY = np.int64(-1)
@@ -345,3 +345,12 @@ class PieceScanner:
             self._vals = np.full(cap, _EMPTY, dtype=np.int64)
             _insert(self._keys, self._vals, old_keys, old_vals)
         _insert(self._keys, self._vals, hashes, ids)
+
+
+def warm_up() -> None:
+    """Load every compiled scan and build its tables (a tenth of a second or two, once a
+    process; see :mod:`talkthemes.prepare.warm`)."""
+    points = code_points("Warm up: www.x [y] 12 345 678.")
+    text_hints(points)
+    digit_regions(points, 64, 5)
+    PieceScanner(".\n").ids("warm up. warm", lambda piece: 0)
