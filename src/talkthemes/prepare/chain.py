@@ -38,7 +38,7 @@ from talkthemes.prepare.boilerplate import find_boilerplate, split_sentences
 from talkthemes.prepare.collect import BatchResult, Collected
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, load_fillers
-from talkthemes.prepare.headwords import Headwords, load_lemma_index, load_lemma_rules
+from talkthemes.prepare.headwords import headwords_for
 from talkthemes.prepare.lemmas import FastLemmatizer
 from talkthemes.prepare.lexicon import check_language, load_lemma_table, spacy_stop_words
 from talkthemes.prepare.names import NameLexicon, label_names
@@ -350,13 +350,7 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
             settings.boilerplate_min_words,
             names=settings.names,
             exceptions=settings.lemma_exceptions,
-            headwords=Headwords.build(
-                table,
-                index=load_lemma_index(lang),
-                rules=load_lemma_rules(lang),
-                lang=lang,
-                ratio=settings.lemma_keep_ratio,
-            ),
+            headwords=headwords_for(lang, settings.lemma_keep_ratio),
             person_names=person_names,
         )
     return TranscriptProcessor(

@@ -49,13 +49,14 @@ from __future__ import annotations
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cache
-from typing import NamedTuple
+from typing import Any, NamedTuple
 
 import numpy as np
 from numpy.typing import NDArray
 
 from talkthemes.prepare.filter import KEEP, LEMMATISED, TokenFilter
-from talkthemes.prepare.lexicon import load_lookup_data, lookup_tables
+from talkthemes.prepare.lexicon import load_lemma_table, load_lookup_data, lookup_tables
+from talkthemes.prepare.lexicon_cache import cached
 
 __all__ = [
     "ALL_CAPS_MIN_WORDS",
@@ -64,6 +65,7 @@ __all__ = [
     "Decision",
     "Headwords",
     "capitalised",
+    "headwords_for",
     "lemma_index_by_pos",
     "load_lemma_index",
     "load_lemma_rules",
@@ -259,6 +261,54 @@ class Headwords:
         table_said = self.said(table, counts, leave_out=word)
         keep = word in self.always or (said > table_said and said >= self.ratio * table_said)
         return Decision(word, table, word if keep else table, said, table_said)
+
+
+def headwords_for(lang: str, ratio: float) -> Headwords:
+    """:meth:`Headwords.build` for a language's own tables (table, index, rules), kept on
+    disk between runs (:mod:`talkthemes.prepare.lexicon_cache`): the scan of a large table
+    takes seconds.
+
+    Parameters
+    ----------
+    lang : str
+    ratio : float
+        ``[prepare] lemma_keep_ratio``; 0 or less finds nothing (follow the table).
+    """
+    if ratio <= 0:
+        return Headwords(ratio=ratio)
+
+    def build() -> Headwords:
+        return Headwords.build(
+            load_lemma_table(lang),
+            index=load_lemma_index(lang),
+            rules=load_lemma_rules(lang),
+            lang=lang,
+            ratio=ratio,
+        )
+
+    found = cached(
+        "headwords", lang, ("lemma_lookup", "lemma_index", "lemma_rules"), build, _dump, _load
+    )
+    return Headwords(found.contested, found.forms, found.always, ratio)
+
+
+def _dump(h: Headwords) -> dict[str, Any]:
+    return {
+        "contested": h.contested,
+        "forms": {k: list(v) for k, v in h.forms.items()},
+        "always": sorted(h.always),
+    }
+
+
+def _load(value: Any) -> Headwords:
+    contested, forms, always = value["contested"], value["forms"], value["always"]
+    if not (isinstance(contested, dict) and isinstance(forms, dict) and isinstance(always, list)):
+        raise TypeError("not the fields of a Headwords")
+    words = [*contested, *contested.values(), *forms, *always]
+    words += [w for f in forms.values() for w in (f if isinstance(f, list) else [None])]
+    if not all(isinstance(w, str) for w in words):
+        raise TypeError("not words")
+    return Headwords(contested, {k: tuple(v) for k, v in forms.items()}, frozenset(always))
 
 
 def capitalised(word: str) -> bool:

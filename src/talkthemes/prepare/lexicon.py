@@ -136,6 +136,8 @@ def load_lemma_table(lang: str) -> dict[str, str]:
     table = load_lookup_data(lookup_tables()[lang]["lemma_lookup"])
     # most tables map a word to its lemma; the French one to a list of lemmas, of which
     # spaCy's lookup reads the first (spacy.lang.fr.lemmatizer)
+    if all(v.__class__ is str for v in table.values()):
+        return table  # keys of a JSON object are strings already
     out: dict[str, str] = {}
     for k, v in table.items():
         if isinstance(v, list):
@@ -151,13 +153,27 @@ def lemma_table_words(lang: str) -> frozenset[str]:
     ``spacy-lookups-data`` ships no table for it).
 
     What the names step (:mod:`talkthemes.prepare.names`) and the on-screen masking
-    (:mod:`talkthemes.privacy`) take as words of the language, not names.
+    (:mod:`talkthemes.privacy`) take as words of the language, not names. Kept on disk
+    between runs (:mod:`talkthemes.prepare.lexicon_cache`).
     """
+    # the cache reads this module's tables: imported here
+    from talkthemes.prepare.lexicon_cache import cached
+
     try:
         table = load_lemma_table(lang)
     except ConfigError:  # no lookup table for the language: the callers use stop words only
         return frozenset()
-    return frozenset({k.lower() for k in table} | {v.lower() for v in table.values()})
+
+    def build() -> frozenset[str]:
+        return frozenset({k.lower() for k in table} | {v.lower() for v in table.values()})
+
+    return cached("words", lang, ("lemma_lookup",), build, sorted, _strings)
+
+
+def _strings(value: Any) -> frozenset[str]:
+    if not isinstance(value, list) or not all(isinstance(w, str) for w in value):
+        raise TypeError("not a list of words")
+    return frozenset(value)
 
 
 @cache
