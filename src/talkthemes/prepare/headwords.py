@@ -408,7 +408,7 @@ def resolve_tokens(
     at = np.flatnonzero(is_provisional[tokens])
     term = tokens[at]
     why = reason[term]
-    sentence = np.searchsorted(np.cumsum(sent_kept), at, side="right")
+    sentence = np.repeat(np.arange(sent_kept.size), sent_kept)[at]
     if sent_stats is not None:
         width = sent_stats.shape[1]
         columns = [(int(r), why == r) for r in np.unique(why[why > 0])]

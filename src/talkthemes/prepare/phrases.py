@@ -208,12 +208,20 @@ def apply_phrases(
     if len(model) == 0 or tokens.size < 2:
         return tokens.astype(np.int32), lengths.copy(), joined
     first, second, inside = unit_bigrams(tokens, lengths)
-    keys = first * n_types + second
     model_keys = model.pairs[:, 0] * n_types + model.pairs[:, 1]
     order = np.argsort(model_keys)
     sorted_keys = model_keys[order]
-    at = np.minimum(np.searchsorted(sorted_keys, keys), sorted_keys.size - 1)
-    hit = inside & (sorted_keys[at] == keys)
+    # only pairs whose first word starts a phrase are looked up (a small share)
+    starts = np.zeros(n_types, dtype=bool)
+    starts[model.pairs[:, 0]] = True
+    cand = np.flatnonzero(inside & starts[first])
+    keys = first[cand] * n_types + second[cand]
+    found = np.minimum(np.searchsorted(sorted_keys, keys), sorted_keys.size - 1)
+    is_hit = sorted_keys[found] == keys
+    hit = np.zeros(first.size, dtype=bool)
+    hit[cand[is_hit]] = True
+    at = np.zeros(first.size, dtype=np.int64)
+    at[cand] = found
     # gensim's greedy pass: within a run of consecutive hits, take every other one.
     pos = np.arange(hit.size)
     run_start = hit.copy()
