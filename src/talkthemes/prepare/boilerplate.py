@@ -159,11 +159,18 @@ def find_boilerplate(
     ks = np.asarray(keys, dtype=np.int64)[eligible]
     if ks.size == 0:
         return empty, empty
-    order = np.lexsort((ks, docs))
+    if docs.size > 1 and bool(np.all(docs[1:] >= docs[:-1])):
+        # sentences in transcript order (always, in the chain): a stable sort by key keeps
+        # each key's sentences in transcript order (one sort instead of two)
+        order = np.argsort(ks, kind="stable")
+    else:
+        order = np.lexsort((docs, ks))
     docs, ks = docs[order], ks[order]
     first = np.ones(ks.size, dtype=bool)  # first sentence of each (transcript, key) pair
     first[1:] = (docs[1:] != docs[:-1]) | (ks[1:] != ks[:-1])
-    uniq, df = np.unique(ks[first], return_counts=True)
+    kf = ks[first]  # sorted by key
+    bounds = np.flatnonzero(np.concatenate([[True], kf[1:] != kf[:-1]]))
+    uniq, df = kf[bounds], np.diff(np.append(bounds, kf.size))
     need = max(2, math.ceil(min_share * n_docs - 1e-9))
     hit = df >= need
     uniq, df = uniq[hit], df[hit].astype(np.int64)

@@ -38,7 +38,7 @@ from talkthemes.prepare.boilerplate import find_boilerplate, split_sentences
 from talkthemes.prepare.collect import BatchResult, Collected, compact_counts
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.prepare.filter import LEMMATISED, STAT_COLUMNS, TokenFilter, load_fillers
-from talkthemes.prepare.headwords import Headwords, load_lemma_index, load_lemma_rules
+from talkthemes.prepare.headwords import headwords_for
 from talkthemes.prepare.lemmas import FastLemmatizer
 from talkthemes.prepare.lexicon import check_language, load_lemma_table, spacy_stop_words
 from talkthemes.prepare.names import NameLexicon, label_names
@@ -57,6 +57,7 @@ __all__ = [
     "build_processor",
     "normalised_sentence",
     "prepare_corpus",
+    "worker_count",
 ]
 
 logger = logging.getLogger(__name__)
@@ -206,7 +207,12 @@ class TranscriptProcessor:
         stats[:, 0] = lengths
         sent_kept = np.bincount(tok_sent[kept], minlength=n_sentences)
         local = codes[kept] >> 1
-        uniq, inverse = np.unique(local, return_inverse=True)
+        # the batch's terms in id order, and each token's place among them (np.unique's
+        # answer, without sorting the tokens)
+        present = np.zeros(len(self.encoder.types), dtype=bool)
+        present[local] = True
+        uniq = np.flatnonzero(present)
+        inverse = (np.cumsum(present) - 1)[local]
         types = [self.encoder.types[i] for i in uniq.tolist()]
 
         return BatchResult(
@@ -272,10 +278,13 @@ class TranscriptProcessor:
             for k, d in zip(keys_df.tolist(), df.tolist(), strict=True)
             if d >= need and k not in self._reported
         }
-        doc_of: dict[int, int] = {}
-        for k, d in zip(keys.tolist(), sent_doc.tolist(), strict=True):
-            if k in wanted and k not in doc_of:
-                doc_of[k] = d
+        if not wanted:
+            return {}
+        # the first transcript each wanted key is in, in the order the keys first appear
+        at = np.flatnonzero(np.isin(keys, np.fromiter(wanted, dtype=np.int64)))
+        _, first = np.unique(keys[at], return_index=True)
+        at = at[np.sort(first)]
+        doc_of = dict(zip(keys[at].tolist(), sent_doc[at].tolist(), strict=True))
         out: dict[int, str] = {}
         for k, d in doc_of.items():
             for sentence in split_sentences(texts[d]):
@@ -341,13 +350,7 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
             settings.boilerplate_min_words,
             names=settings.names,
             exceptions=settings.lemma_exceptions,
-            headwords=Headwords.build(
-                table,
-                index=load_lemma_index(lang),
-                rules=load_lemma_rules(lang),
-                lang=lang,
-                ratio=settings.lemma_keep_ratio,
-            ),
+            headwords=headwords_for(lang, settings.lemma_keep_ratio),
             person_names=person_names,
         )
     return TranscriptProcessor(
@@ -356,6 +359,14 @@ def build_processor(settings: PrepareSettings) -> TranscriptProcessor:
         scrub=settings.scrub,
         boilerplate_min_share=settings.boilerplate_min_share,
     )
+
+
+def worker_count(settings: PrepareSettings, total: int | None) -> int:
+    """Worker processes :func:`prepare_corpus` uses for ``total`` transcripts (1: none)."""
+    n_process = resolve_processes(settings.n_process)
+    if total and total <= _MIN_BATCHES_PER_WORKER * n_process * settings.batch_size:
+        return 1  # starting workers would cost more than it saves
+    return n_process
 
 
 def prepare_corpus(
@@ -402,10 +413,8 @@ def prepare_corpus(
         When the language or pipeline cannot be loaded.
     """
     processor = processor or build_processor(settings)
-    n_process = resolve_processes(settings.n_process)
+    n_process = worker_count(settings, total)
     total = total or 0
-    if total and total <= _MIN_BATCHES_PER_WORKER * n_process * settings.batch_size:
-        n_process = 1  # starting workers would cost more than it saves
     report(progress, 0, total, "read")
     col = Collected()
     for res in map_batches(processor, source(), n_process):

@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import json
 import logging
+import zipfile
 from dataclasses import dataclass, field
 from importlib.metadata import PackageNotFoundError, version
 from pathlib import Path
@@ -177,7 +178,7 @@ class PreparedCorpus:
         _write_json(folder / "vocabulary.json", self.vocabulary)
         _write_json(folder / "doc_ids.json", self.doc_ids)
         counts = sp.csr_matrix(self.counts, dtype=np.int32)
-        sp.save_npz(folder / "counts.npz", counts, compressed=True)
+        _save_csr(folder / "counts.npz", counts)
         np.save(folder / "tokens.npy", np.ascontiguousarray(self.tokens, dtype=np.int32))
         np.save(folder / "offsets.npy", np.ascontiguousarray(self.offsets, dtype=np.int64))
         info = dict(self.info)
@@ -243,6 +244,23 @@ class PreparedCorpus:
                 ", ".join(f"{k} {a} (now {b})" for k, (a, b) in differ.items()),
             )
         return corpus
+
+
+def _save_csr(path: Path, matrix: sp.csr_matrix) -> None:
+    """``scipy.sparse.save_npz(path, matrix, compressed=True)`` with the fastest deflate
+    level: the same members, read back by ``load_npz``; level 6 took 0.4 s of a
+    20,000-call prepare for files a fifth smaller."""
+    arrays = {
+        "indices": matrix.indices,
+        "indptr": matrix.indptr,
+        "format": np.array(matrix.format.encode("ascii")),
+        "shape": np.array(matrix.shape),
+        "data": matrix.data,
+    }
+    with zipfile.ZipFile(path, "w", compression=zipfile.ZIP_DEFLATED, compresslevel=1) as zf:
+        for name, array in arrays.items():
+            with zf.open(f"{name}.npy", "w", force_zip64=True) as member:
+                np.lib.format.write_array(member, np.asanyarray(array), allow_pickle=False)
 
 
 def _write_json(path: Path, value: Any) -> None:

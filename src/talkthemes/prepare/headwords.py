@@ -49,12 +49,14 @@ from __future__ import annotations
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cache
-from typing import NamedTuple
+from typing import Any, NamedTuple
 
 import numpy as np
 from numpy.typing import NDArray
 
 from talkthemes.prepare.filter import KEEP, LEMMATISED, TokenFilter
+from talkthemes.prepare.lexicon import load_lemma_table, load_lookup_data, lookup_tables
+from talkthemes.prepare.lexicon_cache import cached
 
 __all__ = [
     "ALL_CAPS_MIN_WORDS",
@@ -63,6 +65,7 @@ __all__ = [
     "Decision",
     "Headwords",
     "capitalised",
+    "headwords_for",
     "lemma_index_by_pos",
     "load_lemma_index",
     "load_lemma_rules",
@@ -93,26 +96,20 @@ def load_lemma_index(lang: str) -> frozenset[str]:
 def lemma_index_by_pos(lang: str) -> dict[str, frozenset[str]]:
     """The base forms of spaCy's ``lemma_index`` table by part of speech (``noun``,
     ``verb``, ``adj``, ``adv``), lower-cased; empty when none is shipped."""
-    # spaCy is heavy to import: deferred to first use on purpose
-    from spacy.util import load_language_data, registry
-
-    tables = registry.lookups.get_all().get(lang)
+    tables = lookup_tables().get(lang)
     if not isinstance(tables, dict) or "lemma_index" not in tables:
         return {}
-    data = load_language_data(tables["lemma_index"])
+    data = load_lookup_data(tables["lemma_index"])
     return {str(pos): frozenset(w.lower() for w in words) for pos, words in data.items()}
 
 
 @cache
 def load_lemma_rules(lang: str) -> tuple[tuple[str, str], ...]:
     """spaCy's suffix rules (``lemma_rules``: old ending → new ending), every part of speech."""
-    # spaCy is heavy to import: deferred to first use on purpose
-    from spacy.util import load_language_data, registry
-
-    tables = registry.lookups.get_all().get(lang)
+    tables = lookup_tables().get(lang)
     if not isinstance(tables, dict) or "lemma_rules" not in tables:
         return ()
-    data = load_language_data(tables["lemma_rules"])
+    data = load_lookup_data(tables["lemma_rules"])
     rules = {(str(o), str(n)) for pairs in data.values() for o, n in pairs if o}
     return tuple(sorted(rules))
 
@@ -266,6 +263,54 @@ class Headwords:
         return Decision(word, table, word if keep else table, said, table_said)
 
 
+def headwords_for(lang: str, ratio: float) -> Headwords:
+    """:meth:`Headwords.build` for a language's own tables (table, index, rules), kept on
+    disk between runs (:mod:`talkthemes.prepare.lexicon_cache`): the scan of a large table
+    takes seconds.
+
+    Parameters
+    ----------
+    lang : str
+    ratio : float
+        ``[prepare] lemma_keep_ratio``; 0 or less finds nothing (follow the table).
+    """
+    if ratio <= 0:
+        return Headwords(ratio=ratio)
+
+    def build() -> Headwords:
+        return Headwords.build(
+            load_lemma_table(lang),
+            index=load_lemma_index(lang),
+            rules=load_lemma_rules(lang),
+            lang=lang,
+            ratio=ratio,
+        )
+
+    found = cached(
+        "headwords", lang, ("lemma_lookup", "lemma_index", "lemma_rules"), build, _dump, _load
+    )
+    return Headwords(found.contested, found.forms, found.always, ratio)
+
+
+def _dump(h: Headwords) -> dict[str, Any]:
+    return {
+        "contested": h.contested,
+        "forms": {k: list(v) for k, v in h.forms.items()},
+        "always": sorted(h.always),
+    }
+
+
+def _load(value: Any) -> Headwords:
+    contested, forms, always = value["contested"], value["forms"], value["always"]
+    if not (isinstance(contested, dict) and isinstance(forms, dict) and isinstance(always, list)):
+        raise TypeError("not the fields of a Headwords")
+    words = [*contested, *contested.values(), *forms, *always]
+    words += [w for f in forms.values() for w in (f if isinstance(f, list) else [None])]
+    if not all(isinstance(w, str) for w in words):
+        raise TypeError("not words")
+    return Headwords(contested, {k: tuple(v) for k, v in forms.items()}, frozenset(always))
+
+
 def capitalised(word: str) -> bool:
     """Whether a word is written with a capital (``Laden``, ``UK``), the pronoun I aside."""
     return word[:1].isupper() and word != "I"
@@ -363,7 +408,7 @@ def resolve_tokens(
     at = np.flatnonzero(is_provisional[tokens])
     term = tokens[at]
     why = reason[term]
-    sentence = np.searchsorted(np.cumsum(sent_kept), at, side="right")
+    sentence = np.repeat(np.arange(sent_kept.size), sent_kept)[at]
     if sent_stats is not None:
         width = sent_stats.shape[1]
         columns = [(int(r), why == r) for r in np.unique(why[why > 0])]

@@ -41,6 +41,7 @@ from talkthemes.prepare.filter import NON_ALPHA, TokenFilter
 from talkthemes.prepare.headwords import Headwords, capitalised
 from talkthemes.prepare.names import NameLexicon, all_caps, rule_positions, title_case
 from talkthemes.prepare.names_mark import NameColumns
+from talkthemes.prepare.scan import PieceScanner
 from talkthemes.prepare.words import (
     CUT,
     DOC_SEP,
@@ -51,7 +52,6 @@ from talkthemes.prepare.words import (
     KIND_MARK,
     KIND_WORD,
     MARK_CHARS,
-    PIECES,
     english_not,
     mark_cutoffs,
 )
@@ -59,6 +59,10 @@ from talkthemes.prepare.words import (
 __all__ = [
     "FastLemmatizer",
 ]
+
+
+#: The pieces of :data:`~talkthemes.prepare.words.PIECES` that are one character on their own.
+_MARKS = "".join(sorted(MARK_CHARS)) + DOC_SEP + CUT + GAP
 
 
 class _Surface(NamedTuple):
@@ -136,6 +140,7 @@ class FastLemmatizer(Encoder):
         # a surface id; the per-surface columns below say what it is, so that everything
         # after the look-up is done by numpy.
         self._sid: dict[str, int] = {}
+        self._scanner = PieceScanner(_MARKS)
         self._rows: list[_Surface] = []
         self._columns: list[NDArray[Any]] = [
             np.zeros(0, dtype=t)
@@ -200,6 +205,10 @@ class FastLemmatizer(Encoder):
             lower in lex.ordinary,
         )
 
+    def _surface_id(self, piece: str) -> int:
+        sid = self._sid.get(piece)
+        return self._new_surface(piece) if sid is None else sid
+
     def _new_surface(self, piece: str) -> int:
         sid = self._sid[piece] = len(self._rows)
         if piece == DOC_SEP:
@@ -244,14 +253,7 @@ class FastLemmatizer(Encoder):
         if self.lang == "en":
             big = english_not(big)
         big = mark_cutoffs(big, " " + CUT)
-        pieces = PIECES.findall(big)
-        sids = list(map(self._sid.get, pieces))
-        if None in sids:
-            sids = [
-                s if s is not None else (self._sid[p] if p in self._sid else self._new_surface(p))
-                for s, p in zip(sids, pieces, strict=True)
-            ]
-        arr = np.fromiter(sids, dtype=np.int64, count=len(sids))
+        arr = self._scanner.ids(big, self._surface_id)
         columns = self._tables()
         kind_of, code_of, name_code_of, value_of, soft_of, cap_of, counted_of, renamed_of = columns[
             :8

@@ -3,9 +3,14 @@ which languages have a chain of their own."""
 
 from __future__ import annotations
 
+import gzip
+import importlib.util
+import json
 import logging
 from functools import cache
+from importlib.metadata import entry_points
 from pathlib import Path
+from typing import Any
 
 from talkthemes.errors import ConfigError
 
@@ -14,7 +19,9 @@ __all__ = [
     "check_language",
     "lemma_table_words",
     "load_lemma_table",
+    "load_lookup_data",
     "lookup_languages",
+    "lookup_tables",
     "spacy_stop_words",
 ]
 
@@ -67,16 +74,37 @@ def check_language(lang: str, pipeline: str = "") -> None:
 
 
 @cache
+def lookup_tables() -> dict[str, dict[str, Any]]:
+    """The tables ``spacy-lookups-data`` ships, by language: table name → file.
+
+    Read from the package's ``spacy_lookups`` entry points, the ones spaCy's
+    ``registry.lookups`` reads, without importing spaCy (which takes half a second).
+    """
+    out: dict[str, dict[str, Any]] = {}
+    for ep in entry_points(group="spacy_lookups"):
+        try:
+            tables = ep.load()
+        except Exception as exc:  # a broken plug-in: its languages are not offered
+            logger.warning("cannot read the spaCy lookups of %r: %s", ep.name, exc)
+            continue
+        if isinstance(tables, dict):
+            out[ep.name] = tables
+    return out
+
+
+def load_lookup_data(path: Any) -> Any:
+    """A table file of ``spacy-lookups-data`` (JSON, or gzipped JSON when the plain file
+    is not there), as spaCy's ``util.load_language_data`` reads it."""
+    path = Path(str(path))
+    if path.exists():
+        return json.loads(path.read_bytes())
+    return json.loads(gzip.decompress(path.with_name(path.name + ".gz").read_bytes()))
+
+
+@cache
 def lookup_languages() -> tuple[str, ...]:
     """Language codes for which ``spacy-lookups-data`` ships a lookup lemma table."""
-    # spaCy is heavy to import: deferred to first use on purpose
-    from spacy.util import registry
-
-    out = []
-    for lang, tables in registry.lookups.get_all().items():
-        if isinstance(tables, dict) and "lemma_lookup" in tables:
-            out.append(lang)
-    return tuple(sorted(out))
+    return tuple(sorted(lang for lang, t in lookup_tables().items() if "lemma_lookup" in t))
 
 
 @cache
@@ -99,18 +127,17 @@ def load_lemma_table(lang: str) -> dict[str, str]:
     ConfigError
         When ``spacy-lookups-data`` ships no lookup table for the language.
     """
-    # spaCy is heavy to import: deferred to first use on purpose
-    from spacy.util import load_language_data, registry
-
     if lang not in lookup_languages():
         raise ConfigError(
             f"[prepare] lang = {lang!r}: spacy-lookups-data ships no lookup lemma table for it "
             f"(languages with one: {', '.join(lookup_languages())}); choose one of those, or set "
             "[prepare] pipeline to an installed spaCy pipeline for the language"
         )
-    table = load_language_data(registry.lookups.get(lang)["lemma_lookup"])
+    table = load_lookup_data(lookup_tables()[lang]["lemma_lookup"])
     # most tables map a word to its lemma; the French one to a list of lemmas, of which
     # spaCy's lookup reads the first (spacy.lang.fr.lemmatizer)
+    if all(v.__class__ is str for v in table.values()):
+        return table  # keys of a JSON object are strings already
     out: dict[str, str] = {}
     for k, v in table.items():
         if isinstance(v, list):
@@ -126,13 +153,27 @@ def lemma_table_words(lang: str) -> frozenset[str]:
     ``spacy-lookups-data`` ships no table for it).
 
     What the names step (:mod:`talkthemes.prepare.names`) and the on-screen masking
-    (:mod:`talkthemes.privacy`) take as words of the language, not names.
+    (:mod:`talkthemes.privacy`) take as words of the language, not names. Kept on disk
+    between runs (:mod:`talkthemes.prepare.lexicon_cache`).
     """
+    # the cache reads this module's tables: imported here
+    from talkthemes.prepare.lexicon_cache import cached
+
     try:
         table = load_lemma_table(lang)
     except ConfigError:  # no lookup table for the language: the callers use stop words only
         return frozenset()
-    return frozenset({k.lower() for k in table} | {v.lower() for v in table.values()})
+
+    def build() -> frozenset[str]:
+        return frozenset({k.lower() for k in table} | {v.lower() for v in table.values()})
+
+    return cached("words", lang, ("lemma_lookup",), build, sorted, _strings)
+
+
+def _strings(value: Any) -> frozenset[str]:
+    if not isinstance(value, list) or not all(isinstance(w, str) for w in value):
+        raise TypeError("not a list of words")
+    return frozenset(value)
 
 
 @cache
@@ -148,18 +189,14 @@ def spacy_stop_words(lang: str) -> frozenset[str]:
     ConfigError
         When spaCy does not know the language.
     """
-    # spaCy is heavy to import: deferred to first use on purpose
-    import importlib.util
-
-    import spacy.lang
-
-    path = Path(spacy.lang.__file__).parent / lang / "stop_words.py"
+    path = _spacy_folder() / "lang" / lang / "stop_words.py"
     if lang.isalpha() and lang.islower() and path.is_file():
         spec = importlib.util.spec_from_file_location(f"_talkthemes_stop_words_{lang}", path)
         if spec is not None and spec.loader is not None:
             module = importlib.util.module_from_spec(spec)
             spec.loader.exec_module(module)
             return frozenset(w.lower() for w in module.STOP_WORDS)
+    # spaCy is heavy to import: only for a language without a stop_words module
     import spacy.util
 
     try:
@@ -167,3 +204,11 @@ def spacy_stop_words(lang: str) -> frozenset[str]:
     except (ImportError, KeyError):
         raise ConfigError(f"[prepare] lang = {lang!r}: not a language code spaCy knows") from None
     return frozenset(w.lower() for w in cls.Defaults.stop_words)
+
+
+def _spacy_folder() -> Path:
+    """spaCy's package folder, found without importing spaCy."""
+    spec = importlib.util.find_spec("spacy")
+    if spec is None or not spec.submodule_search_locations:
+        raise ConfigError("spaCy is not installed")
+    return Path(next(iter(spec.submodule_search_locations)))

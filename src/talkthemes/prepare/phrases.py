@@ -21,8 +21,10 @@ connector words.
 
 How the work is split: unigram and bigram counts are taken with numpy over the integer token
 stream (the same counts gensim's ``Phrases.add_vocab`` collects, without its vocabulary
-pruning); only bigrams that can pass ``min_count`` are handed to a gensim ``Phrases`` model,
-whose ``freeze()`` scores them with gensim's own ``npmi_scorer``. Applying the frozen model
+pruning); only bigrams that can pass ``min_count`` are scored, with the float operations of
+gensim's ``npmi_scorer`` in the same order and kept when the score exceeds the threshold, as
+``Phrases.freeze()`` does (gensim itself takes a second to import, which a prepare run of
+20,000 calls would feel; the tests compare with it). Applying the frozen model
 follows gensim's ``analyze_sentence`` exactly (left to right; a joined pair is not reused),
 vectorised over the token stream. ``tests/prepare/test_phrases.py`` checks the result
 against gensim trained and applied the ordinary way.
@@ -37,8 +39,8 @@ representations of words and phrases and their compositionality. NIPS 2013.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
@@ -135,8 +137,8 @@ def learn_phrases(
     *,
     threshold: float,
     min_count: int,
-) -> tuple[PhraseModel, Any]:
-    """Train gensim's NPMI phrase model on a token stream and freeze it.
+) -> tuple[PhraseModel, dict[str, float]]:
+    """Train the NPMI phrase model (gensim's) on a token stream and freeze it.
 
     Parameters
     ----------
@@ -154,37 +156,43 @@ def learn_phrases(
     Returns
     -------
     model : PhraseModel
-    frozen : gensim.models.phrases.FrozenPhrases
-        The frozen gensim model (phrase strings → scores in ``phrasegrams``).
+    phrasegrams : dict of str to float
+        Phrase strings → scores, as gensim's frozen model's ``phrasegrams``.
     """
-    # gensim is heavy to import: deferred to first use on purpose
-    from gensim.models.phrases import Phrases
-
     n_types = len(types)
     uniq, counts = _bigram_counts(tokens, lengths, n_types)
     keep = counts >= min_count
     uniq, counts = uniq[keep], counts[keep]
     unigram = np.bincount(np.asarray(tokens, dtype=np.int64), minlength=n_types)
 
-    model = Phrases(min_count=min_count, threshold=threshold, scoring="npmi", delimiter=DELIMITER)
-    vocab: dict[str, int] = {}
+    total = float(int(tokens.size))  # gensim's corpus_word_count
+    phrasegrams: dict[str, float] = {}
     by_name: dict[str, tuple[int, int, int]] = {}
     for key, count in zip(uniq.tolist(), counts.tolist(), strict=True):
         a, b = divmod(key, n_types)
-        name = f"{types[a]}{DELIMITER}{types[b]}"
-        vocab[types[a]] = int(unigram[a])
-        vocab[types[b]] = int(unigram[b])
-        vocab[name] = count
-        by_name[name] = (a, b, count)
-    model.vocab = vocab
-    model.corpus_word_count = int(tokens.size)
-    frozen = model.freeze()
+        score = _npmi(int(unigram[a]), int(unigram[b]), count, total)
+        if score > threshold:
+            name = f"{types[a]}{DELIMITER}{types[b]}"
+            phrasegrams[name] = score
+            by_name[name] = (a, b, count)
 
-    names = sorted(frozen.phrasegrams)
+    names = sorted(phrasegrams)
     pairs = np.array([by_name[n][:2] for n in names], dtype=np.int64).reshape(-1, 2)
-    scores = np.array([frozen.phrasegrams[n] for n in names], dtype=np.float64)
+    scores = np.array([phrasegrams[n] for n in names], dtype=np.float64)
     bigram_counts = np.array([by_name[n][2] for n in names], dtype=np.int64)
-    return PhraseModel(pairs, scores, names, bigram_counts), frozen
+    return PhraseModel(pairs, scores, names, bigram_counts), phrasegrams
+
+
+def _npmi(count_a: int, count_b: int, count_ab: int, total: float) -> float:
+    """NPMI of a pair, with the operations of gensim's ``npmi_scorer`` in its order (so the
+    same floats, and the same pairs pass the threshold)."""
+    pa = count_a / total
+    pb = count_b / total
+    pab = count_ab / total
+    try:
+        return math.log(pab / (pa * pb)) / -math.log(pab)
+    except (ValueError, ZeroDivisionError):  # a zero count (never here): never a phrase
+        return -math.inf
 
 
 def apply_phrases(
@@ -225,10 +233,12 @@ def apply_phrases(
     model_keys = model.pairs[:, 0] * n_types + model.pairs[:, 1]
     order = np.argsort(model_keys)
     sorted_keys = model_keys[order]
+    starts = np.zeros(n_types, dtype=bool)  # words that start a phrase
+    starts[model.pairs[:, 0]] = True
     outs, new_lengths = [], []
     for a, b, ua, ub in unit_chunks(lengths):  # pairs never span units: piece by piece
         out, piece_lengths, piece_joined = _apply_piece(
-            tokens[a:b], lengths[ua:ub], order, sorted_keys, n_types, len(model)
+            tokens[a:b], lengths[ua:ub], order, sorted_keys, starts, n_types, len(model)
         )
         outs.append(out)
         new_lengths.append(piece_lengths)
@@ -241,19 +251,25 @@ def _apply_piece(
     lengths: NDArray[np.int64],
     order: NDArray[np.int64],
     sorted_keys: NDArray[np.int64],
+    starts: NDArray[np.bool_],
     n_types: int,
     n_phrases: int,
 ) -> tuple[NDArray[np.int32], NDArray[np.int64], NDArray[np.int64]]:
     """:func:`apply_phrases` on whole units (``sorted_keys``: the model's pair keys sorted,
-    ``order``: their phrase numbers)."""
+    ``order``: their phrase numbers, ``starts``: the words that start a phrase)."""
     if tokens.size < 2:
         return tokens.astype(np.int32), lengths.copy(), np.zeros(n_phrases, dtype=np.int64)
     first, second, inside = unit_bigrams(tokens, lengths)
-    keys = first * n_types + second
-    del first, second
-    at = np.minimum(np.searchsorted(sorted_keys, keys), sorted_keys.size - 1)
-    hit = inside & (sorted_keys[at] == keys)
-    del keys, inside
+    # only pairs whose first word starts a phrase are looked up (a small share)
+    cand = np.flatnonzero(inside & starts[first])
+    keys = first[cand] * n_types + second[cand]
+    del first, second, inside
+    found = np.minimum(np.searchsorted(sorted_keys, keys), sorted_keys.size - 1)
+    is_hit = sorted_keys[found] == keys
+    hit = np.zeros(tokens.size - 1, dtype=bool)
+    hit[cand[is_hit]] = True
+    at = np.zeros(tokens.size - 1, dtype=np.int64)
+    at[cand] = found
     # gensim's greedy pass: within a run of consecutive hits, take every other one.
     pos = np.arange(hit.size)
     run_start = hit.copy()

@@ -24,9 +24,10 @@ from talkthemes.config import PrepareSettings
 from talkthemes.errors import NotReadyError, StoreError
 from talkthemes.languages.lanes import sync_lanes, themed_languages
 from talkthemes.languages.settle import settle_languages
-from talkthemes.prepare.chain import build_processor, prepare_corpus
+from talkthemes.prepare.chain import build_processor, prepare_corpus, worker_count
 from talkthemes.prepare.corpus import FILES, PreparedCorpus, library_versions
 from talkthemes.prepare.explain import masked_explain
+from talkthemes.prepare.workers import start_workers
 from talkthemes.progress import Progress, report
 from talkthemes.workspace import Workspace, atomic_dir
 
@@ -210,6 +211,7 @@ def run_prepare(
                 )
             raise NotReadyError("the store holds no transcripts: run 'talkthemes ingest' first")
 
+        start_workers(worker_count(settings, total))  # their start overlaps with ours
         processor = build_processor(settings)
         corpus, explain = prepare_corpus(
             lambda: store.iter_turn_batches(

@@ -49,6 +49,7 @@ from __future__ import annotations
 import re
 from collections.abc import Callable, Iterable, MutableMapping
 
+from talkthemes.prepare.scan import code_points, digit_regions, text_hints
 from talkthemes.text.pii_national import (
     ALNUM_ID,
     IBAN_CANDIDATE,
@@ -113,7 +114,14 @@ _ANCHORS = re.compile(
 #: IBANs and ids with letters are looked for only in this much text from each
 #: :data:`_ID_ANCHOR` on (an IBAN in groups of four: 42 characters).
 _ID_WIDTH = 44
-_DIGIT_HINT = re.compile(r"\d")
+#: Every match of the patterns for numbers, ids and phone numbers holds a digit, reaches
+#: less than this many characters from it (an IBAN: 42), and is looked for at most 44
+#: characters after an anchor: texts are read only around their digits
+#: (:func:`~talkthemes.prepare.scan.digit_regions`).
+_MARGIN = 64
+#: The fewest digits any kind of :func:`_digit_kind` takes (a number: 5; a national phone
+#: number: 6; a phone: 7; an id: 9).
+_FEWEST_DIGITS = min(LONG_NUMBER_DIGITS, 6)
 _NON_DIGIT = re.compile(r"\D")
 _WORD = re.compile(r"\w+")
 _SPACE = re.compile(r"\s")
@@ -286,6 +294,8 @@ def scrub(
 
     def digits(m: re.Match[str]) -> str:
         run = m.group(0)
+        if len(run) < _FEWEST_DIGITS:
+            return run  # too few digits for any kind (most runs: "2", "10")
         kind = None if _glued(m) else _digit_kind(run, lang)
         return run if kind is None else count(kind, run)
 
@@ -310,15 +320,7 @@ def scrub(
             return run
         return count("tag", run)
 
-    if "@" in text:
-        anchors = [m.start() for m in re.finditer("@", text)]
-        text = _sub_chunks(text, anchors, _EMAIL, lambda m: count("email", m.group(0)))
-    anchors = _url_anchors(text)
-    if anchors:
-        text = _sub_chunks(text, anchors, _URL, lambda m: count("url", m.group(0)))
-    if any(h in text for h in _TAG_HINTS):
-        text = _TAG.sub(tag, text)
-    if _DIGIT_HINT.search(text):
+    def numbers(text: str) -> str:
         found = list(_ANCHORS.finditer(text))
         if found:
             at_ids = [m for m in found if m.group("phone") is None]
@@ -328,5 +330,35 @@ def scrub(
             if len(at_ids) < len(found):  # the text changed: find the phone hints again
                 phones = [(_PHONE_FORMS, phone_form)]
                 text = _sub_near(text, _PHONE_HINT.finditer(text), phones, before=16, after=24)
-        text = _DIGITS.sub(digits, text)
+        return _DIGITS.sub(digits, text)
+
+    if "@" in text:
+        anchors = [m.start() for m in re.finditer("@", text)]
+        text = _sub_chunks(text, anchors, _EMAIL, lambda m: count("email", m.group(0)))
+    # one compiled pass over the text says which of the steps below can find anything
+    points = code_points(text)
+    hints = text_hints(points)
+    changed = False
+    if hints & 2:
+        anchors = _url_anchors(text)
+        if anchors:
+            text = _sub_chunks(text, anchors, _URL, lambda m: count("url", m.group(0)))
+            changed = True
+    if hints & 1 and any(h in text for h in _TAG_HINTS):
+        text = _TAG.sub(tag, text)
+        changed = True
+    if changed:
+        points = code_points(text)
+    # the patterns for numbers run only on the stretches around digits that can hold a
+    # match (the same matches as over the whole text)
+    out: list[str] = []
+    last = 0
+    for start, end, busy in digit_regions(points, _MARGIN, _FEWEST_DIGITS):
+        if busy:
+            out.append(text[last:start])
+            out.append(numbers(text[start:end]))
+            last = end
+    if last:
+        out.append(text[last:])
+        text = "".join(out)
     return text, removed
