@@ -21,6 +21,7 @@ from threadpoolctl import threadpool_limits
 from talkthemes.config import SweepSettings
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.sweep.grid import CellSpec
+from talkthemes.sweep.sample import restrict
 from talkthemes.sweep.split import split_rows, subsample_rows
 from talkthemes.workspace import atomic_write_bytes
 
@@ -45,13 +46,15 @@ def fit_cell(
     seed: int,
     settings: dict[str, Any],
     heldout_share: float,
+    rows: np.ndarray | None = None,
 ) -> dict[str, Any]:
     """Fit one cell and return its metrics; writes ``topics/<cell>.npy`` under the sweep.
 
     Runs on a Dask worker (or in-process). Returns plain JSON values: the cell's top
     term ids, fit seconds, held-out perplexity (LDA) or reconstruction error (NMF),
     ``largest_lead_share`` (of the transcripts it was fitted on) and the worker's peak
-    memory.
+    memory. ``rows`` (a sweep on a sample, :mod:`talkthemes.sweep.sample`): the prep rows
+    of the sample; the cell trains on the sample's training rows only.
     """
     # Deferred on purpose: gensim and scikit-learn take about a second to import, which
     # only the processes that fit models pay (the sweep's client never does).
@@ -63,6 +66,7 @@ def fit_cell(
     sweep_settings = SweepSettings.model_validate(settings)
     corpus = _load_prep(prep_folder)
     train, held = split_rows(corpus.doc_ids, heldout_share)
+    train, held = restrict(train, rows), restrict(held, rows)
     train = subsample_rows(train, sweep_settings.subsample, seed)
     counts = corpus.counts.tocsr()
     with threadpool_limits(1):  # parallelism is across cells, not inside one

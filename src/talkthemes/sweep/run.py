@@ -34,6 +34,8 @@ from talkthemes.sweep.cell import fit_cell
 from talkthemes.sweep.grid import CellSpec, build_cells, grid_key, parse_k
 from talkthemes.sweep.limits import PrepSize, check_k, check_memory
 from talkthemes.sweep.recommend import Recommendation, recommend
+from talkthemes.sweep.sample import SweepSample, draw_for_sweep, restrict, save_sample, sized_for
+from talkthemes.sweep.sample_check import run_check
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
 from talkthemes.sweep.state import run_info
@@ -87,6 +89,10 @@ class SweepResult:
         Cells that failed: ``cell`` and ``error``.
     rank_by : str
         The coherence measure the recommendation ranked by.
+    sample : dict or None
+        A sweep on a sample (docs/methods.md, "Sweeping a sample"): its size, seed, strata,
+        and under ``check`` the recommended K on sample A and on a disjoint sample B per
+        family (:mod:`talkthemes.sweep.sample_check`); None when every call was swept.
     """
 
     sweep_id: int
@@ -97,6 +103,7 @@ class SweepResult:
     cached: bool = False
     failed: list[dict[str, str]] = field(default_factory=list)
     rank_by: str = "c_npmi"
+    sample: dict[str, Any] | None = None
 
     @property
     def recommendation(self) -> dict[str, Recommendation]:
@@ -114,6 +121,7 @@ class SweepResult:
             "cells": json.loads(self.cells[cols].to_json(orient="records")),
             "recommendations": {f: r.to_dict() for f, r in self.recommendations.items()},
             "failed": self.failed,
+            "sample": self.sample,
         }
 
 
@@ -185,6 +193,7 @@ def run_sweep(
     workers: int | None = None,
     force: bool = False,
     progress: Progress | None = None,
+    sample: int | None = None,
 ) -> SweepResult:
     """Run (or resume, or reuse) a sweep over the current prep.
 
@@ -208,6 +217,10 @@ def run_sweep(
         Start a new sweep even when the same grid already finished on this prep.
     progress : Progress, optional
         ``progress(done_cells, total_cells, cell)``.
+    sample : int, optional
+        Sweep a stratified random sample of this many calls (default ``[sweep] sample``,
+        and the automatic sample above ``[sweep] auto_sample_above`` calls); see
+        :mod:`talkthemes.sweep.sample`.
 
     Returns
     -------
@@ -220,9 +233,14 @@ def run_sweep(
     ks = parse_k(settings.k)
     specs = build_cells(ks, settings.families, settings.seeds)
     corpus = PreparedCorpus.load(prep_folder)
-    size = PrepSize.of(corpus, settings)
+    drawn = draw_for_sweep(ws, corpus, settings, sample)
+    size = sized_for(PrepSize.of(corpus, settings), corpus, drawn, settings)
     check_k(ks, size, settings)
-    key = grid_key(prep.hash, specs, settings)
+    key = grid_key(prep.hash, specs, settings, None if drawn is None else drawn.key_part())
+    rows = None if drawn is None else drawn.rows_a
+
+    def checked(result: SweepResult) -> SweepResult:
+        return _sample_check(ws, result, drawn, corpus, prep_folder, specs, settings)
 
     with ws.store() as store:
         store.mark_sweeps_interrupted()  # the caller holds the lock: none of them runs
@@ -230,7 +248,7 @@ def run_sweep(
         if found is not None and found.status == "done":
             cached = _load_finished(ws.sweeps_dir / str(found.id), found)
             if cached is not None:
-                return cached
+                return checked(cached)
         done = {c.cell for c in store.cells(found.id)} if found is not None else set()
     todo = [s for s in specs if s.cell not in done]
     reused = len(specs) - len(todo)
@@ -240,21 +258,23 @@ def run_sweep(
     try:
         if not todo:
             assert found is not None  # every cell is recorded: only the scoring is left
-            sweep_id = _open_record(ws, found, prep.hash, key, ks, settings)
+            sweep_id = _open_record(ws, found, prep.hash, key, ks, settings, drawn)
             report(progress, reused, len(specs), "resuming")
         else:
             # connect first: an unreachable scheduler leaves no sweep record behind
             with _client(settings) as client:
-                sweep_id = _open_record(ws, found, prep.hash, key, ks, settings)
+                sweep_id = _open_record(ws, found, prep.hash, key, ks, settings, drawn)
                 folder = ws.sweeps_dir / str(sweep_id)
                 folder.mkdir(parents=True, exist_ok=True)
+                if drawn is not None:
+                    save_sample(folder, drawn)
                 report(progress, reused, len(specs), "resuming" if reused else "starting")
                 failed = _run_cells(
                     ws, client, sweep_id, folder, prep_folder, todo, settings, reused, len(specs),
-                    progress,
+                    progress, rows,
                 )  # fmt: skip
         folder = ws.sweeps_dir / str(sweep_id)
-        return _score(ws, sweep_id, folder, corpus, specs, settings, reused, failed)
+        return checked(_score(ws, sweep_id, folder, corpus, specs, settings, reused, failed, rows))
     except BaseException:
         # any stop (an error, Ctrl-C) leaves the sweep resumable: say so in its record
         if sweep_id is not None:
@@ -272,6 +292,7 @@ def _open_record(
     key: str,
     ks: list[int],
     settings: SweepSettings,
+    drawn: SweepSample | None = None,
 ) -> int:
     """Record a new sweep, or mark the one being resumed running again, with this process."""
     with ws.store() as store:
@@ -284,6 +305,8 @@ def _open_record(
                 "settings": settings.model_dump(),
                 "run": run_info(),
             }
+            if drawn is not None:
+                info["sample"] = drawn.info()
             return store.start_sweep(prep_hash, info)
         info = {**found.info, "run": run_info()}
         store.set_sweep_status(found.id, "running", info)
@@ -299,11 +322,14 @@ def _score(
     settings: SweepSettings,
     reused: int,
     failed: list[dict[str, str]],
+    rows: Any = None,
 ) -> SweepResult:
     """Score the recorded cells, write ``cells.parquet``, and mark the sweep ``done`` when
-    every cell is in (``incomplete`` when some failed)."""
+    every cell is in (``incomplete`` when some failed). ``rows``: the sample's rows (the
+    cells are scored on its training calls)."""
     folder.mkdir(parents=True, exist_ok=True)
     train, _ = split_rows(corpus.doc_ids, settings.heldout_share)
+    train = restrict(train, rows)
     with ws.store() as store:
         cells = [c.row() for c in store.cells(sweep_id)]
     if not cells:
@@ -361,6 +387,7 @@ def _run_cells(
     done_before: int,
     total: int,
     progress: Progress | None,
+    rows: Any = None,
 ) -> list[dict[str, str]]:
     # Deferred on purpose, as in _client.
     from distributed import as_completed
@@ -379,6 +406,7 @@ def _run_cells(
             spec.seed,
             payload,
             settings.heldout_share,
+            rows,
             key=f"talkthemes-sweep{sweep_id}-{spec.cell}",
             pure=False,
         )
@@ -402,3 +430,31 @@ def _run_cells(
         client.cancel(list(futures))
         raise
     return failed
+
+
+def _sample_check(
+    ws: Workspace,
+    result: SweepResult,
+    drawn: SweepSample | None,
+    corpus: PreparedCorpus,
+    prep_folder: Path,
+    specs: list[CellSpec],
+    settings: SweepSettings,
+) -> SweepResult:
+    """A sweep on a sample: its sample and the second-sample check
+    (:mod:`talkthemes.sweep.sample_check`) on the result, run once and kept in the record."""
+    if drawn is None:
+        return result
+    with ws.store() as store:
+        record = store.get_sweep(result.sweep_id)
+    info = {} if record is None else dict(record.info)
+    sample = dict(info.get("sample") or drawn.info())
+    if "check" not in sample and record is not None and record.status == "done":
+        recommended = {f: int(r.k) for f, r in result.recommendations.items()}
+        sample["check"] = run_check(
+            _client, drawn, corpus, prep_folder, result.folder, specs, recommended, settings
+        )
+        with ws.store() as store:
+            store.set_sweep_status(result.sweep_id, "done", {**info, "sample": sample})
+    result.sample = sample
+    return result
