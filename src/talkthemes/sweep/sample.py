@@ -299,7 +299,7 @@ def draw_for_sweep(
     if n == 0:
         return None
     with ws.store() as store:
-        metadata = store.metadata_for(None)
+        metadata = store.metadata_values(corpus.doc_ids)
     automatic = requested is None and settings.sample == 0
     return draw_sample(corpus.doc_ids, metadata, n, settings.sample_seed, automatic=automatic)
 
