@@ -104,7 +104,9 @@ def allocate(stratum_sizes: Sequence[int] | np.ndarray, n: int) -> np.ndarray:
     return np.minimum(base, sizes)
 
 
-def stratified_rows(labels: Sequence[str] | np.ndarray, n: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
+def stratified_rows(
+    labels: Sequence[str] | np.ndarray, n: int, seed: int
+) -> tuple[np.ndarray, np.ndarray]:
     """Rows of a proportionally allocated stratified sample, and of a disjoint second one.
 
     Parameters

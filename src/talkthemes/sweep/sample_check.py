@@ -32,7 +32,7 @@ from talkthemes.sweep.sample import SweepSample, restrict
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
 
-__all__ = ["CHECK_FOLDER", "check_cells", "check_summary", "run_check"]
+__all__ = ["CHECK_FOLDER", "check_cells", "check_summary", "describe_sample", "run_check"]
 
 log = logging.getLogger(__name__)
 
@@ -196,3 +196,40 @@ def _fit_all(
     except BaseException:
         client.cancel(list(futures))
         raise
+
+
+def describe_sample(sample: dict[str, Any] | None) -> list[str]:
+    """The sample and its check in plain sentences (the CLI prints them, Choose K shows them).
+
+    Empty for a sweep of every call.
+    """
+    if not sample:
+        return []
+    by = ", ".join(sample.get("by") or []) or "nothing (no date or segment field)"
+    how = "automatic sample" if sample.get("automatic") else "sample"
+    lines = [
+        f"Swept on a {how} of {int(sample['n']):,} of {int(sample['calls']):,} calls, "
+        f"stratified by {by} ({int(sample['strata']):,} strata, seed {sample['seed']})."
+    ]
+    check = sample.get("check")
+    if not check:
+        lines.append("The second-sample check has not run yet (it runs when every cell is in).")
+        return lines
+    if not check.get("families"):
+        lines.append("No second-sample check: no family had a recommendation to check.")
+        return lines
+    lines.append(
+        f"Stability of the recommendation: the cells at each recommended K and one step either "
+        f"side refitted on a second, disjoint sample of {int(check['sample_b']):,} calls "
+        f"({int(check['cells'])} cells, {float(check['seconds']):.1f} s):"
+    )
+    for family, f in check["families"].items():
+        k_b = "no recommendation" if f["k_b"] is None else f"K = {f['k_b']}"
+        verdict = "they agree" if f["agree"] else "they differ"
+        lines.append(
+            f"  {family.upper()}: K = {f['k_a']} on sample A, {k_b} on sample B "
+            f"(K refitted: {', '.join(map(str, f['ks_refit']))}): {verdict}."
+        )
+    for failed in check.get("failed") or []:
+        lines.append(f"  sample B cell failed: {failed}")
+    return lines

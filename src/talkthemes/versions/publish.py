@@ -343,9 +343,7 @@ def publish(
         model = fit_on_every_call(fam, kk, seed, settings.sweep, corpus.counts.tocsr(), rows)
     else:
         step(f"fitting {fam} K={kk} on {corpus.n_docs:,} transcripts", 1)
-    fitted = fit_version(
-        ws, corpus, family=fam, k=kk, seed=seed, prep_hash=prep.hash, model=model
-    )
+    fitted = fit_version(ws, corpus, family=fam, k=kk, seed=seed, prep_hash=prep.hash, model=model)
     step("writing the version", 3)
     extra: dict[str, Any] = {"cell": choice.cell, "sweep_id": choice.sweep_id, "fit_key": key}
     if choice.sample is not None:
