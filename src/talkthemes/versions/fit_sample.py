@@ -67,7 +67,7 @@ def fit_on_every_call(
     rows = np.asarray(sample_rows, dtype=np.int64)
     model = make_model(family, k, seed, settings).fit(counts[rows], shares=False)
     sampled = model.result_
-    how: dict[str, Any] = {"calls": int(len(rows)), "fit_seconds": float(sampled.fit_seconds)}
+    how: dict[str, Any] = {"calls": len(rows), "fit_seconds": float(sampled.fit_seconds)}
     n = counts.shape[0]
     if family == "lda":
         run = OnlineRun(model.model_, counts)
