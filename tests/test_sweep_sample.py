@@ -154,8 +154,15 @@ def test_check_refits_the_recommended_k_and_its_neighbours_only() -> None:
     assert summary["families"]["nmf"] == {"k_a": 8, "k_b": 10, "agree": False,
                                           "ks_refit": [6, 8, 10]}  # fmt: skip
     lines = describe_sample(
-        {"n": 1000, "calls": 5000, "by": ["month", "queue"], "strata": 12, "seed": 0,
-         "automatic": False, "check": summary}  # fmt: skip
+        {
+            "n": 1000,
+            "calls": 5000,
+            "by": ["month", "queue"],
+            "strata": 12,
+            "seed": 0,
+            "automatic": False,
+            "check": summary,
+        }  # fmt: skip
     )
     assert lines[0] == (
         "Swept on a sample of 1,000 of 5,000 calls, stratified by month, queue (12 strata, seed 0)."

@@ -78,7 +78,10 @@ def test_sweep_text_shows_the_sample_and_the_agreement(sampled) -> None:
     assert r.exit_code == 0, r.stderr
     text = " ".join(r.stdout.split())
     assert "(already done; reused)" in text
-    assert "Swept on a sample of 240 of 600 calls, stratified by month, queue (6 strata, seed 0)." in text
+    assert (
+        "Swept on a sample of 240 of 600 calls, stratified by month, queue (6 strata, seed 0)."
+        in text
+    )
     cells = doc["sample"]["check"]["cells"]
     assert f"second, disjoint sample of 240 calls ({cells} cells" in text
     for family, f in doc["sample"]["check"]["families"].items():
