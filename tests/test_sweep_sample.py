@@ -162,7 +162,7 @@ def test_check_refits_the_recommended_k_and_its_neighbours_only() -> None:
             "seed": 0,
             "automatic": False,
             "check": summary,
-        }  # fmt: skip
+        }
     )
     assert lines[0] == (
         "Swept on a sample of 1,000 of 5,000 calls, stratified by month, queue (12 strata, seed 0)."
