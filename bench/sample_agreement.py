@@ -11,7 +11,8 @@ fits the true K twice: on every call (what ``publish`` does without a sample) an
 stratified sample of ``--sample`` calls (what ``publish`` does for a cell swept on a sample:
 NMF fitted on the sample and every call transformed; LDA fitted on the sample, then online
 passes over every call). It prints the share of calls whose lead theme agrees between the two
-after Hungarian matching of the themes (all calls, and the calls outside the sample), both
+after Hungarian matching of the themes (all calls, and the calls outside the sample), the
+same agreement between two fits on every call with seeds s and s + 1 (the baseline), both
 fits' NMI/ARI against the planted reasons, and the fit seconds. Not a test: figures for
 docs/methods.md; the machine may be shared, so seconds are indicative.
 """
@@ -51,8 +52,8 @@ def main() -> None:
             f"sample {args.sample:,} calls; K={k}"
         )
         head = (
-            f"{'family':<6} {'seed':>4} {'agree all':>9} {'outside':>8} {'NMI all':>8} "
-            f"{'NMI smp':>8} {'ARI all':>8} {'ARI smp':>8} {'s all':>7} {'s smp':>7}"
+            f"{'family':<6} {'seed':>4} {'agree all':>9} {'outside':>8} {'seeds':>6} "
+            f"{'NMI all':>8} {'NMI smp':>8} {'ARI all':>8} {'ARI smp':>8} {'s all':>7} {'s smp':>7}"
         )
         print(head)
         for family in [f.strip() for f in args.families.split(",") if f.strip()]:
@@ -62,6 +63,7 @@ def main() -> None:
                 rows.append(r)
                 print(
                     f"{family:<6} {seed:>4} {r.agreement:>9.3f} {r.agreement_outside:>8.3f} "
+                    f"{r.agreement_seeds:>6.3f} "
                     f"{r.nmi_all:>8.3f} {r.nmi_sample:>8.3f} {r.ari_all:>8.3f} "
                     f"{r.ari_sample:>8.3f} {r.seconds_all:>7.1f} {r.seconds_sample:>7.1f}"
                 )
@@ -69,6 +71,7 @@ def main() -> None:
             print(
                 f"{family:<6} {'med':>4} {med(r.agreement for r in rows):>9.3f} "
                 f"{med(r.agreement_outside for r in rows):>8.3f} "
+                f"{med(r.agreement_seeds for r in rows):>6.3f} "
                 f"{med(r.nmi_all for r in rows):>8.3f} {med(r.nmi_sample for r in rows):>8.3f} "
                 f"{med(r.ari_all for r in rows):>8.3f} {med(r.ari_sample for r in rows):>8.3f} "
                 f"{med(r.seconds_all for r in rows):>7.1f} "

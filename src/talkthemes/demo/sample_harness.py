@@ -11,6 +11,8 @@ harness fits the same family, K and seed both ways on one prepared planted corpu
   assignment (Kuhn 1955, ``scipy.optimize.linear_sum_assignment``) on the Jensen–Shannon
   distance between their topic–term rows; over every call, and over the calls outside the
   sample only;
+- the same agreement between two fits on every call with different seeds (``seed`` and
+  ``seed + 1``): how much of the disagreement a sample adds beyond a change of seed;
 - each model's NMI and ARI against the planted reasons (:func:`score_leads`).
 
 ``bench/sample_agreement.py`` prints the table; ``tests/test_sample_agreement.py`` runs a
@@ -65,6 +67,7 @@ class SampleAgreement:
     sample: int
     agreement: float
     agreement_outside: float
+    agreement_seeds: float
     nmi_all: float
     ari_all: float
     nmi_sample: float
@@ -91,6 +94,10 @@ def compare_sample_fit(
     assert drawn is not None
     part = fit_on_every_call(family, k, seed, settings, counts, drawn.rows_a).result_
     t2 = time.perf_counter()
+    other = make_model(family, k, seed + 1, settings).fit(counts).result_
+    seeds = matched_lead_agreement(
+        full.topic_terms, full.doc_topics, other.topic_terms, other.doc_topics
+    )
     same = matched_lead_agreement(
         full.topic_terms, full.doc_topics, part.topic_terms, part.doc_topics
     )
@@ -107,6 +114,7 @@ def compare_sample_fit(
         sample=len(drawn.rows_a),
         agreement=float(same.mean()),
         agreement_outside=float(same[outside].mean()),
+        agreement_seeds=float(seeds.mean()),
         nmi_all=s_all.nmi,
         ari_all=s_all.ari,
         nmi_sample=s_part.nmi,
