@@ -19,7 +19,6 @@ from rich.table import Table
 from rich.text import Text
 
 from talkthemes.cli._common import cell, line, out, say
-from talkthemes.sweep.sample_check import describe_sample
 from talkthemes.text import percent
 
 __all__ = [
@@ -223,7 +222,7 @@ def print_sweep(result: Any) -> None:
     out.print(SweepTable(result.cells, recommended, title))
     for renderable in recommendation_lines(result.recommendations):
         out.print(renderable)
-    for text in describe_sample(result.sample):
+    for text in result.sample_lines:
         out.print(line(text))
     for f in result.failed:
         say(("cell failed", "red"), f": {f['cell']}: {f['error']}")

@@ -35,7 +35,7 @@ from talkthemes.sweep.grid import CellSpec, build_cells, grid_key, parse_k
 from talkthemes.sweep.limits import PrepSize, check_k, check_memory
 from talkthemes.sweep.recommend import Recommendation, recommend
 from talkthemes.sweep.sample import SweepSample, draw_for_sweep, restrict, save_sample, sized_for
-from talkthemes.sweep.sample_check import run_check
+from talkthemes.sweep.sample_check import describe_sample, run_check
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
 from talkthemes.sweep.state import run_info
@@ -104,6 +104,11 @@ class SweepResult:
     failed: list[dict[str, str]] = field(default_factory=list)
     rank_by: str = "c_npmi"
     sample: dict[str, Any] | None = None
+
+    @property
+    def sample_lines(self) -> list[str]:
+        """The sample and the second-sample check as sentences (empty without a sample)."""
+        return describe_sample(self.sample)
 
     @property
     def recommendation(self) -> dict[str, Recommendation]:
