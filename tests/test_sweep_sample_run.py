@@ -108,7 +108,7 @@ def test_a_sweep_of_every_call_is_another_grid(sampled) -> None:
     ws, doc = sampled
     full = run_sweep(ws, k="6,8,10", families=["nmf"], seeds=2, workers=1)
     assert full.sweep_id != doc["sweep_id"] and full.sample is None
-    assert "sample" not in full.to_json() or full.to_json()["sample"] is None
+    assert "sample" not in full.to_json()
     other = run_sweep(ws, k="6,8,10", families=["lda", "nmf"], seeds=2, workers=2, sample=300)
     assert other.sweep_id not in (doc["sweep_id"], full.sweep_id)
 
@@ -172,3 +172,21 @@ def test_bad_sample_is_a_usage_error(sampled, value: str, says: str) -> None:
     assert f"--sample {int(value):,}" in message or f"--sample {value}" in message
     assert says in message
     assert re.search(r"Traceback", r.stderr) is None
+
+
+def test_choose_k_section_shows_the_sample_and_the_agreement(sampled, monkeypatch) -> None:
+    from tests.viewer.test_app import open_app, run, texts
+
+    from talkthemes.text import md_inline
+
+    ws, _ = sampled
+    at = run(open_app(ws.root, monkeypatch), "choose_k.py")
+    shown = texts(at)
+    assert "Swept on a sample" in shown
+    view = load_sweep(ws)  # the section shows the latest sweep
+    assert view.sample is not None
+    for text in view.sample_lines:
+        assert md_inline(text.strip()) in shown
+    differ = not view.sample_agreement["agree"].all()
+    warnings = " ".join(str(w.value) for w in at.warning)
+    assert ("A second sample of the calls recommends another K" in warnings) == bool(differ)

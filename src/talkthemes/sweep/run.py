@@ -116,9 +116,10 @@ class SweepResult:
         return self.recommendations
 
     def to_json(self) -> dict[str, Any]:
-        """A JSON-ready dict (per-topic score lists left out)."""
+        """A JSON-ready dict (per-topic score lists left out); ``sample`` only for a sweep on
+        a sample."""
         cols = [c for c in self.cells.columns if not c.endswith("_per_topic")]
-        return {
+        doc = {
             "sweep_id": self.sweep_id,
             "cached": self.cached,
             "reused_cells": self.reused_cells,
@@ -126,8 +127,10 @@ class SweepResult:
             "cells": json.loads(self.cells[cols].to_json(orient="records")),
             "recommendations": {f: r.to_dict() for f, r in self.recommendations.items()},
             "failed": self.failed,
-            "sample": self.sample,
         }
+        if self.sample is not None:
+            doc["sample"] = self.sample
+        return doc
 
 
 def sweep_settings(ws: Workspace, **updates: Any) -> SweepSettings:

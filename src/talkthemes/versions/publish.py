@@ -79,8 +79,8 @@ class PublishResult:
         )
 
     def to_json(self) -> dict[str, Any]:
-        """A JSON-ready dict."""
-        return {
+        """A JSON-ready dict (``sample_calls`` only for a cell swept on a sample)."""
+        doc = {
             "status": self.status,
             "message": self.message,
             "version": self.version,
@@ -91,8 +91,10 @@ class PublishResult:
             "sweep_id": self.sweep_id,
             "fit_seconds": self.fit_seconds,
             "themes": self.themes,
-            "sample_calls": self.sample_calls,
         }
+        if self.sample_calls is not None:
+            doc["sample_calls"] = self.sample_calls
+        return doc
 
 
 def fit_key(
