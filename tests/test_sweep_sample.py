@@ -173,3 +173,18 @@ def test_check_refits_the_recommended_k_and_its_neighbours_only() -> None:
         "  NMF: K = 8 on sample A, K = 10 on sample B (K refitted: 6, 8, 10): they differ."
     )
     assert describe_sample(None) == []
+
+
+def test_publish_refuses_a_sample_it_cannot_read(tmp_path) -> None:
+    from talkthemes.errors import NotReadyError
+    from talkthemes.sweep.sample import load_sample_rows, save_sample
+
+    ids = [f"c{i}" for i in range(50)]
+    s = draw_sample(ids, {}, 20, seed=0)
+    with pytest.raises(NotReadyError, match="sample_rows.npy is missing"):
+        load_sample_rows(tmp_path, s.info())
+    save_sample(tmp_path, s)
+    assert np.array_equal(load_sample_rows(tmp_path, s.info()), s.rows_a)
+    other = draw_sample(ids, {}, 20, seed=1)
+    with pytest.raises(NotReadyError, match="does not hold the rows"):
+        load_sample_rows(tmp_path, other.info())
