@@ -181,7 +181,7 @@ def test_publish_refuses_a_sample_it_cannot_read(tmp_path) -> None:
 
     ids = [f"c{i}" for i in range(50)]
     s = draw_sample(ids, {}, 20, seed=0)
-    with pytest.raises(NotReadyError, match="sample_rows.npy is missing"):
+    with pytest.raises(NotReadyError, match=r"sample_rows\.npy is missing"):
         load_sample_rows(tmp_path, s.info())
     save_sample(tmp_path, s)
     assert np.array_equal(load_sample_rows(tmp_path, s.info()), s.rows_a)
