@@ -190,3 +190,24 @@ def test_choose_k_section_shows_the_sample_and_the_agreement(sampled, monkeypatc
     differ = not view.sample_agreement["agree"].all()
     warnings = " ".join(str(w.value) for w in at.warning)
     assert ("A second sample of the calls recommends another K" in warnings) == bool(differ)
+
+
+def test_an_interrupted_check_runs_on_the_next_sweep(sampled) -> None:
+    ws, doc = sampled
+    with ws.store() as store:
+        record = store.get_sweep(doc["sweep_id"])
+        assert record is not None
+        info = dict(record.info)
+        info["sample"] = {k: v for k, v in info["sample"].items() if k != "check"}
+        store.set_sweep_status(doc["sweep_id"], "done", info)
+    again = run_sweep(ws, k="6,8,10", families=["lda", "nmf"], seeds=2, workers=2, sample=240)
+    assert again.cached and again.sweep_id == doc["sweep_id"]
+    check = again.sample["check"]
+    assert {f: (v["k_a"], v["k_b"]) for f, v in check["families"].items()} == {
+        f: (v["k_a"], v["k_b"]) for f, v in doc["sample"]["check"]["families"].items()
+    }  # the same cells on the same sample B give the same answer
+    with ws.store() as store:
+        assert (
+            store.get_sweep(doc["sweep_id"]).info["sample"]["check"]["families"]
+            == (check["families"])
+        )

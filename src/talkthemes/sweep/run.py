@@ -35,7 +35,7 @@ from talkthemes.sweep.grid import CellSpec, build_cells, grid_key, parse_k
 from talkthemes.sweep.limits import PrepSize, check_k, check_memory
 from talkthemes.sweep.recommend import Recommendation, recommend
 from talkthemes.sweep.sample import SweepSample, draw_for_sweep, restrict, save_sample, sized_for
-from talkthemes.sweep.sample_check import describe_sample, run_check
+from talkthemes.sweep.sample_check import attach_check, describe_sample
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
 from talkthemes.sweep.state import run_info
@@ -248,7 +248,7 @@ def run_sweep(
     rows = None if drawn is None else drawn.rows_a
 
     def checked(result: SweepResult) -> SweepResult:
-        return _sample_check(ws, result, drawn, corpus, prep_folder, specs, settings)
+        return attach_check(ws, result, drawn, corpus, prep_folder, specs, settings, _client)
 
     with ws.store() as store:
         store.mark_sweeps_interrupted()  # the caller holds the lock: none of them runs
@@ -438,31 +438,3 @@ def _run_cells(
         client.cancel(list(futures))
         raise
     return failed
-
-
-def _sample_check(
-    ws: Workspace,
-    result: SweepResult,
-    drawn: SweepSample | None,
-    corpus: PreparedCorpus,
-    prep_folder: Path,
-    specs: list[CellSpec],
-    settings: SweepSettings,
-) -> SweepResult:
-    """A sweep on a sample: its sample and the second-sample check
-    (:mod:`talkthemes.sweep.sample_check`) on the result, run once and kept in the record."""
-    if drawn is None:
-        return result
-    with ws.store() as store:
-        record = store.get_sweep(result.sweep_id)
-    info = {} if record is None else dict(record.info)
-    sample = dict(info.get("sample") or drawn.info())
-    if "check" not in sample and record is not None and record.status == "done":
-        recommended = {f: int(r.k) for f, r in result.recommendations.items()}
-        sample["check"] = run_check(
-            _client, drawn, corpus, prep_folder, result.folder, specs, recommended, settings
-        )
-        with ws.store() as store:
-            store.set_sweep_status(result.sweep_id, "done", {**info, "sample": sample})
-    result.sample = sample
-    return result

@@ -31,8 +31,16 @@ from talkthemes.sweep.recommend import recommend
 from talkthemes.sweep.sample import SweepSample, restrict
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
+from talkthemes.workspace import Workspace
 
-__all__ = ["CHECK_FOLDER", "check_cells", "check_summary", "describe_sample", "run_check"]
+__all__ = [
+    "CHECK_FOLDER",
+    "attach_check",
+    "check_cells",
+    "check_summary",
+    "describe_sample",
+    "run_check",
+]
 
 log = logging.getLogger(__name__)
 
@@ -233,3 +241,38 @@ def describe_sample(sample: dict[str, Any] | None) -> list[str]:
     for failed in check.get("failed") or []:
         lines.append(f"  sample B cell failed: {failed}")
     return lines
+
+
+def attach_check(
+    ws: Workspace,
+    result: Any,
+    drawn: SweepSample | None,
+    corpus: PreparedCorpus,
+    prep_folder: Path,
+    specs: list[CellSpec],
+    settings: SweepSettings,
+    client_factory: Callable[[SweepSettings], Any],
+) -> Any:
+    """Put a sweep's sample, with its second-sample check, on its result (a
+    :class:`~talkthemes.sweep.run.SweepResult`).
+
+    The check runs once, when the sweep is ``done`` and its record has none yet, and is kept
+    in the record (``info["sample"]["check"]``); an interrupted check runs again on the next
+    ``sweep`` of the same grid. A sweep of every call is returned unchanged.
+    """
+    if drawn is None:
+        return result
+    with ws.store() as store:
+        record = store.get_sweep(result.sweep_id)
+    info = {} if record is None else dict(record.info)
+    sample = dict(info.get("sample") or drawn.info())
+    if "check" not in sample and record is not None and record.status == "done":
+        recommended = {f: int(r.k) for f, r in result.recommendations.items()}
+        sample["check"] = run_check(
+            client_factory, drawn, corpus, prep_folder, result.folder, specs, recommended,
+            settings,
+        )  # fmt: skip
+        with ws.store() as store:
+            store.set_sweep_status(result.sweep_id, "done", {**info, "sample": sample})
+    result.sample = sample
+    return result
