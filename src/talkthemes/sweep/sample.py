@@ -123,7 +123,8 @@ def stratified_rows(
         Sample A (``n`` rows) and sample B (the next n_h rows of each stratum by the same
         random keys; disjoint from A).
     """
-    codes, inverse = np.unique(np.asarray(labels, dtype=object).astype(str), return_inverse=True)
+    # strata numbered in sorted label order (hashing, not sorting, the million labels)
+    inverse, codes = pd.factorize(np.asarray(labels, dtype=object), sort=True)
     sizes = np.bincount(inverse, minlength=len(codes))
     alloc = allocate(sizes, n)
     keys = np.random.default_rng([int(seed), _STREAM]).random(len(inverse))
@@ -153,31 +154,36 @@ def strata_labels(
     by : list of str
         ``month`` (when any call has a date) and the segment fields, in that order.
     """
-    frame = pd.DataFrame.from_dict(dict(metadata), orient="index")
-    frame = frame.reindex(list(doc_ids)).reset_index(drop=True).astype(object)
-    parts: list[pd.Series] = []
+    rows = [metadata.get(t) or {} for t in doc_ids]
+    names = sorted({name for r in rows for name in r})
+    parts: list[list[str]] = []
     by: list[str] = []
-    if "date" in frame.columns:
-        dates = pd.to_datetime(frame["date"], errors="coerce", format="ISO8601", utc=True)
-        if dates.notna().any():
-            month = dates.dt.strftime("%Y-%m")
-            parts.append(month.where(dates.notna(), "no date").astype(str))
+    if "date" in names:  # parsed once per distinct value: calls share few dates
+        raw = [r.get("date") for r in rows]
+        distinct = sorted({v for v in raw if v is not None})
+        parsed = pd.to_datetime(
+            pd.Series(distinct, dtype=object), errors="coerce", format="ISO8601", utc=True
+        )
+        month_of = {
+            v: d.strftime("%Y-%m") for v, d in zip(distinct, parsed, strict=True) if pd.notna(d)
+        }
+        if month_of:
+            parts.append([month_of.get(v, "no date") for v in raw])  # type: ignore[arg-type]
             by.append("month")
-    for name in sorted(c for c in frame.columns if c != "date"):
-        col = frame[name]
-        present = col.dropna()
-        if present.empty or pd.to_numeric(present, errors="coerce").notna().all():
+    for name in names:
+        if name == "date":
             continue
-        if present.astype(str).nunique() > MAX_SEGMENT_VALUES:
+        raw = [r.get(name) for r in rows]
+        distinct = {v for v in raw if v is not None}
+        if not distinct or len(distinct) > MAX_SEGMENT_VALUES:
             continue
-        parts.append(f"{name}=" + col.where(col.notna(), "(none)").astype(str))
+        if pd.to_numeric(pd.Series(sorted(distinct)), errors="coerce").notna().all():
+            continue  # a number (a duration): a measure, not a segment
+        parts.append([f"{name}=" + ("(none)" if v is None else str(v)) for v in raw])
         by.append(str(name))
     if not parts:
         return np.full(len(doc_ids), "all", dtype=object), by
-    label = parts[0]
-    for p in parts[1:]:
-        label = label + "|" + p
-    return label.to_numpy(dtype=object), by
+    return np.array(["|".join(t) for t in zip(*parts, strict=True)], dtype=object), by
 
 
 def sample_size(settings: SweepSettings, n_calls: int, requested: int | None = None) -> int:
@@ -277,7 +283,7 @@ def draw_sample(
         rows_a=rows_a,
         rows_b=rows_b,
         n_calls=len(doc_ids),
-        n_strata=len(set(labels.tolist())),
+        n_strata=len(pd.unique(labels)),
         automatic=automatic,
     )
 
