@@ -211,3 +211,20 @@ def test_an_interrupted_check_runs_on_the_next_sweep(sampled) -> None:
             store.get_sweep(doc["sweep_id"]).info["sample"]["check"]["families"]
             == (check["families"])
         )
+
+
+def test_a_large_prep_is_sampled_without_being_asked(sampled) -> None:
+    ws, _ = sampled
+    before = ws.settings_path.read_text(encoding="utf-8")
+    assert "\n[sweep]\n" in before
+    ws.settings_path.write_text(
+        before.replace("\n[sweep]\n", "\n[sweep]\nauto_sample_above = 500\nauto_sample = 200\n", 1),
+        encoding="utf-8",
+    )
+    try:
+        auto = run_sweep(ws, k="6,8", families=["nmf"], seeds=2, workers=1)
+        assert auto.sample is not None and auto.sample["automatic"] is True
+        assert auto.sample["n"] == 200 and auto.sample["check"]["families"]["nmf"]["k_a"] in (6, 8)
+        assert auto.sample_lines[0].startswith("Swept on an automatic sample of 200 of 600 calls")
+    finally:
+        ws.settings_path.write_text(before, encoding="utf-8")

@@ -214,9 +214,9 @@ def describe_sample(sample: dict[str, Any] | None) -> list[str]:
     if not sample:
         return []
     by = ", ".join(sample.get("by") or []) or "nothing (no date or segment field)"
-    how = "automatic sample" if sample.get("automatic") else "sample"
+    how = "an automatic sample" if sample.get("automatic") else "a sample"
     lines = [
-        f"Swept on a {how} of {int(sample['n']):,} of {int(sample['calls']):,} calls, "
+        f"Swept on {how} of {int(sample['n']):,} of {int(sample['calls']):,} calls, "
         f"stratified by {by} ({int(sample['strata']):,} strata, seed {sample['seed']})."
     ]
     check = sample.get("check")
