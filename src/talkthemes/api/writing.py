@@ -166,6 +166,7 @@ class WritingMixin(WorkspaceBase):
         wait: bool = False,
         on_wait: OnWait | None = None,
         progress: Progress | None = None,
+        sample: int | None = None,
         **options: Any,
     ) -> sweep_run.SweepResult:
         """Fit models over a grid of topic counts, families and seeds; score; recommend K.
@@ -193,6 +194,11 @@ class WritingMixin(WorkspaceBase):
             See :meth:`hold`.
         progress : Progress, optional
             ``progress(done_cells, total_cells, cell)``.
+        sample : int, optional
+            Sweep a stratified random sample of this many calls (by month and segment
+            fields; docs/methods.md, "Sweeping a sample"); default ``[sweep] sample``, and
+            ``[sweep] auto_sample`` calls when the prep has more than ``auto_sample_above``.
+            ``publish`` then fits the chosen cell on every call.
         **options
             Passed to :func:`talkthemes.sweep.run.run_sweep`.
 
@@ -200,7 +206,9 @@ class WritingMixin(WorkspaceBase):
         -------
         SweepResult
             ``cells`` (a DataFrame: one row per fitted cell with its metrics) and
-            ``recommendation`` (family → :class:`~talkthemes.sweep.recommend.Recommendation`).
+            ``recommendation`` (family → :class:`~talkthemes.sweep.recommend.Recommendation`);
+            on a sample, ``sample`` holds it and the recommended K on a second, disjoint
+            sample.
         """
         with self.hold("sweep", wait=wait, on_wait=on_wait):
             return sweep_run.run_sweep(
@@ -212,6 +220,7 @@ class WritingMixin(WorkspaceBase):
                 workers=workers,
                 force=force,
                 progress=progress,
+                sample=sample,
                 **options,
             )
 

@@ -155,6 +155,25 @@ def _publish_controls(ws: Workspace, family: str, k: int, n_transcripts: int) ->
         _run_publish(ws, family, k)
 
 
+def _sample(sweep: SweepView) -> None:
+    """A sweep on a sample: which calls, and whether a second sample recommends the same K."""
+    lines = sweep.sample_lines
+    if not lines:
+        return
+    st.markdown("**Swept on a sample**")
+    st.markdown("\n".join(f"- {md_inline(text.strip())}" for text in lines))
+    agreement = sweep.sample_agreement
+    if not agreement.empty and not agreement["agree"].all():
+        st.warning(
+            "A second sample of the calls recommends another K for "
+            + ", ".join(
+                FAMILY_NAMES.get(f, f) for f in agreement.loc[~agreement["agree"], "family"]
+            )
+            + ": compare the themes of both K below before publishing.",
+            icon=":material/compare_arrows:",
+        )
+
+
 def render() -> None:
     """The Choose K section."""
     ws = _shared.gate("sweep")
@@ -189,6 +208,7 @@ def render() -> None:
         f"{sweep.created_at}. Click a point to see that model's themes below."
     )
     _recommendations(sweep)
+    _sample(sweep)
 
     st.divider()
     family, k = _current_pick(ws, sweep)

@@ -222,5 +222,7 @@ def print_sweep(result: Any) -> None:
     out.print(SweepTable(result.cells, recommended, title))
     for renderable in recommendation_lines(result.recommendations):
         out.print(renderable)
+    for text in result.sample_lines:
+        out.print(line(text))
     for f in result.failed:
         say(("cell failed", "red"), f": {f['cell']}: {f['error']}")

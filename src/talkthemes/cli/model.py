@@ -50,6 +50,13 @@ def sweep(
         typer.Option("--chart", help="Write the sweep chart as PATH.png and PATH.html."),
     ] = None,
     force: Annotated[bool, typer.Option("--force", help="Run again even if done.")] = False,
+    sample: Annotated[
+        int | None,
+        typer.Option(
+            "--sample",
+            help="Sweep a stratified random sample of N calls (by month and segment fields).",
+        ),
+    ] = None,
     language: LanguageOpt = None,
     workspace: WorkspaceOpt = None,
     wait: WaitOpt = False,
@@ -79,6 +86,7 @@ def sweep(
                 wait=wait,
                 on_wait=waiting,
                 progress=update,
+                sample=sample,
             )
         if chart is not None:
             # deferred: Altair and the PNG renderer (see module doc)

@@ -40,6 +40,34 @@ class SweepSettings(_Section):
             "measures how themes hold up when the data changes (Greene et al. 2014); 1 = all."
         ),
     )
+    sample: int = Field(
+        0,
+        ge=0,
+        description=(
+            "Calls a sweep fits on: a stratified random sample (by month and segment fields) "
+            "of this many calls; 0 = every call, unless auto_sample_above switches a sample on."
+        ),
+    )
+    auto_sample_above: int = Field(
+        200_000,
+        ge=0,
+        description=(
+            "With sample = 0, a prep of more calls than this is swept on a sample of "
+            "auto_sample calls; 0 = never."
+        ),
+    )
+    auto_sample: int = Field(
+        100_000, ge=1, description="Calls in the automatic sample (see auto_sample_above)."
+    )
+    sample_seed: int = Field(0, ge=0, description="Seed of the sweep's sample.")
+    sample_publish_passes: int = Field(
+        2,
+        ge=1,
+        description=(
+            "Publishing an LDA cell swept on a sample: most online passes over every call "
+            "after the fit on the sample (fewer when the per-word bound converges)."
+        ),
+    )
     lda_passes: int = Field(
         50,
         ge=1,

@@ -25,6 +25,7 @@ from threadpoolctl import threadpool_limits
 
 from talkthemes.config import SweepSettings
 from talkthemes.prepare.corpus import PreparedCorpus
+from talkthemes.sweep.sample import restrict
 from talkthemes.sweep.split import split_rows, subsample_rows
 from talkthemes.testhook import pause_at
 from talkthemes.workspace import atomic_write_bytes
@@ -35,7 +36,9 @@ __all__ = ["CellOutput", "cell_inputs", "fit_cell", "save_topics"]
 CellOutput = dict[str, Any]
 
 
-def cell_inputs(corpus: PreparedCorpus, heldout_share: float) -> dict[str, np.ndarray]:
+def cell_inputs(
+    corpus: PreparedCorpus, heldout_share: float, rows: np.ndarray | None = None
+) -> dict[str, np.ndarray]:
     """What every cell of a sweep reads, as plain arrays (scattered once per sweep).
 
     Parameters
@@ -43,6 +46,9 @@ def cell_inputs(corpus: PreparedCorpus, heldout_share: float) -> dict[str, np.nd
     corpus : PreparedCorpus
     heldout_share : float
         Share of transcripts held out for the held-out fit (:func:`split_rows`).
+    rows : ndarray, optional
+        The sweep's sample (:mod:`talkthemes.sweep.sample`): training and held-out rows
+        are taken among these only. None: every call.
 
     Returns
     -------
@@ -52,6 +58,7 @@ def cell_inputs(corpus: PreparedCorpus, heldout_share: float) -> dict[str, np.nd
     """
     counts = sp.csr_matrix(corpus.counts)
     train, held = split_rows(corpus.doc_ids, heldout_share)
+    train, held = restrict(train, rows), restrict(held, rows)
     return {
         "data": counts.data,
         "indices": counts.indices,

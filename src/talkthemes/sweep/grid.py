@@ -10,8 +10,9 @@ from __future__ import annotations
 
 import hashlib
 import json
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from typing import Any
 
 from talkthemes.config import SweepSettings
 from talkthemes.errors import ConfigError
@@ -34,6 +35,12 @@ RUN_ONLY_SETTINGS = frozenset(
         "worker_memory_gb",
         "min_calls_per_theme",
         "publish_seed",
+        # the sample is in the grid key as the rows it drew (grid_key's ``sample``)
+        "sample",
+        "auto_sample_above",
+        "auto_sample",
+        "sample_seed",
+        "sample_publish_passes",
     }
 )
 
@@ -88,10 +95,25 @@ def build_cells(ks: Sequence[int], families: Sequence[str], seeds: int) -> list[
     return [CellSpec(f, k, s) for f in families for k in ks for s in range(seeds)]
 
 
-def grid_key(prep_hash: str, cells: Sequence[CellSpec], settings: SweepSettings) -> str:
-    """A short hash of the prep, the cells and every setting that changes a cell's result."""
+def grid_key(
+    prep_hash: str,
+    cells: Sequence[CellSpec],
+    settings: SweepSettings,
+    sample: Mapping[str, Any] | None = None,
+) -> str:
+    """A short hash of the prep, the cells and every setting that changes a cell's result.
+
+    ``sample`` (:meth:`talkthemes.sweep.sample.SweepSample.key_part`) makes a sweep on a
+    sample a different grid from one on every call; without it the key is what it always
+    was, so earlier sweeps are still found.
+    """
     relevant = settings.model_dump(exclude=set(RUN_ONLY_SETTINGS))
-    doc = json.dumps(
-        {"prep": prep_hash, "cells": [c.cell for c in cells], "settings": relevant}, sort_keys=True
-    )
+    body: dict[str, Any] = {
+        "prep": prep_hash,
+        "cells": [c.cell for c in cells],
+        "settings": relevant,
+    }
+    if sample:
+        body["sample"] = dict(sample)
+    doc = json.dumps(body, sort_keys=True)
     return hashlib.sha256(doc.encode()).hexdigest()[:16]

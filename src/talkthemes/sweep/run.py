@@ -38,6 +38,8 @@ from talkthemes.sweep.cell import cell_inputs, fit_cell, save_topics
 from talkthemes.sweep.grid import CellSpec, build_cells, grid_key, parse_k
 from talkthemes.sweep.limits import PrepSize, check_k, check_memory
 from talkthemes.sweep.recommend import Recommendation, recommend
+from talkthemes.sweep.sample import SweepSample, draw_for_sweep, restrict, save_sample, sized_for
+from talkthemes.sweep.sample_check import attach_check, describe_sample
 from talkthemes.sweep.scoring import score_cells
 from talkthemes.sweep.split import split_rows
 from talkthemes.sweep.state import run_info
@@ -91,6 +93,10 @@ class SweepResult:
         Cells that failed: ``cell`` and ``error``.
     rank_by : str
         The coherence measure the recommendation ranked by.
+    sample : dict or None
+        A sweep on a sample (docs/methods.md, "Sweeping a sample"): its size, seed, strata,
+        and under ``check`` the recommended K on sample A and on a disjoint sample B per
+        family (:mod:`talkthemes.sweep.sample_check`); None when every call was swept.
     """
 
     sweep_id: int
@@ -101,6 +107,12 @@ class SweepResult:
     cached: bool = False
     failed: list[dict[str, str]] = field(default_factory=list)
     rank_by: str = "c_npmi"
+    sample: dict[str, Any] | None = None
+
+    @property
+    def sample_lines(self) -> list[str]:
+        """The sample and the second-sample check as sentences (empty without a sample)."""
+        return describe_sample(self.sample)
 
     @property
     def recommendation(self) -> dict[str, Recommendation]:
@@ -108,9 +120,10 @@ class SweepResult:
         return self.recommendations
 
     def to_json(self) -> dict[str, Any]:
-        """A JSON-ready dict (per-topic score lists left out)."""
+        """A JSON-ready dict (per-topic score lists left out); ``sample`` only for a sweep on
+        a sample."""
         cols = [c for c in self.cells.columns if not c.endswith("_per_topic")]
-        return {
+        doc = {
             "sweep_id": self.sweep_id,
             "cached": self.cached,
             "reused_cells": self.reused_cells,
@@ -119,6 +132,9 @@ class SweepResult:
             "recommendations": {f: r.to_dict() for f, r in self.recommendations.items()},
             "failed": self.failed,
         }
+        if self.sample is not None:
+            doc["sample"] = self.sample
+        return doc
 
 
 def sweep_settings(ws: Workspace, **updates: Any) -> SweepSettings:
@@ -189,6 +205,7 @@ def run_sweep(
     workers: int | None = None,
     force: bool = False,
     progress: Progress | None = None,
+    sample: int | None = None,
 ) -> SweepResult:
     """Run (or resume, or reuse) a sweep over the current prep.
 
@@ -212,6 +229,10 @@ def run_sweep(
         Start a new sweep even when the same grid already finished on this prep.
     progress : Progress, optional
         ``progress(done_cells, total_cells, cell)``.
+    sample : int, optional
+        Sweep a stratified random sample of this many calls (default ``[sweep] sample``,
+        and the automatic sample above ``[sweep] auto_sample_above`` calls); see
+        :mod:`talkthemes.sweep.sample`.
 
     Returns
     -------
@@ -224,9 +245,14 @@ def run_sweep(
     ks = parse_k(settings.k)
     specs = build_cells(ks, settings.families, settings.seeds)
     corpus = PreparedCorpus.load(prep_folder)
-    size = PrepSize.of(corpus, settings)
+    drawn = draw_for_sweep(ws, corpus, settings, sample)
+    size = sized_for(PrepSize.of(corpus, settings), corpus, drawn, settings)
     check_k(ks, size, settings)
-    key = grid_key(prep.hash, specs, settings)
+    key = grid_key(prep.hash, specs, settings, None if drawn is None else drawn.key_part())
+    rows = None if drawn is None else drawn.rows_a
+
+    def checked(result: SweepResult) -> SweepResult:
+        return attach_check(ws, result, drawn, corpus, specs, settings, _client)
 
     with ws.store() as store:
         store.mark_sweeps_interrupted()  # the caller holds the lock: none of them runs
@@ -234,7 +260,7 @@ def run_sweep(
         if found is not None and found.status == "done":
             cached = _load_finished(ws.sweeps_dir / str(found.id), found)
             if cached is not None:
-                return cached
+                return checked(cached)
         done = {c.cell for c in store.cells(found.id)} if found is not None else set()
     todo = [s for s in specs if s.cell not in done]
     reused = len(specs) - len(todo)
@@ -244,22 +270,24 @@ def run_sweep(
     try:
         if not todo:
             assert found is not None  # every cell is recorded: only the scoring is left
-            sweep_id = _open_record(ws, found, prep.hash, key, ks, settings)
+            sweep_id = _open_record(ws, found, prep.hash, key, ks, settings, drawn)
             report(progress, reused, len(specs), "resuming")
         else:
             # connect first: an unreachable scheduler leaves no sweep record behind
             with _client(settings) as client:
-                sweep_id = _open_record(ws, found, prep.hash, key, ks, settings)
+                sweep_id = _open_record(ws, found, prep.hash, key, ks, settings, drawn)
                 folder = ws.sweeps_dir / str(sweep_id)
                 folder.mkdir(parents=True, exist_ok=True)
+                if drawn is not None:
+                    save_sample(folder, drawn)
                 report(progress, reused, len(specs), "resuming" if reused else "starting")
-                inputs = cell_inputs(corpus, settings.heldout_share)
+                inputs = cell_inputs(corpus, settings.heldout_share, rows)
                 failed = _run_cells(
                     ws, client, sweep_id, folder, inputs, todo, settings, reused, len(specs),
                     progress,
                 )  # fmt: skip
         folder = ws.sweeps_dir / str(sweep_id)
-        return _score(ws, sweep_id, folder, corpus, specs, settings, reused, failed)
+        return checked(_score(ws, sweep_id, folder, corpus, specs, settings, reused, failed, rows))
     except BaseException:
         # any stop (an error, Ctrl-C) leaves the sweep resumable: say so in its record
         if sweep_id is not None:
@@ -277,6 +305,7 @@ def _open_record(
     key: str,
     ks: list[int],
     settings: SweepSettings,
+    drawn: SweepSample | None = None,
 ) -> int:
     """Record a new sweep, or mark the one being resumed running again, with this process."""
     with ws.store() as store:
@@ -289,6 +318,8 @@ def _open_record(
                 "settings": settings.model_dump(),
                 "run": run_info(),
             }
+            if drawn is not None:
+                info["sample"] = drawn.info()
             return store.start_sweep(prep_hash, info)
         info = {**found.info, "run": run_info()}
         store.set_sweep_status(found.id, "running", info)
@@ -304,11 +335,14 @@ def _score(
     settings: SweepSettings,
     reused: int,
     failed: list[dict[str, str]],
+    rows: Any = None,
 ) -> SweepResult:
     """Score the recorded cells, write ``cells.parquet``, and mark the sweep ``done`` when
-    every cell is in (``incomplete`` when some failed)."""
+    every cell is in (``incomplete`` when some failed). ``rows``: the sample's rows (the
+    cells are scored on its training calls)."""
     folder.mkdir(parents=True, exist_ok=True)
     train, _ = split_rows(corpus.doc_ids, settings.heldout_share)
+    train = restrict(train, rows)
     with ws.store() as store:
         cells = [c.row() for c in store.cells(sweep_id)]
     if not cells:

@@ -26,8 +26,10 @@ from talkthemes.store.records import SweepRecord
 from talkthemes.sweep.grid import FAMILIES, CellSpec
 from talkthemes.sweep.limits import PrepSize, check_k, check_memory
 from talkthemes.sweep.run import load_current_prep
+from talkthemes.sweep.sample import load_sample_rows
 from talkthemes.sweep.scoring import seed_agreement
 from talkthemes.versions.fit import fit_version
+from talkthemes.versions.fit_sample import fit_on_every_call
 from talkthemes.versions.load import load_version
 from talkthemes.versions.write import write_version
 from talkthemes.workspace import Workspace
@@ -57,6 +59,7 @@ class PublishResult:
     fit_seconds: float
     themes: list[dict[str, Any]]
     status: str = "published"
+    sample_calls: int | None = None
 
     @property
     def message(self) -> str:
@@ -68,14 +71,16 @@ class PublishResult:
                 "version)."
             )
         source = "" if self.sweep_id is not None else ", fitted without a sweep"
+        if self.sample_calls is not None:
+            source += f", fitted from the sweep's sample of {self.sample_calls:,} calls"
         return (
             f"Published version {self.version}: {self.family} K={self.k} "
             f"(cell {self.cell}{source}, fit in {self.fit_seconds:.1f} s)."
         )
 
     def to_json(self) -> dict[str, Any]:
-        """A JSON-ready dict."""
-        return {
+        """A JSON-ready dict (``sample_calls`` only for a cell swept on a sample)."""
+        doc = {
             "status": self.status,
             "message": self.message,
             "version": self.version,
@@ -87,20 +92,33 @@ class PublishResult:
             "fit_seconds": self.fit_seconds,
             "themes": self.themes,
         }
+        if self.sample_calls is not None:
+            doc["sample_calls"] = self.sample_calls
+        return doc
 
 
-def fit_key(prep_hash: str, family: str, k: int, seed: int, settings: SweepSettings) -> str:
+def fit_key(
+    prep_hash: str,
+    family: str,
+    k: int,
+    seed: int,
+    settings: SweepSettings,
+    sample: dict[str, Any] | None = None,
+) -> str:
     """A short hash of everything that decides a published model: the prep, family, K,
-    seed, the family's model settings and the top terms its coherence is scored on."""
+    seed, the family's model settings and the top terms its coherence is scored on; for a
+    cell swept on a sample, the sample's rows and the passes over every call."""
     model = {
         name: value
         for name, value in settings.model_dump().items()
         if name.startswith(f"{family}_") or name == "topn"
     }
-    doc = json.dumps(
-        {"prep": prep_hash, "family": family, "k": int(k), "seed": int(seed), "model": model},
-        sort_keys=True,
-    )
+    body: dict[str, Any] = {
+        "prep": prep_hash, "family": family, "k": int(k), "seed": int(seed), "model": model,
+    }  # fmt: skip
+    if sample:
+        body["sample"] = {"rows": sample.get("rows"), "passes": settings.sample_publish_passes}
+    doc = json.dumps(body, sort_keys=True)
     return hashlib.sha256(doc.encode()).hexdigest()[:16]
 
 
@@ -188,6 +206,7 @@ class _Choice:
     seed: int
     cell: str
     sweep_id: int | None
+    sample: dict[str, Any] | None = None
 
 
 def _choose(
@@ -216,6 +235,7 @@ def _choose(
         int(chosen["seed"]),
         str(chosen["cell"]),
         sweep.id,
+        sweep.info.get("sample"),
     )
 
 
@@ -293,7 +313,7 @@ def publish(
     prep, prep_folder = load_current_prep(ws)
     settings = ws.settings()
     choice = _choose(ws, prep.hash, sweep_id, k=k, family=family, cell=cell)
-    key = fit_key(prep.hash, choice.family, choice.k, choice.seed, settings.sweep)
+    key = fit_key(prep.hash, choice.family, choice.k, choice.seed, settings.sweep, choice.sample)
     current = None if force else _already_current(ws, key, prep.hash, choice)
     if current is not None:
         step("already current", 5)
@@ -317,10 +337,23 @@ def publish(
         check_k([choice.k], size, settings.sweep, fit_calls=size.calls)
         check_memory([spec], size, settings.sweep, fit_calls=size.calls, shares_calls=size.calls)
     fam, kk, seed = choice.family, choice.k, choice.seed
-    step(f"fitting {fam} K={kk} on {corpus.n_docs:,} transcripts", 1)
-    fitted = fit_version(ws, corpus, family=fam, k=kk, seed=seed, prep_hash=prep.hash)
+    model = None
+    if choice.sample is not None:  # swept on a sample: fitted from it, shares for every call
+        assert choice.sweep_id is not None
+        rows = load_sample_rows(ws.sweeps_dir / str(choice.sweep_id), choice.sample)
+        step(f"fitting {fam} K={kk} from the sweep's sample of {len(rows):,} calls", 1)
+        model = fit_on_every_call(fam, kk, seed, settings.sweep, corpus.counts.tocsr(), rows)
+    else:
+        step(f"fitting {fam} K={kk} on {corpus.n_docs:,} transcripts", 1)
+    fitted = fit_version(ws, corpus, family=fam, k=kk, seed=seed, prep_hash=prep.hash, model=model)
     step("writing the version", 3)
     extra: dict[str, Any] = {"cell": choice.cell, "sweep_id": choice.sweep_id, "fit_key": key}
+    if choice.sample is not None:
+        extra["sample"] = {
+            name: v
+            for name, v in choice.sample.items()
+            if name in ("n", "seed", "by", "rows", "calls")
+        }
     if choice.sweep_id is None:
         extra["fitted_without_sweep"] = True
     n = write_version(ws, fitted, extra_info=extra)
@@ -335,4 +368,5 @@ def publish(
         sweep_id=choice.sweep_id,
         fit_seconds=float(fitted.info["fit_seconds"]),
         themes=version.summary(lam=settings.view.relevance_lambda),
+        sample_calls=None if choice.sample is None else int(choice.sample["n"]),
     )

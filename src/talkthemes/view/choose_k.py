@@ -13,6 +13,7 @@ import numpy as np
 import pandas as pd
 
 from talkthemes.errors import NotReadyError
+from talkthemes.sweep.sample_check import describe_sample
 from talkthemes.sweep.scoring import seed_agreement
 from talkthemes.versions.publish import pick_cell
 from talkthemes.workspace import Workspace
@@ -90,6 +91,10 @@ class SweepView:
         True when the scored cells (coherence, stability…) are on disk; False while a
         sweep is running or was interrupted (fit measures only).
     created_at : str
+    sample : dict or None
+        A sweep on a sample: its size, strata and, under ``check``, the recommended K on
+        sample A and on a disjoint sample B per family
+        (:mod:`talkthemes.sweep.sample_check`); None when every call was swept.
     """
 
     sweep_id: int
@@ -99,6 +104,23 @@ class SweepView:
     recommendations: dict[str, dict[str, Any]]
     scored: bool
     created_at: str
+    sample: dict[str, Any] | None = None
+
+    @property
+    def sample_lines(self) -> list[str]:
+        """The sample and how stable the recommendation is across two samples, as sentences
+        (empty for a sweep of every call)."""
+        return describe_sample(self.sample)
+
+    @property
+    def sample_agreement(self) -> pd.DataFrame:
+        """Per family: ``family``, ``k_a``, ``k_b``, ``agree`` (no rows without a check)."""
+        check = (self.sample or {}).get("check") or {}
+        rows = [
+            {"family": f, "k_a": v["k_a"], "k_b": v["k_b"], "agree": bool(v["agree"])}
+            for f, v in (check.get("families") or {}).items()
+        ]
+        return pd.DataFrame(rows, columns=["family", "k_a", "k_b", "agree"])
 
     @property
     def recommended(self) -> dict[str, int]:
@@ -147,6 +169,7 @@ def load_sweep(ws: Workspace, sweep_id: int | None = None) -> SweepView:
         recommendations=dict(record.recommendations or {}),
         scored=path.exists(),
         created_at=record.created_at,
+        sample=record.info.get("sample"),
     )
 
 
