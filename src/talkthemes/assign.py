@@ -254,19 +254,8 @@ def _batches(
     rejects: list[Reject],
     warnings: list[Warning_],
 ) -> Iterator[list[tuple[str, list[tuple[str, str, str]]]]]:
-    batch: list[tuple[str, list[tuple[str, str, str]]]] = []
-    for item in items:
-        if isinstance(item, Transcript):
-            batch.append((item.tid, [(u.role, u.text, u.speaker) for u in item.turns]))
-            if len(batch) >= size:
-                yield batch
-                batch = []
-        elif isinstance(item, Reject):
-            rejects.append(item)
-        else:
-            warnings.append(item)
-    if batch:
-        yield batch
+    for chunk in _call_chunks(items, rejects, warnings, size):
+        yield [(t.tid, [(u.role, u.text, u.speaker) for u in t.turns]) for t in chunk]
 
 
 #: Calls read, prepared and assigned at a time by :func:`assign`.
@@ -277,14 +266,16 @@ def _call_chunks(
     items: Iterable[Transcript | Reject | Warning_],
     rejects: list[Reject],
     warnings: list[Warning_],
+    size: int | None = None,
 ) -> Iterator[list[Transcript]]:
-    """The transcripts among ``items`` in lists of :data:`CALLS_PER_CHUNK`; rejects and
-    warnings are collected."""
+    """The transcripts among ``items`` in lists of ``size`` (default
+    :data:`CALLS_PER_CHUNK`); rejects and warnings are collected."""
+    size = size or CALLS_PER_CHUNK
     chunk: list[Transcript] = []
     for item in items:
         if isinstance(item, Transcript):
             chunk.append(item)
-            if len(chunk) >= CALLS_PER_CHUNK:
+            if len(chunk) >= size:
                 yield chunk
                 chunk = []
         elif isinstance(item, Reject):
@@ -409,14 +400,14 @@ def assign(
 
     # In chunks of calls, so memory does not grow with the number of files: each call by
     # its language's version, the chunks' tables joined as one table of all of them.
-    main = ws.settings().prepare.lang
+    prepare = ws.settings().prepare
     frames, langs = [], []
     for chunk in _call_chunks(read_transcripts(paths, settings, manifests=manifests),
                               rejects, warnings):  # fmt: skip
-        codes = call_languages(chunk, ws.settings().prepare)
+        codes = call_languages(chunk, prepare)
         frames.append(route_frames(ws, chunk, assign_with, codes))
         langs.append(codes)
-    frame = join_routed(frames, langs, main) if frames else pd.DataFrame()
+    frame = join_routed(frames, langs, prepare.lang) if frames else pd.DataFrame()
     if frame.empty and not rejects:
         raise InputError(
             "no transcripts found in "

@@ -37,10 +37,10 @@ from talkthemes.store.records import PrepRecord, SweepRecord
 from talkthemes.sweep.cell import cell_inputs, fit_cell, save_topics
 from talkthemes.sweep.grid import CellSpec, build_cells, grid_key, parse_k
 from talkthemes.sweep.limits import PrepSize, check_k, check_memory
-from talkthemes.sweep.recommend import Recommendation, recommend
+from talkthemes.sweep.recommend import Recommendation
 from talkthemes.sweep.sample import SweepSample, draw_for_sweep, restrict, save_sample, sized_for
 from talkthemes.sweep.sample_check import attach_check, describe_sample
-from talkthemes.sweep.scoring import score_cells
+from talkthemes.sweep.scoring import score_and_recommend
 from talkthemes.sweep.split import split_rows
 from talkthemes.sweep.state import run_info
 from talkthemes.testhook import pause_at
@@ -349,23 +349,7 @@ def _score(
         with ws.store() as store:
             store.set_sweep_status(sweep_id, "incomplete")
         raise NotReadyError("no cell of the sweep finished; see the errors above")
-    frame = score_cells(
-        cells,
-        corpus.tokens,
-        corpus.offsets,
-        corpus.counts,
-        train,
-        topn=settings.topn,
-        stability_topn=settings.stability_topn,
-        diversity_topn=settings.diversity_topn,
-    )
-    recs = recommend(
-        frame,
-        rank_by=settings.rank_by,
-        stability_min=settings.stability_min,
-        catch_all_ratio=settings.catch_all_ratio,
-        catch_all_share=settings.catch_all_share,
-    )
+    frame, recs = score_and_recommend(cells, corpus, train, settings)
     frame.to_parquet(folder / "cells.parquet.tmp", index=False)
     os.replace(folder / "cells.parquet.tmp", folder / "cells.parquet")
     with ws.store() as store:

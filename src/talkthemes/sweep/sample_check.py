@@ -27,9 +27,8 @@ from talkthemes.config import SweepSettings
 from talkthemes.prepare.corpus import PreparedCorpus
 from talkthemes.sweep.cell import cell_inputs, fit_cell, save_topics
 from talkthemes.sweep.grid import CellSpec
-from talkthemes.sweep.recommend import recommend
 from talkthemes.sweep.sample import SweepSample, restrict
-from talkthemes.sweep.scoring import score_cells
+from talkthemes.sweep.scoring import score_and_recommend
 from talkthemes.sweep.split import split_rows
 from talkthemes.workspace import Workspace
 
@@ -134,23 +133,7 @@ def run_check(
     recommended_b: dict[str, int] = {}
     if rows:
         train, _ = split_rows(corpus.doc_ids, settings.heldout_share)
-        frame = score_cells(
-            rows,
-            corpus.tokens,
-            corpus.offsets,
-            corpus.counts,
-            restrict(train, sample.rows_b),
-            topn=settings.topn,
-            stability_topn=settings.stability_topn,
-            diversity_topn=settings.diversity_topn,
-        )
-        recs = recommend(
-            frame,
-            rank_by=settings.rank_by,
-            stability_min=settings.stability_min,
-            catch_all_ratio=settings.catch_all_ratio,
-            catch_all_share=settings.catch_all_share,
-        )
+        _, recs = score_and_recommend(rows, corpus, restrict(train, sample.rows_b), settings)
         recommended_b = {f: int(r.k) for f, r in recs.items()}
     return check_summary(
         recommended,

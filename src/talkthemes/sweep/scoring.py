@@ -7,7 +7,7 @@ across the seeds of each (family, K) and diversity per cell (docs/methods.md, "T
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
@@ -16,8 +16,13 @@ from talkthemes.metrics.coherence import score
 from talkthemes.metrics.cooccurrence import build_reference, union_of_topics
 from talkthemes.metrics.diversity import topic_diversity
 from talkthemes.metrics.stability import agreement, seed_stability
+from talkthemes.sweep.recommend import Recommendation, recommend
 
-__all__ = ["MEASURES", "score_cells", "seed_agreement"]
+if TYPE_CHECKING:
+    from talkthemes.config import SweepSettings
+    from talkthemes.prepare.corpus import PreparedCorpus
+
+__all__ = ["MEASURES", "score_and_recommend", "score_cells", "seed_agreement"]
 
 #: The coherence measures every cell is scored with.
 MEASURES = ("c_v", "c_npmi", "c_uci", "u_mass")
@@ -95,3 +100,31 @@ def seed_agreement(cells: pd.DataFrame, topn: int = 20) -> pd.DataFrame:
             values[out.index.get_loc(i)] = float(np.mean(others)) if others else np.nan
     out["agreement"] = values
     return out
+
+
+def score_and_recommend(
+    cells: list[dict[str, Any]],
+    corpus: PreparedCorpus,
+    train: np.ndarray,
+    settings: SweepSettings,
+) -> tuple[pd.DataFrame, dict[str, Recommendation]]:
+    """Score recorded cells on the ``train`` rows of ``corpus`` (:func:`score_cells`) and
+    recommend K per family by the ``[sweep]`` rule (docs/methods.md, "The recommendation")."""
+    frame = score_cells(
+        cells,
+        corpus.tokens,
+        corpus.offsets,
+        corpus.counts,
+        train,
+        topn=settings.topn,
+        stability_topn=settings.stability_topn,
+        diversity_topn=settings.diversity_topn,
+    )
+    recs = recommend(
+        frame,
+        rank_by=settings.rank_by,
+        stability_min=settings.stability_min,
+        catch_all_ratio=settings.catch_all_ratio,
+        catch_all_share=settings.catch_all_share,
+    )
+    return frame, recs
